@@ -1,0 +1,102 @@
+//! The flag codes of the results contract, what each means, and how serious it is.
+
+use serde::Serialize;
+
+/// A finding about one submission. Codes are part of the public contract: never rename one.
+#[derive(Clone, Copy, Debug, PartialEq, Eq, Hash, Serialize)]
+pub enum Flag {
+    RecoveryOver100,
+    RangeInverted,
+    AboveReference,
+    NonpositiveMass,
+    MissingValue,
+    UnreadableValue,
+    UnknownCompound,
+    DuplicateStudent,
+    RecoveryMismatch,
+    LikelyImpure,
+    LikelyWet,
+    LowRecovery,
+}
+
+/// Whether a flag marks an entry that cannot be true or one that only looks wrong.
+#[derive(Clone, Copy, Debug, PartialEq, Eq, Serialize)]
+pub enum Severity {
+    Impossible,
+    Suspicious,
+}
+
+impl Flag {
+    pub const ALL: [Flag; 12] = [
+        Flag::RecoveryOver100,
+        Flag::RangeInverted,
+        Flag::AboveReference,
+        Flag::NonpositiveMass,
+        Flag::MissingValue,
+        Flag::UnreadableValue,
+        Flag::UnknownCompound,
+        Flag::DuplicateStudent,
+        Flag::RecoveryMismatch,
+        Flag::LikelyImpure,
+        Flag::LikelyWet,
+        Flag::LowRecovery,
+    ];
+
+    pub fn code(self) -> &'static str {
+        match self {
+            Flag::RecoveryOver100 => "recovery-over-100",
+            Flag::RangeInverted => "range-inverted",
+            Flag::AboveReference => "above-reference",
+            Flag::NonpositiveMass => "nonpositive-mass",
+            Flag::MissingValue => "missing-value",
+            Flag::UnreadableValue => "unreadable-value",
+            Flag::UnknownCompound => "unknown-compound",
+            Flag::DuplicateStudent => "duplicate-student",
+            Flag::RecoveryMismatch => "recovery-mismatch",
+            Flag::LikelyImpure => "likely-impure",
+            Flag::LikelyWet => "likely-wet",
+            Flag::LowRecovery => "low-recovery",
+        }
+    }
+
+    pub fn severity(self) -> Severity {
+        match self {
+            Flag::RecoveryMismatch | Flag::LikelyImpure | Flag::LikelyWet | Flag::LowRecovery => {
+                Severity::Suspicious
+            }
+            _ => Severity::Impossible,
+        }
+    }
+
+    /// One line for `benchgrade check --explain` and the documentation.
+    pub fn meaning(self) -> &'static str {
+        match self {
+            Flag::RecoveryOver100 => "more recovered than crude: a weighing or transcription error, or a wet product",
+            Flag::RangeInverted => "melting onset written above the clear point",
+            Flag::AboveReference => "clear point above the literature value by more than the tolerance: impurities only lower it",
+            Flag::NonpositiveMass => "a mass of zero or less",
+            Flag::MissingValue => "student id, a mass, the onset or the clear point is empty",
+            Flag::UnreadableValue => "a cell holds text, an error or a date where a number belongs",
+            Flag::UnknownCompound => "the compound is not in the reference library",
+            Flag::DuplicateStudent => "the student id already appeared earlier in the same section",
+            Flag::RecoveryMismatch => "the reported recovery disagrees with the masses",
+            Flag::LikelyImpure => "broad or depressed melting range at a normal mass",
+            Flag::LikelyWet => "heavy product with a broad or depressed range: solvent left in the crystals",
+            Flag::LowRecovery => "recovery below the rubric's threshold",
+        }
+    }
+}
+
+#[cfg(test)]
+mod tests {
+    use super::*;
+
+    #[test]
+    fn codes_are_distinct_kebab_case() {
+        let mut codes: Vec<&str> = Flag::ALL.iter().map(|f| f.code()).collect();
+        codes.sort();
+        codes.dedup();
+        assert_eq!(codes.len(), Flag::ALL.len());
+        assert!(codes.iter().all(|c| c.chars().all(|ch| ch.is_ascii_lowercase() || ch.is_ascii_digit() || ch == '-')));
+    }
+}

@@ -1,0 +1,257 @@
+//! Assessment: each submission's recomputed measures and its flags, each flag with a reason a
+//! person can read. Knows the chemistry and the rubric's tolerances, nothing of spreadsheets.
+
+pub mod flags;
+pub mod measures;
+
+use std::collections::HashMap;
+
+use serde::Serialize;
+
+pub use flags::{Flag, Severity};
+use crate::fields::Field;
+use crate::ingest::Submission;
+use crate::reference::{Compound, Library};
+use crate::rubric::Tolerances;
+
+/// What the assessment needs besides the rows.
+pub struct Context<'a> {
+    pub library: &'a Library,
+    /// The rubric's compound, for rows that name none.
+    pub default_compound: Option<&'a str>,
+    /// The accepted melting point for the experiment's compound (rubric or `--reference-mp`).
+    pub accepted_mp_c: Option<f64>,
+    pub tolerances: &'a Tolerances,
+}
+
+/// A submission with its measures and findings.
+#[derive(Clone, Debug, Serialize)]
+pub struct Assessed {
+    pub submission: Submission,
+    /// The library's name for the compound, when found.
+    pub compound: Option<String>,
+    pub reference_mp_c: Option<f64>,
+    pub recovery_pct: Option<f64>,
+    pub range_width_c: Option<f64>,
+    pub depression_c: Option<f64>,
+    /// Flags in alphabetical order of their codes, each with its reason.
+    pub flags: Vec<(Flag, String)>,
+}
+
+impl Assessed {
+    pub fn has(&self, flag: Flag) -> bool {
+        self.flags.iter().any(|(f, _)| *f == flag)
+    }
+
+    pub fn is_impossible(&self) -> bool {
+        self.flags.iter().any(|(f, _)| f.severity() == Severity::Impossible)
+    }
+
+    pub fn flag_codes(&self) -> String {
+        self.flags.iter().map(|(f, _)| f.code()).collect::<Vec<_>>().join(";")
+    }
+
+    pub fn flag_notes(&self) -> String {
+        self.flags
+            .iter()
+            .map(|(f, n)| format!("{}: {n}", f.code()))
+            .collect::<Vec<_>>()
+            .join("; ")
+    }
+}
+
+/// Formats a mass in grams for a sentence: up to three decimals, trailing zeros dropped.
+pub fn grams(v: f64) -> String {
+    let s = format!("{v:.3}");
+    let s = s.trim_end_matches('0').trim_end_matches('.');
+    format!("{s} g")
+}
+
+fn celsius(v: f64) -> String {
+    format!("{v:.1} °C")
+}
+
+fn resolve_compound<'a>(sub: &Submission, ctx: &Context<'a>) -> (Option<&'a Compound>, Option<f64>, Option<String>) {
+    let written = sub.compound.as_deref().filter(|s| !s.trim().is_empty());
+    let name = written.or(ctx.default_compound);
+    let Some(name) = name else {
+        let why = "no compound named on the row, and the rubric names none".to_string();
+        return (None, ctx.accepted_mp_c, Some(why));
+    };
+    let Some(found) = ctx.library.lookup(name) else {
+        let why = format!("\"{}\" is not in the reference library; add it with --compounds FILE", name.trim());
+        return (None, None, Some(why));
+    };
+    let is_experiment = ctx
+        .default_compound
+        .and_then(|d| ctx.library.lookup(d))
+        .is_none_or(|d| d.cas == found.cas);
+    let reference = match ctx.accepted_mp_c {
+        Some(v) if is_experiment => v,
+        _ => found.accepted_mp_c,
+    };
+    (Some(found), Some(reference), None)
+}
+
+fn missing_fields(sub: &Submission) -> Vec<&'static str> {
+    let mp_unreadable = sub.is_unreadable(Field::MpRange);
+    let checks: [(bool, Field); 5] = [
+        (sub.student_id.is_none(), Field::StudentId),
+        (sub.crude_mass_g.is_none(), Field::CrudeMass),
+        (sub.recovered_mass_g.is_none(), Field::RecoveredMass),
+        (sub.mp_onset_c.is_none() && !mp_unreadable, Field::MpOnset),
+        (sub.mp_clear_c.is_none() && !mp_unreadable, Field::MpClear),
+    ];
+    checks
+        .iter()
+        .filter(|(empty, f)| *empty && !sub.is_unreadable(*f))
+        .map(|(_, f)| f.label())
+        .collect()
+}
+
+fn entry_flags(a: &Assessed, t: &Tolerances, out: &mut Vec<(Flag, String)>) {
+    let s = &a.submission;
+    let missing = missing_fields(s);
+    if !missing.is_empty() {
+        out.push((Flag::MissingValue, format!("no {} given", missing.join(", "))));
+    }
+    if !s.unreadable.is_empty() {
+        let parts: Vec<String> = s
+            .unreadable
+            .iter()
+            .map(|u| format!("{} {} holds {}", u.field.label(), u.cell, u.found))
+            .collect();
+        out.push((Flag::UnreadableValue, parts.join(", ")));
+    }
+    let nonpositive: Vec<String> = [("crude", s.crude_mass_g), ("recovered", s.recovered_mass_g)]
+        .iter()
+        .filter_map(|(what, m)| m.filter(|v| *v <= 0.0).map(|v| format!("{what} mass {} is not positive", grams(v))))
+        .collect();
+    if !nonpositive.is_empty() {
+        out.push((Flag::NonpositiveMass, nonpositive.join(", ")));
+    }
+    if let (Some(c), Some(r)) = (s.crude_mass_g, s.recovered_mass_g) {
+        if c > 0.0 && r > c {
+            out.push((Flag::RecoveryOver100, format!("recovered {} exceeds crude {}", grams(r), grams(c))));
+        }
+    }
+    if let (Some(o), Some(c)) = (s.mp_onset_c, s.mp_clear_c) {
+        if o > c {
+            out.push((Flag::RangeInverted, format!("onset {} is above the clear point {}", celsius(o), celsius(c))));
+        }
+    }
+    if let (Some(r), Some(c)) = (a.reference_mp_c, s.mp_clear_c) {
+        if c > r + t.above_reference_c {
+            out.push((
+                Flag::AboveReference,
+                format!(
+                    "clear point {} is {:.1} °C above the reference {} (tolerance {:.1} °C)",
+                    celsius(c), c - r, celsius(r), t.above_reference_c
+                ),
+            ));
+        }
+    }
+}
+
+fn suspicion_flags(a: &Assessed, t: &Tolerances, out: &mut Vec<(Flag, String)>) {
+    let s = &a.submission;
+    if let (Some(reported), Some(rec)) = (s.reported_recovery_pct, a.recovery_pct) {
+        let (as_pct, _) = measures::reported_as_percent(reported, rec, t.recovery_mismatch_pct);
+        if (as_pct - rec).abs() > t.recovery_mismatch_pct {
+            out.push((
+                Flag::RecoveryMismatch,
+                format!(
+                    "reported {:.1} % but 100 x {} / {} = {:.1} %",
+                    as_pct,
+                    grams(s.recovered_mass_g.unwrap_or(0.0)).trim_end_matches(" g"),
+                    grams(s.crude_mass_g.unwrap_or(0.0)).trim_end_matches(" g"),
+                    rec
+                ),
+            ));
+        }
+    }
+    let broad = a.range_width_c.filter(|w| *w > t.impure_width_c);
+    let depressed = a.depression_c.filter(|d| *d > t.impure_depression_c);
+    let mut why = Vec::new();
+    if let Some(w) = broad {
+        why.push(format!("the range is {w:.1} °C wide (limit {:.1})", t.impure_width_c));
+    }
+    if let Some(d) = depressed {
+        why.push(format!("the clear point is {d:.1} °C below the reference (limit {:.1})", t.impure_depression_c));
+    }
+    if !why.is_empty() {
+        match a.recovery_pct.filter(|r| *r >= t.wet_recovery_pct) {
+            Some(r) => out.push((
+                Flag::LikelyWet,
+                format!("recovery {r:.1} % (at or above {:.0} %) and {}: solvent likely left in the crystals; dry to constant mass", t.wet_recovery_pct, why.join(" and ")),
+            )),
+            None => out.push((Flag::LikelyImpure, format!("{} at a normal mass", why.join(" and ")))),
+        }
+    }
+    if let Some(r) = a.recovery_pct.filter(|r| *r >= 0.0 && *r < t.low_recovery_pct) {
+        out.push((Flag::LowRecovery, format!("recovery {r:.1} % is below {:.0} %", t.low_recovery_pct)));
+    }
+}
+
+/// Assesses one submission (every flag but `duplicate-student`, which needs the batch).
+pub fn assess(sub: Submission, ctx: &Context) -> Assessed {
+    let (compound, reference, unknown) = resolve_compound(&sub, ctx);
+    let mut a = Assessed {
+        recovery_pct: measures::recovery_pct(sub.crude_mass_g, sub.recovered_mass_g),
+        range_width_c: measures::range_width_c(sub.mp_onset_c, sub.mp_clear_c),
+        depression_c: measures::depression_c(reference, sub.mp_clear_c),
+        compound: compound.map(|c| c.name.clone()),
+        reference_mp_c: reference,
+        submission: sub,
+        flags: Vec::new(),
+    };
+    let mut flags = Vec::new();
+    if let Some(why) = unknown {
+        flags.push((Flag::UnknownCompound, why));
+    }
+    if let (Some(reported), Some(rec)) = (a.submission.reported_recovery_pct, a.recovery_pct) {
+        if measures::reported_as_percent(reported, rec, ctx.tolerances.recovery_mismatch_pct).1 {
+            a.submission.notes.push(format!("reported recovery {reported} read as a fraction ({:.1} %)", reported * 100.0));
+        }
+    }
+    entry_flags(&a, ctx.tolerances, &mut flags);
+    suspicion_flags(&a, ctx.tolerances, &mut flags);
+    a.flags = flags;
+    a
+}
+
+fn mark_duplicates(rows: &mut [Assessed]) {
+    let mut first: HashMap<(String, String), usize> = HashMap::new();
+    for i in 0..rows.len() {
+        let s = &rows[i].submission;
+        let Some(id) = s.student_id.as_deref().map(str::trim).filter(|x| !x.is_empty()) else { continue };
+        let key = (s.section.clone(), id.to_string());
+        match first.get(&key) {
+            Some(&j) => {
+                let earlier = &rows[j].submission;
+                let at = match &earlier.sheet {
+                    Some(sheet) => format!("{} sheet \"{}\" row {}", earlier.source, sheet, earlier.row),
+                    None => format!("{} row {}", earlier.source, earlier.row),
+                };
+                let note = format!("this id already appears in section {} at {}", key.0, at);
+                rows[i].flags.push((Flag::DuplicateStudent, note));
+            }
+            None => {
+                first.insert(key, i);
+            }
+        }
+    }
+}
+
+/// Assesses a batch: every submission, then duplicates across the batch, then flag order.
+pub fn assess_all(subs: Vec<Submission>, ctx: &Context) -> Vec<Assessed> {
+    let mut rows: Vec<Assessed> = subs.into_iter().map(|s| assess(s, ctx)).collect();
+    mark_duplicates(&mut rows);
+    for r in &mut rows {
+        r.flags.sort_by_key(|(f, _)| f.code());
+    }
+    rows
+}
+
+#[cfg(test)]
+mod tests;

@@ -1,0 +1,67 @@
+//! The command line: what may be typed, checked for form only. `main` turns it into
+//! `benchgrade::Options` and the library does the rest.
+
+use std::path::PathBuf;
+
+use clap::{Args, Parser, Subcommand};
+
+#[derive(Parser, Debug)]
+#[command(
+    name = "benchgrade",
+    version,
+    about = "Grades recrystallization lab submissions: recomputes recovery and melting ranges, flags impossible and suspicious entries",
+    long_about = None,
+    after_help = "Exit codes: 0 every input was read (flags are data); 1 some input could not be read (the rest is still graded); 2 a usage, rubric or configuration error, nothing written."
+)]
+pub struct Cli {
+    #[command(subcommand)]
+    pub command: Command,
+}
+
+#[derive(Subcommand, Debug)]
+pub enum Command {
+    /// Grade spreadsheets and folders into DIR/results.csv and DIR/results.json
+    Grade {
+        #[command(flatten)]
+        run: RunArgs,
+        /// Folder for the outputs (created if needed; inputs are never written)
+        #[arg(short, long, value_name = "DIR", default_value = "graded")]
+        out: PathBuf,
+        /// Print nothing but errors
+        #[arg(short, long)]
+        quiet: bool,
+    },
+    /// Show how each sheet's columns were understood and list the flagged rows; writes nothing
+    Check {
+        #[command(flatten)]
+        run: RunArgs,
+    },
+    /// List the reference library with the source of every value
+    Compounds {
+        /// Print JSON instead of a table
+        #[arg(long)]
+        json: bool,
+        /// A TOML file of extra compounds (same format as the built-in library)
+        #[arg(long, value_name = "FILE")]
+        compounds: Option<PathBuf>,
+    },
+}
+
+#[derive(Args, Debug)]
+pub struct RunArgs {
+    /// Spreadsheets (.xlsx .xlsm .xlsb .xls .ods .csv .tsv) or folders; default: the bundled sample-data/
+    #[arg(value_name = "FILES")]
+    pub inputs: Vec<PathBuf>,
+    /// Rubric file (TOML); default: rubrics/default.toml, built in
+    #[arg(long, value_name = "FILE")]
+    pub rubric: Option<PathBuf>,
+    /// TOML file with a [columns] table mapping header text to fields
+    #[arg(long, value_name = "FILE")]
+    pub columns: Option<PathBuf>,
+    /// A TOML file of extra compounds for the reference library
+    #[arg(long, value_name = "FILE")]
+    pub compounds: Option<PathBuf>,
+    /// Accepted melting point of the experiment's compound, in °C
+    #[arg(long, value_name = "CELSIUS", allow_negative_numbers = true)]
+    pub reference_mp: Option<f64>,
+}

@@ -1,0 +1,112 @@
+//! From what the user typed to what a run uses: the rubric opened and checked, the column
+//! mapping and compound files read, the paths resolved. Fails before anything is written.
+
+use std::collections::BTreeMap;
+use std::path::{Path, PathBuf};
+
+use serde::Deserialize;
+
+use crate::error::{toml_location, ConfigError};
+use crate::ingest::headers::ColumnOverrides;
+use crate::reference::Library;
+use crate::rubric::Rubric;
+
+/// Options as typed, already checked for form by the command-line parser.
+#[derive(Clone, Debug, Default)]
+pub struct Options {
+    pub inputs: Vec<PathBuf>,
+    /// Used when `inputs` is empty.
+    pub sample_data: Option<PathBuf>,
+    pub out: Option<PathBuf>,
+    pub rubric: Option<PathBuf>,
+    pub columns: Option<PathBuf>,
+    pub compounds: Option<PathBuf>,
+    pub reference_mp_c: Option<f64>,
+}
+
+/// Everything a run needs, validated.
+#[derive(Clone, Debug)]
+pub struct Config {
+    pub inputs: Vec<PathBuf>,
+    pub out_dir: PathBuf,
+    pub rubric: Rubric,
+    /// Where the rubric came from, for messages and provenance.
+    pub rubric_source: String,
+    pub columns: ColumnOverrides,
+    pub library: Library,
+    pub accepted_mp_c: Option<f64>,
+}
+
+#[derive(Deserialize)]
+#[serde(deny_unknown_fields)]
+struct ColumnsFile {
+    columns: BTreeMap<String, String>,
+}
+
+fn read_columns_file(path: &Path) -> Result<ColumnOverrides, ConfigError> {
+    let file = path.display().to_string();
+    let text = std::fs::read_to_string(path)
+        .map_err(|e| ConfigError::Invalid(format!("cannot read columns file {file}: {e}")))?;
+    let parsed: ColumnsFile = toml::from_str(&text).map_err(|e| {
+        let (line, column) = toml_location(&text, e.span());
+        ConfigError::File { file: file.clone(), line, column, message: e.message().trim().to_string() }
+    })?;
+    ColumnOverrides::from_pairs(&parsed.columns).map_err(|m| ConfigError::Invalid(format!("{file}: {m}")))
+}
+
+impl Config {
+    pub fn build(opts: Options) -> Result<Config, ConfigError> {
+        let (rubric, rubric_source) = match &opts.rubric {
+            Some(p) => (Rubric::load(p)?, p.display().to_string()),
+            None => (Rubric::builtin(), "built-in rubrics/default.toml".to_string()),
+        };
+        let from_rubric = ColumnOverrides::from_pairs(&rubric.columns)
+            .map_err(|m| ConfigError::Invalid(format!("{rubric_source}: {m}")))?;
+        let columns = match &opts.columns {
+            Some(p) => read_columns_file(p)?.merged_over(&from_rubric),
+            None => from_rubric,
+        };
+        let mut library = Library::builtin();
+        if let Some(p) = &opts.compounds {
+            library.extend_from_file(p)?;
+        }
+        if let Some(c) = rubric.experiment.compound.as_deref() {
+            if library.lookup(c).is_none() {
+                return Err(ConfigError::Invalid(format!(
+                    "{rubric_source}: experiment.compound \"{c}\" is not in the reference library; add it with --compounds FILE (see `benchgrade compounds`)"
+                )));
+            }
+        }
+        if let Some(v) = opts.reference_mp_c {
+            if !v.is_finite() {
+                return Err(ConfigError::Invalid("--reference-mp must be a temperature in °C".into()));
+            }
+        }
+        let inputs = if opts.inputs.is_empty() {
+            match opts.sample_data {
+                Some(p) if p.is_dir() => vec![p],
+                _ => return Err(ConfigError::Invalid(
+                    "no input files given and no sample-data/ folder here; name the spreadsheets or folders to read".into(),
+                )),
+            }
+        } else {
+            opts.inputs
+        };
+        let out_dir = opts.out.unwrap_or_else(|| PathBuf::from("graded"));
+        if out_dir.is_file() {
+            return Err(ConfigError::Invalid(format!(
+                "--out {} is a file; name a folder for the outputs",
+                out_dir.display()
+            )));
+        }
+        Ok(Config {
+            inputs,
+            out_dir,
+            accepted_mp_c: opts.reference_mp_c.or(rubric.experiment.reference_mp_c),
+            rubric,
+            rubric_source,
+            columns,
+            library,
+        })
+    }
+}

@@ -1,0 +1,47 @@
+//! The library's error types. Problems with one input file are data (`ingest::Problem`);
+//! these are the errors that stop a run before anything is written: a bad rubric, mapping
+//! or option (exit code 2), and failures to write the outputs.
+
+use std::path::PathBuf;
+
+use thiserror::Error;
+
+/// A rubric, mapping or option that cannot be used. Nothing is written.
+#[derive(Debug, Error, PartialEq)]
+pub enum ConfigError {
+    /// A configuration file that does not parse, located to line and column.
+    #[error("{file}:{line}:{column}: {message}")]
+    File { file: String, line: usize, column: usize, message: String },
+    #[error("{0}")]
+    Invalid(String),
+}
+
+/// A failure to write an output.
+#[derive(Debug, Error)]
+#[error("cannot write {path}: {source}")]
+pub struct WriteError {
+    pub path: PathBuf,
+    #[source]
+    pub source: std::io::Error,
+}
+
+/// Turns a byte span from a TOML error into a 1-based line and column.
+pub fn toml_location(text: &str, span: Option<std::ops::Range<usize>>) -> (usize, usize) {
+    let Some(span) = span else { return (1, 1) };
+    let upto = &text[..span.start.min(text.len())];
+    let line = upto.matches('\n').count() + 1;
+    let column = upto.rsplit('\n').next().map(|l| l.chars().count()).unwrap_or(0) + 1;
+    (line, column)
+}
+
+#[cfg(test)]
+mod tests {
+    use super::*;
+
+    #[test]
+    fn spans_become_lines_and_columns() {
+        let text = "a = 1\nbb = x\n";
+        assert_eq!(toml_location(text, Some(11..12)), (2, 6));
+        assert_eq!(toml_location(text, None), (1, 1));
+    }
+}

@@ -1,0 +1,130 @@
+//! The report `benchgrade check` prints: how each sheet's headers were understood, then the
+//! flagged rows grouped by file and section. Colour only on a terminal, never with NO_COLOR.
+//! Student names are left out; the id is enough to find the row.
+
+use std::fmt::Write as _;
+
+use crate::assess::{Assessed, Severity};
+use crate::ingest::{Problem, SheetReport};
+
+/// Terminal styling, or none.
+#[derive(Clone, Copy)]
+pub struct Style {
+    pub color: bool,
+}
+
+impl Style {
+    fn paint(&self, code: &str, text: &str) -> String {
+        if self.color {
+            format!("\x1b[{code}m{text}\x1b[0m")
+        } else {
+            text.to_string()
+        }
+    }
+    fn bold(&self, t: &str) -> String {
+        self.paint("1", t)
+    }
+    fn impossible(&self, t: &str) -> String {
+        self.paint("31", t)
+    }
+    fn suspicious(&self, t: &str) -> String {
+        self.paint("33", t)
+    }
+    fn dim(&self, t: &str) -> String {
+        self.paint("2", t)
+    }
+}
+
+fn sheet_title(source: &str, sheet: &Option<String>) -> String {
+    match sheet {
+        Some(s) => format!("{source} [{s}]"),
+        None => source.to_string(),
+    }
+}
+
+/// How the headers of every sheet were mapped.
+pub fn layouts(sheets: &[SheetReport], style: Style) -> String {
+    let mut out = String::new();
+    let _ = writeln!(out, "{}", style.bold("Columns"));
+    for s in sheets {
+        let mut extra = String::new();
+        if s.decimal_comma {
+            extra.push_str(", decimal commas");
+        }
+        if let Some(enc) = &s.encoding {
+            let _ = write!(extra, ", {enc}");
+        }
+        let _ = writeln!(
+            out,
+            "  {}: header row {}, {} student rows{}",
+            sheet_title(&s.source, &s.sheet),
+            s.layout.header_row,
+            s.students,
+            extra
+        );
+        for c in &s.layout.columns {
+            let target = match (c.field, &c.note) {
+                (Some(f), _) => format!("{}{}", f.label(), if c.explicit { " (mapped)" } else { "" }),
+                (None, Some(note)) => style.dim(note),
+                (None, None) => style.dim("not used"),
+            };
+            let _ = writeln!(out, "    {:>3}  {:<32} -> {}", c.letter, format!("\"{}\"", c.header), target);
+        }
+    }
+    out
+}
+
+/// Flagged rows grouped by file, then section, in input order.
+pub fn flagged(rows: &[Assessed], style: Style) -> String {
+    let mut out = String::new();
+    let _ = writeln!(out, "{}", style.bold("Flagged rows"));
+    let mut groups: Vec<(&str, &str, Vec<&Assessed>)> = Vec::new();
+    for a in rows.iter().filter(|a| !a.flags.is_empty()) {
+        let key = (a.submission.source.as_str(), a.submission.section.as_str());
+        match groups.iter_mut().find(|g| (g.0, g.1) == key) {
+            Some(g) => g.2.push(a),
+            None => groups.push((key.0, key.1, vec![a])),
+        }
+    }
+    if groups.is_empty() {
+        let _ = writeln!(out, "  none");
+    }
+    let mut last_file = "";
+    for (file, section, members) in groups {
+        if file != last_file {
+            let _ = writeln!(out, "  {}", style.bold(file));
+            last_file = file;
+        }
+        let _ = writeln!(out, "    section {section}");
+        for a in members {
+            let id = a.submission.student_id.as_deref().unwrap_or("(no id)");
+            for (i, (flag, note)) in a.flags.iter().enumerate() {
+                let (mark, code) = match flag.severity() {
+                    Severity::Impossible => ("!", style.impossible(flag.code())),
+                    Severity::Suspicious => ("?", style.suspicious(flag.code())),
+                };
+                let who = if i == 0 { format!("row {:<5} {:<12}", a.submission.row, id) } else { " ".repeat(22) };
+                let _ = writeln!(out, "      {who} {mark} {code}: {note}");
+            }
+        }
+    }
+    out
+}
+
+/// Totals and the problems, one line each.
+pub fn summary(rows: &[Assessed], problems: &[Problem], files: usize) -> String {
+    let impossible = rows.iter().filter(|a| a.is_impossible()).count();
+    let suspicious = rows.iter().filter(|a| !a.is_impossible() && !a.flags.is_empty()).count();
+    let mut out = format!(
+        "{} submissions from {} files: {} with impossible entries (!), {} suspicious only (?), {} clean\n",
+        rows.len(),
+        files,
+        impossible,
+        suspicious,
+        rows.len() - impossible - suspicious
+    );
+    for p in problems {
+        let _ = writeln!(out, "{} {p}", if p.fatal { "error:" } else { "note:" });
+    }
+    out
+}

@@ -1,0 +1,41 @@
+//! Exporters: one module per output, each taking finished values and a destination.
+
+pub mod atomic;
+pub mod check_report;
+pub mod results_csv;
+pub mod results_json;
+
+/// Guards a text cell from student input against spreadsheet formula injection in CSV:
+/// text starting with = + - @, a tab, a carriage return or NUL gets a leading apostrophe.
+pub fn neutralise(text: &str) -> std::borrow::Cow<'_, str> {
+    match text.chars().next() {
+        Some('=' | '+' | '-' | '@' | '\t' | '\r' | '\0') => format!("'{text}").into(),
+        _ => text.into(),
+    }
+}
+
+/// A number at full precision (the shortest text that reads back exactly), or nothing.
+pub fn number(v: Option<f64>) -> String {
+    v.filter(|x| x.is_finite()).map(|x| format!("{x}")).unwrap_or_default()
+}
+
+#[cfg(test)]
+mod tests {
+    use super::*;
+
+    #[test]
+    fn formula_injection_is_neutralised() {
+        // OWASP CSV injection guidance (common practice): prefix such cells with a quote.
+        assert_eq!(neutralise("=HYPERLINK(\"x\")"), "'=HYPERLINK(\"x\")");
+        assert_eq!(neutralise("@SUM(A1)"), "'@SUM(A1)");
+        assert_eq!(neutralise("Ana"), "Ana");
+    }
+
+    #[test]
+    fn numbers_round_trip_at_full_precision() {
+        let v = 100.0 * 2.31 / 3.02;
+        assert_eq!(number(Some(v)).parse::<f64>().unwrap(), v);
+        assert_eq!(number(None), "");
+        assert_eq!(number(Some(f64::NAN)), "");
+    }
+}

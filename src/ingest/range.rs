@@ -1,0 +1,195 @@
+//! Melting ranges as students write them: "121-122", "121–122 °C", "121 to 122.5", "~121-122".
+//!
+//! A range is an onset and a clear point. A single value is taken as both, and the caller is
+//! told so that it can say so in the notes. An inverted range is kept as written: judging it is
+//! the assessment's job, not the parser's.
+
+use super::values::{parse_quantity, strip_approximate, Decimal, TempUnit, Unit};
+
+/// A melting range in the scale it was written in, before conversion.
+#[derive(Clone, Copy, Debug, PartialEq)]
+pub struct RawRange {
+    pub onset: f64,
+    pub clear: f64,
+    /// The scale written in the cell, if any.
+    pub unit: Option<TempUnit>,
+    /// Only one value was written.
+    pub single: bool,
+}
+
+/// Separators between onset and clear point, tried in this order.
+const WORD_SEPARATORS: [&str; 3] = [" to ", " bis ", " until "];
+const DASHES: [char; 5] = ['–', '—', '‒', '~', '/'];
+
+fn temperature(text: &str, decimal: Decimal) -> Option<(f64, Option<TempUnit>)> {
+    let q = parse_quantity(text, decimal)?;
+    match q.unit {
+        None => Some((q.value, None)),
+        Some(Unit::Temperature(t)) => Some((q.value, Some(t))),
+        Some(_) => None,
+    }
+}
+
+/// Finds the hyphen that separates two numbers: the first '-' that follows a digit,
+/// ignoring spaces, so that a leading minus sign or an exponent's sign is not taken.
+fn separating_hyphen(text: &str) -> Option<usize> {
+    let mut last_significant: Option<char> = None;
+    for (i, c) in text.char_indices() {
+        if c == '-' || c == '−' {
+            if matches!(last_significant, Some(d) if d.is_ascii_digit() || d == 'C' || d == 'F' || d == 'K' || d == '°' || d == 'c')
+            {
+                return Some(i);
+            }
+        } else if !c.is_whitespace() {
+            last_significant = Some(c);
+        }
+    }
+    None
+}
+
+fn split_range(text: &str) -> Option<(&str, &str)> {
+    let lower = text.to_lowercase();
+    for sep in WORD_SEPARATORS {
+        if let Some(p) = lower.find(sep) {
+            // lowercase can change byte offsets only for non-ASCII; guard the boundary
+            if text.is_char_boundary(p) && text.is_char_boundary(p + sep.len()) {
+                return Some((&text[..p], &text[p + sep.len()..]));
+            }
+        }
+    }
+    for dash in DASHES {
+        if let Some(p) = text.find(dash) {
+            if p > 0 {
+                return Some((&text[..p], &text[p + dash.len_utf8()..]));
+            }
+        }
+    }
+    let p = separating_hyphen(text)?;
+    let width = text[p..].chars().next()?.len_utf8();
+    Some((&text[..p], &text[p + width..]))
+}
+
+/// Reads a melting range; `None` when the text is not one.
+pub fn parse_range(text: &str, decimal: Decimal) -> Option<RawRange> {
+    let (t, _) = strip_approximate(text.trim());
+    let t = t.trim();
+    if t.is_empty() {
+        return None;
+    }
+    match split_range(t) {
+        Some((a, b)) => {
+            let (onset, u1) = temperature(strip_approximate(a).0, decimal)?;
+            let (clear, u2) = temperature(strip_approximate(b).0, decimal)?;
+            if u1.is_some() && u2.is_some() && u1 != u2 {
+                return None;
+            }
+            Some(RawRange {
+                onset,
+                clear,
+                unit: u2.or(u1),
+                single: false,
+            })
+        }
+        None => {
+            let (v, unit) = temperature(t, decimal)?;
+            Some(RawRange {
+                onset: v,
+                clear: v,
+                unit,
+                single: true,
+            })
+        }
+    }
+}
+
+#[cfg(test)]
+mod tests {
+    use super::*;
+    use proptest::prelude::*;
+
+    fn r(text: &str) -> Option<(f64, f64, bool)> {
+        parse_range(text, Decimal::Point).map(|r| (r.onset, r.clear, r.single))
+    }
+
+    #[test]
+    fn written_forms_from_the_issue() {
+        assert_eq!(r("121-122"), Some((121.0, 122.0, false)));
+        assert_eq!(r("121–122 °C"), Some((121.0, 122.0, false)));
+        assert_eq!(r("121 to 122.5"), Some((121.0, 122.5, false)));
+        assert_eq!(r("121.5 - 122"), Some((121.5, 122.0, false)));
+        assert_eq!(r("~121-122"), Some((121.0, 122.0, false)));
+        assert_eq!(r("122"), Some((122.0, 122.0, true)));
+        assert_eq!(r("121 °C - 122 °C"), Some((121.0, 122.0, false)));
+        assert_eq!(r("ca. 120—121"), Some((120.0, 121.0, false)));
+    }
+
+    #[test]
+    fn scales_and_commas() {
+        let f = parse_range("250-252 °F", Decimal::Point).unwrap();
+        assert_eq!(f.unit, Some(TempUnit::Fahrenheit));
+        let c = parse_range("121,5-122,0", Decimal::Comma).unwrap();
+        assert_eq!((c.onset, c.clear), (121.5, 122.0));
+        let k = parse_range("394 K to 395 K", Decimal::Point).unwrap();
+        assert_eq!(k.unit, Some(TempUnit::Kelvin));
+    }
+
+    #[test]
+    fn inverted_ranges_are_kept_as_written() {
+        assert_eq!(r("122-119"), Some((122.0, 119.0, false)));
+    }
+
+    #[test]
+    fn not_ranges() {
+        for t in ["", "melted", "121-", "-", "12 g - 13 g", "121 °C - 122 °F", "#VALUE!"] {
+            assert_eq!(r(t), None, "{t:?}");
+        }
+    }
+
+    proptest! {
+        // Anything we format the way students write ranges parses back to the same numbers.
+        #[test]
+        fn formatted_ranges_parse_back(a in 0u32..4000, b in 0u32..4000, sep in 0usize..6, approx in any::<bool>(), unit in 0usize..3) {
+            let (onset, clear) = (a as f64 / 10.0, b as f64 / 10.0);
+            let seps = ["-", " - ", "–", " to ", "—", " – "];
+            let units = ["", " °C", "°C"];
+            let text = format!("{}{}{}{}{}", if approx { "~" } else { "" }, onset, seps[sep], clear, units[unit]);
+            let got = parse_range(&text, Decimal::Point).unwrap();
+            prop_assert_eq!((got.onset, got.clear, got.single), (onset, clear, false));
+        }
+
+        #[test]
+        fn single_values_parse_back(a in -500i32..4000) {
+            let v = a as f64 / 10.0;
+            let got = parse_range(&format!("{v}"), Decimal::Point).unwrap();
+            prop_assert_eq!((got.onset, got.clear, got.single), (v, v, true));
+        }
+
+        #[test]
+        fn decimal_comma_ranges_parse_back(a in 0u32..4000, b in 0u32..4000) {
+            let (onset, clear) = (a as f64 / 10.0, b as f64 / 10.0);
+            let text = format!("{onset}-{clear}").replace('.', ",");
+            let got = parse_range(&text, Decimal::Comma).unwrap();
+            prop_assert_eq!((got.onset, got.clear), (onset, clear));
+        }
+
+        #[test]
+        fn no_text_panics(s in "\\PC{0,40}") {
+            let _ = parse_range(&s, Decimal::Point);
+            let _ = parse_range(&s, Decimal::Comma);
+        }
+
+        #[test]
+        fn quantities_parse_back(v in -1.0e6f64..1.0e6, unit in 0usize..4) {
+            let units = ["", " g", "mg", " mL"];
+            let text = format!("{v}{}", units[unit]);
+            let got = parse_quantity(&text, Decimal::Point).unwrap();
+            prop_assert_eq!(got.value, v);
+        }
+
+        #[test]
+        fn no_quantity_text_panics(s in "\\PC{0,40}") {
+            let _ = parse_quantity(&s, Decimal::Point);
+            let _ = parse_quantity(&s, Decimal::Comma);
+        }
+    }
+}

@@ -1,0 +1,258 @@
+//! One student row to a `Submission`: each mapped cell read with its column's unit, converted
+//! to grams, millilitres and degrees Celsius; a cell that cannot be read is named, not guessed.
+
+use super::cells::{cell_ref, Cell, RawRow};
+use super::range::parse_range;
+use super::submission::{Submission, Unreadable};
+use super::table::{Column, Layout};
+use super::values::{is_blank_marker, parse_quantity, Decimal, TempUnit, Unit};
+use crate::fields::Field;
+
+/// Where the rows being read come from.
+pub struct Origin<'a> {
+    pub source: &'a str,
+    pub sheet: Option<&'a str>,
+    /// Section used when the sheet has no section column: the sheet name or the file stem.
+    pub default_section: &'a str,
+    pub decimal: Decimal,
+}
+
+/// What kind of quantity a numeric field holds.
+#[derive(Clone, Copy)]
+enum Kind {
+    Mass,
+    Volume,
+    Temperature,
+    Percent,
+}
+
+fn kind(field: Field) -> Kind {
+    match field {
+        Field::CrudeMass | Field::RecoveredMass => Kind::Mass,
+        Field::SolventVolume => Kind::Volume,
+        Field::MpOnset | Field::MpClear | Field::MpRange => Kind::Temperature,
+        _ => Kind::Percent,
+    }
+}
+
+/// Converts a value in `unit` (or the field's default unit) to the field's base unit.
+fn convert(kind: Kind, value: f64, unit: Option<Unit>) -> Result<f64, Unit> {
+    match (kind, unit) {
+        (Kind::Mass, None) | (Kind::Volume, None) | (Kind::Percent, None) => Ok(value),
+        (Kind::Temperature, None) => Ok(value),
+        (Kind::Mass, Some(Unit::Mass(f))) | (Kind::Volume, Some(Unit::Volume(f))) => Ok(value * f),
+        (Kind::Temperature, Some(Unit::Temperature(t))) => Ok(t.to_celsius(value)),
+        (Kind::Percent, Some(Unit::Percent)) => Ok(value),
+        (_, Some(other)) => Err(other),
+    }
+}
+
+fn describe_kind(kind: Kind) -> &'static str {
+    match kind {
+        Kind::Mass => "a mass",
+        Kind::Volume => "a volume",
+        Kind::Temperature => "a temperature",
+        Kind::Percent => "a percentage",
+    }
+}
+
+fn found_instead(cell: &Cell) -> String {
+    match cell {
+        Cell::Error(e) => format!("the error {e}"),
+        Cell::Date(_) => "a date".into(),
+        Cell::Bool(b) => format!("the value {}", if *b { "TRUE" } else { "FALSE" }),
+        Cell::Text(t) => format!("the text \"{}\"", t.trim()),
+        Cell::Number(v) => format!("the number {v}"),
+        Cell::Empty => "nothing".into(),
+    }
+}
+
+/// Reads a numeric cell. `Ok(None)` for an empty cell.
+fn read_number(cell: &Cell, column: &Column, decimal: Decimal) -> Result<Option<f64>, String> {
+    let field = column.field.unwrap_or(Field::ReportedRecovery);
+    let k = kind(field);
+    let header_unit = column.unit;
+    let (value, unit) = match cell {
+        Cell::Empty => return Ok(None),
+        Cell::Number(v) => (*v, header_unit),
+        Cell::Text(t) if is_blank_marker(t) => return Ok(None),
+        Cell::Text(t) => match parse_quantity(t, decimal) {
+            Some(q) => (q.value, q.unit.or(header_unit)),
+            None => return Err(found_instead(cell)),
+        },
+        other => return Err(found_instead(other)),
+    };
+    convert(k, value, unit).map(Some).map_err(|u| {
+        format!("{} where {} belongs", u.describe(), describe_kind(k))
+    })
+}
+
+/// Reads a melting-range cell into (onset, clear) in °C; `single` when one value was written.
+fn read_range(cell: &Cell, column: &Column, decimal: Decimal) -> Result<Option<(f64, f64, bool)>, String> {
+    let header_scale = match column.unit {
+        Some(Unit::Temperature(t)) => t,
+        None => TempUnit::Celsius,
+        Some(other) => return Err(format!("a header unit of {} where a temperature belongs", other.describe())),
+    };
+    match cell {
+        Cell::Empty => Ok(None),
+        Cell::Number(v) => {
+            let c = header_scale.to_celsius(*v);
+            Ok(Some((c, c, true)))
+        }
+        Cell::Text(t) if is_blank_marker(t) => Ok(None),
+        Cell::Text(t) => match parse_range(t, decimal) {
+            Some(r) => {
+                let scale = r.unit.unwrap_or(header_scale);
+                Ok(Some((scale.to_celsius(r.onset), scale.to_celsius(r.clear), r.single)))
+            }
+            None => Err(found_instead(cell)),
+        },
+        other => Err(found_instead(other)),
+    }
+}
+
+fn set_text(sub: &mut Submission, field: Field, text: Option<String>) {
+    let slot = match field {
+        Field::StudentId => &mut sub.student_id,
+        Field::StudentName => &mut sub.student_name,
+        Field::Section => return if let Some(t) = text { sub.section = t },
+        Field::Bench => &mut sub.bench,
+        Field::Apparatus => &mut sub.apparatus,
+        Field::Assistant => &mut sub.assistant,
+        Field::Compound => &mut sub.compound,
+        Field::Solvent => &mut sub.solvent,
+        _ => return,
+    };
+    *slot = text;
+}
+
+fn set_number(sub: &mut Submission, field: Field, value: Option<f64>) {
+    let slot = match field {
+        Field::CrudeMass => &mut sub.crude_mass_g,
+        Field::RecoveredMass => &mut sub.recovered_mass_g,
+        Field::SolventVolume => &mut sub.solvent_volume_ml,
+        Field::MpOnset => &mut sub.mp_onset_c,
+        Field::MpClear => &mut sub.mp_clear_c,
+        Field::ReportedRecovery => &mut sub.reported_recovery_pct,
+        _ => return,
+    };
+    *slot = value;
+}
+
+/// Reads one student row.
+pub fn read_row(row: &RawRow, layout: &Layout, origin: &Origin) -> Submission {
+    let mut sub = Submission {
+        source: origin.source.to_string(),
+        sheet: origin.sheet.map(str::to_string),
+        row: row.index + 1,
+        section: origin.default_section.to_string(),
+        ..Submission::default()
+    };
+    for column in &layout.columns {
+        let Some(field) = column.field else { continue };
+        let cell = row.get(column.index);
+        let at = || cell_ref(origin.sheet, row.index, column.index);
+        if field == Field::MpRange {
+            match read_range(cell, column, origin.decimal) {
+                Ok(Some((onset, clear, single))) => {
+                    sub.mp_onset_c = Some(onset);
+                    sub.mp_clear_c = Some(clear);
+                    if single {
+                        sub.notes.push(format!("{}: one melting value given; taken as both onset and clear point", at()));
+                    }
+                }
+                Ok(None) => {}
+                Err(found) => sub.unreadable.push(Unreadable { field, cell: at(), found }),
+            }
+        } else if field.is_numeric() {
+            match read_number(cell, column, origin.decimal) {
+                Ok(v) => set_number(&mut sub, field, v),
+                Err(found) => sub.unreadable.push(Unreadable { field, cell: at(), found }),
+            }
+        } else {
+            let text = match cell {
+                Cell::Error(_) => {
+                    sub.unreadable.push(Unreadable { field, cell: at(), found: found_instead(cell) });
+                    None
+                }
+                other => other.as_text(),
+            };
+            set_text(&mut sub, field, text);
+        }
+    }
+    sub
+}
+
+#[cfg(test)]
+mod tests {
+    use super::super::cells::{rows_from_cells, RawSheet};
+    use super::super::headers::ColumnOverrides;
+    use super::super::table::locate;
+    use super::*;
+    use approx::assert_relative_eq;
+
+    fn one_row(headers: &[&str], cells: Vec<Cell>) -> Submission {
+        let mut all: Vec<(u32, u32, Cell)> = headers
+            .iter()
+            .enumerate()
+            .map(|(c, h)| (0, c as u32, Cell::Text(h.to_string())))
+            .collect();
+        all.extend(cells.into_iter().enumerate().map(|(c, v)| (1, c as u32, v)));
+        let sheet = RawSheet { name: Some("Sec 2".into()), rows: rows_from_cells(all) };
+        let layout = locate(&sheet, &ColumnOverrides::default()).unwrap();
+        let origin = Origin { source: "x.xlsx", sheet: Some("Sec 2"), default_section: "Sec 2", decimal: Decimal::Point };
+        read_row(&sheet.rows[1], &layout, &origin)
+    }
+
+    #[test]
+    fn units_in_headers_and_cells_convert() {
+        let s = one_row(
+            &["Student #", "Crude (mg)", "Mass recovered / g", "MP start (°F)", "MP end (K)"],
+            vec![
+                Cell::Number(20231234.0),
+                Cell::Number(3020.0),
+                Cell::Text("1850 mg".into()),
+                Cell::Number(248.0),
+                Cell::Text("395.15".into()),
+            ],
+        );
+        assert_eq!(s.student_id.as_deref(), Some("20231234"));
+        assert_relative_eq!(s.crude_mass_g.unwrap(), 3.02, epsilon = 1e-12);
+        assert_relative_eq!(s.recovered_mass_g.unwrap(), 1.85, epsilon = 1e-12);
+        // (248 - 32) x 5/9 = 120 (hand-worked)
+        assert_relative_eq!(s.mp_onset_c.unwrap(), 120.0, epsilon = 1e-12);
+        assert_relative_eq!(s.mp_clear_c.unwrap(), 122.0, epsilon = 1e-9);
+        assert_eq!(s.section, "Sec 2");
+    }
+
+    #[test]
+    fn unreadable_cells_are_named() {
+        let s = one_row(
+            &["ID", "Crude mass (g)", "Recovered mass (g)", "m.p. range (°C)"],
+            vec![
+                Cell::Text("s9".into()),
+                Cell::Error("#DIV/0!".into()),
+                Cell::Date("2026-10-03".into()),
+                Cell::Text("melted".into()),
+            ],
+        );
+        let cells: Vec<&str> = s.unreadable.iter().map(|u| u.cell.as_str()).collect();
+        assert_eq!(cells, vec!["'Sec 2'!B2", "'Sec 2'!C2", "'Sec 2'!D2"]);
+        assert_eq!(s.unreadable[0].found, "the error #DIV/0!");
+        assert_eq!(s.crude_mass_g, None);
+    }
+
+    #[test]
+    fn single_value_and_wrong_unit() {
+        let s = one_row(
+            &["ID", "Crude mass (g)", "Recovered mass (g)", "MP (°C)"],
+            vec![Cell::Text("s1".into()), Cell::Text("25 mL".into()), Cell::Text("n/a".into()), Cell::Number(122.0)],
+        );
+        assert_eq!((s.mp_onset_c, s.mp_clear_c), (Some(122.0), Some(122.0)));
+        assert_eq!(s.notes.len(), 1);
+        assert_eq!(s.unreadable[0].found, "a volume where a mass belongs");
+        assert_eq!(s.recovered_mass_g, None);
+        assert!(s.unreadable.iter().all(|u| u.field != Field::RecoveredMass));
+    }
+}

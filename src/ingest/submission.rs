@@ -1,0 +1,50 @@
+//! What ingest hands on: one `Submission` per student row, with every value already in grams,
+//! millilitres and degrees Celsius, and the cells that could not be read named, not guessed.
+
+use serde::Serialize;
+
+use crate::fields::Field;
+
+/// A cell that should have held a number but did not.
+#[derive(Clone, Debug, PartialEq, Serialize)]
+pub struct Unreadable {
+    pub field: Field,
+    /// Spreadsheet-style reference, e.g. `'Section 3'!D7`.
+    pub cell: String,
+    /// What was found instead, in words: "the error #DIV/0!", "a date", "text".
+    pub found: String,
+}
+
+/// One student's row, normalized.
+#[derive(Clone, Debug, Default, PartialEq, Serialize)]
+pub struct Submission {
+    /// The input file, as given or as found under a given folder.
+    pub source: String,
+    pub sheet: Option<String>,
+    /// 1-based spreadsheet row (or line of a delimited file).
+    pub row: u32,
+    pub section: String,
+    pub student_id: Option<String>,
+    pub student_name: Option<String>,
+    pub bench: Option<String>,
+    pub apparatus: Option<String>,
+    pub assistant: Option<String>,
+    pub compound: Option<String>,
+    pub solvent: Option<String>,
+    pub crude_mass_g: Option<f64>,
+    pub recovered_mass_g: Option<f64>,
+    pub solvent_volume_ml: Option<f64>,
+    pub mp_onset_c: Option<f64>,
+    pub mp_clear_c: Option<f64>,
+    pub reported_recovery_pct: Option<f64>,
+    pub unreadable: Vec<Unreadable>,
+    /// Observations that are not flags ("single melting value: onset taken as the clear point").
+    pub notes: Vec<String>,
+}
+
+impl Submission {
+    /// True when a cell of `field` was present but could not be read.
+    pub fn is_unreadable(&self, field: Field) -> bool {
+        self.unreadable.iter().any(|u| u.field == field)
+    }
+}

@@ -1,0 +1,171 @@
+//! Spreadsheet workbooks through calamine: xlsx, xlsm, xlsb, xls and ods.
+//!
+//! xlsx and xlsb sheets are streamed cell by cell into sparse rows, so a file whose few cells sit
+//! at opposite corners of the grid costs what its cells cost, not rows x columns. Before a zipped
+//! workbook is opened its directory is read, and one that would expand past a limit is refused.
+
+use std::fs::File;
+use std::io::BufReader;
+use std::path::Path;
+
+use calamine::{open_workbook, Data, DataRef, Ods, Reader, Xls, Xlsb, Xlsx};
+
+use super::cells::{rows_from_cells, Cell, RawSheet};
+
+/// Largest total size a zipped workbook may expand to.
+pub const MAX_EXPANDED_BYTES: u64 = 2 << 30;
+/// Grid limits of the OOXML formats: positions beyond them are corrupt.
+const MAX_ROWS: u32 = 1 << 20;
+const MAX_COLS: u32 = 1 << 14;
+
+/// One sheet read, or why it could not be.
+pub struct SheetRead {
+    pub name: String,
+    pub result: Result<RawSheet, String>,
+}
+
+fn from_data(d: &Data) -> Cell {
+    match d {
+        Data::Int(i) => Cell::Number(*i as f64),
+        Data::Float(f) => Cell::Number(*f),
+        Data::String(s) => Cell::Text(s.clone()).normalized(),
+        Data::Bool(b) => Cell::Bool(*b),
+        Data::DateTime(dt) => Cell::Date(dt.to_string()),
+        Data::DateTimeIso(s) | Data::DurationIso(s) => Cell::Date(s.clone()),
+        Data::Error(e) => Cell::Error(e.to_string()),
+        Data::Empty => Cell::Empty,
+    }
+}
+
+fn from_data_ref(d: DataRef<'_>) -> Cell {
+    match d {
+        DataRef::Int(i) => Cell::Number(i as f64),
+        DataRef::Float(f) => Cell::Number(f),
+        DataRef::String(s) => Cell::Text(s).normalized(),
+        DataRef::SharedString(s) => Cell::Text(s.to_string()).normalized(),
+        DataRef::Bool(b) => Cell::Bool(b),
+        DataRef::DateTime(dt) => Cell::Date(dt.to_string()),
+        DataRef::DateTimeIso(s) | DataRef::DurationIso(s) => Cell::Date(s),
+        DataRef::Error(e) => Cell::Error(e.to_string()),
+        DataRef::Empty => Cell::Empty,
+    }
+}
+
+/// Reads the zip directory and refuses an archive that would expand past the limit.
+pub fn check_zip(path: &Path) -> Result<(), String> {
+    let file = File::open(path).map_err(|e| format!("cannot open: {e}"))?;
+    let mut archive = zip::ZipArchive::new(BufReader::new(file))
+        .map_err(|_| "not a readable workbook: the file is truncated or is not a zip archive".to_string())?;
+    let mut total: u64 = 0;
+    for i in 0..archive.len() {
+        let entry = archive
+            .by_index_raw(i)
+            .map_err(|e| format!("not a readable workbook: {e}"))?;
+        total = total.saturating_add(entry.size());
+    }
+    if total > MAX_EXPANDED_BYTES {
+        return Err(format!(
+            "refused: the workbook would expand to {} MiB, more than the {} MiB limit (a damaged file or a zip bomb)",
+            total >> 20,
+            MAX_EXPANDED_BYTES >> 20
+        ));
+    }
+    Ok(())
+}
+
+fn bounded(pos: (u32, u32)) -> Result<(u32, u32), String> {
+    if pos.0 >= MAX_ROWS || pos.1 >= MAX_COLS {
+        return Err(format!("a cell lies outside the grid (row {}, column {})", pos.0 + 1, pos.1 + 1));
+    }
+    Ok(pos)
+}
+
+fn describe<E: std::fmt::Display>(e: E) -> String {
+    let text = e.to_string();
+    if text.to_lowercase().contains("password") {
+        "the workbook is password-protected; save an unprotected copy and grade that".into()
+    } else {
+        format!("not a readable workbook: {text}")
+    }
+}
+
+fn stream_xlsx(wb: &mut Xlsx<BufReader<File>>, name: &str) -> Result<RawSheet, String> {
+    let mut reader = wb.worksheet_cells_reader(name).map_err(describe)?;
+    let mut cells = Vec::new();
+    while let Some(cell) = reader.next_cell().map_err(describe)? {
+        let (r, c) = bounded(cell.get_position())?;
+        cells.push((r, c, from_data_ref(cell.get_value().clone())));
+    }
+    Ok(RawSheet { name: Some(name.to_string()), rows: rows_from_cells(cells) })
+}
+
+fn stream_xlsb(wb: &mut Xlsb<BufReader<File>>, name: &str) -> Result<RawSheet, String> {
+    let mut reader = wb.worksheet_cells_reader(name).map_err(describe)?;
+    let mut cells = Vec::new();
+    while let Some(cell) = reader.next_cell().map_err(describe)? {
+        let (r, c) = bounded(cell.get_position())?;
+        cells.push((r, c, from_data_ref(cell.get_value().clone())));
+    }
+    Ok(RawSheet { name: Some(name.to_string()), rows: rows_from_cells(cells) })
+}
+
+fn dense<R: Reader<BufReader<File>>>(wb: &mut R, name: &str) -> Result<RawSheet, String>
+where
+    R::Error: std::fmt::Display,
+{
+    let range = wb.worksheet_range(name).map_err(describe)?;
+    let (r0, c0) = range.start().unwrap_or((0, 0));
+    let cells = range
+        .used_cells()
+        .map(|(r, c, d)| (r0 + r as u32, c0 + c as u32, from_data(d)))
+        .collect();
+    Ok(RawSheet { name: Some(name.to_string()), rows: rows_from_cells(cells) })
+}
+
+/// Which workbook format a file extension names.
+#[derive(Clone, Copy, Debug, PartialEq, Eq)]
+pub enum Format {
+    Xlsx,
+    Xlsb,
+    Xls,
+    Ods,
+}
+
+impl Format {
+    pub fn from_extension(ext: &str) -> Option<Format> {
+        match ext.to_ascii_lowercase().as_str() {
+            "xlsx" | "xlsm" => Some(Format::Xlsx),
+            "xlsb" => Some(Format::Xlsb),
+            "xls" => Some(Format::Xls),
+            "ods" => Some(Format::Ods),
+            _ => None,
+        }
+    }
+}
+
+fn read_all<R, F>(mut wb: R, mut read: F) -> Vec<SheetRead>
+where
+    R: Reader<BufReader<File>>,
+    F: FnMut(&mut R, &str) -> Result<RawSheet, String>,
+{
+    wb.sheet_names()
+        .into_iter()
+        .map(|name| {
+            let result = read(&mut wb, &name);
+            SheetRead { name, result }
+        })
+        .collect()
+}
+
+/// Opens a workbook and reads every sheet. `Err` when the file itself cannot be opened.
+pub fn read_workbook(path: &Path, format: Format) -> Result<Vec<SheetRead>, String> {
+    if format != Format::Xls {
+        check_zip(path)?;
+    }
+    Ok(match format {
+        Format::Xlsx => read_all(open_workbook::<Xlsx<_>, _>(path).map_err(describe)?, stream_xlsx),
+        Format::Xlsb => read_all(open_workbook::<Xlsb<_>, _>(path).map_err(describe)?, stream_xlsb),
+        Format::Xls => read_all(open_workbook::<Xls<_>, _>(path).map_err(describe)?, dense),
+        Format::Ods => read_all(open_workbook::<Ods<_>, _>(path).map_err(describe)?, dense),
+    })
+}

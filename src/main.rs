@@ -1,0 +1,133 @@
+//! The thin binary: parse the command line, build the configuration, call the library,
+//! print, and map the outcome to the exit code of the contract (0, 1 or 2).
+
+mod cli;
+
+use std::io::{IsTerminal, Write};
+use std::path::PathBuf;
+use std::process::ExitCode;
+
+use anyhow::{Context as _, Result};
+use clap::Parser;
+
+use benchgrade::export::check_report::{self, Style};
+use benchgrade::reference::Library;
+use benchgrade::{Batch, Config, Options, RunError};
+use cli::{Cli, Command, RunArgs};
+
+/// The sample data: in the working directory when run from a clone, else beside the sources.
+fn sample_data() -> Option<PathBuf> {
+    let here = PathBuf::from("sample-data");
+    if here.is_dir() {
+        return Some(here);
+    }
+    let built = PathBuf::from(env!("CARGO_MANIFEST_DIR")).join("sample-data");
+    built.is_dir().then_some(built)
+}
+
+fn options(run: RunArgs, out: Option<PathBuf>) -> Options {
+    Options {
+        inputs: run.inputs,
+        sample_data: sample_data(),
+        out,
+        rubric: run.rubric,
+        columns: run.columns,
+        compounds: run.compounds,
+        reference_mp_c: run.reference_mp,
+    }
+}
+
+fn style() -> Style {
+    let no_color = std::env::var_os("NO_COLOR").is_some_and(|v| !v.is_empty());
+    Style { color: std::io::stdout().is_terminal() && !no_color }
+}
+
+fn report_problems(batch: &Batch) {
+    for p in &batch.problems {
+        let kind = if p.fatal { "error" } else { "note" };
+        eprintln!("benchgrade: {kind}: {p}");
+    }
+}
+
+fn exit_for(batch: &Batch) -> ExitCode {
+    ExitCode::from(if batch.incomplete() { 1 } else { 0 })
+}
+
+fn grade(run: RunArgs, out: PathBuf, quiet: bool) -> Result<ExitCode> {
+    let config = match Config::build(options(run, Some(out))) {
+        Ok(c) => c,
+        Err(e) => return usage_error(&e),
+    };
+    let batch = match benchgrade::grade(&config) {
+        Ok(b) => b,
+        Err(RunError::Config(e)) => return usage_error(&e),
+        Err(RunError::Write(e)) => return Err(e).context("writing the results"),
+    };
+    report_problems(&batch);
+    if !quiet {
+        let line = check_report::summary(&batch.rows, &[], batch.files.len());
+        print!("{line}");
+        println!("wrote {}", config.out_dir.join("results.csv").display());
+    }
+    Ok(exit_for(&batch))
+}
+
+fn check(run: RunArgs) -> Result<ExitCode> {
+    let config = match Config::build(options(run, None)) {
+        Ok(c) => c,
+        Err(e) => return usage_error(&e),
+    };
+    let batch = benchgrade::assess_batch(&config);
+    let style = style();
+    let mut out = std::io::stdout().lock();
+    write!(out, "{}", check_report::layouts(&batch.sheets, style))?;
+    writeln!(out)?;
+    write!(out, "{}", check_report::flagged(&batch.rows, style))?;
+    writeln!(out)?;
+    write!(out, "{}", check_report::summary(&batch.rows, &batch.problems, batch.files.len()))?;
+    Ok(exit_for(&batch))
+}
+
+fn compounds(json: bool, extra: Option<PathBuf>) -> Result<ExitCode> {
+    let mut lib = Library::builtin();
+    if let Some(p) = extra {
+        if let Err(e) = lib.extend_from_file(&p) {
+            return usage_error(&e);
+        }
+    }
+    let mut out = std::io::stdout().lock();
+    if json {
+        serde_json::to_writer_pretty(&mut out, lib.compounds())?;
+        writeln!(out)?;
+    } else {
+        write!(out, "{}", benchgrade::reference::table(&lib))?;
+    }
+    Ok(ExitCode::SUCCESS)
+}
+
+fn usage_error(e: &dyn std::fmt::Display) -> Result<ExitCode> {
+    eprintln!("benchgrade: {e}");
+    Ok(ExitCode::from(2))
+}
+
+fn main() -> ExitCode {
+    let cli = match Cli::try_parse() {
+        Ok(c) => c,
+        Err(e) => {
+            let _ = e.print();
+            return ExitCode::from(if e.use_stderr() { 2 } else { 0 });
+        }
+    };
+    let result = match cli.command {
+        Command::Grade { run, out, quiet } => grade(run, out, quiet),
+        Command::Check { run } => check(run),
+        Command::Compounds { json, compounds: extra } => compounds(json, extra),
+    };
+    match result {
+        Ok(code) => code,
+        Err(e) => {
+            eprintln!("benchgrade: {e:#}");
+            ExitCode::from(2)
+        }
+    }
+}

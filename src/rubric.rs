@@ -1,0 +1,144 @@
+//! The rubric file: which experiment is graded, against which reference, with which
+//! tolerances, and any explicit column mapping. TOML, our own format, unknown keys refused so
+//! that a typo is an error at its line and column rather than a silently ignored setting.
+
+use std::collections::BTreeMap;
+use std::path::Path;
+
+use serde::{Deserialize, Serialize};
+
+use crate::error::{toml_location, ConfigError};
+
+/// The rubric shipped as `rubrics/default.toml`, compiled in so that a fresh clone grades.
+pub const DEFAULT_RUBRIC: &str = include_str!("../rubrics/default.toml");
+
+#[derive(Clone, Debug, PartialEq, Serialize, Deserialize)]
+#[serde(deny_unknown_fields)]
+pub struct Experiment {
+    pub name: String,
+    /// The compound every row is taken to be when a row names none.
+    #[serde(default)]
+    pub compound: Option<String>,
+    /// The accepted melting point for this experiment's compound, overriding the library.
+    #[serde(default)]
+    pub reference_mp_c: Option<f64>,
+}
+
+/// Thresholds for the flags. Defaults are those of the results contract.
+#[derive(Clone, Debug, PartialEq, Serialize, Deserialize)]
+#[serde(deny_unknown_fields, default)]
+pub struct Tolerances {
+    /// A clear point more than this above the reference is impossible for a pure sample.
+    pub above_reference_c: f64,
+    /// A range wider than this suggests an impure product.
+    pub impure_width_c: f64,
+    /// A clear point depressed more than this below the reference suggests an impure product.
+    pub impure_depression_c: f64,
+    /// Reported and recomputed recovery may differ by this many percentage points.
+    pub recovery_mismatch_pct: f64,
+    /// Recovery below this is flagged low.
+    pub low_recovery_pct: f64,
+    /// Recovery at or above this, with a broad or depressed range, points to a wet product.
+    pub wet_recovery_pct: f64,
+}
+
+impl Default for Tolerances {
+    fn default() -> Self {
+        Tolerances {
+            above_reference_c: 1.0,
+            impure_width_c: 2.0,
+            impure_depression_c: 2.0,
+            recovery_mismatch_pct: 1.0,
+            low_recovery_pct: 50.0,
+            wet_recovery_pct: 95.0,
+        }
+    }
+}
+
+#[derive(Clone, Debug, PartialEq, Serialize, Deserialize)]
+#[serde(deny_unknown_fields)]
+pub struct Rubric {
+    pub experiment: Experiment,
+    #[serde(default)]
+    pub tolerances: Tolerances,
+    /// Header text to field key ("ignore" drops the column).
+    #[serde(default)]
+    pub columns: BTreeMap<String, String>,
+}
+
+impl Rubric {
+    /// Parses rubric text; `file` names it in messages.
+    pub fn parse(text: &str, file: &str) -> Result<Rubric, ConfigError> {
+        let rubric: Rubric = toml::from_str(text).map_err(|e| {
+            let (line, column) = toml_location(text, e.span());
+            ConfigError::File { file: file.to_string(), line, column, message: e.message().trim().to_string() }
+        })?;
+        rubric.validate(file)?;
+        Ok(rubric)
+    }
+
+    pub fn load(path: &Path) -> Result<Rubric, ConfigError> {
+        let text = std::fs::read_to_string(path)
+            .map_err(|e| ConfigError::Invalid(format!("cannot read rubric {}: {e}", path.display())))?;
+        Rubric::parse(&text, &path.display().to_string())
+    }
+
+    pub fn builtin() -> Rubric {
+        // The default rubric is part of the program; a unit test proves it parses.
+        Rubric::parse(DEFAULT_RUBRIC, "rubrics/default.toml").unwrap_or_else(|_| Rubric {
+            experiment: Experiment { name: "recrystallization".into(), compound: None, reference_mp_c: None },
+            tolerances: Tolerances::default(),
+            columns: BTreeMap::new(),
+        })
+    }
+
+    fn validate(&self, file: &str) -> Result<(), ConfigError> {
+        let t = &self.tolerances;
+        let named = [
+            ("above_reference_c", t.above_reference_c),
+            ("impure_width_c", t.impure_width_c),
+            ("impure_depression_c", t.impure_depression_c),
+            ("recovery_mismatch_pct", t.recovery_mismatch_pct),
+            ("low_recovery_pct", t.low_recovery_pct),
+            ("wet_recovery_pct", t.wet_recovery_pct),
+        ];
+        for (key, v) in named {
+            if !v.is_finite() || v < 0.0 {
+                return Err(ConfigError::Invalid(format!(
+                    "{file}: tolerances.{key} is {v}; it must be a number of zero or more"
+                )));
+            }
+        }
+        Ok(())
+    }
+}
+
+#[cfg(test)]
+mod tests {
+    use super::*;
+
+    #[test]
+    fn default_rubric_parses_with_contract_defaults() {
+        let r = Rubric::parse(DEFAULT_RUBRIC, "default").unwrap();
+        assert_eq!(r.tolerances, Tolerances::default());
+        assert_eq!(r.experiment.compound.as_deref(), Some("benzoic acid"));
+    }
+
+    #[test]
+    fn a_typo_is_located() {
+        let text = "[experiment]\nname = \"x\"\n[tolerances]\nabove_refrence_c = 2.0\n";
+        match Rubric::parse(text, "r.toml") {
+            Err(ConfigError::File { line, column, message, .. }) => {
+                assert_eq!((line, column), (4, 1));
+                assert!(message.contains("above_refrence_c"), "{message}");
+            }
+            other => panic!("{other:?}"),
+        }
+    }
+
+    #[test]
+    fn negative_tolerances_are_refused() {
+        let text = "[experiment]\nname = \"x\"\n[tolerances]\nimpure_width_c = -1\n";
+        assert!(Rubric::parse(text, "r.toml").is_err());
+    }
+}
