@@ -18,7 +18,10 @@ struct Lcg(u64);
 
 impl Lcg {
     fn next(&mut self) -> f64 {
-        self.0 = self.0.wrapping_mul(6364136223846793005).wrapping_add(1442695040888963407);
+        self.0 = self
+            .0
+            .wrapping_mul(6364136223846793005)
+            .wrapping_add(1442695040888963407);
         (self.0 >> 11) as f64 / (1u64 << 53) as f64
     }
     fn between(&mut self, lo: f64, hi: f64) -> f64 {
@@ -30,13 +33,31 @@ impl Lcg {
 }
 
 const FIRST: [&str; 24] = [
-    "Avery", "Bilal", "Carmen", "Dario", "Elif", "Farah", "Gideon", "Hana", "Ilya", "Jonas", "Kirra", "Lior",
-    "Mateo", "Nadia", "Oren", "Priya", "Quinn", "Rosa", "Soren", "Talia", "Umar", "Vera", "Wren", "Yusuf",
+    "Avery", "Bilal", "Carmen", "Dario", "Elif", "Farah", "Gideon", "Hana", "Ilya", "Jonas",
+    "Kirra", "Lior", "Mateo", "Nadia", "Oren", "Priya", "Quinn", "Rosa", "Soren", "Talia", "Umar",
+    "Vera", "Wren", "Yusuf",
 ];
 const LAST: [&str; 20] = [
-    "Abernathy", "Brightwater", "Castellano", "Dunmore", "Eskildsen", "Fairweather", "Galloway", "Hollis",
-    "Ivanova", "Jaramillo", "Kettering", "Lindqvist", "Marchetti", "Nakagawa", "Okonkwo", "Pemberton",
-    "Quintero", "Rasmussen", "Sandoval", "Thistlewood",
+    "Abernathy",
+    "Brightwater",
+    "Castellano",
+    "Dunmore",
+    "Eskildsen",
+    "Fairweather",
+    "Galloway",
+    "Hollis",
+    "Ivanova",
+    "Jaramillo",
+    "Kettering",
+    "Lindqvist",
+    "Marchetti",
+    "Nakagawa",
+    "Okonkwo",
+    "Pemberton",
+    "Quintero",
+    "Rasmussen",
+    "Sandoval",
+    "Thistlewood",
 ];
 
 /// One invented student's lab results, in grams and °C.
@@ -82,7 +103,9 @@ fn section(rng: &mut Lcg, first_id: u32, n: usize, high_bench: Option<u32>) -> V
 
 fn fixed_properties() -> DocProperties {
     let when = ExcelDateTime::from_ymd(2026, 9, 1).expect("a valid date");
-    DocProperties::new().set_creation_datetime(&when).set_author("CHEM 2150 teaching team")
+    DocProperties::new()
+        .set_creation_datetime(&when)
+        .set_author("CHEM 2150 teaching team")
 }
 
 /// Section 01: title rows with a merged cell, header on row 4, a reported-recovery column with a
@@ -94,19 +117,44 @@ fn write_section_01(dir: &Path, rng: &mut Lcg) -> Result<(), Box<dyn std::error:
     (rows[5].onset, rows[5].clear) = (122.0, 119.0); // inverted range
     rows[9].recovered = 0.0; // nonpositive mass
     rows[12].id = rows[4].id.clone(); // duplicate id
-    (rows[15].crude, rows[15].recovered, rows[15].onset, rows[15].clear) = (2.50, 2.60, 115.0, 119.0); // wet
-    (rows[16].crude, rows[16].recovered, rows[16].onset, rows[16].clear) = (3.00, 2.10, 114.0, 119.0); // impure
+    (
+        rows[15].crude,
+        rows[15].recovered,
+        rows[15].onset,
+        rows[15].clear,
+    ) = (2.50, 2.60, 115.0, 119.0); // wet
+    (
+        rows[16].crude,
+        rows[16].recovered,
+        rows[16].onset,
+        rows[16].clear,
+    ) = (3.00, 2.10, 114.0, 119.0); // impure
     rows[18].recovered = round(rows[18].crude * 0.38, 2); // low recovery
     let mut wb = Workbook::new();
     wb.set_properties(&fixed_properties());
     let title = Format::new().set_bold().set_align(FormatAlign::Center);
     let date = Format::new().set_num_format("yyyy-mm-dd");
     let ws = wb.add_worksheet().set_name("Sec 01")?;
-    ws.merge_range(0, 0, 0, 9, "CHEM 2150 Organic Laboratory I: Recrystallization of benzoic acid", &title)?;
+    ws.merge_range(
+        0,
+        0,
+        0,
+        9,
+        "CHEM 2150 Organic Laboratory I: Recrystallization of benzoic acid",
+        &title,
+    )?;
     ws.write_string(1, 0, "Section 01, Tuesday afternoon. TA: R. Okafor")?;
     let headers = [
-        "Student #", "Name", "Bench", "TA", "Crude product mass (g)", "Mass recovered / g", "Water used (mL)",
-        "m.p. range (°C)", "% Recovery", "Comments",
+        "Student #",
+        "Name",
+        "Bench",
+        "TA",
+        "Crude product mass (g)",
+        "Mass recovered / g",
+        "Water used (mL)",
+        "m.p. range (°C)",
+        "% Recovery",
+        "Comments",
     ];
     for (c, h) in headers.iter().enumerate() {
         ws.write_string(3, c as u16, *h)?;
@@ -119,7 +167,12 @@ fn write_section_01(dir: &Path, rng: &mut Lcg) -> Result<(), Box<dyn std::error:
         ws.write_string(row, 3, "R. Okafor")?;
         ws.write_number(row, 4, r.crude)?;
         match i {
-            7 => ws.write_datetime_with_format(row, 5, &ExcelDateTime::from_ymd(2026, 10, 6)?, &date)?,
+            7 => ws.write_datetime_with_format(
+                row,
+                5,
+                &ExcelDateTime::from_ymd(2026, 10, 6)?,
+                &date,
+            )?,
             11 => ws.write_string(row, 5, "1850 mg")?,
             _ => ws.write_number(row, 5, r.recovered)?,
         };
@@ -144,17 +197,36 @@ fn write_section_01(dir: &Path, rng: &mut Lcg) -> Result<(), Box<dyn std::error:
     }
     let end = 4 + rows.len() as u32;
     ws.write_string(end + 1, 0, "Average")?;
-    ws.write_number(end + 1, 4, rows.iter().map(|r| r.crude).sum::<f64>() / rows.len() as f64)?;
-    ws.write_string(end + 3, 0, "Notes: bench 7 thermometer was swapped on week 6; hot plates 3 and 5 run hot.")?;
+    ws.write_number(
+        end + 1,
+        4,
+        rows.iter().map(|r| r.crude).sum::<f64>() / rows.len() as f64,
+    )?;
+    ws.write_string(
+        end + 3,
+        0,
+        "Notes: bench 7 thermometer was swapped on week 6; hot plates 3 and 5 run hot.",
+    )?;
     let info = wb.add_worksheet().set_name("Instructions")?;
-    info.write_string(0, 0, "Weigh the dry crystals on the analytical balance and record to 0.01 g.")?;
-    info.write_string(1, 0, "Record the melting range at 1-2 °C per minute near the expected value.")?;
+    info.write_string(
+        0,
+        0,
+        "Weigh the dry crystals on the analytical balance and record to 0.01 g.",
+    )?;
+    info.write_string(
+        1,
+        0,
+        "Record the melting range at 1-2 °C per minute near the expected value.",
+    )?;
     wb.save(dir.join("section-01.xlsx"))?;
     Ok(())
 }
 
 fn xml_escape(s: &str) -> String {
-    s.replace('&', "&amp;").replace('<', "&lt;").replace('>', "&gt;").replace('"', "&quot;")
+    s.replace('&', "&amp;")
+        .replace('<', "&lt;")
+        .replace('>', "&gt;")
+        .replace('"', "&quot;")
 }
 
 /// A cell of the minimal OpenDocument spreadsheet written below.
@@ -180,7 +252,10 @@ fn ods_row(cells: &[OdsCell]) -> String {
 }
 
 /// Writes an OpenDocument spreadsheet (ISO/IEC 26300) with one table per (name, rows).
-fn write_ods(path: &Path, tables: &[(&str, Vec<Vec<OdsCell>>)]) -> Result<(), Box<dyn std::error::Error>> {
+fn write_ods(
+    path: &Path,
+    tables: &[(&str, Vec<Vec<OdsCell>>)],
+) -> Result<(), Box<dyn std::error::Error>> {
     let mut body = String::new();
     for (name, rows) in tables {
         body += &format!("<table:table table:name=\"{}\">", xml_escape(name));
@@ -195,8 +270,12 @@ fn write_ods(path: &Path, tables: &[(&str, Vec<Vec<OdsCell>>)]) -> Result<(), Bo
     let manifest = "<?xml version=\"1.0\" encoding=\"UTF-8\"?>\n<manifest:manifest xmlns:manifest=\"urn:oasis:names:tc:opendocument:xmlns:manifest:1.0\" manifest:version=\"1.2\"><manifest:file-entry manifest:full-path=\"/\" manifest:media-type=\"application/vnd.oasis.opendocument.spreadsheet\"/><manifest:file-entry manifest:full-path=\"content.xml\" manifest:media-type=\"text/xml\"/></manifest:manifest>\n";
     let mut zip = zip::ZipWriter::new(std::fs::File::create(path)?);
     let when = zip::DateTime::from_date_and_time(2026, 9, 1, 0, 0, 0).map_err(|_| "bad date")?;
-    let stored = zip::write::SimpleFileOptions::default().compression_method(zip::CompressionMethod::Stored).last_modified_time(when);
-    let deflated = zip::write::SimpleFileOptions::default().compression_method(zip::CompressionMethod::Deflated).last_modified_time(when);
+    let stored = zip::write::SimpleFileOptions::default()
+        .compression_method(zip::CompressionMethod::Stored)
+        .last_modified_time(when);
+    let deflated = zip::write::SimpleFileOptions::default()
+        .compression_method(zip::CompressionMethod::Deflated)
+        .last_modified_time(when);
     zip.start_file("mimetype", stored)?;
     zip.write_all(b"application/vnd.oasis.opendocument.spreadsheet")?;
     zip.start_file("META-INF/manifest.xml", deflated)?;
@@ -216,10 +295,24 @@ fn write_section_02(dir: &Path, rng: &mut Lcg) -> Result<(), Box<dyn std::error:
     (rows[12].onset, rows[12].clear) = (116.5, 119.2); // impure
     use OdsCell::*;
     let mut table = vec![
-        vec![Span("CHEM 2150 / Section 02 / Recrystallization (benzoic acid)".into(), 8)],
+        vec![Span(
+            "CHEM 2150 / Section 02 / Recrystallization (benzoic acid)".into(),
+            8,
+        )],
         vec![Blank],
-        ["ID", "Student", "Station", "Crude (mg)", "Recovered (mg)", "Solvent volume (mL)", "MP onset (°C)", "MP clear (°C)"]
-            .iter().map(|h| Text(h.to_string())).collect(),
+        [
+            "ID",
+            "Student",
+            "Station",
+            "Crude (mg)",
+            "Recovered (mg)",
+            "Solvent volume (mL)",
+            "MP onset (°C)",
+            "MP clear (°C)",
+        ]
+        .iter()
+        .map(|h| Text(h.to_string()))
+        .collect(),
     ];
     for (i, r) in rows.iter().enumerate() {
         let recovered = match i {
@@ -228,8 +321,14 @@ fn write_section_02(dir: &Path, rng: &mut Lcg) -> Result<(), Box<dyn std::error:
             _ => Number((r.recovered * 1000.0).round()),
         };
         table.push(vec![
-            Text(format!("S{}", r.id)), Text(r.name.clone()), Text(format!("B{}", r.bench)),
-            Number((r.crude * 1000.0).round()), recovered, Number(r.water_ml), Number(r.onset), Number(r.clear),
+            Text(format!("S{}", r.id)),
+            Text(r.name.clone()),
+            Text(format!("B{}", r.bench)),
+            Number((r.crude * 1000.0).round()),
+            recovered,
+            Number(r.water_ml),
+            Number(r.onset),
+            Number(r.clear),
         ]);
     }
     write_ods(&dir.join("section-02.ods"), &[("Section 02", table)])
@@ -246,12 +345,23 @@ fn write_section_03(dir: &Path, rng: &mut Lcg) -> Result<(), Box<dyn std::error:
     for (i, r) in rows.iter().enumerate() {
         let range = match i {
             9 => format!("{:.1} K - {:.1} K", r.onset + 273.15, r.clear + 273.15),
-            11 => format!("{:.0}-{:.0} °F", r.onset * 9.0 / 5.0 + 32.0, r.clear * 9.0 / 5.0 + 32.0),
+            11 => format!(
+                "{:.0}-{:.0} °F",
+                r.onset * 9.0 / 5.0 + 32.0,
+                r.clear * 9.0 / 5.0 + 32.0
+            ),
             _ => format!("{:.1}-{:.1}", r.onset, r.clear),
         };
-        let pct = if r.crude > 0.0 { format!("{:.1}", 100.0 * r.recovered / r.crude) } else { String::new() };
-        let line = format!("{};{};{};{:.2};{:.2};{};{};{}\n", r.id, r.name, r.bench, r.crude, r.recovered, r.water_ml, range, pct);
-        text += &line.replace('.', ",").replace(" K - ", " K - ");
+        let pct = if r.crude > 0.0 {
+            format!("{:.1}", 100.0 * r.recovered / r.crude)
+        } else {
+            String::new()
+        };
+        let line = format!(
+            "{};{};{};{:.2};{:.2};{};{};{}\n",
+            r.id, r.name, r.bench, r.crude, r.recovered, r.water_ml, range, pct
+        );
+        text += &line.replace('.', ",");
     }
     let (latin1, _, _) = encoding_rs::WINDOWS_1252.encode(&text);
     std::fs::write(dir.join("section-03.csv"), latin1)?;
@@ -263,7 +373,14 @@ fn write_section_03(dir: &Path, rng: &mut Lcg) -> Result<(), Box<dyn std::error:
 fn write_late_entries(dir: &Path, rng: &mut Lcg) -> Result<(), Box<dyn std::error::Error>> {
     let mut rows = section(rng, 2026401, 6, None);
     let mut text = String::from("\u{feff}Section,Student ID,Student name,Bench,Compound,Crude mass (g),Recovered mass (g),Water (mL),MP start,MP end\n");
-    let compounds = ["benzoic acid", "Benzoic Acid", "acetanilide", "benzoic acid", "mystery solid", "benzoic acid"];
+    let compounds = [
+        "benzoic acid",
+        "Benzoic Acid",
+        "acetanilide",
+        "benzoic acid",
+        "mystery solid",
+        "benzoic acid",
+    ];
     rows[2].onset = 113.2;
     rows[2].clear = 114.1;
     for (i, r) in rows.iter().enumerate() {
@@ -283,7 +400,9 @@ fn write_late_entries(dir: &Path, rng: &mut Lcg) -> Result<(), Box<dyn std::erro
 }
 
 fn main() -> Result<(), Box<dyn std::error::Error>> {
-    let dir = std::env::args().nth(1).unwrap_or_else(|| "sample-data".into());
+    let dir = std::env::args()
+        .nth(1)
+        .unwrap_or_else(|| "sample-data".into());
     let dir = Path::new(&dir);
     std::fs::create_dir_all(dir)?;
     let mut rng = Lcg(2150);

@@ -49,16 +49,25 @@ fn read_columns_file(path: &Path) -> Result<ColumnOverrides, ConfigError> {
         .map_err(|e| ConfigError::Invalid(format!("cannot read columns file {file}: {e}")))?;
     let parsed: ColumnsFile = toml::from_str(&text).map_err(|e| {
         let (line, column) = toml_location(&text, e.span());
-        ConfigError::File { file: file.clone(), line, column, message: e.message().trim().to_string() }
+        ConfigError::File {
+            file: file.clone(),
+            line,
+            column,
+            message: e.message().trim().to_string(),
+        }
     })?;
-    ColumnOverrides::from_pairs(&parsed.columns).map_err(|m| ConfigError::Invalid(format!("{file}: {m}")))
+    ColumnOverrides::from_pairs(&parsed.columns)
+        .map_err(|m| ConfigError::Invalid(format!("{file}: {m}")))
 }
 
 impl Config {
     pub fn build(opts: Options) -> Result<Config, ConfigError> {
         let (rubric, rubric_source) = match &opts.rubric {
             Some(p) => (Rubric::load(p)?, p.display().to_string()),
-            None => (Rubric::builtin(), "built-in rubrics/default.toml".to_string()),
+            None => (
+                Rubric::builtin(),
+                "built-in rubrics/default.toml".to_string(),
+            ),
         };
         let from_rubric = ColumnOverrides::from_pairs(&rubric.columns)
             .map_err(|m| ConfigError::Invalid(format!("{rubric_source}: {m}")))?;
@@ -79,7 +88,9 @@ impl Config {
         }
         if let Some(v) = opts.reference_mp_c {
             if !v.is_finite() {
-                return Err(ConfigError::Invalid("--reference-mp must be a temperature in °C".into()));
+                return Err(ConfigError::Invalid(
+                    "--reference-mp must be a temperature in °C".into(),
+                ));
             }
         }
         let inputs = if opts.inputs.is_empty() {

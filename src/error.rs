@@ -11,7 +11,12 @@ use thiserror::Error;
 pub enum ConfigError {
     /// A configuration file that does not parse, located to line and column.
     #[error("{file}:{line}:{column}: {message}")]
-    File { file: String, line: usize, column: usize, message: String },
+    File {
+        file: String,
+        line: usize,
+        column: usize,
+        message: String,
+    },
     #[error("{0}")]
     Invalid(String),
 }
@@ -30,7 +35,12 @@ pub fn toml_location(text: &str, span: Option<std::ops::Range<usize>>) -> (usize
     let Some(span) = span else { return (1, 1) };
     let upto = &text[..span.start.min(text.len())];
     let line = upto.matches('\n').count() + 1;
-    let column = upto.rsplit('\n').next().map(|l| l.chars().count()).unwrap_or(0) + 1;
+    let column = upto
+        .rsplit('\n')
+        .next()
+        .map(|l| l.chars().count())
+        .unwrap_or(0)
+        + 1;
     (line, column)
 }
 

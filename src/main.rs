@@ -39,7 +39,9 @@ fn options(run: RunArgs, out: Option<PathBuf>) -> Options {
 
 fn style() -> Style {
     let no_color = std::env::var_os("NO_COLOR").is_some_and(|v| !v.is_empty());
-    Style { color: std::io::stdout().is_terminal() && !no_color }
+    Style {
+        color: std::io::stdout().is_terminal() && !no_color,
+    }
 }
 
 fn report_problems(batch: &Batch) {
@@ -84,7 +86,11 @@ fn check(run: RunArgs) -> Result<ExitCode> {
     writeln!(out)?;
     write!(out, "{}", check_report::flagged(&batch.rows, style))?;
     writeln!(out)?;
-    write!(out, "{}", check_report::summary(&batch.rows, &batch.problems, batch.files.len()))?;
+    write!(
+        out,
+        "{}",
+        check_report::summary(&batch.rows, &batch.problems, batch.files.len())
+    )?;
     Ok(exit_for(&batch))
 }
 
@@ -121,7 +127,10 @@ fn main() -> ExitCode {
     let result = match cli.command {
         Command::Grade { run, out, quiet } => grade(run, out, quiet),
         Command::Check { run } => check(run),
-        Command::Compounds { json, compounds: extra } => compounds(json, extra),
+        Command::Compounds {
+            json,
+            compounds: extra,
+        } => compounds(json, extra),
     };
     match result {
         Ok(code) => code,

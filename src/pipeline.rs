@@ -36,7 +36,11 @@ pub enum RunError {
 
 /// Reads and assesses, writing nothing.
 pub fn assess_batch(config: &Config) -> Batch {
-    let ingested = ingest::ingest(&config.inputs, std::slice::from_ref(&config.out_dir), &config.columns);
+    let ingested = ingest::ingest(
+        &config.inputs,
+        std::slice::from_ref(&config.out_dir),
+        &config.columns,
+    );
     let ctx = Context {
         library: &config.library,
         default_compound: config.rubric.experiment.compound.as_deref(),
@@ -44,7 +48,12 @@ pub fn assess_batch(config: &Config) -> Batch {
         tolerances: &config.rubric.tolerances,
     };
     let rows = assess::assess_all(ingested.submissions, &ctx);
-    Batch { files: ingested.files, rows, sheets: ingested.sheets, problems: ingested.problems }
+    Batch {
+        files: ingested.files,
+        rows,
+        sheets: ingested.sheets,
+        problems: ingested.problems,
+    }
 }
 
 /// The files a grading run writes into the output folder.
@@ -54,8 +63,13 @@ pub fn output_paths(out_dir: &Path) -> [PathBuf; 2] {
 
 fn refuse_overwriting_inputs(outputs: &[PathBuf], inputs: &[PathBuf]) -> Result<(), ConfigError> {
     for o in outputs {
-        let Ok(target) = o.canonicalize() else { continue };
-        if inputs.iter().any(|i| i.canonicalize().is_ok_and(|c| c == target)) {
+        let Ok(target) = o.canonicalize() else {
+            continue;
+        };
+        if inputs
+            .iter()
+            .any(|i| i.canonicalize().is_ok_and(|c| c == target))
+        {
             return Err(ConfigError::Invalid(format!(
                 "refusing to write {}: it is one of the inputs; choose another --out folder",
                 o.display()
@@ -71,7 +85,10 @@ pub fn grade(config: &Config) -> Result<Batch, RunError> {
     let outputs = output_paths(&config.out_dir);
     refuse_overwriting_inputs(&outputs, &batch.files)?;
     std::fs::create_dir_all(&config.out_dir).map_err(|e| {
-        ConfigError::Invalid(format!("cannot create the output folder {}: {e}", config.out_dir.display()))
+        ConfigError::Invalid(format!(
+            "cannot create the output folder {}: {e}",
+            config.out_dir.display()
+        ))
     })?;
     export::results_csv::write(&outputs[0], &batch.rows)?;
     export::results_json::write(&outputs[1], &batch.rows, &batch.problems)?;

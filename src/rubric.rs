@@ -71,22 +71,32 @@ impl Rubric {
     pub fn parse(text: &str, file: &str) -> Result<Rubric, ConfigError> {
         let rubric: Rubric = toml::from_str(text).map_err(|e| {
             let (line, column) = toml_location(text, e.span());
-            ConfigError::File { file: file.to_string(), line, column, message: e.message().trim().to_string() }
+            ConfigError::File {
+                file: file.to_string(),
+                line,
+                column,
+                message: e.message().trim().to_string(),
+            }
         })?;
         rubric.validate(file)?;
         Ok(rubric)
     }
 
     pub fn load(path: &Path) -> Result<Rubric, ConfigError> {
-        let text = std::fs::read_to_string(path)
-            .map_err(|e| ConfigError::Invalid(format!("cannot read rubric {}: {e}", path.display())))?;
+        let text = std::fs::read_to_string(path).map_err(|e| {
+            ConfigError::Invalid(format!("cannot read rubric {}: {e}", path.display()))
+        })?;
         Rubric::parse(&text, &path.display().to_string())
     }
 
     pub fn builtin() -> Rubric {
         // The default rubric is part of the program; a unit test proves it parses.
         Rubric::parse(DEFAULT_RUBRIC, "rubrics/default.toml").unwrap_or_else(|_| Rubric {
-            experiment: Experiment { name: "recrystallization".into(), compound: None, reference_mp_c: None },
+            experiment: Experiment {
+                name: "recrystallization".into(),
+                compound: None,
+                reference_mp_c: None,
+            },
             tolerances: Tolerances::default(),
             columns: BTreeMap::new(),
         })
@@ -128,7 +138,12 @@ mod tests {
     fn a_typo_is_located() {
         let text = "[experiment]\nname = \"x\"\n[tolerances]\nabove_refrence_c = 2.0\n";
         match Rubric::parse(text, "r.toml") {
-            Err(ConfigError::File { line, column, message, .. }) => {
+            Err(ConfigError::File {
+                line,
+                column,
+                message,
+                ..
+            }) => {
                 assert_eq!((line, column), (4, 1));
                 assert!(message.contains("above_refrence_c"), "{message}");
             }

@@ -97,6 +97,8 @@ mod tests {
         codes.sort();
         codes.dedup();
         assert_eq!(codes.len(), Flag::ALL.len());
-        assert!(codes.iter().all(|c| c.chars().all(|ch| ch.is_ascii_lowercase() || ch.is_ascii_digit() || ch == '-')));
+        assert!(codes.iter().all(|c| c
+            .chars()
+            .all(|ch| ch.is_ascii_lowercase() || ch.is_ascii_digit() || ch == '-')));
     }
 }

@@ -40,7 +40,11 @@ mod tests {
     #[test]
     fn hand_worked_recovery() {
         // 2.31 g recovered from 3.02 g crude: 100 x 2.31 / 3.02 = 76.490066... % (hand-worked)
-        assert_relative_eq!(recovery_pct(Some(3.02), Some(2.31)).unwrap(), 76.490_066_225_165_56, epsilon = 1e-10);
+        assert_relative_eq!(
+            recovery_pct(Some(3.02), Some(2.31)).unwrap(),
+            76.490_066_225_165_56,
+            epsilon = 1e-10
+        );
         assert_eq!(recovery_pct(Some(0.0), Some(1.0)), None);
         assert_eq!(recovery_pct(None, Some(1.0)), None);
     }
@@ -48,8 +52,16 @@ mod tests {
     #[test]
     fn hand_worked_range_and_depression() {
         // 119.8-121.0 °C against benzoic acid 122.4 °C: width 1.2, depression 1.4 (hand-worked)
-        assert_relative_eq!(range_width_c(Some(119.8), Some(121.0)).unwrap(), 1.2, epsilon = 1e-9);
-        assert_relative_eq!(depression_c(Some(122.4), Some(121.0)).unwrap(), 1.4, epsilon = 1e-9);
+        assert_relative_eq!(
+            range_width_c(Some(119.8), Some(121.0)).unwrap(),
+            1.2,
+            epsilon = 1e-9
+        );
+        assert_relative_eq!(
+            depression_c(Some(122.4), Some(121.0)).unwrap(),
+            1.4,
+            epsilon = 1e-9
+        );
         assert_relative_eq!(range_width_c(Some(122.0), Some(119.0)).unwrap(), -3.0);
         assert_eq!(depression_c(None, Some(1.0)), None);
     }

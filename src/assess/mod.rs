@@ -8,11 +8,11 @@ use std::collections::HashMap;
 
 use serde::Serialize;
 
-pub use flags::{Flag, Severity};
 use crate::fields::Field;
 use crate::ingest::Submission;
 use crate::reference::{Compound, Library};
 use crate::rubric::Tolerances;
+pub use flags::{Flag, Severity};
 
 /// What the assessment needs besides the rows.
 pub struct Context<'a> {
@@ -44,11 +44,17 @@ impl Assessed {
     }
 
     pub fn is_impossible(&self) -> bool {
-        self.flags.iter().any(|(f, _)| f.severity() == Severity::Impossible)
+        self.flags
+            .iter()
+            .any(|(f, _)| f.severity() == Severity::Impossible)
     }
 
     pub fn flag_codes(&self) -> String {
-        self.flags.iter().map(|(f, _)| f.code()).collect::<Vec<_>>().join(";")
+        self.flags
+            .iter()
+            .map(|(f, _)| f.code())
+            .collect::<Vec<_>>()
+            .join(";")
     }
 
     pub fn flag_notes(&self) -> String {
@@ -71,7 +77,10 @@ fn celsius(v: f64) -> String {
     format!("{v:.1} °C")
 }
 
-fn resolve_compound<'a>(sub: &Submission, ctx: &Context<'a>) -> (Option<&'a Compound>, Option<f64>, Option<String>) {
+fn resolve_compound<'a>(
+    sub: &Submission,
+    ctx: &Context<'a>,
+) -> (Option<&'a Compound>, Option<f64>, Option<String>) {
     let written = sub.compound.as_deref().filter(|s| !s.trim().is_empty());
     let name = written.or(ctx.default_compound);
     let Some(name) = name else {
@@ -79,7 +88,10 @@ fn resolve_compound<'a>(sub: &Submission, ctx: &Context<'a>) -> (Option<&'a Comp
         return (None, ctx.accepted_mp_c, Some(why));
     };
     let Some(found) = ctx.library.lookup(name) else {
-        let why = format!("\"{}\" is not in the reference library; add it with --compounds FILE", name.trim());
+        let why = format!(
+            "\"{}\" is not in the reference library; add it with --compounds FILE",
+            name.trim()
+        );
         return (None, None, Some(why));
     };
     let is_experiment = ctx
@@ -113,7 +125,10 @@ fn entry_flags(a: &Assessed, t: &Tolerances, out: &mut Vec<(Flag, String)>) {
     let s = &a.submission;
     let missing = missing_fields(s);
     if !missing.is_empty() {
-        out.push((Flag::MissingValue, format!("no {} given", missing.join(", "))));
+        out.push((
+            Flag::MissingValue,
+            format!("no {} given", missing.join(", ")),
+        ));
     }
     if !s.unreadable.is_empty() {
         let parts: Vec<String> = s
@@ -125,19 +140,32 @@ fn entry_flags(a: &Assessed, t: &Tolerances, out: &mut Vec<(Flag, String)>) {
     }
     let nonpositive: Vec<String> = [("crude", s.crude_mass_g), ("recovered", s.recovered_mass_g)]
         .iter()
-        .filter_map(|(what, m)| m.filter(|v| *v <= 0.0).map(|v| format!("{what} mass {} is not positive", grams(v))))
+        .filter_map(|(what, m)| {
+            m.filter(|v| *v <= 0.0)
+                .map(|v| format!("{what} mass {} is not positive", grams(v)))
+        })
         .collect();
     if !nonpositive.is_empty() {
         out.push((Flag::NonpositiveMass, nonpositive.join(", ")));
     }
     if let (Some(c), Some(r)) = (s.crude_mass_g, s.recovered_mass_g) {
         if c > 0.0 && r > c {
-            out.push((Flag::RecoveryOver100, format!("recovered {} exceeds crude {}", grams(r), grams(c))));
+            out.push((
+                Flag::RecoveryOver100,
+                format!("recovered {} exceeds crude {}", grams(r), grams(c)),
+            ));
         }
     }
     if let (Some(o), Some(c)) = (s.mp_onset_c, s.mp_clear_c) {
         if o > c {
-            out.push((Flag::RangeInverted, format!("onset {} is above the clear point {}", celsius(o), celsius(c))));
+            out.push((
+                Flag::RangeInverted,
+                format!(
+                    "onset {} is above the clear point {}",
+                    celsius(o),
+                    celsius(c)
+                ),
+            ));
         }
     }
     if let (Some(r), Some(c)) = (a.reference_mp_c, s.mp_clear_c) {
@@ -146,7 +174,10 @@ fn entry_flags(a: &Assessed, t: &Tolerances, out: &mut Vec<(Flag, String)>) {
                 Flag::AboveReference,
                 format!(
                     "clear point {} is {:.1} °C above the reference {} (tolerance {:.1} °C)",
-                    celsius(c), c - r, celsius(r), t.above_reference_c
+                    celsius(c),
+                    c - r,
+                    celsius(r),
+                    t.above_reference_c
                 ),
             ));
         }
@@ -174,10 +205,16 @@ fn suspicion_flags(a: &Assessed, t: &Tolerances, out: &mut Vec<(Flag, String)>) 
     let depressed = a.depression_c.filter(|d| *d > t.impure_depression_c);
     let mut why = Vec::new();
     if let Some(w) = broad {
-        why.push(format!("the range is {w:.1} °C wide (limit {:.1})", t.impure_width_c));
+        why.push(format!(
+            "the range is {w:.1} °C wide (limit {:.1})",
+            t.impure_width_c
+        ));
     }
     if let Some(d) = depressed {
-        why.push(format!("the clear point is {d:.1} °C below the reference (limit {:.1})", t.impure_depression_c));
+        why.push(format!(
+            "the clear point is {d:.1} °C below the reference (limit {:.1})",
+            t.impure_depression_c
+        ));
     }
     if !why.is_empty() {
         match a.recovery_pct.filter(|r| *r >= t.wet_recovery_pct) {
@@ -188,8 +225,14 @@ fn suspicion_flags(a: &Assessed, t: &Tolerances, out: &mut Vec<(Flag, String)>) 
             None => out.push((Flag::LikelyImpure, format!("{} at a normal mass", why.join(" and ")))),
         }
     }
-    if let Some(r) = a.recovery_pct.filter(|r| *r >= 0.0 && *r < t.low_recovery_pct) {
-        out.push((Flag::LowRecovery, format!("recovery {r:.1} % is below {:.0} %", t.low_recovery_pct)));
+    if let Some(r) = a
+        .recovery_pct
+        .filter(|r| *r >= 0.0 && *r < t.low_recovery_pct)
+    {
+        out.push((
+            Flag::LowRecovery,
+            format!("recovery {r:.1} % is below {:.0} %", t.low_recovery_pct),
+        ));
     }
 }
 
@@ -211,7 +254,10 @@ pub fn assess(sub: Submission, ctx: &Context) -> Assessed {
     }
     if let (Some(reported), Some(rec)) = (a.submission.reported_recovery_pct, a.recovery_pct) {
         if measures::reported_as_percent(reported, rec, ctx.tolerances.recovery_mismatch_pct).1 {
-            a.submission.notes.push(format!("reported recovery {reported} read as a fraction ({:.1} %)", reported * 100.0));
+            a.submission.notes.push(format!(
+                "reported recovery {reported} read as a fraction ({:.1} %)",
+                reported * 100.0
+            ));
         }
     }
     entry_flags(&a, ctx.tolerances, &mut flags);
@@ -224,13 +270,22 @@ fn mark_duplicates(rows: &mut [Assessed]) {
     let mut first: HashMap<(String, String), usize> = HashMap::new();
     for i in 0..rows.len() {
         let s = &rows[i].submission;
-        let Some(id) = s.student_id.as_deref().map(str::trim).filter(|x| !x.is_empty()) else { continue };
+        let Some(id) = s
+            .student_id
+            .as_deref()
+            .map(str::trim)
+            .filter(|x| !x.is_empty())
+        else {
+            continue;
+        };
         let key = (s.section.clone(), id.to_string());
         match first.get(&key) {
             Some(&j) => {
                 let earlier = &rows[j].submission;
                 let at = match &earlier.sheet {
-                    Some(sheet) => format!("{} sheet \"{}\" row {}", earlier.source, sheet, earlier.row),
+                    Some(sheet) => {
+                        format!("{} sheet \"{}\" row {}", earlier.source, sheet, earlier.row)
+                    }
                     None => format!("{} row {}", earlier.source, earlier.row),
                 };
                 let note = format!("this id already appears in section {} at {}", key.0, at);

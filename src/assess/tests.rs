@@ -21,7 +21,12 @@ fn base() -> Submission {
 fn run(sub: Submission) -> Assessed {
     let lib = Library::builtin();
     let t = Tolerances::default();
-    let ctx = Context { library: &lib, default_compound: Some("benzoic acid"), accepted_mp_c: None, tolerances: &t };
+    let ctx = Context {
+        library: &lib,
+        default_compound: Some("benzoic acid"),
+        accepted_mp_c: None,
+        tolerances: &t,
+    };
     assess_all(vec![sub], &ctx).remove(0)
 }
 
@@ -41,30 +46,57 @@ fn a_clean_benzoic_acid_row_has_no_flags() {
 
 #[test]
 fn recovery_over_100_names_both_masses() {
-    let a = run(Submission { crude_mass_g: Some(3.02), recovered_mass_g: Some(3.41), ..base() });
+    let a = run(Submission {
+        crude_mass_g: Some(3.02),
+        recovered_mass_g: Some(3.41),
+        ..base()
+    });
     assert!(a.has(Flag::RecoveryOver100));
-    let note = &a.flags.iter().find(|(f, _)| *f == Flag::RecoveryOver100).unwrap().1;
+    let note = &a
+        .flags
+        .iter()
+        .find(|(f, _)| *f == Flag::RecoveryOver100)
+        .unwrap()
+        .1;
     assert_eq!(note, "recovered 3.41 g exceeds crude 3.02 g");
 }
 
 #[test]
 fn inverted_and_above_reference() {
-    let a = run(Submission { mp_onset_c: Some(124.0), mp_clear_c: Some(123.6), ..base() });
+    let a = run(Submission {
+        mp_onset_c: Some(124.0),
+        mp_clear_c: Some(123.6),
+        ..base()
+    });
     // 123.6 > 122.4 + 1.0 (hand-worked): above-reference; 124.0 > 123.6: inverted
     assert_eq!(codes(&a), vec!["above-reference", "range-inverted"]);
-    let b = run(Submission { mp_clear_c: Some(123.4), ..base() });
-    assert!(!b.has(Flag::AboveReference), "123.4 is exactly at the tolerance, not above it");
+    let b = run(Submission {
+        mp_clear_c: Some(123.4),
+        ..base()
+    });
+    assert!(
+        !b.has(Flag::AboveReference),
+        "123.4 is exactly at the tolerance, not above it"
+    );
 }
 
 #[test]
 fn nonpositive_missing_and_unreadable() {
-    let a = run(Submission { crude_mass_g: Some(0.0), recovered_mass_g: None, ..base() });
+    let a = run(Submission {
+        crude_mass_g: Some(0.0),
+        recovered_mass_g: None,
+        ..base()
+    });
     assert_eq!(codes(&a), vec!["missing-value", "nonpositive-mass"]);
     assert_eq!(a.recovery_pct, None);
     let b = run(Submission {
         crude_mass_g: None,
         student_id: None,
-        unreadable: vec![Unreadable { field: Field::CrudeMass, cell: "B2".into(), found: "the error #DIV/0!".into() }],
+        unreadable: vec![Unreadable {
+            field: Field::CrudeMass,
+            cell: "B2".into(),
+            found: "the error #DIV/0!".into(),
+        }],
         ..base()
     });
     assert_eq!(codes(&b), vec!["missing-value", "unreadable-value"]);
@@ -74,10 +106,18 @@ fn nonpositive_missing_and_unreadable() {
 
 #[test]
 fn unknown_compound() {
-    let a = run(Submission { compound: Some("unobtainium".into()), ..base() });
+    let a = run(Submission {
+        compound: Some("unobtainium".into()),
+        ..base()
+    });
     assert_eq!(codes(&a), vec!["unknown-compound"]);
     assert_eq!(a.reference_mp_c, None);
-    let b = run(Submission { compound: Some("Acetanilide".into()), mp_onset_c: Some(113.0), mp_clear_c: Some(114.0), ..base() });
+    let b = run(Submission {
+        compound: Some("Acetanilide".into()),
+        mp_onset_c: Some(113.0),
+        mp_clear_c: Some(114.0),
+        ..base()
+    });
     // acetanilide accepted 114.3 °C (library), so 113.0-114.0 is clean
     assert_eq!(b.compound.as_deref(), Some("acetanilide"));
     assert!(b.flags.is_empty(), "{:?}", b.flags);
@@ -86,12 +126,24 @@ fn unknown_compound() {
 #[test]
 fn recovery_mismatch_and_fractions() {
     // 100 x 2.31 / 3.02 = 76.49 %; 74.0 differs by 2.49 points > 1.0
-    let a = run(Submission { reported_recovery_pct: Some(74.0), ..base() });
+    let a = run(Submission {
+        reported_recovery_pct: Some(74.0),
+        ..base()
+    });
     assert_eq!(codes(&a), vec!["recovery-mismatch"]);
-    assert_eq!(a.flags[0].1, "reported 74.0 % but 100 x 2.31 / 3.02 = 76.5 %");
-    let b = run(Submission { reported_recovery_pct: Some(76.0), ..base() });
+    assert_eq!(
+        a.flags[0].1,
+        "reported 74.0 % but 100 x 2.31 / 3.02 = 76.5 %"
+    );
+    let b = run(Submission {
+        reported_recovery_pct: Some(76.0),
+        ..base()
+    });
     assert!(b.flags.is_empty());
-    let c = run(Submission { reported_recovery_pct: Some(0.765), ..base() });
+    let c = run(Submission {
+        reported_recovery_pct: Some(0.765),
+        ..base()
+    });
     assert!(c.flags.is_empty());
     assert_eq!(c.submission.notes.len(), 1);
 }
@@ -99,13 +151,33 @@ fn recovery_mismatch_and_fractions() {
 #[test]
 fn wet_versus_impure_versus_low() {
     // Heavy (104 %) and broad (115-119, 4 °C wide): wet, not impure
-    let wet = run(Submission { crude_mass_g: Some(2.50), recovered_mass_g: Some(2.60), mp_onset_c: Some(115.0), mp_clear_c: Some(119.0), ..base() });
-    assert!(wet.has(Flag::LikelyWet) && !wet.has(Flag::LikelyImpure), "{:?}", wet.flags);
+    let wet = run(Submission {
+        crude_mass_g: Some(2.50),
+        recovered_mass_g: Some(2.60),
+        mp_onset_c: Some(115.0),
+        mp_clear_c: Some(119.0),
+        ..base()
+    });
+    assert!(
+        wet.has(Flag::LikelyWet) && !wet.has(Flag::LikelyImpure),
+        "{:?}",
+        wet.flags
+    );
     // Normal mass (70 %), 114-119: impure
-    let impure = run(Submission { crude_mass_g: Some(3.00), recovered_mass_g: Some(2.10), mp_onset_c: Some(114.0), mp_clear_c: Some(119.0), ..base() });
+    let impure = run(Submission {
+        crude_mass_g: Some(3.00),
+        recovered_mass_g: Some(2.10),
+        mp_onset_c: Some(114.0),
+        mp_clear_c: Some(119.0),
+        ..base()
+    });
     assert_eq!(codes(&impure), vec!["likely-impure"]);
     // 1.20 / 3.00 = 40 % < 50 %
-    let low = run(Submission { recovered_mass_g: Some(1.20), crude_mass_g: Some(3.0), ..base() });
+    let low = run(Submission {
+        recovered_mass_g: Some(1.20),
+        crude_mass_g: Some(3.0),
+        ..base()
+    });
     assert_eq!(codes(&low), vec!["low-recovery"]);
 }
 
@@ -113,11 +185,24 @@ fn wet_versus_impure_versus_low() {
 fn duplicates_in_the_same_section_only() {
     let lib = Library::builtin();
     let t = Tolerances::default();
-    let ctx = Context { library: &lib, default_compound: Some("benzoic acid"), accepted_mp_c: None, tolerances: &t };
+    let ctx = Context {
+        library: &lib,
+        default_compound: Some("benzoic acid"),
+        accepted_mp_c: None,
+        tolerances: &t,
+    };
     let rows = vec![
         base(),
-        Submission { student_id: Some(" s1 ".into()), row: 3, ..base() },
-        Submission { section: "B".into(), row: 4, ..base() },
+        Submission {
+            student_id: Some(" s1 ".into()),
+            row: 3,
+            ..base()
+        },
+        Submission {
+            section: "B".into(),
+            row: 4,
+            ..base()
+        },
         Submission { row: 5, ..base() },
     ];
     let out = assess_all(rows, &ctx);
@@ -130,15 +215,36 @@ fn duplicates_in_the_same_section_only() {
 fn accepted_value_overrides_only_the_experiment_compound() {
     let lib = Library::builtin();
     let t = Tolerances::default();
-    let ctx = Context { library: &lib, default_compound: Some("benzoic acid"), accepted_mp_c: Some(122.0), tolerances: &t };
-    let out = assess_all(vec![base(), Submission { compound: Some("acetanilide".into()), ..base() }], &ctx);
+    let ctx = Context {
+        library: &lib,
+        default_compound: Some("benzoic acid"),
+        accepted_mp_c: Some(122.0),
+        tolerances: &t,
+    };
+    let out = assess_all(
+        vec![
+            base(),
+            Submission {
+                compound: Some("acetanilide".into()),
+                ..base()
+            },
+        ],
+        &ctx,
+    );
     assert_eq!(out[0].reference_mp_c, Some(122.0));
     assert_eq!(out[1].reference_mp_c, Some(114.3));
 }
 
 #[test]
 fn flags_are_in_alphabetical_order() {
-    let a = run(Submission { student_id: None, crude_mass_g: Some(2.0), recovered_mass_g: Some(2.5), mp_onset_c: Some(125.0), mp_clear_c: Some(124.0), ..base() });
+    let a = run(Submission {
+        student_id: None,
+        crude_mass_g: Some(2.0),
+        recovered_mass_g: Some(2.5),
+        mp_onset_c: Some(125.0),
+        mp_clear_c: Some(124.0),
+        ..base()
+    });
     let c = codes(&a);
     let mut sorted = c.clone();
     sorted.sort();

@@ -12,9 +12,18 @@ pub fn write_atomic<F>(path: &Path, fill: F) -> Result<(), WriteError>
 where
     F: FnOnce(&mut dyn Write) -> std::io::Result<()>,
 {
-    let err = |source| WriteError { path: path.to_path_buf(), source };
-    let dir = path.parent().filter(|p| !p.as_os_str().is_empty()).unwrap_or(Path::new("."));
-    let name = path.file_name().and_then(|n| n.to_str()).unwrap_or("output");
+    let err = |source| WriteError {
+        path: path.to_path_buf(),
+        source,
+    };
+    let dir = path
+        .parent()
+        .filter(|p| !p.as_os_str().is_empty())
+        .unwrap_or(Path::new("."));
+    let name = path
+        .file_name()
+        .and_then(|n| n.to_str())
+        .unwrap_or("output");
     let tmp = dir.join(format!(".{name}.{}.partial", std::process::id()));
     let result = (|| {
         let mut w = BufWriter::new(File::create(&tmp)?);
@@ -44,6 +53,10 @@ mod tests {
         });
         assert!(failed.is_err());
         assert_eq!(std::fs::read(&p).unwrap(), b"old");
-        assert_eq!(std::fs::read_dir(dir.path()).unwrap().count(), 1, "no temporary file left");
+        assert_eq!(
+            std::fs::read_dir(dir.path()).unwrap().count(),
+            1,
+            "no temporary file left"
+        );
     }
 }

@@ -64,11 +64,19 @@ pub fn layouts(sheets: &[SheetReport], style: Style) -> String {
         );
         for c in &s.layout.columns {
             let target = match (c.field, &c.note) {
-                (Some(f), _) => format!("{}{}", f.label(), if c.explicit { " (mapped)" } else { "" }),
+                (Some(f), _) => {
+                    format!("{}{}", f.label(), if c.explicit { " (mapped)" } else { "" })
+                }
                 (None, Some(note)) => style.dim(note),
                 (None, None) => style.dim("not used"),
             };
-            let _ = writeln!(out, "    {:>3}  {:<32} -> {}", c.letter, format!("\"{}\"", c.header), target);
+            let _ = writeln!(
+                out,
+                "    {:>3}  {:<32} -> {}",
+                c.letter,
+                format!("\"{}\"", c.header),
+                target
+            );
         }
     }
     out
@@ -103,7 +111,11 @@ pub fn flagged(rows: &[Assessed], style: Style) -> String {
                     Severity::Impossible => ("!", style.impossible(flag.code())),
                     Severity::Suspicious => ("?", style.suspicious(flag.code())),
                 };
-                let who = if i == 0 { format!("row {:<5} {:<12}", a.submission.row, id) } else { " ".repeat(22) };
+                let who = if i == 0 {
+                    format!("row {:<5} {:<12}", a.submission.row, id)
+                } else {
+                    " ".repeat(22)
+                };
                 let _ = writeln!(out, "      {who} {mark} {code}: {note}");
             }
         }
@@ -114,7 +126,10 @@ pub fn flagged(rows: &[Assessed], style: Style) -> String {
 /// Totals and the problems, one line each.
 pub fn summary(rows: &[Assessed], problems: &[Problem], files: usize) -> String {
     let impossible = rows.iter().filter(|a| a.is_impossible()).count();
-    let suspicious = rows.iter().filter(|a| !a.is_impossible() && !a.flags.is_empty()).count();
+    let suspicious = rows
+        .iter()
+        .filter(|a| !a.is_impossible() && !a.flags.is_empty())
+        .count();
     let mut out = format!(
         "{} submissions from {} files: {} with impossible entries (!), {} suspicious only (?), {} clean\n",
         rows.len(),

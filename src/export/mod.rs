@@ -16,7 +16,9 @@ pub fn neutralise(text: &str) -> std::borrow::Cow<'_, str> {
 
 /// A number at full precision (the shortest text that reads back exactly), or nothing.
 pub fn number(v: Option<f64>) -> String {
-    v.filter(|x| x.is_finite()).map(|x| format!("{x}")).unwrap_or_default()
+    v.filter(|x| x.is_finite())
+        .map(|x| format!("{x}"))
+        .unwrap_or_default()
 }
 
 #[cfg(test)]

@@ -10,16 +10,37 @@ use crate::error::WriteError;
 
 /// The contract's columns, in order, then the columns added since.
 pub const COLUMNS: [&str; 24] = [
-    "source", "sheet", "row", "section", "student_id", "student_name", "bench", "compound",
-    "crude_mass_g", "recovered_mass_g", "solvent_volume_ml", "mp_onset_c", "mp_clear_c",
-    "reported_recovery_pct", "recovery_pct", "range_width_c", "reference_mp_c", "depression_c",
-    "flags", "flag_notes",
+    "source",
+    "sheet",
+    "row",
+    "section",
+    "student_id",
+    "student_name",
+    "bench",
+    "compound",
+    "crude_mass_g",
+    "recovered_mass_g",
+    "solvent_volume_ml",
+    "mp_onset_c",
+    "mp_clear_c",
+    "reported_recovery_pct",
+    "recovery_pct",
+    "range_width_c",
+    "reference_mp_c",
+    "depression_c",
+    "flags",
+    "flag_notes",
     // added after the contract
-    "assistant", "apparatus", "solvent", "notes",
+    "assistant",
+    "apparatus",
+    "solvent",
+    "notes",
 ];
 
 fn text(v: &Option<String>) -> String {
-    v.as_deref().map(|s| neutralise(s).into_owned()).unwrap_or_default()
+    v.as_deref()
+        .map(|s| neutralise(s).into_owned())
+        .unwrap_or_default()
 }
 
 /// The fields of one row, in column order.

@@ -68,7 +68,11 @@ fn record(a: &Assessed) -> Record<'_> {
         reference_mp_c: a.reference_mp_c,
         depression_c: a.depression_c,
         flags: a.flags.iter().map(|(f, _)| f.code()).collect(),
-        flag_notes: a.flags.iter().map(|(f, n)| format!("{}: {n}", f.code())).collect(),
+        flag_notes: a
+            .flags
+            .iter()
+            .map(|(f, n)| format!("{}: {n}", f.code()))
+            .collect(),
         assistant: s.assistant.as_deref(),
         apparatus: s.apparatus.as_deref(),
         solvent: s.solvent.as_deref(),

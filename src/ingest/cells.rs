@@ -65,7 +65,19 @@ pub fn format_number(v: f64) -> String {
 pub fn looks_like_error(text: &str) -> bool {
     matches!(
         text.trim(),
-        "#DIV/0!" | "#N/A" | "#NAME?" | "#NULL!" | "#NUM!" | "#REF!" | "#VALUE!" | "#N/A!" | "Err:502" | "Err:504" | "Err:508" | "Err:511" | "#GETTING_DATA"
+        "#DIV/0!"
+            | "#N/A"
+            | "#NAME?"
+            | "#NULL!"
+            | "#NUM!"
+            | "#REF!"
+            | "#VALUE!"
+            | "#N/A!"
+            | "Err:502"
+            | "Err:504"
+            | "Err:508"
+            | "Err:511"
+            | "#GETTING_DATA"
     )
 }
 
@@ -86,7 +98,10 @@ impl RawRow {
     }
 
     pub fn non_empty(&self) -> impl Iterator<Item = (u32, &Cell)> {
-        self.cells.iter().filter(|(_, c)| !c.is_empty()).map(|(i, c)| (*i, c))
+        self.cells
+            .iter()
+            .filter(|(_, c)| !c.is_empty())
+            .map(|(i, c)| (*i, c))
     }
 }
 
@@ -100,7 +115,10 @@ pub struct RawSheet {
 /// Builds sparse rows from cells in any order, dropping empty cells.
 pub fn rows_from_cells(mut cells: Vec<(u32, u32, Cell)>) -> Vec<RawRow> {
     cells.retain(|(_, _, c)| !c.is_empty());
-    if !cells.windows(2).all(|w| (w[0].0, w[0].1) <= (w[1].0, w[1].1)) {
+    if !cells
+        .windows(2)
+        .all(|w| (w[0].0, w[0].1) <= (w[1].0, w[1].1))
+    {
         cells.sort_by_key(|(r, c, _)| (*r, *c));
     }
     let mut rows: Vec<RawRow> = Vec::new();
@@ -182,7 +200,10 @@ mod tests {
 
     #[test]
     fn ids_typed_as_numbers_read_as_whole_numbers() {
-        assert_eq!(Cell::Number(20231234.0).as_text().as_deref(), Some("20231234"));
+        assert_eq!(
+            Cell::Number(20231234.0).as_text().as_deref(),
+            Some("20231234")
+        );
         assert_eq!(Cell::Number(2.5).as_text().as_deref(), Some("2.5"));
     }
 }

@@ -49,10 +49,17 @@ pub fn sniff_delimiter(text: &str, is_tsv: bool) -> u8 {
     if is_tsv {
         return b'\t';
     }
-    let lines: Vec<&str> = text.lines().filter(|l| !l.trim().is_empty()).take(30).collect();
+    let lines: Vec<&str> = text
+        .lines()
+        .filter(|l| !l.trim().is_empty())
+        .take(30)
+        .collect();
     let mut best = (b',', 0usize, 0usize);
     for delim in [',', ';', '\t'] {
-        let counts: Vec<usize> = lines.iter().map(|l| count_outside_quotes(l, delim)).collect();
+        let counts: Vec<usize> = lines
+            .iter()
+            .map(|l| count_outside_quotes(l, delim))
+            .collect();
         let mut modal = counts.clone();
         modal.sort_unstable();
         let mode = modal
@@ -83,7 +90,9 @@ fn sniff_decimal(rows: &[RawRow], delimiter: u8) -> Decimal {
                 let digits_around = |sep: char| {
                     t.split_once(sep).is_some_and(|(a, b)| {
                         !a.is_empty()
-                            && a.trim_start_matches('-').bytes().all(|x| x.is_ascii_digit())
+                            && a.trim_start_matches('-')
+                                .bytes()
+                                .all(|x| x.is_ascii_digit())
                             && !b.is_empty()
                             && b.len() != 3
                             && b.bytes().all(|x| x.is_ascii_digit())
@@ -113,7 +122,12 @@ pub fn read_delimited(bytes: &[u8], is_tsv: bool) -> Result<Delimited, String> {
         .flexible(true)
         .delimiter(delimiter)
         .from_reader(text.as_bytes());
-    let newlines: Vec<usize> = text.bytes().enumerate().filter(|(_, b)| *b == b'\n').map(|(i, _)| i).collect();
+    let newlines: Vec<usize> = text
+        .bytes()
+        .enumerate()
+        .filter(|(_, b)| *b == b'\n')
+        .map(|(i, _)| i)
+        .collect();
     let bytes = text.as_bytes();
     // The reader's own line count lags over blank lines: count from the record's first byte.
     let line_of = |offset: u64| {

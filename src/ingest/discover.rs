@@ -28,7 +28,10 @@ fn walk(dir: &Path, exclude: &[PathBuf], out: &mut Vec<PathBuf>, missing: &mut V
     let entries = match std::fs::read_dir(dir) {
         Ok(e) => e,
         Err(e) => {
-            missing.push(Missing { path: dir.to_path_buf(), message: format!("cannot list the folder: {e}") });
+            missing.push(Missing {
+                path: dir.to_path_buf(),
+                message: format!("cannot list the folder: {e}"),
+            });
             return;
         }
     };
@@ -48,14 +51,19 @@ fn walk(dir: &Path, exclude: &[PathBuf], out: &mut Vec<PathBuf>, missing: &mut V
 }
 
 fn is_excluded(path: &Path, exclude: &[PathBuf]) -> bool {
-    let Ok(canon) = path.canonicalize() else { return false };
+    let Ok(canon) = path.canonicalize() else {
+        return false;
+    };
     exclude.iter().any(|x| canon.starts_with(x))
 }
 
 /// Expands the inputs into files. Folders are searched; named files are taken as they are.
 /// `exclude` holds folders never read (the output folder), canonicalized or not.
 pub fn discover(inputs: &[PathBuf], exclude: &[PathBuf]) -> (Vec<PathBuf>, Vec<Missing>) {
-    let exclude: Vec<PathBuf> = exclude.iter().filter_map(|p| p.canonicalize().ok()).collect();
+    let exclude: Vec<PathBuf> = exclude
+        .iter()
+        .filter_map(|p| p.canonicalize().ok())
+        .collect();
     let mut files = Vec::new();
     let mut missing = Vec::new();
     for input in inputs {
@@ -64,7 +72,10 @@ pub fn discover(inputs: &[PathBuf], exclude: &[PathBuf]) -> (Vec<PathBuf>, Vec<M
         } else if input.exists() {
             files.push(input.clone());
         } else {
-            missing.push(Missing { path: input.clone(), message: "no such file or folder".into() });
+            missing.push(Missing {
+                path: input.clone(),
+                message: "no such file or folder".into(),
+            });
         }
     }
     (files, missing)
@@ -79,10 +90,21 @@ mod tests {
         let dir = tempfile::tempdir().unwrap();
         let root = dir.path();
         std::fs::create_dir_all(root.join("b/graded")).unwrap();
-        for f in ["b/z.csv", "a.xlsx", "~$a.xlsx", ".hidden.csv", ".~lock.a.xlsx#", "notes.txt", "b/graded/results.csv"] {
+        for f in [
+            "b/z.csv",
+            "a.xlsx",
+            "~$a.xlsx",
+            ".hidden.csv",
+            ".~lock.a.xlsx#",
+            "notes.txt",
+            "b/graded/results.csv",
+        ] {
             std::fs::write(root.join(f), b"x").unwrap();
         }
-        let (files, missing) = discover(&[root.to_path_buf(), root.join("nope.csv")], &[root.join("b/graded")]);
+        let (files, missing) = discover(
+            &[root.to_path_buf(), root.join("nope.csv")],
+            &[root.join("b/graded")],
+        );
         let names: Vec<String> = files
             .iter()
             .map(|p| p.strip_prefix(root).unwrap().display().to_string())

@@ -121,7 +121,22 @@ pub fn parse_header(text: &str) -> ParsedHeader {
     let words = rest
         .split(|c: char| !c.is_alphanumeric())
         .filter(|w| !w.is_empty())
-        .filter(|w| !matches!(*w, "of" | "the" | "in" | "a" | "your" | "observed" | "measured" | "exp" | "experimental" | "obtained" | "enter" | "value"))
+        .filter(|w| {
+            !matches!(
+                *w,
+                "of" | "the"
+                    | "in"
+                    | "a"
+                    | "your"
+                    | "observed"
+                    | "measured"
+                    | "exp"
+                    | "experimental"
+                    | "obtained"
+                    | "enter"
+                    | "value"
+            )
+        })
         .map(str::to_string)
         .collect();
     ParsedHeader { words, unit }
@@ -143,16 +158,44 @@ impl Words<'_> {
 
 const MP_WORDS: [&str; 5] = ["mp", "melting", "melt", "fusion", "meltingpoint"];
 const ONSET_WORDS: [&str; 10] = [
-    "onset", "start", "begin", "begins", "beginning", "initial", "low", "lower", "from", "first",
+    "onset",
+    "start",
+    "begin",
+    "begins",
+    "beginning",
+    "initial",
+    "low",
+    "lower",
+    "from",
+    "first",
 ];
 const CLEAR_WORDS: [&str; 11] = [
-    "clear", "clearing", "end", "final", "high", "upper", "to", "last", "complete", "completion",
+    "clear",
+    "clearing",
+    "end",
+    "final",
+    "high",
+    "upper",
+    "to",
+    "last",
+    "complete",
+    "completion",
     "meniscus",
 ];
 const MASS_WORDS: [&str; 5] = ["mass", "weight", "wt", "grams", "masse"];
 const RECOVERED_WORDS: [&str; 12] = [
-    "recovered", "recovery", "pure", "purified", "recrystallized", "recrystallised", "final",
-    "dry", "dried", "after", "yield", "crystals",
+    "recovered",
+    "recovery",
+    "pure",
+    "purified",
+    "recrystallized",
+    "recrystallised",
+    "final",
+    "dry",
+    "dried",
+    "after",
+    "yield",
+    "crystals",
 ];
 const CRUDE_WORDS: [&str; 6] = ["crude", "impure", "starting", "initial", "before", "raw"];
 
@@ -167,13 +210,29 @@ pub fn classify(h: &ParsedHeader) -> HeaderMeaning {
     if w.any(&["apparatus", "instrument", "device", "thermometer"]) {
         return F(Field::Apparatus);
     }
-    if w.any(&["bench", "station", "workstation", "hood", "desk", "drawer", "locker"]) {
+    if w.any(&[
+        "bench",
+        "station",
+        "workstation",
+        "hood",
+        "desk",
+        "drawer",
+        "locker",
+    ]) {
         return F(Field::Bench);
     }
     if w.any(&["section", "sec", "sect"]) || w.only(&["lab", "group", "number"]) && w.has("group") {
         return F(Field::Section);
     }
-    if w.any(&["ta", "gta", "assistant", "instructor", "demonstrator", "tutor", "grader"]) {
+    if w.any(&[
+        "ta",
+        "gta",
+        "assistant",
+        "instructor",
+        "demonstrator",
+        "tutor",
+        "grader",
+    ]) {
         return F(Field::Assistant);
     }
     if mp || temp || w.any(&["onset", "clearing", "meniscus"]) || w.only(&["clear", "point"]) {
@@ -205,7 +264,9 @@ pub fn classify(h: &ParsedHeader) -> HeaderMeaning {
         let recovered = w.any(&RECOVERED_WORDS);
         match (crude, recovered) {
             (true, false) => return F(Field::CrudeMass),
-            (false, true) if mass || w.only(&["recovered", "recovery", "yield", "pure", "crystals"]) => {
+            (false, true)
+                if mass || w.only(&["recovered", "recovery", "yield", "pure", "crystals"]) =>
+            {
                 return F(Field::RecoveredMass)
             }
             (true, true) if mass => return Ambiguous(Field::CrudeMass, Field::RecoveredMass),
@@ -217,8 +278,18 @@ pub fn classify(h: &ParsedHeader) -> HeaderMeaning {
     }
     let id_words = ["id", "number", "num", "code"];
     if w.has("student") && w.any(&id_words)
-        || w.only(&["id"])
-        || w.any(&["sid", "netid", "matriculation", "matric", "registration", "username", "login"])
+        || w.has("id")
+        || w.any(&[
+            "sid",
+            "netid",
+            "matriculation",
+            "matric",
+            "matrikel",
+            "matrikelnummer",
+            "registration",
+            "username",
+            "login",
+        ])
     {
         return F(Field::StudentId);
     }
@@ -296,6 +367,8 @@ mod tests {
             ("Student #", StudentId),
             ("Student ID", StudentId),
             ("ID", StudentId),
+            ("Matrikel ID", StudentId),
+            ("Campus ID number", StudentId),
             ("Name", StudentName),
             ("Student", StudentName),
             ("Lab section", Section),
@@ -329,12 +402,23 @@ mod tests {
 
     #[test]
     fn units_are_taken_from_the_header() {
-        assert_eq!(parse_header("Crude product mass (g)").unit, Some(Unit::Mass(1.0)));
-        assert_eq!(parse_header("Mass recovered / mg").unit, Some(Unit::Mass(0.001)));
-        assert_eq!(parse_header("Crude mass in kg").unit, Some(Unit::Mass(1000.0)));
+        assert_eq!(
+            parse_header("Crude product mass (g)").unit,
+            Some(Unit::Mass(1.0))
+        );
+        assert_eq!(
+            parse_header("Mass recovered / mg").unit,
+            Some(Unit::Mass(0.001))
+        );
+        assert_eq!(
+            parse_header("Crude mass in kg").unit,
+            Some(Unit::Mass(1000.0))
+        );
         assert_eq!(
             parse_header("MP start [°F]").unit,
-            Some(Unit::Temperature(super::super::values::TempUnit::Fahrenheit))
+            Some(Unit::Temperature(
+                super::super::values::TempUnit::Fahrenheit
+            ))
         );
     }
 
@@ -355,9 +439,15 @@ mod tests {
 
     #[test]
     fn explicit_mapping_wins() {
-        let pairs = [("Wt A".to_string(), "crude_mass".to_string()), ("Mass (g)".to_string(), "ignore".to_string())];
+        let pairs = [
+            ("Wt A".to_string(), "crude_mass".to_string()),
+            ("Mass (g)".to_string(), "ignore".to_string()),
+        ];
         let o = ColumnOverrides::from_pairs(pairs.iter().map(|(a, b)| (a, b))).unwrap();
-        assert_eq!(meaning("wt  a", &o), (HeaderMeaning::Field(Field::CrudeMass), true));
+        assert_eq!(
+            meaning("wt  a", &o),
+            (HeaderMeaning::Field(Field::CrudeMass), true)
+        );
         assert_eq!(meaning("Mass (g)", &o), (HeaderMeaning::Ignored, true));
         let bad = [("x".to_string(), "crude".to_string())];
         assert!(ColumnOverrides::from_pairs(bad.iter().map(|(a, b)| (a, b))).is_err());

@@ -73,7 +73,12 @@ pub fn ingest(inputs: &[PathBuf], exclude: &[PathBuf], columns: &ColumnOverrides
     let (files, missing) = discover::discover(inputs, exclude);
     let mut out = Ingested::default();
     for m in missing {
-        out.problems.push(Problem { file: m.path.display().to_string(), sheet: None, message: m.message, fatal: true });
+        out.problems.push(Problem {
+            file: m.path.display().to_string(),
+            sheet: None,
+            message: m.message,
+            fatal: true,
+        });
     }
     for file in &files {
         ingest_file(file, columns, &mut out);
@@ -83,25 +88,39 @@ pub fn ingest(inputs: &[PathBuf], exclude: &[PathBuf], columns: &ColumnOverrides
 }
 
 fn file_stem(path: &Path) -> String {
-    path.file_stem().and_then(|s| s.to_str()).unwrap_or("").to_string()
+    path.file_stem()
+        .and_then(|s| s.to_str())
+        .unwrap_or("")
+        .to_string()
 }
 
 fn ingest_file(path: &Path, columns: &ColumnOverrides, out: &mut Ingested) {
     let source = path.display().to_string();
-    let fatal = |message: String| Problem { file: source.clone(), sheet: None, message, fatal: true };
+    let fatal = |message: String| Problem {
+        file: source.clone(),
+        sheet: None,
+        message,
+        fatal: true,
+    };
     let len = std::fs::metadata(path).map(|m| m.len()).unwrap_or(0);
     if len == 0 {
         out.problems.push(fatal("the file is empty".into()));
         return;
     }
-    let ext = path.extension().and_then(|e| e.to_str()).unwrap_or("").to_ascii_lowercase();
+    let ext = path
+        .extension()
+        .and_then(|e| e.to_str())
+        .unwrap_or("")
+        .to_ascii_lowercase();
     let before = out.sheets.len();
     if let Some(format) = Format::from_extension(&ext) {
         match workbook::read_workbook(path, format) {
             Ok(sheets) => {
                 for s in sheets {
                     match s.result {
-                        Ok(sheet) => ingest_sheet(&source, &sheet, Decimal::Point, None, columns, out),
+                        Ok(sheet) => {
+                            ingest_sheet(&source, &sheet, Decimal::Point, None, columns, out)
+                        }
                         Err(message) => out.problems.push(Problem {
                             file: source.clone(),
                             sheet: Some(s.name),
@@ -124,8 +143,19 @@ fn ingest_file(path: &Path, columns: &ColumnOverrides, out: &mut Ingested) {
         match delimited::read_delimited(&bytes, ext == "tsv") {
             Ok(d) => {
                 let stem = file_stem(path);
-                let sheet = RawSheet { name: None, rows: d.sheet.rows };
-                ingest_sheet_named(&source, &sheet, &stem, d.decimal, Some(d.encoding.to_string()), columns, out)
+                let sheet = RawSheet {
+                    name: None,
+                    rows: d.sheet.rows,
+                };
+                ingest_sheet_named(
+                    &source,
+                    &sheet,
+                    &stem,
+                    d.decimal,
+                    Some(d.encoding.to_string()),
+                    columns,
+                    out,
+                )
             }
             Err(message) => return out.problems.push(fatal(message)),
         }
@@ -180,14 +210,25 @@ fn ingest_sheet_named(
             return;
         }
         Err(LayoutError::Ambiguous(message)) => {
-            out.problems.push(Problem { file: source.to_string(), sheet: sheet.name.clone(), message, fatal: true });
+            out.problems.push(Problem {
+                file: source.to_string(),
+                sheet: sheet.name.clone(),
+                message,
+                fatal: true,
+            });
             return;
         }
     };
-    let origin = row::Origin { source, sheet: sheet.name.as_deref(), default_section, decimal };
+    let origin = row::Origin {
+        source,
+        sheet: sheet.name.as_deref(),
+        default_section,
+        decimal,
+    };
     let rows = table::student_rows(sheet, &layout);
     let students = rows.len();
-    out.submissions.extend(rows.into_iter().map(|r| row::read_row(r, &layout, &origin)));
+    out.submissions
+        .extend(rows.into_iter().map(|r| row::read_row(r, &layout, &origin)));
     out.sheets.push(SheetReport {
         source: source.to_string(),
         sheet: sheet.name.clone(),

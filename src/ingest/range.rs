@@ -140,7 +140,15 @@ mod tests {
 
     #[test]
     fn not_ranges() {
-        for t in ["", "melted", "121-", "-", "12 g - 13 g", "121 °C - 122 °F", "#VALUE!"] {
+        for t in [
+            "",
+            "melted",
+            "121-",
+            "-",
+            "12 g - 13 g",
+            "121 °C - 122 °F",
+            "#VALUE!",
+        ] {
             assert_eq!(r(t), None, "{t:?}");
         }
     }

@@ -82,17 +82,26 @@ fn read_number(cell: &Cell, column: &Column, decimal: Decimal) -> Result<Option<
         },
         other => return Err(found_instead(other)),
     };
-    convert(k, value, unit).map(Some).map_err(|u| {
-        format!("{} where {} belongs", u.describe(), describe_kind(k))
-    })
+    convert(k, value, unit)
+        .map(Some)
+        .map_err(|u| format!("{} where {} belongs", u.describe(), describe_kind(k)))
 }
 
 /// Reads a melting-range cell into (onset, clear) in °C; `single` when one value was written.
-fn read_range(cell: &Cell, column: &Column, decimal: Decimal) -> Result<Option<(f64, f64, bool)>, String> {
+fn read_range(
+    cell: &Cell,
+    column: &Column,
+    decimal: Decimal,
+) -> Result<Option<(f64, f64, bool)>, String> {
     let header_scale = match column.unit {
         Some(Unit::Temperature(t)) => t,
         None => TempUnit::Celsius,
-        Some(other) => return Err(format!("a header unit of {} where a temperature belongs", other.describe())),
+        Some(other) => {
+            return Err(format!(
+                "a header unit of {} where a temperature belongs",
+                other.describe()
+            ))
+        }
     };
     match cell {
         Cell::Empty => Ok(None),
@@ -104,7 +113,11 @@ fn read_range(cell: &Cell, column: &Column, decimal: Decimal) -> Result<Option<(
         Cell::Text(t) => match parse_range(t, decimal) {
             Some(r) => {
                 let scale = r.unit.unwrap_or(header_scale);
-                Ok(Some((scale.to_celsius(r.onset), scale.to_celsius(r.clear), r.single)))
+                Ok(Some((
+                    scale.to_celsius(r.onset),
+                    scale.to_celsius(r.clear),
+                    r.single,
+                )))
             }
             None => Err(found_instead(cell)),
         },
@@ -116,7 +129,11 @@ fn set_text(sub: &mut Submission, field: Field, text: Option<String>) {
     let slot = match field {
         Field::StudentId => &mut sub.student_id,
         Field::StudentName => &mut sub.student_name,
-        Field::Section => return if let Some(t) = text { sub.section = t },
+        Field::Section => {
+            return if let Some(t) = text {
+                sub.section = t
+            }
+        }
         Field::Bench => &mut sub.bench,
         Field::Apparatus => &mut sub.apparatus,
         Field::Assistant => &mut sub.assistant,
@@ -159,21 +176,36 @@ pub fn read_row(row: &RawRow, layout: &Layout, origin: &Origin) -> Submission {
                     sub.mp_onset_c = Some(onset);
                     sub.mp_clear_c = Some(clear);
                     if single {
-                        sub.notes.push(format!("{}: one melting value given; taken as both onset and clear point", at()));
+                        sub.notes.push(format!(
+                            "{}: one melting value given; taken as both onset and clear point",
+                            at()
+                        ));
                     }
                 }
                 Ok(None) => {}
-                Err(found) => sub.unreadable.push(Unreadable { field, cell: at(), found }),
+                Err(found) => sub.unreadable.push(Unreadable {
+                    field,
+                    cell: at(),
+                    found,
+                }),
             }
         } else if field.is_numeric() {
             match read_number(cell, column, origin.decimal) {
                 Ok(v) => set_number(&mut sub, field, v),
-                Err(found) => sub.unreadable.push(Unreadable { field, cell: at(), found }),
+                Err(found) => sub.unreadable.push(Unreadable {
+                    field,
+                    cell: at(),
+                    found,
+                }),
             }
         } else {
             let text = match cell {
                 Cell::Error(_) => {
-                    sub.unreadable.push(Unreadable { field, cell: at(), found: found_instead(cell) });
+                    sub.unreadable.push(Unreadable {
+                        field,
+                        cell: at(),
+                        found: found_instead(cell),
+                    });
                     None
                 }
                 other => other.as_text(),
@@ -199,16 +231,30 @@ mod tests {
             .map(|(c, h)| (0, c as u32, Cell::Text(h.to_string())))
             .collect();
         all.extend(cells.into_iter().enumerate().map(|(c, v)| (1, c as u32, v)));
-        let sheet = RawSheet { name: Some("Sec 2".into()), rows: rows_from_cells(all) };
+        let sheet = RawSheet {
+            name: Some("Sec 2".into()),
+            rows: rows_from_cells(all),
+        };
         let layout = locate(&sheet, &ColumnOverrides::default()).unwrap();
-        let origin = Origin { source: "x.xlsx", sheet: Some("Sec 2"), default_section: "Sec 2", decimal: Decimal::Point };
+        let origin = Origin {
+            source: "x.xlsx",
+            sheet: Some("Sec 2"),
+            default_section: "Sec 2",
+            decimal: Decimal::Point,
+        };
         read_row(&sheet.rows[1], &layout, &origin)
     }
 
     #[test]
     fn units_in_headers_and_cells_convert() {
         let s = one_row(
-            &["Student #", "Crude (mg)", "Mass recovered / g", "MP start (°F)", "MP end (K)"],
+            &[
+                "Student #",
+                "Crude (mg)",
+                "Mass recovered / g",
+                "MP start (°F)",
+                "MP end (K)",
+            ],
             vec![
                 Cell::Number(20231234.0),
                 Cell::Number(3020.0),
@@ -229,7 +275,12 @@ mod tests {
     #[test]
     fn unreadable_cells_are_named() {
         let s = one_row(
-            &["ID", "Crude mass (g)", "Recovered mass (g)", "m.p. range (°C)"],
+            &[
+                "ID",
+                "Crude mass (g)",
+                "Recovered mass (g)",
+                "m.p. range (°C)",
+            ],
             vec![
                 Cell::Text("s9".into()),
                 Cell::Error("#DIV/0!".into()),
@@ -247,7 +298,12 @@ mod tests {
     fn single_value_and_wrong_unit() {
         let s = one_row(
             &["ID", "Crude mass (g)", "Recovered mass (g)", "MP (°C)"],
-            vec![Cell::Text("s1".into()), Cell::Text("25 mL".into()), Cell::Text("n/a".into()), Cell::Number(122.0)],
+            vec![
+                Cell::Text("s1".into()),
+                Cell::Text("25 mL".into()),
+                Cell::Text("n/a".into()),
+                Cell::Number(122.0),
+            ],
         );
         assert_eq!((s.mp_onset_c, s.mp_clear_c), (Some(122.0), Some(122.0)));
         assert_eq!(s.notes.len(), 1);

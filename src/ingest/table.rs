@@ -108,7 +108,9 @@ fn score(cols: &[(Column, HeaderMeaning)]) -> (usize, bool) {
 
 /// Finds the header row and resolves each column, or says why not.
 pub fn locate(sheet: &RawSheet, overrides: &ColumnOverrides) -> Result<Layout, LayoutError> {
-    let mut best: Option<(usize, Vec<(Column, HeaderMeaning)>, usize)> = None;
+    // (position, columns, distinct fields) of the best header row so far
+    type Candidate = (usize, Vec<(Column, HeaderMeaning)>, usize);
+    let mut best: Option<Candidate> = None;
     for (pos, row) in sheet.rows.iter().take(HEADER_SEARCH_ROWS).enumerate() {
         let cols = header_columns(row, overrides);
         let (n, core) = score(&cols);
@@ -143,12 +145,19 @@ fn resolve(cols: Vec<(Column, HeaderMeaning)>) -> Result<Vec<Column>, LayoutErro
         if claims.len() < 2 {
             continue;
         }
-        let explicit: Vec<usize> = claims.iter().copied().filter(|&i| columns[i].explicit).collect();
+        let explicit: Vec<usize> = claims
+            .iter()
+            .copied()
+            .filter(|&i| columns[i].explicit)
+            .collect();
         if explicit.len() == 1 {
             for &i in &claims {
                 if !columns[i].explicit {
                     columns[i].field = None;
-                    columns[i].note = Some(format!("not used: the {} is mapped explicitly to another column", field.label()));
+                    columns[i].note = Some(format!(
+                        "not used: the {} is mapped explicitly to another column",
+                        field.label()
+                    ));
                 }
             }
             continue;
@@ -162,9 +171,13 @@ fn resolve(cols: Vec<(Column, HeaderMeaning)>) -> Result<Vec<Column>, LayoutErro
     let has_pair = columns.iter().any(|c| c.field == Some(Field::MpOnset))
         && columns.iter().any(|c| c.field == Some(Field::MpClear));
     if has_pair {
-        for c in columns.iter_mut().filter(|c| c.field == Some(Field::MpRange)) {
+        for c in columns
+            .iter_mut()
+            .filter(|c| c.field == Some(Field::MpRange))
+        {
             c.field = None;
-            c.note = Some("not used: separate onset and clear-point columns are read instead".into());
+            c.note =
+                Some("not used: separate onset and clear-point columns are read instead".into());
         }
     }
     Ok(columns)
@@ -174,13 +187,39 @@ fn resolve(cols: Vec<(Column, HeaderMeaning)>) -> Result<Vec<Column>, LayoutErro
 fn is_summary_label(text: &str) -> bool {
     let t = text.trim().trim_end_matches(':').trim().to_lowercase();
     const EXACT: [&str; 20] = [
-        "total", "totals", "sum", "mean", "average", "avg", "median", "std", "sd", "stdev",
-        "standard deviation", "class average", "section average", "notes", "note", "comments",
-        "count", "n", "summary", "statistics",
+        "total",
+        "totals",
+        "sum",
+        "mean",
+        "average",
+        "avg",
+        "median",
+        "std",
+        "sd",
+        "stdev",
+        "standard deviation",
+        "class average",
+        "section average",
+        "notes",
+        "note",
+        "comments",
+        "count",
+        "n",
+        "summary",
+        "statistics",
     ];
-    const PREFIX: [&str; 6] = ["total:", "average:", "mean:", "notes:", "note:", "comments:"];
+    const PREFIX: [&str; 6] = [
+        "total:",
+        "average:",
+        "mean:",
+        "notes:",
+        "note:",
+        "comments:",
+    ];
     EXACT.contains(&t.as_str())
-        || PREFIX.iter().any(|p| text.trim().to_lowercase().starts_with(p))
+        || PREFIX
+            .iter()
+            .any(|p| text.trim().to_lowercase().starts_with(p))
         || t.starts_with("n =")
         || t.starts_with("n=")
 }
@@ -241,7 +280,10 @@ mod tests {
                 cells.push((r as u32, c as u32, cell));
             }
         }
-        RawSheet { name: Some("S".into()), rows: rows_from_cells(cells) }
+        RawSheet {
+            name: Some("S".into()),
+            rows: rows_from_cells(cells),
+        }
     }
 
     #[test]
@@ -249,7 +291,12 @@ mod tests {
         let s = sheet(&[
             &["CHEM 2xx Recrystallization", "", ""],
             &[""],
-            &["Student ID", "Crude mass (g)", "Recovered mass (g)", "MP range"],
+            &[
+                "Student ID",
+                "Crude mass (g)",
+                "Recovered mass (g)",
+                "MP range",
+            ],
             &["s1", "3.0", "2.0", "120-121"],
             &["s2", "3.1", "2.2", "119-121"],
             &[""],
@@ -258,13 +305,21 @@ mod tests {
         let layout = locate(&s, &ColumnOverrides::default()).unwrap();
         assert_eq!(layout.header_row, 3);
         let rows = student_rows(&s, &layout);
-        assert_eq!(rows.iter().map(|r| r.index + 1).collect::<Vec<_>>(), vec![4, 5]);
+        assert_eq!(
+            rows.iter().map(|r| r.index + 1).collect::<Vec<_>>(),
+            vec![4, 5]
+        );
     }
 
     #[test]
     fn notes_block_after_a_gap_is_not_students() {
         let s = sheet(&[
-            &["Student ID", "Crude mass (g)", "Recovered mass (g)", "MP range"],
+            &[
+                "Student ID",
+                "Crude mass (g)",
+                "Recovered mass (g)",
+                "MP range",
+            ],
             &["s1", "3.0", "2.0", "120-121"],
             &[""],
             &["Bench 4 thermometer was replaced on Tuesday"],
@@ -276,18 +331,31 @@ mod tests {
     #[test]
     fn no_table_and_ambiguity() {
         let s = sheet(&[&["Instructions"], &["Weigh the crude product"]]);
-        assert_eq!(locate(&s, &ColumnOverrides::default()).unwrap_err(), LayoutError::NoTable);
+        assert_eq!(
+            locate(&s, &ColumnOverrides::default()).unwrap_err(),
+            LayoutError::NoTable
+        );
         let s = sheet(&[&["Student ID", "Crude mass (g)", "Crude (g)", "MP range"]]);
         let err = locate(&s, &ColumnOverrides::default()).unwrap_err();
         match err {
-            LayoutError::Ambiguous(m) => assert!(m.contains("Crude mass (g)") && m.contains("Crude (g)"), "{m}"),
+            LayoutError::Ambiguous(m) => assert!(
+                m.contains("Crude mass (g)") && m.contains("Crude (g)"),
+                "{m}"
+            ),
             other => panic!("{other:?}"),
         }
     }
 
     #[test]
     fn separate_onset_and_clear_win_over_a_range_column() {
-        let s = sheet(&[&["ID", "Crude (g)", "Recovered (g)", "MP range", "MP start", "MP end"]]);
+        let s = sheet(&[&[
+            "ID",
+            "Crude (g)",
+            "Recovered (g)",
+            "MP range",
+            "MP start",
+            "MP end",
+        ]]);
         let layout = locate(&s, &ColumnOverrides::default()).unwrap();
         assert!(layout.column(Field::MpRange).is_none());
         assert!(layout.column(Field::MpOnset).is_some());

@@ -56,7 +56,10 @@ impl Unit {
 /// Reads a unit name ("mg", "°C", "mL", "%"); `None` when the text is not a unit we know.
 pub fn parse_unit(text: &str) -> Option<Unit> {
     let t = text.trim().trim_end_matches('.').trim().to_lowercase();
-    let t = t.replace(['º', '˚'], "°").replace("deg ", "°").replace("deg", "°");
+    let t = t
+        .replace(['º', '˚'], "°")
+        .replace("deg ", "°")
+        .replace("deg", "°");
     let unit = match t.as_str() {
         "g" | "gr" | "gram" | "grams" | "gramme" | "grammes" => Unit::Mass(1.0),
         "mg" | "milligram" | "milligrams" => Unit::Mass(0.001),
@@ -131,8 +134,7 @@ fn split_numeric_prefix(text: &str) -> (&str, &str) {
             seen_digit = true;
             i += 1;
             end = i;
-        } else if (b == b'.' || b == b',') && i + 1 < bytes.len() && bytes[i + 1].is_ascii_digit()
-        {
+        } else if (b == b'.' || b == b',') && i + 1 < bytes.len() && bytes[i + 1].is_ascii_digit() {
             i += 1;
         } else if (b == b'.' || b == b',') && seen_digit {
             // "12." : a trailing separator belongs to the number
@@ -166,7 +168,9 @@ fn is_grouped(s: &str, sep: char) -> bool {
     let first = parts.next().unwrap_or("");
     let first_ok = (1..=3).contains(&first.len()) && first.bytes().all(|b| b.is_ascii_digit());
     let mut rest = parts.peekable();
-    first_ok && rest.peek().is_some() && rest.all(|p| p.len() == 3 && p.bytes().all(|b| b.is_ascii_digit()))
+    first_ok
+        && rest.peek().is_some()
+        && rest.all(|p| p.len() == 3 && p.bytes().all(|b| b.is_ascii_digit()))
 }
 
 /// Interprets the numeric text found by `split_numeric_prefix` under a decimal convention.
@@ -295,7 +299,15 @@ mod tests {
 
     #[test]
     fn text_that_is_not_a_number() {
-        for t in ["", "abc", "g", "2.31 apples", "#DIV/0!", "12/03/2026", "3 g g"] {
+        for t in [
+            "",
+            "abc",
+            "g",
+            "2.31 apples",
+            "#DIV/0!",
+            "12/03/2026",
+            "3 g g",
+        ] {
             assert_eq!(q(t), None, "{t:?}");
         }
     }
@@ -303,9 +315,16 @@ mod tests {
     #[test]
     fn temperature_scales() {
         // Conversion formulas: common practice (SI Brochure definitions of the Celsius scale).
-        assert_relative_eq!(TempUnit::Fahrenheit.to_celsius(251.6), 122.0, epsilon = 1e-9);
+        assert_relative_eq!(
+            TempUnit::Fahrenheit.to_celsius(251.6),
+            122.0,
+            epsilon = 1e-9
+        );
         assert_relative_eq!(TempUnit::Kelvin.to_celsius(395.52), 122.37, epsilon = 1e-9);
-        assert_eq!(parse_unit("°F"), Some(Unit::Temperature(TempUnit::Fahrenheit)));
+        assert_eq!(
+            parse_unit("°F"),
+            Some(Unit::Temperature(TempUnit::Fahrenheit))
+        );
         assert_eq!(parse_unit("K"), Some(Unit::Temperature(TempUnit::Kelvin)));
         assert_eq!(parse_unit("ºC"), Some(Unit::Temperature(TempUnit::Celsius)));
     }

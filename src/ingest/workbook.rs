@@ -51,11 +51,41 @@ fn from_data_ref(d: DataRef<'_>) -> Cell {
     }
 }
 
+/// OLE2 compound files: legacy .xls, and OOXML workbooks encrypted with a password.
+const OLE_MAGIC: [u8; 8] = [0xD0, 0xCF, 0x11, 0xE0, 0xA1, 0xB1, 0x1A, 0xE1];
+
+/// Says what a file that should be a zip archive is instead.
+fn not_a_zip(path: &Path) -> String {
+    let bytes = std::fs::read(path).unwrap_or_default();
+    if bytes.starts_with(&OLE_MAGIC) {
+        let marker: Vec<u8> = "EncryptionInfo"
+            .encode_utf16()
+            .flat_map(|u| u.to_le_bytes())
+            .collect();
+        if bytes.windows(marker.len()).any(|w| w == marker.as_slice()) {
+            return "the workbook is password-protected (encrypted); save an unprotected copy and grade that".into();
+        }
+        return "this is an older binary workbook (.xls) under another name; rename it to .xls"
+            .into();
+    }
+    if bytes.starts_with(b"PK") {
+        return "not a readable workbook: the zip archive is truncated or damaged".into();
+    }
+    let texty = bytes
+        .iter()
+        .take(512)
+        .all(|b| b.is_ascii_graphic() || b.is_ascii_whitespace() || *b >= 0x80);
+    if texty {
+        "not a workbook: the file holds plain text; if it is a CSV export, name it .csv".into()
+    } else {
+        "not a workbook: the file is neither a zip archive nor a spreadsheet format benchgrade reads".into()
+    }
+}
+
 /// Reads the zip directory and refuses an archive that would expand past the limit.
 pub fn check_zip(path: &Path) -> Result<(), String> {
     let file = File::open(path).map_err(|e| format!("cannot open: {e}"))?;
-    let mut archive = zip::ZipArchive::new(BufReader::new(file))
-        .map_err(|_| "not a readable workbook: the file is truncated or is not a zip archive".to_string())?;
+    let mut archive = zip::ZipArchive::new(BufReader::new(file)).map_err(|_| not_a_zip(path))?;
     let mut total: u64 = 0;
     for i in 0..archive.len() {
         let entry = archive
@@ -75,7 +105,11 @@ pub fn check_zip(path: &Path) -> Result<(), String> {
 
 fn bounded(pos: (u32, u32)) -> Result<(u32, u32), String> {
     if pos.0 >= MAX_ROWS || pos.1 >= MAX_COLS {
-        return Err(format!("a cell lies outside the grid (row {}, column {})", pos.0 + 1, pos.1 + 1));
+        return Err(format!(
+            "a cell lies outside the grid (row {}, column {})",
+            pos.0 + 1,
+            pos.1 + 1
+        ));
     }
     Ok(pos)
 }
@@ -96,7 +130,10 @@ fn stream_xlsx(wb: &mut Xlsx<BufReader<File>>, name: &str) -> Result<RawSheet, S
         let (r, c) = bounded(cell.get_position())?;
         cells.push((r, c, from_data_ref(cell.get_value().clone())));
     }
-    Ok(RawSheet { name: Some(name.to_string()), rows: rows_from_cells(cells) })
+    Ok(RawSheet {
+        name: Some(name.to_string()),
+        rows: rows_from_cells(cells),
+    })
 }
 
 fn stream_xlsb(wb: &mut Xlsb<BufReader<File>>, name: &str) -> Result<RawSheet, String> {
@@ -106,7 +143,10 @@ fn stream_xlsb(wb: &mut Xlsb<BufReader<File>>, name: &str) -> Result<RawSheet, S
         let (r, c) = bounded(cell.get_position())?;
         cells.push((r, c, from_data_ref(cell.get_value().clone())));
     }
-    Ok(RawSheet { name: Some(name.to_string()), rows: rows_from_cells(cells) })
+    Ok(RawSheet {
+        name: Some(name.to_string()),
+        rows: rows_from_cells(cells),
+    })
 }
 
 fn dense<R: Reader<BufReader<File>>>(wb: &mut R, name: &str) -> Result<RawSheet, String>
@@ -119,7 +159,10 @@ where
         .used_cells()
         .map(|(r, c, d)| (r0 + r as u32, c0 + c as u32, from_data(d)))
         .collect();
-    Ok(RawSheet { name: Some(name.to_string()), rows: rows_from_cells(cells) })
+    Ok(RawSheet {
+        name: Some(name.to_string()),
+        rows: rows_from_cells(cells),
+    })
 }
 
 /// Which workbook format a file extension names.
@@ -163,8 +206,14 @@ pub fn read_workbook(path: &Path, format: Format) -> Result<Vec<SheetRead>, Stri
         check_zip(path)?;
     }
     Ok(match format {
-        Format::Xlsx => read_all(open_workbook::<Xlsx<_>, _>(path).map_err(describe)?, stream_xlsx),
-        Format::Xlsb => read_all(open_workbook::<Xlsb<_>, _>(path).map_err(describe)?, stream_xlsb),
+        Format::Xlsx => read_all(
+            open_workbook::<Xlsx<_>, _>(path).map_err(describe)?,
+            stream_xlsx,
+        ),
+        Format::Xlsb => read_all(
+            open_workbook::<Xlsb<_>, _>(path).map_err(describe)?,
+            stream_xlsb,
+        ),
         Format::Xls => read_all(open_workbook::<Xls<_>, _>(path).map_err(describe)?, dense),
         Format::Ods => read_all(open_workbook::<Ods<_>, _>(path).map_err(describe)?, dense),
     })

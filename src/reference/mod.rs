@@ -79,18 +79,31 @@ pub struct Library {
 /// The form of a name used for matching: lower case, letters and digits only,
 /// Greek beta spelled out and British "sulph" as "sulf".
 pub fn name_key(name: &str) -> String {
-    let lower = name.trim().to_lowercase().replace('β', "beta").replace('α', "alpha").replace("sulph", "sulf");
+    let lower = name
+        .trim()
+        .to_lowercase()
+        .replace('β', "beta")
+        .replace('α', "alpha")
+        .replace("sulph", "sulf");
     lower.chars().filter(|c| c.is_alphanumeric()).collect()
 }
 
 fn parse(text: &str, file: &str) -> Result<Vec<Compound>, ConfigError> {
     let parsed: CompoundFile = toml::from_str(text).map_err(|e| {
         let (line, column) = toml_location(text, e.span());
-        ConfigError::File { file: file.to_string(), line, column, message: e.message().to_string() }
+        ConfigError::File {
+            file: file.to_string(),
+            line,
+            column,
+            message: e.message().to_string(),
+        }
     })?;
     for c in &parsed.compound {
         if c.melting_points.is_empty() {
-            return Err(ConfigError::Invalid(format!("{file}: compound \"{}\" lists no melting point", c.name)));
+            return Err(ConfigError::Invalid(format!(
+                "{file}: compound \"{}\" lists no melting point",
+                c.name
+            )));
         }
     }
     Ok(parsed.compound)
@@ -105,7 +118,10 @@ impl Library {
     }
 
     fn from_compounds(compounds: Vec<Compound>) -> Library {
-        let mut lib = Library { compounds: Vec::new(), index: HashMap::new() };
+        let mut lib = Library {
+            compounds: Vec::new(),
+            index: HashMap::new(),
+        };
         for c in compounds {
             lib.insert(c);
         }
@@ -123,15 +139,19 @@ impl Library {
                 self.compounds.len() - 1
             }
         };
-        for key in std::iter::once(&c.name).chain(&c.synonyms).chain(std::iter::once(&c.cas)) {
+        for key in std::iter::once(&c.name)
+            .chain(&c.synonyms)
+            .chain(std::iter::once(&c.cas))
+        {
             self.index.insert(name_key(key), pos);
         }
     }
 
     /// Adds the compounds of a user file, replacing built-in ones of the same name.
     pub fn extend_from_file(&mut self, path: &Path) -> Result<(), ConfigError> {
-        let text = std::fs::read_to_string(path)
-            .map_err(|e| ConfigError::Invalid(format!("cannot read compound file {}: {e}", path.display())))?;
+        let text = std::fs::read_to_string(path).map_err(|e| {
+            ConfigError::Invalid(format!("cannot read compound file {}: {e}", path.display()))
+        })?;
         for c in parse(&text, &path.display().to_string())? {
             self.insert(c);
         }
@@ -152,7 +172,18 @@ pub fn table(lib: &Library) -> String {
     use std::fmt::Write as _;
     let mut out = String::new();
     for c in lib.compounds() {
-        let _ = writeln!(out, "{} (CAS {}, {:.2} g/mol){}", c.name, c.cas, c.molar_mass.value, if c.decomposes { ", decomposes on melting" } else { "" });
+        let _ = writeln!(
+            out,
+            "{} (CAS {}, {:.2} g/mol){}",
+            c.name,
+            c.cas,
+            c.molar_mass.value,
+            if c.decomposes {
+                ", decomposes on melting"
+            } else {
+                ""
+            }
+        );
         if !c.synonyms.is_empty() {
             let _ = writeln!(out, "  also: {}", c.synonyms.join(", "));
         }
@@ -161,10 +192,18 @@ pub fn table(lib: &Library) -> String {
             let _ = writeln!(out, "    mp {:>7.2} °C  {}", m.value_c, m.source);
         }
         if let Some(h) = &c.hfus_kj_mol {
-            let _ = writeln!(out, "  enthalpy of fusion {:.2} kJ/mol  {}", h.value, h.source);
+            let _ = writeln!(
+                out,
+                "  enthalpy of fusion {:.2} kJ/mol  {}",
+                h.value, h.source
+            );
         }
         for s in &c.solubility {
-            let _ = writeln!(out, "  water solubility {} g/L at {} °C  {}", s.g_per_l, s.t_c, s.source);
+            let _ = writeln!(
+                out,
+                "  water solubility {} g/L at {} °C  {}",
+                s.g_per_l, s.t_c, s.source
+            );
         }
     }
     out
@@ -180,9 +219,22 @@ mod tests {
         let all = parse(BUILTIN, "built-in").expect("compounds.toml must parse");
         let lib = Library::from_compounds(all);
         for name in [
-            "benzoic acid", "acetanilide", "salicylic acid", "acetylsalicylic acid", "trans-cinnamic acid",
-            "naphthalene", "urea", "vanillin", "phenacetin", "sulfanilamide", "caffeine", "benzophenone",
-            "biphenyl", "adipic acid", "succinic acid", "2-naphthol",
+            "benzoic acid",
+            "acetanilide",
+            "salicylic acid",
+            "acetylsalicylic acid",
+            "trans-cinnamic acid",
+            "naphthalene",
+            "urea",
+            "vanillin",
+            "phenacetin",
+            "sulfanilamide",
+            "caffeine",
+            "benzophenone",
+            "biphenyl",
+            "adipic acid",
+            "succinic acid",
+            "2-naphthol",
         ] {
             let c = lib.lookup(name).unwrap_or_else(|| panic!("{name} missing"));
             assert!(!c.cas.is_empty() && c.molar_mass.value > 0.0);
@@ -198,7 +250,10 @@ mod tests {
         assert_eq!(lib.lookup("β-naphthol").unwrap().name, "2-naphthol");
         assert_eq!(lib.lookup("beta naphthol").unwrap().name, "2-naphthol");
         assert_eq!(lib.lookup("Sulphanilamide").unwrap().name, "sulfanilamide");
-        assert_eq!(lib.lookup("cinnamic acid").unwrap().name, "trans-cinnamic acid");
+        assert_eq!(
+            lib.lookup("cinnamic acid").unwrap().name,
+            "trans-cinnamic acid"
+        );
         assert_eq!(lib.lookup("65-85-0").unwrap().name, "benzoic acid");
         assert!(lib.lookup("unobtainium").is_none());
     }
@@ -237,7 +292,11 @@ mod tests {
             while i < chars.len() && chars[i].is_ascii_digit() {
                 i += 1;
             }
-            let n: f64 = if start == i { 1.0 } else { chars[start..i].iter().collect::<String>().parse().unwrap() };
+            let n: f64 = if start == i {
+                1.0
+            } else {
+                chars[start..i].iter().collect::<String>().parse().unwrap()
+            };
             total += weight(&el) * n;
         }
         total
@@ -246,7 +305,10 @@ mod tests {
     #[test]
     fn molar_masses_agree_with_formulas() {
         for c in Library::builtin().compounds() {
-            let f = c.formula.as_deref().expect("every built-in compound has a formula");
+            let f = c
+                .formula
+                .as_deref()
+                .expect("every built-in compound has a formula");
             assert_abs_diff_eq!(c.molar_mass.value, molar_mass(f), epsilon = 0.02);
         }
     }

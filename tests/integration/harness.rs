@@ -1,0 +1,113 @@
+//! A small harness: fixtures written into a temporary folder, the real binary run on them,
+//! its outputs read back.
+
+use std::collections::HashMap;
+use std::path::{Path, PathBuf};
+use std::process::Command;
+
+use rust_xlsxwriter::Workbook;
+
+pub struct Fixture {
+    pub dir: tempfile::TempDir,
+}
+
+pub struct Run {
+    pub code: i32,
+    pub stdout: String,
+    pub stderr: String,
+}
+
+pub type Record = HashMap<String, String>;
+
+impl Fixture {
+    pub fn new() -> Fixture {
+        Fixture {
+            dir: tempfile::tempdir().expect("a temporary folder"),
+        }
+    }
+
+    pub fn path(&self, name: &str) -> PathBuf {
+        self.dir.path().join(name)
+    }
+
+    pub fn write(&self, name: &str, bytes: impl AsRef<[u8]>) -> PathBuf {
+        let p = self.path(name);
+        if let Some(parent) = p.parent() {
+            std::fs::create_dir_all(parent).unwrap();
+        }
+        std::fs::write(&p, bytes).unwrap();
+        p
+    }
+
+    /// Writes an xlsx built by `build`.
+    pub fn xlsx(&self, name: &str, build: impl FnOnce(&mut Workbook)) -> PathBuf {
+        let mut wb = Workbook::new();
+        build(&mut wb);
+        let p = self.path(name);
+        wb.save(&p).unwrap();
+        p
+    }
+
+    /// Runs the binary in the fixture folder.
+    pub fn run(&self, args: &[&str]) -> Run {
+        run_in(self.dir.path(), args)
+    }
+
+    /// Reads DIR/results.csv back as records keyed by column name.
+    pub fn results(&self, out: &str) -> Vec<Record> {
+        read_results(&self.path(out).join("results.csv"))
+    }
+}
+
+pub fn run_in(dir: &Path, args: &[&str]) -> Run {
+    let out = Command::new(env!("CARGO_BIN_EXE_benchgrade"))
+        .args(args)
+        .current_dir(dir)
+        .env("NO_COLOR", "1")
+        .output()
+        .expect("the binary runs");
+    Run {
+        code: out.status.code().unwrap_or(-1),
+        stdout: String::from_utf8_lossy(&out.stdout).into_owned(),
+        stderr: String::from_utf8_lossy(&out.stderr).into_owned(),
+    }
+}
+
+pub fn read_results(path: &Path) -> Vec<Record> {
+    let mut r = csv::Reader::from_path(path).unwrap_or_else(|e| panic!("{}: {e}", path.display()));
+    let headers = r.headers().unwrap().clone();
+    r.records()
+        .map(|rec| {
+            let rec = rec.unwrap();
+            headers
+                .iter()
+                .zip(rec.iter())
+                .map(|(h, v)| (h.to_string(), v.to_string()))
+                .collect()
+        })
+        .collect()
+}
+
+pub fn num(r: &Record, col: &str) -> Option<f64> {
+    let v = r.get(col).unwrap_or_else(|| panic!("no column {col}"));
+    (!v.is_empty()).then(|| {
+        v.parse()
+            .unwrap_or_else(|_| panic!("{col}={v:?} is not a number"))
+    })
+}
+
+pub fn flags(r: &Record) -> Vec<&str> {
+    r["flags"].split(';').filter(|s| !s.is_empty()).collect()
+}
+
+/// The row whose student_id is `id`.
+pub fn by_id<'a>(rows: &'a [Record], id: &str) -> &'a Record {
+    rows.iter()
+        .find(|r| r["student_id"] == id)
+        .unwrap_or_else(|| panic!("no row for {id}"))
+}
+
+/// The project root, where sample-data/ lives.
+pub fn project_root() -> PathBuf {
+    PathBuf::from(env!("CARGO_MANIFEST_DIR"))
+}

@@ -1,0 +1,250 @@
+//! Messy sheets as assistants keep them: title rows, merged cells, mg and °F headers, error
+//! cells, odd range strings, decimal commas, and files that cannot be read at all.
+
+use approx::assert_relative_eq;
+use rust_xlsxwriter::{ExcelDateTime, Format, Formula};
+
+use crate::harness::{by_id, flags, num, Fixture};
+
+fn messy_workbook(f: &Fixture) {
+    f.xlsx("sec-7.xlsx", |wb| {
+        let ws = wb.add_worksheet().set_name("Section 7").unwrap();
+        let bold = Format::new().set_bold();
+        ws.merge_range(0, 0, 0, 6, "Recrystallization results, section 7", &bold)
+            .unwrap();
+        ws.write_string(2, 0, "Student #").unwrap();
+        ws.write_string(2, 1, "Crude (mg)").unwrap();
+        ws.write_string(2, 2, "Mass recovered / g").unwrap();
+        ws.write_string(2, 3, "MP start (°F)").unwrap();
+        ws.write_string(2, 4, "MP end (°F)").unwrap();
+        ws.write_string(2, 5, "% recovery").unwrap();
+        // a: 3020 mg crude, 2.31 g recovered, 248-251.6 °F = 120.0-122.0 °C (hand-worked)
+        ws.write_string(3, 0, "a1").unwrap();
+        ws.write_number(3, 1, 3020.0).unwrap();
+        ws.write_number(3, 2, 2.31).unwrap();
+        ws.write_number(3, 3, 248.0).unwrap();
+        ws.write_number(3, 4, 251.6).unwrap();
+        ws.write_formula(3, 5, Formula::new("=C4/0").set_result("#DIV/0!"))
+            .unwrap();
+        // b: a date where a mass belongs, text with units in a cell
+        ws.write_string(4, 0, "b2").unwrap();
+        ws.write_datetime_with_format(
+            4,
+            1,
+            ExcelDateTime::from_ymd(2026, 10, 6).unwrap(),
+            &Format::new().set_num_format("yyyy-mm-dd"),
+        )
+        .unwrap();
+        ws.write_string(4, 2, "1,85 g").unwrap();
+        ws.write_string(4, 3, "249 °F").unwrap();
+        ws.write_string(4, 4, "121 °C").unwrap();
+        ws.write_string(7, 0, "Total").unwrap();
+        ws.write_number(7, 1, 99.0).unwrap();
+    });
+}
+
+#[test]
+fn title_rows_merged_cells_mg_and_fahrenheit_headers() {
+    let f = Fixture::new();
+    messy_workbook(&f);
+    let run = f.run(&["grade", "sec-7.xlsx", "--out", "out"]);
+    assert_eq!(run.code, 0, "{}", run.stderr);
+    let rows = f.results("out");
+    assert_eq!(rows.len(), 2, "the totals row is not a student");
+    let a = by_id(&rows, "a1");
+    assert_eq!(a["row"], "4");
+    assert_eq!(a["section"], "Section 7");
+    assert_relative_eq!(num(a, "crude_mass_g").unwrap(), 3.02, epsilon = 1e-12);
+    assert_relative_eq!(num(a, "mp_onset_c").unwrap(), 120.0, epsilon = 1e-9);
+    assert_relative_eq!(num(a, "mp_clear_c").unwrap(), 122.0, epsilon = 1e-9);
+    // 100 x 2.31 / 3.02 = 76.4900662... (hand-worked)
+    assert_relative_eq!(
+        num(a, "recovery_pct").unwrap(),
+        76.490_066_225_165_56,
+        epsilon = 1e-9
+    );
+    assert_eq!(flags(a), vec!["unreadable-value"]);
+    assert!(
+        a["flag_notes"].contains("'Section 7'!F4") && a["flag_notes"].contains("#DIV/0!"),
+        "{}",
+        a["flag_notes"]
+    );
+    let b = by_id(&rows, "b2");
+    assert!(
+        b["flag_notes"].contains("'Section 7'!B5 holds a date"),
+        "{}",
+        b["flag_notes"]
+    );
+    assert_relative_eq!(num(b, "recovered_mass_g").unwrap(), 1.85, epsilon = 1e-12);
+    // a cell's own unit wins over the header's: 121 °C stays 121 °C
+    assert_relative_eq!(num(b, "mp_clear_c").unwrap(), 121.0, epsilon = 1e-12);
+    // (249 - 32) x 5/9 = 120.555... °C
+    assert_relative_eq!(
+        num(b, "mp_onset_c").unwrap(),
+        120.555_555_555_555_6,
+        epsilon = 1e-9
+    );
+}
+
+#[test]
+fn semicolon_csv_with_decimal_commas_latin1_and_odd_ranges() {
+    let f = Fixture::new();
+    let text = "Kurs CHEM 2150;;;\nMatrikel ID;Name;Crude mass (g);Recovered mass (g);m.p. range (°C)\n\
+                s1;Zoë;3,02;2,31;121–122 °C\ns2;José;2,50;2,60;~121-122\ns3;Léa;3,00;2,10;121 to 122,5\n\
+                s4;Noé;3,00;2,10;122\ns5;Aimé;3,00;2,10;121,5 - 122\ns6;Inès;3,00;2,10;122-119\n";
+    let (latin1, _, _) = encoding_rs::WINDOWS_1252.encode(text);
+    f.write("sec-8.csv", latin1);
+    let run = f.run(&["grade", "sec-8.csv", "--out", "out"]);
+    assert_eq!(run.code, 0, "{}", run.stderr);
+    let rows = f.results("out");
+    assert_eq!(rows.len(), 6);
+    assert_eq!(by_id(&rows, "s1")["student_name"], "Zoë");
+    assert_eq!(by_id(&rows, "s1")["row"], "3");
+    assert_eq!(by_id(&rows, "s1")["sheet"], "");
+    assert_eq!(by_id(&rows, "s1")["section"], "sec-8");
+    let ranges: Vec<(f64, f64)> = rows
+        .iter()
+        .map(|r| (num(r, "mp_onset_c").unwrap(), num(r, "mp_clear_c").unwrap()))
+        .collect();
+    assert_eq!(
+        ranges,
+        vec![
+            (121.0, 122.0),
+            (121.0, 122.0),
+            (121.0, 122.5),
+            (122.0, 122.0),
+            (121.5, 122.0),
+            (122.0, 119.0)
+        ]
+    );
+    assert!(by_id(&rows, "s4")["notes"].contains("one melting value"));
+    assert_eq!(num(by_id(&rows, "s6"), "range_width_c"), Some(-3.0));
+    assert!(flags(by_id(&rows, "s6")).contains(&"range-inverted"));
+    assert!(flags(by_id(&rows, "s2")).contains(&"recovery-over-100"));
+}
+
+#[test]
+fn bom_csv_and_an_explicit_column_mapping() {
+    let f = Fixture::new();
+    f.write(
+        "late.csv",
+        "\u{feff}Who,Wt A,Wt B,Melting range\nq1,3.0,2.1,120-121\n",
+    );
+    let none = f.run(&["grade", "late.csv", "--out", "out"]);
+    assert_eq!(none.code, 1, "no recognisable table without a mapping");
+    assert!(none.stderr.contains("late.csv"), "{}", none.stderr);
+    f.write("cols.toml", "[columns]\n\"Who\" = \"student_id\"\n\"Wt A\" = \"crude_mass\"\n\"Wt B\" = \"recovered_mass\"\n");
+    let run = f.run(&[
+        "grade",
+        "late.csv",
+        "--columns",
+        "cols.toml",
+        "--out",
+        "out",
+    ]);
+    assert_eq!(run.code, 0, "{}", run.stderr);
+    let rows = f.results("out");
+    assert_eq!(rows[0]["student_id"], "q1");
+    assert_relative_eq!(num(&rows[0], "recovery_pct").unwrap(), 70.0, epsilon = 1e-9);
+    let check = f.run(&["check", "late.csv", "--columns", "cols.toml"]);
+    assert!(
+        check.stdout.contains("\"Wt A\"") && check.stdout.contains("crude mass (mapped)"),
+        "{}",
+        check.stdout
+    );
+}
+
+#[test]
+fn an_ambiguous_header_names_both_candidates() {
+    let f = Fixture::new();
+    f.write(
+        "amb.csv",
+        "ID,Crude mass (g),Crude (g),Recovered (g),MP\ns1,3,3,2,121-122\n",
+    );
+    f.write(
+        "ok.csv",
+        "ID,Crude mass (g),Recovered (g),MP\ns2,3,2,121-122\n",
+    );
+    let run = f.run(&["grade", "amb.csv", "ok.csv", "--out", "out"]);
+    assert_eq!(run.code, 1);
+    assert!(
+        run.stderr.contains("\"Crude mass (g)\"") && run.stderr.contains("\"Crude (g)\""),
+        "{}",
+        run.stderr
+    );
+    let rows = f.results("out");
+    assert_eq!(rows.len(), 1, "the readable file is still graded");
+    assert_eq!(rows[0]["student_id"], "s2");
+}
+
+#[test]
+fn unreadable_files_get_one_line_each_and_the_rest_is_graded() {
+    let f = Fixture::new();
+    messy_workbook(&f);
+    let good = std::fs::read(f.path("sec-7.xlsx")).unwrap();
+    f.write("in/truncated.xlsx", &good[..good.len() / 2]);
+    f.write("in/renamed.xlsx", "Student,Crude\nthis is text\n");
+    f.write("in/empty.csv", "");
+    f.write("in/report.docx", "not a spreadsheet");
+    f.write("in/~$sec-7.xlsx", "lock file");
+    std::fs::copy(f.path("sec-7.xlsx"), f.path("in/sec-7.xlsx")).unwrap();
+    let before: Vec<_> = std::fs::read_dir(f.path("in"))
+        .unwrap()
+        .map(|e| e.unwrap().file_name())
+        .collect();
+    let run = f.run(&["grade", "in", "in/report.docx", "--out", "out"]);
+    assert_eq!(run.code, 1, "{}", run.stderr);
+    for name in ["truncated.xlsx", "renamed.xlsx", "empty.csv", "report.docx"] {
+        assert_eq!(
+            run.stderr.lines().filter(|l| l.contains(name)).count(),
+            1,
+            "{name}: {}",
+            run.stderr
+        );
+    }
+    assert!(
+        !run.stderr.contains("~$"),
+        "lock files are skipped silently"
+    );
+    assert_eq!(f.results("out").len(), 2);
+    let after: Vec<_> = std::fs::read_dir(f.path("in"))
+        .unwrap()
+        .map(|e| e.unwrap().file_name())
+        .collect();
+    assert_eq!(
+        before.len(),
+        after.len(),
+        "nothing written next to the inputs"
+    );
+}
+
+#[test]
+fn a_bad_rubric_writes_nothing_and_exits_2() {
+    let f = Fixture::new();
+    f.write(
+        "ok.csv",
+        "ID,Crude mass (g),Recovered (g),MP\ns2,3,2,121-122\n",
+    );
+    f.write(
+        "bad.toml",
+        "[experiment]\nname = \"x\"\n[tolerances]\nabove_refrence_c = 2\n",
+    );
+    let run = f.run(&["grade", "ok.csv", "--rubric", "bad.toml", "--out", "out"]);
+    assert_eq!(run.code, 2);
+    assert!(run.stderr.contains("bad.toml:4:1"), "{}", run.stderr);
+    assert!(!f.path("out").exists());
+}
+
+#[test]
+fn reference_mp_option_and_unknown_compounds() {
+    let f = Fixture::new();
+    f.write("c.csv", "ID,Compound,Crude mass (g),Recovered (g),MP\ns1,benzoic acid,3,2,121.5-122.5\ns2,Aspirin,3,2,134-135\ns3,unobtainium,3,2,100-101\n");
+    let run = f.run(&["grade", "c.csv", "--reference-mp", "122.0", "--out", "out"]);
+    assert_eq!(run.code, 0, "{}", run.stderr);
+    let rows = f.results("out");
+    assert_eq!(num(&rows[0], "reference_mp_c"), Some(122.0));
+    assert_eq!(rows[1]["compound"], "acetylsalicylic acid");
+    assert_eq!(num(&rows[1], "reference_mp_c"), Some(135.0));
+    assert_eq!(flags(&rows[2]), vec!["unknown-compound"]);
+    assert_eq!(rows[2]["reference_mp_c"], "");
+}

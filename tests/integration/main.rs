@@ -1,0 +1,6 @@
+//! The one integration-test binary: the real `benchgrade` run on fixtures and sample data.
+
+mod harness;
+mod ingest_messy;
+mod reference_data;
+mod sample_data;
