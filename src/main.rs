@@ -67,7 +67,7 @@ fn grade(run: RunArgs, out: PathBuf, quiet: bool) -> Result<ExitCode> {
     };
     report_problems(&batch);
     if !quiet {
-        let line = check_report::summary(&batch.rows, &[], batch.files.len());
+        let line = check_report::summary(&batch.tally, &[], batch.files.len());
         print!("{line}");
         println!("wrote {}", config.out_dir.join("results.csv").display());
     }
@@ -89,7 +89,7 @@ fn check(run: RunArgs) -> Result<ExitCode> {
     write!(
         out,
         "{}",
-        check_report::summary(&batch.rows, &batch.problems, batch.files.len())
+        check_report::summary(&batch.tally, &batch.problems, batch.files.len())
     )?;
     Ok(exit_for(&batch))
 }

@@ -77,22 +77,34 @@ fn celsius(v: f64) -> String {
     format!("{v:.1} °C")
 }
 
-fn resolve_compound<'a>(
-    sub: &Submission,
-    ctx: &Context<'a>,
-) -> (Option<&'a Compound>, Option<f64>, Option<String>) {
-    let written = sub.compound.as_deref().filter(|s| !s.trim().is_empty());
-    let name = written.or(ctx.default_compound);
-    let Some(name) = name else {
+/// The compound a row is graded against: its library entry and reference melting point,
+/// or why there is none.
+#[derive(Clone, Debug)]
+struct Resolved<'a> {
+    compound: Option<&'a Compound>,
+    reference: Option<f64>,
+    unknown: Option<String>,
+}
+
+fn resolve_compound<'a>(name: Option<&str>, ctx: &Context<'a>) -> Resolved<'a> {
+    let Some(name) = name.or(ctx.default_compound) else {
         let why = "no compound named on the row, and the rubric names none".to_string();
-        return (None, ctx.accepted_mp_c, Some(why));
+        return Resolved {
+            compound: None,
+            reference: ctx.accepted_mp_c,
+            unknown: Some(why),
+        };
     };
     let Some(found) = ctx.library.lookup(name) else {
         let why = format!(
             "\"{}\" is not in the reference library; add it with --compounds FILE",
             name.trim()
         );
-        return (None, None, Some(why));
+        return Resolved {
+            compound: None,
+            reference: None,
+            unknown: Some(why),
+        };
     };
     let is_experiment = ctx
         .default_compound
@@ -102,7 +114,11 @@ fn resolve_compound<'a>(
         Some(v) if is_experiment => v,
         _ => found.accepted_mp_c,
     };
-    (Some(found), Some(reference), None)
+    Resolved {
+        compound: Some(found),
+        reference: Some(reference),
+        unknown: None,
+    }
 }
 
 fn missing_fields(sub: &Submission) -> Vec<&'static str> {
@@ -236,76 +252,111 @@ fn suspicion_flags(a: &Assessed, t: &Tolerances, out: &mut Vec<(Flag, String)>) 
     }
 }
 
-/// Assesses one submission (every flag but `duplicate-student`, which needs the batch).
-pub fn assess(sub: Submission, ctx: &Context) -> Assessed {
-    let (compound, reference, unknown) = resolve_compound(&sub, ctx);
-    let mut a = Assessed {
-        recovery_pct: measures::recovery_pct(sub.crude_mass_g, sub.recovered_mass_g),
-        range_width_c: measures::range_width_c(sub.mp_onset_c, sub.mp_clear_c),
-        depression_c: measures::depression_c(reference, sub.mp_clear_c),
-        compound: compound.map(|c| c.name.clone()),
-        reference_mp_c: reference,
-        submission: sub,
-        flags: Vec::new(),
-    };
-    let mut flags = Vec::new();
-    if let Some(why) = unknown {
-        flags.push((Flag::UnknownCompound, why));
-    }
-    if let (Some(reported), Some(rec)) = (a.submission.reported_recovery_pct, a.recovery_pct) {
-        if measures::reported_as_percent(reported, rec, ctx.tolerances.recovery_mismatch_pct).1 {
-            a.submission.notes.push(format!(
-                "reported recovery {reported} read as a fraction ({:.1} %)",
-                reported * 100.0
-            ));
-        }
-    }
-    entry_flags(&a, ctx.tolerances, &mut flags);
-    suspicion_flags(&a, ctx.tolerances, &mut flags);
-    a.flags = flags;
-    a
+/// Where a student id was first seen.
+struct FirstSeen {
+    source: String,
+    sheet: Option<String>,
+    row: u32,
 }
 
-fn mark_duplicates(rows: &mut [Assessed]) {
-    let mut first: HashMap<(String, String), usize> = HashMap::new();
-    for i in 0..rows.len() {
-        let s = &rows[i].submission;
-        let Some(id) = s
+/// Assesses submissions one at a time, in batch order, remembering what `duplicate-student`
+/// needs and caching compound look-ups (a class names few compounds).
+pub struct Assessor<'a> {
+    ctx: Context<'a>,
+    seen: HashMap<(String, String), FirstSeen>,
+    compounds: HashMap<String, Resolved<'a>>,
+    default: Resolved<'a>,
+}
+
+impl<'a> Assessor<'a> {
+    pub fn new(ctx: Context<'a>) -> Assessor<'a> {
+        let default = resolve_compound(None, &ctx);
+        Assessor {
+            ctx,
+            seen: HashMap::new(),
+            compounds: HashMap::new(),
+            default,
+        }
+    }
+
+    fn resolve(&mut self, name: Option<&str>) -> Resolved<'a> {
+        let Some(name) = name.filter(|s| !s.trim().is_empty()) else {
+            return self.default.clone();
+        };
+        if let Some(r) = self.compounds.get(name) {
+            return r.clone();
+        }
+        let r = resolve_compound(Some(name), &self.ctx);
+        self.compounds.insert(name.to_string(), r.clone());
+        r
+    }
+
+    fn duplicate(&mut self, s: &Submission) -> Option<String> {
+        let id = s
             .student_id
             .as_deref()
             .map(str::trim)
-            .filter(|x| !x.is_empty())
-        else {
-            continue;
-        };
+            .filter(|x| !x.is_empty())?;
         let key = (s.section.clone(), id.to_string());
-        match first.get(&key) {
-            Some(&j) => {
-                let earlier = &rows[j].submission;
-                let at = match &earlier.sheet {
-                    Some(sheet) => {
-                        format!("{} sheet \"{}\" row {}", earlier.source, sheet, earlier.row)
-                    }
-                    None => format!("{} row {}", earlier.source, earlier.row),
-                };
-                let note = format!("this id already appears in section {} at {}", key.0, at);
-                rows[i].flags.push((Flag::DuplicateStudent, note));
-            }
-            None => {
-                first.insert(key, i);
+        if let Some(first) = self.seen.get(&key) {
+            let at = match &first.sheet {
+                Some(sheet) => format!("{} sheet \"{}\" row {}", first.source, sheet, first.row),
+                None => format!("{} row {}", first.source, first.row),
+            };
+            return Some(format!(
+                "this id already appears in section {} at {}",
+                key.0, at
+            ));
+        }
+        let first = FirstSeen {
+            source: s.source.clone(),
+            sheet: s.sheet.clone(),
+            row: s.row,
+        };
+        self.seen.insert(key, first);
+        None
+    }
+
+    /// Assesses the next submission of the batch.
+    pub fn assess(&mut self, sub: Submission) -> Assessed {
+        let resolved = self.resolve(sub.compound.as_deref());
+        let t = self.ctx.tolerances;
+        let mut a = Assessed {
+            recovery_pct: measures::recovery_pct(sub.crude_mass_g, sub.recovered_mass_g),
+            range_width_c: measures::range_width_c(sub.mp_onset_c, sub.mp_clear_c),
+            depression_c: measures::depression_c(resolved.reference, sub.mp_clear_c),
+            compound: resolved.compound.map(|c| c.name.clone()),
+            reference_mp_c: resolved.reference,
+            submission: sub,
+            flags: Vec::new(),
+        };
+        let mut flags = Vec::new();
+        if let Some(why) = resolved.unknown {
+            flags.push((Flag::UnknownCompound, why));
+        }
+        if let (Some(reported), Some(rec)) = (a.submission.reported_recovery_pct, a.recovery_pct) {
+            if measures::reported_as_percent(reported, rec, t.recovery_mismatch_pct).1 {
+                a.submission.notes.push(format!(
+                    "reported recovery {reported} read as a fraction ({:.1} %)",
+                    reported * 100.0
+                ));
             }
         }
+        entry_flags(&a, t, &mut flags);
+        suspicion_flags(&a, t, &mut flags);
+        if let Some(why) = self.duplicate(&a.submission) {
+            flags.push((Flag::DuplicateStudent, why));
+        }
+        flags.sort_by_key(|(f, _)| f.code());
+        a.flags = flags;
+        a
     }
 }
 
-/// Assesses a batch: every submission, then duplicates across the batch, then flag order.
-pub fn assess_all(subs: Vec<Submission>, ctx: &Context) -> Vec<Assessed> {
-    let mut rows: Vec<Assessed> = subs.into_iter().map(|s| assess(s, ctx)).collect();
-    mark_duplicates(&mut rows);
-    for r in &mut rows {
-        r.flags.sort_by_key(|(f, _)| f.code());
-    }
-    rows
+/// Assesses a whole batch held in memory (the streaming `Assessor` does the work).
+pub fn assess_all(subs: Vec<Submission>, ctx: Context) -> Vec<Assessed> {
+    let mut assessor = Assessor::new(ctx);
+    subs.into_iter().map(|s| assessor.assess(s)).collect()
 }
 
 #[cfg(test)]

@@ -27,7 +27,7 @@ fn run(sub: Submission) -> Assessed {
         accepted_mp_c: None,
         tolerances: &t,
     };
-    assess_all(vec![sub], &ctx).remove(0)
+    assess_all(vec![sub], ctx).remove(0)
 }
 
 fn codes(a: &Assessed) -> Vec<&'static str> {
@@ -205,7 +205,7 @@ fn duplicates_in_the_same_section_only() {
         },
         Submission { row: 5, ..base() },
     ];
-    let out = assess_all(rows, &ctx);
+    let out = assess_all(rows, ctx);
     let dup: Vec<bool> = out.iter().map(|a| a.has(Flag::DuplicateStudent)).collect();
     assert_eq!(dup, vec![false, true, false, true]);
     assert!(out[1].flags[0].1.contains("row 2"));
@@ -229,7 +229,7 @@ fn accepted_value_overrides_only_the_experiment_compound() {
                 ..base()
             },
         ],
-        &ctx,
+        ctx,
     );
     assert_eq!(out[0].reference_mp_c, Some(122.0));
     assert_eq!(out[1].reference_mp_c, Some(114.3));

@@ -1,41 +1,105 @@
 //! Writing an output so that it is never half-written: a temporary file in the same folder,
-//! flushed to disk, then renamed over the destination in one step.
+//! then renamed over the destination in one step. An output that is dropped without being
+//! committed (an error, a panic) leaves the previous file untouched, and so does a process
+//! killed at any point: the rename is the only step that changes what the destination holds.
 
 use std::fs::File;
 use std::io::{BufWriter, Write};
-use std::path::Path;
+use std::path::{Path, PathBuf};
 
 use crate::error::WriteError;
+
+/// An output being written to a temporary file beside its destination.
+pub struct AtomicFile {
+    path: PathBuf,
+    tmp: PathBuf,
+    writer: Option<BufWriter<File>>,
+}
+
+impl AtomicFile {
+    pub fn create(path: &Path) -> Result<AtomicFile, WriteError> {
+        let dir = path
+            .parent()
+            .filter(|p| !p.as_os_str().is_empty())
+            .unwrap_or(Path::new("."));
+        let name = path
+            .file_name()
+            .and_then(|n| n.to_str())
+            .unwrap_or("output");
+        let tmp = dir.join(format!(".{name}.{}.partial", std::process::id()));
+        let file = File::create(&tmp).map_err(|source| WriteError {
+            path: path.to_path_buf(),
+            source,
+        })?;
+        Ok(AtomicFile {
+            path: path.to_path_buf(),
+            tmp,
+            writer: Some(BufWriter::with_capacity(1 << 16, file)),
+        })
+    }
+
+    pub fn path(&self) -> &Path {
+        &self.path
+    }
+
+    fn writer(&mut self) -> std::io::Result<&mut BufWriter<File>> {
+        self.writer
+            .as_mut()
+            .ok_or_else(|| std::io::Error::other("the output was already committed"))
+    }
+
+    pub fn error(&self, source: std::io::Error) -> WriteError {
+        WriteError {
+            path: self.path.clone(),
+            source,
+        }
+    }
+
+    /// Flushes and renames the temporary file into place.
+    pub fn commit(mut self) -> Result<(), WriteError> {
+        let result = (|| {
+            let w = self
+                .writer
+                .take()
+                .ok_or_else(|| std::io::Error::other("already committed"))?;
+            w.into_inner().map_err(|e| e.into_error())?;
+            std::fs::rename(&self.tmp, &self.path)
+        })();
+        result.map_err(|source| WriteError {
+            path: self.path.clone(),
+            source,
+        })
+    }
+}
+
+impl Write for AtomicFile {
+    fn write(&mut self, buf: &[u8]) -> std::io::Result<usize> {
+        self.writer()?.write(buf)
+    }
+    fn write_all(&mut self, buf: &[u8]) -> std::io::Result<()> {
+        self.writer()?.write_all(buf)
+    }
+    fn flush(&mut self) -> std::io::Result<()> {
+        self.writer()?.flush()
+    }
+}
+
+impl Drop for AtomicFile {
+    fn drop(&mut self) {
+        if self.writer.take().is_some() {
+            let _ = std::fs::remove_file(&self.tmp);
+        }
+    }
+}
 
 /// Writes `path` atomically with what `fill` puts into the writer.
 pub fn write_atomic<F>(path: &Path, fill: F) -> Result<(), WriteError>
 where
     F: FnOnce(&mut dyn Write) -> std::io::Result<()>,
 {
-    let err = |source| WriteError {
-        path: path.to_path_buf(),
-        source,
-    };
-    let dir = path
-        .parent()
-        .filter(|p| !p.as_os_str().is_empty())
-        .unwrap_or(Path::new("."));
-    let name = path
-        .file_name()
-        .and_then(|n| n.to_str())
-        .unwrap_or("output");
-    let tmp = dir.join(format!(".{name}.{}.partial", std::process::id()));
-    let result = (|| {
-        let mut w = BufWriter::new(File::create(&tmp)?);
-        fill(&mut w)?;
-        let file = w.into_inner().map_err(|e| e.into_error())?;
-        file.sync_all()?;
-        std::fs::rename(&tmp, path)
-    })();
-    if result.is_err() {
-        let _ = std::fs::remove_file(&tmp);
-    }
-    result.map_err(err)
+    let mut f = AtomicFile::create(path)?;
+    fill(&mut f).map_err(|e| f.error(e))?;
+    f.commit()
 }
 
 #[cfg(test)]
@@ -58,5 +122,16 @@ mod tests {
             1,
             "no temporary file left"
         );
+    }
+
+    #[test]
+    fn an_uncommitted_file_is_discarded() {
+        let dir = tempfile::tempdir().unwrap();
+        let p = dir.path().join("out.csv");
+        {
+            let mut f = AtomicFile::create(&p).unwrap();
+            f.write_all(b"partial").unwrap();
+        }
+        assert_eq!(std::fs::read_dir(dir.path()).unwrap().count(), 0);
     }
 }

@@ -6,6 +6,7 @@ use std::fmt::Write as _;
 
 use crate::assess::{Assessed, Severity};
 use crate::ingest::{Problem, SheetReport};
+use crate::pipeline::Tally;
 
 /// Terminal styling, or none.
 #[derive(Clone, Copy)]
@@ -124,19 +125,11 @@ pub fn flagged(rows: &[Assessed], style: Style) -> String {
 }
 
 /// Totals and the problems, one line each.
-pub fn summary(rows: &[Assessed], problems: &[Problem], files: usize) -> String {
-    let impossible = rows.iter().filter(|a| a.is_impossible()).count();
-    let suspicious = rows
-        .iter()
-        .filter(|a| !a.is_impossible() && !a.flags.is_empty())
-        .count();
+pub fn summary(tally: &Tally, problems: &[Problem], files: usize) -> String {
+    let clean = tally.rows - tally.impossible - tally.suspicious;
     let mut out = format!(
         "{} submissions from {} files: {} with impossible entries (!), {} suspicious only (?), {} clean\n",
-        rows.len(),
-        files,
-        impossible,
-        suspicious,
-        rows.len() - impossible - suspicious
+        tally.rows, files, tally.impossible, tally.suspicious, clean
     );
     for p in problems {
         let _ = writeln!(out, "{} {p}", if p.fatal { "error:" } else { "note:" });

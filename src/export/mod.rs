@@ -16,9 +16,25 @@ pub fn neutralise(text: &str) -> std::borrow::Cow<'_, str> {
 
 /// A number at full precision (the shortest text that reads back exactly), or nothing.
 pub fn number(v: Option<f64>) -> String {
-    v.filter(|x| x.is_finite())
-        .map(|x| format!("{x}"))
-        .unwrap_or_default()
+    let mut s = String::new();
+    push_number(&mut s, v);
+    s
+}
+
+/// Appends a number as `number` writes it: the shortest round-trip digits, no exponent and no
+/// trailing ".0" (the same text as Rust's `Display`, produced faster with ryu).
+pub fn push_number(out: &mut String, v: Option<f64>) {
+    let Some(x) = v.filter(|x| x.is_finite()) else {
+        return;
+    };
+    let mut buf = ryu::Buffer::new();
+    let s = buf.format_finite(x);
+    if s.contains('e') {
+        use std::fmt::Write as _;
+        let _ = write!(out, "{x}");
+    } else {
+        out.push_str(s.strip_suffix(".0").unwrap_or(s));
+    }
 }
 
 #[cfg(test)]
@@ -39,5 +55,12 @@ mod tests {
         assert_eq!(number(Some(v)).parse::<f64>().unwrap(), v);
         assert_eq!(number(None), "");
         assert_eq!(number(Some(f64::NAN)), "");
+    }
+
+    proptest::proptest! {
+        #[test]
+        fn numbers_read_as_rust_displays_them(x in proptest::num::f64::NORMAL | proptest::num::f64::ZERO) {
+            proptest::prop_assert_eq!(number(Some(x)), format!("{x}"));
+        }
     }
 }

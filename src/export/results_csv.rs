@@ -1,10 +1,11 @@
 //! DIR/results.csv: one row per submission, columns exactly as the results contract orders them;
-//! later columns are only ever appended.
+//! later columns are only ever appended. Written row by row as the batch streams past.
 
-use std::io::Write;
-use std::path::Path;
+use std::fmt::Write as _;
+use std::path::{Path, PathBuf};
 
-use super::{atomic::write_atomic, neutralise, number};
+use super::atomic::AtomicFile;
+use super::{neutralise, push_number};
 use crate::assess::Assessed;
 use crate::error::WriteError;
 
@@ -37,52 +38,92 @@ pub const COLUMNS: [&str; 24] = [
     "notes",
 ];
 
-fn text(v: &Option<String>) -> String {
-    v.as_deref()
-        .map(|s| neutralise(s).into_owned())
-        .unwrap_or_default()
+/// The results file being written.
+pub struct ResultsCsv {
+    csv: csv::Writer<AtomicFile>,
+    path: PathBuf,
+    buf: String,
 }
 
-/// The fields of one row, in column order.
-pub fn record(a: &Assessed) -> Vec<String> {
-    let s = &a.submission;
-    vec![
-        s.source.clone(),
-        s.sheet.clone().unwrap_or_default(),
-        s.row.to_string(),
-        neutralise(&s.section).into_owned(),
-        text(&s.student_id),
-        text(&s.student_name),
-        text(&s.bench),
-        text(&a.compound.clone().or_else(|| s.compound.clone())),
-        number(s.crude_mass_g),
-        number(s.recovered_mass_g),
-        number(s.solvent_volume_ml),
-        number(s.mp_onset_c),
-        number(s.mp_clear_c),
-        number(s.reported_recovery_pct),
-        number(a.recovery_pct),
-        number(a.range_width_c),
-        number(a.reference_mp_c),
-        number(a.depression_c),
-        a.flag_codes(),
-        neutralise(&a.flag_notes()).into_owned(),
-        text(&s.assistant),
-        text(&s.apparatus),
-        text(&s.solvent),
-        s.notes.join("; "),
-    ]
-}
-
-pub fn write_to(w: &mut dyn Write, rows: &[Assessed]) -> std::io::Result<()> {
-    let mut out = csv::Writer::from_writer(w);
-    out.write_record(COLUMNS)?;
-    for a in rows {
-        out.write_record(record(a))?;
+impl ResultsCsv {
+    pub fn create(path: &Path) -> Result<ResultsCsv, WriteError> {
+        let mut out = ResultsCsv {
+            csv: csv::Writer::from_writer(AtomicFile::create(path)?),
+            path: path.to_path_buf(),
+            buf: String::new(),
+        };
+        out.csv.write_record(COLUMNS).map_err(|e| out.error(e))?;
+        Ok(out)
     }
-    out.flush()
-}
 
-pub fn write(path: &Path, rows: &[Assessed]) -> Result<(), WriteError> {
-    write_atomic(path, |w| write_to(w, rows))
+    fn error(&self, e: csv::Error) -> WriteError {
+        WriteError {
+            path: self.path.clone(),
+            source: e.into(),
+        }
+    }
+
+    fn text(&mut self, v: Option<&str>) -> csv::Result<()> {
+        self.csv
+            .write_field(v.map(neutralise).as_deref().unwrap_or(""))
+    }
+
+    fn number(&mut self, v: Option<f64>) -> csv::Result<()> {
+        self.buf.clear();
+        push_number(&mut self.buf, v);
+        self.csv.write_field(&self.buf)
+    }
+
+    fn fields(&mut self, a: &Assessed) -> csv::Result<()> {
+        let s = &a.submission;
+        self.csv.write_field(&s.source)?;
+        self.csv.write_field(s.sheet.as_deref().unwrap_or(""))?;
+        self.buf.clear();
+        let _ = write!(self.buf, "{}", s.row);
+        self.csv.write_field(&self.buf)?;
+        self.text(Some(&s.section))?;
+        self.text(s.student_id.as_deref())?;
+        self.text(s.student_name.as_deref())?;
+        self.text(s.bench.as_deref())?;
+        self.text(a.compound.as_deref().or(s.compound.as_deref()))?;
+        for v in [
+            s.crude_mass_g,
+            s.recovered_mass_g,
+            s.solvent_volume_ml,
+            s.mp_onset_c,
+            s.mp_clear_c,
+            s.reported_recovery_pct,
+        ] {
+            self.number(v)?;
+        }
+        for v in [
+            a.recovery_pct,
+            a.range_width_c,
+            a.reference_mp_c,
+            a.depression_c,
+        ] {
+            self.number(v)?;
+        }
+        self.csv.write_field(a.flag_codes())?;
+        self.text(Some(&a.flag_notes()))?;
+        self.text(s.assistant.as_deref())?;
+        self.text(s.apparatus.as_deref())?;
+        self.text(s.solvent.as_deref())?;
+        self.csv.write_field(s.notes.join("; "))?;
+        self.csv.write_record(None::<&[u8]>)
+    }
+
+    /// Appends one row.
+    pub fn row(&mut self, a: &Assessed) -> Result<(), WriteError> {
+        self.fields(a).map_err(|e| self.error(e))
+    }
+
+    pub fn finish(self) -> Result<(), WriteError> {
+        let path = self.path.clone();
+        let file = self.csv.into_inner().map_err(|e| WriteError {
+            path,
+            source: e.into_error(),
+        })?;
+        file.commit()
+    }
 }

@@ -1,11 +1,13 @@
 //! DIR/results.json: the same records as results.csv, typed (numbers as numbers, flags as a
-//! list), with the batch's file problems beside them.
+//! list), one record per line so that it streams and diffs well, with the batch's file problems
+//! at the end.
 
+use std::io::Write;
 use std::path::Path;
 
 use serde::Serialize;
 
-use super::atomic::write_atomic;
+use super::atomic::AtomicFile;
 use crate::assess::Assessed;
 use crate::error::WriteError;
 use crate::ingest::Problem;
@@ -36,14 +38,6 @@ struct Record<'a> {
     apparatus: Option<&'a str>,
     solvent: Option<&'a str>,
     notes: &'a [String],
-}
-
-#[derive(Serialize)]
-struct Document<'a> {
-    tool: &'static str,
-    version: &'static str,
-    records: Vec<Record<'a>>,
-    problems: &'a [Problem],
 }
 
 fn record(a: &Assessed) -> Record<'_> {
@@ -80,15 +74,40 @@ fn record(a: &Assessed) -> Record<'_> {
     }
 }
 
-pub fn write(path: &Path, rows: &[Assessed], problems: &[Problem]) -> Result<(), WriteError> {
-    let doc = Document {
-        tool: "benchgrade",
-        version: env!("CARGO_PKG_VERSION"),
-        records: rows.iter().map(record).collect(),
-        problems,
-    };
-    write_atomic(path, |w| {
-        serde_json::to_writer_pretty(&mut *w, &doc)?;
-        w.write_all(b"\n")
-    })
+/// The JSON results being written.
+pub struct ResultsJson {
+    file: AtomicFile,
+    first: bool,
+}
+
+impl ResultsJson {
+    pub fn create(path: &Path) -> Result<ResultsJson, WriteError> {
+        let mut file = AtomicFile::create(path)?;
+        let head = format!(
+            "{{\"tool\":\"benchgrade\",\"version\":\"{}\",\"records\":[",
+            env!("CARGO_PKG_VERSION")
+        );
+        file.write_all(head.as_bytes()).map_err(|e| file.error(e))?;
+        Ok(ResultsJson { file, first: true })
+    }
+
+    pub fn row(&mut self, a: &Assessed) -> Result<(), WriteError> {
+        let sep: &[u8] = if self.first { b"\n" } else { b",\n" };
+        self.first = false;
+        let result = self
+            .file
+            .write_all(sep)
+            .and_then(|_| serde_json::to_writer(&mut self.file, &record(a)).map_err(Into::into));
+        result.map_err(|e| self.file.error(e))
+    }
+
+    pub fn finish(mut self, problems: &[Problem]) -> Result<(), WriteError> {
+        let result = (|| {
+            self.file.write_all(b"\n],\"problems\":")?;
+            serde_json::to_writer(&mut self.file, problems)?;
+            self.file.write_all(b"}\n")
+        })();
+        result.map_err(|e| self.file.error(e))?;
+        self.file.commit()
+    }
 }

@@ -112,26 +112,62 @@ pub struct RawSheet {
     pub rows: Vec<RawRow>,
 }
 
-/// Builds sparse rows from cells in any order, dropping empty cells.
-pub fn rows_from_cells(mut cells: Vec<(u32, u32, Cell)>) -> Vec<RawRow> {
-    cells.retain(|(_, _, c)| !c.is_empty());
-    if !cells
-        .windows(2)
-        .all(|w| (w[0].0, w[0].1) <= (w[1].0, w[1].1))
-    {
-        cells.sort_by_key(|(r, c, _)| (*r, *c));
-    }
-    let mut rows: Vec<RawRow> = Vec::new();
-    for (r, c, cell) in cells {
-        match rows.last_mut() {
+/// Collects cells into sparse rows as a reader streams them, dropping empty cells. Cells
+/// usually arrive in row order; if they do not, `finish` sorts them.
+#[derive(Debug, Default)]
+pub struct RowBuilder {
+    rows: Vec<RawRow>,
+    last: Option<(u32, u32)>,
+    unsorted: bool,
+}
+
+impl RowBuilder {
+    pub fn push(&mut self, r: u32, c: u32, cell: Cell) {
+        if cell.is_empty() {
+            return;
+        }
+        if self.last.is_some_and(|l| (r, c) <= l) {
+            self.unsorted = true;
+        }
+        self.last = Some((r, c));
+        match self.rows.last_mut() {
             Some(row) if row.index == r => row.cells.push((c, cell)),
-            _ => rows.push(RawRow {
+            _ => self.rows.push(RawRow {
                 index: r,
                 cells: vec![(c, cell)],
             }),
         }
     }
-    rows
+
+    pub fn finish(self) -> Vec<RawRow> {
+        if !self.unsorted {
+            return self.rows;
+        }
+        let mut cells: Vec<(u32, u32, Cell)> = self
+            .rows
+            .into_iter()
+            .flat_map(|row| {
+                row.cells
+                    .into_iter()
+                    .map(move |(c, cell)| (row.index, c, cell))
+            })
+            .collect();
+        cells.sort_by_key(|(r, c, _)| (*r, *c));
+        let mut sorted = RowBuilder::default();
+        for (r, c, cell) in cells {
+            sorted.push(r, c, cell);
+        }
+        sorted.rows
+    }
+}
+
+/// Builds sparse rows from cells in any order, dropping empty cells.
+pub fn rows_from_cells(cells: Vec<(u32, u32, Cell)>) -> Vec<RawRow> {
+    let mut b = RowBuilder::default();
+    for (r, c, cell) in cells {
+        b.push(r, c, cell);
+    }
+    b.finish()
 }
 
 /// Column letters for a 0-based column index: 0 is A, 26 is AA.

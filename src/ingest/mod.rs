@@ -12,7 +12,7 @@ pub mod table;
 pub mod values;
 pub mod workbook;
 
-use std::path::{Path, PathBuf};
+use std::path::Path;
 
 use serde::Serialize;
 
@@ -53,38 +53,21 @@ pub struct SheetReport {
     pub encoding: Option<String>,
 }
 
-/// Everything ingest produced.
-#[derive(Debug, Default)]
-pub struct Ingested {
-    pub files: Vec<PathBuf>,
-    pub submissions: Vec<Submission>,
-    pub sheets: Vec<SheetReport>,
-    pub problems: Vec<Problem>,
+/// A sheet as read from a file, ready to be tabulated.
+pub struct SheetData {
+    pub source: String,
+    pub sheet: RawSheet,
+    /// The section for rows without a section column: the sheet name, or the file stem.
+    pub default_section: String,
+    pub decimal: Decimal,
+    pub encoding: Option<String>,
 }
 
-impl Ingested {
-    pub fn has_fatal_problems(&self) -> bool {
-        self.problems.iter().any(|p| p.fatal)
-    }
-}
-
-/// Reads every input file (folders expanded), never stopping at a bad one.
-pub fn ingest(inputs: &[PathBuf], exclude: &[PathBuf], columns: &ColumnOverrides) -> Ingested {
-    let (files, missing) = discover::discover(inputs, exclude);
-    let mut out = Ingested::default();
-    for m in missing {
-        out.problems.push(Problem {
-            file: m.path.display().to_string(),
-            sheet: None,
-            message: m.message,
-            fatal: true,
-        });
-    }
-    for file in &files {
-        ingest_file(file, columns, &mut out);
-    }
-    out.files = files;
-    out
+/// What reading a file produces, in order: its sheets and problems, then `FileDone`.
+pub enum Event {
+    Sheet(SheetData),
+    Problem(Problem),
+    FileDone(String),
 }
 
 fn file_stem(path: &Path) -> String {
@@ -94,147 +77,152 @@ fn file_stem(path: &Path) -> String {
         .to_string()
 }
 
-fn ingest_file(path: &Path, columns: &ColumnOverrides, out: &mut Ingested) {
+/// Reads one file, handing over each sheet (or problem) as soon as it is read.
+/// Safe to run on a reader thread: it only reads.
+pub fn read_file(path: &Path, emit: &mut dyn FnMut(Event)) {
     let source = path.display().to_string();
-    let fatal = |message: String| Problem {
-        file: source.clone(),
-        sheet: None,
-        message,
-        fatal: true,
+    let fatal = |message: String| {
+        Event::Problem(Problem {
+            file: source.clone(),
+            sheet: None,
+            message,
+            fatal: true,
+        })
     };
-    let len = std::fs::metadata(path).map(|m| m.len()).unwrap_or(0);
-    if len == 0 {
-        out.problems.push(fatal("the file is empty".into()));
-        return;
-    }
     let ext = path
         .extension()
         .and_then(|e| e.to_str())
         .unwrap_or("")
         .to_ascii_lowercase();
-    let before = out.sheets.len();
-    if let Some(format) = Format::from_extension(&ext) {
-        match workbook::read_workbook(path, format) {
-            Ok(sheets) => {
-                for s in sheets {
-                    match s.result {
-                        Ok(sheet) => {
-                            ingest_sheet(&source, &sheet, Decimal::Point, None, columns, out)
-                        }
-                        Err(message) => out.problems.push(Problem {
-                            file: source.clone(),
-                            sheet: Some(s.name),
-                            message,
-                            fatal: true,
-                        }),
-                    }
-                }
-            }
-            Err(message) => {
-                out.problems.push(fatal(message));
-                return;
-            }
-        }
-    } else if ext == "csv" || ext == "tsv" || ext == "txt" {
-        let bytes = match std::fs::read(path) {
-            Ok(b) => b,
-            Err(e) => return out.problems.push(fatal(format!("cannot read: {e}"))),
+    let len = std::fs::metadata(path).map(|m| m.len()).unwrap_or(0);
+    if len == 0 {
+        emit(fatal("the file is empty".into()));
+    } else if let Some(format) = Format::from_extension(&ext) {
+        let mut on_sheet = |s: workbook::SheetRead| match s.result {
+            Ok(sheet) => emit(Event::Sheet(SheetData {
+                source: source.clone(),
+                default_section: s.name.clone(),
+                sheet,
+                decimal: Decimal::Point,
+                encoding: None,
+            })),
+            Err(message) => emit(Event::Problem(Problem {
+                file: source.clone(),
+                sheet: Some(s.name),
+                message,
+                fatal: true,
+            })),
         };
-        match delimited::read_delimited(&bytes, ext == "tsv") {
-            Ok(d) => {
-                let stem = file_stem(path);
-                let sheet = RawSheet {
-                    name: None,
-                    rows: d.sheet.rows,
-                };
-                ingest_sheet_named(
-                    &source,
-                    &sheet,
-                    &stem,
-                    d.decimal,
-                    Some(d.encoding.to_string()),
-                    columns,
-                    out,
-                )
-            }
-            Err(message) => return out.problems.push(fatal(message)),
+        if let Err(message) = workbook::read_workbook(path, format, &mut on_sheet) {
+            emit(fatal(message));
+        }
+    } else if ext == "csv" || ext == "tsv" {
+        match std::fs::read(path)
+            .map_err(|e| format!("cannot read: {e}"))
+            .and_then(|b| delimited::read_delimited(&b, ext == "tsv"))
+        {
+            Ok(d) => emit(Event::Sheet(SheetData {
+                source: source.clone(),
+                sheet: d.sheet,
+                default_section: file_stem(path),
+                decimal: d.decimal,
+                encoding: Some(d.encoding.to_string()),
+            })),
+            Err(message) => emit(fatal(message)),
         }
     } else {
-        return out.problems.push(fatal(format!(
+        emit(fatal(format!(
             "not a spreadsheet benchgrade reads (.{ext}); use one of {}",
             discover::EXTENSIONS.join(", ")
         )));
     }
-    let read_any = out.sheets.len() > before;
-    let file_failed = out.problems.iter().any(|p| p.file == source && p.fatal);
-    if !read_any && !file_failed {
-        for p in out.problems.iter_mut().filter(|p| p.file == source) {
-            p.fatal = true;
+    emit(Event::FileDone(source));
+}
+
+/// Receives what readers produce, in order: tabulates sheets into submissions, keeps the sheet
+/// reports and problems, and marks a file none of whose sheets held a table.
+#[derive(Debug, Default)]
+pub struct Collector {
+    pub sheets: Vec<SheetReport>,
+    pub problems: Vec<Problem>,
+    tables_in_file: usize,
+}
+
+impl Collector {
+    pub fn handle(
+        &mut self,
+        event: Event,
+        columns: &ColumnOverrides,
+        on_row: &mut dyn FnMut(Submission),
+    ) {
+        match event {
+            Event::Sheet(data) => match tabulate(&data, columns, on_row) {
+                Ok(report) => {
+                    self.tables_in_file += 1;
+                    self.sheets.push(report);
+                }
+                Err(problem) => self.problems.push(problem),
+            },
+            Event::Problem(p) => self.problems.push(p),
+            Event::FileDone(source) => {
+                let failed = self.problems.iter().any(|p| p.file == source && p.fatal);
+                if self.tables_in_file == 0 && !failed {
+                    for p in self.problems.iter_mut().filter(|p| p.file == source) {
+                        p.fatal = true;
+                    }
+                    self.problems.push(Problem {
+                        file: source,
+                        sheet: None,
+                        message: "no sheet holds a recognisable table of submissions (a header row naming a mass or melting-point column and at least two other fields)".into(),
+                        fatal: true,
+                    });
+                }
+                self.tables_in_file = 0;
+            }
         }
-        out.problems.push(fatal(
-            "no sheet holds a recognisable table of submissions (a header row naming at least a mass or melting point column and two other fields)".into(),
-        ));
     }
 }
 
-fn ingest_sheet(
-    source: &str,
-    sheet: &RawSheet,
-    decimal: Decimal,
-    encoding: Option<String>,
+/// Finds the table in a sheet and hands over each student row as a `Submission`.
+pub fn tabulate(
+    data: &SheetData,
     columns: &ColumnOverrides,
-    out: &mut Ingested,
-) {
-    let name = sheet.name.clone().unwrap_or_default();
-    ingest_sheet_named(source, sheet, &name, decimal, encoding, columns, out)
-}
-
-fn ingest_sheet_named(
-    source: &str,
-    sheet: &RawSheet,
-    default_section: &str,
-    decimal: Decimal,
-    encoding: Option<String>,
-    columns: &ColumnOverrides,
-    out: &mut Ingested,
-) {
+    on_row: &mut dyn FnMut(Submission),
+) -> Result<SheetReport, Problem> {
+    let sheet = &data.sheet;
+    let problem = |message: String, fatal: bool| Problem {
+        file: data.source.clone(),
+        sheet: sheet.name.clone(),
+        message,
+        fatal,
+    };
     let layout = match table::locate(sheet, columns) {
         Ok(l) => l,
         Err(LayoutError::NoTable) => {
-            out.problems.push(Problem {
-                file: source.to_string(),
-                sheet: sheet.name.clone(),
-                message: "skipped: no recognisable table of submissions".into(),
-                fatal: false,
-            });
-            return;
+            return Err(problem(
+                "skipped: no recognisable table of submissions".into(),
+                false,
+            ))
         }
-        Err(LayoutError::Ambiguous(message)) => {
-            out.problems.push(Problem {
-                file: source.to_string(),
-                sheet: sheet.name.clone(),
-                message,
-                fatal: true,
-            });
-            return;
-        }
+        Err(LayoutError::Ambiguous(message)) => return Err(problem(message, true)),
     };
     let origin = row::Origin {
-        source,
+        source: &data.source,
         sheet: sheet.name.as_deref(),
-        default_section,
-        decimal,
+        default_section: &data.default_section,
+        decimal: data.decimal,
     };
     let rows = table::student_rows(sheet, &layout);
     let students = rows.len();
-    out.submissions
-        .extend(rows.into_iter().map(|r| row::read_row(r, &layout, &origin)));
-    out.sheets.push(SheetReport {
-        source: source.to_string(),
+    for r in rows {
+        on_row(row::read_row(r, &layout, &origin));
+    }
+    Ok(SheetReport {
+        source: data.source.clone(),
         sheet: sheet.name.clone(),
         layout,
         students,
-        decimal_comma: decimal == Decimal::Comma,
-        encoding,
-    });
+        decimal_comma: data.decimal == Decimal::Comma,
+        encoding: data.encoding.clone(),
+    })
 }

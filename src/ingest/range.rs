@@ -69,8 +69,33 @@ fn split_range(text: &str) -> Option<(&str, &str)> {
     Some((&text[..p], &text[p + width..]))
 }
 
+/// The common case, "121.5-122.0" (digits and points around one hyphen), read without the
+/// general machinery. `None` sends anything else down the general path.
+fn plain_range(text: &str) -> Option<RawRange> {
+    let b = text.as_bytes();
+    let plain = |s: &[u8]| {
+        !s.is_empty() && s[0].is_ascii_digit() && s.iter().all(|c| c.is_ascii_digit() || *c == b'.')
+    };
+    let dash = b.iter().position(|c| *c == b'-')?;
+    let (a, rest) = (&b[..dash], &b[dash + 1..]);
+    if !plain(a) || !plain(rest) {
+        return None;
+    }
+    let onset = text[..dash].parse().ok()?;
+    let clear = text[dash + 1..].parse().ok()?;
+    Some(RawRange {
+        onset,
+        clear,
+        unit: None,
+        single: false,
+    })
+}
+
 /// Reads a melting range; `None` when the text is not one.
 pub fn parse_range(text: &str, decimal: Decimal) -> Option<RawRange> {
+    if let Some(r) = plain_range(text) {
+        return Some(r);
+    }
     let (t, _) = strip_approximate(text.trim());
     let t = t.trim();
     if t.is_empty() {

@@ -185,7 +185,6 @@ fn resolve(cols: Vec<(Column, HeaderMeaning)>) -> Result<Vec<Column>, LayoutErro
 
 /// Text in a row's first cell that marks the end of the student rows.
 fn is_summary_label(text: &str) -> bool {
-    let t = text.trim().trim_end_matches(':').trim().to_lowercase();
     const EXACT: [&str; 20] = [
         "total",
         "totals",
@@ -208,20 +207,20 @@ fn is_summary_label(text: &str) -> bool {
         "summary",
         "statistics",
     ];
-    const PREFIX: [&str; 6] = [
+    const PREFIX: [&str; 8] = [
         "total:",
         "average:",
         "mean:",
         "notes:",
         "note:",
         "comments:",
+        "n =",
+        "n=",
     ];
-    EXACT.contains(&t.as_str())
-        || PREFIX
-            .iter()
-            .any(|p| text.trim().to_lowercase().starts_with(p))
-        || t.starts_with("n =")
-        || t.starts_with("n=")
+    let t = text.trim();
+    let bare = t.trim_end_matches(':').trim_end();
+    let starts = |p: &str| t.get(..p.len()).is_some_and(|h| h.eq_ignore_ascii_case(p));
+    EXACT.iter().any(|w| bare.eq_ignore_ascii_case(w)) || PREFIX.iter().any(|p| starts(p))
 }
 
 /// The rows below the header that are student rows, in order.
@@ -242,9 +241,11 @@ pub fn student_rows<'a>(sheet: &'a RawSheet, layout: &Layout) -> Vec<&'a RawRow>
     for row in &sheet.rows[layout.header_pos + 1..] {
         let gap = row.index > prev + 1;
         prev = row.index;
-        let first = row.non_empty().next().and_then(|(_, c)| c.as_text());
-        if first.as_deref().is_some_and(is_summary_label) {
-            break;
+        let first = row.non_empty().next().map(|(_, c)| c);
+        if let Some(super::cells::Cell::Text(t)) = first {
+            if is_summary_label(t) {
+                break;
+            }
         }
         let filled = mapped.iter().filter(|&&c| !row.get(c).is_empty()).count();
         let names_someone = who.iter().any(|&c| !row.get(c).is_empty());

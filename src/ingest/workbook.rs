@@ -10,7 +10,7 @@ use std::path::Path;
 
 use calamine::{open_workbook, Data, DataRef, Ods, Reader, Xls, Xlsb, Xlsx};
 
-use super::cells::{rows_from_cells, Cell, RawSheet};
+use super::cells::{Cell, RawSheet, RowBuilder};
 
 /// Largest total size a zipped workbook may expand to.
 pub const MAX_EXPANDED_BYTES: u64 = 2 << 30;
@@ -125,27 +125,27 @@ fn describe<E: std::fmt::Display>(e: E) -> String {
 
 fn stream_xlsx(wb: &mut Xlsx<BufReader<File>>, name: &str) -> Result<RawSheet, String> {
     let mut reader = wb.worksheet_cells_reader(name).map_err(describe)?;
-    let mut cells = Vec::new();
+    let mut rows = RowBuilder::default();
     while let Some(cell) = reader.next_cell().map_err(describe)? {
         let (r, c) = bounded(cell.get_position())?;
-        cells.push((r, c, from_data_ref(cell.get_value().clone())));
+        rows.push(r, c, from_data_ref(cell.get_value().clone()));
     }
     Ok(RawSheet {
         name: Some(name.to_string()),
-        rows: rows_from_cells(cells),
+        rows: rows.finish(),
     })
 }
 
 fn stream_xlsb(wb: &mut Xlsb<BufReader<File>>, name: &str) -> Result<RawSheet, String> {
     let mut reader = wb.worksheet_cells_reader(name).map_err(describe)?;
-    let mut cells = Vec::new();
+    let mut rows = RowBuilder::default();
     while let Some(cell) = reader.next_cell().map_err(describe)? {
         let (r, c) = bounded(cell.get_position())?;
-        cells.push((r, c, from_data_ref(cell.get_value().clone())));
+        rows.push(r, c, from_data_ref(cell.get_value().clone()));
     }
     Ok(RawSheet {
         name: Some(name.to_string()),
-        rows: rows_from_cells(cells),
+        rows: rows.finish(),
     })
 }
 
@@ -155,13 +155,13 @@ where
 {
     let range = wb.worksheet_range(name).map_err(describe)?;
     let (r0, c0) = range.start().unwrap_or((0, 0));
-    let cells = range
-        .used_cells()
-        .map(|(r, c, d)| (r0 + r as u32, c0 + c as u32, from_data(d)))
-        .collect();
+    let mut rows = RowBuilder::default();
+    for (r, c, d) in range.used_cells() {
+        rows.push(r0 + r as u32, c0 + c as u32, from_data(d));
+    }
     Ok(RawSheet {
         name: Some(name.to_string()),
-        rows: rows_from_cells(cells),
+        rows: rows.finish(),
     })
 }
 
@@ -186,35 +186,48 @@ impl Format {
     }
 }
 
-fn read_all<R, F>(mut wb: R, mut read: F) -> Vec<SheetRead>
+fn read_all<R, F>(mut wb: R, mut read: F, on_sheet: &mut dyn FnMut(SheetRead))
 where
     R: Reader<BufReader<File>>,
     F: FnMut(&mut R, &str) -> Result<RawSheet, String>,
 {
-    wb.sheet_names()
-        .into_iter()
-        .map(|name| {
-            let result = read(&mut wb, &name);
-            SheetRead { name, result }
-        })
-        .collect()
+    for name in wb.sheet_names() {
+        let result = read(&mut wb, &name);
+        on_sheet(SheetRead { name, result });
+    }
 }
 
-/// Opens a workbook and reads every sheet. `Err` when the file itself cannot be opened.
-pub fn read_workbook(path: &Path, format: Format) -> Result<Vec<SheetRead>, String> {
+/// Opens a workbook and hands over each sheet as soon as it is read, so that only one sheet's
+/// cells are held at a time. `Err` when the file itself cannot be opened.
+pub fn read_workbook(
+    path: &Path,
+    format: Format,
+    on_sheet: &mut dyn FnMut(SheetRead),
+) -> Result<(), String> {
     if format != Format::Xls {
         check_zip(path)?;
     }
-    Ok(match format {
+    match format {
         Format::Xlsx => read_all(
             open_workbook::<Xlsx<_>, _>(path).map_err(describe)?,
             stream_xlsx,
+            on_sheet,
         ),
         Format::Xlsb => read_all(
             open_workbook::<Xlsb<_>, _>(path).map_err(describe)?,
             stream_xlsb,
+            on_sheet,
         ),
-        Format::Xls => read_all(open_workbook::<Xls<_>, _>(path).map_err(describe)?, dense),
-        Format::Ods => read_all(open_workbook::<Ods<_>, _>(path).map_err(describe)?, dense),
-    })
+        Format::Xls => read_all(
+            open_workbook::<Xls<_>, _>(path).map_err(describe)?,
+            dense,
+            on_sheet,
+        ),
+        Format::Ods => read_all(
+            open_workbook::<Ods<_>, _>(path).map_err(describe)?,
+            dense,
+            on_sheet,
+        ),
+    }
+    Ok(())
 }
