@@ -80,7 +80,7 @@ fn stream(
     let mut collector = Collector::default();
     let mut failure: Option<WriteError> = None;
     std::thread::scope(|scope| {
-        let (tx, rx) = sync_channel(2);
+        let (tx, rx) = sync_channel(0);
         scope.spawn(move || {
             for f in files {
                 let mut open = true;

@@ -78,6 +78,8 @@ fn record(a: &Assessed) -> Record<'_> {
 pub struct ResultsJson {
     file: AtomicFile,
     first: bool,
+    /// One record's text, reused.
+    buf: Vec<u8>,
 }
 
 impl ResultsJson {
@@ -88,16 +90,21 @@ impl ResultsJson {
             env!("CARGO_PKG_VERSION")
         );
         file.write_all(head.as_bytes()).map_err(|e| file.error(e))?;
-        Ok(ResultsJson { file, first: true })
+        Ok(ResultsJson {
+            file,
+            first: true,
+            buf: Vec::new(),
+        })
     }
 
     pub fn row(&mut self, a: &Assessed) -> Result<(), WriteError> {
         let sep: &[u8] = if self.first { b"\n" } else { b",\n" };
         self.first = false;
-        let result = self
-            .file
-            .write_all(sep)
-            .and_then(|_| serde_json::to_writer(&mut self.file, &record(a)).map_err(Into::into));
+        self.buf.clear();
+        self.buf.extend_from_slice(sep);
+        let result = serde_json::to_writer(&mut self.buf, &record(a))
+            .map_err(Into::into)
+            .and_then(|_| self.file.write_all(&self.buf));
         result.map_err(|e| self.file.error(e))
     }
 

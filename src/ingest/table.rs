@@ -112,6 +112,10 @@ pub fn locate(sheet: &RawSheet, overrides: &ColumnOverrides) -> Result<Layout, L
     type Candidate = (usize, Vec<(Column, HeaderMeaning)>, usize);
     let mut best: Option<Candidate> = None;
     for (pos, row) in sheet.rows.iter().take(HEADER_SEARCH_ROWS).enumerate() {
+        // a header is found near the top; once one is, a few more rows settle it
+        if best.as_ref().is_some_and(|b| pos > b.0 + 10) {
+            break;
+        }
         let cols = header_columns(row, overrides);
         let (n, core) = score(&cols);
         if n >= MIN_HEADER_FIELDS && core && best.as_ref().is_none_or(|b| n > b.2) {
