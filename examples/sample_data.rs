@@ -93,7 +93,8 @@ fn section(rng: &mut Lcg, first_id: u32, n: usize, high_bench: Option<u32>) -> V
                 bench,
                 crude,
                 recovered: round(crude * recovery, 2),
-                water_ml: round(rng.between(45.0, 70.0), 0),
+                // boiling water needs about 18 mL per gram (solubility 56 g/L); students use a little more
+                water_ml: round(crude * rng.between(19.5, 27.0), 0),
                 onset,
                 clear,
             }
@@ -130,6 +131,7 @@ fn write_section_01(dir: &Path, rng: &mut Lcg) -> Result<(), Box<dyn std::error:
         rows[16].clear,
     ) = (3.00, 2.10, 114.0, 119.0); // impure
     rows[18].recovered = round(rows[18].crude * 0.38, 2); // low recovery
+    rows[20].water_ml = round(rows[20].crude * 14.0, 0); // less water than dissolves the crude
     let mut wb = Workbook::new();
     wb.set_properties(&fixed_properties());
     let title = Format::new().set_bold().set_align(FormatAlign::Center);
@@ -341,6 +343,7 @@ fn write_section_03(dir: &Path, rng: &mut Lcg) -> Result<(), Box<dyn std::error:
     rows[1].name = "Zoë Brückner".into();
     rows[6].name = "José Ibáñez".into();
     rows[4].crude = -2.1; // sign typo
+    (rows[13].onset, rows[13].clear) = (108.0, 112.5); // very impure, below bench 6's standards
     let mut text = String::from("CHEM 2150 Sektion 03;;;;;;;\nStudent number;Name;Bench;Crude mass [g];Recovered mass [g];Solvent [mL];Melting range;Recovery %\n");
     for (i, r) in rows.iter().enumerate() {
         let range = match i {
@@ -399,6 +402,29 @@ fn write_late_entries(dir: &Path, rng: &mut Lcg) -> Result<(), Box<dyn std::erro
     Ok(())
 }
 
+/// The melting-point apparatus check run at the start of term: each bench read two USP-style
+/// reference standards; the certified values are this term's lots. Bench 7 is missing (its
+/// thermometer was swapped in week 6 and not rechecked); bench 6 only ran the two middle
+/// standards, so a reading far below them is outside its calibrated span.
+fn write_calibration(dir: &Path) -> Result<(), Box<dyn std::error::Error>> {
+    let mut text = String::from("Bench,Standard,Observed (°C),Certified (°C)\n");
+    let offsets = [
+        (1, 0.2),
+        (2, -0.6),
+        (3, 0.4),
+        (4, -0.3),
+        (5, 0.9),
+        (8, -0.2),
+    ];
+    for (bench, off) in offsets {
+        text += &format!("{bench},vanillin,{:.1},82.0\n", 82.0 + off);
+        text += &format!("{bench},caffeine,{:.1},236.2\n", 236.2 + off * 1.4);
+    }
+    text += "6,acetanilide,115.6,115.0\n6,phenacetin,135.4,134.9\n";
+    std::fs::write(dir.join("calibration.csv"), text)?;
+    Ok(())
+}
+
 fn main() -> Result<(), Box<dyn std::error::Error>> {
     let dir = std::env::args()
         .nth(1)
@@ -410,6 +436,7 @@ fn main() -> Result<(), Box<dyn std::error::Error>> {
     write_section_02(dir, &mut rng)?;
     write_section_03(dir, &mut rng)?;
     write_late_entries(dir, &mut rng)?;
+    write_calibration(dir)?;
     println!("wrote {}", dir.display());
     Ok(())
 }

@@ -64,4 +64,8 @@ pub struct RunArgs {
     /// Accepted melting point of the experiment's compound, in °C
     #[arg(long, value_name = "CELSIUS", allow_negative_numbers = true)]
     pub reference_mp: Option<f64>,
+    /// Apparatus calibration: a CSV, or a workbook whose "Calibration" sheet lists, per apparatus
+    /// or bench, standards' observed readings and certified values
+    #[arg(long, value_name = "FILE")]
+    pub calibration: Option<PathBuf>,
 }

@@ -6,6 +6,7 @@ use std::path::{Path, PathBuf};
 
 use serde::Deserialize;
 
+use crate::assess::{accepted, ReferenceRule};
 use crate::error::{toml_location, ConfigError};
 use crate::ingest::headers::ColumnOverrides;
 use crate::reference::Library;
@@ -22,6 +23,7 @@ pub struct Options {
     pub columns: Option<PathBuf>,
     pub compounds: Option<PathBuf>,
     pub reference_mp_c: Option<f64>,
+    pub calibration: Option<PathBuf>,
 }
 
 /// Everything a run needs, validated.
@@ -34,7 +36,10 @@ pub struct Config {
     pub rubric_source: String,
     pub columns: ColumnOverrides,
     pub library: Library,
-    pub accepted_mp_c: Option<f64>,
+    /// How the experiment compound's reference is chosen.
+    pub reference: ReferenceRule,
+    /// The calibration file to apply, if any (command line, else the rubric's).
+    pub calibration: Option<PathBuf>,
 }
 
 #[derive(Deserialize)]
@@ -79,12 +84,15 @@ impl Config {
         if let Some(p) = &opts.compounds {
             library.extend_from_file(p)?;
         }
+        let reference = rubric.reference_rule(opts.reference_mp_c);
         if let Some(c) = rubric.experiment.compound.as_deref() {
-            if library.lookup(c).is_none() {
+            let Some(compound) = library.lookup(c) else {
                 return Err(ConfigError::Invalid(format!(
                     "{rubric_source}: experiment.compound \"{c}\" is not in the reference library; add it with --compounds FILE (see `benchgrade compounds`)"
                 )));
-            }
+            };
+            accepted::reference_for(compound, &reference)
+                .map_err(|m| ConfigError::Invalid(format!("{rubric_source}: {m}")))?;
         }
         if let Some(v) = opts.reference_mp_c {
             if !v.is_finite() {
@@ -113,7 +121,16 @@ impl Config {
         Ok(Config {
             inputs,
             out_dir,
-            accepted_mp_c: opts.reference_mp_c.or(rubric.experiment.reference_mp_c),
+            reference,
+            calibration: opts.calibration.or_else(|| {
+                let rel = rubric.experiment.calibration.as_ref()?;
+                let base = opts
+                    .rubric
+                    .as_ref()
+                    .and_then(|r| r.parent())
+                    .unwrap_or(Path::new(""));
+                Some(base.join(rel))
+            }),
             rubric,
             rubric_source,
             columns,

@@ -34,6 +34,7 @@ fn options(run: RunArgs, out: Option<PathBuf>) -> Options {
         columns: run.columns,
         compounds: run.compounds,
         reference_mp_c: run.reference_mp,
+        calibration: run.calibration,
     }
 }
 

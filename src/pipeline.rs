@@ -6,7 +6,7 @@
 use std::path::{Path, PathBuf};
 use std::sync::mpsc::sync_channel;
 
-use crate::assess::{Assessed, Assessor, Context};
+use crate::assess::{calibration, Assessed, Assessor, Calibration, Context};
 use crate::config::Config;
 use crate::error::{ConfigError, WriteError};
 use crate::export::{results_csv::ResultsCsv, results_json::ResultsJson};
@@ -58,13 +58,61 @@ pub enum RunError {
     Write(#[from] WriteError),
 }
 
-fn context(config: &Config) -> Context<'_> {
+fn context<'a>(config: &'a Config, calibration: Option<&'a Calibration>) -> Context<'a> {
     Context {
         library: &config.library,
-        default_compound: config.rubric.experiment.compound.as_deref(),
-        accepted_mp_c: config.accepted_mp_c,
+        experiment: &config.rubric.experiment,
+        reference: config.reference.clone(),
         tolerances: &config.rubric.tolerances,
+        calibration,
     }
+}
+
+/// Loads the calibration, if one is named. A bad file is reported and the batch is graded
+/// uncorrected.
+fn load_calibration(path: Option<&Path>, problems: &mut Vec<Problem>) -> Option<Calibration> {
+    let path = path?;
+    match calibration::load(path) {
+        Ok(c) => Some(c),
+        Err(errors) => {
+            let file = path.display().to_string();
+            for message in errors {
+                problems.push(Problem {
+                    file: file.clone(),
+                    sheet: None,
+                    message,
+                    fatal: true,
+                });
+            }
+            problems.push(Problem {
+                file,
+                sheet: None,
+                message: "calibration not applied: every reading is graded uncorrected".into(),
+                fatal: true,
+            });
+            None
+        }
+    }
+}
+
+/// Calibration entries that no submission used: most often a misspelt apparatus.
+fn unused_calibration(
+    cal: &Calibration,
+    used: &std::collections::BTreeSet<String>,
+) -> Vec<Problem> {
+    cal.fits
+        .iter()
+        .filter(|(key, _)| !used.contains(*key))
+        .map(|(_, (name, row, _))| Problem {
+            file: cal.source.clone(),
+            sheet: None,
+            message: format!(
+                "row {row}: {} \"{name}\" appears in no submission; check its spelling",
+                cal.keyed_by.label()
+            ),
+            fatal: false,
+        })
+        .collect()
 }
 
 /// Reads `files` on a reader thread and hands each assessed row to `on_row`, in batch order.
@@ -72,11 +120,13 @@ fn context(config: &Config) -> Context<'_> {
 fn stream(
     config: &Config,
     files: &[PathBuf],
+    calibration_file: Option<&Path>,
     batch: &mut Batch,
     on_row: &mut dyn FnMut(&Assessed) -> Result<(), WriteError>,
     keep_rows: bool,
 ) -> Result<(), WriteError> {
-    let mut assessor = Assessor::new(context(config));
+    let calibration = load_calibration(calibration_file, &mut batch.problems);
+    let mut assessor = Assessor::new(context(config, calibration.as_ref()));
     let mut collector = Collector::default();
     let mut failure: Option<WriteError> = None;
     std::thread::scope(|scope| {
@@ -108,13 +158,27 @@ fn stream(
     });
     batch.sheets = collector.sheets;
     batch.problems.extend(collector.problems);
+    if let Some(cal) = &calibration {
+        batch
+            .problems
+            .extend(unused_calibration(cal, assessor.apparatus_seen()));
+    }
     failure.map_or(Ok(()), Err)
 }
 
-fn discover_inputs(config: &Config) -> Batch {
-    let (files, missing) =
+/// A file found in a folder whose name says it holds the apparatus calibration.
+fn is_calibration_file(path: &Path) -> bool {
+    path.file_stem()
+        .and_then(|s| s.to_str())
+        .is_some_and(|s| s.to_lowercase().contains("calibration"))
+}
+
+/// The files to grade, and the calibration file to apply: the one named, else one found
+/// among the inputs by its name (it is then not graded as submissions).
+fn discover_inputs(config: &Config) -> (Batch, Option<PathBuf>) {
+    let (found, missing) =
         discover::discover(&config.inputs, std::slice::from_ref(&config.out_dir));
-    let problems = missing
+    let mut problems: Vec<Problem> = missing
         .into_iter()
         .map(|m| Problem {
             file: m.path.display().to_string(),
@@ -123,19 +187,56 @@ fn discover_inputs(config: &Config) -> Batch {
             fatal: true,
         })
         .collect();
-    Batch {
-        files,
-        problems,
-        ..Batch::default()
+    let named = config
+        .calibration
+        .as_ref()
+        .and_then(|p| p.canonicalize().ok());
+    let (calibrations, files): (Vec<PathBuf>, Vec<PathBuf>) = found.into_iter().partition(|f| {
+        let is_named = named
+            .as_ref()
+            .is_some_and(|n| f.canonicalize().is_ok_and(|c| c == *n));
+        is_named || is_calibration_file(f)
+    });
+    let calibration = config
+        .calibration
+        .clone()
+        .or_else(|| calibrations.first().cloned());
+    for extra in calibrations
+        .iter()
+        .filter(|c| Some(*c) != calibration.as_ref())
+    {
+        problems.push(Problem {
+            file: extra.display().to_string(),
+            sheet: None,
+            message:
+                "not used: another calibration file applies; name the one to use with --calibration"
+                    .into(),
+            fatal: false,
+        });
     }
+    (
+        Batch {
+            files,
+            problems,
+            ..Batch::default()
+        },
+        calibration,
+    )
 }
 
 /// Reads and assesses, writing nothing; every row is kept in `Batch::rows`.
 pub fn assess_batch(config: &Config) -> Batch {
-    let mut batch = discover_inputs(config);
+    let (mut batch, calibration) = discover_inputs(config);
     let files = std::mem::take(&mut batch.files);
     // on_row never fails here, so neither does stream
-    let _ = stream(config, &files, &mut batch, &mut |_| Ok(()), true);
+    let _ = stream(
+        config,
+        &files,
+        calibration.as_deref(),
+        &mut batch,
+        &mut |_| Ok(()),
+        true,
+    );
     batch.files = files;
     batch
 }
@@ -165,7 +266,7 @@ fn refuse_overwriting_inputs(outputs: &[PathBuf], inputs: &[PathBuf]) -> Result<
 
 /// Grades the batch and writes results.csv and results.json into the output folder.
 pub fn grade(config: &Config) -> Result<Batch, RunError> {
-    let mut batch = discover_inputs(config);
+    let (mut batch, calibration) = discover_inputs(config);
     let outputs = output_paths(&config.out_dir);
     refuse_overwriting_inputs(&outputs, &batch.files)?;
     std::fs::create_dir_all(&config.out_dir).map_err(|e| {
@@ -180,6 +281,7 @@ pub fn grade(config: &Config) -> Result<Batch, RunError> {
     stream(
         config,
         &files,
+        calibration.as_deref(),
         &mut batch,
         &mut |a| {
             csv.row(a)?;

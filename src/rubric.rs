@@ -22,6 +22,35 @@ pub struct Experiment {
     /// The accepted melting point for this experiment's compound, overriding the library.
     #[serde(default)]
     pub reference_mp_c: Option<f64>,
+    /// Accept any clear point within this range (°C) as at the reference.
+    #[serde(default)]
+    pub reference_range_c: Option<[f64; 2]>,
+    /// Use the library's literature value whose source mentions this text.
+    #[serde(default)]
+    pub reference_source: Option<String>,
+    /// Accept any clear point within the spread of the library's literature values.
+    #[serde(default)]
+    pub accept_literature_range: bool,
+    /// The recrystallization solvent when a row names none (solubilities are known in water).
+    #[serde(default = "default_solvent")]
+    pub solvent: String,
+    /// Temperature of the final cooling (°C): 0 for an ice bath, 20-25 for room temperature.
+    #[serde(default)]
+    pub cold_c: f64,
+    /// Temperature of the hot solvent (°C): 100 for boiling water.
+    #[serde(default = "default_hot")]
+    pub hot_c: f64,
+    /// A calibration file (CSV or workbook), relative to the rubric file.
+    #[serde(default)]
+    pub calibration: Option<std::path::PathBuf>,
+}
+
+fn default_solvent() -> String {
+    "water".into()
+}
+
+fn default_hot() -> f64 {
+    100.0
 }
 
 /// Thresholds for the flags. Defaults are those of the results contract.
@@ -38,8 +67,17 @@ pub struct Tolerances {
     pub recovery_mismatch_pct: f64,
     /// Recovery below this is flagged low.
     pub low_recovery_pct: f64,
-    /// Recovery at or above this, with a broad or depressed range, points to a wet product.
+    /// Recovery at or above this, with a broad or depressed range, points to a wet product
+    /// (used where no recovery ceiling can be computed).
     pub wet_recovery_pct: f64,
+    /// Recovery above the ceiling by more than this many points: a wet or contaminated product.
+    pub ceiling_margin_pct: f64,
+    /// Recovery within this many points of the ceiling counts as heavy.
+    pub near_ceiling_pct: f64,
+    /// The van 't Hoff estimate is given only up to this much impurity (mol %).
+    pub max_impurity_mol_pct: f64,
+    /// A single calibration standard is trusted this far (°C) either side of its reading.
+    pub calibration_margin_c: f64,
 }
 
 impl Default for Tolerances {
@@ -51,6 +89,10 @@ impl Default for Tolerances {
             recovery_mismatch_pct: 1.0,
             low_recovery_pct: 50.0,
             wet_recovery_pct: 95.0,
+            ceiling_margin_pct: 2.0,
+            near_ceiling_pct: 5.0,
+            max_impurity_mol_pct: 5.0,
+            calibration_margin_c: 5.0,
         }
     }
 }
@@ -96,6 +138,13 @@ impl Rubric {
                 name: "recrystallization".into(),
                 compound: None,
                 reference_mp_c: None,
+                reference_range_c: None,
+                reference_source: None,
+                accept_literature_range: false,
+                solvent: default_solvent(),
+                cold_c: 0.0,
+                hot_c: default_hot(),
+                calibration: None,
             },
             tolerances: Tolerances::default(),
             columns: BTreeMap::new(),
@@ -111,6 +160,10 @@ impl Rubric {
             ("recovery_mismatch_pct", t.recovery_mismatch_pct),
             ("low_recovery_pct", t.low_recovery_pct),
             ("wet_recovery_pct", t.wet_recovery_pct),
+            ("ceiling_margin_pct", t.ceiling_margin_pct),
+            ("near_ceiling_pct", t.near_ceiling_pct),
+            ("max_impurity_mol_pct", t.max_impurity_mol_pct),
+            ("calibration_margin_c", t.calibration_margin_c),
         ];
         for (key, v) in named {
             if !v.is_finite() || v < 0.0 {
@@ -119,7 +172,48 @@ impl Rubric {
                 )));
             }
         }
+        let e = &self.experiment;
+        let choices = [
+            e.reference_mp_c.is_some(),
+            e.reference_range_c.is_some(),
+            e.reference_source.is_some(),
+            e.accept_literature_range,
+        ];
+        if choices.iter().filter(|c| **c).count() > 1 {
+            return Err(ConfigError::Invalid(format!(
+                "{file}: choose one of experiment.reference_mp_c, reference_range_c, reference_source and accept_literature_range"
+            )));
+        }
+        if let Some([lo, hi]) = e.reference_range_c {
+            if !(lo.is_finite() && hi.is_finite() && lo <= hi) {
+                return Err(ConfigError::Invalid(format!(
+                    "{file}: experiment.reference_range_c must be [low, high] in °C"
+                )));
+            }
+        }
+        if !(e.cold_c.is_finite() && e.hot_c.is_finite() && e.cold_c < e.hot_c) {
+            return Err(ConfigError::Invalid(format!(
+                "{file}: experiment.cold_c must be below experiment.hot_c"
+            )));
+        }
         Ok(())
+    }
+
+    /// How the experiment compound's reference is chosen (the command line's value wins).
+    pub fn reference_rule(&self, command_line_mp_c: Option<f64>) -> crate::assess::ReferenceRule {
+        use crate::assess::ReferenceRule as R;
+        let e = &self.experiment;
+        match (
+            command_line_mp_c.or(e.reference_mp_c),
+            e.reference_range_c,
+            &e.reference_source,
+        ) {
+            (Some(v), _, _) => R::Value(v),
+            (None, Some([lo, hi]), _) => R::Range(lo, hi),
+            (None, None, Some(s)) => R::Source(s.clone()),
+            _ if e.accept_literature_range => R::Literature,
+            _ => R::Accepted,
+        }
     }
 }
 

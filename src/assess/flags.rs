@@ -17,6 +17,8 @@ pub enum Flag {
     LikelyImpure,
     LikelyWet,
     LowRecovery,
+    SolventBelowMinimum,
+    OutsideCalibratedSpan,
 }
 
 /// Whether a flag marks an entry that cannot be true or one that only looks wrong.
@@ -27,7 +29,7 @@ pub enum Severity {
 }
 
 impl Flag {
-    pub const ALL: [Flag; 12] = [
+    pub const ALL: [Flag; 14] = [
         Flag::RecoveryOver100,
         Flag::RangeInverted,
         Flag::AboveReference,
@@ -40,6 +42,8 @@ impl Flag {
         Flag::LikelyImpure,
         Flag::LikelyWet,
         Flag::LowRecovery,
+        Flag::SolventBelowMinimum,
+        Flag::OutsideCalibratedSpan,
     ];
 
     pub fn code(self) -> &'static str {
@@ -56,14 +60,19 @@ impl Flag {
             Flag::LikelyImpure => "likely-impure",
             Flag::LikelyWet => "likely-wet",
             Flag::LowRecovery => "low-recovery",
+            Flag::SolventBelowMinimum => "solvent-below-minimum",
+            Flag::OutsideCalibratedSpan => "outside-calibrated-span",
         }
     }
 
     pub fn severity(self) -> Severity {
         match self {
-            Flag::RecoveryMismatch | Flag::LikelyImpure | Flag::LikelyWet | Flag::LowRecovery => {
-                Severity::Suspicious
-            }
+            Flag::RecoveryMismatch
+            | Flag::LikelyImpure
+            | Flag::LikelyWet
+            | Flag::LowRecovery
+            | Flag::SolventBelowMinimum
+            | Flag::OutsideCalibratedSpan => Severity::Suspicious,
             _ => Severity::Impossible,
         }
     }
@@ -83,6 +92,8 @@ impl Flag {
             Flag::LikelyImpure => "broad or depressed melting range at a normal mass",
             Flag::LikelyWet => "heavy product with a broad or depressed range: solvent left in the crystals",
             Flag::LowRecovery => "recovery below the rubric's threshold",
+            Flag::SolventBelowMinimum => "less solvent than dissolves the crude at the boil (a note: insoluble matter may have been filtered off)",
+            Flag::OutsideCalibratedSpan => "a reading beyond the temperatures of the apparatus's calibration standards",
         }
     }
 }

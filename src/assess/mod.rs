@@ -1,8 +1,14 @@
-//! Assessment: each submission's recomputed measures and its flags, each flag with a reason a
-//! person can read. Knows the chemistry and the rubric's tolerances, nothing of spreadsheets.
+//! Assessment: each submission's recomputed measures, physical-chemistry estimates and flags,
+//! each flag with a reason a person can read. Knows the chemistry and the rubric's tolerances,
+//! nothing of spreadsheets.
 
+pub mod accepted;
+pub mod calibration;
+mod duplicates;
 pub mod flags;
+mod judge;
 pub mod measures;
+pub mod physchem;
 
 use std::collections::HashMap;
 
@@ -11,17 +17,20 @@ use serde::Serialize;
 use crate::fields::Field;
 use crate::ingest::Submission;
 use crate::reference::{Compound, Library};
-use crate::rubric::Tolerances;
+use crate::rubric::{Experiment, Tolerances};
+pub use accepted::{Reference, ReferenceRule};
+pub use calibration::Calibration;
+use duplicates::Duplicates;
 pub use flags::{Flag, Severity};
 
 /// What the assessment needs besides the rows.
 pub struct Context<'a> {
     pub library: &'a Library,
-    /// The rubric's compound, for rows that name none.
-    pub default_compound: Option<&'a str>,
-    /// The accepted melting point for the experiment's compound (rubric or `--reference-mp`).
-    pub accepted_mp_c: Option<f64>,
+    pub experiment: &'a Experiment,
+    /// How the experiment compound's reference is chosen.
+    pub reference: ReferenceRule,
     pub tolerances: &'a Tolerances,
+    pub calibration: Option<&'a Calibration>,
 }
 
 /// A submission with its measures and findings.
@@ -31,9 +40,19 @@ pub struct Assessed {
     /// The library's name for the compound, when found.
     pub compound: Option<String>,
     pub reference_mp_c: Option<f64>,
+    /// Onset and clear point as used: corrected by the calibration where one applies,
+    /// else as read (the submission keeps the readings).
+    pub mp_onset_c: Option<f64>,
+    pub mp_clear_c: Option<f64>,
     pub recovery_pct: Option<f64>,
     pub range_width_c: Option<f64>,
     pub depression_c: Option<f64>,
+    pub purity_mol_pct: Option<f64>,
+    pub purity_note: String,
+    pub max_recovery_pct: Option<f64>,
+    pub min_solvent_ml: Option<f64>,
+    /// The correction applied to the readings, in words.
+    pub calibration: Option<String>,
     /// Flags in alphabetical order of their codes, each with its reason.
     pub flags: Vec<(Flag, String)>,
 }
@@ -77,21 +96,26 @@ fn celsius(v: f64) -> String {
     format!("{v:.1} °C")
 }
 
-/// The compound a row is graded against: its library entry and reference melting point,
-/// or why there is none.
+/// The compound a row is graded against: its library entry and reference, or why there is none.
 #[derive(Clone, Debug)]
 struct Resolved<'a> {
     compound: Option<&'a Compound>,
-    reference: Option<f64>,
+    reference: Option<Reference>,
     unknown: Option<String>,
 }
 
 fn resolve_compound<'a>(name: Option<&str>, ctx: &Context<'a>) -> Resolved<'a> {
-    let Some(name) = name.or(ctx.default_compound) else {
+    let default = ctx.experiment.compound.as_deref();
+    let Some(name) = name.or(default) else {
+        let reference = match ctx.reference {
+            ReferenceRule::Value(v) => Some(Reference::Point(v)),
+            ReferenceRule::Range(lo, hi) => Some(Reference::Range(lo, hi)),
+            _ => None,
+        };
         let why = "no compound named on the row, and the rubric names none".to_string();
         return Resolved {
             compound: None,
-            reference: ctx.accepted_mp_c,
+            reference,
             unknown: Some(why),
         };
     };
@@ -106,240 +130,21 @@ fn resolve_compound<'a>(name: Option<&str>, ctx: &Context<'a>) -> Resolved<'a> {
             unknown: Some(why),
         };
     };
-    let is_experiment = ctx
-        .default_compound
+    let is_experiment = default
         .and_then(|d| ctx.library.lookup(d))
         .is_none_or(|d| d.cas == found.cas);
-    let reference = match ctx.accepted_mp_c {
-        Some(v) if is_experiment => v,
-        _ => found.accepted_mp_c,
+    let rule = if is_experiment {
+        &ctx.reference
+    } else {
+        &ReferenceRule::Accepted
     };
+    // a rule that cannot apply was refused when the configuration was built
+    let reference =
+        accepted::reference_for(found, rule).unwrap_or(Reference::Point(found.accepted_mp_c));
     Resolved {
         compound: Some(found),
         reference: Some(reference),
         unknown: None,
-    }
-}
-
-fn missing_fields(sub: &Submission) -> Vec<&'static str> {
-    let mp_unreadable = sub.is_unreadable(Field::MpRange);
-    let checks: [(bool, Field); 5] = [
-        (sub.student_id.is_none(), Field::StudentId),
-        (sub.crude_mass_g.is_none(), Field::CrudeMass),
-        (sub.recovered_mass_g.is_none(), Field::RecoveredMass),
-        (sub.mp_onset_c.is_none() && !mp_unreadable, Field::MpOnset),
-        (sub.mp_clear_c.is_none() && !mp_unreadable, Field::MpClear),
-    ];
-    checks
-        .iter()
-        .filter(|(empty, f)| *empty && !sub.is_unreadable(*f))
-        .map(|(_, f)| f.label())
-        .collect()
-}
-
-fn entry_flags(a: &Assessed, t: &Tolerances, out: &mut Vec<(Flag, String)>) {
-    let s = &a.submission;
-    let missing = missing_fields(s);
-    if !missing.is_empty() {
-        out.push((
-            Flag::MissingValue,
-            format!("no {} given", missing.join(", ")),
-        ));
-    }
-    if !s.unreadable.is_empty() {
-        let parts: Vec<String> = s
-            .unreadable
-            .iter()
-            .map(|u| format!("{} {} holds {}", u.field.label(), u.cell, u.found))
-            .collect();
-        out.push((Flag::UnreadableValue, parts.join(", ")));
-    }
-    let nonpositive: Vec<String> = [("crude", s.crude_mass_g), ("recovered", s.recovered_mass_g)]
-        .iter()
-        .filter_map(|(what, m)| {
-            m.filter(|v| *v <= 0.0)
-                .map(|v| format!("{what} mass {} is not positive", grams(v)))
-        })
-        .collect();
-    if !nonpositive.is_empty() {
-        out.push((Flag::NonpositiveMass, nonpositive.join(", ")));
-    }
-    if let (Some(c), Some(r)) = (s.crude_mass_g, s.recovered_mass_g) {
-        if c > 0.0 && r > c {
-            out.push((
-                Flag::RecoveryOver100,
-                format!("recovered {} exceeds crude {}", grams(r), grams(c)),
-            ));
-        }
-    }
-    if let (Some(o), Some(c)) = (s.mp_onset_c, s.mp_clear_c) {
-        if o > c {
-            out.push((
-                Flag::RangeInverted,
-                format!(
-                    "onset {} is above the clear point {}",
-                    celsius(o),
-                    celsius(c)
-                ),
-            ));
-        }
-    }
-    if let (Some(r), Some(c)) = (a.reference_mp_c, s.mp_clear_c) {
-        if c > r + t.above_reference_c {
-            out.push((
-                Flag::AboveReference,
-                format!(
-                    "clear point {} is {:.1} °C above the reference {} (tolerance {:.1} °C)",
-                    celsius(c),
-                    c - r,
-                    celsius(r),
-                    t.above_reference_c
-                ),
-            ));
-        }
-    }
-}
-
-fn suspicion_flags(a: &Assessed, t: &Tolerances, out: &mut Vec<(Flag, String)>) {
-    let s = &a.submission;
-    if let (Some(reported), Some(rec)) = (s.reported_recovery_pct, a.recovery_pct) {
-        let (as_pct, _) = measures::reported_as_percent(reported, rec, t.recovery_mismatch_pct);
-        if (as_pct - rec).abs() > t.recovery_mismatch_pct {
-            out.push((
-                Flag::RecoveryMismatch,
-                format!(
-                    "reported {:.1} % but 100 x {} / {} = {:.1} %",
-                    as_pct,
-                    grams(s.recovered_mass_g.unwrap_or(0.0)).trim_end_matches(" g"),
-                    grams(s.crude_mass_g.unwrap_or(0.0)).trim_end_matches(" g"),
-                    rec
-                ),
-            ));
-        }
-    }
-    let broad = a.range_width_c.filter(|w| *w > t.impure_width_c);
-    let depressed = a.depression_c.filter(|d| *d > t.impure_depression_c);
-    let mut why = Vec::new();
-    if let Some(w) = broad {
-        why.push(format!(
-            "the range is {w:.1} °C wide (limit {:.1})",
-            t.impure_width_c
-        ));
-    }
-    if let Some(d) = depressed {
-        why.push(format!(
-            "the clear point is {d:.1} °C below the reference (limit {:.1})",
-            t.impure_depression_c
-        ));
-    }
-    if !why.is_empty() {
-        match a.recovery_pct.filter(|r| *r >= t.wet_recovery_pct) {
-            Some(r) => out.push((
-                Flag::LikelyWet,
-                format!("recovery {r:.1} % (at or above {:.0} %) and {}: solvent likely left in the crystals; dry to constant mass", t.wet_recovery_pct, why.join(" and ")),
-            )),
-            None => out.push((Flag::LikelyImpure, format!("{} at a normal mass", why.join(" and ")))),
-        }
-    }
-    if let Some(r) = a
-        .recovery_pct
-        .filter(|r| *r >= 0.0 && *r < t.low_recovery_pct)
-    {
-        out.push((
-            Flag::LowRecovery,
-            format!("recovery {r:.1} % is below {:.0} %", t.low_recovery_pct),
-        ));
-    }
-}
-
-/// Where one (section, student id) was first seen; the id itself lives in `Duplicates::ids`.
-#[derive(Clone, Copy)]
-struct FirstSeen {
-    section: u32,
-    start: u32,
-    len: u32,
-    place: u32,
-    row: u32,
-}
-
-/// Remembers where each (section, student id) was first seen, compactly: 20 bytes and the id's
-/// text per student, so that a million-row term does not hold a million keyed strings.
-#[derive(Default)]
-struct Duplicates {
-    sections: HashMap<String, u32>,
-    /// (source, sheet) of the places rows came from, in order.
-    places: Vec<(String, Option<String>)>,
-    ids: String,
-    seen: hashbrown::HashTable<FirstSeen>,
-    hasher: std::hash::RandomState,
-}
-
-impl Duplicates {
-    fn intern_place(&mut self, s: &Submission) -> u32 {
-        let same = self
-            .places
-            .last()
-            .is_some_and(|(src, sheet)| *src == s.source && *sheet == s.sheet);
-        if !same {
-            self.places.push((s.source.clone(), s.sheet.clone()));
-        }
-        self.places.len() as u32 - 1
-    }
-
-    fn section(&mut self, name: &str) -> u32 {
-        if let Some(&i) = self.sections.get(name) {
-            return i;
-        }
-        let i = self.sections.len() as u32;
-        self.sections.insert(name.to_string(), i);
-        i
-    }
-
-    /// The note for a row whose id already appeared in its section, or `None`.
-    fn check(&mut self, s: &Submission) -> Option<String> {
-        use std::hash::BuildHasher;
-        let id = s
-            .student_id
-            .as_deref()
-            .map(str::trim)
-            .filter(|x| !x.is_empty())?;
-        let section = self.section(&s.section);
-        let place = self.intern_place(s);
-        let Duplicates {
-            ids,
-            seen,
-            hasher,
-            places,
-            ..
-        } = self;
-        let text = |e: &FirstSeen| &ids[e.start as usize..(e.start + e.len) as usize];
-        let hash = hasher.hash_one((section, id));
-        if let Some(first) = seen.find(hash, |e| e.section == section && text(e) == id) {
-            let at = match &places[first.place as usize] {
-                (source, Some(sheet)) => format!("{source} sheet \"{sheet}\" row {}", first.row),
-                (source, None) => format!("{source} row {}", first.row),
-            };
-            return Some(format!(
-                "this id already appears in section {} at {}",
-                s.section, at
-            ));
-        }
-        let entry = FirstSeen {
-            section,
-            start: ids.len() as u32,
-            len: id.len() as u32,
-            place,
-            row: s.row,
-        };
-        ids.push_str(id);
-        let ids: &str = ids;
-        seen.insert_unique(hash, entry, |e| {
-            hasher.hash_one((
-                e.section,
-                &ids[e.start as usize..(e.start + e.len) as usize],
-            ))
-        });
-        None
     }
 }
 
@@ -348,8 +153,18 @@ impl Duplicates {
 pub struct Assessor<'a> {
     ctx: Context<'a>,
     duplicates: Duplicates,
+    /// Calibration keys of the apparatus (or benches) the rows named.
+    apparatus_seen: std::collections::BTreeSet<String>,
     compounds: HashMap<String, Resolved<'a>>,
     default: Resolved<'a>,
+}
+
+/// Readings after calibration, and what was done to them.
+struct Readings {
+    onset: Option<f64>,
+    clear: Option<f64>,
+    note: Option<String>,
+    outside_span: Option<String>,
 }
 
 impl<'a> Assessor<'a> {
@@ -358,9 +173,15 @@ impl<'a> Assessor<'a> {
         Assessor {
             ctx,
             duplicates: Duplicates::default(),
+            apparatus_seen: Default::default(),
             compounds: HashMap::new(),
             default,
         }
+    }
+
+    /// Calibration keys of every apparatus (or bench) named so far.
+    pub fn apparatus_seen(&self) -> &std::collections::BTreeSet<String> {
+        &self.apparatus_seen
     }
 
     fn resolve(&mut self, name: Option<&str>) -> Resolved<'a> {
@@ -375,16 +196,124 @@ impl<'a> Assessor<'a> {
         r
     }
 
+    fn calibrate(&mut self, s: &Submission) -> Readings {
+        let plain = Readings {
+            onset: s.mp_onset_c,
+            clear: s.mp_clear_c,
+            note: None,
+            outside_span: None,
+        };
+        let Some(cal) = self.ctx.calibration else {
+            return plain;
+        };
+        let key = if cal.keyed_by == Field::Apparatus {
+            s.apparatus.as_deref()
+        } else {
+            s.bench.as_deref()
+        };
+        if let Some(k) = key {
+            self.apparatus_seen.insert(calibration::apparatus_key(k));
+        }
+        let Some((name, _, fit)) = cal.fit_for(key) else {
+            let what = cal.keyed_by.label();
+            let note = match key {
+                Some(k) => format!("no calibration for {what} {k}; readings uncorrected"),
+                None => format!("no {what} given; readings uncorrected"),
+            };
+            return Readings {
+                note: Some(note),
+                ..plain
+            };
+        };
+        let margin = self.ctx.tolerances.calibration_margin_c;
+        let outside: Vec<String> = [s.mp_onset_c, s.mp_clear_c]
+            .into_iter()
+            .flatten()
+            .filter(|t| !fit.covers(*t, margin))
+            .map(|t| format!("{t:.1} °C"))
+            .collect();
+        let who = if name.chars().all(|c| c.is_ascii_digit()) {
+            format!("{} {name}", cal.keyed_by.label())
+        } else {
+            name.clone()
+        };
+        let outside_span = (!outside.is_empty()).then(|| {
+            let (noun, verb) = if outside.len() == 1 {
+                ("reading", "lies")
+            } else {
+                ("readings", "lie")
+            };
+            format!(
+                "{noun} {} {verb} outside the span of {who}'s standards ({:.1}-{:.1} °C)",
+                outside.join(" and "),
+                fit.lo,
+                fit.hi
+            )
+        });
+        Readings {
+            onset: s.mp_onset_c.map(|t| fit.correct(t)),
+            clear: s.mp_clear_c.map(|t| fit.correct(t)),
+            note: Some(format!("{who}: {}", fit.describe())),
+            outside_span,
+        }
+    }
+
+    fn solvent_bounds(
+        &self,
+        s: &Submission,
+        compound: Option<&Compound>,
+    ) -> (Option<f64>, Option<f64>) {
+        let exp = self.ctx.experiment;
+        let solvent = s.solvent.as_deref().unwrap_or(&exp.solvent);
+        let (Some(c), Some(crude)) = (compound, s.crude_mass_g.filter(|m| *m > 0.0)) else {
+            return (None, None);
+        };
+        if !solvent.trim().eq_ignore_ascii_case("water") {
+            return (None, None);
+        }
+        let cold = physchem::solubility_at(&c.solubility, exp.cold_c);
+        let hot = physchem::solubility_at(&c.solubility, exp.hot_c);
+        let ceiling = cold
+            .zip(s.solvent_volume_ml)
+            .map(|(sc, v)| physchem::max_recovery_pct(crude, sc, v));
+        (ceiling, hot.map(|sh| physchem::min_solvent_ml(crude, sh)))
+    }
+
     /// Assesses the next submission of the batch.
-    pub fn assess(&mut self, sub: Submission) -> Assessed {
+    pub fn assess(&mut self, mut sub: Submission) -> Assessed {
         let resolved = self.resolve(sub.compound.as_deref());
         let t = self.ctx.tolerances;
+        let readings = self.calibrate(&sub);
+        let reference = resolved.reference.map(|r| r.at(readings.clear));
+        let purity = physchem::purity(
+            readings.clear,
+            reference,
+            resolved.compound,
+            t.max_impurity_mol_pct,
+        );
+        let (max_recovery_pct, min_solvent_ml) = self.solvent_bounds(&sub, resolved.compound);
+        let recovery_pct = measures::recovery_pct(sub.crude_mass_g, sub.recovered_mass_g);
+        if let (Some(reported), Some(rec)) = (sub.reported_recovery_pct, recovery_pct) {
+            if measures::reported_as_percent(reported, rec, t.recovery_mismatch_pct).1 {
+                sub.notes.push(format!(
+                    "reported recovery {reported} read as a fraction ({:.1} %)",
+                    reported * 100.0
+                ));
+            }
+        }
         let mut a = Assessed {
-            recovery_pct: measures::recovery_pct(sub.crude_mass_g, sub.recovered_mass_g),
-            range_width_c: measures::range_width_c(sub.mp_onset_c, sub.mp_clear_c),
-            depression_c: measures::depression_c(resolved.reference, sub.mp_clear_c),
+            recovery_pct,
+            range_width_c: measures::range_width_c(readings.onset, readings.clear),
+            depression_c: measures::depression_c(reference, readings.clear),
             compound: resolved.compound.map(|c| c.name.clone()),
-            reference_mp_c: resolved.reference,
+            reference_mp_c: reference,
+            mp_onset_c: readings.onset,
+            mp_clear_c: readings.clear,
+            purity_mol_pct: purity.mol_pct,
+            purity_note: purity.note,
+            max_recovery_pct,
+            min_solvent_ml,
+            calibration: readings.note,
             submission: sub,
             flags: Vec::new(),
         };
@@ -392,16 +321,11 @@ impl<'a> Assessor<'a> {
         if let Some(why) = resolved.unknown {
             flags.push((Flag::UnknownCompound, why));
         }
-        if let (Some(reported), Some(rec)) = (a.submission.reported_recovery_pct, a.recovery_pct) {
-            if measures::reported_as_percent(reported, rec, t.recovery_mismatch_pct).1 {
-                a.submission.notes.push(format!(
-                    "reported recovery {reported} read as a fraction ({:.1} %)",
-                    reported * 100.0
-                ));
-            }
+        if let Some(why) = readings.outside_span {
+            flags.push((Flag::OutsideCalibratedSpan, why));
         }
-        entry_flags(&a, t, &mut flags);
-        suspicion_flags(&a, t, &mut flags);
+        judge::impossible(&a, t, &mut flags);
+        judge::suspicious(&a, t, &mut flags);
         if let Some(why) = self.duplicates.check(&a.submission) {
             flags.push((Flag::DuplicateStudent, why));
         }

@@ -18,16 +18,31 @@ fn base() -> Submission {
     }
 }
 
-fn run(sub: Submission) -> Assessed {
+/// The default rubric's experiment: benzoic acid from water, cooled in ice.
+fn experiment() -> Experiment {
+    crate::rubric::Rubric::builtin().experiment
+}
+
+fn with_rule(
+    subs: Vec<Submission>,
+    reference: ReferenceRule,
+    calibration: Option<&Calibration>,
+) -> Vec<Assessed> {
     let lib = Library::builtin();
     let t = Tolerances::default();
+    let e = experiment();
     let ctx = Context {
         library: &lib,
-        default_compound: Some("benzoic acid"),
-        accepted_mp_c: None,
+        experiment: &e,
+        reference,
         tolerances: &t,
+        calibration,
     };
-    assess_all(vec![sub], ctx).remove(0)
+    assess_all(subs, ctx)
+}
+
+fn run(sub: Submission) -> Assessed {
+    with_rule(vec![sub], ReferenceRule::Accepted, None).remove(0)
 }
 
 fn codes(a: &Assessed) -> Vec<&'static str> {
@@ -183,14 +198,6 @@ fn wet_versus_impure_versus_low() {
 
 #[test]
 fn duplicates_in_the_same_section_only() {
-    let lib = Library::builtin();
-    let t = Tolerances::default();
-    let ctx = Context {
-        library: &lib,
-        default_compound: Some("benzoic acid"),
-        accepted_mp_c: None,
-        tolerances: &t,
-    };
     let rows = vec![
         base(),
         Submission {
@@ -205,7 +212,7 @@ fn duplicates_in_the_same_section_only() {
         },
         Submission { row: 5, ..base() },
     ];
-    let out = assess_all(rows, ctx);
+    let out = with_rule(rows, ReferenceRule::Accepted, None);
     let dup: Vec<bool> = out.iter().map(|a| a.has(Flag::DuplicateStudent)).collect();
     assert_eq!(dup, vec![false, true, false, true]);
     assert!(out[1].flags[0].1.contains("row 2"));
@@ -213,15 +220,7 @@ fn duplicates_in_the_same_section_only() {
 
 #[test]
 fn accepted_value_overrides_only_the_experiment_compound() {
-    let lib = Library::builtin();
-    let t = Tolerances::default();
-    let ctx = Context {
-        library: &lib,
-        default_compound: Some("benzoic acid"),
-        accepted_mp_c: Some(122.0),
-        tolerances: &t,
-    };
-    let out = assess_all(
+    let out = with_rule(
         vec![
             base(),
             Submission {
@@ -229,7 +228,8 @@ fn accepted_value_overrides_only_the_experiment_compound() {
                 ..base()
             },
         ],
-        ctx,
+        ReferenceRule::Value(122.0),
+        None,
     );
     assert_eq!(out[0].reference_mp_c, Some(122.0));
     assert_eq!(out[1].reference_mp_c, Some(114.3));
@@ -250,4 +250,203 @@ fn flags_are_in_alphabetical_order() {
     sorted.sort();
     assert_eq!(c, sorted);
     assert_eq!(a.flag_codes(), c.join(";"));
+}
+
+#[test]
+fn ceiling_and_least_solvent_columns() {
+    // 1.00 g benzoic acid in 25 mL: ceiling 100 x (1 - 1.7 x 0.025) = 95.75 % at 0 °C, and
+    // 1.00 / 56.3 g/L = 17.76 mL of boiling water at least (handbook solubilities, from memory)
+    let a = run(Submission {
+        crude_mass_g: Some(1.0),
+        recovered_mass_g: Some(0.7),
+        solvent_volume_ml: Some(25.0),
+        ..base()
+    });
+    assert_relative_eq!(a.max_recovery_pct.unwrap(), 95.75, epsilon = 1e-9);
+    assert_relative_eq!(
+        a.min_solvent_ml.unwrap(),
+        17.761_989_342_806_39,
+        epsilon = 1e-9
+    );
+    assert!(a.flags.is_empty(), "{:?}", a.flags);
+    let short = run(Submission {
+        crude_mass_g: Some(3.0),
+        recovered_mass_g: Some(2.1),
+        solvent_volume_ml: Some(40.0),
+        ..base()
+    });
+    assert_eq!(codes(&short), vec!["solvent-below-minimum"]);
+    let other = run(Submission {
+        solvent: Some("ethanol".into()),
+        solvent_volume_ml: Some(25.0),
+        ..base()
+    });
+    assert_eq!(
+        other.max_recovery_pct, None,
+        "solubilities are known in water only"
+    );
+}
+
+#[test]
+fn wet_is_told_from_impure_by_the_ceiling() {
+    // recovery 104 %, 115-119 °C for benzoic acid: likely-wet, not likely-impure (issue check)
+    let wet = run(Submission {
+        crude_mass_g: Some(2.50),
+        recovered_mass_g: Some(2.60),
+        solvent_volume_ml: Some(60.0),
+        mp_onset_c: Some(115.0),
+        mp_clear_c: Some(119.0),
+        ..base()
+    });
+    assert!(
+        wet.has(Flag::LikelyWet) && !wet.has(Flag::LikelyImpure),
+        "{:?}",
+        wet.flags
+    );
+    // recovery 70 %, 114-119 °C: a dry impure product
+    let impure = run(Submission {
+        crude_mass_g: Some(3.00),
+        recovered_mass_g: Some(2.10),
+        solvent_volume_ml: Some(60.0),
+        mp_onset_c: Some(114.0),
+        mp_clear_c: Some(119.0),
+        ..base()
+    });
+    assert!(
+        impure.has(Flag::LikelyImpure) && !impure.has(Flag::LikelyWet),
+        "{:?}",
+        impure.flags
+    );
+    // 2.45 / 2.50 = 98 %, above the 96.1 % ceiling (60 mL) by more than 2 points, sharp range:
+    // more mass than could crystallise
+    let heavy = run(Submission {
+        crude_mass_g: Some(2.50),
+        recovered_mass_g: Some(2.45),
+        solvent_volume_ml: Some(60.0),
+        ..base()
+    });
+    assert_eq!(codes(&heavy), vec!["likely-wet"]);
+    assert!(heavy.flags[0]
+        .1
+        .contains("exceeds the most that could crystallise"));
+}
+
+#[test]
+fn purity_column_from_the_clear_point() {
+    // clear point 120.50 °C against benzoic acid's accepted 122.4 °C, ΔHfus 18.02 kJ/mol:
+    // ln x1 = -(18020 / 8.314462618)(1/393.65 - 1/395.55) -> x1 = 0.9739 (hand-worked)
+    let a = run(Submission {
+        mp_onset_c: Some(119.8),
+        mp_clear_c: Some(120.5),
+        ..base()
+    });
+    assert_relative_eq!(a.purity_mol_pct.unwrap(), 97.39, epsilon = 0.01);
+    let above = run(Submission {
+        mp_onset_c: Some(122.5),
+        mp_clear_c: Some(123.0),
+        ..base()
+    });
+    assert_eq!(above.purity_mol_pct, None);
+    assert!(above.purity_note.contains("above the reference"));
+}
+
+#[test]
+fn calibration_corrects_before_flagging() {
+    use super::calibration::{fit, Calibration};
+    let mut fits = std::collections::BTreeMap::new();
+    fits.insert(
+        "7".to_string(),
+        ("Bench 7".to_string(), 2, fit(&[(124.8, 122.4)]).unwrap()),
+    );
+    fits.insert(
+        "3".to_string(),
+        (
+            "Bench 3".to_string(),
+            3,
+            fit(&[(81.0, 82.0), (234.5, 236.0)]).unwrap(),
+        ),
+    );
+    let cal = Calibration {
+        source: "cal.csv".into(),
+        keyed_by: Field::Bench,
+        fits,
+    };
+    let rows = vec![
+        // bench 7 reads 2.4 °C high: 123.9-124.6 observed is 121.5-122.2 true, not above-reference
+        Submission {
+            bench: Some("B7".into()),
+            mp_onset_c: Some(123.9),
+            mp_clear_c: Some(124.6),
+            ..base()
+        },
+        // bench 3: 120.0 observed -> 0.7362 + 1.003257 x 120 = 121.13 °C (hand-worked)
+        Submission {
+            bench: Some("3".into()),
+            row: 3,
+            student_id: Some("s2".into()),
+            mp_onset_c: Some(119.0),
+            mp_clear_c: Some(120.0),
+            ..base()
+        },
+        Submission {
+            bench: Some("9".into()),
+            row: 4,
+            student_id: Some("s3".into()),
+            ..base()
+        },
+        Submission {
+            bench: Some("7".into()),
+            row: 5,
+            student_id: Some("s4".into()),
+            mp_onset_c: Some(112.0),
+            mp_clear_c: Some(118.0),
+            ..base()
+        },
+    ];
+    let out = with_rule(rows, ReferenceRule::Accepted, Some(&cal));
+    assert!(out[0].flags.is_empty(), "{:?}", out[0].flags);
+    assert_relative_eq!(out[0].mp_clear_c.unwrap(), 122.2, epsilon = 1e-9);
+    assert_eq!(
+        out[0].submission.mp_clear_c,
+        Some(124.6),
+        "the reading is kept"
+    );
+    assert_relative_eq!(out[1].mp_clear_c.unwrap(), 121.13, epsilon = 0.005);
+    assert!(out[2]
+        .calibration
+        .as_deref()
+        .unwrap()
+        .contains("no calibration for bench 9"));
+    assert!(
+        out[3].has(Flag::OutsideCalibratedSpan),
+        "112 is more than 5 °C from the single standard at 124.8"
+    );
+}
+
+#[test]
+fn an_accepted_range_puts_clear_points_inside_it_at_the_reference() {
+    let sulfa = |clear: f64| Submission {
+        compound: Some("sulfanilamide".into()),
+        mp_onset_c: Some(clear - 1.0),
+        mp_clear_c: Some(clear),
+        ..base()
+    };
+    let e = Experiment {
+        compound: Some("sulfanilamide".into()),
+        ..experiment()
+    };
+    let lib = Library::builtin();
+    let t = Tolerances::default();
+    let ctx = Context {
+        library: &lib,
+        experiment: &e,
+        reference: ReferenceRule::Range(164.5, 166.5),
+        tolerances: &t,
+        calibration: None,
+    };
+    let out = assess_all(vec![sulfa(165.0), sulfa(161.0), sulfa(168.0)], ctx);
+    assert_eq!(out[0].depression_c, Some(0.0));
+    assert_eq!(out[1].reference_mp_c, Some(164.5));
+    assert!(out[1].has(Flag::LikelyImpure));
+    assert!(out[2].has(Flag::AboveReference), "168 > 166.5 + 1.0");
 }

@@ -10,32 +10,17 @@ use crate::assess::Assessed;
 use crate::error::WriteError;
 
 /// The contract's columns, in order, then the columns added since.
-pub const COLUMNS: [&str; 24] = [
-    "source",
-    "sheet",
-    "row",
-    "section",
-    "student_id",
-    "student_name",
-    "bench",
-    "compound",
-    "crude_mass_g",
-    "recovered_mass_g",
-    "solvent_volume_ml",
-    "mp_onset_c",
-    "mp_clear_c",
-    "reported_recovery_pct",
-    "recovery_pct",
-    "range_width_c",
-    "reference_mp_c",
-    "depression_c",
-    "flags",
-    "flag_notes",
-    // added after the contract
-    "assistant",
-    "apparatus",
-    "solvent",
-    "notes",
+#[rustfmt::skip]
+pub const COLUMNS: [&str; 31] = [
+    "source", "sheet", "row", "section", "student_id", "student_name", "bench", "compound",
+    "crude_mass_g", "recovered_mass_g", "solvent_volume_ml", "mp_onset_c", "mp_clear_c",
+    "reported_recovery_pct", "recovery_pct", "range_width_c", "reference_mp_c", "depression_c",
+    "flags", "flag_notes",
+    // added after the contract: ingest
+    "assistant", "apparatus", "solvent", "notes",
+    // physical chemistry and calibration
+    "purity_mol_pct", "purity_note", "max_recovery_pct", "min_solvent_ml",
+    "mp_onset_observed_c", "mp_clear_observed_c", "calibration",
 ];
 
 /// The results file being written.
@@ -90,12 +75,12 @@ impl ResultsCsv {
             s.crude_mass_g,
             s.recovered_mass_g,
             s.solvent_volume_ml,
-            s.mp_onset_c,
-            s.mp_clear_c,
-            s.reported_recovery_pct,
+            a.mp_onset_c,
+            a.mp_clear_c,
         ] {
             self.number(v)?;
         }
+        self.number(s.reported_recovery_pct)?;
         for v in [
             a.recovery_pct,
             a.range_width_c,
@@ -110,6 +95,14 @@ impl ResultsCsv {
         self.text(s.apparatus.as_deref())?;
         self.text(s.solvent.as_deref())?;
         self.csv.write_field(s.notes.join("; "))?;
+        self.number(a.purity_mol_pct)?;
+        self.csv.write_field(&a.purity_note)?;
+        self.number(a.max_recovery_pct)?;
+        self.number(a.min_solvent_ml)?;
+        self.number(s.mp_onset_c)?;
+        self.number(s.mp_clear_c)?;
+        self.csv
+            .write_field(a.calibration.as_deref().unwrap_or(""))?;
         self.csv.write_record(None::<&[u8]>)
     }
 

@@ -38,6 +38,13 @@ struct Record<'a> {
     apparatus: Option<&'a str>,
     solvent: Option<&'a str>,
     notes: &'a [String],
+    purity_mol_pct: Option<f64>,
+    purity_note: &'a str,
+    max_recovery_pct: Option<f64>,
+    min_solvent_ml: Option<f64>,
+    mp_onset_observed_c: Option<f64>,
+    mp_clear_observed_c: Option<f64>,
+    calibration: Option<&'a str>,
 }
 
 fn record(a: &Assessed) -> Record<'_> {
@@ -54,8 +61,8 @@ fn record(a: &Assessed) -> Record<'_> {
         crude_mass_g: s.crude_mass_g,
         recovered_mass_g: s.recovered_mass_g,
         solvent_volume_ml: s.solvent_volume_ml,
-        mp_onset_c: s.mp_onset_c,
-        mp_clear_c: s.mp_clear_c,
+        mp_onset_c: a.mp_onset_c,
+        mp_clear_c: a.mp_clear_c,
         reported_recovery_pct: s.reported_recovery_pct,
         recovery_pct: a.recovery_pct,
         range_width_c: a.range_width_c,
@@ -71,6 +78,13 @@ fn record(a: &Assessed) -> Record<'_> {
         apparatus: s.apparatus.as_deref(),
         solvent: s.solvent.as_deref(),
         notes: &s.notes,
+        purity_mol_pct: a.purity_mol_pct,
+        purity_note: &a.purity_note,
+        max_recovery_pct: a.max_recovery_pct,
+        min_solvent_ml: a.min_solvent_ml,
+        mp_onset_observed_c: s.mp_onset_c,
+        mp_clear_observed_c: s.mp_clear_c,
+        calibration: a.calibration.as_deref(),
     }
 }
 

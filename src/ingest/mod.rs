@@ -190,6 +190,20 @@ pub fn tabulate(
     on_row: &mut dyn FnMut(Submission),
 ) -> Result<SheetReport, Problem> {
     let sheet = &data.sheet;
+    if sheet
+        .name
+        .as_deref()
+        .is_some_and(|n| n.to_lowercase().contains("calibration"))
+    {
+        let message =
+            "not graded: a calibration sheet; apply it with --calibration FILE".to_string();
+        return Err(Problem {
+            file: data.source.clone(),
+            sheet: sheet.name.clone(),
+            message,
+            fatal: false,
+        });
+    }
     let problem = |message: String, fatal: bool| Problem {
         file: data.source.clone(),
         sheet: sheet.name.clone(),

@@ -2,5 +2,6 @@
 
 mod harness;
 mod ingest_messy;
+mod physchem;
 mod reference_data;
 mod sample_data;

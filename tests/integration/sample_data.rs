@@ -40,6 +40,8 @@ fn the_sample_data_shows_every_flag_and_passes_the_contract_checker() {
         "recovery-over-100",
         "unknown-compound",
         "unreadable-value",
+        "solvent-below-minimum",
+        "outside-calibrated-span",
     ] {
         assert!(seen.contains(&code), "{code} missing from the demo");
     }
@@ -92,7 +94,9 @@ fn wet_and_impure_demo_rows() {
     let impure = rows
         .iter()
         .find(|r| {
-            r["crude_mass_g"] == "3" && r["recovered_mass_g"] == "2.1" && r["mp_onset_c"] == "114"
+            r["crude_mass_g"] == "3"
+                && r["recovered_mass_g"] == "2.1"
+                && r["mp_onset_observed_c"] == "114"
         })
         .unwrap();
     assert!(flags(impure).contains(&"likely-impure"));
