@@ -36,6 +36,11 @@ pub enum Command {
         #[command(flatten)]
         run: RunArgs,
     },
+    /// Work with rubric files
+    Rubric {
+        #[command(subcommand)]
+        action: RubricAction,
+    },
     /// List the reference library with the source of every value
     Compounds {
         /// Print JSON instead of a table
@@ -44,6 +49,16 @@ pub enum Command {
         /// A TOML file of extra compounds (same format as the built-in library)
         #[arg(long, value_name = "FILE")]
         compounds: Option<PathBuf>,
+    },
+}
+
+#[derive(Subcommand, Debug)]
+pub enum RubricAction {
+    /// Validate a rubric: unknown keys, measures or flag codes, overlapping or unsorted bands,
+    /// maxima that do not add up; each error located by line and column
+    Check {
+        #[arg(value_name = "FILE")]
+        file: PathBuf,
     },
 }
 
@@ -68,4 +83,8 @@ pub struct RunArgs {
     /// or bench, standards' observed readings and certified values
     #[arg(long, value_name = "FILE")]
     pub calibration: Option<PathBuf>,
+    /// Grader overrides (CSV: student_id, section, criterion, points or adjust, reason, grader),
+    /// applied after scoring
+    #[arg(long, value_name = "FILE")]
+    pub overrides: Option<PathBuf>,
 }

@@ -10,6 +10,7 @@ use crate::assess::{accepted, ReferenceRule};
 use crate::error::{toml_location, ConfigError};
 use crate::ingest::headers::ColumnOverrides;
 use crate::reference::Library;
+use crate::rubric::overrides::Overrides;
 use crate::rubric::Rubric;
 
 /// Options as typed, already checked for form by the command-line parser.
@@ -24,6 +25,7 @@ pub struct Options {
     pub compounds: Option<PathBuf>,
     pub reference_mp_c: Option<f64>,
     pub calibration: Option<PathBuf>,
+    pub overrides: Option<PathBuf>,
 }
 
 /// Everything a run needs, validated.
@@ -40,6 +42,8 @@ pub struct Config {
     pub reference: ReferenceRule,
     /// The calibration file to apply, if any (command line, else the rubric's).
     pub calibration: Option<PathBuf>,
+    /// Grader overrides, applied after scoring.
+    pub overrides: Overrides,
 }
 
 #[derive(Deserialize)]
@@ -121,6 +125,10 @@ impl Config {
         Ok(Config {
             inputs,
             out_dir,
+            overrides: match &opts.overrides {
+                Some(p) => Overrides::load(p, &rubric.criterion_ids())?,
+                None => Overrides::default(),
+            },
             reference,
             calibration: opts.calibration.or_else(|| {
                 let rel = rubric.experiment.calibration.as_ref()?;

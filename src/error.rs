@@ -19,6 +19,32 @@ pub enum ConfigError {
     },
     #[error("{0}")]
     Invalid(String),
+    /// Several problems in one file, each located.
+    #[error("{}", located_lines(file, errors))]
+    Located { file: String, errors: Vec<Located> },
+}
+
+/// One located problem in a configuration file.
+#[derive(Debug, Clone, PartialEq)]
+pub struct Located {
+    pub line: usize,
+    pub column: usize,
+    /// The offending text (its first line).
+    pub text: String,
+    pub message: String,
+}
+
+fn located_lines(file: &str, errors: &[Located]) -> String {
+    errors
+        .iter()
+        .map(|e| {
+            format!(
+                "{file}:{}:{}: {} (at `{}`)",
+                e.line, e.column, e.message, e.text
+            )
+        })
+        .collect::<Vec<_>>()
+        .join("\n")
 }
 
 /// A failure to write an output.

@@ -13,7 +13,7 @@ use clap::Parser;
 use benchgrade::export::check_report::{self, Style};
 use benchgrade::reference::Library;
 use benchgrade::{Batch, Config, Options, RunError};
-use cli::{Cli, Command, RunArgs};
+use cli::{Cli, Command, RubricAction, RunArgs};
 
 /// The sample data: in the working directory when run from a clone, else beside the sources.
 fn sample_data() -> Option<PathBuf> {
@@ -35,6 +35,7 @@ fn options(run: RunArgs, out: Option<PathBuf>) -> Options {
         compounds: run.compounds,
         reference_mp_c: run.reference_mp,
         calibration: run.calibration,
+        overrides: run.overrides,
     }
 }
 
@@ -80,7 +81,10 @@ fn check(run: RunArgs) -> Result<ExitCode> {
         Ok(c) => c,
         Err(e) => return usage_error(&e),
     };
-    let batch = benchgrade::assess_batch(&config);
+    let batch = match benchgrade::assess_batch(&config) {
+        Ok(b) => b,
+        Err(e) => return usage_error(&e),
+    };
     let style = style();
     let mut out = std::io::stdout().lock();
     write!(out, "{}", check_report::layouts(&batch.sheets, style))?;
@@ -112,6 +116,23 @@ fn compounds(json: bool, extra: Option<PathBuf>) -> Result<ExitCode> {
     Ok(ExitCode::SUCCESS)
 }
 
+fn rubric_check(file: &std::path::Path) -> Result<ExitCode> {
+    match benchgrade::rubric::Rubric::load(file) {
+        Ok(r) => {
+            let max: f64 = r.criteria.iter().map(|c| *c.max.get_ref()).sum();
+            println!(
+                "{}: ok, {} criteria worth {} points, {} flag rules",
+                file.display(),
+                r.criteria.len(),
+                benchgrade::export::number(Some(max)),
+                r.flag_rules.len()
+            );
+            Ok(ExitCode::SUCCESS)
+        }
+        Err(e) => usage_error(&e),
+    }
+}
+
 fn usage_error(e: &dyn std::fmt::Display) -> Result<ExitCode> {
     eprintln!("benchgrade: {e}");
     Ok(ExitCode::from(2))
@@ -128,6 +149,9 @@ fn main() -> ExitCode {
     let result = match cli.command {
         Command::Grade { run, out, quiet } => grade(run, out, quiet),
         Command::Check { run } => check(run),
+        Command::Rubric {
+            action: RubricAction::Check { file },
+        } => rubric_check(&file),
         Command::Compounds {
             json,
             compounds: extra,

@@ -9,8 +9,10 @@ use std::sync::mpsc::sync_channel;
 use crate::assess::{calibration, Assessed, Assessor, Calibration, Context};
 use crate::config::Config;
 use crate::error::{ConfigError, WriteError};
-use crate::export::{results_csv::ResultsCsv, results_json::ResultsJson};
+use crate::export::{gradebook::Gradebook, results_csv::ResultsCsv, results_json::ResultsJson};
 use crate::ingest::{self, discover, Collector, Problem, SheetReport};
+use crate::rubric::overrides::Override;
+use crate::rubric::score::{self, Graded};
 
 /// Counts over the batch's rows.
 #[derive(Clone, Copy, Debug, Default, PartialEq, Eq)]
@@ -38,8 +40,8 @@ pub struct Batch {
     pub sheets: Vec<SheetReport>,
     pub problems: Vec<Problem>,
     pub tally: Tally,
-    /// Every assessed row, kept only by `assess_batch` (grading streams them to disk).
-    pub rows: Vec<Assessed>,
+    /// Every graded row, kept only by `assess_batch` (grading streams them to disk).
+    pub rows: Vec<Graded>,
 }
 
 impl Batch {
@@ -122,10 +124,11 @@ fn stream(
     files: &[PathBuf],
     calibration_file: Option<&Path>,
     batch: &mut Batch,
-    on_row: &mut dyn FnMut(&Assessed) -> Result<(), WriteError>,
+    on_row: &mut dyn FnMut(&Graded) -> Result<(), WriteError>,
     keep_rows: bool,
-) -> Result<(), WriteError> {
+) -> Result<(), RunError> {
     let calibration = load_calibration(calibration_file, &mut batch.problems);
+    let mut overrides = config.overrides.clone();
     let mut assessor = Assessor::new(context(config, calibration.as_ref()));
     let mut collector = Collector::default();
     let mut failure: Option<WriteError> = None;
@@ -145,9 +148,15 @@ fn stream(
                 return;
             }
             let a = assessor.assess(sub);
-            batch.tally.add(&a);
-            match on_row(&a) {
-                Ok(()) if keep_rows => batch.rows.push(a),
+            let own = overrides.for_row(a.submission.student_id.as_deref(), &a.submission.section);
+            let refs: Vec<&Override> = own.iter().collect();
+            let g = Graded {
+                score: score::score(&config.rubric, &a, &refs),
+                assessed: a,
+            };
+            batch.tally.add(&g.assessed);
+            match on_row(&g) {
+                Ok(()) if keep_rows => batch.rows.push(g),
                 Ok(()) => {}
                 Err(e) => failure = Some(e),
             }
@@ -163,7 +172,14 @@ fn stream(
             .problems
             .extend(unused_calibration(cal, assessor.apparatus_seen()));
     }
-    failure.map_or(Ok(()), Err)
+    if let Some(e) = failure {
+        return Err(e.into());
+    }
+    let unmatched = overrides.unmatched();
+    if !unmatched.is_empty() {
+        return Err(ConfigError::Invalid(unmatched.join("\n")).into());
+    }
+    Ok(())
 }
 
 /// A file found in a folder whose name says it holds the apparatus calibration.
@@ -224,26 +240,29 @@ fn discover_inputs(config: &Config) -> (Batch, Option<PathBuf>) {
     )
 }
 
-/// Reads and assesses, writing nothing; every row is kept in `Batch::rows`.
-pub fn assess_batch(config: &Config) -> Batch {
+/// Reads, assesses and grades, writing nothing; every row is kept in `Batch::rows`.
+pub fn assess_batch(config: &Config) -> Result<Batch, RunError> {
     let (mut batch, calibration) = discover_inputs(config);
     let files = std::mem::take(&mut batch.files);
-    // on_row never fails here, so neither does stream
-    let _ = stream(
+    stream(
         config,
         &files,
         calibration.as_deref(),
         &mut batch,
         &mut |_| Ok(()),
         true,
-    );
+    )?;
     batch.files = files;
-    batch
+    Ok(batch)
 }
 
 /// The files a grading run writes into the output folder.
-pub fn output_paths(out_dir: &Path) -> [PathBuf; 2] {
-    [out_dir.join("results.csv"), out_dir.join("results.json")]
+pub fn output_paths(out_dir: &Path) -> [PathBuf; 3] {
+    [
+        out_dir.join("results.csv"),
+        out_dir.join("results.json"),
+        out_dir.join("gradebook.csv"),
+    ]
 }
 
 fn refuse_overwriting_inputs(outputs: &[PathBuf], inputs: &[PathBuf]) -> Result<(), ConfigError> {
@@ -275,22 +294,26 @@ pub fn grade(config: &Config) -> Result<Batch, RunError> {
             config.out_dir.display()
         ))
     })?;
-    let mut csv = ResultsCsv::create(&outputs[0])?;
+    let ids = config.rubric.criterion_ids();
+    let mut csv = ResultsCsv::create(&outputs[0], &ids)?;
     let mut json = ResultsJson::create(&outputs[1])?;
+    let mut book = Gradebook::create(&outputs[2])?;
     let files = std::mem::take(&mut batch.files);
     stream(
         config,
         &files,
         calibration.as_deref(),
         &mut batch,
-        &mut |a| {
-            csv.row(a)?;
-            json.row(a)
+        &mut |g| {
+            csv.row(g)?;
+            json.row(g)?;
+            book.row(g)
         },
         false,
     )?;
     batch.files = files;
     csv.finish()?;
     json.finish(&batch.problems)?;
+    book.finish()?;
     Ok(batch)
 }

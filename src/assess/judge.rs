@@ -149,10 +149,7 @@ fn wet_or_impure(a: &Assessed, t: &Tolerances, out: &mut Vec<(Flag, String)>) {
         Some(c) => {
             format!("recovery {rec:.1} % against a ceiling of {c:.1} % for the solvent used")
         }
-        None => format!(
-            "recovery {rec:.1} % (at or above {:.0} %)",
-            t.wet_recovery_pct
-        ),
+        None => format!("recovery {rec:.1} %"),
     };
     if let Some(c) = over_ceiling {
         let mut note = format!("recovery {rec:.1} % exceeds the most that could crystallise ({c:.1} %): solvent or insoluble matter in the product");
@@ -164,7 +161,12 @@ fn wet_or_impure(a: &Assessed, t: &Tolerances, out: &mut Vec<(Flag, String)>) {
         out.push((
             Flag::LikelyWet,
             format!(
-                "{mass} and {}: solvent likely left in the crystals; dry to constant mass",
+                "{mass}{} and {}: solvent likely left in the crystals; dry to constant mass",
+                if ceiling.is_none() && rec <= 100.0 {
+                    format!(" (at or above {:.0} %)", t.wet_recovery_pct)
+                } else {
+                    String::new()
+                },
                 off.join(" and ")
             ),
         ));

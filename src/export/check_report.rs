@@ -7,6 +7,7 @@ use std::fmt::Write as _;
 use crate::assess::{Assessed, Severity};
 use crate::ingest::{Problem, SheetReport};
 use crate::pipeline::Tally;
+use crate::rubric::score::Graded;
 
 /// Terminal styling, or none.
 #[derive(Clone, Copy)]
@@ -84,11 +85,15 @@ pub fn layouts(sheets: &[SheetReport], style: Style) -> String {
 }
 
 /// Flagged rows grouped by file, then section, in input order.
-pub fn flagged(rows: &[Assessed], style: Style) -> String {
+pub fn flagged(rows: &[Graded], style: Style) -> String {
     let mut out = String::new();
     let _ = writeln!(out, "{}", style.bold("Flagged rows"));
     let mut groups: Vec<(&str, &str, Vec<&Assessed>)> = Vec::new();
-    for a in rows.iter().filter(|a| !a.flags.is_empty()) {
+    for a in rows
+        .iter()
+        .map(|g| &g.assessed)
+        .filter(|a| !a.flags.is_empty())
+    {
         let key = (a.submission.source.as_str(), a.submission.section.as_str());
         match groups.iter_mut().find(|g| (g.0, g.1) == key) {
             Some(g) => g.2.push(a),

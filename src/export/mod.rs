@@ -2,6 +2,7 @@
 
 pub mod atomic;
 pub mod check_report;
+pub mod gradebook;
 pub mod results_csv;
 pub mod results_json;
 

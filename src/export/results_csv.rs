@@ -6,12 +6,12 @@ use std::path::{Path, PathBuf};
 
 use super::atomic::AtomicFile;
 use super::{neutralise, push_number};
-use crate::assess::Assessed;
 use crate::error::WriteError;
+use crate::rubric::score::Graded;
 
 /// The contract's columns, in order, then the columns added since.
 #[rustfmt::skip]
-pub const COLUMNS: [&str; 31] = [
+pub const COLUMNS: [&str; 37] = [
     "source", "sheet", "row", "section", "student_id", "student_name", "bench", "compound",
     "crude_mass_g", "recovered_mass_g", "solvent_volume_ml", "mp_onset_c", "mp_clear_c",
     "reported_recovery_pct", "recovery_pct", "range_width_c", "reference_mp_c", "depression_c",
@@ -21,6 +21,8 @@ pub const COLUMNS: [&str; 31] = [
     // physical chemistry and calibration
     "purity_mol_pct", "purity_note", "max_recovery_pct", "min_solvent_ml",
     "mp_onset_observed_c", "mp_clear_observed_c", "calibration",
+    // grading; then one points_<criterion id> column per criterion of the rubric
+    "score", "max_score", "percent", "letter", "feedback", "overrides",
 ];
 
 /// The results file being written.
@@ -31,13 +33,18 @@ pub struct ResultsCsv {
 }
 
 impl ResultsCsv {
-    pub fn create(path: &Path) -> Result<ResultsCsv, WriteError> {
+    /// Opens the file and writes the header: the fixed columns, then `points_<id>` per criterion.
+    pub fn create(path: &Path, criteria: &[String]) -> Result<ResultsCsv, WriteError> {
         let mut out = ResultsCsv {
             csv: csv::Writer::from_writer(AtomicFile::create(path)?),
             path: path.to_path_buf(),
             buf: String::new(),
         };
-        out.csv.write_record(COLUMNS).map_err(|e| out.error(e))?;
+        let header = COLUMNS
+            .iter()
+            .map(|c| c.to_string())
+            .chain(criteria.iter().map(|id| format!("points_{id}")));
+        out.csv.write_record(header).map_err(|e| out.error(e))?;
         Ok(out)
     }
 
@@ -59,7 +66,8 @@ impl ResultsCsv {
         self.csv.write_field(&self.buf)
     }
 
-    fn fields(&mut self, a: &Assessed) -> csv::Result<()> {
+    fn fields(&mut self, g: &Graded) -> csv::Result<()> {
+        let a = &g.assessed;
         let s = &a.submission;
         self.csv.write_field(&s.source)?;
         self.csv.write_field(s.sheet.as_deref().unwrap_or(""))?;
@@ -103,12 +111,22 @@ impl ResultsCsv {
         self.number(s.mp_clear_c)?;
         self.csv
             .write_field(a.calibration.as_deref().unwrap_or(""))?;
+        let sc = &g.score;
+        for v in [sc.total, sc.max, sc.percent] {
+            self.number(Some(v))?;
+        }
+        self.csv.write_field(sc.letter.as_deref().unwrap_or(""))?;
+        self.text(Some(&sc.feedback))?;
+        self.text(Some(&sc.overrides.join("; ")))?;
+        for c in &sc.criteria {
+            self.number(Some(c.points))?;
+        }
         self.csv.write_record(None::<&[u8]>)
     }
 
     /// Appends one row.
-    pub fn row(&mut self, a: &Assessed) -> Result<(), WriteError> {
-        self.fields(a).map_err(|e| self.error(e))
+    pub fn row(&mut self, g: &Graded) -> Result<(), WriteError> {
+        self.fields(g).map_err(|e| self.error(e))
     }
 
     pub fn finish(self) -> Result<(), WriteError> {

@@ -8,9 +8,11 @@ use std::path::Path;
 use serde::Serialize;
 
 use super::atomic::AtomicFile;
-use crate::assess::Assessed;
+use std::collections::BTreeMap;
+
 use crate::error::WriteError;
 use crate::ingest::Problem;
+use crate::rubric::score::Graded;
 
 #[derive(Serialize)]
 struct Record<'a> {
@@ -45,9 +47,18 @@ struct Record<'a> {
     mp_onset_observed_c: Option<f64>,
     mp_clear_observed_c: Option<f64>,
     calibration: Option<&'a str>,
+    score: f64,
+    max_score: f64,
+    percent: f64,
+    letter: Option<&'a str>,
+    points: BTreeMap<&'a str, f64>,
+    feedback: &'a str,
+    overrides: &'a [String],
 }
 
-fn record(a: &Assessed) -> Record<'_> {
+fn record(g: &Graded) -> Record<'_> {
+    let a = &g.assessed;
+    let sc = &g.score;
     let s = &a.submission;
     Record {
         source: &s.source,
@@ -85,6 +96,17 @@ fn record(a: &Assessed) -> Record<'_> {
         mp_onset_observed_c: s.mp_onset_c,
         mp_clear_observed_c: s.mp_clear_c,
         calibration: a.calibration.as_deref(),
+        score: sc.total,
+        max_score: sc.max,
+        percent: sc.percent,
+        letter: sc.letter.as_deref(),
+        points: sc
+            .criteria
+            .iter()
+            .map(|c| (c.id.as_str(), c.points))
+            .collect(),
+        feedback: &sc.feedback,
+        overrides: &sc.overrides,
     }
 }
 
@@ -111,12 +133,12 @@ impl ResultsJson {
         })
     }
 
-    pub fn row(&mut self, a: &Assessed) -> Result<(), WriteError> {
+    pub fn row(&mut self, g: &Graded) -> Result<(), WriteError> {
         let sep: &[u8] = if self.first { b"\n" } else { b",\n" };
         self.first = false;
         self.buf.clear();
         self.buf.extend_from_slice(sep);
-        let result = serde_json::to_writer(&mut self.buf, &record(a))
+        let result = serde_json::to_writer(&mut self.buf, &record(g))
             .map_err(Into::into)
             .and_then(|_| self.file.write_all(&self.buf));
         result.map_err(|e| self.file.error(e))

@@ -7,10 +7,15 @@ use std::path::Path;
 
 use serde::{Deserialize, Serialize};
 
-use crate::error::{toml_location, ConfigError};
+pub mod criteria;
+pub mod overrides;
+pub mod score;
+
+use crate::error::{toml_location, ConfigError, Located};
+pub use criteria::{Criterion, FlagRule, Grading, Measure};
 
 /// The rubric shipped as `rubrics/default.toml`, compiled in so that a fresh clone grades.
-pub const DEFAULT_RUBRIC: &str = include_str!("../rubrics/default.toml");
+pub const DEFAULT_RUBRIC: &str = include_str!("../../rubrics/default.toml");
 
 #[derive(Clone, Debug, PartialEq, Serialize, Deserialize)]
 #[serde(deny_unknown_fields)]
@@ -106,6 +111,12 @@ pub struct Rubric {
     /// Header text to field key ("ignore" drops the column).
     #[serde(default)]
     pub columns: BTreeMap<String, String>,
+    #[serde(default)]
+    pub grading: Grading,
+    #[serde(default, rename = "criterion")]
+    pub criteria: Vec<Criterion>,
+    #[serde(default, rename = "flag_rule")]
+    pub flag_rules: Vec<FlagRule>,
 }
 
 impl Rubric {
@@ -121,6 +132,33 @@ impl Rubric {
             }
         })?;
         rubric.validate(file)?;
+        let findings = criteria::check(&rubric.grading, &rubric.criteria, &rubric.flag_rules);
+        if !findings.is_empty() {
+            let errors = findings
+                .into_iter()
+                .map(|f| {
+                    let (line, column) = toml_location(text, Some(f.span.clone()));
+                    let snippet = text
+                        .get(f.span)
+                        .unwrap_or("")
+                        .lines()
+                        .next()
+                        .unwrap_or("")
+                        .trim()
+                        .to_string();
+                    Located {
+                        line,
+                        column,
+                        text: snippet,
+                        message: f.message,
+                    }
+                })
+                .collect();
+            return Err(ConfigError::Located {
+                file: file.to_string(),
+                errors,
+            });
+        }
         Ok(rubric)
     }
 
@@ -129,6 +167,14 @@ impl Rubric {
             ConfigError::Invalid(format!("cannot read rubric {}: {e}", path.display()))
         })?;
         Rubric::parse(&text, &path.display().to_string())
+    }
+
+    /// The criterion ids, in order.
+    pub fn criterion_ids(&self) -> Vec<String> {
+        self.criteria
+            .iter()
+            .map(|c| c.id.get_ref().clone())
+            .collect()
     }
 
     pub fn builtin() -> Rubric {
@@ -148,6 +194,9 @@ impl Rubric {
             },
             tolerances: Tolerances::default(),
             columns: BTreeMap::new(),
+            grading: Grading::default(),
+            criteria: Vec::new(),
+            flag_rules: Vec::new(),
         })
     }
 

@@ -1,0 +1,412 @@
+//! Scoring: each criterion's points from its measure, then the flag rules (zero, deduct, cap),
+//! then any overrides, and a sentence for every point given or taken.
+
+use super::criteria::{Criterion, Measure};
+use super::overrides::Override;
+use super::Rubric;
+use crate::assess::Assessed;
+
+/// One criterion's result.
+#[derive(Clone, Debug, PartialEq)]
+pub struct CriterionScore {
+    pub id: String,
+    pub label: String,
+    pub points: f64,
+    pub max: f64,
+}
+
+/// One row's grade.
+#[derive(Clone, Debug, PartialEq)]
+pub struct Score {
+    pub criteria: Vec<CriterionScore>,
+    pub total: f64,
+    pub max: f64,
+    pub percent: f64,
+    pub letter: Option<String>,
+    /// Plain sentences for the student.
+    pub feedback: String,
+    /// Overrides applied, each with its reason and grader.
+    pub overrides: Vec<String>,
+}
+
+/// A row with its assessment and its grade.
+#[derive(Clone, Debug)]
+pub struct Graded {
+    pub assessed: Assessed,
+    pub score: Score,
+}
+
+/// The value of a measure for a row.
+pub fn measure_value(m: Measure, a: &Assessed) -> Option<f64> {
+    match m {
+        Measure::RecoveryPct => a.recovery_pct,
+        Measure::RangeWidthC => a.range_width_c,
+        Measure::DepressionC => a.depression_c,
+        Measure::PurityMolPct => a.purity_mol_pct,
+        Measure::ClearC => a.mp_clear_c,
+        Measure::RecoveryOfCeilingPct => {
+            Some(100.0 * a.recovery_pct? / a.max_recovery_pct.filter(|c| *c > 0.0)?)
+        }
+        Measure::RecoveryReportErrorPct => {
+            Some((a.submission.reported_recovery_pct? - a.recovery_pct?).abs())
+        }
+    }
+}
+
+/// Removes floating-point noise from a computed value (122.0 - 120.8 is 1.2000000000000028)
+/// so that a value on a band edge is judged as written.
+fn settle(x: f64) -> f64 {
+    (x * 1e9).round() / 1e9
+}
+
+/// Points a rule gives for a value, before rounding.
+pub fn rule_points(c: &Criterion, x: f64) -> f64 {
+    let max = *c.max.get_ref();
+    let x = settle(x);
+    if let Some(bands) = &c.bands {
+        return bands
+            .get_ref()
+            .iter()
+            .find(|b| b.contains(x))
+            .map_or(0.0, |b| b.points);
+    }
+    if let Some(l) = &c.linear {
+        let l = l.get_ref();
+        return max * ((x - l.zero_at) / (l.full_at - l.zero_at)).clamp(0.0, 1.0);
+    }
+    if let Some(p) = &c.pass {
+        let p = p.get_ref();
+        let ok = p.at_least.is_none_or(|v| x >= v) && p.at_most.is_none_or(|v| x <= v);
+        return if ok { max } else { 0.0 };
+    }
+    0.0
+}
+
+/// The measure in words, as the student reads it.
+fn describe(m: Measure, x: f64, a: &Assessed) -> String {
+    let reference = a
+        .reference_mp_c
+        .map(|r| format!(" ({r:.1} °C)"))
+        .unwrap_or_default();
+    match m {
+        Measure::RecoveryPct => format!("recovery {x:.1} %"),
+        Measure::RangeWidthC => match (a.mp_onset_c, a.mp_clear_c) {
+            (Some(o), Some(c)) => format!("the range {o:.1}-{c:.1} °C is {x:.1} °C wide"),
+            _ => format!("the range is {x:.1} °C wide"),
+        },
+        Measure::DepressionC if x >= 0.0 => {
+            format!("the clear point is {x:.1} °C below the literature value{reference}")
+        }
+        Measure::DepressionC => format!(
+            "the clear point is {:.1} °C above the literature value{reference}",
+            -x
+        ),
+        Measure::PurityMolPct => format!("estimated purity {x:.1} mol %"),
+        Measure::ClearC => format!("clear point {x:.1} °C"),
+        Measure::RecoveryOfCeilingPct => {
+            format!("recovery is {x:.0} % of the most that could crystallise")
+        }
+        Measure::RecoveryReportErrorPct if x < 0.05 => {
+            "the reported recovery matches the masses".to_string()
+        }
+        Measure::RecoveryReportErrorPct => format!("the reported recovery is off by {x:.1} points"),
+    }
+}
+
+fn missing_reason(m: Measure) -> &'static str {
+    match m {
+        Measure::RecoveryPct => "no recovery could be computed from the masses",
+        Measure::RecoveryOfCeilingPct => "no recovery ceiling could be computed (masses, solvent volume or the cold solubility unknown)",
+        Measure::RangeWidthC | Measure::ClearC => "no usable melting range was recorded",
+        Measure::DepressionC => "no clear point and reference to compare",
+        Measure::PurityMolPct => "no purity estimate could be made",
+        Measure::RecoveryReportErrorPct => "no reported recovery to check",
+    }
+}
+
+fn points_text(v: f64) -> String {
+    crate::export::number(Some((v * 1e6).round() / 1e6))
+}
+
+/// Grades one assessed row.
+pub fn score(rubric: &Rubric, a: &Assessed, overrides: &[&Override]) -> Score {
+    let g = &rubric.grading;
+    let mut sentences = Vec::new();
+    let mut criteria: Vec<CriterionScore> = Vec::new();
+    for c in &rubric.criteria {
+        let max = *c.max.get_ref();
+        let m = c.measure();
+        let value = m.and_then(|m| measure_value(m, a));
+        let (points, what) = match (m, value) {
+            (Some(m), Some(x)) => (g.round(rule_points(c, x)), describe(m, x, a)),
+            (Some(m), None) => (c.if_missing, missing_reason(m).to_string()),
+            (None, _) => (0.0, "not scored".to_string()),
+        };
+        criteria.push(CriterionScore {
+            id: c.id.get_ref().clone(),
+            label: c.label.clone(),
+            points,
+            max,
+        });
+        sentences.push(format!(
+            "{}: {what}, {} of {} points",
+            c.label,
+            points_text(points),
+            points_text(max)
+        ));
+    }
+    let mut deduct = 0.0;
+    let mut cap = f64::INFINITY;
+    for (flag, reason) in &a.flags {
+        let mut effects = Vec::new();
+        for rule in rubric.flag_rules.iter().filter(|r| r.applies_to(*flag)) {
+            for id in rule.zeroed() {
+                if let Some(cs) = criteria.iter_mut().find(|cs| cs.id == *id) {
+                    if cs.points > 0.0 {
+                        effects.push(format!("{} earns nothing", cs.label));
+                    }
+                    cs.points = 0.0;
+                }
+            }
+            if rule.deduct > 0.0 {
+                deduct += rule.deduct;
+                effects.push(format!("{} points off", points_text(rule.deduct)));
+            }
+            if let Some(c) = rule.cap {
+                cap = cap.min(c);
+                effects.push(format!("the total is capped at {}", points_text(c)));
+            }
+        }
+        let effect = if effects.is_empty() {
+            "no effect on points".to_string()
+        } else {
+            effects.join(", ")
+        };
+        sentences.push(format!("Flag {}: {reason} ({effect})", flag.code()));
+    }
+    let mut applied = Vec::new();
+    for o in overrides.iter().filter(|o| o.criterion.is_some()) {
+        if let Some(cs) = criteria
+            .iter_mut()
+            .find(|cs| Some(&cs.id) == o.criterion.as_ref())
+        {
+            let before = cs.points;
+            cs.points = o.change.apply(before).clamp(0.0, cs.max);
+            applied.push(o.describe(&cs.label, before, cs.points));
+        }
+    }
+    let max: f64 = criteria.iter().map(|c| c.max).sum();
+    let sum: f64 = criteria.iter().map(|c| c.points).sum();
+    let mut total = g.round((sum - deduct).max(0.0).min(cap));
+    for o in overrides.iter().filter(|o| o.criterion.is_none()) {
+        let before = total;
+        total = o.change.apply(before).clamp(0.0, max);
+        applied.push(o.describe("total", before, total));
+    }
+    let percent = if max > 0.0 { 100.0 * total / max } else { 0.0 };
+    let letter = g.letter(percent);
+    sentences.extend(applied.iter().map(|s| format!("Override: {s}")));
+    let grade = letter
+        .as_ref()
+        .map(|l| format!(" ({l})"))
+        .unwrap_or_default();
+    sentences.push(format!(
+        "Total {} of {}{grade}.",
+        points_text(total),
+        points_text(max)
+    ));
+    Score {
+        criteria,
+        total,
+        max,
+        percent,
+        letter,
+        feedback: sentences.join("; "),
+        overrides: applied,
+    }
+}
+
+#[cfg(test)]
+mod tests {
+    use super::*;
+    use crate::assess::{Assessed, Flag};
+    use crate::ingest::Submission;
+    use crate::rubric::overrides::Change;
+
+    fn rubric(extra: &str) -> Rubric {
+        let text = format!(
+            "[experiment]\nname = \"t\"\n[grading]\ntotal = 100\nround_to = 0.5\nletters = {{ A = 90, B = 80, F = 0 }}\n\
+             [[criterion]]\nid = \"recovery\"\nlabel = \"Recovery\"\nmax = 40\nmeasure = \"recovery_pct\"\n\
+             bands = [{{ to = 50, points = 10 }}, {{ from = 50, to = 70, points = 25 }}, {{ from = 70, points = 40 }}]\n\
+             [[criterion]]\nid = \"range\"\nlabel = \"Range\"\nmax = 30\nmeasure = \"range_width_c\"\n\
+             bands = [{{ through = 1.0, points = 30 }}, {{ above = 1.0, through = 2.0, points = 20 }}, {{ above = 2.0, points = 0 }}]\n\
+             [[criterion]]\nid = \"depression\"\nlabel = \"Depression\"\nmax = 20\nmeasure = \"depression_c\"\nlinear = {{ full_at = 0.0, zero_at = 4.0 }}\n\
+             [[criterion]]\nid = \"report\"\nlabel = \"Report\"\nmax = 10\nmeasure = \"recovery_report_error_pct\"\npass = {{ at_most = 1.0 }}\n{extra}"
+        );
+        Rubric::parse(&text, "t.toml").unwrap()
+    }
+
+    fn row(recovery: f64, width: f64, depression: f64, reported: Option<f64>) -> Assessed {
+        Assessed {
+            submission: Submission {
+                reported_recovery_pct: reported,
+                ..Submission::default()
+            },
+            compound: None,
+            reference_mp_c: Some(122.4),
+            mp_onset_c: Some(122.4 - depression - width),
+            mp_clear_c: Some(122.4 - depression),
+            recovery_pct: Some(recovery),
+            range_width_c: Some(width),
+            depression_c: Some(depression),
+            purity_mol_pct: None,
+            purity_note: String::new(),
+            max_recovery_pct: None,
+            min_solvent_ml: None,
+            calibration: None,
+            flags: Vec::new(),
+        }
+    }
+
+    fn points(s: &Score) -> Vec<f64> {
+        s.criteria.iter().map(|c| c.points).collect()
+    }
+
+    #[test]
+    fn every_band_edge() {
+        let r = rubric("");
+        // from is inclusive, to exclusive: 50 falls in [50, 70), 70 in [70, ...)
+        for (rec, want) in [
+            (49.999, 10.0),
+            (50.0, 25.0),
+            (69.999, 25.0),
+            (70.0, 40.0),
+            (-5.0, 10.0),
+            (130.0, 40.0),
+        ] {
+            assert_eq!(
+                score(&r, &row(rec, 0.5, 0.0, None), &[]).criteria[0].points,
+                want,
+                "recovery {rec}"
+            );
+        }
+        // through is inclusive, above exclusive: 1.0 earns 30, just above earns 20, 2.0 earns 20
+        for (w, want) in [(1.0, 30.0), (1.0001, 20.0), (2.0, 20.0), (2.0001, 0.0)] {
+            assert_eq!(
+                score(&r, &row(80.0, w, 0.0, None), &[]).criteria[1].points,
+                want,
+                "width {w}"
+            );
+        }
+        // floating-point noise on an edge is settled: 122.0 - 120.8 = 1.2000000000000028
+        assert_eq!(rule_points(&r.criteria[1], 122.0 - 121.0), 30.0);
+    }
+
+    #[test]
+    fn linear_and_pass_rules() {
+        let r = rubric("");
+        // linear from 20 points at 0 °C to 0 at 4 °C: 1.0 °C below gives 15 (hand-worked)
+        let s = score(&r, &row(80.0, 0.5, 1.0, Some(80.5)), &[]);
+        assert_eq!(points(&s), vec![40.0, 30.0, 15.0, 10.0]);
+        // 1.3 °C: 20 x (1 - 1.3/4) = 13.5 exactly; 1.4 °C: 13.0; clamped beyond the anchors
+        assert_eq!(
+            score(&r, &row(80.0, 0.5, 1.3, None), &[]).criteria[2].points,
+            13.5
+        );
+        assert_eq!(
+            score(&r, &row(80.0, 0.5, 6.0, None), &[]).criteria[2].points,
+            0.0
+        );
+        assert_eq!(
+            score(&r, &row(80.0, 0.5, -0.5, None), &[]).criteria[2].points,
+            20.0
+        );
+        // pass at most 1.0: an error of exactly 1.0 passes, 1.1 fails; no report earns if_missing (0)
+        assert_eq!(
+            score(&r, &row(80.0, 0.5, 0.0, Some(81.0)), &[]).criteria[3].points,
+            10.0
+        );
+        assert_eq!(
+            score(&r, &row(80.0, 0.5, 0.0, Some(81.1)), &[]).criteria[3].points,
+            0.0
+        );
+        assert_eq!(
+            score(&r, &row(80.0, 0.5, 0.0, None), &[]).criteria[3].points,
+            0.0
+        );
+    }
+
+    #[test]
+    fn rounding_totals_and_letters() {
+        let r = rubric("");
+        // 40 + 30 + 20 x (1 - 0.9/4) = 15.5 + 10 = 95.5 -> A
+        let s = score(&r, &row(80.0, 0.5, 0.9, Some(80.0)), &[]);
+        assert_eq!(s.total, 95.5);
+        assert_eq!(s.letter.as_deref(), Some("A"));
+        assert!(
+            s.feedback.contains("Total 95.5 of 100 (A)"),
+            "{}",
+            s.feedback
+        );
+    }
+
+    #[test]
+    fn flags_zero_deduct_and_cap() {
+        let r = rubric(
+            "[[flag_rule]]\nflag = \"recovery-over-100\"\nzero = [\"recovery\"]\n\
+             [[flag_rule]]\nflag = \"likely-wet\"\ndeduct = 7\n\
+             [[flag_rule]]\nflag = \"impossible\"\ncap = 50\n",
+        );
+        let mut a = row(104.0, 0.5, 0.0, Some(104.0));
+        a.flags = vec![(
+            Flag::RecoveryOver100,
+            "recovered 2.6 g exceeds crude 2.5 g".into(),
+        )];
+        let s = score(&r, &a, &[]);
+        // recovery zeroed: 0 + 30 + 20 + 10 = 60, capped at 50 by the impossible group rule
+        assert_eq!(s.criteria[0].points, 0.0);
+        assert_eq!(s.total, 50.0);
+        assert!(s.feedback.contains("Flag recovery-over-100: recovered 2.6 g exceeds crude 2.5 g (Recovery earns nothing, the total is capped at 50)"), "{}", s.feedback);
+        a.flags = vec![(Flag::LikelyWet, "heavy".into())];
+        assert_eq!(score(&r, &a, &[]).total, 93.0, "100 - 7");
+        a.flags = vec![(Flag::LowRecovery, "low".into())];
+        let s = score(&r, &a, &[]);
+        assert!(
+            s.feedback
+                .contains("Flag low-recovery: low (no effect on points)"),
+            "never silent: {}",
+            s.feedback
+        );
+    }
+
+    #[test]
+    fn overrides_apply_after_scoring_and_are_shown() {
+        let r = rubric("[[flag_rule]]\nflag = \"impossible\"\ncap = 50\n");
+        let mut a = row(60.0, 0.5, 0.0, Some(60.0));
+        a.flags = vec![(Flag::AboveReference, "x".into())];
+        let o = |criterion: Option<&str>, change| Override {
+            student_id: "s".into(),
+            section: None,
+            criterion: criterion.map(str::to_string),
+            change,
+            reason: "re-run under supervision".into(),
+            grader: "RO".into(),
+            line: 2,
+        };
+        let set = o(Some("recovery"), Change::Set(45.0));
+        let s = score(&r, &a, &[&set]);
+        assert_eq!(s.criteria[0].points, 40.0, "clamped to the criterion's max");
+        assert_eq!(
+            s.total, 50.0,
+            "the cap still applies to criterion overrides"
+        );
+        let total = o(None, Change::Adjust(12.5));
+        let s = score(&r, &a, &[&total]);
+        assert_eq!(s.total, 62.5, "a total override comes last: 50 + 12.5");
+        assert_eq!(
+            s.overrides,
+            vec!["total 50 -> 62.5 by RO: re-run under supervision"]
+        );
+        assert!(s.feedback.contains("Override: total 50 -> 62.5"));
+    }
+}
