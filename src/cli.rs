@@ -30,6 +30,13 @@ pub enum Command {
         /// Print nothing but errors
         #[arg(short, long)]
         quiet: bool,
+        /// Write one graded workbook per section instead of one per input file
+        #[arg(long)]
+        split_sections: bool,
+        /// Time of grading for the provenance and workbook properties (seconds since 1970-01-01
+        /// UTC), for byte-identical outputs; default: SOURCE_DATE_EPOCH, else now
+        #[arg(long, value_name = "SECONDS")]
+        timestamp: Option<i64>,
     },
     /// Show how each sheet's columns were understood and list the flagged rows; writes nothing
     Check {

@@ -26,6 +26,10 @@ pub struct Options {
     pub reference_mp_c: Option<f64>,
     pub calibration: Option<PathBuf>,
     pub overrides: Option<PathBuf>,
+    /// One graded workbook per section instead of per input file.
+    pub split_sections: bool,
+    /// Time of grading, seconds since the epoch (from --timestamp or SOURCE_DATE_EPOCH).
+    pub timestamp: Option<i64>,
 }
 
 /// Everything a run needs, validated.
@@ -44,6 +48,13 @@ pub struct Config {
     pub calibration: Option<PathBuf>,
     /// Grader overrides, applied after scoring.
     pub overrides: Overrides,
+    /// The overrides file, for provenance.
+    pub overrides_file: Option<PathBuf>,
+    /// The rubric's text, for its SHA-256 in the provenance.
+    pub rubric_text: String,
+    pub split_sections: bool,
+    /// Seconds since the epoch: fixed, or the time the run started.
+    pub timestamp: i64,
 }
 
 #[derive(Deserialize)]
@@ -71,11 +82,21 @@ fn read_columns_file(path: &Path) -> Result<ColumnOverrides, ConfigError> {
 
 impl Config {
     pub fn build(opts: Options) -> Result<Config, ConfigError> {
-        let (rubric, rubric_source) = match &opts.rubric {
-            Some(p) => (Rubric::load(p)?, p.display().to_string()),
+        let (rubric, rubric_source, rubric_text) = match &opts.rubric {
+            Some(p) => {
+                let text = std::fs::read_to_string(p).map_err(|e| {
+                    ConfigError::Invalid(format!("cannot read rubric {}: {e}", p.display()))
+                })?;
+                (
+                    Rubric::parse(&text, &p.display().to_string())?,
+                    p.display().to_string(),
+                    text,
+                )
+            }
             None => (
                 Rubric::builtin(),
                 "built-in rubrics/default.toml".to_string(),
+                crate::rubric::DEFAULT_RUBRIC.to_string(),
             ),
         };
         let from_rubric = ColumnOverrides::from_pairs(&rubric.columns)
@@ -125,6 +146,14 @@ impl Config {
         Ok(Config {
             inputs,
             out_dir,
+            overrides_file: opts.overrides.clone(),
+            rubric_text,
+            split_sections: opts.split_sections,
+            timestamp: opts.timestamp.unwrap_or_else(|| {
+                std::time::SystemTime::now()
+                    .duration_since(std::time::UNIX_EPOCH)
+                    .map_or(0, |d| d.as_secs() as i64)
+            }),
             overrides: match &opts.overrides {
                 Some(p) => Overrides::load(p, &rubric.criterion_ids())?,
                 None => Overrides::default(),

@@ -14,6 +14,7 @@ pub mod ingest;
 pub mod pipeline;
 pub mod reference;
 pub mod rubric;
+pub mod stats;
 
 pub use config::{Config, Options};
 pub use pipeline::{assess_batch, grade, Batch, RunError};

@@ -36,6 +36,10 @@ fn options(run: RunArgs, out: Option<PathBuf>) -> Options {
         reference_mp_c: run.reference_mp,
         calibration: run.calibration,
         overrides: run.overrides,
+        split_sections: false,
+        timestamp: std::env::var("SOURCE_DATE_EPOCH")
+            .ok()
+            .and_then(|v| v.trim().parse().ok()),
     }
 }
 
@@ -57,8 +61,17 @@ fn exit_for(batch: &Batch) -> ExitCode {
     ExitCode::from(if batch.incomplete() { 1 } else { 0 })
 }
 
-fn grade(run: RunArgs, out: PathBuf, quiet: bool) -> Result<ExitCode> {
-    let config = match Config::build(options(run, Some(out))) {
+fn grade(
+    run: RunArgs,
+    out: PathBuf,
+    quiet: bool,
+    split_sections: bool,
+    timestamp: Option<i64>,
+) -> Result<ExitCode> {
+    let mut opts = options(run, Some(out));
+    opts.split_sections = split_sections;
+    opts.timestamp = timestamp.or(opts.timestamp);
+    let config = match Config::build(opts) {
         Ok(c) => c,
         Err(e) => return usage_error(&e),
     };
@@ -147,7 +160,13 @@ fn main() -> ExitCode {
         }
     };
     let result = match cli.command {
-        Command::Grade { run, out, quiet } => grade(run, out, quiet),
+        Command::Grade {
+            run,
+            out,
+            quiet,
+            split_sections,
+            timestamp,
+        } => grade(run, out, quiet, split_sections, timestamp),
         Command::Check { run } => check(run),
         Command::Rubric {
             action: RubricAction::Check { file },

@@ -9,10 +9,15 @@ use std::sync::mpsc::sync_channel;
 use crate::assess::{calibration, Assessed, Assessor, Calibration, Context};
 use crate::config::Config;
 use crate::error::{ConfigError, WriteError};
-use crate::export::{gradebook::Gradebook, results_csv::ResultsCsv, results_json::ResultsJson};
+use crate::export::provenance::Provenance;
+use crate::export::workbook::GradedWorkbooks;
+use crate::export::{
+    gradebook::Gradebook, results_csv::ResultsCsv, results_json::ResultsJson, section_stats,
+};
 use crate::ingest::{self, discover, Collector, Problem, SheetReport};
 use crate::rubric::overrides::Override;
 use crate::rubric::score::{self, Graded};
+use crate::stats::sections::SectionStats;
 
 /// Counts over the batch's rows.
 #[derive(Clone, Copy, Debug, Default, PartialEq, Eq)]
@@ -298,6 +303,14 @@ pub fn grade(config: &Config) -> Result<Batch, RunError> {
     let mut csv = ResultsCsv::create(&outputs[0], &ids)?;
     let mut json = ResultsJson::create(&outputs[1])?;
     let mut book = Gradebook::create(&outputs[2])?;
+    let labels = config
+        .rubric
+        .criteria
+        .iter()
+        .map(|c| c.label.clone())
+        .collect();
+    let mut workbooks = GradedWorkbooks::new(&config.out_dir, config.split_sections, labels);
+    let mut stats = SectionStats::default();
     let files = std::mem::take(&mut batch.files);
     stream(
         config,
@@ -305,13 +318,27 @@ pub fn grade(config: &Config) -> Result<Batch, RunError> {
         calibration.as_deref(),
         &mut batch,
         &mut |g| {
+            stats.add(g);
             csv.row(g)?;
             json.row(g)?;
-            book.row(g)
+            book.row(g)?;
+            workbooks.row(g)
         },
         false,
     )?;
     batch.files = files;
+    refuse_overwriting_inputs(&workbooks.paths(), &batch.files)?;
+    let mut provenance_files: Vec<&Path> = batch.files.iter().map(PathBuf::as_path).collect();
+    provenance_files.extend(calibration.as_deref());
+    provenance_files.extend(config.overrides_file.as_deref());
+    let provenance = Provenance::new(
+        config.timestamp,
+        &config.rubric_source,
+        &config.rubric_text,
+        &provenance_files,
+    );
+    workbooks.finish(&stats, &provenance)?;
+    section_stats::write(&config.out_dir.join("section-stats.csv"), &stats)?;
     csv.finish()?;
     json.finish(&batch.problems)?;
     book.finish()?;

@@ -3,8 +3,11 @@
 pub mod atomic;
 pub mod check_report;
 pub mod gradebook;
+pub mod provenance;
 pub mod results_csv;
 pub mod results_json;
+pub mod section_stats;
+pub mod workbook;
 
 /// Guards a text cell from student input against spreadsheet formula injection in CSV:
 /// text starting with = + - @, a tab, a carriage return or NUL gets a leading apostrophe.

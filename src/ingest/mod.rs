@@ -225,6 +225,7 @@ pub fn tabulate(
         sheet: sheet.name.as_deref(),
         default_section: &data.default_section,
         decimal: data.decimal,
+        headers: layout.columns.iter().map(|c| c.header.clone()).collect(),
     };
     let rows = table::student_rows(sheet, &layout);
     let students = rows.len();

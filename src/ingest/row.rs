@@ -15,6 +15,8 @@ pub struct Origin<'a> {
     /// Section used when the sheet has no section column: the sheet name or the file stem.
     pub default_section: &'a str,
     pub decimal: Decimal,
+    /// The header texts of the sheet's table, kept with each row.
+    pub headers: std::sync::Arc<[String]>,
 }
 
 /// What kind of quantity a numeric field holds.
@@ -164,6 +166,12 @@ pub fn read_row(row: &RawRow, layout: &Layout, origin: &Origin) -> Submission {
         sheet: origin.sheet.map(str::to_string),
         row: row.index + 1,
         section: origin.default_section.to_string(),
+        original: layout
+            .columns
+            .iter()
+            .map(|c| row.get(c.index).clone())
+            .collect(),
+        original_headers: Some(origin.headers.clone()),
         ..Submission::default()
     };
     for column in &layout.columns {
@@ -241,6 +249,7 @@ mod tests {
             sheet: Some("Sec 2"),
             default_section: "Sec 2",
             decimal: Decimal::Point,
+            headers: headers.iter().map(|h| h.to_string()).collect(),
         };
         read_row(&sheet.rows[1], &layout, &origin)
     }

@@ -1,7 +1,11 @@
 //! What ingest hands on: one `Submission` per student row, with every value already in grams,
 //! millilitres and degrees Celsius, and the cells that could not be read named, not guessed.
 
+use std::sync::Arc;
+
 use serde::Serialize;
+
+use super::cells::Cell;
 
 use crate::fields::Field;
 
@@ -40,6 +44,12 @@ pub struct Submission {
     pub unreadable: Vec<Unreadable>,
     /// Observations that are not flags ("single melting value: onset taken as the clear point").
     pub notes: Vec<String>,
+    /// The row's cells under the sheet's header, as read, for the graded workbook.
+    #[serde(skip)]
+    pub original: Vec<Cell>,
+    /// The sheet's header texts, shared by its rows.
+    #[serde(skip)]
+    pub original_headers: Option<Arc<[String]>>,
 }
 
 impl Submission {

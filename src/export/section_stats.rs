@@ -1,0 +1,59 @@
+//! DIR/section-stats.csv: one row per section and measure, the same numbers as the graded
+//! workbooks' statistics sheets. Empty fields where a statistic is undefined (sd of one value).
+
+use std::path::Path;
+
+use super::{atomic::write_atomic, number};
+use crate::error::WriteError;
+use crate::stats::sections::SectionStats;
+
+pub const COLUMNS: [&str; 13] = [
+    "section",
+    "measure",
+    "n",
+    "mean",
+    "sd",
+    "sem",
+    "median",
+    "q1",
+    "q3",
+    "min",
+    "max",
+    "ci95_low",
+    "ci95_high",
+];
+
+pub fn write(path: &Path, stats: &SectionStats) -> Result<(), WriteError> {
+    write_atomic(path, |w| {
+        let mut csv = csv::Writer::from_writer(w);
+        csv.write_record(COLUMNS)?;
+        for (section, measure, s) in stats.summaries() {
+            let mut rec = vec![super::neutralise(section).into_owned(), measure.to_string()];
+            match s {
+                Some(s) => {
+                    rec.push(s.n.to_string());
+                    for v in [
+                        s.mean,
+                        s.sd,
+                        s.sem,
+                        s.median,
+                        s.q1,
+                        s.q3,
+                        s.min,
+                        s.max,
+                        s.ci95_low,
+                        s.ci95_high,
+                    ] {
+                        rec.push(number(Some(v)));
+                    }
+                }
+                None => {
+                    rec.push("0".into());
+                    rec.extend(std::iter::repeat_n(String::new(), 10));
+                }
+            }
+            csv.write_record(&rec)?;
+        }
+        csv.flush()
+    })
+}

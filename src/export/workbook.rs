@@ -1,0 +1,707 @@
+//! DIR/<input stem>-graded.xlsx: what a grader opens, checks and hands back. One sheet per
+//! section (the student's original columns, the recomputed ones, the points per criterion, the
+//! total and the flags), a statistics sheet with native charts, and a provenance sheet.
+//!
+//! Section sheets are written in rust_xlsxwriter's constant-memory mode as rows stream past, so a
+//! class of any size costs one row at a time; the statistics and provenance are added when the
+//! batch ends, and each workbook is saved to a temporary file and renamed into place.
+
+use std::collections::HashMap;
+use std::path::{Path, PathBuf};
+
+use rust_xlsxwriter::{
+    Chart, ChartType, Color, DocProperties, ExcelDateTime, Format, Note, Workbook, Worksheet,
+    XlsxError,
+};
+
+use super::provenance::Provenance;
+use crate::assess::{Flag, Severity};
+use crate::error::WriteError;
+use crate::ingest::cells::Cell;
+use crate::rubric::score::Graded;
+use crate::stats::sections::{SectionStats, MEASURES};
+use crate::stats::{histogram, QUANTILE_DEFINITION};
+
+/// Our palette: impossible entries rose, suspicious ones amber; the flags column also carries
+/// a marker ("!" impossible, "?" suspicious) so that nothing depends on colour.
+const IMPOSSIBLE_FILL: u32 = 0xF6C6C0;
+const SUSPICIOUS_FILL: u32 = 0xFBE3A6;
+const HEADER_FILL: u32 = 0xD9E4EC;
+
+/// The recomputed columns after the original ones: header, number format index.
+const COMPUTED: [(&str, usize); 11] = [
+    ("Crude (g)", 0),
+    ("Recovered (g)", 0),
+    ("Onset used (°C)", 1),
+    ("Clear point used (°C)", 1),
+    ("Recovery (%)", 1),
+    ("Range width (°C)", 1),
+    ("Reference mp (°C)", 1),
+    ("Depression (°C)", 1),
+    ("Purity (mol %)", 1),
+    ("Recovery ceiling (%)", 1),
+    ("Least solvent (mL)", 1),
+];
+
+/// Which computed columns a flag is about (indices into `COMPUTED`).
+fn flagged_columns(f: Flag) -> &'static [usize] {
+    match f {
+        Flag::RecoveryOver100
+        | Flag::NonpositiveMass
+        | Flag::LowRecovery
+        | Flag::RecoveryMismatch => &[0, 1, 4],
+        Flag::LikelyWet => &[1, 4, 9],
+        Flag::RangeInverted | Flag::OutsideCalibratedSpan => &[2, 3, 5],
+        Flag::LikelyImpure => &[5, 7],
+        Flag::AboveReference => &[3, 7],
+        Flag::SolventBelowMinimum => &[10],
+        _ => &[],
+    }
+}
+
+/// Formats: [number format][fill], number formats masses 0.000, temperatures and percentages 0.0.
+struct Formats {
+    cells: [[Format; 3]; 2],
+    text: [Format; 3],
+    header: Format,
+    bold: Format,
+}
+
+impl Formats {
+    fn new() -> Formats {
+        let fills = [None, Some(IMPOSSIBLE_FILL), Some(SUSPICIOUS_FILL)];
+        let with = |f: Format, fill: Option<u32>| match fill {
+            Some(c) => f.set_background_color(Color::RGB(c)),
+            None => f,
+        };
+        Formats {
+            cells: [
+                fills.map(|fl| with(Format::new().set_num_format("0.000"), fl)),
+                fills.map(|fl| with(Format::new().set_num_format("0.0"), fl)),
+            ],
+            text: fills.map(|fl| with(Format::new(), fl)),
+            header: Format::new()
+                .set_bold()
+                .set_text_wrap()
+                .set_background_color(Color::RGB(HEADER_FILL)),
+            bold: Format::new().set_bold(),
+        }
+    }
+}
+
+fn fill_index(s: Option<Severity>) -> usize {
+    match s {
+        None => 0,
+        Some(Severity::Impossible) => 1,
+        Some(Severity::Suspicious) => 2,
+    }
+}
+
+/// A sheet name Excel accepts: at most 31 characters, none of []:*?/\, unique in the workbook.
+pub fn sheet_name(wanted: &str, taken: &[String]) -> String {
+    let clean: String = wanted
+        .chars()
+        .map(|c| if "[]:*?/\\".contains(c) { '_' } else { c })
+        .collect();
+    let clean = clean.trim_matches('\'').trim();
+    let base: String = if clean.is_empty() {
+        "Section".into()
+    } else {
+        clean.chars().take(31).collect()
+    };
+    let free = |n: &str| {
+        !taken.iter().any(|t| t.eq_ignore_ascii_case(n)) && !n.eq_ignore_ascii_case("history")
+    };
+    if free(&base) {
+        return base;
+    }
+    (2..)
+        .map(|i| {
+            let suffix = format!(" ({i})");
+            let head: String = base.chars().take(31 - suffix.len()).collect();
+            format!("{head}{suffix}")
+        })
+        .find(|n| free(n))
+        .unwrap_or(base)
+}
+
+/// A file name that stays inside the output folder: letters, digits, `-`, `_` and `.` only.
+pub fn file_stem(wanted: &str) -> String {
+    let s: String = wanted
+        .chars()
+        .map(|c| {
+            if c.is_alphanumeric() || "-_.".contains(c) {
+                c
+            } else {
+                '_'
+            }
+        })
+        .collect();
+    let s = s.trim_start_matches('.');
+    if s.is_empty() {
+        "graded".into()
+    } else {
+        s.chars().take(100).collect()
+    }
+}
+
+struct SectionSheet {
+    index: usize,
+    name: String,
+    next_row: u32,
+    originals: usize,
+}
+
+struct Book {
+    path: PathBuf,
+    workbook: Workbook,
+    sheets: Vec<SectionSheet>,
+    by_key: HashMap<(Option<String>, String), usize>,
+    names: Vec<String>,
+    sections: Vec<String>,
+}
+
+/// The graded workbooks of a batch, open while rows stream past.
+pub struct GradedWorkbooks {
+    out_dir: PathBuf,
+    split_sections: bool,
+    criteria: Vec<String>,
+    books: Vec<Book>,
+    by_key: HashMap<String, usize>,
+    stems: Vec<String>,
+    formats: Formats,
+}
+
+fn xerr(path: &Path, e: XlsxError) -> WriteError {
+    WriteError {
+        path: path.to_path_buf(),
+        source: std::io::Error::other(e.to_string()),
+    }
+}
+
+fn write_cell(ws: &mut Worksheet, row: u32, col: u16, cell: &Cell) -> Result<(), XlsxError> {
+    match cell {
+        Cell::Empty => {}
+        Cell::Number(v) if v.is_finite() => {
+            ws.write_number(row, col, *v)?;
+        }
+        Cell::Number(_) => {}
+        Cell::Text(t) | Cell::Error(t) | Cell::Date(t) => {
+            ws.write_string(row, col, t)?;
+        }
+        Cell::Bool(b) => {
+            ws.write_boolean(row, col, *b)?;
+        }
+    }
+    Ok(())
+}
+
+impl GradedWorkbooks {
+    /// `criteria`: the rubric's criterion labels, in order.
+    pub fn new(out_dir: &Path, split_sections: bool, criteria: Vec<String>) -> GradedWorkbooks {
+        GradedWorkbooks {
+            out_dir: out_dir.to_path_buf(),
+            split_sections,
+            criteria,
+            books: Vec::new(),
+            by_key: HashMap::new(),
+            stems: Vec::new(),
+            formats: Formats::new(),
+        }
+    }
+
+    /// The workbook a row belongs to, opened on first use.
+    fn book_for(&mut self, g: &Graded) -> usize {
+        let s = &g.assessed.submission;
+        let source_stem = Path::new(&s.source)
+            .file_stem()
+            .and_then(|x| x.to_str())
+            .unwrap_or("graded")
+            .to_string();
+        let key = if self.split_sections {
+            format!("{}\u{0}{}", s.source, s.section)
+        } else {
+            s.source.clone()
+        };
+        if let Some(&i) = self.by_key.get(&key) {
+            return i;
+        }
+        let wanted = if self.split_sections {
+            format!("{source_stem}-{}", s.section)
+        } else {
+            source_stem
+        };
+        let mut stem = file_stem(&wanted);
+        let mut n = 2;
+        while self.stems.contains(&stem) {
+            stem = format!("{}-{n}", file_stem(&wanted));
+            n += 1;
+        }
+        self.stems.push(stem.clone());
+        let book = Book {
+            path: self.out_dir.join(format!("{stem}-graded.xlsx")),
+            workbook: Workbook::new(),
+            sheets: Vec::new(),
+            by_key: HashMap::new(),
+            names: Vec::new(),
+            sections: Vec::new(),
+        };
+        self.books.push(book);
+        self.by_key.insert(key, self.books.len() - 1);
+        self.books.len() - 1
+    }
+
+    fn header(&self, g: &Graded) -> Vec<String> {
+        let s = &g.assessed.submission;
+        let mut h: Vec<String> = s
+            .original_headers
+            .as_deref()
+            .map(|x| x.to_vec())
+            .unwrap_or_default();
+        h.extend(COMPUTED.iter().map(|(c, _)| c.to_string()));
+        h.extend(self.criteria.iter().cloned());
+        h.extend(["Total", "Max", "Letter", "Flags"].map(String::from));
+        h
+    }
+
+    /// Appends a row to its workbook's section sheet.
+    pub fn row(&mut self, g: &Graded) -> Result<(), WriteError> {
+        let bi = self.book_for(g);
+        let header = self.header(g);
+        let s = &g.assessed.submission;
+        let sheet_key = (s.sheet.clone(), s.section.clone());
+        let book = &mut self.books[bi];
+        let path = book.path.clone();
+        let si = match book.by_key.get(&sheet_key) {
+            Some(&i) => i,
+            None => {
+                let name = sheet_name(&s.section, &book.names);
+                let ws = book
+                    .workbook
+                    .add_worksheet_with_constant_memory()
+                    .map_err(|e| xerr(&path, e))?;
+                ws.set_name(&name).map_err(|e| xerr(&path, e))?;
+                for (c, h) in header.iter().enumerate() {
+                    ws.write_string_with_format(0, c as u16, h, &self.formats.header)
+                        .map_err(|e| xerr(&path, e))?;
+                    let width = (h.chars().count().clamp(8, 30) + 2) as f64;
+                    ws.set_column_width(c as u16, width)
+                        .map_err(|e| xerr(&path, e))?;
+                }
+                ws.set_column_width(header.len() as u16 - 1, 40)
+                    .map_err(|e| xerr(&path, e))?;
+                ws.set_freeze_panes(1, 0).map_err(|e| xerr(&path, e))?;
+                let index = book.workbook.worksheets().len() - 1;
+                book.names.push(name.clone());
+                if !book.sections.contains(&s.section) {
+                    book.sections.push(s.section.clone());
+                }
+                book.sheets.push(SectionSheet {
+                    index,
+                    name,
+                    next_row: 1,
+                    originals: s.original.len(),
+                });
+                book.by_key.insert(sheet_key, book.sheets.len() - 1);
+                book.sheets.len() - 1
+            }
+        };
+        let sheet = &mut book.sheets[si];
+        let ws = book
+            .workbook
+            .worksheet_from_index(sheet.index)
+            .map_err(|e| xerr(&path, e))?;
+        write_graded_row(ws, sheet, g, &self.formats).map_err(|e| xerr(&path, e))
+    }
+
+    /// Adds statistics, charts and provenance to every workbook and saves each atomically.
+    pub fn finish(
+        self,
+        stats: &SectionStats,
+        provenance: &Provenance,
+    ) -> Result<Vec<PathBuf>, WriteError> {
+        let mut written = Vec::new();
+        for mut book in self.books {
+            let path = book.path.clone();
+            let e = |err| xerr(&path, err);
+            for sheet in &book.sheets {
+                let ws = book.workbook.worksheet_from_index(sheet.index).map_err(e)?;
+                let last_col = (sheet.originals + COMPUTED.len() + self.criteria.len() + 3) as u16;
+                ws.autofilter(0, 0, sheet.next_row.saturating_sub(1).max(1), last_col)
+                    .map_err(e)?;
+            }
+            statistics_sheet(&mut book, stats, &self.formats).map_err(e)?;
+            provenance_sheet(&mut book.workbook, provenance, &self.formats).map_err(e)?;
+            let when = ExcelDateTime::from_timestamp(provenance.timestamp).map_err(e)?;
+            let props = DocProperties::new()
+                .set_creation_datetime(&when)
+                .set_title("Graded recrystallization results")
+                .set_comment("written by benchgrade");
+            book.workbook.set_properties(&props);
+            let tmp = path.with_file_name(format!(
+                ".{}.{}.partial",
+                path.file_name().and_then(|n| n.to_str()).unwrap_or("w"),
+                std::process::id()
+            ));
+            if let Err(err) = book.workbook.save(&tmp) {
+                let _ = std::fs::remove_file(&tmp);
+                return Err(xerr(&path, err));
+            }
+            std::fs::rename(&tmp, &path).map_err(|source| WriteError {
+                path: path.clone(),
+                source,
+            })?;
+            written.push(path);
+        }
+        Ok(written)
+    }
+
+    /// The workbook paths planned so far.
+    pub fn paths(&self) -> Vec<PathBuf> {
+        self.books.iter().map(|b| b.path.clone()).collect()
+    }
+}
+
+fn write_graded_row(
+    ws: &mut Worksheet,
+    sheet: &mut SectionSheet,
+    g: &Graded,
+    f: &Formats,
+) -> Result<(), XlsxError> {
+    let a = &g.assessed;
+    let s = &a.submission;
+    let r = sheet.next_row;
+    sheet.next_row += 1;
+    for (c, cell) in s.original.iter().enumerate().take(sheet.originals) {
+        write_cell(ws, r, c as u16, cell)?;
+    }
+    let mut severity: [Option<Severity>; COMPUTED.len()] = [None; COMPUTED.len()];
+    for (flag, _) in &a.flags {
+        for &c in flagged_columns(*flag) {
+            if severity[c] != Some(Severity::Impossible) {
+                severity[c] = Some(flag.severity());
+            }
+        }
+    }
+    let values = [
+        s.crude_mass_g,
+        s.recovered_mass_g,
+        a.mp_onset_c,
+        a.mp_clear_c,
+        a.recovery_pct,
+        a.range_width_c,
+        a.reference_mp_c,
+        a.depression_c,
+        a.purity_mol_pct,
+        a.max_recovery_pct,
+        a.min_solvent_ml,
+    ];
+    let base = sheet.originals as u16;
+    for (i, v) in values.iter().enumerate() {
+        let fmt = &f.cells[COMPUTED[i].1][fill_index(severity[i])];
+        match v.filter(|x| x.is_finite()) {
+            Some(x) => ws.write_number_with_format(r, base + i as u16, x, fmt)?,
+            None => ws.write_blank(r, base + i as u16, fmt)?,
+        };
+    }
+    let mut c = base + COMPUTED.len() as u16;
+    for cs in &g.score.criteria {
+        ws.write_number(r, c, cs.points)?;
+        c += 1;
+    }
+    ws.write_number_with_format(r, c, g.score.total, &f.bold)?;
+    ws.write_number(r, c + 1, g.score.max)?;
+    if let Some(l) = &g.score.letter {
+        ws.write_string(r, c + 2, l)?;
+    }
+    if !a.flags.is_empty() {
+        let worst = if a.is_impossible() {
+            Severity::Impossible
+        } else {
+            Severity::Suspicious
+        };
+        let marked: Vec<String> = a
+            .flags
+            .iter()
+            .map(|(fl, _)| {
+                format!(
+                    "{} {}",
+                    if fl.severity() == Severity::Impossible {
+                        "!"
+                    } else {
+                        "?"
+                    },
+                    fl.code()
+                )
+            })
+            .collect();
+        ws.write_string_with_format(
+            r,
+            c + 3,
+            marked.join("; "),
+            &f.text[fill_index(Some(worst))],
+        )?;
+        let text: Vec<String> = a
+            .flags
+            .iter()
+            .map(|(fl, n)| format!("{}: {n}", fl.code()))
+            .collect();
+        ws.insert_note(
+            r,
+            c + 3,
+            &Note::new(text.join("\n")).set_author("benchgrade"),
+        )?;
+    }
+    Ok(())
+}
+
+fn write_opt(ws: &mut Worksheet, r: u32, c: u16, v: f64) -> Result<(), XlsxError> {
+    if v.is_finite() {
+        ws.write_number(r, c, v)?;
+    }
+    Ok(())
+}
+
+/// The statistics sheet: the batch's figures for each section of this workbook, flag counts,
+/// rows left out, and native charts.
+fn statistics_sheet(book: &mut Book, stats: &SectionStats, f: &Formats) -> Result<(), XlsxError> {
+    let data_sheets: Vec<(String, u32, usize)> = book
+        .sheets
+        .iter()
+        .map(|s| (s.name.clone(), s.next_row, s.originals))
+        .collect();
+    let sections = book.sections.clone();
+    let ws = book.workbook.add_worksheet();
+    let name = sheet_name("Statistics", &book.names);
+    ws.set_name(&name)?;
+    let head = [
+        "section",
+        "measure",
+        "n",
+        "mean",
+        "sd",
+        "sem",
+        "median",
+        "q1",
+        "q3",
+        "min",
+        "max",
+        "ci95_low",
+        "ci95_high",
+    ];
+    for (c, h) in head.iter().enumerate() {
+        ws.write_string_with_format(0, c as u16, *h, &f.header)?;
+    }
+    ws.set_column_width(0, 16)?;
+    ws.set_column_width(1, 18)?;
+    let mut r = 1;
+    for (section, measure, summary) in stats
+        .summaries()
+        .into_iter()
+        .filter(|(s, _, _)| sections.iter().any(|x| x == s))
+    {
+        ws.write_string(r, 0, section)?;
+        ws.write_string(r, 1, measure)?;
+        match summary {
+            Some(s) => {
+                ws.write_number(r, 2, s.n as f64)?;
+                for (i, v) in [
+                    s.mean,
+                    s.sd,
+                    s.sem,
+                    s.median,
+                    s.q1,
+                    s.q3,
+                    s.min,
+                    s.max,
+                    s.ci95_low,
+                    s.ci95_high,
+                ]
+                .into_iter()
+                .enumerate()
+                {
+                    write_opt(ws, r, 3 + i as u16, v)?;
+                }
+            }
+            None => {
+                ws.write_number(r, 2, 0.0)?;
+            }
+        }
+        r += 1;
+    }
+    r += 1;
+    ws.write_string(r, 0, format!("Statistics leave out rows with impossible entries; {QUANTILE_DEFINITION}; sd and ci95 use n - 1."))?;
+    r += 2;
+    ws.write_string_with_format(r, 0, "Flag counts", &f.bold)?;
+    r += 1;
+    for section in &sections {
+        if let Some(g) = stats.groups.get(section) {
+            for (code, n) in &g.flags {
+                ws.write_string(r, 0, section)?;
+                ws.write_string(r, 1, *code)?;
+                ws.write_number(r, 2, *n as f64)?;
+                r += 1;
+            }
+        }
+    }
+    r += 1;
+    ws.write_string_with_format(r, 0, "Rows left out of the statistics", &f.bold)?;
+    r += 1;
+    for section in &sections {
+        if let Some(g) = stats.groups.get(section) {
+            ws.write_string(r, 0, section)?;
+            ws.write_number(r, 2, g.excluded.len() as f64)?;
+            r += 1;
+            for e in &g.excluded {
+                ws.write_string(r, 1, e)?;
+                r += 1;
+            }
+        }
+    }
+    charts(ws, &name, &sections, stats, &data_sheets, r + 2)
+}
+
+/// Histograms binned by us (the writer has no histogram type), drawn as column charts, and a
+/// scatter of recovery against range width read from the section sheets.
+fn charts(
+    ws: &mut Worksheet,
+    name: &str,
+    sections: &[String],
+    stats: &SectionStats,
+    data: &[(String, u32, usize)],
+    start: u32,
+) -> Result<(), XlsxError> {
+    let recovery_i = MEASURES
+        .iter()
+        .position(|m| *m == "recovery_pct")
+        .unwrap_or(0);
+    let score_i = MEASURES.iter().position(|m| *m == "score").unwrap_or(4);
+    let mut r = start;
+    ws.write_string(r, 0, "Recovery bins (%)")?;
+    let bins = histogram(&[], 0.0, 10.0, 11);
+    for (i, (lo, hi, _)) in bins.iter().enumerate() {
+        ws.write_string(r + 1 + i as u32, 0, format!("{lo:.0}-{hi:.0}"))?;
+    }
+    let mut recovery = Chart::new(ChartType::Column);
+    recovery
+        .title()
+        .set_name("Recovery by section (rows without impossible entries)");
+    recovery.x_axis().set_name("Recovery (%)");
+    recovery.y_axis().set_name("Students");
+    let mut score = Chart::new(ChartType::Column);
+    score.title().set_name("Score distribution");
+    score.x_axis().set_name("Score (% of maximum, bins of 10)");
+    score.y_axis().set_name("Students");
+    ws.write_string(r, 14, "Score bins")?;
+    for i in 0..11 {
+        ws.write_string(r + 1 + i, 14, format!("{}-{}", i * 10, i * 10 + 10))?;
+    }
+    for (k, section) in sections.iter().enumerate() {
+        let Some(g) = stats.groups.get(section) else {
+            continue;
+        };
+        let col = 1 + k as u16;
+        ws.write_string(r, col, section)?;
+        for (i, (_, _, n)) in histogram(&g.values[recovery_i], 0.0, 10.0, 11)
+            .iter()
+            .enumerate()
+        {
+            ws.write_number(r + 1 + i as u32, col, *n as f64)?;
+        }
+        recovery
+            .add_series()
+            .set_name(section.as_str())
+            .set_categories((name, r + 1, 0, r + 11, 0))
+            .set_values((name, r + 1, col, r + 11, col));
+        let scol = 15 + k as u16;
+        ws.write_string(r, scol, section)?;
+        for (i, (_, _, n)) in histogram(&g.values[score_i], 0.0, 10.0, 11)
+            .iter()
+            .enumerate()
+        {
+            ws.write_number(r + 1 + i as u32, scol, *n as f64)?;
+        }
+        score
+            .add_series()
+            .set_name(section.as_str())
+            .set_categories((name, r + 1, 14, r + 11, 14))
+            .set_values((name, r + 1, scol, r + 11, scol));
+    }
+    let mut scatter = Chart::new(ChartType::Scatter);
+    scatter.title().set_name("Recovery against range width");
+    scatter.x_axis().set_name("Range width (°C)");
+    scatter.y_axis().set_name("Recovery (%)");
+    for (sheet, rows, originals) in data {
+        if *rows < 2 {
+            continue;
+        }
+        let width_col = (*originals + 5) as u16;
+        let rec_col = (*originals + 4) as u16;
+        scatter
+            .add_series()
+            .set_name(sheet.as_str())
+            .set_categories((sheet.as_str(), 1, width_col, rows - 1, width_col))
+            .set_values((sheet.as_str(), 1, rec_col, rows - 1, rec_col));
+    }
+    r += 14;
+    ws.insert_chart(r, 0, &recovery)?;
+    ws.insert_chart(r, 8, &score)?;
+    ws.insert_chart(r + 16, 0, &scatter)?;
+    Ok(())
+}
+
+fn provenance_sheet(wb: &mut Workbook, p: &Provenance, f: &Formats) -> Result<(), XlsxError> {
+    let ws = wb.add_worksheet();
+    ws.set_name("Provenance")?;
+    ws.set_column_width(0, 22)?;
+    ws.set_column_width(1, 60)?;
+    ws.set_column_width(2, 68)?;
+    let mut r = 0;
+    for (k, v) in [
+        ("tool", format!("benchgrade {}", p.version)),
+        ("graded at (UTC)", p.time_text.clone()),
+        ("rubric", p.rubric.clone()),
+        ("rubric SHA-256", p.rubric_sha256.clone()),
+    ] {
+        ws.write_string_with_format(r, 0, k, &f.bold)?;
+        ws.write_string(r, 1, &v)?;
+        r += 1;
+    }
+    r += 1;
+    ws.write_string_with_format(r, 0, "input", &f.bold)?;
+    ws.write_string_with_format(r, 2, "SHA-256", &f.bold)?;
+    r += 1;
+    for (file, sha) in &p.inputs {
+        ws.write_string(r, 1, file)?;
+        ws.write_string(r, 2, sha)?;
+        r += 1;
+    }
+    r += 1;
+    for note in &p.notes {
+        ws.write_string(r, 0, note)?;
+        r += 1;
+    }
+    Ok(())
+}
+
+#[cfg(test)]
+mod tests {
+    use super::*;
+
+    #[test]
+    fn sheet_names_are_legal_and_unique() {
+        let taken = vec!["Sec 01".to_string()];
+        assert_eq!(sheet_name("Sec 01", &taken), "Sec 01 (2)");
+        assert_eq!(sheet_name("a/b:c*?", &[]), "a_b_c__");
+        assert_eq!(sheet_name(&"x".repeat(40), &[]).chars().count(), 31);
+        assert_eq!(sheet_name("", &[]), "Section");
+        assert_eq!(sheet_name("History", &[]), "History (2)");
+    }
+
+    #[test]
+    fn file_stems_stay_in_the_folder() {
+        assert_eq!(file_stem("../../etc/passwd"), "_.._etc_passwd");
+        assert_eq!(file_stem("Sec 01"), "Sec_01");
+        assert_eq!(file_stem("..."), "graded");
+    }
+}

@@ -1,0 +1,180 @@
+//! Statistics: descriptive summaries of a section's measures, and per-section accumulation
+//! over a streaming batch.
+//!
+//! One quantile definition serves the whole project: the linear, inclusive one (Hyndman and Fan
+//! type 7; spreadsheets' QUARTILE.INC and PERCENTILE.INC, NumPy's default), stated in every
+//! output that shows a quantile.
+
+pub mod sections;
+
+use statrs::distribution::{ContinuousCDF, StudentsT};
+
+/// The quantile definition, in words, for outputs.
+pub const QUANTILE_DEFINITION: &str = "quantiles by linear interpolation between order statistics (inclusive; Hyndman-Fan type 7, as QUARTILE.INC)";
+
+/// A descriptive summary of one measure over one group.
+#[derive(Clone, Debug, PartialEq)]
+pub struct Summary {
+    pub n: usize,
+    pub mean: f64,
+    /// Sample standard deviation (n - 1); NaN when n < 2.
+    pub sd: f64,
+    pub sem: f64,
+    pub median: f64,
+    pub q1: f64,
+    pub q3: f64,
+    pub min: f64,
+    pub max: f64,
+    /// 95 % confidence interval of the mean (Student's t, n - 1 degrees of freedom).
+    pub ci95_low: f64,
+    pub ci95_high: f64,
+}
+
+/// Linear inclusive quantile of sorted data: h = (n - 1) p, interpolated between neighbours.
+pub fn quantile_sorted(sorted: &[f64], p: f64) -> f64 {
+    match sorted.len() {
+        0 => f64::NAN,
+        1 => sorted[0],
+        n => {
+            let h = (n - 1) as f64 * p.clamp(0.0, 1.0);
+            let lo = h.floor() as usize;
+            let hi = (lo + 1).min(n - 1);
+            sorted[lo] + (h - lo as f64) * (sorted[hi] - sorted[lo])
+        }
+    }
+}
+
+/// Mean and the sum of squared deviations, by Welford's update (stable for data with many
+/// constant leading digits).
+pub fn mean_and_ss(data: &[f64]) -> (f64, f64) {
+    let mut mean = 0.0;
+    let mut m2 = 0.0;
+    for (i, &x) in data.iter().enumerate() {
+        let d = x - mean;
+        mean += d / (i + 1) as f64;
+        m2 += d * (x - mean);
+    }
+    (mean, m2)
+}
+
+/// Summarises finite values; `None` for no data.
+pub fn summarize(values: &[f64]) -> Option<Summary> {
+    let mut v: Vec<f64> = values.iter().copied().filter(|x| x.is_finite()).collect();
+    if v.is_empty() {
+        return None;
+    }
+    v.sort_by(f64::total_cmp);
+    let n = v.len();
+    let (mean, ss) = mean_and_ss(&v);
+    let sd = if n > 1 {
+        (ss / (n - 1) as f64).sqrt()
+    } else {
+        f64::NAN
+    };
+    let sem = sd / (n as f64).sqrt();
+    let t = if n > 1 {
+        StudentsT::new(0.0, 1.0, (n - 1) as f64)
+            .map(|d| d.inverse_cdf(0.975))
+            .unwrap_or(f64::NAN)
+    } else {
+        f64::NAN
+    };
+    Some(Summary {
+        n,
+        mean,
+        sd,
+        sem,
+        median: quantile_sorted(&v, 0.5),
+        q1: quantile_sorted(&v, 0.25),
+        q3: quantile_sorted(&v, 0.75),
+        min: v[0],
+        max: v[n - 1],
+        ci95_low: mean - t * sem,
+        ci95_high: mean + t * sem,
+    })
+}
+
+/// Equal-width bins for a histogram: (lower edge, upper edge, count), the last bin closed.
+pub fn histogram(values: &[f64], lo: f64, width: f64, bins: usize) -> Vec<(f64, f64, usize)> {
+    let mut counts = vec![0usize; bins];
+    for &x in values.iter().filter(|x| x.is_finite()) {
+        let i = ((x - lo) / width).floor();
+        let i = if i < 0.0 {
+            0
+        } else {
+            (i as usize).min(bins - 1)
+        };
+        counts[i] += 1;
+    }
+    counts
+        .iter()
+        .enumerate()
+        .map(|(i, &c)| (lo + i as f64 * width, lo + (i + 1) as f64 * width, c))
+        .collect()
+}
+
+#[cfg(test)]
+mod tests {
+    use super::*;
+    use approx::assert_abs_diff_eq;
+
+    #[test]
+    fn hand_computed_summary() {
+        // 2, 4, 4, 5, 7, 9 (hand-computed): mean 31/6 = 5.1667, SS = 30.8333, sd = sqrt(6.1667) = 2.4833,
+        // median 4.5, Q1 (h = 1.25) = 4, Q3 (h = 3.75) = 6.5
+        let s = summarize(&[9.0, 2.0, 4.0, 7.0, 4.0, 5.0]).unwrap();
+        assert_eq!(s.n, 6);
+        assert_abs_diff_eq!(s.mean, 31.0 / 6.0, epsilon = 1e-12);
+        assert_abs_diff_eq!(
+            s.sd,
+            (30.833_333_333_333_33f64 / 5.0).sqrt(),
+            epsilon = 1e-12
+        );
+        assert_eq!(
+            (s.median, s.q1, s.q3, s.min, s.max),
+            (4.5, 4.0, 6.5, 2.0, 9.0)
+        );
+        // t(0.975, 5) = 2.5705818356363146 (scipy.stats.t.ppf, SciPy 1.17.1)
+        assert_abs_diff_eq!(
+            s.ci95_high - s.mean,
+            2.570_581_835_636_314_6 * s.sd / 6f64.sqrt(),
+            epsilon = 1e-9
+        );
+    }
+
+    #[test]
+    fn matches_scipy_and_numpy() {
+        // Computed once with NumPy 2.4.6 and SciPy 1.17.1: np.mean, np.std(ddof=1),
+        // np.percentile (default 'linear'), scipy.stats.t.ppf(0.975, 9) = 2.262157162798205,
+        // mean -/+ t x sd / sqrt(10) = 68.55628593707132, 90.14371406292867
+        let x = [76.2, 82.6, 113.1, 84.8, 69.5, 71.7, 80.1, 66.4, 90.2, 58.9];
+        let s = summarize(&x).unwrap();
+        assert_abs_diff_eq!(s.mean, 79.35, epsilon = 1e-9);
+        assert_abs_diff_eq!(s.sd, 15.088_571_834_338_726, epsilon = 1e-9);
+        assert_abs_diff_eq!(s.q1, 70.05, epsilon = 1e-9);
+        assert_abs_diff_eq!(s.median, 78.15, epsilon = 1e-9);
+        assert_abs_diff_eq!(s.q3, 84.25, epsilon = 1e-9);
+        assert_abs_diff_eq!(s.ci95_low, 68.556_285_937_071_32, epsilon = 1e-6);
+        assert_abs_diff_eq!(s.ci95_high, 90.143_714_062_928_67, epsilon = 1e-6);
+    }
+
+    #[test]
+    fn small_groups() {
+        let one = summarize(&[3.0]).unwrap();
+        assert!(one.sd.is_nan() && one.ci95_low.is_nan());
+        assert_eq!(one.median, 3.0);
+        assert_eq!(summarize(&[f64::NAN]), None);
+        assert_eq!(
+            histogram(&[0.0, 9.99, 10.0, 55.0, -3.0], 0.0, 10.0, 3),
+            vec![(0.0, 10.0, 3), (10.0, 20.0, 1), (20.0, 30.0, 1)]
+        );
+    }
+
+    #[test]
+    fn welford_keeps_precision_with_many_leading_digits() {
+        // NIST StRD-style data (common practice): 1000000000000.4, .2, .6 -> mean ...0.4, SS 0.08
+        let (m, ss) = mean_and_ss(&[1e12 + 0.4, 1e12 + 0.2, 1e12 + 0.6]);
+        assert_abs_diff_eq!(m - 1e12, 0.4, epsilon = 1e-3);
+        assert_abs_diff_eq!(ss, 0.08, epsilon = 1e-3);
+    }
+}
