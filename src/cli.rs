@@ -24,19 +24,8 @@ pub enum Command {
     Grade {
         #[command(flatten)]
         run: RunArgs,
-        /// Folder for the outputs (created if needed; inputs are never written)
-        #[arg(short, long, value_name = "DIR", default_value = "graded")]
-        out: PathBuf,
-        /// Print nothing but errors
-        #[arg(short, long)]
-        quiet: bool,
-        /// Write one graded workbook per section instead of one per input file
-        #[arg(long)]
-        split_sections: bool,
-        /// Time of grading for the provenance and workbook properties (seconds since 1970-01-01
-        /// UTC), for byte-identical outputs; default: SOURCE_DATE_EPOCH, else now
-        #[arg(long, value_name = "SECONDS")]
-        timestamp: Option<i64>,
+        #[command(flatten)]
+        grade: GradeArgs,
     },
     /// Show how each sheet's columns were understood and list the flagged rows; writes nothing
     Check {
@@ -67,6 +56,28 @@ pub enum RubricAction {
         #[arg(value_name = "FILE")]
         file: PathBuf,
     },
+}
+
+/// What only `grade` takes.
+#[derive(Args, Debug)]
+pub struct GradeArgs {
+    /// Folder for the outputs (created if needed; inputs are never written)
+    #[arg(short, long, value_name = "DIR", default_value = "graded")]
+    pub out: PathBuf,
+    /// Print nothing but errors
+    #[arg(short, long)]
+    pub quiet: bool,
+    /// Write one graded workbook per section instead of one per input file
+    #[arg(long)]
+    pub split_sections: bool,
+    /// Write results, gradebook and statistics only, no graded workbooks (faster on very
+    /// large batches)
+    #[arg(long)]
+    pub skip_workbooks: bool,
+    /// Time of grading for the provenance and workbook properties (seconds since 1970-01-01
+    /// UTC), for byte-identical outputs; default: SOURCE_DATE_EPOCH, else now
+    #[arg(long, value_name = "SECONDS")]
+    pub timestamp: Option<i64>,
 }
 
 #[derive(Args, Debug)]

@@ -28,6 +28,8 @@ pub struct Options {
     pub overrides: Option<PathBuf>,
     /// One graded workbook per section instead of per input file.
     pub split_sections: bool,
+    /// No graded workbooks.
+    pub skip_workbooks: bool,
     /// Time of grading, seconds since the epoch (from --timestamp or SOURCE_DATE_EPOCH).
     pub timestamp: Option<i64>,
 }
@@ -53,6 +55,7 @@ pub struct Config {
     /// The rubric's text, for its SHA-256 in the provenance.
     pub rubric_text: String,
     pub split_sections: bool,
+    pub skip_workbooks: bool,
     /// Seconds since the epoch: fixed, or the time the run started.
     pub timestamp: i64,
 }
@@ -149,6 +152,7 @@ impl Config {
             overrides_file: opts.overrides.clone(),
             rubric_text,
             split_sections: opts.split_sections,
+            skip_workbooks: opts.skip_workbooks,
             timestamp: opts.timestamp.unwrap_or_else(|| {
                 std::time::SystemTime::now()
                     .duration_since(std::time::UNIX_EPOCH)

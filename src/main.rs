@@ -13,7 +13,7 @@ use clap::Parser;
 use benchgrade::export::check_report::{self, Style};
 use benchgrade::reference::Library;
 use benchgrade::{Batch, Config, Options, RunError};
-use cli::{Cli, Command, RubricAction, RunArgs};
+use cli::{Cli, Command, GradeArgs, RubricAction, RunArgs};
 
 /// The sample data: in the working directory when run from a clone, else beside the sources.
 fn sample_data() -> Option<PathBuf> {
@@ -37,6 +37,7 @@ fn options(run: RunArgs, out: Option<PathBuf>) -> Options {
         calibration: run.calibration,
         overrides: run.overrides,
         split_sections: false,
+        skip_workbooks: false,
         timestamp: std::env::var("SOURCE_DATE_EPOCH")
             .ok()
             .and_then(|v| v.trim().parse().ok()),
@@ -61,16 +62,12 @@ fn exit_for(batch: &Batch) -> ExitCode {
     ExitCode::from(if batch.incomplete() { 1 } else { 0 })
 }
 
-fn grade(
-    run: RunArgs,
-    out: PathBuf,
-    quiet: bool,
-    split_sections: bool,
-    timestamp: Option<i64>,
-) -> Result<ExitCode> {
-    let mut opts = options(run, Some(out));
-    opts.split_sections = split_sections;
-    opts.timestamp = timestamp.or(opts.timestamp);
+fn grade(run: RunArgs, g: GradeArgs) -> Result<ExitCode> {
+    let quiet = g.quiet;
+    let mut opts = options(run, Some(g.out));
+    opts.split_sections = g.split_sections;
+    opts.skip_workbooks = g.skip_workbooks;
+    opts.timestamp = g.timestamp.or(opts.timestamp);
     let config = match Config::build(opts) {
         Ok(c) => c,
         Err(e) => return usage_error(&e),
@@ -160,13 +157,7 @@ fn main() -> ExitCode {
         }
     };
     let result = match cli.command {
-        Command::Grade {
-            run,
-            out,
-            quiet,
-            split_sections,
-            timestamp,
-        } => grade(run, out, quiet, split_sections, timestamp),
+        Command::Grade { run, grade: g } => grade(run, g),
         Command::Check { run } => check(run),
         Command::Rubric {
             action: RubricAction::Check { file },

@@ -309,7 +309,8 @@ pub fn grade(config: &Config) -> Result<Batch, RunError> {
         .iter()
         .map(|c| c.label.clone())
         .collect();
-    let mut workbooks = GradedWorkbooks::new(&config.out_dir, config.split_sections, labels);
+    let mut workbooks = (!config.skip_workbooks)
+        .then(|| GradedWorkbooks::new(&config.out_dir, config.split_sections, labels));
     let mut stats = SectionStats::default();
     let files = std::mem::take(&mut batch.files);
     stream(
@@ -322,12 +323,17 @@ pub fn grade(config: &Config) -> Result<Batch, RunError> {
             csv.row(g)?;
             json.row(g)?;
             book.row(g)?;
-            workbooks.row(g)
+            match workbooks.as_mut() {
+                Some(w) => w.row(g),
+                None => Ok(()),
+            }
         },
         false,
     )?;
     batch.files = files;
-    refuse_overwriting_inputs(&workbooks.paths(), &batch.files)?;
+    if let Some(w) = &workbooks {
+        refuse_overwriting_inputs(&w.paths(), &batch.files)?;
+    }
     let mut provenance_files: Vec<&Path> = batch.files.iter().map(PathBuf::as_path).collect();
     provenance_files.extend(calibration.as_deref());
     provenance_files.extend(config.overrides_file.as_deref());
@@ -337,7 +343,9 @@ pub fn grade(config: &Config) -> Result<Batch, RunError> {
         &config.rubric_text,
         &provenance_files,
     );
-    workbooks.finish(&stats, &provenance)?;
+    if let Some(w) = workbooks {
+        w.finish(&stats, &provenance)?;
+    }
     section_stats::write(&config.out_dir.join("section-stats.csv"), &stats)?;
     csv.finish()?;
     json.finish(&batch.problems)?;

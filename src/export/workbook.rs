@@ -27,6 +27,10 @@ use crate::stats::{histogram, QUANTILE_DEFINITION};
 const IMPOSSIBLE_FILL: u32 = 0xF6C6C0;
 const SUSPICIOUS_FILL: u32 = 0xFBE3A6;
 const HEADER_FILL: u32 = 0xD9E4EC;
+/// Cell notes per section sheet. The writer keeps notes in memory whatever its mode (we
+/// measured at about 20 kB each), so beyond this many the "Reasons" column alone carries the
+/// explanation (it always does).
+pub const NOTES_PER_SHEET: usize = 100;
 
 /// The recomputed columns after the original ones: header, number format index.
 const COMPUTED: [(&str, usize); 11] = [
@@ -150,6 +154,7 @@ struct SectionSheet {
     name: String,
     next_row: u32,
     originals: usize,
+    notes: usize,
 }
 
 struct Book {
@@ -170,6 +175,8 @@ pub struct GradedWorkbooks {
     by_key: HashMap<String, usize>,
     stems: Vec<String>,
     formats: Formats,
+    /// (source, sheet, section, workbook, sheet) of the previous row.
+    last: Option<(String, Option<String>, String, usize, usize)>,
 }
 
 fn xerr(path: &Path, e: XlsxError) -> WriteError {
@@ -207,6 +214,7 @@ impl GradedWorkbooks {
             by_key: HashMap::new(),
             stems: Vec::new(),
             formats: Formats::new(),
+            last: None,
         }
     }
 
@@ -260,52 +268,78 @@ impl GradedWorkbooks {
             .unwrap_or_default();
         h.extend(COMPUTED.iter().map(|(c, _)| c.to_string()));
         h.extend(self.criteria.iter().cloned());
-        h.extend(["Total", "Max", "Letter", "Flags"].map(String::from));
+        h.extend(["Total", "Max", "Letter", "Flags", "Reasons"].map(String::from));
         h
+    }
+
+    /// The (workbook, sheet) a row goes to; the previous row's answer is reused when the row
+    /// comes from the same place, which is nearly always.
+    fn place(&mut self, g: &Graded) -> Result<(usize, usize), WriteError> {
+        let s = &g.assessed.submission;
+        if let Some((src, sheet, section, bi, si)) = &self.last {
+            if *src == s.source && *sheet == s.sheet && *section == s.section {
+                return Ok((*bi, *si));
+            }
+        }
+        let bi = self.book_for(g);
+        let sheet_key = (s.sheet.clone(), s.section.clone());
+        let si = match self.books[bi].by_key.get(&sheet_key) {
+            Some(&i) => i,
+            None => self.add_sheet(bi, g, sheet_key)?,
+        };
+        self.last = Some((s.source.clone(), s.sheet.clone(), s.section.clone(), bi, si));
+        Ok((bi, si))
+    }
+
+    fn add_sheet(
+        &mut self,
+        bi: usize,
+        g: &Graded,
+        key: (Option<String>, String),
+    ) -> Result<usize, WriteError> {
+        let header = self.header(g);
+        let s = &g.assessed.submission;
+        let book = &mut self.books[bi];
+        let path = book.path.clone();
+        let e = |err| xerr(&path, err);
+        let name = sheet_name(&s.section, &book.names);
+        let ws = book
+            .workbook
+            .add_worksheet_with_constant_memory()
+            .map_err(e)?;
+        ws.set_name(&name).map_err(e)?;
+        for (c, h) in header.iter().enumerate() {
+            ws.write_string_with_format(0, c as u16, h, &self.formats.header)
+                .map_err(e)?;
+            let width = (h.chars().count().clamp(8, 30) + 2) as f64;
+            ws.set_column_width(c as u16, width).map_err(e)?;
+        }
+        ws.set_column_width(header.len() as u16 - 2, 30)
+            .map_err(e)?;
+        ws.set_column_width(header.len() as u16 - 1, 80)
+            .map_err(e)?;
+        ws.set_freeze_panes(1, 0).map_err(e)?;
+        let index = book.workbook.worksheets().len() - 1;
+        book.names.push(name.clone());
+        if !book.sections.contains(&s.section) {
+            book.sections.push(s.section.clone());
+        }
+        book.sheets.push(SectionSheet {
+            index,
+            name,
+            next_row: 1,
+            originals: s.original.len(),
+            notes: 0,
+        });
+        book.by_key.insert(key, book.sheets.len() - 1);
+        Ok(book.sheets.len() - 1)
     }
 
     /// Appends a row to its workbook's section sheet.
     pub fn row(&mut self, g: &Graded) -> Result<(), WriteError> {
-        let bi = self.book_for(g);
-        let header = self.header(g);
-        let s = &g.assessed.submission;
-        let sheet_key = (s.sheet.clone(), s.section.clone());
+        let (bi, si) = self.place(g)?;
         let book = &mut self.books[bi];
         let path = book.path.clone();
-        let si = match book.by_key.get(&sheet_key) {
-            Some(&i) => i,
-            None => {
-                let name = sheet_name(&s.section, &book.names);
-                let ws = book
-                    .workbook
-                    .add_worksheet_with_constant_memory()
-                    .map_err(|e| xerr(&path, e))?;
-                ws.set_name(&name).map_err(|e| xerr(&path, e))?;
-                for (c, h) in header.iter().enumerate() {
-                    ws.write_string_with_format(0, c as u16, h, &self.formats.header)
-                        .map_err(|e| xerr(&path, e))?;
-                    let width = (h.chars().count().clamp(8, 30) + 2) as f64;
-                    ws.set_column_width(c as u16, width)
-                        .map_err(|e| xerr(&path, e))?;
-                }
-                ws.set_column_width(header.len() as u16 - 1, 40)
-                    .map_err(|e| xerr(&path, e))?;
-                ws.set_freeze_panes(1, 0).map_err(|e| xerr(&path, e))?;
-                let index = book.workbook.worksheets().len() - 1;
-                book.names.push(name.clone());
-                if !book.sections.contains(&s.section) {
-                    book.sections.push(s.section.clone());
-                }
-                book.sheets.push(SectionSheet {
-                    index,
-                    name,
-                    next_row: 1,
-                    originals: s.original.len(),
-                });
-                book.by_key.insert(sheet_key, book.sheets.len() - 1);
-                book.sheets.len() - 1
-            }
-        };
         let sheet = &mut book.sheets[si];
         let ws = book
             .workbook
@@ -446,11 +480,15 @@ fn write_graded_row(
             .iter()
             .map(|(fl, n)| format!("{}: {n}", fl.code()))
             .collect();
-        ws.insert_note(
-            r,
-            c + 3,
-            &Note::new(text.join("\n")).set_author("benchgrade"),
-        )?;
+        ws.write_string(r, c + 4, text.join("; "))?;
+        if sheet.notes < NOTES_PER_SHEET {
+            sheet.notes += 1;
+            ws.insert_note(
+                r,
+                c + 3,
+                &Note::new(text.join("\n")).set_author("benchgrade"),
+            )?;
+        }
     }
     Ok(())
 }

@@ -5,5 +5,5 @@ mod harness;
 mod ingest_messy;
 mod physchem;
 mod reference_data;
-mod workbooks;
 mod sample_data;
+mod workbooks;

@@ -11,7 +11,14 @@ use crate::harness::{num, project_root, read_results, Fixture, Record};
 fn grade(f: &Fixture, extra: &[&str]) {
     let sample = project_root().join("sample-data");
     let out = f.path("out");
-    let mut args = vec!["grade", sample.to_str().unwrap(), "--out", out.to_str().unwrap(), "--timestamp", "1795000000"];
+    let mut args = vec![
+        "grade",
+        sample.to_str().unwrap(),
+        "--out",
+        out.to_str().unwrap(),
+        "--timestamp",
+        "1795000000",
+    ];
     args.extend_from_slice(extra);
     let run = crate::harness::run_in(&project_root(), &args);
     assert_eq!(run.code, 0, "{}", run.stderr);
@@ -36,13 +43,25 @@ fn every_student_row_is_in_its_workbook_with_the_right_values() {
     assert_eq!(names, vec!["Sec 01", "Statistics", "Provenance"]);
     let range = wb.worksheet_range("Sec 01").unwrap();
     let header: Vec<String> = range.rows().next().unwrap().iter().map(cell_text).collect();
-    let col = |h: &str| header.iter().position(|x| x == h).unwrap_or_else(|| panic!("no column {h}"));
-    let ours: Vec<&Record> = rows.iter().filter(|r| r["source"].ends_with("section-01.xlsx")).collect();
+    let col = |h: &str| {
+        header
+            .iter()
+            .position(|x| x == h)
+            .unwrap_or_else(|| panic!("no column {h}"))
+    };
+    let ours: Vec<&Record> = rows
+        .iter()
+        .filter(|r| r["source"].ends_with("section-01.xlsx"))
+        .collect();
     assert_eq!(range.height() - 1, ours.len(), "every student row is there");
     for (r, want) in range.rows().skip(1).zip(&ours) {
         assert_eq!(cell_text(&r[col("Student #")]), want["student_id"]);
         assert_eq!(cell_text(&r[col("Name")]), want["student_name"]);
-        for (h, c) in [("Recovery (%)", "recovery_pct"), ("Depression (°C)", "depression_c"), ("Total", "score")] {
+        for (h, c) in [
+            ("Recovery (%)", "recovery_pct"),
+            ("Depression (°C)", "depression_c"),
+            ("Total", "score"),
+        ] {
             match (&r[col(h)], num(want, c)) {
                 (Data::Float(v), Some(w)) => assert!((v - w).abs() < 1e-9, "{h}: {v} vs {w}"),
                 (Data::Empty, None) => {}
@@ -54,7 +73,10 @@ fn every_student_row_is_in_its_workbook_with_the_right_values() {
             assert!(flags.contains(code), "{flags} lacks {code}");
         }
         if !want["flags"].is_empty() {
-            assert!(flags.starts_with('!') || flags.starts_with('?'), "a marker, not only colour: {flags}");
+            assert!(
+                flags.starts_with('!') || flags.starts_with('?'),
+                "a marker, not only colour: {flags}"
+            );
         }
     }
 }
@@ -64,18 +86,31 @@ fn the_statistics_sheet_equals_section_stats_csv() {
     let f = Fixture::new();
     grade(&f, &[]);
     let csv = read_results(&f.path("out/section-stats.csv"));
-    let by_key: HashMap<(String, String), &Record> = csv.iter().map(|r| ((r["section"].clone(), r["measure"].clone()), r)).collect();
+    let by_key: HashMap<(String, String), &Record> = csv
+        .iter()
+        .map(|r| ((r["section"].clone(), r["measure"].clone()), r))
+        .collect();
     let mut checked = 0;
-    for book in ["section-01-graded.xlsx", "section-02-graded.xlsx", "section-03-graded.xlsx", "week12-late-entries-graded.xlsx"] {
+    for book in [
+        "section-01-graded.xlsx",
+        "section-02-graded.xlsx",
+        "section-03-graded.xlsx",
+        "week12-late-entries-graded.xlsx",
+    ] {
         let mut wb: Xlsx<_> = open_workbook(f.path("out").join(book)).unwrap();
         let range = wb.worksheet_range("Statistics").unwrap();
         let header: Vec<String> = range.rows().next().unwrap().iter().map(cell_text).collect();
         for r in range.rows().skip(1) {
-            let (Data::String(section), Data::String(measure)) = (&r[0], &r[1]) else { break };
+            let (Data::String(section), Data::String(measure)) = (&r[0], &r[1]) else {
+                break;
+            };
             let want = by_key[&(section.clone(), measure.clone())];
             for (i, h) in header.iter().enumerate().skip(2).take(11) {
                 match (&r[i], num(want, h)) {
-                    (Data::Float(v), Some(w)) => assert!((v - w).abs() <= 1e-12 * w.abs().max(1.0), "{section} {measure} {h}: {v} vs {w}"),
+                    (Data::Float(v), Some(w)) => assert!(
+                        (v - w).abs() <= 1e-12 * w.abs().max(1.0),
+                        "{section} {measure} {h}: {v} vs {w}"
+                    ),
                     (Data::Empty, None) => {}
                     (got, w) => panic!("{section} {measure} {h}: {got:?} vs {w:?}"),
                 }
@@ -92,31 +127,65 @@ fn a_fixed_timestamp_gives_byte_identical_workbooks() {
     let b = Fixture::new();
     grade(&a, &[]);
     grade(&b, &[]);
-    for name in ["section-01-graded.xlsx", "section-02-graded.xlsx", "results.csv", "gradebook.csv", "section-stats.csv"] {
-        assert!(std::fs::read(a.path("out").join(name)).unwrap() == std::fs::read(b.path("out").join(name)).unwrap(), "{name} differs");
+    for name in [
+        "section-01-graded.xlsx",
+        "section-02-graded.xlsx",
+        "results.csv",
+        "gradebook.csv",
+        "section-stats.csv",
+    ] {
+        assert!(
+            std::fs::read(a.path("out").join(name)).unwrap()
+                == std::fs::read(b.path("out").join(name)).unwrap(),
+            "{name} differs"
+        );
     }
     let mut wb: Xlsx<_> = open_workbook(a.path("out/section-02-graded.xlsx")).unwrap();
     let prov = wb.worksheet_range("Provenance").unwrap();
-    let text: Vec<String> = prov.rows().flat_map(|r| r.iter().map(cell_text).collect::<Vec<_>>()).collect();
+    let text: Vec<String> = prov
+        .rows()
+        .flat_map(|r| r.iter().map(cell_text).collect::<Vec<_>>())
+        .collect();
     // date -u -d @1795000000 (GNU coreutils): 2026-11-18 11:06:40
     assert!(text.iter().any(|t| t == "2026-11-18 11:06:40"), "{text:?}");
-    assert!(text.iter().any(|t| t.len() == 64 && t.chars().all(|c| c.is_ascii_hexdigit())), "a SHA-256 is listed");
+    assert!(
+        text.iter()
+            .any(|t| t.len() == 64 && t.chars().all(|c| c.is_ascii_hexdigit())),
+        "a SHA-256 is listed"
+    );
 }
 
 #[test]
 fn split_sections_writes_one_workbook_per_section() {
     let f = Fixture::new();
     grade(&f, &["--split-sections"]);
-    let books: Vec<String> = std::fs::read_dir(f.path("out")).unwrap().map(|e| e.unwrap().file_name().into_string().unwrap()).filter(|n| n.ends_with(".xlsx")).collect();
-    assert!(books.iter().any(|b| b == "week12-late-entries-Sec_01-graded.xlsx"), "{books:?}");
+    let books: Vec<String> = std::fs::read_dir(f.path("out"))
+        .unwrap()
+        .map(|e| e.unwrap().file_name().into_string().unwrap())
+        .filter(|n| n.ends_with(".xlsx"))
+        .collect();
+    assert!(
+        books
+            .iter()
+            .any(|b| b == "week12-late-entries-Sec_01-graded.xlsx"),
+        "{books:?}"
+    );
     assert!(books.len() >= 6, "{books:?}");
 }
 
 #[test]
 fn a_spreadsheet_program_opens_the_workbook() {
-    let soffice = ["soffice", "libreoffice"].into_iter().find(|s| Command::new(s).arg("--version").output().is_ok_and(|o| o.status.success()));
+    let soffice = ["soffice", "libreoffice"].into_iter().find(|s| {
+        Command::new(s)
+            .arg("--version")
+            .output()
+            .is_ok_and(|o| o.status.success())
+    });
     let Some(soffice) = soffice else {
-        assert!(std::env::var_os("CI").is_none(), "CI must install LibreOffice Calc (.ci/run does)");
+        assert!(
+            std::env::var_os("CI").is_none(),
+            "CI must install LibreOffice Calc (.ci/run does)"
+        );
         eprintln!("skipped: soffice not found (install libreoffice-calc-nogui to run this check)");
         return;
     };
@@ -124,12 +193,23 @@ fn a_spreadsheet_program_opens_the_workbook() {
     grade(&f, &[]);
     let profile = f.path("lo-profile");
     let out = Command::new(soffice)
-        .args(["--headless", "--norestore", &format!("-env:UserInstallation=file://{}", profile.display()), "--convert-to", "pdf", "--outdir"])
+        .args([
+            "--headless",
+            "--norestore",
+            &format!("-env:UserInstallation=file://{}", profile.display()),
+            "--convert-to",
+            "pdf",
+            "--outdir",
+        ])
         .arg(f.path("pdf"))
         .arg(f.path("out/section-01-graded.xlsx"))
         .output()
         .unwrap();
-    assert!(out.status.success(), "{}", String::from_utf8_lossy(&out.stderr));
+    assert!(
+        out.status.success(),
+        "{}",
+        String::from_utf8_lossy(&out.stderr)
+    );
     let pdf = std::fs::read(f.path("pdf/section-01-graded.pdf")).expect("a PDF was written");
     assert!(pdf.starts_with(b"%PDF") && pdf.len() > 2000);
 }

@@ -1,0 +1,51 @@
+//! The write floor for benchmarks: rust_xlsxwriter writing the same cells a graded workbook
+//! holds (per row: the class sheet's 8 columns, 11 recomputed numbers, 4 criteria, total, max,
+//! letter and flags), in constant-memory mode, one sheet per section, nothing else.
+//!
+//!     cargo run --release --example bare_write -- OUT.xlsx [ROWS] [SECTIONS]
+
+use rust_xlsxwriter::Workbook;
+
+fn main() -> Result<(), Box<dyn std::error::Error>> {
+    let args: Vec<String> = std::env::args().collect();
+    let out = args
+        .get(1)
+        .ok_or("usage: bare_write OUT.xlsx [ROWS] [SECTIONS]")?;
+    let rows: usize = args
+        .get(2)
+        .map(|s| s.parse())
+        .transpose()?
+        .unwrap_or(100_000);
+    let sections: usize = args
+        .get(3)
+        .map(|s| s.parse())
+        .transpose()?
+        .unwrap_or(8)
+        .max(1);
+    let per = rows.div_ceil(sections);
+    let mut wb = Workbook::new();
+    for s in 0..sections {
+        let ws = wb.add_worksheet_with_constant_memory()?;
+        ws.set_name(format!("Section {:02}", s + 1))?;
+        for c in 0..27u16 {
+            ws.write_string(0, c, format!("Column {c}"))?;
+        }
+        for i in 0..per.min(rows.saturating_sub(s * per)) {
+            let r = 1 + i as u32;
+            let x = (s * per + i) as f64;
+            ws.write_string(r, 0, format!("S{:07}", s * per + i))?;
+            ws.write_string(r, 1, format!("Student {}", s * per + i))?;
+            ws.write_string(r, 6, "120.5-121.7")?;
+            for c in [2u16, 3, 4, 5, 7] {
+                ws.write_number(r, c, x * 0.001 + c as f64)?;
+            }
+            for c in 8..25u16 {
+                ws.write_number(r, c, x * 0.01 + c as f64)?;
+            }
+            ws.write_string(r, 25, "B")?;
+            ws.write_string(r, 26, "")?;
+        }
+    }
+    wb.save(out)?;
+    Ok(())
+}
