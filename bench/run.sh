@@ -21,7 +21,7 @@ measure() { # prints "seconds kilobytes"
 for _ in $(seq "$repeats"); do
   measure "$bin/examples/bare_read" "$work/class.xlsx" >> "$work/bare"
   measure "$bin/benchgrade" grade "$work/class.xlsx" --out "$work/out" --quiet --skip-workbooks >> "$work/grade"
-  measure "$bin/benchgrade" grade "$work/class.xlsx" --out "$work/full" --quiet >> "$work/full"
+  measure "$bin/benchgrade" grade "$work/class.xlsx" --out "$work/out-full" --quiet >> "$work/full"
   measure "$bin/examples/bare_write" "$work/w.xlsx" "$rows" "$sections" >> "$work/write"
 done
 median() { sort -n | awk '{a[NR]=$1} END {print a[int((NR+1)/2)]}'; }

@@ -319,6 +319,12 @@ impl GradedWorkbooks {
         ws.set_column_width(header.len() as u16 - 1, 80)
             .map_err(e)?;
         ws.set_freeze_panes(1, 0).map_err(e)?;
+        // number formats by column, so that unflagged cells need no format of their own
+        let base = s.original.len() as u16;
+        for (i, (_, numfmt)) in COMPUTED.iter().enumerate() {
+            ws.set_column_format(base + i as u16, &self.formats.cells[*numfmt][0])
+                .map_err(e)?;
+        }
         let index = book.workbook.worksheets().len() - 1;
         book.names.push(name.clone());
         if !book.sections.contains(&s.section) {
@@ -432,10 +438,14 @@ fn write_graded_row(
     ];
     let base = sheet.originals as u16;
     for (i, v) in values.iter().enumerate() {
-        let fmt = &f.cells[COMPUTED[i].1][fill_index(severity[i])];
-        match v.filter(|x| x.is_finite()) {
-            Some(x) => ws.write_number_with_format(r, base + i as u16, x, fmt)?,
-            None => ws.write_blank(r, base + i as u16, fmt)?,
+        let col = base + i as u16;
+        match (v.filter(|x| x.is_finite()), severity[i]) {
+            (Some(x), None) => ws.write_number(r, col, x)?,
+            (Some(x), sev) => {
+                ws.write_number_with_format(r, col, x, &f.cells[COMPUTED[i].1][fill_index(sev)])?
+            }
+            (None, None) => ws,
+            (None, sev) => ws.write_blank(r, col, &f.cells[COMPUTED[i].1][fill_index(sev)])?,
         };
     }
     let mut c = base + COMPUTED.len() as u16;
