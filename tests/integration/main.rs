@@ -3,6 +3,7 @@
 mod grading;
 mod harness;
 mod ingest_messy;
+mod nist;
 mod physchem;
 mod reference_data;
 mod sample_data;
