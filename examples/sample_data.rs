@@ -291,7 +291,7 @@ fn write_ods(
 /// Section 02: masses in milligrams, onset and clear point in separate columns, an error cell
 /// given as text (as ODS files carry them), and a missing mass.
 fn write_section_02(dir: &Path, rng: &mut Lcg) -> Result<(), Box<dyn std::error::Error>> {
-    let mut rows = section(rng, 2026203, 20, None);
+    let mut rows = section(rng, 2026203, 20, Some(7));
     (rows[3].onset, rows[3].clear) = (124.9, 125.8); // above the reference
     rows[8].crude = rows[8].recovered - 0.2; // recovered > crude
     (rows[12].onset, rows[12].clear) = (116.5, 119.2); // impure
@@ -339,7 +339,7 @@ fn write_section_02(dir: &Path, rng: &mut Lcg) -> Result<(), Box<dyn std::error:
 /// Section 03: exported by a spreadsheet set to a European locale: semicolons, decimal commas,
 /// Latin-1 text, the melting range in kelvin for one student and in °F for another.
 fn write_section_03(dir: &Path, rng: &mut Lcg) -> Result<(), Box<dyn std::error::Error>> {
-    let mut rows = section(rng, 2026305, 18, None);
+    let mut rows = section(rng, 2026305, 18, Some(7));
     rows[1].name = "Zoë Brückner".into();
     rows[6].name = "José Ibáñez".into();
     rows[4].crude = -2.1; // sign typo

@@ -9,7 +9,9 @@ use std::sync::mpsc::sync_channel;
 use crate::assess::{calibration, Assessed, Assessor, Calibration, Context};
 use crate::config::Config;
 use crate::error::{ConfigError, WriteError};
+use crate::export::cohort_csv;
 use crate::export::provenance::Provenance;
+use crate::export::report_html::{self, Report};
 use crate::export::workbook::GradedWorkbooks;
 use crate::export::{
     gradebook::Gradebook, results_csv::ResultsCsv, results_json::ResultsJson, section_stats,
@@ -17,6 +19,7 @@ use crate::export::{
 use crate::ingest::{self, discover, Collector, Problem, SheetReport};
 use crate::rubric::overrides::Override;
 use crate::rubric::score::{self, Graded};
+use crate::stats::cohort::{BiasRule, Cohort};
 use crate::stats::sections::SectionStats;
 
 /// Counts over the batch's rows.
@@ -288,6 +291,54 @@ fn refuse_overwriting_inputs(outputs: &[PathBuf], inputs: &[PathBuf]) -> Result<
     Ok(())
 }
 
+/// The letters in the rubric's order (highest cut-off first), with how many students earned each.
+fn letter_counts(
+    config: &Config,
+    counts: &std::collections::BTreeMap<String, usize>,
+) -> Vec<(String, usize)> {
+    let Some(cuts) = config.rubric.grading.letters.as_ref() else {
+        return Vec::new();
+    };
+    let mut order: Vec<(&String, &f64)> = cuts.get_ref().iter().collect();
+    order.sort_by(|a, b| b.1.total_cmp(a.1));
+    order
+        .into_iter()
+        .map(|(l, _)| (l.clone(), counts.get(l).copied().unwrap_or(0)))
+        .collect()
+}
+
+/// section-comparison.csv, bench-bias.csv and cohort-report.html.
+fn write_cohort(
+    config: &Config,
+    cohort: &Cohort,
+    stats: &SectionStats,
+    letters: &std::collections::BTreeMap<String, usize>,
+    provenance: &Provenance,
+) -> Result<(), WriteError> {
+    let comparisons = cohort.comparisons();
+    let bias = cohort.bench_bias(BiasRule::default());
+    let outliers = cohort.outliers();
+    cohort_csv::write_comparisons(&config.out_dir.join("section-comparison.csv"), &comparisons)?;
+    cohort_csv::write_bias(&config.out_dir.join("bench-bias.csv"), &bias)?;
+    let letters = letter_counts(config, letters);
+    let generated = format!(
+        "{} UTC from {} input files",
+        provenance.time_text,
+        provenance.inputs.len()
+    );
+    let report = Report {
+        title: &config.rubric.experiment.name,
+        generated: &generated,
+        cohort,
+        stats,
+        comparisons: &comparisons,
+        bias: &bias,
+        outliers: &outliers,
+        letters: &letters,
+    };
+    report_html::write(&config.out_dir.join("cohort-report.html"), &report)
+}
+
 /// Grades the batch and writes results.csv and results.json into the output folder.
 pub fn grade(config: &Config) -> Result<Batch, RunError> {
     let (mut batch, calibration) = discover_inputs(config);
@@ -312,6 +363,8 @@ pub fn grade(config: &Config) -> Result<Batch, RunError> {
     let mut workbooks = (!config.skip_workbooks)
         .then(|| GradedWorkbooks::new(&config.out_dir, config.split_sections, labels));
     let mut stats = SectionStats::default();
+    let mut cohort = Cohort::default();
+    let mut letters: std::collections::BTreeMap<String, usize> = Default::default();
     let files = std::mem::take(&mut batch.files);
     stream(
         config,
@@ -320,6 +373,10 @@ pub fn grade(config: &Config) -> Result<Batch, RunError> {
         &mut batch,
         &mut |g| {
             stats.add(g);
+            cohort.add(g);
+            if let Some(l) = &g.score.letter {
+                *letters.entry(l.clone()).or_default() += 1;
+            }
             csv.row(g)?;
             json.row(g)?;
             book.row(g)?;
@@ -347,6 +404,7 @@ pub fn grade(config: &Config) -> Result<Batch, RunError> {
         w.finish(&stats, &provenance)?;
     }
     section_stats::write(&config.out_dir.join("section-stats.csv"), &stats)?;
+    write_cohort(config, &cohort, &stats, &letters, &provenance)?;
     csv.finish()?;
     json.finish(&batch.problems)?;
     book.finish()?;

@@ -2,8 +2,10 @@
 
 pub mod atomic;
 pub mod check_report;
+pub mod cohort_csv;
 pub mod gradebook;
 pub mod provenance;
+pub mod report_html;
 pub mod results_csv;
 pub mod results_json;
 pub mod section_stats;

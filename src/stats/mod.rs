@@ -5,6 +5,7 @@
 //! type 7; spreadsheets' QUARTILE.INC and PERCENTILE.INC, NumPy's default), stated in every
 //! output that shows a quantile.
 
+pub mod cohort;
 pub mod inference;
 pub mod sections;
 

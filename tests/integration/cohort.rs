@@ -1,0 +1,145 @@
+//! The cohort outputs: the bench finding on the sample data, the comparison and bias tables, and
+//! the HTML report rendered in a real browser.
+
+use std::process::Command;
+
+use crate::harness::{num, project_root, read_results, run_in, Fixture};
+
+fn grade(f: &Fixture) {
+    let sample = project_root().join("sample-data");
+    let out = f.path("out");
+    let run = run_in(
+        &project_root(),
+        &[
+            "grade",
+            sample.to_str().unwrap(),
+            "--out",
+            out.to_str().unwrap(),
+            "--timestamp",
+            "1795000000",
+        ],
+    );
+    assert_eq!(run.code, 0, "{}", run.stderr);
+}
+
+#[test]
+fn bench_seven_is_found_reading_high() {
+    let f = Fixture::new();
+    grade(&f);
+    let bias = read_results(&f.path("out/bench-bias.csv"));
+    let seven = bias
+        .iter()
+        .find(|b| b["bench"] == "7")
+        .expect("bench 7 (written B7, 7) in one row");
+    assert!(num(seven, "median_shift_c").unwrap() > 2.0);
+    assert!(
+        seven["finding"].starts_with("bench 7 reads 2.8 °C high"),
+        "{}",
+        seven["finding"]
+    );
+    assert!(
+        bias.iter()
+            .filter(|b| b["bench"] != "7")
+            .all(|b| b["finding"].is_empty()),
+        "only bench 7 is an equipment finding"
+    );
+    let cmp = read_results(&f.path("out/section-comparison.csv"));
+    for test in ["one-way ANOVA", "Welch ANOVA", "Kruskal-Wallis", "Welch t"] {
+        assert!(
+            cmp.iter()
+                .any(|c| c["test"] == test && c["measure"] == "recovery_pct"),
+            "{test}"
+        );
+    }
+    for c in cmp.iter().filter(|c| c["test"] == "Welch t") {
+        assert!(
+            num(c, "p_adjusted").unwrap() >= num(c, "p_value").unwrap(),
+            "Holm never lowers a p-value"
+        );
+    }
+}
+
+fn chromium() -> Option<&'static str> {
+    ["chromium", "chromium-browser"].into_iter().find(|c| {
+        Command::new(c)
+            .arg("--version")
+            .output()
+            .is_ok_and(|o| o.status.success())
+    })
+}
+
+#[test]
+fn the_report_renders_in_a_browser_without_errors() {
+    let Some(browser) = chromium() else {
+        assert!(
+            std::env::var_os("CI").is_none(),
+            "CI must install chromium (.ci/run does)"
+        );
+        eprintln!("skipped: chromium not found (install Debian's chromium to run this check)");
+        return;
+    };
+    let f = Fixture::new();
+    grade(&f);
+    let page = f.path("out/cohort-report.html");
+    let html = std::fs::read_to_string(&page).unwrap();
+    assert!(
+        !html.contains("<script") && !html.contains("http://") && !html.contains("https://"),
+        "self-contained, no script"
+    );
+    let flags = [
+        "--headless",
+        "--no-sandbox",
+        "--disable-gpu",
+        "--disable-quic",
+        "--no-first-run",
+        "--disable-background-networking",
+        "--disable-component-update",
+        "--disable-sync",
+        "--enable-logging=stderr",
+        "--v=0",
+    ];
+    let profile = format!("--user-data-dir={}", f.path("chromium-profile").display());
+    let url = format!("file://{}", page.display());
+    let out = Command::new(browser)
+        .args(flags)
+        .arg(&profile)
+        .arg("--dump-dom")
+        .arg(&url)
+        .output()
+        .unwrap();
+    assert!(out.status.success());
+    let dom = String::from_utf8_lossy(&out.stdout);
+    for section in ["Sec 01", "Section 02", "section-03"] {
+        assert!(
+            dom.contains(section),
+            "{section} missing from the rendered page"
+        );
+    }
+    assert!(
+        dom.matches("<svg").count() >= 4,
+        "box plots, grade histogram and bench chart"
+    );
+    let log = String::from_utf8_lossy(&out.stderr);
+    for bad in [
+        "Uncaught",
+        "Failed to load resource",
+        "ERR_FILE_NOT_FOUND",
+        "Refused to",
+    ] {
+        assert!(!log.contains(bad), "browser logged {bad}: {log}");
+    }
+    let shot = f.path("report.png");
+    let shot_arg = format!("--screenshot={}", shot.display());
+    let out = Command::new(browser)
+        .args(&flags[..8])
+        .arg(&profile)
+        .arg("--window-size=1000,1800")
+        .arg(&shot_arg)
+        .arg(&url)
+        .output()
+        .unwrap();
+    assert!(
+        out.status.success() && std::fs::metadata(&shot).is_ok_and(|m| m.len() > 10_000),
+        "a screenshot was taken"
+    );
+}
