@@ -74,6 +74,13 @@ pub struct GradeArgs {
     /// large batches)
     #[arg(long)]
     pub skip_workbooks: bool,
+    /// Also write DIR/results-pseudonymized.csv (ids as keyed hashes, no names) for anything
+    /// that leaves the course; the key comes from --pseudonym-key or BENCHGRADE_PSEUDONYM_KEY
+    #[arg(long)]
+    pub pseudonymize: bool,
+    /// File holding the secret pseudonym key (at least 16 bytes)
+    #[arg(long, value_name = "FILE", requires = "pseudonymize")]
+    pub pseudonym_key: Option<PathBuf>,
     /// Time of grading for the provenance and workbook properties (seconds since 1970-01-01
     /// UTC), for byte-identical outputs; default: SOURCE_DATE_EPOCH, else now
     #[arg(long, value_name = "SECONDS")]

@@ -8,6 +8,7 @@ use serde::Deserialize;
 
 use crate::assess::{accepted, ReferenceRule};
 use crate::error::{toml_location, ConfigError};
+use crate::export::pseudonym::Pseudonymizer;
 use crate::ingest::headers::ColumnOverrides;
 use crate::reference::Library;
 use crate::rubric::overrides::Overrides;
@@ -30,6 +31,8 @@ pub struct Options {
     pub split_sections: bool,
     /// No graded workbooks.
     pub skip_workbooks: bool,
+    /// Also write a pseudonymised results file with this key.
+    pub pseudonym_key: Option<Vec<u8>>,
     /// Time of grading, seconds since the epoch (from --timestamp or SOURCE_DATE_EPOCH).
     pub timestamp: Option<i64>,
 }
@@ -56,6 +59,8 @@ pub struct Config {
     pub rubric_text: String,
     pub split_sections: bool,
     pub skip_workbooks: bool,
+    /// Writes DIR/results-pseudonymized.csv when set.
+    pub pseudonyms: Option<Pseudonymizer>,
     /// Seconds since the epoch: fixed, or the time the run started.
     pub timestamp: i64,
 }
@@ -153,6 +158,10 @@ impl Config {
             rubric_text,
             split_sections: opts.split_sections,
             skip_workbooks: opts.skip_workbooks,
+            pseudonyms: match &opts.pseudonym_key {
+                Some(k) => Some(Pseudonymizer::new(k).map_err(ConfigError::Invalid)?),
+                None => None,
+            },
             timestamp: opts.timestamp.unwrap_or_else(|| {
                 std::time::SystemTime::now()
                     .duration_since(std::time::UNIX_EPOCH)

@@ -38,6 +38,7 @@ fn options(run: RunArgs, out: Option<PathBuf>) -> Options {
         overrides: run.overrides,
         split_sections: false,
         skip_workbooks: false,
+        pseudonym_key: None,
         timestamp: std::env::var("SOURCE_DATE_EPOCH")
             .ok()
             .and_then(|v| v.trim().parse().ok()),
@@ -67,6 +68,27 @@ fn grade(run: RunArgs, g: GradeArgs) -> Result<ExitCode> {
     let mut opts = options(run, Some(g.out));
     opts.split_sections = g.split_sections;
     opts.skip_workbooks = g.skip_workbooks;
+    if g.pseudonymize {
+        let key = match (
+            &g.pseudonym_key,
+            std::env::var_os("BENCHGRADE_PSEUDONYM_KEY"),
+        ) {
+            (Some(file), _) => match std::fs::read(file) {
+                Ok(k) => k,
+                Err(e) => {
+                    return usage_error(&format!(
+                        "cannot read the pseudonym key {}: {e}",
+                        file.display()
+                    ))
+                }
+            },
+            (None, Some(k)) => k.into_encoded_bytes(),
+            (None, None) => {
+                return usage_error(&"--pseudonymize needs a secret key: --pseudonym-key FILE or BENCHGRADE_PSEUDONYM_KEY; no guessable default is used");
+            }
+        };
+        opts.pseudonym_key = Some(key);
+    }
     opts.timestamp = g.timestamp.or(opts.timestamp);
     let config = match Config::build(opts) {
         Ok(c) => c,

@@ -354,6 +354,14 @@ pub fn grade(config: &Config) -> Result<Batch, RunError> {
     let mut csv = ResultsCsv::create(&outputs[0], &ids)?;
     let mut json = ResultsJson::create(&outputs[1])?;
     let mut book = Gradebook::create(&outputs[2])?;
+    let mut pseudo = match &config.pseudonyms {
+        Some(p) => Some(ResultsCsv::create_pseudonymized(
+            &config.out_dir.join("results-pseudonymized.csv"),
+            &ids,
+            p.clone(),
+        )?),
+        None => None,
+    };
     let labels = config
         .rubric
         .criteria
@@ -378,6 +386,9 @@ pub fn grade(config: &Config) -> Result<Batch, RunError> {
                 *letters.entry(l.clone()).or_default() += 1;
             }
             csv.row(g)?;
+            if let Some(p) = pseudo.as_mut() {
+                p.row(g)?;
+            }
             json.row(g)?;
             book.row(g)?;
             match workbooks.as_mut() {
@@ -406,6 +417,9 @@ pub fn grade(config: &Config) -> Result<Batch, RunError> {
     section_stats::write(&config.out_dir.join("section-stats.csv"), &stats)?;
     write_cohort(config, &cohort, &stats, &letters, &provenance)?;
     csv.finish()?;
+    if let Some(p) = pseudo {
+        p.finish()?;
+    }
     json.finish(&batch.problems)?;
     book.finish()?;
     Ok(batch)

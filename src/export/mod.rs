@@ -5,6 +5,7 @@ pub mod check_report;
 pub mod cohort_csv;
 pub mod gradebook;
 pub mod provenance;
+pub mod pseudonym;
 pub mod report_html;
 pub mod results_csv;
 pub mod results_json;

@@ -5,6 +5,7 @@ use std::fmt::Write as _;
 use std::path::{Path, PathBuf};
 
 use super::atomic::AtomicFile;
+use super::pseudonym::Pseudonymizer;
 use super::{neutralise, push_number};
 use crate::error::WriteError;
 use crate::rubric::score::Graded;
@@ -30,6 +31,8 @@ pub struct ResultsCsv {
     csv: csv::Writer<AtomicFile>,
     path: PathBuf,
     buf: String,
+    /// When set, ids are replaced by pseudonyms and names left out.
+    pseudonyms: Option<Pseudonymizer>,
 }
 
 impl ResultsCsv {
@@ -39,12 +42,24 @@ impl ResultsCsv {
             csv: csv::Writer::from_writer(AtomicFile::create(path)?),
             path: path.to_path_buf(),
             buf: String::new(),
+            pseudonyms: None,
         };
         let header = COLUMNS
             .iter()
             .map(|c| c.to_string())
             .chain(criteria.iter().map(|id| format!("points_{id}")));
         out.csv.write_record(header).map_err(|e| out.error(e))?;
+        Ok(out)
+    }
+
+    /// The same file with ids pseudonymised and names left out, for anything leaving the course.
+    pub fn create_pseudonymized(
+        path: &Path,
+        criteria: &[String],
+        p: Pseudonymizer,
+    ) -> Result<ResultsCsv, WriteError> {
+        let mut out = ResultsCsv::create(path, criteria)?;
+        out.pseudonyms = Some(p);
         Ok(out)
     }
 
@@ -75,8 +90,17 @@ impl ResultsCsv {
         let _ = write!(self.buf, "{}", s.row);
         self.csv.write_field(&self.buf)?;
         self.text(Some(&s.section))?;
-        self.text(s.student_id.as_deref())?;
-        self.text(s.student_name.as_deref())?;
+        match &self.pseudonyms {
+            Some(p) => {
+                let id = s.student_id.as_deref().map(|id| p.pseudonym(id));
+                self.text(id.as_deref())?;
+                self.text(None)?;
+            }
+            None => {
+                self.text(s.student_id.as_deref())?;
+                self.text(s.student_name.as_deref())?;
+            }
+        }
         self.text(s.bench.as_deref())?;
         self.text(a.compound.as_deref().or(s.compound.as_deref()))?;
         for v in [

@@ -143,3 +143,51 @@ fn the_report_renders_in_a_browser_without_errors() {
         "a screenshot was taken"
     );
 }
+
+#[test]
+fn pseudonymized_export_needs_a_key_and_hides_names() {
+    let f = Fixture::new();
+    let sample = project_root().join("sample-data");
+    let out = f.path("out");
+    let base = [
+        "grade",
+        sample.to_str().unwrap(),
+        "--out",
+        out.to_str().unwrap(),
+        "--pseudonymize",
+    ];
+    let refused = run_in(&project_root(), &base);
+    assert_eq!(refused.code, 2, "no key, no export");
+    assert!(refused.stderr.contains("secret key"), "{}", refused.stderr);
+    assert!(!out.join("results.csv").exists(), "nothing written");
+    f.write("key", "a course secret that is long enough\n");
+    let key = f.path("key");
+    let mut args = base.to_vec();
+    args.extend(["--pseudonym-key", key.to_str().unwrap()]);
+    let run = run_in(&project_root(), &args);
+    assert_eq!(run.code, 0, "{}", run.stderr);
+    let plain = read_results(&out.join("results.csv"));
+    let pseudo = read_results(&out.join("results-pseudonymized.csv"));
+    assert_eq!(plain.len(), pseudo.len());
+    for (p, q) in plain.iter().zip(&pseudo) {
+        assert!(q["student_name"].is_empty());
+        if !p["student_id"].is_empty() {
+            assert!(q["student_id"].starts_with("p-") && q["student_id"] != p["student_id"]);
+        }
+        assert_eq!(p["score"], q["score"]);
+    }
+    // stable: the same key gives the same pseudonyms
+    let again = run_in(&project_root(), &args);
+    assert_eq!(again.code, 0);
+    assert_eq!(
+        read_results(&out.join("results-pseudonymized.csv"))[0]["student_id"],
+        pseudo[0]["student_id"]
+    );
+    let report = std::fs::read_to_string(out.join("cohort-report.html")).unwrap();
+    for p in &plain {
+        assert!(
+            p["student_name"].is_empty() || !report.contains(&p["student_name"]),
+            "no names in the cohort report"
+        );
+    }
+}
