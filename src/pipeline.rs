@@ -9,10 +9,10 @@ use std::sync::mpsc::sync_channel;
 use crate::assess::{calibration, Assessed, Assessor, Calibration, Context};
 use crate::config::Config;
 use crate::error::{ConfigError, WriteError};
-use crate::export::cohort_csv;
 use crate::export::provenance::Provenance;
 use crate::export::report_html::{self, Report};
 use crate::export::workbook::GradedWorkbooks;
+use crate::export::{cohort_csv, cohort_workbook};
 use crate::export::{
     gradebook::Gradebook, results_csv::ResultsCsv, results_json::ResultsJson, section_stats,
 };
@@ -336,6 +336,11 @@ fn write_cohort(
         outliers: &outliers,
         letters: &letters,
     };
+    cohort_workbook::write(
+        &config.out_dir.join("cohort-report.xlsx"),
+        &report,
+        config.timestamp,
+    )?;
     report_html::write(&config.out_dir.join("cohort-report.html"), &report)
 }
 

@@ -92,6 +92,27 @@ impl Drop for AtomicFile {
     }
 }
 
+/// Saves a workbook atomically: rust_xlsxwriter writes a temporary file beside the destination,
+/// which is then renamed into place.
+pub fn save_workbook(wb: &mut rust_xlsxwriter::Workbook, path: &Path) -> Result<(), WriteError> {
+    let name = path
+        .file_name()
+        .and_then(|n| n.to_str())
+        .unwrap_or("workbook");
+    let tmp = path.with_file_name(format!(".{name}.{}.partial", std::process::id()));
+    if let Err(e) = wb.save(&tmp) {
+        let _ = std::fs::remove_file(&tmp);
+        return Err(WriteError {
+            path: path.to_path_buf(),
+            source: std::io::Error::other(e.to_string()),
+        });
+    }
+    std::fs::rename(&tmp, path).map_err(|source| WriteError {
+        path: path.to_path_buf(),
+        source,
+    })
+}
+
 /// Writes `path` atomically with what `fill` puts into the writer.
 pub fn write_atomic<F>(path: &Path, fill: F) -> Result<(), WriteError>
 where

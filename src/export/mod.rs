@@ -3,6 +3,7 @@
 pub mod atomic;
 pub mod check_report;
 pub mod cohort_csv;
+pub mod cohort_workbook;
 pub mod gradebook;
 pub mod provenance;
 pub mod pseudonym;

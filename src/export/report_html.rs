@@ -218,7 +218,8 @@ fn table(head: &[&str], rows: &[Vec<String>]) -> String {
     s
 }
 
-fn findings(r: &Report) -> Vec<String> {
+/// The findings in plain language, most important first.
+pub fn findings_text(r: &Report) -> Vec<String> {
     let mut out: Vec<String> = r
         .bias
         .iter()
@@ -260,7 +261,7 @@ pub fn render(r: &Report) -> String {
     let _ = write!(s, "<!DOCTYPE html><html lang=\"en\"><head><meta charset=\"utf-8\"><title>{}</title><style>{STYLE}</style></head><body>", escape(r.title));
     let _ = write!(s, "<h1>{}</h1><p>Cohort report generated {} by benchgrade. No student is named on this page.</p>", escape(r.title), escape(r.generated));
     s.push_str("<h2>Findings</h2>");
-    for f in findings(r) {
+    for f in findings_text(r) {
         let _ = write!(s, "<p class=\"finding\">{}</p>", escape(&f));
     }
     s.push_str("<h2>Recovery and score by section</h2>");

@@ -378,19 +378,7 @@ impl GradedWorkbooks {
                 .set_title("Graded recrystallization results")
                 .set_comment("written by benchgrade");
             book.workbook.set_properties(&props);
-            let tmp = path.with_file_name(format!(
-                ".{}.{}.partial",
-                path.file_name().and_then(|n| n.to_str()).unwrap_or("w"),
-                std::process::id()
-            ));
-            if let Err(err) = book.workbook.save(&tmp) {
-                let _ = std::fs::remove_file(&tmp);
-                return Err(xerr(&path, err));
-            }
-            std::fs::rename(&tmp, &path).map_err(|source| WriteError {
-                path: path.clone(),
-                source,
-            })?;
+            super::atomic::save_workbook(&mut book.workbook, &path)?;
             written.push(path);
         }
         Ok(written)
