@@ -43,10 +43,8 @@ fn build(r: &Report, timestamp: i64) -> Result<Workbook, XlsxError> {
         ),
     )?;
     ws.write_string_with_format(3, 0, "Findings", &bold)?;
-    let mut row = 4;
-    for f in super::report_html::findings_text(r) {
+    for (row, f) in (4..).zip(super::report_html::findings_text(r)) {
         ws.write_string(row, 0, f)?;
-        row += 1;
     }
 
     let ws = wb.add_worksheet().set_name("Sections")?;

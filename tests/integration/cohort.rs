@@ -57,6 +57,34 @@ fn bench_seven_is_found_reading_high() {
             "Holm never lowers a p-value"
         );
     }
+    // the cohort workbook holds the same bench table
+    use calamine::{open_workbook, Reader, Xlsx};
+    let mut wb: Xlsx<_> = open_workbook(f.path("out/cohort-report.xlsx")).unwrap();
+    assert_eq!(
+        wb.sheet_names(),
+        vec![
+            "Overview",
+            "Sections",
+            "Comparisons",
+            "Benches",
+            "Grades",
+            "Outliers"
+        ]
+    );
+    let benches = wb.worksheet_range("Benches").unwrap();
+    let finding = benches
+        .rows()
+        .find(|r| r[0].to_string() == "7")
+        .map(|r| r[6].to_string())
+        .unwrap();
+    assert_eq!(finding, seven["finding"]);
+    let overview = wb.worksheet_range("Overview").unwrap();
+    assert!(
+        overview
+            .rows()
+            .any(|r| r[0].to_string().starts_with("bench 7 reads")),
+        "the finding is on the overview"
+    );
 }
 
 fn chromium() -> Option<&'static str> {
