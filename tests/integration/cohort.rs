@@ -74,7 +74,7 @@ fn bench_seven_is_found_reading_high() {
     let benches = wb.worksheet_range("Benches").unwrap();
     let finding = benches
         .rows()
-        .find(|r| r[0].to_string() == "7")
+        .find(|r| r[0] == calamine::Data::String("7".into()))
         .map(|r| r[6].to_string())
         .unwrap();
     assert_eq!(finding, seven["finding"]);
