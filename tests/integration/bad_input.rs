@@ -1,0 +1,257 @@
+//! Bad input, faults and attacks: each gets a correct read or one clear message naming the
+//! file, the exit code of the contract, and every other file still graded. No panic anywhere.
+
+use std::io::Write;
+
+use rust_xlsxwriter::Workbook;
+
+use crate::harness::{project_root, Fixture};
+
+const GOOD: &str = "ID,Crude mass (g),Recovered mass (g),MP\ns1,3.0,2.1,121-122\n";
+
+/// Grades `bad` beside a good file; returns (exit code, stderr, rows graded).
+fn grade_with(f: &Fixture, bad: &str) -> (i32, String, usize) {
+    f.write("good.csv", GOOD);
+    let run = f.run(&["grade", bad, "good.csv", "--out", "out", "--skip-workbooks"]);
+    assert!(!run.stderr.contains("panicked"), "{}", run.stderr);
+    let rows = if f.path("out/results.csv").exists() {
+        f.results("out").len()
+    } else {
+        0
+    };
+    (run.code, run.stderr, rows)
+}
+
+fn zip_of(f: &Fixture, name: &str, entries: &[(&str, &[u8])]) {
+    let file = std::fs::File::create(f.path(name)).unwrap();
+    let mut zip = zip::ZipWriter::new(file);
+    for (path, bytes) in entries {
+        zip.start_file(
+            *path,
+            zip::write::SimpleFileOptions::default()
+                .compression_method(zip::CompressionMethod::Deflated),
+        )
+        .unwrap();
+        zip.write_all(bytes).unwrap();
+    }
+    zip.finish().unwrap();
+}
+
+#[test]
+fn a_password_protected_workbook_is_named_as_such() {
+    let f = Fixture::new();
+    // an OOXML workbook encrypted with a password is an OLE2 compound file holding an
+    // "EncryptionInfo" stream (MS-OFFCRYPTO); this is a minimal stand-in with that marker
+    let mut bytes = vec![0xD0, 0xCF, 0x11, 0xE0, 0xA1, 0xB1, 0x1A, 0xE1];
+    bytes.resize(512, 0);
+    bytes.extend(
+        "EncryptionInfo"
+            .encode_utf16()
+            .flat_map(|u| u.to_le_bytes()),
+    );
+    bytes.resize(4096, 0);
+    f.write("locked.xlsx", bytes);
+    let (code, err, rows) = grade_with(&f, "locked.xlsx");
+    assert_eq!((code, rows), (1, 1));
+    assert!(
+        err.contains("locked.xlsx") && err.contains("password-protected"),
+        "{err}"
+    );
+}
+
+#[test]
+fn a_zip_bomb_is_refused_before_it_is_opened() {
+    let f = Fixture::new();
+    zip_of(
+        &f,
+        "bomb.xlsx",
+        &[
+            ("[Content_Types].xml", b"<Types/>"),
+            ("xl/worksheets/sheet1.xml", b"<worksheet/>"),
+        ],
+    );
+    // declare about 4 GiB for each entry in the central directory (PKWARE APPNOTE 4.3.12:
+    // signature 0x02014b50, uncompressed size at offset 24), as a bomb's directory would
+    let mut bytes = std::fs::read(f.path("bomb.xlsx")).unwrap();
+    let sig = [0x50, 0x4b, 0x01, 0x02];
+    let starts: Vec<usize> = bytes
+        .windows(4)
+        .enumerate()
+        .filter(|(_, w)| *w == sig)
+        .map(|(i, _)| i)
+        .collect();
+    assert_eq!(starts.len(), 2);
+    for i in starts {
+        bytes[i + 24..i + 28].copy_from_slice(&0xFFFF_FF00u32.to_le_bytes());
+    }
+    f.write("bomb.xlsx", bytes);
+    let (code, err, rows) = grade_with(&f, "bomb.xlsx");
+    assert_eq!((code, rows), (1, 1));
+    assert!(
+        err.contains("bomb.xlsx") && err.contains("zip bomb"),
+        "{err}"
+    );
+}
+
+#[test]
+fn cells_at_opposite_corners_cost_what_they_hold() {
+    let f = Fixture::new();
+    f.xlsx("corners.xlsx", |wb: &mut Workbook| {
+        let ws = wb.add_worksheet();
+        ws.write_string(0, 0, "ID").unwrap();
+        ws.write_string(1_048_575, 16_383, "far corner").unwrap();
+    });
+    let (code, err, rows) = grade_with(&f, "corners.xlsx");
+    // no table in it: a clear message, and the good file graded
+    assert_eq!((code, rows), (1, 1), "{err}");
+    assert!(err.contains("corners.xlsx"));
+}
+
+#[test]
+fn a_sheet_with_16384_columns_and_a_header_only_sheet() {
+    let f = Fixture::new();
+    f.xlsx("wide.xlsx", |wb: &mut Workbook| {
+        let ws = wb.add_worksheet().set_name("Wide").unwrap();
+        for (c, h) in ["ID", "Crude mass (g)", "Recovered mass (g)", "MP"]
+            .iter()
+            .enumerate()
+        {
+            ws.write_string(0, c as u16, *h).unwrap();
+        }
+        for c in 4..16_384u16 {
+            ws.write_number(0, c, c as f64).unwrap();
+        }
+        ws.write_string(1, 0, "w1").unwrap();
+        ws.write_number(1, 1, 3.0).unwrap();
+        ws.write_number(1, 2, 2.0).unwrap();
+        ws.write_string(1, 3, "121-122").unwrap();
+        let h = wb.add_worksheet().set_name("Header only").unwrap();
+        for (c, t) in ["ID", "Crude mass (g)", "Recovered mass (g)", "MP"]
+            .iter()
+            .enumerate()
+        {
+            h.write_string(0, c as u16, *t).unwrap();
+        }
+    });
+    let (code, err, rows) = grade_with(&f, "wide.xlsx");
+    assert_eq!(code, 0, "{err}");
+    assert_eq!(rows, 2, "w1 and the good file's row");
+}
+
+#[test]
+fn illegal_sheet_names_and_formula_text_stay_inside_the_output_folder() {
+    let f = Fixture::new();
+    f.xlsx("names.xlsx", |wb: &mut Workbook| {
+        // legal in a sheet name, not in a file name; and a section that tries to climb out
+        let ws = wb.add_worksheet().set_name("A<b>|\"c\"").unwrap();
+        for (c, h) in [
+            "ID",
+            "Name",
+            "Section",
+            "Crude mass (g)",
+            "Recovered mass (g)",
+            "MP",
+        ]
+        .iter()
+        .enumerate()
+        {
+            ws.write_string(0, c as u16, *h).unwrap();
+        }
+        ws.write_string(1, 0, "=1+1").unwrap();
+        ws.write_string(1, 1, "@SUM(A1:A9)").unwrap();
+        ws.write_string(1, 2, "../../x").unwrap();
+        ws.write_number(1, 3, 3.0).unwrap();
+        ws.write_number(1, 4, 2.0).unwrap();
+        ws.write_string(1, 5, "121-122").unwrap();
+    });
+    let run = f.run(&["grade", "names.xlsx", "--out", "out", "--split-sections"]);
+    assert_eq!(run.code, 0, "{}", run.stderr);
+    let written: Vec<String> = std::fs::read_dir(f.path("out"))
+        .unwrap()
+        .map(|e| e.unwrap().file_name().into_string().unwrap())
+        .collect();
+    assert!(written.iter().all(|n| !n.contains('/')), "{written:?}");
+    assert!(
+        !f.path("x-graded.xlsx").exists()
+            && !f
+                .dir
+                .path()
+                .parent()
+                .unwrap()
+                .join("x-graded.xlsx")
+                .exists()
+    );
+    let rows = f.results("out");
+    assert_eq!(rows[0]["student_id"], "'=1+1", "neutralised in CSV");
+    let book = crate::harness::read_results(&f.path("out/gradebook.csv"));
+    assert_eq!(book[0]["student_name"], "'@SUM(A1:A9)");
+    // in the xlsx the text stays text, never a formula
+    use calamine::{open_workbook, Data, Reader, Xlsx};
+    let name = written
+        .iter()
+        .find(|n| n.ends_with("-graded.xlsx"))
+        .unwrap();
+    let mut wb: Xlsx<_> = open_workbook(f.path("out").join(name)).unwrap();
+    let sheet = wb.sheet_names()[0].clone();
+    assert_eq!(
+        wb.worksheet_range(&sheet).unwrap().get((1, 0)),
+        Some(&Data::String("=1+1".into()))
+    );
+    let formulas = wb.worksheet_formula(&sheet).unwrap();
+    assert!(formulas.used_cells().next().is_none(), "no formula written");
+}
+
+#[test]
+fn inputs_are_unchanged_and_a_failed_run_keeps_the_previous_outputs() {
+    use benchgrade::export::provenance::sha256_file;
+    let f = Fixture::new();
+    let sample = project_root().join("sample-data");
+    let before: Vec<(std::path::PathBuf, String)> = std::fs::read_dir(&sample)
+        .unwrap()
+        .map(|e| e.unwrap().path())
+        .map(|p| {
+            let h = sha256_file(&p).unwrap();
+            (p, h)
+        })
+        .collect();
+    let out = f.path("out");
+    let run = crate::harness::run_in(
+        &project_root(),
+        &[
+            "grade",
+            sample.to_str().unwrap(),
+            "--out",
+            out.to_str().unwrap(),
+        ],
+    );
+    assert_eq!(run.code, 0);
+    for (p, h) in &before {
+        assert_eq!(&sha256_file(p).unwrap(), h, "{} changed", p.display());
+    }
+    let previous = std::fs::read(out.join("results.csv")).unwrap();
+    // a run stopped before it commits (here: an override naming nobody) leaves the old files
+    f.write(
+        "o.csv",
+        "student_id,criterion,points,reason,grader\nnobody,total,1,x,RO\n",
+    );
+    let o = f.path("o.csv");
+    let failed = crate::harness::run_in(
+        &project_root(),
+        &[
+            "grade",
+            sample.to_str().unwrap(),
+            "--out",
+            out.to_str().unwrap(),
+            "--overrides",
+            o.to_str().unwrap(),
+        ],
+    );
+    assert_eq!(failed.code, 2);
+    assert_eq!(std::fs::read(out.join("results.csv")).unwrap(), previous);
+    let leftovers: Vec<_> = std::fs::read_dir(&out)
+        .unwrap()
+        .map(|e| e.unwrap().file_name().into_string().unwrap())
+        .filter(|n| n.ends_with(".partial"))
+        .collect();
+    assert!(leftovers.is_empty(), "{leftovers:?}");
+}
