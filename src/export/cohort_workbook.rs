@@ -48,52 +48,7 @@ fn build(r: &Report, timestamp: i64) -> Result<Workbook, XlsxError> {
     }
 
     let ws = wb.add_worksheet().set_name("Sections")?;
-    header(
-        ws,
-        0,
-        &[
-            "section",
-            "measure",
-            "n",
-            "mean",
-            "sd",
-            "sem",
-            "median",
-            "q1",
-            "q3",
-            "min",
-            "max",
-            "ci95_low",
-            "ci95_high",
-        ],
-        &bold,
-    )?;
-    let mut row = 1;
-    for (section, measure, s) in r.stats.summaries() {
-        ws.write_string(row, 0, section)?;
-        ws.write_string(row, 1, measure)?;
-        if let Some(s) = s {
-            ws.write_number(row, 2, s.n as f64)?;
-            for (i, v) in [
-                s.mean,
-                s.sd,
-                s.sem,
-                s.median,
-                s.q1,
-                s.q3,
-                s.min,
-                s.max,
-                s.ci95_low,
-                s.ci95_high,
-            ]
-            .into_iter()
-            .enumerate()
-            {
-                num(ws, row, 3 + i as u16, v)?;
-            }
-        }
-        row += 1;
-    }
+    let row = super::workbook::summary_table(ws, r.stats, |_| true, &bold)?;
     ws.write_string(
         row + 1,
         0,

@@ -32,18 +32,7 @@ pub fn write(path: &Path, stats: &SectionStats) -> Result<(), WriteError> {
             match s {
                 Some(s) => {
                     rec.push(s.n.to_string());
-                    for v in [
-                        s.mean,
-                        s.sd,
-                        s.sem,
-                        s.median,
-                        s.q1,
-                        s.q3,
-                        s.min,
-                        s.max,
-                        s.ci95_low,
-                        s.ci95_high,
-                    ] {
+                    for v in s.values() {
                         rec.push(number(Some(v)));
                     }
                 }

@@ -510,61 +510,9 @@ fn statistics_sheet(book: &mut Book, stats: &SectionStats, f: &Formats) -> Resul
     let ws = book.workbook.add_worksheet();
     let name = sheet_name("Statistics", &book.names);
     ws.set_name(&name)?;
-    let head = [
-        "section",
-        "measure",
-        "n",
-        "mean",
-        "sd",
-        "sem",
-        "median",
-        "q1",
-        "q3",
-        "min",
-        "max",
-        "ci95_low",
-        "ci95_high",
-    ];
-    for (c, h) in head.iter().enumerate() {
-        ws.write_string_with_format(0, c as u16, *h, &f.header)?;
-    }
     ws.set_column_width(0, 16)?;
     ws.set_column_width(1, 18)?;
-    let mut r = 1;
-    for (section, measure, summary) in stats
-        .summaries()
-        .into_iter()
-        .filter(|(s, _, _)| sections.iter().any(|x| x == s))
-    {
-        ws.write_string(r, 0, section)?;
-        ws.write_string(r, 1, measure)?;
-        match summary {
-            Some(s) => {
-                ws.write_number(r, 2, s.n as f64)?;
-                for (i, v) in [
-                    s.mean,
-                    s.sd,
-                    s.sem,
-                    s.median,
-                    s.q1,
-                    s.q3,
-                    s.min,
-                    s.max,
-                    s.ci95_low,
-                    s.ci95_high,
-                ]
-                .into_iter()
-                .enumerate()
-                {
-                    write_opt(ws, r, 3 + i as u16, v)?;
-                }
-            }
-            None => {
-                ws.write_number(r, 2, 0.0)?;
-            }
-        }
-        r += 1;
-    }
+    let mut r = summary_table(ws, stats, |s| sections.iter().any(|x| x == s), &f.header)?;
     r += 1;
     ws.write_string(r, 0, format!("Statistics leave out rows with impossible entries; {QUANTILE_DEFINITION}; sd and ci95 use n - 1."))?;
     r += 2;
@@ -595,6 +543,30 @@ fn statistics_sheet(book: &mut Book, stats: &SectionStats, f: &Formats) -> Resul
         }
     }
     charts(ws, &name, &sections, stats, &data_sheets, r + 2)
+}
+
+/// The per-section statistics as a table from the top of `ws`, for the sections `keep` accepts;
+/// returns the first row after it. Shared by the graded and the cohort workbooks.
+pub(crate) fn summary_table(
+    ws: &mut Worksheet,
+    stats: &SectionStats,
+    keep: impl Fn(&str) -> bool,
+    header: &Format,
+) -> Result<u32, XlsxError> {
+    for (c, h) in crate::stats::SUMMARY_COLUMNS.iter().enumerate() {
+        ws.write_string_with_format(0, c as u16, *h, header)?;
+    }
+    let mut r = 1;
+    for (section, measure, summary) in stats.summaries().into_iter().filter(|(s, _, _)| keep(s)) {
+        ws.write_string(r, 0, section)?;
+        ws.write_string(r, 1, measure)?;
+        ws.write_number(r, 2, summary.as_ref().map_or(0.0, |s| s.n as f64))?;
+        for (i, v) in summary.iter().flat_map(|s| s.values()).enumerate() {
+            write_opt(ws, r, 3 + i as u16, v)?;
+        }
+        r += 1;
+    }
+    Ok(r)
 }
 
 /// Histograms binned by us (the writer has no histogram type), drawn as column charts, and a

@@ -32,6 +32,41 @@ pub struct Summary {
     pub ci95_high: f64,
 }
 
+impl Summary {
+    /// The statistics after n, in the order of `SUMMARY_COLUMNS`.
+    pub fn values(&self) -> [f64; 10] {
+        [
+            self.mean,
+            self.sd,
+            self.sem,
+            self.median,
+            self.q1,
+            self.q3,
+            self.min,
+            self.max,
+            self.ci95_low,
+            self.ci95_high,
+        ]
+    }
+}
+
+/// Column names of a summary table: group, measure, n, then `Summary::values`.
+pub const SUMMARY_COLUMNS: [&str; 13] = [
+    "section",
+    "measure",
+    "n",
+    "mean",
+    "sd",
+    "sem",
+    "median",
+    "q1",
+    "q3",
+    "min",
+    "max",
+    "ci95_low",
+    "ci95_high",
+];
+
 /// Linear inclusive quantile of sorted data: h = (n - 1) p, interpolated between neighbours.
 pub fn quantile_sorted(sorted: &[f64], p: f64) -> f64 {
     match sorted.len() {
