@@ -78,6 +78,10 @@ pub struct GradeArgs {
     /// that leaves the course; the key comes from --pseudonym-key or BENCHGRADE_PSEUDONYM_KEY
     #[arg(long)]
     pub pseudonymize: bool,
+    /// An earlier term's output folder (its results.parquet): compare mean recovery, score and
+    /// flag rates with it
+    #[arg(long, value_name = "DIR")]
+    pub baseline: Option<PathBuf>,
     /// File holding the secret pseudonym key (at least 16 bytes)
     #[arg(long, value_name = "FILE", requires = "pseudonymize")]
     pub pseudonym_key: Option<PathBuf>,

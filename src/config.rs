@@ -33,6 +33,8 @@ pub struct Options {
     pub skip_workbooks: bool,
     /// Also write a pseudonymised results file with this key.
     pub pseudonym_key: Option<Vec<u8>>,
+    /// An earlier term's output folder, to compare this term with.
+    pub baseline: Option<PathBuf>,
     /// Time of grading, seconds since the epoch (from --timestamp or SOURCE_DATE_EPOCH).
     pub timestamp: Option<i64>,
 }
@@ -59,8 +61,10 @@ pub struct Config {
     pub rubric_text: String,
     pub split_sections: bool,
     pub skip_workbooks: bool,
-    /// Writes DIR/results-pseudonymized.csv when set.
+    /// Writes DIR/results-pseudonymized.csv when set (and pseudonymises results.parquet).
     pub pseudonyms: Option<Pseudonymizer>,
+    /// The earlier term's results.parquet.
+    pub baseline: Option<PathBuf>,
     /// Seconds since the epoch: fixed, or the time the run started.
     pub timestamp: i64,
 }
@@ -158,6 +162,20 @@ impl Config {
             rubric_text,
             split_sections: opts.split_sections,
             skip_workbooks: opts.skip_workbooks,
+            baseline: match &opts.baseline {
+                Some(dir) => {
+                    let file = if dir.is_dir() {
+                        dir.join("results.parquet")
+                    } else {
+                        dir.clone()
+                    };
+                    if !file.is_file() {
+                        return Err(ConfigError::Invalid(format!("--baseline {}: no results.parquet there; name an earlier term's output folder", dir.display())));
+                    }
+                    Some(file)
+                }
+                None => None,
+            },
             pseudonyms: match &opts.pseudonym_key {
                 Some(k) => Some(Pseudonymizer::new(k).map_err(ConfigError::Invalid)?),
                 None => None,

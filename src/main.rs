@@ -39,6 +39,7 @@ fn options(run: RunArgs, out: Option<PathBuf>) -> Options {
         split_sections: false,
         skip_workbooks: false,
         pseudonym_key: None,
+        baseline: None,
         timestamp: std::env::var("SOURCE_DATE_EPOCH")
             .ok()
             .and_then(|v| v.trim().parse().ok()),
@@ -68,6 +69,7 @@ fn grade(run: RunArgs, g: GradeArgs) -> Result<ExitCode> {
     let mut opts = options(run, Some(g.out));
     opts.split_sections = g.split_sections;
     opts.skip_workbooks = g.skip_workbooks;
+    opts.baseline = g.baseline.clone();
     if g.pseudonymize {
         let key = match (
             &g.pseudonym_key,

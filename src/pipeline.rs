@@ -9,6 +9,7 @@ use std::sync::mpsc::sync_channel;
 use crate::assess::{calibration, Assessed, Assessor, Calibration, Context};
 use crate::config::Config;
 use crate::error::{ConfigError, WriteError};
+use crate::export::parquet::{self, ParquetRows, Term};
 use crate::export::provenance::Provenance;
 use crate::export::report_html::{self, Report};
 use crate::export::workbook::GradedWorkbooks;
@@ -307,6 +308,19 @@ fn letter_counts(
         .collect()
 }
 
+/// baseline-comparison.csv: metric, baseline, current, shift.
+fn write_baseline(path: &Path, rows: &[(String, f64, f64, f64)]) -> Result<(), WriteError> {
+    crate::export::atomic::write_atomic(path, |w| {
+        let mut csv = csv::Writer::from_writer(w);
+        csv.write_record(["metric", "baseline", "current", "shift"])?;
+        for (m, b, c, d) in rows {
+            let n = |v: f64| crate::export::number(Some(v));
+            csv.write_record([m.clone(), n(*b), n(*c), n(*d)])?;
+        }
+        csv.flush()
+    })
+}
+
 /// section-comparison.csv, bench-bias.csv and cohort-report.html.
 fn write_cohort(
     config: &Config,
@@ -314,6 +328,7 @@ fn write_cohort(
     stats: &SectionStats,
     letters: &std::collections::BTreeMap<String, usize>,
     provenance: &Provenance,
+    baseline: &[(String, f64, f64, f64)],
 ) -> Result<(), WriteError> {
     let comparisons = cohort.comparisons();
     let bias = cohort.bench_bias(BiasRule::default());
@@ -335,6 +350,7 @@ fn write_cohort(
         bias: &bias,
         outliers: &outliers,
         letters: &letters,
+        baseline,
     };
     cohort_workbook::write(
         &config.out_dir.join("cohort-report.xlsx"),
@@ -377,6 +393,7 @@ pub fn grade(config: &Config) -> Result<Batch, RunError> {
         .then(|| GradedWorkbooks::new(&config.out_dir, config.split_sections, labels));
     let mut stats = SectionStats::default();
     let mut cohort = Cohort::default();
+    let mut parquet = ParquetRows::new(config.pseudonyms.clone());
     let mut letters: std::collections::BTreeMap<String, usize> = Default::default();
     let files = std::mem::take(&mut batch.files);
     stream(
@@ -387,6 +404,7 @@ pub fn grade(config: &Config) -> Result<Batch, RunError> {
         &mut |g| {
             stats.add(g);
             cohort.add(g);
+            parquet.add(g);
             if let Some(l) = &g.score.letter {
                 *letters.entry(l.clone()).or_default() += 1;
             }
@@ -420,7 +438,17 @@ pub fn grade(config: &Config) -> Result<Batch, RunError> {
         w.finish(&stats, &provenance)?;
     }
     section_stats::write(&config.out_dir.join("section-stats.csv"), &stats)?;
-    write_cohort(config, &cohort, &stats, &letters, &provenance)?;
+    let baseline = match &config.baseline {
+        Some(file) => {
+            let earlier = Term::from_parquet(file).map_err(ConfigError::Invalid)?;
+            let rows = parquet::compare(&earlier, &parquet.term());
+            write_baseline(&config.out_dir.join("baseline-comparison.csv"), &rows)?;
+            rows
+        }
+        None => Vec::new(),
+    };
+    parquet.write(&config.out_dir.join("results.parquet"))?;
+    write_cohort(config, &cohort, &stats, &letters, &provenance, &baseline)?;
     csv.finish()?;
     if let Some(p) = pseudo {
         p.finish()?;

@@ -5,6 +5,7 @@ pub mod check_report;
 pub mod cohort_csv;
 pub mod cohort_workbook;
 pub mod gradebook;
+pub mod parquet;
 pub mod provenance;
 pub mod pseudonym;
 pub mod report_html;

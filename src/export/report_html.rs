@@ -22,6 +22,8 @@ pub struct Report<'a> {
     pub bias: &'a [BenchBias],
     pub outliers: &'a [Outlier],
     pub letters: &'a [(String, usize)],
+    /// (metric, baseline, current, shift) against an earlier term, if one was given.
+    pub baseline: &'a [(String, f64, f64, f64)],
 }
 
 pub fn escape(s: &str) -> String {
@@ -239,6 +241,19 @@ pub fn findings_text(r: &Report) -> Vec<String> {
             fmt(c.p_value, 4)
         ));
     }
+    for (m, b, c, d) in r
+        .baseline
+        .iter()
+        .filter(|(m, _, _, d)| m.starts_with("mean") && d.abs() >= 2.0)
+    {
+        out.push(format!(
+            "against the baseline term, {m} moved from {} to {} ({}{})",
+            fmt(*b, 1),
+            fmt(*c, 1),
+            if *d > 0.0 { "+" } else { "" },
+            fmt(*d, 1)
+        ));
+    }
     if !r.outliers.is_empty() {
         out.push(format!("{} results lie far from their section's median (robust z beyond 3.5); they are listed below", r.outliers.len()));
     }
@@ -398,6 +413,15 @@ pub fn render(r: &Report) -> String {
         &cmp_rows,
     ));
     s.push_str("<p>Effect sizes: eta squared for ANOVA, epsilon squared (H / (n - 1)) for Kruskal-Wallis, Cohen's d for pairwise tests; pairwise p-values Holm-adjusted within each measure and grouping.</p>");
+    if !r.baseline.is_empty() {
+        s.push_str("<h2>Against the baseline term</h2>");
+        let rows: Vec<Vec<String>> = r
+            .baseline
+            .iter()
+            .map(|(m, b, c, d)| vec![m.clone(), fmt(*b, 2), fmt(*c, 2), fmt(*d, 2)])
+            .collect();
+        s.push_str(&table(&["metric", "baseline", "this term", "shift"], &rows));
+    }
     if !r.outliers.is_empty() {
         s.push_str("<h2>Results far from their section</h2>");
         let rows: Vec<Vec<String>> = r

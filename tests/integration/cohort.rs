@@ -219,3 +219,64 @@ fn pseudonymized_export_needs_a_key_and_hides_names() {
         );
     }
 }
+
+#[test]
+fn parquet_results_and_a_baseline_term() {
+    use benchgrade::export::parquet::Term;
+    let f = Fixture::new();
+    grade(&f);
+    let rows = read_results(&f.path("out/results.csv"));
+    let term = Term::from_parquet(&f.path("out/results.parquet")).unwrap();
+    assert_eq!(term.rows, rows.len());
+    let rec: Vec<f64> = rows.iter().filter_map(|r| num(r, "recovery_pct")).collect();
+    let mean = rec.iter().sum::<f64>() / rec.len() as f64;
+    assert!(
+        (term.mean_recovery_pct - mean).abs() < 1e-9,
+        "{} vs {mean}",
+        term.mean_recovery_pct
+    );
+    // this term: section 01 alone, against the whole sample as the baseline
+    let one = project_root().join("sample-data/section-01.xlsx");
+    let out2 = f.path("term2");
+    let base = f.path("out");
+    let run = run_in(
+        &project_root(),
+        &[
+            "grade",
+            one.to_str().unwrap(),
+            "--out",
+            out2.to_str().unwrap(),
+            "--baseline",
+            base.to_str().unwrap(),
+            "--skip-workbooks",
+        ],
+    );
+    assert_eq!(run.code, 0, "{}", run.stderr);
+    let cmp = read_results(&out2.join("baseline-comparison.csv"));
+    let students = cmp.iter().find(|r| r["metric"] == "students").unwrap();
+    assert_eq!(num(students, "baseline"), Some(rows.len() as f64));
+    let now = read_results(&out2.join("results.csv"));
+    assert_eq!(num(students, "current"), Some(now.len() as f64));
+    let shift = cmp
+        .iter()
+        .find(|r| r["metric"] == "mean recovery (%)")
+        .unwrap();
+    assert!(
+        (num(shift, "shift").unwrap()
+            - (num(shift, "current").unwrap() - num(shift, "baseline").unwrap()))
+        .abs()
+            < 1e-9
+    );
+    let missing = run_in(
+        &project_root(),
+        &[
+            "grade",
+            one.to_str().unwrap(),
+            "--out",
+            out2.to_str().unwrap(),
+            "--baseline",
+            "/nonexistent",
+        ],
+    );
+    assert_eq!(missing.code, 2);
+}
