@@ -20,7 +20,8 @@ pub struct Cli {
 
 #[derive(Subcommand, Debug)]
 pub enum Command {
-    /// Grade spreadsheets and folders into DIR/results.csv and DIR/results.json
+    /// Grade spreadsheets and folders: results (CSV, JSON, parquet), gradebook, graded workbooks,
+    /// section statistics and the cohort report, into DIR
     Grade {
         #[command(flatten)]
         run: RunArgs,
