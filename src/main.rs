@@ -105,7 +105,10 @@ fn grade(run: RunArgs, g: GradeArgs) -> Result<ExitCode> {
     if !quiet {
         let line = check_report::summary(&batch.tally, &[], batch.files.len());
         print!("{line}");
-        println!("wrote the results, gradebook, workbooks and cohort report into {}", config.out_dir.display());
+        println!(
+            "wrote the results, gradebook, workbooks and cohort report into {}",
+            config.out_dir.display()
+        );
     }
     Ok(exit_for(&batch))
 }

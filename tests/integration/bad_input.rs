@@ -255,3 +255,25 @@ fn inputs_are_unchanged_and_a_failed_run_keeps_the_previous_outputs() {
         .collect();
     assert!(leftovers.is_empty(), "{leftovers:?}");
 }
+
+#[test]
+fn an_output_that_would_overwrite_an_input_is_refused() {
+    let f = Fixture::new();
+    f.write("out/results.csv", GOOD);
+    let before = std::fs::read(f.path("out/results.csv")).unwrap();
+    let run = f.run(&["grade", "out/results.csv", "--out", "out"]);
+    assert_eq!(run.code, 2, "{}", run.stderr);
+    assert!(
+        run.stderr.contains("refusing to write") && run.stderr.contains("results.csv"),
+        "{}",
+        run.stderr
+    );
+    assert_eq!(
+        std::fs::read(f.path("out/results.csv")).unwrap(),
+        before,
+        "the input is untouched"
+    );
+    f.write("class.csv", GOOD);
+    let named = f.run(&["grade", "class.csv", "--out", "class.csv"]);
+    assert_eq!(named.code, 2, "--out naming a file is refused");
+}
