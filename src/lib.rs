@@ -17,4 +17,4 @@ pub mod rubric;
 pub mod stats;
 
 pub use config::{Config, Options};
-pub use pipeline::{assess_batch, grade, Batch, RunError};
+pub use pipeline::{assess_batch, grade, grade_with_progress, Batch, Progress, RunError};

@@ -96,7 +96,31 @@ fn grade(run: RunArgs, g: GradeArgs) -> Result<ExitCode> {
         Ok(c) => c,
         Err(e) => return usage_error(&e),
     };
-    let batch = match benchgrade::grade(&config) {
+    let started = std::time::Instant::now();
+    let mut bar: Option<indicatif::ProgressBar> = None;
+    let show = !quiet && std::io::stderr().is_terminal();
+    // a bar only for batches that take more than a couple of seconds
+    let mut progress = |p: benchgrade::Progress| {
+        if !show || started.elapsed() < std::time::Duration::from_secs(2) {
+            return;
+        }
+        let b = bar.get_or_insert_with(|| {
+            let b = indicatif::ProgressBar::new(p.files as u64);
+            let style = indicatif::ProgressStyle::with_template(
+                "{elapsed} [{bar:30}] {pos}/{len} files, {msg}",
+            )
+            .unwrap_or_else(|_| indicatif::ProgressStyle::default_bar());
+            b.set_style(style.progress_chars("=> "));
+            b
+        });
+        b.set_position(p.files_done as u64);
+        b.set_message(format!("{} rows", p.rows));
+    };
+    let result = benchgrade::grade_with_progress(&config, &mut progress);
+    if let Some(b) = bar {
+        b.finish_and_clear();
+    }
+    let batch = match result {
         Ok(b) => b,
         Err(RunError::Config(e)) => return usage_error(&e),
         Err(RunError::Write(e)) => return Err(e).context("writing the results"),

@@ -135,7 +135,10 @@ fn stream(
     batch: &mut Batch,
     on_row: &mut dyn FnMut(&Graded) -> Result<(), WriteError>,
     keep_rows: bool,
+    progress: &mut dyn FnMut(Progress),
 ) -> Result<(), RunError> {
+    let rows_done = std::cell::Cell::new(0usize);
+    let mut files_done = 0;
     let calibration = load_calibration(calibration_file, &mut batch.problems);
     let mut overrides = config.overrides.clone();
     let mut assessor = Assessor::new(context(config, calibration.as_ref()));
@@ -157,6 +160,7 @@ fn stream(
                 return;
             }
             let a = assessor.assess(sub);
+            rows_done.set(rows_done.get() + 1);
             let own = overrides.for_row(a.submission.student_id.as_deref(), &a.submission.section);
             let refs: Vec<&Override> = own.iter().collect();
             let g = Graded {
@@ -171,7 +175,14 @@ fn stream(
             }
         };
         for event in rx.iter() {
+            let file_done = matches!(event, ingest::Event::FileDone(_));
             collector.handle(event, &config.columns, &mut handle_row);
+            files_done += usize::from(file_done);
+            progress(Progress {
+                files_done,
+                files: files.len(),
+                rows: rows_done.get(),
+            });
         }
     });
     batch.sheets = collector.sheets;
@@ -260,6 +271,7 @@ pub fn assess_batch(config: &Config) -> Result<Batch, RunError> {
         &mut batch,
         &mut |_| Ok(()),
         true,
+        &mut |_| {},
     )?;
     batch.files = files;
     Ok(batch)
@@ -360,8 +372,24 @@ fn write_cohort(
     report_html::write(&config.out_dir.join("cohort-report.html"), &report)
 }
 
-/// Grades the batch and writes results.csv and results.json into the output folder.
+/// How far a run has come, for a progress display.
+#[derive(Clone, Copy, Debug, PartialEq, Eq)]
+pub struct Progress {
+    pub files_done: usize,
+    pub files: usize,
+    pub rows: usize,
+}
+
+/// Grades the batch and writes every output into the output folder.
 pub fn grade(config: &Config) -> Result<Batch, RunError> {
+    grade_with_progress(config, &mut |_| {})
+}
+
+/// `grade`, telling `progress` after each sheet and file.
+pub fn grade_with_progress(
+    config: &Config,
+    progress: &mut dyn FnMut(Progress),
+) -> Result<Batch, RunError> {
     let (mut batch, calibration) = discover_inputs(config);
     let outputs = output_paths(&config.out_dir);
     refuse_overwriting_inputs(&outputs, &batch.files)?;
@@ -420,6 +448,7 @@ pub fn grade(config: &Config) -> Result<Batch, RunError> {
             }
         },
         false,
+        progress,
     )?;
     batch.files = files;
     if let Some(w) = &workbooks {
