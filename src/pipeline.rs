@@ -6,7 +6,9 @@
 use std::path::{Path, PathBuf};
 use std::sync::mpsc::sync_channel;
 
-use crate::assess::{calibration, Assessed, Assessor, Calibration, Context};
+use std::collections::HashMap;
+
+use crate::assess::{calibration, Assessed, Assessor, Calibration, Centres, Context};
 use crate::config::Config;
 use crate::error::{ConfigError, WriteError};
 use crate::export::parquet::{self, ParquetRows, Term};
@@ -69,13 +71,18 @@ pub enum RunError {
     Write(#[from] WriteError),
 }
 
-fn context<'a>(config: &'a Config, calibration: Option<&'a Calibration>) -> Context<'a> {
+fn context<'a>(
+    config: &'a Config,
+    calibration: Option<&'a Calibration>,
+    centres: Option<&'a Centres>,
+) -> Context<'a> {
     Context {
         library: &config.library,
         experiment: &config.rubric.experiment,
         reference: config.reference.clone(),
         tolerances: &config.rubric.tolerances,
         calibration,
+        centres,
     }
 }
 
@@ -136,12 +143,13 @@ fn stream(
     on_row: &mut dyn FnMut(&Graded) -> Result<(), WriteError>,
     keep_rows: bool,
     progress: &mut dyn FnMut(Progress),
+    centres: Option<&Centres>,
 ) -> Result<(), RunError> {
     let rows_done = std::cell::Cell::new(0usize);
     let mut files_done = 0;
     let calibration = load_calibration(calibration_file, &mut batch.problems);
     let mut overrides = config.overrides.clone();
-    let mut assessor = Assessor::new(context(config, calibration.as_ref()));
+    let mut assessor = Assessor::new(context(config, calibration.as_ref(), centres));
     let mut collector = Collector::default();
     let mut failure: Option<WriteError> = None;
     std::thread::scope(|scope| {
@@ -200,6 +208,39 @@ fn stream(
         return Err(ConfigError::Invalid(unmatched.join("\n")).into());
     }
     Ok(())
+}
+
+/// The first pass: every section's median and MAD of recovery and depression, so that the
+/// second pass can flag outliers as it grades. It reads the inputs once more; nothing is kept
+/// but two numbers a row.
+fn section_centres(
+    config: &Config,
+    files: &[PathBuf],
+    calibration_file: Option<&Path>,
+) -> Result<Centres, RunError> {
+    let mut values: HashMap<String, [Vec<f64>; 2]> = HashMap::new();
+    let mut scratch = Batch::default();
+    let mut first_pass = config.clone();
+    first_pass.overrides = Default::default();
+    stream(
+        &first_pass,
+        files,
+        calibration_file,
+        &mut scratch,
+        &mut |g| {
+            let a = &g.assessed;
+            if !a.is_impossible() {
+                let slot = values.entry(a.submission.section.clone()).or_default();
+                slot[0].extend(a.recovery_pct.filter(|v| v.is_finite()));
+                slot[1].extend(a.depression_c.filter(|v| v.is_finite()));
+            }
+            Ok(())
+        },
+        false,
+        &mut |_| {},
+        None,
+    )?;
+    Ok(Centres::from_values(&values))
 }
 
 /// A file found in a folder whose name says it holds the apparatus calibration.
@@ -264,6 +305,7 @@ fn discover_inputs(config: &Config) -> (Batch, Option<PathBuf>) {
 pub fn assess_batch(config: &Config) -> Result<Batch, RunError> {
     let (mut batch, calibration) = discover_inputs(config);
     let files = std::mem::take(&mut batch.files);
+    let centres = section_centres(config, &files, calibration.as_deref())?;
     stream(
         config,
         &files,
@@ -272,6 +314,7 @@ pub fn assess_batch(config: &Config) -> Result<Batch, RunError> {
         &mut |_| Ok(()),
         true,
         &mut |_| {},
+        Some(&centres),
     )?;
     batch.files = files;
     Ok(batch)
@@ -424,6 +467,7 @@ pub fn grade_with_progress(
     let mut parquet = ParquetRows::new(config.pseudonyms.clone());
     let mut letters: std::collections::BTreeMap<String, usize> = Default::default();
     let files = std::mem::take(&mut batch.files);
+    let centres = section_centres(config, &files, calibration.as_deref())?;
     stream(
         config,
         &files,
@@ -449,6 +493,7 @@ pub fn grade_with_progress(
         },
         false,
         progress,
+        Some(&centres),
     )?;
     batch.files = files;
     if let Some(w) = &workbooks {

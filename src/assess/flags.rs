@@ -19,6 +19,7 @@ pub enum Flag {
     LowRecovery,
     SolventBelowMinimum,
     OutsideCalibratedSpan,
+    Outlier,
 }
 
 /// Whether a flag marks an entry that cannot be true or one that only looks wrong.
@@ -29,7 +30,7 @@ pub enum Severity {
 }
 
 impl Flag {
-    pub const ALL: [Flag; 14] = [
+    pub const ALL: [Flag; 15] = [
         Flag::RecoveryOver100,
         Flag::RangeInverted,
         Flag::AboveReference,
@@ -44,6 +45,7 @@ impl Flag {
         Flag::LowRecovery,
         Flag::SolventBelowMinimum,
         Flag::OutsideCalibratedSpan,
+        Flag::Outlier,
     ];
 
     pub fn code(self) -> &'static str {
@@ -62,6 +64,7 @@ impl Flag {
             Flag::LowRecovery => "low-recovery",
             Flag::SolventBelowMinimum => "solvent-below-minimum",
             Flag::OutsideCalibratedSpan => "outside-calibrated-span",
+            Flag::Outlier => "outlier",
         }
     }
 
@@ -72,7 +75,8 @@ impl Flag {
             | Flag::LikelyWet
             | Flag::LowRecovery
             | Flag::SolventBelowMinimum
-            | Flag::OutsideCalibratedSpan => Severity::Suspicious,
+            | Flag::OutsideCalibratedSpan
+            | Flag::Outlier => Severity::Suspicious,
             _ => Severity::Impossible,
         }
     }
@@ -94,6 +98,7 @@ impl Flag {
             Flag::LowRecovery => "recovery below the rubric's threshold",
             Flag::SolventBelowMinimum => "less solvent than dissolves the crude at the boil (a note: insoluble matter may have been filtered off)",
             Flag::OutsideCalibratedSpan => "a reading beyond the temperatures of the apparatus's calibration standards",
+            Flag::Outlier => "recovery or depression far from the section's median (robust z-score beyond 3.5)",
         }
     }
 }

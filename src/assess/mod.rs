@@ -31,6 +31,53 @@ pub struct Context<'a> {
     pub reference: ReferenceRule,
     pub tolerances: &'a Tolerances,
     pub calibration: Option<&'a Calibration>,
+    /// Each section's median and MAD of recovery and depression, for `outlier`.
+    pub centres: Option<&'a Centres>,
+}
+
+/// Each section's (median, MAD) of recovery and of depression over its rows without impossible
+/// entries, gathered in a first pass so that `outlier` is known when a row is graded.
+#[derive(Clone, Debug, Default)]
+pub struct Centres {
+    pub by_section: HashMap<String, [(f64, f64); 2]>,
+}
+
+/// Robust z-score beyond which a value is an outlier (Iglewicz and Hoaglin's 3.5).
+pub const OUTLIER_Z: f64 = 3.5;
+
+impl Centres {
+    /// Builds the centres from (section, recovery, depression) of rows without impossible entries.
+    pub fn from_values(values: &HashMap<String, [Vec<f64>; 2]>) -> Centres {
+        use crate::stats::inference::{mad, median};
+        let by_section = values
+            .iter()
+            .map(|(s, [rec, dep])| {
+                (
+                    s.clone(),
+                    [(median(rec), mad(rec)), (median(dep), mad(dep))],
+                )
+            })
+            .collect();
+        Centres { by_section }
+    }
+
+    fn outlier(&self, a: &Assessed) -> Option<String> {
+        let [rec, dep] = self.by_section.get(&a.submission.section)?;
+        let mut why = Vec::new();
+        for (what, value, (med, mad), unit) in [
+            ("recovery", a.recovery_pct, *rec, "%"),
+            ("depression", a.depression_c, *dep, "°C"),
+        ] {
+            let Some(v) = value.filter(|v| v.is_finite()) else {
+                continue;
+            };
+            let z = crate::stats::inference::robust_z(v, med, mad);
+            if z.abs() > OUTLIER_Z {
+                why.push(format!("{what} {v:.1} {unit} is {z:+.1} robust z from the section's median {med:.1} {unit} (MAD {mad:.2})"));
+            }
+        }
+        (!why.is_empty()).then(|| why.join("; "))
+    }
 }
 
 /// A submission with its measures and findings.
@@ -328,6 +375,14 @@ impl<'a> Assessor<'a> {
         judge::suspicious(&a, t, &mut flags);
         if let Some(why) = self.duplicates.check(&a.submission) {
             flags.push((Flag::DuplicateStudent, why));
+        }
+        let impossible = flags
+            .iter()
+            .any(|(f, _)| f.severity() == Severity::Impossible);
+        if let (false, Some(c)) = (impossible, self.ctx.centres) {
+            if let Some(why) = c.outlier(&a) {
+                flags.push((Flag::Outlier, why));
+            }
         }
         flags.sort_by_key(|(f, _)| f.code());
         a.flags = flags;

@@ -37,6 +37,7 @@ fn with_rule(
         reference,
         tolerances: &t,
         calibration,
+        centres: None,
     };
     assess_all(subs, ctx)
 }
@@ -443,10 +444,60 @@ fn an_accepted_range_puts_clear_points_inside_it_at_the_reference() {
         reference: ReferenceRule::Range(164.5, 166.5),
         tolerances: &t,
         calibration: None,
+        centres: None,
     };
     let out = assess_all(vec![sulfa(165.0), sulfa(161.0), sulfa(168.0)], ctx);
     assert_eq!(out[0].depression_c, Some(0.0));
     assert_eq!(out[1].reference_mp_c, Some(164.5));
     assert!(out[1].has(Flag::LikelyImpure));
     assert!(out[2].has(Flag::AboveReference), "168 > 166.5 + 1.0");
+}
+
+#[test]
+fn outliers_by_robust_z_within_the_section() {
+    // recoveries 70, 71, 72, 73, 74 in section A: median 72, MAD 1 (hand-worked); 90 % is
+    // 0.6745 x 18 / 1 = 12.1 robust z away, an outlier; 74 % is 1.3, not
+    let mut values = HashMap::new();
+    values.insert(
+        "A".to_string(),
+        [
+            vec![70.0, 71.0, 72.0, 73.0, 74.0],
+            vec![0.5, 0.6, 0.7, 0.8, 0.9],
+        ],
+    );
+    let centres = Centres::from_values(&values);
+    let lib = Library::builtin();
+    let t = Tolerances::default();
+    let e = experiment();
+    let ctx = Context {
+        library: &lib,
+        experiment: &e,
+        reference: ReferenceRule::Accepted,
+        tolerances: &t,
+        calibration: None,
+        centres: Some(&centres),
+    };
+    let row = |rec: f64| Submission {
+        crude_mass_g: Some(3.0),
+        recovered_mass_g: Some(3.0 * rec / 100.0),
+        mp_onset_c: Some(121.0),
+        mp_clear_c: Some(121.7),
+        ..base()
+    };
+    let out = assess_all(
+        vec![
+            row(90.0),
+            Submission {
+                student_id: Some("s2".into()),
+                ..row(74.0)
+            },
+        ],
+        ctx,
+    );
+    assert!(out[0].has(Flag::Outlier), "{:?}", out[0].flags);
+    assert!(out[0]
+        .flags
+        .iter()
+        .any(|(f, n)| *f == Flag::Outlier && n.contains("+12.1 robust z")));
+    assert!(!out[1].has(Flag::Outlier));
 }

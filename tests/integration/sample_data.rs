@@ -42,6 +42,7 @@ fn the_sample_data_shows_every_flag_and_passes_the_contract_checker() {
         "unreadable-value",
         "solvent-below-minimum",
         "outside-calibrated-span",
+        "outlier",
     ] {
         assert!(seen.contains(&code), "{code} missing from the demo");
     }
