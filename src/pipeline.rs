@@ -133,21 +133,28 @@ fn unused_calibration(
         .collect()
 }
 
+/// What one pass over the inputs reads, and what it already knows.
+struct Inputs<'a> {
+    files: &'a [PathBuf],
+    calibration: Option<&'a Path>,
+    /// Section centres from the first pass, for `outlier`.
+    centres: Option<&'a Centres>,
+}
+
 /// Reads `files` on a reader thread and hands each assessed row to `on_row`, in batch order.
 /// Stops at the first error `on_row` returns.
 fn stream(
     config: &Config,
-    files: &[PathBuf],
-    calibration_file: Option<&Path>,
+    inputs: &Inputs,
     batch: &mut Batch,
     on_row: &mut dyn FnMut(&Graded) -> Result<(), WriteError>,
     keep_rows: bool,
     progress: &mut dyn FnMut(Progress),
-    centres: Option<&Centres>,
 ) -> Result<(), RunError> {
     let rows_done = std::cell::Cell::new(0usize);
     let mut files_done = 0;
-    let calibration = load_calibration(calibration_file, &mut batch.problems);
+    let (files, centres) = (inputs.files, inputs.centres);
+    let calibration = load_calibration(inputs.calibration, &mut batch.problems);
     let mut overrides = config.overrides.clone();
     let mut assessor = Assessor::new(context(config, calibration.as_ref(), centres));
     let mut collector = Collector::default();
@@ -222,10 +229,14 @@ fn section_centres(
     let mut scratch = Batch::default();
     let mut first_pass = config.clone();
     first_pass.overrides = Default::default();
+    let inputs = Inputs {
+        files,
+        calibration: calibration_file,
+        centres: None,
+    };
     stream(
         &first_pass,
-        files,
-        calibration_file,
+        &inputs,
         &mut scratch,
         &mut |g| {
             let a = &g.assessed;
@@ -238,7 +249,6 @@ fn section_centres(
         },
         false,
         &mut |_| {},
-        None,
     )?;
     Ok(Centres::from_values(&values))
 }
@@ -306,15 +316,18 @@ pub fn assess_batch(config: &Config) -> Result<Batch, RunError> {
     let (mut batch, calibration) = discover_inputs(config);
     let files = std::mem::take(&mut batch.files);
     let centres = section_centres(config, &files, calibration.as_deref())?;
+    let inputs = Inputs {
+        files: &files,
+        calibration: calibration.as_deref(),
+        centres: Some(&centres),
+    };
     stream(
         config,
-        &files,
-        calibration.as_deref(),
+        &inputs,
         &mut batch,
         &mut |_| Ok(()),
         true,
         &mut |_| {},
-        Some(&centres),
     )?;
     batch.files = files;
     Ok(batch)
@@ -468,10 +481,14 @@ pub fn grade_with_progress(
     let mut letters: std::collections::BTreeMap<String, usize> = Default::default();
     let files = std::mem::take(&mut batch.files);
     let centres = section_centres(config, &files, calibration.as_deref())?;
+    let inputs = Inputs {
+        files: &files,
+        calibration: calibration.as_deref(),
+        centres: Some(&centres),
+    };
     stream(
         config,
-        &files,
-        calibration.as_deref(),
+        &inputs,
         &mut batch,
         &mut |g| {
             stats.add(g);
@@ -493,7 +510,6 @@ pub fn grade_with_progress(
         },
         false,
         progress,
-        Some(&centres),
     )?;
     batch.files = files;
     if let Some(w) = &workbooks {
