@@ -9,6 +9,7 @@ use std::path::Path;
 
 use polars::prelude::*;
 
+use super::atomic::AtomicFile;
 use super::pseudonym::Pseudonymizer;
 use crate::error::WriteError;
 use crate::rubric::score::Graded;
@@ -134,26 +135,9 @@ impl ParquetRows {
             source: std::io::Error::other(e.to_string()),
         };
         let mut df = self.frame().map_err(err)?;
-        let tmp = path.with_file_name(format!(".results.parquet.{}.partial", std::process::id()));
-        let result = std::fs::File::create(&tmp)
-            .map_err(|source| WriteError {
-                path: path.to_path_buf(),
-                source,
-            })
-            .and_then(|f| {
-                ParquetWriter::new(f)
-                    .finish(&mut df)
-                    .map(|_| ())
-                    .map_err(err)
-            });
-        if let Err(e) = result {
-            let _ = std::fs::remove_file(&tmp);
-            return Err(e);
-        }
-        std::fs::rename(&tmp, path).map_err(|source| WriteError {
-            path: path.to_path_buf(),
-            source,
-        })
+        let mut file = AtomicFile::create(path)?;
+        ParquetWriter::new(&mut file).finish(&mut df).map_err(err)?;
+        file.commit()
     }
 
     /// The term's headline figures, as `Term::from_parquet` reads them back.

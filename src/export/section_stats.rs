@@ -7,21 +7,7 @@ use super::{atomic::write_atomic, number};
 use crate::error::WriteError;
 use crate::stats::sections::SectionStats;
 
-pub const COLUMNS: [&str; 13] = [
-    "section",
-    "measure",
-    "n",
-    "mean",
-    "sd",
-    "sem",
-    "median",
-    "q1",
-    "q3",
-    "min",
-    "max",
-    "ci95_low",
-    "ci95_high",
-];
+pub use crate::stats::SUMMARY_COLUMNS as COLUMNS;
 
 pub fn write(path: &Path, stats: &SectionStats) -> Result<(), WriteError> {
     write_atomic(path, |w| {
