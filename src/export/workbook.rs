@@ -311,7 +311,8 @@ impl GradedWorkbooks {
         for (c, h) in header.iter().enumerate() {
             ws.write_string_with_format(0, c as u16, h, &self.formats.header)
                 .map_err(e)?;
-            let width = (h.chars().count().clamp(8, 30) + 2) as f64;
+            let least = if c < s.original.len() { 14 } else { 8 };
+            let width = (h.chars().count().clamp(least, 30) + 2) as f64;
             ws.set_column_width(c as u16, width).map_err(e)?;
         }
         ws.set_column_width(header.len() as u16 - 2, 30)
@@ -319,6 +320,9 @@ impl GradedWorkbooks {
         ws.set_column_width(header.len() as u16 - 1, 80)
             .map_err(e)?;
         ws.set_freeze_panes(1, 0).map_err(e)?;
+        // printed: landscape, the header repeated on every page
+        ws.set_landscape();
+        ws.set_repeat_rows(0, 0).map_err(e)?;
         // number formats by column, so that unflagged cells need no format of their own
         let base = s.original.len() as u16;
         for (i, (_, numfmt)) in COMPUTED.iter().enumerate() {
