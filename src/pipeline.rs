@@ -141,6 +141,21 @@ struct Inputs<'a> {
     centres: Option<&'a Centres>,
 }
 
+impl<'a> Inputs<'a> {
+    /// The grading pass: the files, the calibration and the first pass's section centres.
+    fn second_pass(
+        files: &'a [PathBuf],
+        calibration: Option<&'a Path>,
+        centres: &'a Centres,
+    ) -> Inputs<'a> {
+        Inputs {
+            files,
+            calibration,
+            centres: Some(centres),
+        }
+    }
+}
+
 /// Reads `files` on a reader thread and hands each assessed row to `on_row`, in batch order.
 /// Stops at the first error `on_row` returns.
 fn stream(
@@ -316,11 +331,7 @@ pub fn assess_batch(config: &Config) -> Result<Batch, RunError> {
     let (mut batch, calibration) = discover_inputs(config);
     let files = std::mem::take(&mut batch.files);
     let centres = section_centres(config, &files, calibration.as_deref())?;
-    let inputs = Inputs {
-        files: &files,
-        calibration: calibration.as_deref(),
-        centres: Some(&centres),
-    };
+    let inputs = Inputs::second_pass(&files, calibration.as_deref(), &centres);
     stream(
         config,
         &inputs,
@@ -481,11 +492,7 @@ pub fn grade_with_progress(
     let mut letters: std::collections::BTreeMap<String, usize> = Default::default();
     let files = std::mem::take(&mut batch.files);
     let centres = section_centres(config, &files, calibration.as_deref())?;
-    let inputs = Inputs {
-        files: &files,
-        calibration: calibration.as_deref(),
-        centres: Some(&centres),
-    };
+    let inputs = Inputs::second_pass(&files, calibration.as_deref(), &centres);
     stream(
         config,
         &inputs,

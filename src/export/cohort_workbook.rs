@@ -57,24 +57,7 @@ fn build(r: &Report, timestamp: i64) -> Result<Workbook, XlsxError> {
     ws.set_freeze_panes(1, 0)?;
 
     let ws = wb.add_worksheet().set_name("Comparisons")?;
-    header(
-        ws,
-        0,
-        &[
-            "measure",
-            "grouping",
-            "test",
-            "group_a",
-            "group_b",
-            "statistic",
-            "df1",
-            "df2",
-            "p_value",
-            "p_adjusted",
-            "effect_size",
-        ],
-        &bold,
-    )?;
+    header(ws, 0, &super::cohort_csv::COMPARISON_COLUMNS, &bold)?;
     for (i, c) in r.comparisons.iter().enumerate() {
         let row = 1 + i as u32;
         for (col, t) in [c.measure, c.grouping, c.test, &c.group_a, &c.group_b]
@@ -100,20 +83,7 @@ fn build(r: &Report, timestamp: i64) -> Result<Workbook, XlsxError> {
     ws.set_freeze_panes(1, 0)?;
 
     let ws = wb.add_worksheet().set_name("Benches")?;
-    header(
-        ws,
-        0,
-        &[
-            "bench",
-            "n",
-            "median_shift_c",
-            "u_statistic",
-            "p_value",
-            "p_adjusted",
-            "finding",
-        ],
-        &bold,
-    )?;
+    header(ws, 0, &super::cohort_csv::BIAS_COLUMNS, &bold)?;
     for (i, b) in r.bias.iter().enumerate() {
         let row = 1 + i as u32;
         ws.write_string(row, 0, &b.bench)?;
