@@ -330,7 +330,7 @@ impl Cohort {
                 let (med, d) = (median(&v), mad(&v));
                 for r in rows {
                     let z = robust_z(r.values[m], med, d);
-                    if z.abs() > 3.5 {
+                    if z.abs() > crate::assess::OUTLIER_Z {
                         out.push(Outlier {
                             section: self.name(section).to_string(),
                             place: self.places[r.where_ as usize].clone(),
