@@ -15,13 +15,14 @@ use crate::export::parquet::{self, ParquetRows, Term};
 use crate::export::provenance::Provenance;
 use crate::export::report_html::{self, Report};
 use crate::export::workbook::GradedWorkbooks;
+use crate::export::workbook_worker::{BookError, BookWorker};
 use crate::export::{cohort_csv, cohort_workbook};
 use crate::export::{
     gradebook::Gradebook, results_csv::ResultsCsv, results_json::ResultsJson, section_stats,
 };
 use crate::ingest::{self, discover, Collector, Problem, SheetReport};
 use crate::rubric::overrides::Override;
-use crate::rubric::score::{self, Graded};
+use crate::rubric::score::{self, Graded, Score};
 use crate::stats::cohort::{BiasRule, Cohort};
 use crate::stats::sections::SectionStats;
 
@@ -162,8 +163,7 @@ fn stream(
     config: &Config,
     inputs: &Inputs,
     batch: &mut Batch,
-    on_row: &mut dyn FnMut(&Graded) -> Result<(), WriteError>,
-    keep_rows: bool,
+    on_row: &mut dyn FnMut(Graded) -> Result<(), WriteError>,
     progress: &mut dyn FnMut(Progress),
 ) -> Result<(), RunError> {
     let rows_done = std::cell::Cell::new(0usize);
@@ -191,17 +191,18 @@ fn stream(
             }
             let a = assessor.assess(sub);
             rows_done.set(rows_done.get() + 1);
-            let own = overrides.for_row(a.submission.student_id.as_deref(), &a.submission.section);
-            let refs: Vec<&Override> = own.iter().collect();
-            let g = Graded {
-                score: score::score(&config.rubric, &a, &refs),
-                assessed: a,
+            let score = if inputs.centres.is_some() {
+                let own =
+                    overrides.for_row(a.submission.student_id.as_deref(), &a.submission.section);
+                let refs: Vec<&Override> = own.iter().collect();
+                score::score(&config.rubric, &a, &refs)
+            } else {
+                // the first pass needs only the measures
+                Score::default()
             };
-            batch.tally.add(&g.assessed);
-            match on_row(&g) {
-                Ok(()) if keep_rows => batch.rows.push(g),
-                Ok(()) => {}
-                Err(e) => failure = Some(e),
+            batch.tally.add(&a);
+            if let Err(e) = on_row(Graded { score, assessed: a }) {
+                failure = Some(e);
             }
         };
         for event in rx.iter() {
@@ -256,13 +257,17 @@ fn section_centres(
         &mut |g| {
             let a = &g.assessed;
             if !a.is_impossible() {
-                let slot = values.entry(a.submission.section.clone()).or_default();
-                slot[0].extend(a.recovery_pct.filter(|v| v.is_finite()));
-                slot[1].extend(a.depression_c.filter(|v| v.is_finite()));
+                let section = &a.submission.section;
+                if !values.contains_key(section) {
+                    values.insert(section.clone(), Default::default());
+                }
+                if let Some(slot) = values.get_mut(section) {
+                    slot[0].extend(a.recovery_pct.filter(|v| v.is_finite()));
+                    slot[1].extend(a.depression_c.filter(|v| v.is_finite()));
+                }
             }
             Ok(())
         },
-        false,
         &mut |_| {},
     )?;
     Ok(Centres::from_values(&values))
@@ -332,14 +337,18 @@ pub fn assess_batch(config: &Config) -> Result<Batch, RunError> {
     let files = std::mem::take(&mut batch.files);
     let centres = section_centres(config, &files, calibration.as_deref())?;
     let inputs = Inputs::second_pass(&files, calibration.as_deref(), &centres);
+    let mut rows = Vec::new();
     stream(
         config,
         &inputs,
         &mut batch,
-        &mut |_| Ok(()),
-        true,
+        &mut |g| {
+            rows.push(g);
+            Ok(())
+        },
         &mut |_| {},
     )?;
+    batch.rows = rows;
     batch.files = files;
     Ok(batch)
 }
@@ -484,11 +493,19 @@ pub fn grade_with_progress(
         .iter()
         .map(|c| c.label.clone())
         .collect();
-    let mut workbooks = (!config.skip_workbooks)
-        .then(|| GradedWorkbooks::new(&config.out_dir, config.split_sections, labels));
+    let mut workbooks = (!config.skip_workbooks).then(|| {
+        BookWorker::spawn(GradedWorkbooks::new(
+            &config.out_dir,
+            config.split_sections,
+            labels,
+        ))
+    });
     let mut stats = SectionStats::default();
     let mut cohort = Cohort::default();
-    let mut parquet = ParquetRows::new(config.pseudonyms.clone());
+    let mut parquet = ParquetRows::create(
+        &config.out_dir.join("results.parquet"),
+        config.pseudonyms.clone(),
+    )?;
     let mut letters: std::collections::BTreeMap<String, usize> = Default::default();
     let files = std::mem::take(&mut batch.files);
     let centres = section_centres(config, &files, calibration.as_deref())?;
@@ -498,30 +515,26 @@ pub fn grade_with_progress(
         &inputs,
         &mut batch,
         &mut |g| {
-            stats.add(g);
-            cohort.add(g);
-            parquet.add(g);
+            stats.add(&g);
+            cohort.add(&g);
+            parquet.add(&g)?;
             if let Some(l) = &g.score.letter {
                 *letters.entry(l.clone()).or_default() += 1;
             }
-            csv.row(g)?;
+            csv.row(&g)?;
             if let Some(p) = pseudo.as_mut() {
-                p.row(g)?;
+                p.row(&g)?;
             }
-            json.row(g)?;
-            book.row(g)?;
-            match workbooks.as_mut() {
-                Some(w) => w.row(g),
-                None => Ok(()),
+            json.row(&g)?;
+            book.row(&g)?;
+            if let Some(w) = workbooks.as_mut() {
+                w.row(g);
             }
+            Ok(())
         },
-        false,
         progress,
     )?;
     batch.files = files;
-    if let Some(w) = &workbooks {
-        refuse_overwriting_inputs(&w.paths(), &batch.files)?;
-    }
     let mut provenance_files: Vec<&Path> = batch.files.iter().map(PathBuf::as_path).collect();
     provenance_files.extend(calibration.as_deref());
     provenance_files.extend(config.overrides_file.as_deref());
@@ -531,9 +544,13 @@ pub fn grade_with_progress(
         &config.rubric_text,
         &provenance_files,
     );
-    if let Some(w) = workbooks {
-        w.finish(&stats, &provenance)?;
-    }
+    let saving = match workbooks {
+        Some(w) => Some(
+            w.finish(provenance.clone(), batch.files.clone())
+                .map_err(book_error)?,
+        ),
+        None => None,
+    };
     section_stats::write(&config.out_dir.join("section-stats.csv"), &stats)?;
     let baseline = match &config.baseline {
         Some(file) => {
@@ -544,7 +561,7 @@ pub fn grade_with_progress(
         }
         None => Vec::new(),
     };
-    parquet.write(&config.out_dir.join("results.parquet"))?;
+    parquet.finish()?;
     write_cohort(config, &cohort, &stats, &letters, &provenance, &baseline)?;
     csv.finish()?;
     if let Some(p) = pseudo {
@@ -552,5 +569,19 @@ pub fn grade_with_progress(
     }
     json.finish(&batch.problems)?;
     book.finish()?;
+    if let Some(s) = saving {
+        s.wait().map_err(book_error)?;
+    }
     Ok(batch)
+}
+
+fn book_error(e: BookError) -> RunError {
+    match e {
+        BookError::WouldOverwrite(p) => ConfigError::Invalid(format!(
+            "refusing to write {}: it is one of the inputs; choose another --out folder",
+            p.display()
+        ))
+        .into(),
+        BookError::Write(w) => w.into(),
+    }
 }

@@ -13,6 +13,7 @@ pub mod results_csv;
 pub mod results_json;
 pub mod section_stats;
 pub mod workbook;
+pub mod workbook_worker;
 
 /// Guards a text cell from student input against spreadsheet formula injection in CSV:
 /// text starting with = + - @, a tab, a carriage return or NUL gets a leading apostrophe.

@@ -4,8 +4,11 @@
 //! The file is meant to leave the course: with `--pseudonymize` it holds pseudonyms and no
 //! names.
 
+use std::cell::RefCell;
 use std::collections::BTreeMap;
-use std::path::Path;
+use std::io::Write;
+use std::path::{Path, PathBuf};
+use std::rc::Rc;
 
 use polars::prelude::*;
 
@@ -13,15 +16,6 @@ use super::atomic::AtomicFile;
 use super::pseudonym::Pseudonymizer;
 use crate::error::WriteError;
 use crate::rubric::score::Graded;
-
-/// Columns gathered as the batch streams past.
-#[derive(Default)]
-pub struct ParquetRows {
-    text: BTreeMap<&'static str, Vec<Option<String>>>,
-    numbers: BTreeMap<&'static str, Vec<Option<f64>>>,
-    rows: Vec<u32>,
-    pseudonyms: Option<Pseudonymizer>,
-}
 
 const TEXT: [&str; 8] = [
     "source",
@@ -51,15 +45,124 @@ const NUMBERS: [&str; 15] = [
     "percent",
 ];
 
-impl ParquetRows {
-    pub fn new(pseudonyms: Option<Pseudonymizer>) -> ParquetRows {
-        ParquetRows {
-            pseudonyms,
-            ..ParquetRows::default()
+/// Rows held before they are written out as one row group: enough for good compression,
+/// few enough that the buffer stays a few megabytes whatever the class size.
+const ROW_GROUP: usize = 16_384;
+
+/// results.parquet, written a row group at a time as the batch streams past, into a temporary
+/// file renamed into place by `finish`. Only the headline figures of the term are kept whole.
+pub struct ParquetRows {
+    writer: BatchedWriter<Shared>,
+    file: Rc<RefCell<Option<AtomicFile>>>,
+    path: PathBuf,
+    text: [Vec<Option<String>>; TEXT.len()],
+    numbers: [Vec<Option<f64>>; NUMBERS.len()],
+    rows: Vec<u32>,
+    pseudonyms: Option<Pseudonymizer>,
+    term: TermTally,
+}
+
+/// The temporary file, shared between the parquet writer and `ParquetRows::finish`.
+struct Shared(Rc<RefCell<Option<AtomicFile>>>);
+
+impl Write for Shared {
+    fn write(&mut self, buf: &[u8]) -> std::io::Result<usize> {
+        match self.0.borrow_mut().as_mut() {
+            Some(f) => f.write(buf),
+            None => Err(std::io::Error::other(
+                "results.parquet was already committed",
+            )),
+        }
+    }
+    fn flush(&mut self) -> std::io::Result<()> {
+        match self.0.borrow_mut().as_mut() {
+            Some(f) => f.flush(),
+            None => Ok(()),
+        }
+    }
+}
+
+/// Running sums for `Term`.
+#[derive(Default)]
+struct TermTally {
+    rows: usize,
+    recovery: (f64, usize),
+    percent: (f64, usize),
+    flags: BTreeMap<String, usize>,
+}
+
+impl TermTally {
+    fn add(&mut self, recovery: Option<f64>, percent: f64, flags: &str) {
+        self.rows += 1;
+        for (slot, v) in [
+            (&mut self.recovery, recovery),
+            (&mut self.percent, Some(percent)),
+        ] {
+            if let Some(v) = v.filter(|v| v.is_finite()) {
+                slot.0 += v;
+                slot.1 += 1;
+            }
+        }
+        for code in flags.split(';').filter(|c| !c.is_empty()) {
+            match self.flags.get_mut(code) {
+                Some(n) => *n += 1,
+                None => {
+                    self.flags.insert(code.to_string(), 1);
+                }
+            }
         }
     }
 
-    pub fn add(&mut self, g: &Graded) {
+    fn term(&self) -> Term {
+        let mean = |(sum, n): (f64, usize)| if n == 0 { f64::NAN } else { sum / n as f64 };
+        Term::from_counts(
+            self.rows,
+            mean(self.recovery),
+            mean(self.percent),
+            &self.flags,
+        )
+    }
+}
+
+fn schema() -> Schema {
+    let mut fields = vec![Field::new("row".into(), DataType::UInt32)];
+    fields.extend(
+        TEXT.iter()
+            .map(|k| Field::new((*k).into(), DataType::String)),
+    );
+    fields.extend(
+        NUMBERS
+            .iter()
+            .map(|k| Field::new((*k).into(), DataType::Float64)),
+    );
+    Schema::from_iter(fields)
+}
+
+impl ParquetRows {
+    /// Opens the temporary file and writes the header.
+    pub fn create(
+        path: &Path,
+        pseudonyms: Option<Pseudonymizer>,
+    ) -> Result<ParquetRows, WriteError> {
+        let file = Rc::new(RefCell::new(Some(AtomicFile::create(path)?)));
+        let writer = ParquetWriter::new(Shared(file.clone()))
+            .with_row_group_size(Some(ROW_GROUP))
+            .set_parallel(false)
+            .batched(&schema())
+            .map_err(|e| polars_error(path, e))?;
+        Ok(ParquetRows {
+            writer,
+            file,
+            path: path.to_path_buf(),
+            text: Default::default(),
+            numbers: Default::default(),
+            rows: Vec::with_capacity(ROW_GROUP),
+            pseudonyms,
+            term: TermTally::default(),
+        })
+    }
+
+    pub fn add(&mut self, g: &Graded) -> Result<(), WriteError> {
         let a = &g.assessed;
         let s = &a.submission;
         let id = match (&self.pseudonyms, s.student_id.as_deref()) {
@@ -71,6 +174,9 @@ impl ParquetRows {
         } else {
             s.student_name.clone()
         };
+        let flags = a.flag_codes();
+        let sc = &g.score;
+        self.term.add(a.recovery_pct, sc.percent, &flags);
         let text = [
             Some(s.source.clone()),
             s.sheet.clone(),
@@ -79,12 +185,11 @@ impl ParquetRows {
             name,
             s.bench.clone(),
             a.compound.clone().or_else(|| s.compound.clone()),
-            Some(a.flag_codes()),
+            Some(flags),
         ];
-        for (k, v) in TEXT.iter().zip(text) {
-            self.text.entry(k).or_default().push(v);
+        for (column, v) in self.text.iter_mut().zip(text) {
+            column.push(v);
         }
-        let sc = &g.score;
         let numbers = [
             s.crude_mass_g,
             s.recovered_mass_g,
@@ -102,65 +207,57 @@ impl ParquetRows {
             Some(sc.max),
             Some(sc.percent),
         ];
-        for (k, v) in NUMBERS.iter().zip(numbers) {
-            self.numbers
-                .entry(k)
-                .or_default()
-                .push(v.filter(|x| x.is_finite()));
+        for (column, v) in self.numbers.iter_mut().zip(numbers) {
+            column.push(v.filter(|x| x.is_finite()));
         }
         self.rows.push(s.row);
+        if self.rows.len() >= ROW_GROUP {
+            self.flush()?;
+        }
+        Ok(())
     }
 
-    fn frame(&self) -> PolarsResult<DataFrame> {
-        let mut cols = vec![Column::new("row".into(), self.rows.clone())];
-        for k in TEXT {
-            cols.push(Column::new(
-                k.into(),
-                self.text.get(k).cloned().unwrap_or_default(),
-            ));
+    /// Writes the buffered rows as one row group.
+    fn flush(&mut self) -> Result<(), WriteError> {
+        if self.rows.is_empty() {
+            return Ok(());
         }
-        for k in NUMBERS {
-            cols.push(Column::new(
-                k.into(),
-                self.numbers.get(k).cloned().unwrap_or_default(),
-            ));
+        let mut cols = vec![Column::new("row".into(), std::mem::take(&mut self.rows))];
+        for (k, v) in TEXT.iter().zip(self.text.iter_mut()) {
+            cols.push(Column::new((*k).into(), std::mem::take(v)));
         }
-        DataFrame::new_infer_height(cols)
+        for (k, v) in NUMBERS.iter().zip(self.numbers.iter_mut()) {
+            cols.push(Column::new((*k).into(), std::mem::take(v)));
+        }
+        let path = &self.path;
+        let df = DataFrame::new_infer_height(cols).map_err(|e| polars_error(path, e))?;
+        self.writer
+            .write_batch(&df)
+            .map_err(|e| polars_error(path, e))
     }
 
-    /// Writes the file atomically.
-    pub fn write(&self, path: &Path) -> Result<(), WriteError> {
-        let err = |e: PolarsError| WriteError {
-            path: path.to_path_buf(),
-            source: std::io::Error::other(e.to_string()),
-        };
-        let mut df = self.frame().map_err(err)?;
-        let mut file = AtomicFile::create(path)?;
-        ParquetWriter::new(&mut file).finish(&mut df).map_err(err)?;
-        file.commit()
+    /// Writes the last row group and the footer, and renames the file into place.
+    pub fn finish(mut self) -> Result<(), WriteError> {
+        self.flush()?;
+        let path = self.path.clone();
+        self.writer.finish().map_err(|e| polars_error(&path, e))?;
+        let file = self.file.borrow_mut().take();
+        match file {
+            Some(f) => f.commit(),
+            None => Err(polars_error(&path, PolarsError::NoData("no file".into()))),
+        }
     }
 
     /// The term's headline figures, as `Term::from_parquet` reads them back.
     pub fn term(&self) -> Term {
-        let mean = |k: &str| {
-            let v: Vec<f64> = self
-                .numbers
-                .get(k)
-                .map(|v| v.iter().flatten().copied().collect())
-                .unwrap_or_default();
-            if v.is_empty() {
-                f64::NAN
-            } else {
-                v.iter().sum::<f64>() / v.len() as f64
-            }
-        };
-        let flags: Vec<Option<String>> = self.text.get("flags").cloned().unwrap_or_default();
-        Term::new(
-            self.rows.len(),
-            mean("recovery_pct"),
-            mean("percent"),
-            &flags,
-        )
+        self.term.term()
+    }
+}
+
+fn polars_error(path: &Path, e: PolarsError) -> WriteError {
+    WriteError {
+        path: path.to_path_buf(),
+        source: std::io::Error::other(e.to_string()),
     }
 }
 
@@ -182,12 +279,24 @@ impl Term {
                 *counts.entry(code.to_string()).or_default() += 1;
             }
         }
+        Term::from_counts(rows, recovery, score, &counts)
+    }
+
+    fn from_counts(
+        rows: usize,
+        recovery: f64,
+        score: f64,
+        counts: &BTreeMap<String, usize>,
+    ) -> Term {
         let n = rows.max(1) as f64;
         Term {
             rows,
             mean_recovery_pct: recovery,
             mean_score_pct: score,
-            flag_rates: counts.into_iter().map(|(k, c)| (k, c as f64 / n)).collect(),
+            flag_rates: counts
+                .iter()
+                .map(|(k, c)| (k.clone(), *c as f64 / n))
+                .collect(),
         }
     }
 

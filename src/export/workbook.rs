@@ -166,6 +166,17 @@ struct Book {
     sections: Vec<String>,
 }
 
+/// The zip (deflate) level of graded workbooks: level 3 compresses a 100,000-row class about a
+/// quarter faster than the writer's default (6) for a file about 8 % larger.
+pub const ZIP_LEVEL: u8 = 3;
+
+/// A workbook as every graded workbook starts.
+pub fn new_workbook() -> Workbook {
+    let mut wb = Workbook::new();
+    wb.set_zip_compression_level(ZIP_LEVEL);
+    wb
+}
+
 /// The graded workbooks of a batch, open while rows stream past.
 pub struct GradedWorkbooks {
     out_dir: PathBuf,
@@ -248,7 +259,7 @@ impl GradedWorkbooks {
         self.stems.push(stem.clone());
         let book = Book {
             path: self.out_dir.join(format!("{stem}-graded.xlsx")),
-            workbook: Workbook::new(),
+            workbook: new_workbook(),
             sheets: Vec::new(),
             by_key: HashMap::new(),
             names: Vec::new(),

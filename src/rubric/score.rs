@@ -16,7 +16,7 @@ pub struct CriterionScore {
 }
 
 /// One row's grade.
-#[derive(Clone, Debug, PartialEq)]
+#[derive(Clone, Debug, Default, PartialEq)]
 pub struct Score {
     pub criteria: Vec<CriterionScore>,
     pub total: f64,
