@@ -11,7 +11,7 @@ use std::collections::HashMap;
 use crate::assess::{calibration, Assessed, Assessor, Calibration, Centres, Context};
 use crate::config::Config;
 use crate::error::{ConfigError, WriteError};
-use crate::export::parquet::{self, ParquetRows, Term};
+use crate::export::parquet::{self, ParquetRows};
 use crate::export::provenance::Provenance;
 use crate::export::report_html::{self, Report};
 use crate::export::workbook::GradedWorkbooks;
@@ -554,7 +554,7 @@ pub fn grade_with_progress(
     section_stats::write(&config.out_dir.join("section-stats.csv"), &stats)?;
     let baseline = match &config.baseline {
         Some(file) => {
-            let earlier = Term::from_parquet(file).map_err(ConfigError::Invalid)?;
+            let earlier = parquet::read_term(file).map_err(ConfigError::Invalid)?;
             let rows = parquet::compare(&earlier, &parquet.term());
             write_baseline(&config.out_dir.join("baseline-comparison.csv"), &rows)?;
             rows

@@ -1,10 +1,15 @@
 //! Exporters: one module per output, each taking finished values and a destination.
 
 pub mod atomic;
+pub mod baseline;
 pub mod check_report;
 pub mod cohort_csv;
 pub mod cohort_workbook;
 pub mod gradebook;
+#[cfg(feature = "parquet")]
+pub mod parquet;
+#[cfg(not(feature = "parquet"))]
+#[path = "parquet_stub.rs"]
 pub mod parquet;
 pub mod provenance;
 pub mod pseudonym;

@@ -17,6 +17,8 @@ use super::pseudonym::Pseudonymizer;
 use crate::error::WriteError;
 use crate::rubric::score::Graded;
 
+pub use super::baseline::{compare, Term};
+
 const TEXT: [&str; 8] = [
     "source",
     "sheet",
@@ -248,7 +250,7 @@ impl ParquetRows {
         }
     }
 
-    /// The term's headline figures, as `Term::from_parquet` reads them back.
+    /// The term's headline figures, as `read_term` reads them back.
     pub fn term(&self) -> Term {
         self.term.term()
     }
@@ -261,109 +263,34 @@ fn polars_error(path: &Path, e: PolarsError) -> WriteError {
     }
 }
 
-/// Headline figures of one term, for the baseline comparison.
-#[derive(Clone, Debug, PartialEq)]
-pub struct Term {
-    pub rows: usize,
-    pub mean_recovery_pct: f64,
-    pub mean_score_pct: f64,
-    /// Share of rows carrying each flag code.
-    pub flag_rates: BTreeMap<String, f64>,
-}
-
-impl Term {
-    fn new(rows: usize, recovery: f64, score: f64, flags: &[Option<String>]) -> Term {
-        let mut counts: BTreeMap<String, usize> = BTreeMap::new();
-        for f in flags.iter().flatten() {
-            for code in f.split(';').filter(|c| !c.is_empty()) {
-                *counts.entry(code.to_string()).or_default() += 1;
-            }
-        }
-        Term::from_counts(rows, recovery, score, &counts)
-    }
-
-    fn from_counts(
-        rows: usize,
-        recovery: f64,
-        score: f64,
-        counts: &BTreeMap<String, usize>,
-    ) -> Term {
-        let n = rows.max(1) as f64;
-        Term {
-            rows,
-            mean_recovery_pct: recovery,
-            mean_score_pct: score,
-            flag_rates: counts
-                .iter()
-                .map(|(k, c)| (k.clone(), *c as f64 / n))
-                .collect(),
-        }
-    }
-
-    /// Reads an earlier term's results.parquet.
-    pub fn from_parquet(path: &Path) -> Result<Term, String> {
-        let file = std::fs::File::open(path)
-            .map_err(|e| format!("cannot open the baseline {}: {e}", path.display()))?;
-        let df = ParquetReader::new(file).finish().map_err(|e| {
-            format!(
-                "{}: not a results.parquet benchgrade wrote: {e}",
-                path.display()
-            )
-        })?;
-        let mean = |k: &str| -> Result<f64, String> {
-            let c = df
-                .column(k)
-                .map_err(|e| format!("{}: {e}", path.display()))?;
-            let v = c.f64().map_err(|e| format!("{}: {e}", path.display()))?;
-            Ok(v.mean().unwrap_or(f64::NAN))
-        };
-        let flags: Vec<Option<String>> = df
-            .column("flags")
-            .and_then(|c| {
-                c.str()
-                    .map(|s| s.iter().map(|x| x.map(str::to_string)).collect())
-            })
+/// Reads an earlier term's results.parquet.
+pub fn read_term(path: &Path) -> Result<Term, String> {
+    let file = std::fs::File::open(path)
+        .map_err(|e| format!("cannot open the baseline {}: {e}", path.display()))?;
+    let df = ParquetReader::new(file).finish().map_err(|e| {
+        format!(
+            "{}: not a results.parquet benchgrade wrote: {e}",
+            path.display()
+        )
+    })?;
+    let mean = |k: &str| -> Result<f64, String> {
+        let c = df
+            .column(k)
             .map_err(|e| format!("{}: {e}", path.display()))?;
-        Ok(Term::new(
-            df.height(),
-            mean("recovery_pct")?,
-            mean("percent")?,
-            &flags,
-        ))
-    }
-}
-
-/// (metric, baseline, current, shift) for the baseline comparison.
-pub fn compare(baseline: &Term, current: &Term) -> Vec<(String, f64, f64, f64)> {
-    let mut out = vec![
-        (
-            "students".to_string(),
-            baseline.rows as f64,
-            current.rows as f64,
-            current.rows as f64 - baseline.rows as f64,
-        ),
-        (
-            "mean recovery (%)".to_string(),
-            baseline.mean_recovery_pct,
-            current.mean_recovery_pct,
-            current.mean_recovery_pct - baseline.mean_recovery_pct,
-        ),
-        (
-            "mean score (% of maximum)".to_string(),
-            baseline.mean_score_pct,
-            current.mean_score_pct,
-            current.mean_score_pct - baseline.mean_score_pct,
-        ),
-    ];
-    let codes: std::collections::BTreeSet<&String> = baseline
-        .flag_rates
-        .keys()
-        .chain(current.flag_rates.keys())
-        .collect();
-    for code in codes {
-        let b = baseline.flag_rates.get(code).copied().unwrap_or(0.0) * 100.0;
-        let c = current.flag_rates.get(code).copied().unwrap_or(0.0) * 100.0;
-        out.push((format!("rows flagged {code} (%)"), b, c, c - b));
-    }
-    out
+        let v = c.f64().map_err(|e| format!("{}: {e}", path.display()))?;
+        Ok(v.mean().unwrap_or(f64::NAN))
+    };
+    let flags: Vec<Option<String>> = df
+        .column("flags")
+        .and_then(|c| {
+            c.str()
+                .map(|s| s.iter().map(|x| x.map(str::to_string)).collect())
+        })
+        .map_err(|e| format!("{}: {e}", path.display()))?;
+    Ok(Term::new(
+        df.height(),
+        mean("recovery_pct")?,
+        mean("percent")?,
+        &flags,
+    ))
 }

@@ -159,6 +159,15 @@ impl Collector {
             Event::Sheet(data) => match tabulate(&data, columns, on_row) {
                 Ok(report) => {
                     self.tables_in_file += 1;
+                    if report.students == 0 {
+                        // read correctly, but worth a word: often the wrong tab or an unsaved file
+                        self.problems.push(Problem {
+                            file: report.source.clone(),
+                            sheet: report.sheet.clone(),
+                            message: "a header row and no submissions under it".into(),
+                            fatal: false,
+                        });
+                    }
                     self.sheets.push(report);
                 }
                 Err(problem) => self.problems.push(problem),

@@ -51,7 +51,8 @@ pub struct Cohort {
     names: Vec<String>,
     index: BTreeMap<String, u32>,
     rows: Vec<Row>,
-    places: Vec<String>,
+    /// Where each row came from: the interned "file [sheet]" and the spreadsheet row.
+    places: Vec<(u32, u32)>,
 }
 
 /// One line of section-comparison.csv.
@@ -96,6 +97,13 @@ pub struct Outlier {
 }
 
 impl Cohort {
+    /// "file [sheet] row N", as the report names a row.
+    fn place(&self, i: u32) -> String {
+        let (origin, row) = self.places[i as usize];
+        let origin = &self.names[origin as usize];
+        format!("{} row {row}", origin.trim_start_matches('\u{3}'))
+    }
+
     fn intern(&mut self, name: &str) -> u32 {
         if let Some(&i) = self.index.get(name) {
             return i;
@@ -125,11 +133,12 @@ impl Cohort {
                     crate::assess::calibration::apparatus_key(x)
                 ))
             });
-        let place = match &s.sheet {
-            Some(sheet) => format!("{} [{}] row {}", s.source, sheet, s.row),
-            None => format!("{} row {}", s.source, s.row),
+        let origin = match &s.sheet {
+            Some(sheet) => format!("\u{3}{} [{sheet}]", s.source),
+            None => format!("\u{3}{}", s.source),
         };
-        self.places.push(place);
+        let origin = self.intern(&origin);
+        self.places.push((origin, s.row));
         let v = |x: Option<f64>| x.filter(|v| v.is_finite()).unwrap_or(f64::NAN);
         self.rows.push(Row {
             section,
@@ -333,7 +342,7 @@ impl Cohort {
                     if z.abs() > crate::assess::OUTLIER_Z {
                         out.push(Outlier {
                             section: self.name(section).to_string(),
-                            place: self.places[r.where_ as usize].clone(),
+                            place: self.place(r.where_),
                             measure,
                             value: r.values[m],
                             robust_z: z,

@@ -222,11 +222,11 @@ fn pseudonymized_export_needs_a_key_and_hides_names() {
 
 #[test]
 fn parquet_results_and_a_baseline_term() {
-    use benchgrade::export::parquet::Term;
+    use benchgrade::export::parquet::read_term;
     let f = Fixture::new();
     grade(&f);
     let rows = read_results(&f.path("out/results.csv"));
-    let term = Term::from_parquet(&f.path("out/results.parquet")).unwrap();
+    let term = read_term(&f.path("out/results.parquet")).unwrap();
     assert_eq!(term.rows, rows.len());
     let rec: Vec<f64> = rows.iter().filter_map(|r| num(r, "recovery_pct")).collect();
     let mean = rec.iter().sum::<f64>() / rec.len() as f64;

@@ -1,5 +1,6 @@
 //! The one integration-test binary: the real `benchgrade` run on fixtures and sample data.
 
+mod bad_corpus;
 mod bad_input;
 mod cohort;
 mod grading;
