@@ -475,6 +475,7 @@ pub fn grade_with_progress(
             config.out_dir.display()
         ))
     })?;
+    crate::export::atomic::sweep_stale_partials(&config.out_dir);
     let ids = config.rubric.criterion_ids();
     let mut csv = ResultsCsv::create(&outputs[0], &ids)?;
     let mut json = ResultsJson::create(&outputs[1])?;

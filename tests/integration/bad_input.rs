@@ -277,3 +277,76 @@ fn an_output_that_would_overwrite_an_input_is_refused() {
     let named = f.run(&["grade", "class.csv", "--out", "class.csv"]);
     assert_eq!(named.code, 2, "--out naming a file is refused");
 }
+
+#[test]
+fn a_run_killed_mid_write_leaves_the_previous_outputs() {
+    use benchgrade::export::provenance::sha256_file;
+    let f = Fixture::new();
+    f.write("small.csv", GOOD);
+    assert_eq!(f.run(&["grade", "small.csv", "--out", "out"]).code, 0);
+    let outputs = |dir: &std::path::Path| -> Vec<(String, String)> {
+        let mut v: Vec<(String, String)> = std::fs::read_dir(dir)
+            .unwrap()
+            .map(|e| e.unwrap().path())
+            .filter(|p| !p.to_string_lossy().ends_with(".partial"))
+            .map(|p| {
+                let h = sha256_file(&p).unwrap();
+                (p.file_name().unwrap().to_string_lossy().into_owned(), h)
+            })
+            .collect();
+        v.sort();
+        v
+    };
+    let before = outputs(&f.path("out"));
+    // a class big enough that the run is still writing when it is killed
+    let mut big = String::from("ID,Section,Crude mass (g),Recovered mass (g),MP\n");
+    for i in 0..40_000 {
+        big.push_str(&format!(
+            "s{i},S{},3.0,2.{},120.{}-121.8\n",
+            i % 6,
+            i % 9,
+            i % 7
+        ));
+    }
+    f.write("big.csv", big);
+    let mut child = std::process::Command::new(env!("CARGO_BIN_EXE_benchgrade"))
+        .args(["grade", "big.csv", "--out", "out", "--quiet"])
+        .current_dir(f.dir.path())
+        .stdout(std::process::Stdio::null())
+        .stderr(std::process::Stdio::null())
+        .spawn()
+        .unwrap();
+    // wait until some temporary output holds rows, then kill the process outright (SIGKILL)
+    let started = std::time::Instant::now();
+    let writing = || {
+        std::fs::read_dir(f.path("out")).unwrap().any(|e| {
+            let e = e.unwrap();
+            e.file_name().to_string_lossy().ends_with(".partial")
+                && e.metadata().is_ok_and(|m| m.len() > 100_000)
+        })
+    };
+    while !writing() && started.elapsed() < std::time::Duration::from_secs(120) {
+        assert!(
+            child.try_wait().unwrap().is_none(),
+            "finished before it could be killed"
+        );
+        std::thread::sleep(std::time::Duration::from_millis(2));
+    }
+    assert!(writing(), "never saw a temporary output being written");
+    child.kill().unwrap();
+    child.wait().unwrap();
+    assert_eq!(outputs(&f.path("out")), before, "a finished output changed");
+    // the next run sweeps the dead run's temporary files and writes its own outputs
+    assert_eq!(f.run(&["grade", "small.csv", "--out", "out"]).code, 0);
+    let leftovers = std::fs::read_dir(f.path("out"))
+        .unwrap()
+        .filter(|e| {
+            e.as_ref()
+                .unwrap()
+                .file_name()
+                .to_string_lossy()
+                .ends_with(".partial")
+        })
+        .count();
+    assert_eq!(leftovers, 0);
+}
