@@ -1,39 +1,67 @@
 #!/usr/bin/env bash
-# Benchmark: `benchgrade grade` on an invented 100,000-row, 8-section workbook against a bare
-# calamine read of the same file, run alternately in one session so that machine noise hits
-# both alike. Prints medians of wall time and peak memory, and their ratios.
+# The benchmark, side by side in one run so that machine noise hits every program alike.
+# On an invented class workbook (examples/make_class.rs) it times, alternately:
+#   grade      benchgrade grade, every output
+#   nowb       benchgrade grade --skip-workbooks (the graded workbooks' share is grade - nowb)
+#   floor      examples/io_floor: calamine reads every cell, rust_xlsxwriter writes them back
+#   write      examples/bare_write: rust_xlsxwriter writes the cells a graded workbook holds
+#   read       examples/bare_read: calamine reads every cell
+#   pandas     bench/pandas_peer.py: the same job in pandas (python-calamine, xlsxwriter)
+# then grades a class ten times the size once more for the scaling figure. Prints medians of
+# wall time, CPU time (user + system) and peak memory, and the ratios the issues set targets for.
 #
-#   bash bench/run.sh [ROWS] [SECTIONS] [REPEATS]
+#   bash bench/run.sh [ROWS] [SECTIONS] [REPEATS]      (defaults 100000 8 3)
+#   SCALE=0 bash bench/run.sh                          skips the tenfold class
 set -euo pipefail
 cd "$(dirname "$0")/.."
-rows=${1:-100000}; sections=${2:-8}; repeats=${3:-5}
+rows=${1:-100000}; sections=${2:-8}; repeats=${3:-3}
 work=$(mktemp -d); trap 'rm -rf "$work"' EXIT
-cargo build --release --quiet --bin benchgrade --example make_class --example bare_read --example bare_write
+cargo build --release --quiet --bin benchgrade \
+  --example make_class --example bare_read --example bare_write --example io_floor
 bin=target/release
 "$bin/examples/make_class" "$work/class.xlsx" "$rows" "$sections"
-echo "workbook: $rows rows, $sections sections, $(du -h "$work/class.xlsx" | cut -f1)"
+echo "class: $rows rows, $sections sections, $(du -h "$work/class.xlsx" | cut -f1)"
+peer=1
+python3 -c "import pandas, python_calamine, xlsxwriter, scipy" 2>/dev/null || {
+  peer=0; echo "pandas peer skipped: pip install pandas python-calamine xlsxwriter scipy"; }
 
-measure() { # prints "seconds kilobytes"
-  /usr/bin/time -f "%e %M" -o "$work/t" "$@" >/dev/null 2>&1 || true
-  cat "$work/t"
+measure() { # NAME COMMAND...: appends "wall cpu kilobytes" to $work/NAME
+  local name=$1; shift
+  /usr/bin/time -f "%e %U %S %M" -o "$work/t" "$@" >/dev/null 2>&1 || true
+  awk '{printf "%s %.2f %s\n", $1, $2 + $3, $4}' "$work/t" >> "$work/$name"
 }
-: > "$work/grade"; : > "$work/bare"; : > "$work/full"; : > "$work/write"
 for _ in $(seq "$repeats"); do
-  measure "$bin/examples/bare_read" "$work/class.xlsx" >> "$work/bare"
-  measure "$bin/benchgrade" grade "$work/class.xlsx" --out "$work/out" --quiet --skip-workbooks >> "$work/grade"
-  measure "$bin/benchgrade" grade "$work/class.xlsx" --out "$work/out-full" --quiet >> "$work/full"
-  measure "$bin/examples/bare_write" "$work/w.xlsx" "$rows" "$sections" >> "$work/write"
+  measure grade "$bin/benchgrade" grade "$work/class.xlsx" --out "$work/out" --quiet
+  measure floor "$bin/examples/io_floor" "$work/class.xlsx" "$work/floor.xlsx"
+  measure nowb "$bin/benchgrade" grade "$work/class.xlsx" --out "$work/out-nowb" --quiet --skip-workbooks
+  measure write "$bin/examples/bare_write" "$work/w.xlsx" "$rows" "$sections"
+  measure read "$bin/examples/bare_read" "$work/class.xlsx"
+  [ "$peer" = 1 ] && measure pandas python3 bench/pandas_peer.py "$work/class.xlsx" "$work/out-pandas"
 done
 median() { sort -n | awk '{a[NR]=$1} END {print a[int((NR+1)/2)]}'; }
 col() { cut -d' ' -f"$2" "$work/$1" | median; }
-bt=$(col bare 1); bm=$(col bare 2); gt=$(col grade 1); gm=$(col grade 2)
-ft=$(col full 1); fm=$(col full 2); wt=$(col write 1); wm=$(col write 2)
-printf '%-44s %8s s %8s MiB\n' "bare calamine read" "$bt" "$((bm / 1024))"
-printf '%-44s %8s s %8s MiB\n' "grade, no workbooks (CSV, JSON, gradebook)" "$gt" "$((gm / 1024))"
-printf '%-44s %8s s %8s MiB\n' "grade, every output" "$ft" "$((fm / 1024))"
-printf '%-44s %8s s %8s MiB\n' "bare rust_xlsxwriter write of the same cells" "$wt" "$((wm / 1024))"
-awk -v g="$gt" -v b="$bt" -v f="$ft" -v w="$wt" -v gm="$gm" -v bm="$bm" 'BEGIN {
-  printf "grade without workbooks / bare read: time %.2fx, peak memory %.2fx\n", g/b, gm/bm
-  printf "workbook writing (every output - no workbooks) / bare write: %.2fx\n", (f-g)/w
+show() { printf '%-52s %7s s wall %7s s cpu %6s MiB\n' "$2" "$(col "$1" 1)" "$(col "$1" 2)" "$(($(col "$1" 3) / 1024))"; }
+show grade "benchgrade grade, every output"
+show nowb "benchgrade grade --skip-workbooks"
+show floor "I/O floor: calamine read + rust_xlsxwriter write-back"
+show write "bare rust_xlsxwriter write of a graded workbook's cells"
+show read "bare calamine read"
+[ "$peer" = 1 ] && show pandas "pandas peer"
+awk -v g="$(col grade 1)" -v gc="$(col grade 2)" -v gm="$(col grade 3)" \
+    -v n="$(col nowb 1)" -v nc="$(col nowb 2)" \
+    -v f="$(col floor 1)" -v fm="$(col floor 3)" \
+    -v w="$(col write 1)" -v wc="$(col write 2)" \
+    -v p="$([ "$peer" = 1 ] && col pandas 1 || echo 0)" 'BEGIN {
+  printf "end to end / I/O floor:           time %.2fx (target 1.3x), peak memory %.2fx (target 1.5x)\n", g/f, gm/fm
+  if (p > 0) printf "pandas peer / end to end:         %.1fx faster (target 8x)\n", p/g
+  printf "graded workbooks / bare write:    wall %.2fx, cpu %.2fx (target 1.3x)\n", (g-n)/w, (gc-nc)/wc
 }'
 echo "(medians of $repeats alternating runs; results rows: $(($(wc -l < "$work/out/results.csv") - 1)))"
+if [ "${SCALE:-1}" != 0 ]; then
+  big=$((rows * 10)); bigs=$((sections + 2))
+  "$bin/examples/make_class" "$work/big.xlsx" "$big" "$bigs"
+  measure big "$bin/benchgrade" grade "$work/big.xlsx" --out "$work/out-big" --quiet
+  show big "benchgrade grade, $big rows, $bigs sections"
+  awk -v b="$(col big 1)" -v g="$(col grade 1)" \
+    'BEGIN { printf "tenfold class / this class:       %.2fx the time (target 11x)\n", b/g }'
+fi
