@@ -545,9 +545,10 @@ pub fn grade_with_progress(
         &config.rubric_text,
         &provenance_files,
     );
+    let stats = std::sync::Arc::new(stats);
     let saving = match workbooks {
         Some(w) => Some(
-            w.finish(provenance.clone(), batch.files.clone())
+            w.finish(provenance.clone(), stats.clone(), batch.files.clone())
                 .map_err(book_error)?,
         ),
         None => None,

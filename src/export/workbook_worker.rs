@@ -3,11 +3,12 @@
 //! grading and every other output instead of following them.
 //!
 //! Rows travel in chunks through a bounded channel, so the thread holds only a few chunks
-//! however large the class. The thread keeps its own section statistics for the statistics
-//! sheet, from the same rows the main thread sees.
+//! however large the class. The statistics sheet's figures come from the main thread's section
+//! statistics, shared once every row has been sent.
 
 use std::path::PathBuf;
 use std::sync::mpsc::{channel, sync_channel, Receiver, Sender, SyncSender};
+use std::sync::Arc;
 use std::thread::JoinHandle;
 
 use super::provenance::Provenance;
@@ -26,6 +27,7 @@ enum Message {
     /// Every row has been sent: check the paths against `inputs`, answer on `reply`, then save.
     Finish {
         provenance: Provenance,
+        stats: Arc<SectionStats>,
         inputs: Vec<PathBuf>,
         reply: Sender<Result<(), WriteError>>,
     },
@@ -85,6 +87,7 @@ impl BookWorker {
     pub fn finish(
         mut self,
         provenance: Provenance,
+        stats: Arc<SectionStats>,
         inputs: Vec<PathBuf>,
     ) -> Result<Saving, BookError> {
         let chunk = std::mem::take(&mut self.pending);
@@ -94,6 +97,7 @@ impl BookWorker {
                 .tx
                 .send(Message::Finish {
                     provenance,
+                    stats,
                     inputs,
                     reply,
                 })
@@ -132,17 +136,16 @@ fn join(handle: JoinHandle<Result<Vec<PathBuf>, BookError>>) -> Result<Vec<PathB
 
 /// The thread: lays out rows as they come, then checks and saves.
 fn run(mut books: GradedWorkbooks, rx: Receiver<Message>) -> Result<Vec<PathBuf>, BookError> {
-    let mut stats = SectionStats::default();
     for message in rx {
         match message {
             Message::Rows(rows) => {
                 for g in &rows {
-                    stats.add(g);
                     books.row(g)?;
                 }
             }
             Message::Finish {
                 provenance,
+                stats,
                 inputs,
                 reply,
             } => {
