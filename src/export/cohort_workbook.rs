@@ -48,7 +48,7 @@ fn build(r: &Report, timestamp: i64) -> Result<Workbook, XlsxError> {
     }
 
     let ws = wb.add_worksheet().set_name("Sections")?;
-    let row = super::workbook::summary_table(ws, r.stats, |_| true, &bold)?;
+    let row = super::workbook_summary::summary_table(ws, r.stats, |_| true, &bold)?;
     ws.write_string(
         row + 1,
         0,

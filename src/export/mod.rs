@@ -18,6 +18,7 @@ pub mod results_csv;
 pub mod results_json;
 pub mod section_stats;
 pub mod workbook;
+pub mod workbook_summary;
 pub mod workbook_worker;
 
 /// Guards a text cell from student input against spreadsheet formula injection in CSV:

@@ -4,14 +4,14 @@
 //!
 //! Section sheets are written in rust_xlsxwriter's constant-memory mode as rows stream past, so a
 //! class of any size costs one row at a time; the statistics and provenance are added when the
-//! batch ends, and each workbook is saved to a temporary file and renamed into place.
+//! batch ends (`workbook_summary.rs`), and each workbook is saved to a temporary file and renamed
+//! into place.
 
 use std::collections::HashMap;
 use std::path::{Path, PathBuf};
 
 use rust_xlsxwriter::{
-    Chart, ChartType, Color, DocProperties, ExcelDateTime, Format, Note, Workbook, Worksheet,
-    XlsxError,
+    Color, DocProperties, ExcelDateTime, Format, Note, Workbook, Worksheet, XlsxError,
 };
 
 use super::provenance::Provenance;
@@ -19,8 +19,7 @@ use crate::assess::{Flag, Severity};
 use crate::error::WriteError;
 use crate::ingest::cells::Cell;
 use crate::rubric::score::Graded;
-use crate::stats::sections::{SectionStats, MEASURES};
-use crate::stats::{histogram, QUANTILE_DEFINITION};
+use crate::stats::sections::SectionStats;
 
 /// Our palette: impossible entries rose, suspicious ones amber; the flags column also carries
 /// a marker ("!" impossible, "?" suspicious) so that nothing depends on colour.
@@ -64,11 +63,11 @@ fn flagged_columns(f: Flag) -> &'static [usize] {
 }
 
 /// Formats: [number format][fill], number formats masses 0.000, temperatures and percentages 0.0.
-struct Formats {
-    cells: [[Format; 3]; 2],
-    text: [Format; 3],
-    header: Format,
-    bold: Format,
+pub(super) struct Formats {
+    pub(super) cells: [[Format; 3]; 2],
+    pub(super) text: [Format; 3],
+    pub(super) header: Format,
+    pub(super) bold: Format,
 }
 
 impl Formats {
@@ -149,21 +148,21 @@ pub fn file_stem(wanted: &str) -> String {
     }
 }
 
-struct SectionSheet {
-    index: usize,
-    name: String,
-    next_row: u32,
-    originals: usize,
-    notes: usize,
+pub(super) struct SectionSheet {
+    pub(super) index: usize,
+    pub(super) name: String,
+    pub(super) next_row: u32,
+    pub(super) originals: usize,
+    pub(super) notes: usize,
 }
 
-struct Book {
-    path: PathBuf,
-    workbook: Workbook,
-    sheets: Vec<SectionSheet>,
+pub(super) struct Book {
+    pub(super) path: PathBuf,
+    pub(super) workbook: Workbook,
+    pub(super) sheets: Vec<SectionSheet>,
     by_key: HashMap<(Option<String>, String), usize>,
-    names: Vec<String>,
-    sections: Vec<String>,
+    pub(super) names: Vec<String>,
+    pub(super) sections: Vec<String>,
 }
 
 /// The zip (deflate) level of graded workbooks: level 3 compresses a 100,000-row class about a
@@ -385,8 +384,14 @@ impl GradedWorkbooks {
                 ws.autofilter(0, 0, sheet.next_row.saturating_sub(1).max(1), last_col)
                     .map_err(e)?;
             }
-            statistics_sheet(&mut book, stats, &self.formats).map_err(e)?;
-            provenance_sheet(&mut book.workbook, provenance, &self.formats).map_err(e)?;
+            super::workbook_summary::statistics_sheet(&mut book, stats, &self.formats)
+                .map_err(e)?;
+            super::workbook_summary::provenance_sheet(
+                &mut book.workbook,
+                provenance,
+                &self.formats,
+            )
+            .map_err(e)?;
             let when = ExcelDateTime::from_timestamp(provenance.timestamp).map_err(e)?;
             let props = DocProperties::new()
                 .set_creation_datetime(&when)
@@ -506,7 +511,7 @@ fn write_graded_row(
     Ok(())
 }
 
-fn write_opt(ws: &mut Worksheet, r: u32, c: u16, v: f64) -> Result<(), XlsxError> {
+pub(super) fn write_opt(ws: &mut Worksheet, r: u32, c: u16, v: f64) -> Result<(), XlsxError> {
     if v.is_finite() {
         ws.write_number(r, c, v)?;
     }
@@ -515,198 +520,6 @@ fn write_opt(ws: &mut Worksheet, r: u32, c: u16, v: f64) -> Result<(), XlsxError
 
 /// The statistics sheet: the batch's figures for each section of this workbook, flag counts,
 /// rows left out, and native charts.
-fn statistics_sheet(book: &mut Book, stats: &SectionStats, f: &Formats) -> Result<(), XlsxError> {
-    let data_sheets: Vec<(String, u32, usize)> = book
-        .sheets
-        .iter()
-        .map(|s| (s.name.clone(), s.next_row, s.originals))
-        .collect();
-    let sections = book.sections.clone();
-    let ws = book.workbook.add_worksheet();
-    let name = sheet_name("Statistics", &book.names);
-    ws.set_name(&name)?;
-    ws.set_column_width(0, 16)?;
-    ws.set_column_width(1, 18)?;
-    let mut r = summary_table(ws, stats, |s| sections.iter().any(|x| x == s), &f.header)?;
-    r += 1;
-    ws.write_string(r, 0, format!("Statistics leave out rows with impossible entries; {QUANTILE_DEFINITION}; sd and ci95 use n - 1."))?;
-    r += 2;
-    ws.write_string_with_format(r, 0, "Flag counts", &f.bold)?;
-    r += 1;
-    for section in &sections {
-        if let Some(g) = stats.groups.get(section) {
-            for (code, n) in &g.flags {
-                ws.write_string(r, 0, section)?;
-                ws.write_string(r, 1, *code)?;
-                ws.write_number(r, 2, *n as f64)?;
-                r += 1;
-            }
-        }
-    }
-    r += 1;
-    ws.write_string_with_format(r, 0, "Rows left out of the statistics", &f.bold)?;
-    r += 1;
-    for section in &sections {
-        if let Some(g) = stats.groups.get(section) {
-            ws.write_string(r, 0, section)?;
-            ws.write_number(r, 2, g.excluded.len() as f64)?;
-            r += 1;
-            for e in &g.excluded {
-                ws.write_string(r, 1, e)?;
-                r += 1;
-            }
-        }
-    }
-    charts(ws, &name, &sections, stats, &data_sheets, r + 2)
-}
-
-/// The per-section statistics as a table from the top of `ws`, for the sections `keep` accepts;
-/// returns the first row after it. Shared by the graded and the cohort workbooks.
-pub(crate) fn summary_table(
-    ws: &mut Worksheet,
-    stats: &SectionStats,
-    keep: impl Fn(&str) -> bool,
-    header: &Format,
-) -> Result<u32, XlsxError> {
-    for (c, h) in crate::stats::SUMMARY_COLUMNS.iter().enumerate() {
-        ws.write_string_with_format(0, c as u16, *h, header)?;
-    }
-    let mut r = 1;
-    for (section, measure, summary) in stats.summaries().into_iter().filter(|(s, _, _)| keep(s)) {
-        ws.write_string(r, 0, section)?;
-        ws.write_string(r, 1, measure)?;
-        ws.write_number(r, 2, summary.as_ref().map_or(0.0, |s| s.n as f64))?;
-        for (i, v) in summary.iter().flat_map(|s| s.values()).enumerate() {
-            write_opt(ws, r, 3 + i as u16, v)?;
-        }
-        r += 1;
-    }
-    Ok(r)
-}
-
-/// Histograms binned by us (the writer has no histogram type), drawn as column charts, and a
-/// scatter of recovery against range width read from the section sheets.
-fn charts(
-    ws: &mut Worksheet,
-    name: &str,
-    sections: &[String],
-    stats: &SectionStats,
-    data: &[(String, u32, usize)],
-    start: u32,
-) -> Result<(), XlsxError> {
-    let recovery_i = MEASURES
-        .iter()
-        .position(|m| *m == "recovery_pct")
-        .unwrap_or(0);
-    let score_i = MEASURES.iter().position(|m| *m == "score").unwrap_or(4);
-    let mut r = start;
-    ws.write_string(r, 0, "Recovery bins (%)")?;
-    let bins = histogram(&[], 0.0, 10.0, 11);
-    for (i, (lo, hi, _)) in bins.iter().enumerate() {
-        ws.write_string(r + 1 + i as u32, 0, format!("{lo:.0}-{hi:.0}"))?;
-    }
-    let mut recovery = Chart::new(ChartType::Column);
-    recovery
-        .title()
-        .set_name("Recovery by section (rows without impossible entries)");
-    recovery.x_axis().set_name("Recovery (%)");
-    recovery.y_axis().set_name("Students");
-    let mut score = Chart::new(ChartType::Column);
-    score.title().set_name("Score distribution");
-    score.x_axis().set_name("Score (% of maximum, bins of 10)");
-    score.y_axis().set_name("Students");
-    ws.write_string(r, 14, "Score bins")?;
-    for i in 0..11 {
-        ws.write_string(r + 1 + i, 14, format!("{}-{}", i * 10, i * 10 + 10))?;
-    }
-    for (k, section) in sections.iter().enumerate() {
-        let Some(g) = stats.groups.get(section) else {
-            continue;
-        };
-        let col = 1 + k as u16;
-        ws.write_string(r, col, section)?;
-        for (i, (_, _, n)) in histogram(&g.values[recovery_i], 0.0, 10.0, 11)
-            .iter()
-            .enumerate()
-        {
-            ws.write_number(r + 1 + i as u32, col, *n as f64)?;
-        }
-        recovery
-            .add_series()
-            .set_name(section.as_str())
-            .set_categories((name, r + 1, 0, r + 11, 0))
-            .set_values((name, r + 1, col, r + 11, col));
-        let scol = 15 + k as u16;
-        ws.write_string(r, scol, section)?;
-        for (i, (_, _, n)) in histogram(&g.values[score_i], 0.0, 10.0, 11)
-            .iter()
-            .enumerate()
-        {
-            ws.write_number(r + 1 + i as u32, scol, *n as f64)?;
-        }
-        score
-            .add_series()
-            .set_name(section.as_str())
-            .set_categories((name, r + 1, 14, r + 11, 14))
-            .set_values((name, r + 1, scol, r + 11, scol));
-    }
-    let mut scatter = Chart::new(ChartType::Scatter);
-    scatter.title().set_name("Recovery against range width");
-    scatter.x_axis().set_name("Range width (°C)");
-    scatter.y_axis().set_name("Recovery (%)");
-    for (sheet, rows, originals) in data {
-        if *rows < 2 {
-            continue;
-        }
-        let width_col = (*originals + 5) as u16;
-        let rec_col = (*originals + 4) as u16;
-        scatter
-            .add_series()
-            .set_name(sheet.as_str())
-            .set_categories((sheet.as_str(), 1, width_col, rows - 1, width_col))
-            .set_values((sheet.as_str(), 1, rec_col, rows - 1, rec_col));
-    }
-    r += 14;
-    ws.insert_chart(r, 0, &recovery)?;
-    ws.insert_chart(r, 8, &score)?;
-    ws.insert_chart(r + 16, 0, &scatter)?;
-    Ok(())
-}
-
-fn provenance_sheet(wb: &mut Workbook, p: &Provenance, f: &Formats) -> Result<(), XlsxError> {
-    let ws = wb.add_worksheet();
-    ws.set_name("Provenance")?;
-    ws.set_column_width(0, 22)?;
-    ws.set_column_width(1, 60)?;
-    ws.set_column_width(2, 68)?;
-    let mut r = 0;
-    for (k, v) in [
-        ("tool", format!("benchgrade {}", p.version)),
-        ("graded at (UTC)", p.time_text.clone()),
-        ("rubric", p.rubric.clone()),
-        ("rubric SHA-256", p.rubric_sha256.clone()),
-    ] {
-        ws.write_string_with_format(r, 0, k, &f.bold)?;
-        ws.write_string(r, 1, &v)?;
-        r += 1;
-    }
-    r += 1;
-    ws.write_string_with_format(r, 0, "input", &f.bold)?;
-    ws.write_string_with_format(r, 2, "SHA-256", &f.bold)?;
-    r += 1;
-    for (file, sha) in &p.inputs {
-        ws.write_string(r, 1, file)?;
-        ws.write_string(r, 2, sha)?;
-        r += 1;
-    }
-    r += 1;
-    for note in &p.notes {
-        ws.write_string(r, 0, note)?;
-        r += 1;
-    }
-    Ok(())
-}
-
 #[cfg(test)]
 mod tests {
     use super::*;

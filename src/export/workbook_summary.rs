@@ -1,0 +1,210 @@
+//! The sheets that close every graded workbook: the statistics of each section with native
+//! charts, and the provenance (tool, rubric and inputs with their SHA-256, time of grading).
+//! Added once the batch has ended, when the statistics are known.
+
+use rust_xlsxwriter::{Chart, ChartType, Format, Workbook, Worksheet, XlsxError};
+
+use super::provenance::Provenance;
+use super::workbook::{sheet_name, write_opt, Book, Formats};
+use crate::stats::sections::{SectionStats, MEASURES};
+use crate::stats::{histogram, QUANTILE_DEFINITION};
+
+pub(super) fn statistics_sheet(
+    book: &mut Book,
+    stats: &SectionStats,
+    f: &Formats,
+) -> Result<(), XlsxError> {
+    let data_sheets: Vec<(String, u32, usize)> = book
+        .sheets
+        .iter()
+        .map(|s| (s.name.clone(), s.next_row, s.originals))
+        .collect();
+    let sections = book.sections.clone();
+    let ws = book.workbook.add_worksheet();
+    let name = sheet_name("Statistics", &book.names);
+    ws.set_name(&name)?;
+    ws.set_column_width(0, 16)?;
+    ws.set_column_width(1, 18)?;
+    let mut r = summary_table(ws, stats, |s| sections.iter().any(|x| x == s), &f.header)?;
+    r += 1;
+    ws.write_string(r, 0, format!("Statistics leave out rows with impossible entries; {QUANTILE_DEFINITION}; sd and ci95 use n - 1."))?;
+    r += 2;
+    ws.write_string_with_format(r, 0, "Flag counts", &f.bold)?;
+    r += 1;
+    for section in &sections {
+        if let Some(g) = stats.groups.get(section) {
+            for (code, n) in &g.flags {
+                ws.write_string(r, 0, section)?;
+                ws.write_string(r, 1, *code)?;
+                ws.write_number(r, 2, *n as f64)?;
+                r += 1;
+            }
+        }
+    }
+    r += 1;
+    ws.write_string_with_format(r, 0, "Rows left out of the statistics", &f.bold)?;
+    r += 1;
+    for section in &sections {
+        if let Some(g) = stats.groups.get(section) {
+            ws.write_string(r, 0, section)?;
+            ws.write_number(r, 2, g.excluded.len() as f64)?;
+            r += 1;
+            for e in &g.excluded {
+                ws.write_string(r, 1, e)?;
+                r += 1;
+            }
+        }
+    }
+    charts(ws, &name, &sections, stats, &data_sheets, r + 2)
+}
+
+/// The per-section statistics as a table from the top of `ws`, for the sections `keep` accepts;
+/// returns the first row after it. Shared by the graded and the cohort workbooks.
+pub(crate) fn summary_table(
+    ws: &mut Worksheet,
+    stats: &SectionStats,
+    keep: impl Fn(&str) -> bool,
+    header: &Format,
+) -> Result<u32, XlsxError> {
+    for (c, h) in crate::stats::SUMMARY_COLUMNS.iter().enumerate() {
+        ws.write_string_with_format(0, c as u16, *h, header)?;
+    }
+    let mut r = 1;
+    for (section, measure, summary) in stats.summaries().into_iter().filter(|(s, _, _)| keep(s)) {
+        ws.write_string(r, 0, section)?;
+        ws.write_string(r, 1, measure)?;
+        ws.write_number(r, 2, summary.as_ref().map_or(0.0, |s| s.n as f64))?;
+        for (i, v) in summary.iter().flat_map(|s| s.values()).enumerate() {
+            write_opt(ws, r, 3 + i as u16, v)?;
+        }
+        r += 1;
+    }
+    Ok(r)
+}
+
+/// Histograms binned by us (the writer has no histogram type), drawn as column charts, and a
+/// scatter of recovery against range width read from the section sheets.
+fn charts(
+    ws: &mut Worksheet,
+    name: &str,
+    sections: &[String],
+    stats: &SectionStats,
+    data: &[(String, u32, usize)],
+    start: u32,
+) -> Result<(), XlsxError> {
+    let recovery_i = MEASURES
+        .iter()
+        .position(|m| *m == "recovery_pct")
+        .unwrap_or(0);
+    let score_i = MEASURES.iter().position(|m| *m == "score").unwrap_or(4);
+    let mut r = start;
+    ws.write_string(r, 0, "Recovery bins (%)")?;
+    let bins = histogram(&[], 0.0, 10.0, 11);
+    for (i, (lo, hi, _)) in bins.iter().enumerate() {
+        ws.write_string(r + 1 + i as u32, 0, format!("{lo:.0}-{hi:.0}"))?;
+    }
+    let mut recovery = Chart::new(ChartType::Column);
+    recovery
+        .title()
+        .set_name("Recovery by section (rows without impossible entries)");
+    recovery.x_axis().set_name("Recovery (%)");
+    recovery.y_axis().set_name("Students");
+    let mut score = Chart::new(ChartType::Column);
+    score.title().set_name("Score distribution");
+    score.x_axis().set_name("Score (% of maximum, bins of 10)");
+    score.y_axis().set_name("Students");
+    ws.write_string(r, 14, "Score bins")?;
+    for i in 0..11 {
+        ws.write_string(r + 1 + i, 14, format!("{}-{}", i * 10, i * 10 + 10))?;
+    }
+    for (k, section) in sections.iter().enumerate() {
+        let Some(g) = stats.groups.get(section) else {
+            continue;
+        };
+        let col = 1 + k as u16;
+        ws.write_string(r, col, section)?;
+        for (i, (_, _, n)) in histogram(&g.values[recovery_i], 0.0, 10.0, 11)
+            .iter()
+            .enumerate()
+        {
+            ws.write_number(r + 1 + i as u32, col, *n as f64)?;
+        }
+        recovery
+            .add_series()
+            .set_name(section.as_str())
+            .set_categories((name, r + 1, 0, r + 11, 0))
+            .set_values((name, r + 1, col, r + 11, col));
+        let scol = 15 + k as u16;
+        ws.write_string(r, scol, section)?;
+        for (i, (_, _, n)) in histogram(&g.values[score_i], 0.0, 10.0, 11)
+            .iter()
+            .enumerate()
+        {
+            ws.write_number(r + 1 + i as u32, scol, *n as f64)?;
+        }
+        score
+            .add_series()
+            .set_name(section.as_str())
+            .set_categories((name, r + 1, 14, r + 11, 14))
+            .set_values((name, r + 1, scol, r + 11, scol));
+    }
+    let mut scatter = Chart::new(ChartType::Scatter);
+    scatter.title().set_name("Recovery against range width");
+    scatter.x_axis().set_name("Range width (°C)");
+    scatter.y_axis().set_name("Recovery (%)");
+    for (sheet, rows, originals) in data {
+        if *rows < 2 {
+            continue;
+        }
+        let width_col = (*originals + 5) as u16;
+        let rec_col = (*originals + 4) as u16;
+        scatter
+            .add_series()
+            .set_name(sheet.as_str())
+            .set_categories((sheet.as_str(), 1, width_col, rows - 1, width_col))
+            .set_values((sheet.as_str(), 1, rec_col, rows - 1, rec_col));
+    }
+    r += 14;
+    ws.insert_chart(r, 0, &recovery)?;
+    ws.insert_chart(r, 8, &score)?;
+    ws.insert_chart(r + 16, 0, &scatter)?;
+    Ok(())
+}
+
+pub(super) fn provenance_sheet(
+    wb: &mut Workbook,
+    p: &Provenance,
+    f: &Formats,
+) -> Result<(), XlsxError> {
+    let ws = wb.add_worksheet();
+    ws.set_name("Provenance")?;
+    ws.set_column_width(0, 22)?;
+    ws.set_column_width(1, 60)?;
+    ws.set_column_width(2, 68)?;
+    let mut r = 0;
+    for (k, v) in [
+        ("tool", format!("benchgrade {}", p.version)),
+        ("graded at (UTC)", p.time_text.clone()),
+        ("rubric", p.rubric.clone()),
+        ("rubric SHA-256", p.rubric_sha256.clone()),
+    ] {
+        ws.write_string_with_format(r, 0, k, &f.bold)?;
+        ws.write_string(r, 1, &v)?;
+        r += 1;
+    }
+    r += 1;
+    ws.write_string_with_format(r, 0, "input", &f.bold)?;
+    ws.write_string_with_format(r, 2, "SHA-256", &f.bold)?;
+    r += 1;
+    for (file, sha) in &p.inputs {
+        ws.write_string(r, 1, file)?;
+        ws.write_string(r, 2, sha)?;
+        r += 1;
+    }
+    r += 1;
+    for note in &p.notes {
+        ws.write_string(r, 0, note)?;
+        r += 1;
+    }
+    Ok(())
+}
