@@ -44,6 +44,14 @@ pub fn push_number(out: &mut String, v: Option<f64>) {
     let Some(x) = v.filter(|x| x.is_finite()) else {
         return;
     };
+    if x.fract() == 0.0 && x != 0.0 && x.abs() < 1e15 {
+        // whole numbers (points, totals, volumes) need no shortest-digits search
+        if x < 0.0 {
+            out.push('-');
+        }
+        crate::numtext::push_u64(out, x.abs() as u64);
+        return;
+    }
     let mut buf = ryu::Buffer::new();
     let s = buf.format_finite(x);
     if s.contains('e') {
@@ -83,6 +91,12 @@ mod tests {
             proptest::prop_assert_eq!(text.parse::<f64>().unwrap(), x);
             proptest::prop_assert!(!text.contains('e'));
             proptest::prop_assert_eq!(text.len(), format!("{x}").len());
+        }
+
+        #[test]
+        fn whole_numbers_as_display_writes_them(n in -(1i64 << 53)..(1i64 << 53), scale in 0u32..3) {
+            let x = n as f64 * 10f64.powi(scale as i32);
+            proptest::prop_assert_eq!(number(Some(x)), format!("{x}"));
         }
     }
 }

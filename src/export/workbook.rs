@@ -339,6 +339,9 @@ impl GradedWorkbooks {
             ws.set_column_format(base + i as u16, &self.formats.cells[*numfmt][0])
                 .map_err(e)?;
         }
+        // the total in bold, by column for the same reason
+        let total = base + (COMPUTED.len() + self.criteria.len()) as u16;
+        ws.set_column_format(total, &self.formats.bold).map_err(e)?;
         let index = book.workbook.worksheets().len() - 1;
         book.names.push(name.clone());
         if !book.sections.contains(&s.section) {
@@ -461,7 +464,7 @@ fn write_graded_row(
         ws.write_number(r, c, cs.points)?;
         c += 1;
     }
-    ws.write_number_with_format(r, c, g.score.total, &f.bold)?;
+    ws.write_number(r, c, g.score.total)?; // bold by its column's format
     ws.write_number(r, c + 1, g.score.max)?;
     if let Some(l) = &g.score.letter {
         ws.write_string(r, c + 2, l)?;

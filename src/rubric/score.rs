@@ -5,6 +5,7 @@ use super::criteria::{Criterion, Measure};
 use super::overrides::Override;
 use super::Rubric;
 use crate::assess::Assessed;
+use crate::numtext::Fast;
 
 /// One criterion's result.
 #[derive(Clone, Debug, PartialEq)]
@@ -86,30 +87,35 @@ pub fn rule_points(c: &Criterion, x: f64) -> f64 {
 fn describe(m: Measure, x: f64, a: &Assessed) -> String {
     let reference = a
         .reference_mp_c
-        .map(|r| format!(" ({r:.1} °C)"))
+        .map(|r| format!(" ({:.1} °C)", Fast(r)))
         .unwrap_or_default();
+    let v = Fast(x);
     match m {
-        Measure::RecoveryPct => format!("recovery {x:.1} %"),
+        Measure::RecoveryPct => format!("recovery {v:.1} %"),
         Measure::RangeWidthC => match (a.mp_onset_c, a.mp_clear_c) {
-            (Some(o), Some(c)) => format!("the range {o:.1}-{c:.1} °C is {x:.1} °C wide"),
-            _ => format!("the range is {x:.1} °C wide"),
+            (Some(o), Some(c)) => format!(
+                "the range {:.1}-{:.1} °C is {v:.1} °C wide",
+                Fast(o),
+                Fast(c)
+            ),
+            _ => format!("the range is {v:.1} °C wide"),
         },
         Measure::DepressionC if x >= 0.0 => {
-            format!("the clear point is {x:.1} °C below the literature value{reference}")
+            format!("the clear point is {v:.1} °C below the literature value{reference}")
         }
         Measure::DepressionC => format!(
             "the clear point is {:.1} °C above the literature value{reference}",
-            -x
+            Fast(-x)
         ),
-        Measure::PurityMolPct => format!("estimated purity {x:.1} mol %"),
-        Measure::ClearC => format!("clear point {x:.1} °C"),
+        Measure::PurityMolPct => format!("estimated purity {v:.1} mol %"),
+        Measure::ClearC => format!("clear point {v:.1} °C"),
         Measure::RecoveryOfCeilingPct => {
-            format!("recovery is {x:.0} % of the most that could crystallise")
+            format!("recovery is {v:.0} % of the most that could crystallise")
         }
         Measure::RecoveryReportErrorPct if x < 0.05 => {
             "the reported recovery matches the masses".to_string()
         }
-        Measure::RecoveryReportErrorPct => format!("the reported recovery is off by {x:.1} points"),
+        Measure::RecoveryReportErrorPct => format!("the reported recovery is off by {v:.1} points"),
     }
 }
 
