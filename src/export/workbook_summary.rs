@@ -121,32 +121,23 @@ fn charts(
         let Some(g) = stats.groups.get(section) else {
             continue;
         };
-        let col = 1 + k as u16;
-        ws.write_string(r, col, section)?;
-        for (i, (_, _, n)) in histogram(&g.values[recovery_i], 0.0, 10.0, 11)
-            .iter()
-            .enumerate()
-        {
-            ws.write_number(r + 1 + i as u32, col, *n as f64)?;
-        }
-        recovery
-            .add_series()
-            .set_name(section.as_str())
-            .set_categories((name, r + 1, 0, r + 11, 0))
-            .set_values((name, r + 1, col, r + 11, col));
-        let scol = 15 + k as u16;
-        ws.write_string(r, scol, section)?;
-        for (i, (_, _, n)) in histogram(&g.values[score_i], 0.0, 10.0, 11)
-            .iter()
-            .enumerate()
-        {
-            ws.write_number(r + 1 + i as u32, scol, *n as f64)?;
-        }
-        score
-            .add_series()
-            .set_name(section.as_str())
-            .set_categories((name, r + 1, 14, r + 11, 14))
-            .set_values((name, r + 1, scol, r + 11, scol));
+        let at = (name, r);
+        histogram_series(
+            ws,
+            &mut recovery,
+            at,
+            (0, 1 + k as u16),
+            section,
+            &g.values[recovery_i],
+        )?;
+        histogram_series(
+            ws,
+            &mut score,
+            at,
+            (14, 15 + k as u16),
+            section,
+            &g.values[score_i],
+        )?;
     }
     let mut scatter = Chart::new(ChartType::Scatter);
     scatter.title().set_name("Recovery against range width");
@@ -206,5 +197,27 @@ pub(super) fn provenance_sheet(
         ws.write_string(r, 0, note)?;
         r += 1;
     }
+    Ok(())
+}
+
+/// One section's column of 11 ten-wide bins from 0, written at `(row, column)` below its name
+/// and added to `chart` as a series over the bin labels in `columns.0`.
+fn histogram_series(
+    ws: &mut Worksheet,
+    chart: &mut Chart,
+    (sheet, r): (&str, u32),
+    (labels, col): (u16, u16),
+    section: &str,
+    values: &[f64],
+) -> Result<(), XlsxError> {
+    ws.write_string(r, col, section)?;
+    for (i, (_, _, n)) in histogram(values, 0.0, 10.0, 11).iter().enumerate() {
+        ws.write_number(r + 1 + i as u32, col, *n as f64)?;
+    }
+    chart
+        .add_series()
+        .set_name(section)
+        .set_categories((sheet, r + 1, labels, r + 11, labels))
+        .set_values((sheet, r + 1, col, r + 11, col));
     Ok(())
 }
