@@ -121,23 +121,14 @@ fn charts(
         let Some(g) = stats.groups.get(section) else {
             continue;
         };
-        let at = (name, r);
-        histogram_series(
-            ws,
-            &mut recovery,
-            at,
-            (0, 1 + k as u16),
-            section,
-            &g.values[recovery_i],
-        )?;
-        histogram_series(
-            ws,
-            &mut score,
-            at,
-            (14, 15 + k as u16),
-            section,
-            &g.values[score_i],
-        )?;
+        let columns = [
+            (&mut recovery, 0, 1, recovery_i),
+            (&mut score, 14, 15, score_i),
+        ];
+        for (chart, labels, first, measure) in columns {
+            let col = (labels, first + k as u16);
+            histogram_series(ws, chart, (name, r), col, section, &g.values[measure])?;
+        }
     }
     let mut scatter = Chart::new(ChartType::Scatter);
     scatter.title().set_name("Recovery against range width");
