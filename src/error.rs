@@ -56,6 +56,16 @@ pub struct WriteError {
     pub source: std::io::Error,
 }
 
+impl WriteError {
+    /// A failure reported by a writer library (a workbook or parquet writer) as text.
+    pub fn other(path: &std::path::Path, e: impl std::fmt::Display) -> WriteError {
+        WriteError {
+            path: path.to_path_buf(),
+            source: std::io::Error::other(e.to_string()),
+        }
+    }
+}
+
 /// Turns a byte span from a TOML error into a 1-based line and column.
 pub fn toml_location(text: &str, span: Option<std::ops::Range<usize>>) -> (usize, usize) {
     let Some(span) = span else { return (1, 1) };

@@ -363,21 +363,17 @@ pub fn output_paths(out_dir: &Path) -> [PathBuf; 3] {
 }
 
 fn refuse_overwriting_inputs(outputs: &[PathBuf], inputs: &[PathBuf]) -> Result<(), ConfigError> {
-    for o in outputs {
-        let Ok(target) = o.canonicalize() else {
-            continue;
-        };
-        if inputs
-            .iter()
-            .any(|i| i.canonicalize().is_ok_and(|c| c == target))
-        {
-            return Err(ConfigError::Invalid(format!(
-                "refusing to write {}: it is one of the inputs; choose another --out folder",
-                o.display()
-            )));
-        }
+    match crate::export::atomic::overwritten_input(outputs, inputs) {
+        Some(p) => Err(overwrite_refusal(&p)),
+        None => Ok(()),
     }
-    Ok(())
+}
+
+fn overwrite_refusal(output: &Path) -> ConfigError {
+    ConfigError::Invalid(format!(
+        "refusing to write {}: it is one of the inputs; choose another --out folder",
+        output.display()
+    ))
 }
 
 /// The letters in the rubric's order (highest cut-off first), with how many students earned each.
@@ -579,11 +575,7 @@ pub fn grade_with_progress(
 
 fn book_error(e: BookError) -> RunError {
     match e {
-        BookError::WouldOverwrite(p) => ConfigError::Invalid(format!(
-            "refusing to write {}: it is one of the inputs; choose another --out folder",
-            p.display()
-        ))
-        .into(),
+        BookError::WouldOverwrite(p) => overwrite_refusal(&p).into(),
         BookError::Write(w) => w.into(),
     }
 }

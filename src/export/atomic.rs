@@ -131,15 +131,32 @@ pub fn save_workbook(wb: &mut rust_xlsxwriter::Workbook, path: &Path) -> Result<
     let tmp = path.with_file_name(format!(".{name}.{}.partial", std::process::id()));
     if let Err(e) = wb.save(&tmp) {
         let _ = std::fs::remove_file(&tmp);
-        return Err(WriteError {
-            path: path.to_path_buf(),
-            source: std::io::Error::other(e.to_string()),
-        });
+        return Err(WriteError::other(path, e));
     }
     std::fs::rename(&tmp, path).map_err(|source| WriteError {
         path: path.to_path_buf(),
         source,
     })
+}
+
+/// The first output that is also one of the inputs (compared as canonical paths).
+pub fn overwritten_input(outputs: &[PathBuf], inputs: &[PathBuf]) -> Option<PathBuf> {
+    outputs.iter().find_map(|o| {
+        let target = o.canonicalize().ok()?;
+        inputs
+            .iter()
+            .any(|i| i.canonicalize().is_ok_and(|c| c == target))
+            .then(|| o.clone())
+    })
+}
+
+/// Flushes a CSV writer over an atomic file and renames the file into place.
+pub fn commit_csv(csv: csv::Writer<AtomicFile>, path: &Path) -> Result<(), WriteError> {
+    let file = csv.into_inner().map_err(|e| WriteError {
+        path: path.to_path_buf(),
+        source: e.into_error(),
+    })?;
+    file.commit()
 }
 
 /// Writes `path` atomically with what `fill` puts into the writer.

@@ -14,29 +14,45 @@ pub struct Term {
     pub flag_rates: BTreeMap<String, f64>,
 }
 
-impl Term {
-    pub fn new(rows: usize, recovery: f64, score: f64, flags: &[Option<String>]) -> Term {
-        let mut counts: BTreeMap<String, usize> = BTreeMap::new();
-        for f in flags.iter().flatten() {
-            for code in f.split(';').filter(|c| !c.is_empty()) {
-                *counts.entry(code.to_string()).or_default() += 1;
+/// Running sums for a term's headline figures, fed a row at a time: by results.parquet as it
+/// is written, and by the reader of an earlier term's file, so both add up alike.
+#[derive(Debug, Default)]
+pub struct TermTally {
+    rows: usize,
+    recovery: (f64, usize),
+    percent: (f64, usize),
+    flags: BTreeMap<String, usize>,
+}
+
+impl TermTally {
+    /// One row: its recovery, its score as a percentage, its flag codes separated by ';'.
+    pub fn add(&mut self, recovery: Option<f64>, percent: Option<f64>, flags: &str) {
+        self.rows += 1;
+        for (slot, v) in [(&mut self.recovery, recovery), (&mut self.percent, percent)] {
+            if let Some(v) = v.filter(|v| v.is_finite()) {
+                slot.0 += v;
+                slot.1 += 1;
             }
         }
-        Term::from_counts(rows, recovery, score, &counts)
+        for code in flags.split(';').filter(|c| !c.is_empty()) {
+            match self.flags.get_mut(code) {
+                Some(n) => *n += 1,
+                None => {
+                    self.flags.insert(code.to_string(), 1);
+                }
+            }
+        }
     }
 
-    pub fn from_counts(
-        rows: usize,
-        recovery: f64,
-        score: f64,
-        counts: &BTreeMap<String, usize>,
-    ) -> Term {
-        let n = rows.max(1) as f64;
+    pub fn term(&self) -> Term {
+        let mean = |(sum, n): (f64, usize)| if n == 0 { f64::NAN } else { sum / n as f64 };
+        let n = self.rows.max(1) as f64;
         Term {
-            rows,
-            mean_recovery_pct: recovery,
-            mean_score_pct: score,
-            flag_rates: counts
+            rows: self.rows,
+            mean_recovery_pct: mean(self.recovery),
+            mean_score_pct: mean(self.percent),
+            flag_rates: self
+                .flags
                 .iter()
                 .map(|(k, c)| (k.clone(), *c as f64 / n))
                 .collect(),

@@ -158,9 +158,6 @@ fn build(r: &Report, timestamp: i64) -> Result<Workbook, XlsxError> {
 
 /// Writes the cohort workbook atomically (temporary file, then rename).
 pub fn write(path: &Path, r: &Report, timestamp: i64) -> Result<(), WriteError> {
-    let mut wb = build(r, timestamp).map_err(|e| WriteError {
-        path: path.to_path_buf(),
-        source: std::io::Error::other(e.to_string()),
-    })?;
+    let mut wb = build(r, timestamp).map_err(|e| WriteError::other(path, e))?;
     super::atomic::save_workbook(&mut wb, path)
 }

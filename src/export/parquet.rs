@@ -5,7 +5,6 @@
 //! names.
 
 use std::cell::RefCell;
-use std::collections::BTreeMap;
 use std::io::Write;
 use std::path::{Path, PathBuf};
 use std::rc::Rc;
@@ -17,6 +16,7 @@ use super::pseudonym::Pseudonymizer;
 use crate::error::WriteError;
 use crate::rubric::score::Graded;
 
+use super::baseline::TermTally;
 pub use super::baseline::{compare, Term};
 
 const TEXT: [&str; 8] = [
@@ -85,48 +85,6 @@ impl Write for Shared {
     }
 }
 
-/// Running sums for `Term`.
-#[derive(Default)]
-struct TermTally {
-    rows: usize,
-    recovery: (f64, usize),
-    percent: (f64, usize),
-    flags: BTreeMap<String, usize>,
-}
-
-impl TermTally {
-    fn add(&mut self, recovery: Option<f64>, percent: f64, flags: &str) {
-        self.rows += 1;
-        for (slot, v) in [
-            (&mut self.recovery, recovery),
-            (&mut self.percent, Some(percent)),
-        ] {
-            if let Some(v) = v.filter(|v| v.is_finite()) {
-                slot.0 += v;
-                slot.1 += 1;
-            }
-        }
-        for code in flags.split(';').filter(|c| !c.is_empty()) {
-            match self.flags.get_mut(code) {
-                Some(n) => *n += 1,
-                None => {
-                    self.flags.insert(code.to_string(), 1);
-                }
-            }
-        }
-    }
-
-    fn term(&self) -> Term {
-        let mean = |(sum, n): (f64, usize)| if n == 0 { f64::NAN } else { sum / n as f64 };
-        Term::from_counts(
-            self.rows,
-            mean(self.recovery),
-            mean(self.percent),
-            &self.flags,
-        )
-    }
-}
-
 fn schema() -> Schema {
     let mut fields = vec![Field::new("row".into(), DataType::UInt32)];
     fields.extend(
@@ -152,7 +110,7 @@ impl ParquetRows {
             .with_row_group_size(Some(ROW_GROUP))
             .set_parallel(false)
             .batched(&schema())
-            .map_err(|e| polars_error(path, e))?;
+            .map_err(|e| WriteError::other(path, e))?;
         Ok(ParquetRows {
             writer,
             file,
@@ -179,7 +137,7 @@ impl ParquetRows {
         };
         let flags = a.flag_codes();
         let sc = &g.score;
-        self.term.add(a.recovery_pct, sc.percent, &flags);
+        self.term.add(a.recovery_pct, Some(sc.percent), &flags);
         let text = [
             Some(s.source.clone()),
             s.sheet.clone(),
@@ -233,34 +191,29 @@ impl ParquetRows {
             cols.push(Column::new((*k).into(), std::mem::take(v)));
         }
         let path = &self.path;
-        let df = DataFrame::new_infer_height(cols).map_err(|e| polars_error(path, e))?;
+        let df = DataFrame::new_infer_height(cols).map_err(|e| WriteError::other(path, e))?;
         self.writer
             .write_batch(&df)
-            .map_err(|e| polars_error(path, e))
+            .map_err(|e| WriteError::other(path, e))
     }
 
     /// Writes the last row group and the footer, and renames the file into place.
     pub fn finish(mut self) -> Result<(), WriteError> {
         self.flush()?;
         let path = self.path.clone();
-        self.writer.finish().map_err(|e| polars_error(&path, e))?;
+        self.writer
+            .finish()
+            .map_err(|e| WriteError::other(&path, e))?;
         let file = self.file.borrow_mut().take();
         match file {
             Some(f) => f.commit(),
-            None => Err(polars_error(&path, PolarsError::NoData("no file".into()))),
+            None => Err(WriteError::other(&path, "the file was already committed")),
         }
     }
 
     /// The term's headline figures, as `read_term` reads them back.
     pub fn term(&self) -> Term {
         self.term.term()
-    }
-}
-
-fn polars_error(path: &Path, e: PolarsError) -> WriteError {
-    WriteError {
-        path: path.to_path_buf(),
-        source: std::io::Error::other(e.to_string()),
     }
 }
 
@@ -274,24 +227,21 @@ pub fn read_term(path: &Path) -> Result<Term, String> {
             path.display()
         )
     })?;
-    let mean = |k: &str| -> Result<f64, String> {
-        let c = df
-            .column(k)
-            .map_err(|e| format!("{}: {e}", path.display()))?;
+    let column = |k: &str| df.column(k).map_err(|e| format!("{}: {e}", path.display()));
+    let numbers = |k: &str| -> Result<Vec<Option<f64>>, String> {
+        let c = column(k)?;
         let v = c.f64().map_err(|e| format!("{}: {e}", path.display()))?;
-        Ok(v.mean().unwrap_or(f64::NAN))
+        Ok(v.iter().collect())
     };
-    let flags: Vec<Option<String>> = df
-        .column("flags")
-        .and_then(|c| {
-            c.str()
-                .map(|s| s.iter().map(|x| x.map(str::to_string)).collect())
-        })
+    let recovery = numbers("recovery_pct")?;
+    let percent = numbers("percent")?;
+    let flags = column("flags")?;
+    let flags = flags
+        .str()
         .map_err(|e| format!("{}: {e}", path.display()))?;
-    Ok(Term::new(
-        df.height(),
-        mean("recovery_pct")?,
-        mean("percent")?,
-        &flags,
-    ))
+    let mut tally = TermTally::default();
+    for ((r, p), f) in recovery.into_iter().zip(percent).zip(flags.iter()) {
+        tally.add(r, p, f.unwrap_or(""));
+    }
+    Ok(tally.term())
 }

@@ -7,11 +7,12 @@ use super::pseudonym::Pseudonymizer;
 use crate::error::WriteError;
 use crate::rubric::score::Graded;
 
+use super::baseline::TermTally;
 pub use super::baseline::{compare, Term};
 
-/// Counts rows for the term figures; writes nothing.
+/// Keeps the term figures; writes nothing.
 pub struct ParquetRows {
-    rows: usize,
+    term: TermTally,
 }
 
 impl ParquetRows {
@@ -19,11 +20,15 @@ impl ParquetRows {
         _path: &Path,
         _pseudonyms: Option<Pseudonymizer>,
     ) -> Result<ParquetRows, WriteError> {
-        Ok(ParquetRows { rows: 0 })
+        Ok(ParquetRows {
+            term: TermTally::default(),
+        })
     }
 
-    pub fn add(&mut self, _g: &Graded) -> Result<(), WriteError> {
-        self.rows += 1;
+    pub fn add(&mut self, g: &Graded) -> Result<(), WriteError> {
+        let a = &g.assessed;
+        self.term
+            .add(a.recovery_pct, Some(g.score.percent), &a.flag_codes());
         Ok(())
     }
 
@@ -32,7 +37,7 @@ impl ParquetRows {
     }
 
     pub fn term(&self) -> Term {
-        Term::from_counts(self.rows, f64::NAN, f64::NAN, &Default::default())
+        self.term.term()
     }
 }
 

@@ -154,11 +154,6 @@ impl ResultsCsv {
     }
 
     pub fn finish(self) -> Result<(), WriteError> {
-        let path = self.path.clone();
-        let file = self.csv.into_inner().map_err(|e| WriteError {
-            path,
-            source: e.into_error(),
-        })?;
-        file.commit()
+        super::atomic::commit_csv(self.csv, &self.path)
     }
 }

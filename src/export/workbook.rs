@@ -190,10 +190,7 @@ pub struct GradedWorkbooks {
 }
 
 fn xerr(path: &Path, e: XlsxError) -> WriteError {
-    WriteError {
-        path: path.to_path_buf(),
-        source: std::io::Error::other(e.to_string()),
-    }
+    WriteError::other(path, e)
 }
 
 fn write_cell(ws: &mut Worksheet, row: u32, col: u16, cell: &Cell) -> Result<(), XlsxError> {

@@ -6,11 +6,12 @@
 //! however large the class. The statistics sheet's figures come from the main thread's section
 //! statistics, shared once every row has been sent.
 
-use std::path::PathBuf;
+use std::path::{Path, PathBuf};
 use std::sync::mpsc::{channel, sync_channel, Receiver, Sender, SyncSender};
 use std::sync::Arc;
 use std::thread::JoinHandle;
 
+use super::atomic::overwritten_input;
 use super::provenance::Provenance;
 use super::workbook::GradedWorkbooks;
 use crate::error::WriteError;
@@ -24,12 +25,13 @@ const QUEUED: usize = 4;
 
 enum Message {
     Rows(Vec<Graded>),
-    /// Every row has been sent: check the paths against `inputs`, answer on `reply`, then save.
+    /// Every row has been sent: check the paths against `inputs`, answer on `reply` if none
+    /// would overwrite one (else hang up), then save.
     Finish {
         provenance: Provenance,
         stats: Arc<SectionStats>,
         inputs: Vec<PathBuf>,
-        reply: Sender<Result<(), WriteError>>,
+        reply: Sender<()>,
     },
 }
 
@@ -102,19 +104,15 @@ impl BookWorker {
                     reply,
                 })
                 .is_ok();
-        let checked = if sent { answer.recv().ok() } else { None };
-        match checked {
-            Some(Ok(())) => Ok(Saving {
+        if sent && answer.recv().is_ok() {
+            return Ok(Saving {
                 handle: self.handle,
-            }),
-            // the thread stopped early or refused: its own result says why
-            _ => Err(join(self.handle).err().unwrap_or_else(|| {
-                BookError::Write(WriteError {
-                    path: PathBuf::from("graded workbooks"),
-                    source: std::io::Error::other("the workbook thread stopped"),
-                })
-            })),
+            });
         }
+        // the thread stopped early or refused: its own result says why
+        Err(join(self.handle)
+            .err()
+            .unwrap_or_else(|| thread_error("the workbook thread stopped")))
     }
 }
 
@@ -126,12 +124,13 @@ impl Saving {
 }
 
 fn join(handle: JoinHandle<Result<Vec<PathBuf>, BookError>>) -> Result<Vec<PathBuf>, BookError> {
-    handle.join().unwrap_or_else(|_| {
-        Err(BookError::Write(WriteError {
-            path: PathBuf::from("graded workbooks"),
-            source: std::io::Error::other("the workbook thread panicked"),
-        }))
-    })
+    handle
+        .join()
+        .unwrap_or_else(|_| Err(thread_error("the workbook thread panicked")))
+}
+
+fn thread_error(what: &str) -> BookError {
+    BookError::Write(WriteError::other(Path::new("graded workbooks"), what))
 }
 
 /// The thread: lays out rows as they come, then checks and saves.
@@ -150,27 +149,12 @@ fn run(mut books: GradedWorkbooks, rx: Receiver<Message>) -> Result<Vec<PathBuf>
                 reply,
             } => {
                 if let Some(p) = overwritten_input(&books.paths(), &inputs) {
-                    let _ = reply.send(Err(WriteError {
-                        path: p.clone(),
-                        source: std::io::Error::other("would overwrite an input"),
-                    }));
                     return Err(BookError::WouldOverwrite(p));
                 }
-                let _ = reply.send(Ok(()));
+                let _ = reply.send(());
                 return Ok(books.finish(&stats, &provenance)?);
             }
         }
     }
     Ok(Vec::new())
-}
-
-/// The first output that is also one of the inputs.
-fn overwritten_input(outputs: &[PathBuf], inputs: &[PathBuf]) -> Option<PathBuf> {
-    outputs.iter().find_map(|o| {
-        let target = o.canonicalize().ok()?;
-        inputs
-            .iter()
-            .any(|i| i.canonicalize().is_ok_and(|c| c == target))
-            .then(|| o.clone())
-    })
 }
