@@ -3,9 +3,7 @@
 //! a correct read or one clear message naming it, the contract's exit code, the good file still
 //! graded, no panic, nothing written outside --out and the input unchanged.
 
-use std::path::Path;
-
-use sha2::{Digest, Sha256};
+use benchgrade::export::provenance::sha256_file;
 
 use crate::harness::{flags, num, project_root, Fixture};
 
@@ -103,10 +101,6 @@ const CORPUS: &[Expect] = &[
     },
 ];
 
-fn sha256(path: &Path) -> Vec<u8> {
-    Sha256::digest(std::fs::read(path).unwrap()).to_vec()
-}
-
 /// Copies a corpus file into the fixture, grades it beside good.csv and checks what every file
 /// must give; returns the results rows.
 fn grade(e: &Expect) -> (Fixture, Vec<crate::harness::Record>) {
@@ -114,7 +108,7 @@ fn grade(e: &Expect) -> (Fixture, Vec<crate::harness::Record>) {
     let bytes = std::fs::read(project_root().join("tests/data/bad").join(e.file)).unwrap();
     let input = f.write(e.file, &bytes);
     f.write("good.csv", GOOD);
-    let before = sha256(&input);
+    let before = sha256_file(&input).expect("the input reads");
     let run = f.run(&[
         "grade",
         e.file,
@@ -133,7 +127,12 @@ fn grade(e: &Expect) -> (Fixture, Vec<crate::harness::Record>) {
             .find(|l| l.contains(e.file) && l.contains(e.message));
         assert!(line.is_some(), "no message naming the file: {what}");
     }
-    assert_eq!(sha256(&input), before, "{} was modified", e.file);
+    assert_eq!(
+        sha256_file(&input).expect("the input reads"),
+        before,
+        "{} was modified",
+        e.file
+    );
     let mut here: Vec<String> = std::fs::read_dir(f.dir.path())
         .unwrap()
         .map(|d| d.unwrap().file_name().into_string().unwrap())

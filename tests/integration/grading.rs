@@ -1,22 +1,13 @@
 //! Rubric grading end to end: both shipped rubrics on the sample data, `rubric check`,
 //! overrides, the gradebook and its guard against formula injection.
 
-use crate::harness::{num, project_root, read_results, run_in, Fixture};
+use crate::harness::{num, project_root, read_results, Fixture};
 
 fn grade_sample(f: &Fixture, rubric: &str, extra: &[&str]) -> crate::harness::Run {
-    let out = f.path("out");
-    let sample = project_root().join("sample-data");
     let rubric = project_root().join("rubrics").join(rubric);
-    let mut args = vec![
-        "grade",
-        sample.to_str().unwrap(),
-        "--rubric",
-        rubric.to_str().unwrap(),
-        "--out",
-        out.to_str().unwrap(),
-    ];
+    let mut args = vec!["--rubric", rubric.to_str().unwrap()];
     args.extend_from_slice(extra);
-    run_in(&project_root(), &args)
+    crate::harness::grade_sample(f, "out", &args)
 }
 
 #[test]

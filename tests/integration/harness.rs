@@ -111,3 +111,31 @@ pub fn by_id<'a>(rows: &'a [Record], id: &str) -> &'a Record {
 pub fn project_root() -> PathBuf {
     PathBuf::from(env!("CARGO_MANIFEST_DIR"))
 }
+
+/// `benchgrade grade sample-data --out F/OUT EXTRA...`, run from the project root as the
+/// README's first command is.
+pub fn grade_sample(f: &Fixture, out: &str, extra: &[&str]) -> Run {
+    let sample = project_root().join("sample-data");
+    let out = f.path(out);
+    let mut args = vec![
+        "grade",
+        sample.to_str().unwrap(),
+        "--out",
+        out.to_str().unwrap(),
+    ];
+    args.extend_from_slice(extra);
+    run_in(&project_root(), &args)
+}
+
+/// An outside program a check needs: `found`, or, when it is missing, a skip with a message
+/// saying what to install. In CI a missing program is a failure, since `.ci/run` installs it.
+pub fn outside_program<T>(found: Option<T>, what: &str, install: &str) -> Option<T> {
+    if found.is_none() {
+        assert!(
+            std::env::var_os("CI").is_none(),
+            "CI must install {what} (.ci/run does)"
+        );
+        eprintln!("skipped: {what} not found (install {install} to run this check)");
+    }
+    found
+}

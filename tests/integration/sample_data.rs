@@ -2,25 +2,12 @@
 
 use std::process::Command;
 
-use crate::harness::{flags, project_root, read_results, run_in, Fixture};
-
-fn grade_sample(out: &std::path::Path) -> crate::harness::Run {
-    let sample = project_root().join("sample-data");
-    run_in(
-        &project_root(),
-        &[
-            "grade",
-            sample.to_str().unwrap(),
-            "--out",
-            out.to_str().unwrap(),
-        ],
-    )
-}
+use crate::harness::{flags, grade_sample, project_root, read_results, run_in, Fixture};
 
 #[test]
 fn the_sample_data_shows_every_flag_and_passes_the_contract_checker() {
     let f = Fixture::new();
-    let run = grade_sample(&f.path("out"));
+    let run = grade_sample(&f, "out", &[]);
     assert_eq!(run.code, 0, "{}", run.stderr);
     let rows = read_results(&f.path("out/results.csv"));
     assert!(rows.len() >= 60);
@@ -71,8 +58,8 @@ fn the_sample_data_shows_every_flag_and_passes_the_contract_checker() {
 #[test]
 fn grading_twice_gives_byte_identical_outputs() {
     let f = Fixture::new();
-    assert_eq!(grade_sample(&f.path("a")).code, 0);
-    assert_eq!(grade_sample(&f.path("b")).code, 0);
+    assert_eq!(grade_sample(&f, "a", &[]).code, 0);
+    assert_eq!(grade_sample(&f, "b", &[]).code, 0);
     for name in ["results.csv", "results.json"] {
         let a = std::fs::read(f.path("a").join(name)).unwrap();
         let b = std::fs::read(f.path("b").join(name)).unwrap();
@@ -83,7 +70,7 @@ fn grading_twice_gives_byte_identical_outputs() {
 #[test]
 fn wet_and_impure_demo_rows() {
     let f = Fixture::new();
-    assert_eq!(grade_sample(&f.path("out")).code, 0);
+    assert_eq!(grade_sample(&f, "out", &[]).code, 0);
     let rows = read_results(&f.path("out/results.csv"));
     // recovery 104 %, 115-119 °C: wet, not impure
     let wet = rows
