@@ -1,6 +1,7 @@
 //! The thin binary: parse the command line, build the configuration, call the library,
 //! print, and map the outcome to the exit code of the contract (0, 1 or 2).
 
+mod alloc;
 mod cli;
 
 use std::io::{IsTerminal, Write};
@@ -200,6 +201,7 @@ fn usage_error(e: &dyn std::fmt::Display) -> Result<ExitCode> {
 }
 
 fn main() -> ExitCode {
+    alloc::tune_late();
     let cli = match Cli::try_parse() {
         Ok(c) => c,
         Err(e) => {
