@@ -20,6 +20,7 @@ use crate::export::{cohort_csv, cohort_workbook};
 use crate::export::{
     gradebook::Gradebook, results_csv::ResultsCsv, results_json::ResultsJson, section_stats,
 };
+use crate::ingest::spill::{Replay, SpillWriter};
 use crate::ingest::{self, discover, Collector, Problem, SheetReport};
 use crate::rubric::overrides::Override;
 use crate::rubric::score::{self, Graded, Score};
@@ -140,6 +141,8 @@ struct Inputs<'a> {
     calibration: Option<&'a Path>,
     /// Section centres from the first pass, for `outlier`.
     centres: Option<&'a Centres>,
+    /// The first pass's record of what it read, replayed instead of reading `files` again.
+    replay: Option<&'a Replay>,
 }
 
 impl<'a> Inputs<'a> {
@@ -147,28 +150,37 @@ impl<'a> Inputs<'a> {
     fn second_pass(
         files: &'a [PathBuf],
         calibration: Option<&'a Path>,
-        centres: &'a Centres,
+        first: &'a FirstPass,
     ) -> Inputs<'a> {
         Inputs {
             files,
             calibration,
-            centres: Some(centres),
+            centres: Some(&first.centres),
+            replay: first.replay.as_ref(),
         }
     }
 }
 
-/// Reads `files` on a reader thread and hands each assessed row to `on_row`, in batch order.
-/// Stops at the first error `on_row` returns.
+/// What the first pass learnt: the section centres, and its record of the inputs, if kept.
+struct FirstPass {
+    centres: Centres,
+    replay: Option<Replay>,
+}
+
+/// Reads `files` (or replays the first pass's record of them) on a reader thread and hands each
+/// assessed row to `on_row`, in batch order; `record` keeps what was read. Stops at the first
+/// error `on_row` returns.
 fn stream(
     config: &Config,
     inputs: &Inputs,
+    mut record: Option<&mut SpillWriter>,
     batch: &mut Batch,
     on_row: &mut dyn FnMut(Graded) -> Result<(), WriteError>,
     progress: &mut dyn FnMut(Progress),
 ) -> Result<(), RunError> {
     let rows_done = std::cell::Cell::new(0usize);
     let mut files_done = 0;
-    let (files, centres) = (inputs.files, inputs.centres);
+    let (files, centres, replay) = (inputs.files, inputs.centres, inputs.replay);
     let calibration = load_calibration(inputs.calibration, &mut batch.problems);
     let mut overrides = config.overrides.clone();
     let mut assessor = Assessor::new(context(config, calibration.as_ref(), centres));
@@ -177,6 +189,9 @@ fn stream(
     std::thread::scope(|scope| {
         let (tx, rx) = sync_channel(0);
         scope.spawn(move || {
+            if let Some(r) = replay {
+                return r.replay(&mut |e| tx.send(e).is_ok());
+            }
             for f in files {
                 let mut open = true;
                 ingest::read_file(f, &mut |e| open &= tx.send(e).is_ok());
@@ -207,6 +222,9 @@ fn stream(
         };
         for event in rx.iter() {
             let file_done = matches!(event, ingest::Event::FileDone(_));
+            if let Some(w) = record.as_deref_mut() {
+                w.record(&event);
+            }
             collector.handle(event, &config.columns, &mut handle_row);
             files_done += usize::from(file_done);
             progress(Progress {
@@ -234,13 +252,14 @@ fn stream(
 }
 
 /// The first pass: every section's median and MAD of recovery and depression, so that the
-/// second pass can flag outliers as it grades. It reads the inputs once more; nothing is kept
-/// but two numbers a row.
+/// second pass can flag outliers as it grades. Nothing is kept in memory but two numbers a row;
+/// given a folder, what was read is recorded there for the second pass to replay.
 fn section_centres(
     config: &Config,
     files: &[PathBuf],
     calibration_file: Option<&Path>,
-) -> Result<Centres, RunError> {
+    spill_dir: Option<&Path>,
+) -> Result<FirstPass, RunError> {
     let mut values: HashMap<String, [Vec<f64>; 2]> = HashMap::new();
     let mut scratch = Batch::default();
     let mut first_pass = config.clone();
@@ -249,10 +268,13 @@ fn section_centres(
         files,
         calibration: calibration_file,
         centres: None,
+        replay: None,
     };
+    let mut spill = spill_dir.and_then(SpillWriter::create);
     stream(
         &first_pass,
         &inputs,
+        spill.as_mut(),
         &mut scratch,
         &mut |g| {
             let a = &g.assessed;
@@ -270,7 +292,10 @@ fn section_centres(
         },
         &mut |_| {},
     )?;
-    Ok(Centres::from_values(&values))
+    Ok(FirstPass {
+        centres: Centres::from_values(&values),
+        replay: spill.and_then(SpillWriter::finish),
+    })
 }
 
 /// A file found in a folder whose name says it holds the apparatus calibration.
@@ -335,12 +360,13 @@ fn discover_inputs(config: &Config) -> (Batch, Option<PathBuf>) {
 pub fn assess_batch(config: &Config) -> Result<Batch, RunError> {
     let (mut batch, calibration) = discover_inputs(config);
     let files = std::mem::take(&mut batch.files);
-    let centres = section_centres(config, &files, calibration.as_deref())?;
-    let inputs = Inputs::second_pass(&files, calibration.as_deref(), &centres);
+    let first = section_centres(config, &files, calibration.as_deref(), None)?;
+    let inputs = Inputs::second_pass(&files, calibration.as_deref(), &first);
     let mut rows = Vec::new();
     stream(
         config,
         &inputs,
+        None,
         &mut batch,
         &mut |g| {
             rows.push(g);
@@ -505,11 +531,17 @@ pub fn grade_with_progress(
     )?;
     let mut letters: std::collections::BTreeMap<String, usize> = Default::default();
     let files = std::mem::take(&mut batch.files);
-    let centres = section_centres(config, &files, calibration.as_deref())?;
-    let inputs = Inputs::second_pass(&files, calibration.as_deref(), &centres);
+    let first = section_centres(
+        config,
+        &files,
+        calibration.as_deref(),
+        Some(&config.out_dir),
+    )?;
+    let inputs = Inputs::second_pass(&files, calibration.as_deref(), &first);
     stream(
         config,
         &inputs,
+        None,
         &mut batch,
         &mut |g| {
             stats.add(&g);

@@ -7,6 +7,7 @@ pub mod discover;
 pub mod headers;
 pub mod range;
 pub mod row;
+pub mod spill;
 pub mod submission;
 pub mod table;
 pub mod values;
@@ -54,6 +55,7 @@ pub struct SheetReport {
 }
 
 /// A sheet as read from a file, ready to be tabulated.
+#[derive(Debug)]
 pub struct SheetData {
     pub source: String,
     pub sheet: RawSheet,
@@ -64,6 +66,7 @@ pub struct SheetData {
 }
 
 /// What reading a file produces, in order: its sheets and problems, then `FileDone`.
+#[derive(Debug)]
 pub enum Event {
     Sheet(SheetData),
     Problem(Problem),
