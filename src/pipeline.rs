@@ -14,8 +14,10 @@ use crate::error::{ConfigError, WriteError};
 use crate::export::parquet::{self, ParquetRows};
 use crate::export::provenance::Provenance;
 use crate::export::report_html::{self, Report};
+use crate::export::row_thread::{Fanout, RowThread, Target};
+use crate::export::text_outputs::TextOutputs;
 use crate::export::workbook::GradedWorkbooks;
-use crate::export::workbook_worker::{BookError, BookWorker};
+use crate::export::workbook_worker::{self, BookError, BookWorker};
 use crate::export::{cohort_csv, cohort_workbook};
 use crate::export::{
     gradebook::Gradebook, results_csv::ResultsCsv, results_json::ResultsJson, section_stats,
@@ -498,31 +500,24 @@ pub fn grade_with_progress(
         ))
     })?;
     crate::export::atomic::sweep_stale_partials(&config.out_dir);
-    let ids = config.rubric.criterion_ids();
-    let mut csv = ResultsCsv::create(&outputs[0], &ids)?;
-    let mut json = ResultsJson::create(&outputs[1])?;
-    let mut book = Gradebook::create(&outputs[2])?;
-    let mut pseudo = match &config.pseudonyms {
-        Some(p) => Some(ResultsCsv::create_pseudonymized(
-            &config.out_dir.join("results-pseudonymized.csv"),
-            &ids,
-            p.clone(),
-        )?),
-        None => None,
-    };
+    let mut text = RowThread::spawn("text outputs", open_text_outputs(config, &outputs)?)
+        .map_err(|e| WriteError::other(&outputs[0], e))?;
     let labels = config
         .rubric
         .criteria
         .iter()
         .map(|c| c.label.clone())
         .collect();
-    let mut workbooks = (!config.skip_workbooks).then(|| {
-        BookWorker::spawn(GradedWorkbooks::new(
-            &config.out_dir,
-            config.split_sections,
-            labels,
-        ))
-    });
+    let workbooks = match config.skip_workbooks {
+        true => None,
+        false => Some(
+            BookWorker::spawn(
+                "graded workbooks",
+                GradedWorkbooks::new(&config.out_dir, config.split_sections, labels),
+            )
+            .map_err(|e| WriteError::other(&config.out_dir, e))?,
+        ),
+    };
     let mut stats = SectionStats::default();
     let mut cohort = Cohort::default();
     let mut parquet = ParquetRows::create(
@@ -538,6 +533,9 @@ pub fn grade_with_progress(
         Some(&config.out_dir),
     )?;
     let inputs = Inputs::second_pass(&files, calibration.as_deref(), &first);
+    let mut targets: Vec<&dyn Target> = vec![&text];
+    targets.extend(workbooks.as_ref().map(|w| w as &dyn Target));
+    let mut fan = Fanout::new(targets);
     stream(
         config,
         &inputs,
@@ -550,19 +548,14 @@ pub fn grade_with_progress(
             if let Some(l) = &g.score.letter {
                 *letters.entry(l.clone()).or_default() += 1;
             }
-            csv.row(&g)?;
-            if let Some(p) = pseudo.as_mut() {
-                p.row(&g)?;
-            }
-            json.row(&g)?;
-            book.row(&g)?;
-            if let Some(w) = workbooks.as_mut() {
-                w.row(g);
-            }
+            fan.row(g);
             Ok(())
         },
         progress,
     )?;
+    fan.flush();
+    drop(fan);
+    drop(first);
     batch.files = files;
     let mut provenance_files: Vec<&Path> = batch.files.iter().map(PathBuf::as_path).collect();
     provenance_files.extend(calibration.as_deref());
@@ -576,11 +569,13 @@ pub fn grade_with_progress(
     let stats = std::sync::Arc::new(stats);
     let saving = match workbooks {
         Some(w) => Some(
-            w.finish(provenance.clone(), stats.clone(), batch.files.clone())
+            workbook_worker::finish(w, provenance.clone(), stats.clone(), batch.files.clone())
                 .map_err(book_error)?,
         ),
         None => None,
     };
+    // the text outputs drain their queue and commit while the summaries are written here
+    text.start_finish(batch.problems.clone());
     section_stats::write(&config.out_dir.join("section-stats.csv"), &stats)?;
     let baseline = match &config.baseline {
         Some(file) => {
@@ -593,16 +588,35 @@ pub fn grade_with_progress(
     };
     parquet.finish()?;
     write_cohort(config, &cohort, &stats, &letters, &provenance, &baseline)?;
-    csv.finish()?;
-    if let Some(p) = pseudo {
-        p.finish()?;
-    }
-    json.finish(&batch.problems)?;
-    book.finish()?;
+    text.join().unwrap_or_else(|| {
+        Err(WriteError::other(
+            &outputs[0],
+            "the text outputs' thread stopped",
+        ))
+    })?;
     if let Some(s) = saving {
         s.wait().map_err(book_error)?;
     }
     Ok(batch)
+}
+
+/// results.csv, results.json, gradebook.csv and, with pseudonyms, results-pseudonymized.csv.
+fn open_text_outputs(config: &Config, outputs: &[PathBuf; 3]) -> Result<TextOutputs, WriteError> {
+    let ids = config.rubric.criterion_ids();
+    let pseudonymized = match &config.pseudonyms {
+        Some(p) => Some(ResultsCsv::create_pseudonymized(
+            &config.out_dir.join("results-pseudonymized.csv"),
+            &ids,
+            p.clone(),
+        )?),
+        None => None,
+    };
+    Ok(TextOutputs {
+        csv: ResultsCsv::create(&outputs[0], &ids)?,
+        pseudonymized,
+        json: ResultsJson::create(&outputs[1])?,
+        gradebook: Gradebook::create(&outputs[2])?,
+    })
 }
 
 fn book_error(e: BookError) -> RunError {

@@ -81,7 +81,7 @@ impl Centres {
 }
 
 /// A submission with its measures and findings.
-#[derive(Clone, Debug, Serialize)]
+#[derive(Clone, Debug, Default, Serialize)]
 pub struct Assessed {
     pub submission: Submission,
     /// The library's name for the compound, when found.

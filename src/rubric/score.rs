@@ -31,7 +31,7 @@ pub struct Score {
 }
 
 /// A row with its assessment and its grade.
-#[derive(Clone, Debug)]
+#[derive(Clone, Debug, Default)]
 pub struct Graded {
     pub assessed: Assessed,
     pub score: Score,
