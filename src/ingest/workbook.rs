@@ -197,6 +197,56 @@ where
     }
 }
 
+/// `read_all` on two threads: a helper opens its own copy of the workbook and reads every
+/// second sheet while this thread reads the others; sheets are still handed over in order, and
+/// at most one finished sheet waits on each thread. If the helper cannot open the file or
+/// stops, this thread reads the sheets it would have read.
+fn read_all_two<R, O, F>(
+    open: O,
+    read: F,
+    on_sheet: &mut dyn FnMut(SheetRead),
+) -> Result<(), String>
+where
+    R: Reader<BufReader<File>>,
+    O: Fn() -> Result<R, String> + Sync,
+    F: Fn(&mut R, &str) -> Result<RawSheet, String> + Sync,
+{
+    let mut wb = open()?;
+    let names = wb.sheet_names();
+    if names.len() < 2 || std::thread::available_parallelism().map_or(1, |n| n.get()) < 2 {
+        read_all(wb, read, on_sheet);
+        return Ok(());
+    }
+    std::thread::scope(|scope| {
+        let (tx, rx) = std::sync::mpsc::sync_channel::<SheetRead>(0);
+        let (names, open, read) = (&names, &open, &read);
+        scope.spawn(move || {
+            let Ok(mut own) = open() else { return };
+            for name in names.iter().skip(1).step_by(2) {
+                let result = read(&mut own, name);
+                if tx
+                    .send(SheetRead {
+                        name: name.clone(),
+                        result,
+                    })
+                    .is_err()
+                {
+                    return;
+                }
+            }
+        });
+        for (i, name) in names.iter().enumerate() {
+            let from_helper = if i % 2 == 1 { rx.recv().ok() } else { None };
+            let sheet = from_helper.unwrap_or_else(|| SheetRead {
+                name: name.clone(),
+                result: read(&mut wb, name),
+            });
+            on_sheet(sheet);
+        }
+    });
+    Ok(())
+}
+
 /// Opens a workbook and hands over each sheet as soon as it is read, so that only one sheet's
 /// cells are held at a time. `Err` when the file itself cannot be opened.
 pub fn read_workbook(
@@ -208,16 +258,17 @@ pub fn read_workbook(
         check_zip(path)?;
     }
     match format {
-        Format::Xlsx => read_all(
-            open_workbook::<Xlsx<_>, _>(path).map_err(describe)?,
+        // streamed formats hold one sheet at a time, so two sheets can be read at once
+        Format::Xlsx => read_all_two(
+            || open_workbook::<Xlsx<_>, _>(path).map_err(describe),
             stream_xlsx,
             on_sheet,
-        ),
-        Format::Xlsb => read_all(
-            open_workbook::<Xlsb<_>, _>(path).map_err(describe)?,
+        )?,
+        Format::Xlsb => read_all_two(
+            || open_workbook::<Xlsb<_>, _>(path).map_err(describe),
             stream_xlsb,
             on_sheet,
-        ),
+        )?,
         Format::Xls => read_all(
             open_workbook::<Xls<_>, _>(path).map_err(describe)?,
             dense,
@@ -230,4 +281,50 @@ pub fn read_workbook(
         ),
     }
     Ok(())
+}
+
+#[cfg(test)]
+mod tests {
+    use super::*;
+
+    /// A workbook of `n` sheets, sheet i holding i + 1 rows whose cells name their sheet.
+    fn workbook(n: usize) -> tempfile::TempDir {
+        let dir = tempfile::tempdir().unwrap();
+        let mut wb = rust_xlsxwriter::Workbook::new();
+        for i in 0..n {
+            let ws = wb.add_worksheet();
+            ws.set_name(format!("S{i}")).unwrap();
+            for r in 0..=i as u32 {
+                ws.write_string(r, 0, format!("sheet {i} row {r}")).unwrap();
+                ws.write_number(r, 1, r as f64).unwrap();
+            }
+        }
+        wb.save(dir.path().join("b.xlsx")).unwrap();
+        dir
+    }
+
+    fn read(path: &Path) -> Vec<(String, Vec<String>)> {
+        let mut seen = Vec::new();
+        read_workbook(path, Format::Xlsx, &mut |s| {
+            let rows = s.result.unwrap().rows;
+            let texts = rows.iter().map(|r| r.get(0).as_text().unwrap()).collect();
+            seen.push((s.name, texts));
+        })
+        .unwrap();
+        seen
+    }
+
+    #[test]
+    fn sheets_read_on_two_threads_arrive_in_workbook_order() {
+        for n in [1, 2, 5] {
+            let dir = workbook(n);
+            let seen = read(&dir.path().join("b.xlsx"));
+            assert_eq!(seen.len(), n);
+            for (i, (name, texts)) in seen.iter().enumerate() {
+                assert_eq!(name, &format!("S{i}"));
+                let want: Vec<String> = (0..=i).map(|r| format!("sheet {i} row {r}")).collect();
+                assert_eq!(texts, &want);
+            }
+        }
+    }
 }
