@@ -83,40 +83,58 @@ pub fn rule_points(c: &Criterion, x: f64) -> f64 {
     0.0
 }
 
-/// The measure in words, as the student reads it.
-fn describe(m: Measure, x: f64, a: &Assessed) -> String {
-    let reference = a
-        .reference_mp_c
-        .map(|r| format!(" ({:.1} °C)", Fast(r)))
-        .unwrap_or_default();
+/// The measure in words, as the student reads it, appended to `out`.
+fn describe(out: &mut String, m: Measure, x: f64, a: &Assessed) {
+    use std::fmt::Write as _;
     let v = Fast(x);
-    match m {
-        Measure::RecoveryPct => format!("recovery {v:.1} %"),
+    let reference = |out: &mut String| {
+        if let Some(r) = a.reference_mp_c {
+            let _ = write!(out, " ({:.1} °C)", Fast(r));
+        }
+    };
+    let _ = match m {
+        Measure::RecoveryPct => write!(out, "recovery {v:.1} %"),
         Measure::RangeWidthC => match (a.mp_onset_c, a.mp_clear_c) {
-            (Some(o), Some(c)) => format!(
+            (Some(o), Some(c)) => write!(
+                out,
                 "the range {:.1}-{:.1} °C is {v:.1} °C wide",
                 Fast(o),
                 Fast(c)
             ),
-            _ => format!("the range is {v:.1} °C wide"),
+            _ => write!(out, "the range is {v:.1} °C wide"),
         },
         Measure::DepressionC if x >= 0.0 => {
-            format!("the clear point is {v:.1} °C below the literature value{reference}")
+            let w = write!(
+                out,
+                "the clear point is {v:.1} °C below the literature value"
+            );
+            reference(out);
+            w
         }
-        Measure::DepressionC => format!(
-            "the clear point is {:.1} °C above the literature value{reference}",
-            Fast(-x)
-        ),
-        Measure::PurityMolPct => format!("estimated purity {v:.1} mol %"),
-        Measure::ClearC => format!("clear point {v:.1} °C"),
+        Measure::DepressionC => {
+            let w = write!(
+                out,
+                "the clear point is {:.1} °C above the literature value",
+                Fast(-x)
+            );
+            reference(out);
+            w
+        }
+        Measure::PurityMolPct => write!(out, "estimated purity {v:.1} mol %"),
+        Measure::ClearC => write!(out, "clear point {v:.1} °C"),
         Measure::RecoveryOfCeilingPct => {
-            format!("recovery is {v:.0} % of the most that could crystallise")
+            write!(
+                out,
+                "recovery is {v:.0} % of the most that could crystallise"
+            )
         }
         Measure::RecoveryReportErrorPct if x < 0.05 => {
-            "the reported recovery matches the masses".to_string()
+            write!(out, "the reported recovery matches the masses")
         }
-        Measure::RecoveryReportErrorPct => format!("the reported recovery is off by {v:.1} points"),
-    }
+        Measure::RecoveryReportErrorPct => {
+            write!(out, "the reported recovery is off by {v:.1} points")
+        }
+    };
 }
 
 fn missing_reason(m: Measure) -> &'static str {
@@ -131,35 +149,67 @@ fn missing_reason(m: Measure) -> &'static str {
 }
 
 fn points_text(v: f64) -> String {
-    crate::export::number(Some((v * 1e6).round() / 1e6))
+    let mut s = String::new();
+    push_points(&mut s, v);
+    s
+}
+
+/// Points as feedback writes them: the shortest text, rounded to a millionth of a point.
+fn push_points(out: &mut String, v: f64) {
+    crate::export::push_number(out, Some((v * 1e6).round() / 1e6));
+}
+
+/// The feedback of one row, sentence by sentence, in one string.
+#[derive(Default)]
+struct Feedback(String);
+
+impl Feedback {
+    /// Starts a sentence (after "; " unless it is the first) and returns the text to append to.
+    fn sentence(&mut self) -> &mut String {
+        if !self.0.is_empty() {
+            self.0.push_str("; ");
+        }
+        &mut self.0
+    }
 }
 
 /// Grades one assessed row.
 pub fn score(rubric: &Rubric, a: &Assessed, overrides: &[&Override]) -> Score {
     let g = &rubric.grading;
-    let mut sentences = Vec::new();
-    let mut criteria: Vec<CriterionScore> = Vec::new();
+    let mut feedback = Feedback::default();
+    let mut criteria: Vec<CriterionScore> = Vec::with_capacity(rubric.criteria.len());
     for c in &rubric.criteria {
         let max = *c.max.get_ref();
         let m = c.measure();
         let value = m.and_then(|m| measure_value(m, a));
-        let (points, what) = match (m, value) {
-            (Some(m), Some(x)) => (g.round(rule_points(c, x)), describe(m, x, a)),
-            (Some(m), None) => (c.if_missing, missing_reason(m).to_string()),
-            (None, _) => (0.0, "not scored".to_string()),
+        let out = feedback.sentence();
+        out.push_str(&c.label);
+        out.push_str(": ");
+        let points = match (m, value) {
+            (Some(m), Some(x)) => {
+                describe(out, m, x, a);
+                g.round(rule_points(c, x))
+            }
+            (Some(m), None) => {
+                out.push_str(missing_reason(m));
+                c.if_missing
+            }
+            (None, _) => {
+                out.push_str("not scored");
+                0.0
+            }
         };
+        out.push_str(", ");
+        push_points(out, points);
+        out.push_str(" of ");
+        push_points(out, max);
+        out.push_str(" points");
         criteria.push(CriterionScore {
             id: c.id.get_ref().clone(),
             label: c.label.clone(),
             points,
             max,
         });
-        sentences.push(format!(
-            "{}: {what}, {} of {} points",
-            c.label,
-            points_text(points),
-            points_text(max)
-        ));
     }
     let mut deduct = 0.0;
     let mut cap = f64::INFINITY;
@@ -188,7 +238,14 @@ pub fn score(rubric: &Rubric, a: &Assessed, overrides: &[&Override]) -> Score {
         } else {
             effects.join(", ")
         };
-        sentences.push(format!("Flag {}: {reason} ({effect})", flag.code()));
+        let out = feedback.sentence();
+        out.push_str("Flag ");
+        out.push_str(flag.code());
+        out.push_str(": ");
+        out.push_str(reason);
+        out.push_str(" (");
+        out.push_str(&effect);
+        out.push(')');
     }
     let mut applied = Vec::new();
     for o in overrides.iter().filter(|o| o.criterion.is_some()) {
@@ -211,23 +268,29 @@ pub fn score(rubric: &Rubric, a: &Assessed, overrides: &[&Override]) -> Score {
     }
     let percent = if max > 0.0 { 100.0 * total / max } else { 0.0 };
     let letter = g.letter(percent);
-    sentences.extend(applied.iter().map(|s| format!("Override: {s}")));
-    let grade = letter
-        .as_ref()
-        .map(|l| format!(" ({l})"))
-        .unwrap_or_default();
-    sentences.push(format!(
-        "Total {} of {}{grade}.",
-        points_text(total),
-        points_text(max)
-    ));
+    for s in &applied {
+        let out = feedback.sentence();
+        out.push_str("Override: ");
+        out.push_str(s);
+    }
+    let out = feedback.sentence();
+    out.push_str("Total ");
+    push_points(out, total);
+    out.push_str(" of ");
+    push_points(out, max);
+    if let Some(l) = &letter {
+        out.push_str(" (");
+        out.push_str(l);
+        out.push(')');
+    }
+    out.push('.');
     Score {
         criteria,
         total,
         max,
         percent,
         letter,
-        feedback: sentences.join("; "),
+        feedback: feedback.0,
         overrides: applied,
     }
 }
