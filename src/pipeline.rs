@@ -11,13 +11,14 @@ use std::collections::HashMap;
 use crate::assess::{calibration, Assessed, Assessor, Calibration, Centres, Context};
 use crate::config::Config;
 use crate::error::{ConfigError, WriteError};
+use crate::export::book_plan::BookPlan;
 use crate::export::parquet::{self, ParquetRows};
 use crate::export::provenance::Provenance;
 use crate::export::report_html::{self, Report};
 use crate::export::row_thread::{Fanout, RowThread, Target};
 use crate::export::text_outputs::TextOutputs;
 use crate::export::workbook::GradedWorkbooks;
-use crate::export::workbook_worker::{self, BookError, BookWorker};
+use crate::export::workbook_worker::{self, BookWorker};
 use crate::export::{cohort_csv, cohort_workbook};
 use crate::export::{
     gradebook::Gradebook, results_csv::ResultsCsv, results_json::ResultsJson, section_stats,
@@ -508,7 +509,8 @@ pub fn grade_with_progress(
         .iter()
         .map(|c| c.label.clone())
         .collect();
-    let workbooks = match config.skip_workbooks {
+    let mut plan = BookPlan::new(&config.out_dir, config.split_sections);
+    let mut workbooks = match config.skip_workbooks {
         true => None,
         false => Some(
             BookWorker::spawn(
@@ -548,6 +550,10 @@ pub fn grade_with_progress(
             if let Some(l) = &g.score.letter {
                 *letters.entry(l.clone()).or_default() += 1;
             }
+            plan.book(
+                &g.assessed.submission.source,
+                &g.assessed.submission.section,
+            );
             fan.row(g);
             Ok(())
         },
@@ -567,13 +573,10 @@ pub fn grade_with_progress(
         &provenance_files,
     );
     let stats = std::sync::Arc::new(stats);
-    let saving = match workbooks {
-        Some(w) => Some(
-            workbook_worker::finish(w, provenance.clone(), stats.clone(), batch.files.clone())
-                .map_err(book_error)?,
-        ),
-        None => None,
-    };
+    if let Some(w) = workbooks.as_mut() {
+        refuse_overwriting_inputs(plan.paths(), &batch.files)?;
+        workbook_worker::start_saving(w, provenance.clone(), stats.clone());
+    }
     // the text outputs drain their queue and commit while the summaries are written here
     text.start_finish(batch.problems.clone());
     section_stats::write(&config.out_dir.join("section-stats.csv"), &stats)?;
@@ -594,8 +597,8 @@ pub fn grade_with_progress(
             "the text outputs' thread stopped",
         ))
     })?;
-    if let Some(s) = saving {
-        s.wait().map_err(book_error)?;
+    if let Some(w) = workbooks {
+        workbook_worker::wait(w)?;
     }
     Ok(batch)
 }
@@ -617,11 +620,4 @@ fn open_text_outputs(config: &Config, outputs: &[PathBuf; 3]) -> Result<TextOutp
         json: ResultsJson::create(&outputs[1])?,
         gradebook: Gradebook::create(&outputs[2])?,
     })
-}
-
-fn book_error(e: BookError) -> RunError {
-    match e {
-        BookError::WouldOverwrite(p) => overwrite_refusal(&p).into(),
-        BookError::Write(w) => w.into(),
-    }
 }

@@ -2,6 +2,7 @@
 
 pub mod atomic;
 pub mod baseline;
+pub mod book_plan;
 pub mod check_report;
 pub mod cohort_csv;
 pub mod cohort_workbook;

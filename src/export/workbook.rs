@@ -10,6 +10,7 @@
 use std::collections::HashMap;
 use std::path::{Path, PathBuf};
 
+use super::book_plan::BookPlan;
 use rust_xlsxwriter::{
     Color, DocProperties, ExcelDateTime, Format, Note, Workbook, Worksheet, XlsxError,
 };
@@ -182,12 +183,9 @@ pub fn new_workbook() -> Workbook {
 
 /// The graded workbooks of a batch, open while rows stream past.
 pub struct GradedWorkbooks {
-    out_dir: PathBuf,
-    split_sections: bool,
     criteria: Vec<String>,
     books: Vec<Book>,
-    by_key: HashMap<String, usize>,
-    stems: Vec<String>,
+    plan: BookPlan,
     formats: Formats,
     /// (source, sheet, section, workbook, sheet) of the previous row.
     last: Option<(String, Option<String>, String, usize, usize)>,
@@ -218,12 +216,9 @@ impl GradedWorkbooks {
     /// `criteria`: the rubric's criterion labels, in order.
     pub fn new(out_dir: &Path, split_sections: bool, criteria: Vec<String>) -> GradedWorkbooks {
         GradedWorkbooks {
-            out_dir: out_dir.to_path_buf(),
-            split_sections,
             criteria,
             books: Vec::new(),
-            by_key: HashMap::new(),
-            stems: Vec::new(),
+            plan: BookPlan::new(out_dir, split_sections),
             formats: Formats::new(),
             last: None,
         }
@@ -232,42 +227,18 @@ impl GradedWorkbooks {
     /// The workbook a row belongs to, opened on first use.
     fn book_for(&mut self, g: &Graded) -> usize {
         let s = &g.assessed.submission;
-        let source_stem = Path::new(&s.source)
-            .file_stem()
-            .and_then(|x| x.to_str())
-            .unwrap_or("graded")
-            .to_string();
-        let key = if self.split_sections {
-            format!("{}\u{0}{}", s.source, s.section)
-        } else {
-            s.source.clone()
-        };
-        if let Some(&i) = self.by_key.get(&key) {
-            return i;
+        let (i, new) = self.plan.book(&s.source, &s.section);
+        if new {
+            self.books.push(Book {
+                path: self.plan.paths()[i].clone(),
+                workbook: new_workbook(),
+                sheets: Vec::new(),
+                by_key: HashMap::new(),
+                names: Vec::new(),
+                sections: Vec::new(),
+            });
         }
-        let wanted = if self.split_sections {
-            format!("{source_stem}-{}", s.section)
-        } else {
-            source_stem
-        };
-        let mut stem = file_stem(&wanted);
-        let mut n = 2;
-        while self.stems.contains(&stem) {
-            stem = format!("{}-{n}", file_stem(&wanted));
-            n += 1;
-        }
-        self.stems.push(stem.clone());
-        let book = Book {
-            path: self.out_dir.join(format!("{stem}-graded.xlsx")),
-            workbook: new_workbook(),
-            sheets: Vec::new(),
-            by_key: HashMap::new(),
-            names: Vec::new(),
-            sections: Vec::new(),
-        };
-        self.books.push(book);
-        self.by_key.insert(key, self.books.len() - 1);
-        self.books.len() - 1
+        i
     }
 
     fn header(&self, g: &Graded) -> Vec<String> {
@@ -410,7 +381,7 @@ impl GradedWorkbooks {
 
     /// The workbook paths planned so far.
     pub fn paths(&self) -> Vec<PathBuf> {
-        self.books.iter().map(|b| b.path.clone()).collect()
+        self.plan.paths().to_vec()
     }
 }
 

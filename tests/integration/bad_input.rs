@@ -279,6 +279,39 @@ fn an_output_that_would_overwrite_an_input_is_refused() {
 }
 
 #[test]
+fn a_graded_workbook_that_would_overwrite_an_input_is_refused() {
+    let f = Fixture::new();
+    f.write("a.csv", GOOD);
+    assert_eq!(f.run(&["grade", "a.csv", "--out", "out"]).code, 0);
+    // last run's graded workbook given as an input: this run would save a.csv's workbook over it
+    let input = f.path("out/a-graded.xlsx");
+    let before = std::fs::read(&input).unwrap();
+    let run = f.run(&["grade", "a.csv", "out/a-graded.xlsx", "--out", "out"]);
+    assert_eq!(run.code, 2, "{}", run.stderr);
+    assert!(
+        run.stderr.contains("refusing to write") && run.stderr.contains("a-graded.xlsx"),
+        "{}",
+        run.stderr
+    );
+    assert_eq!(
+        std::fs::read(&input).unwrap(),
+        before,
+        "the input is untouched"
+    );
+    let leftovers = std::fs::read_dir(f.path("out"))
+        .unwrap()
+        .filter(|e| {
+            e.as_ref()
+                .unwrap()
+                .file_name()
+                .to_string_lossy()
+                .ends_with(".partial")
+        })
+        .count();
+    assert_eq!(leftovers, 0);
+}
+
+#[test]
 fn a_run_killed_mid_write_leaves_the_previous_outputs() {
     use benchgrade::export::provenance::sha256_file;
     let f = Fixture::new();
