@@ -11,24 +11,15 @@ use std::collections::HashMap;
 use crate::assess::{calibration, Assessed, Assessor, Calibration, Centres, Context};
 use crate::config::Config;
 use crate::error::{ConfigError, WriteError};
-use crate::export::book_plan::BookPlan;
-use crate::export::parquet::{self, ParquetRows};
 use crate::export::provenance::Provenance;
-use crate::export::report_html::{self, Report};
-use crate::export::row_thread::{Fanout, RowThread, Target};
-use crate::export::text_outputs::TextOutputs;
-use crate::export::workbook::GradedWorkbooks;
-use crate::export::workbook_worker::{self, BookWorker};
-use crate::export::{cohort_csv, cohort_workbook};
-use crate::export::{
-    gradebook::Gradebook, results_csv::ResultsCsv, results_json::ResultsJson, section_stats,
-};
+use crate::export::row_thread::Fanout;
 use crate::ingest::spill::{Replay, SpillWriter};
 use crate::ingest::{self, discover, Collector, Problem, SheetReport};
 use crate::rubric::overrides::Override;
 use crate::rubric::score::{self, Graded, Score};
-use crate::stats::cohort::{BiasRule, Cohort};
-use crate::stats::sections::SectionStats;
+
+mod outputs;
+use outputs::{Tallies, Writers};
 
 /// Counts over the batch's rows.
 #[derive(Clone, Copy, Debug, Default, PartialEq, Eq)]
@@ -405,74 +396,6 @@ fn overwrite_refusal(output: &Path) -> ConfigError {
     ))
 }
 
-/// The letters in the rubric's order (highest cut-off first), with how many students earned each.
-fn letter_counts(
-    config: &Config,
-    counts: &std::collections::BTreeMap<String, usize>,
-) -> Vec<(String, usize)> {
-    let Some(cuts) = config.rubric.grading.letters.as_ref() else {
-        return Vec::new();
-    };
-    let mut order: Vec<(&String, &f64)> = cuts.get_ref().iter().collect();
-    order.sort_by(|a, b| b.1.total_cmp(a.1));
-    order
-        .into_iter()
-        .map(|(l, _)| (l.clone(), counts.get(l).copied().unwrap_or(0)))
-        .collect()
-}
-
-/// baseline-comparison.csv: metric, baseline, current, shift.
-fn write_baseline(path: &Path, rows: &[(String, f64, f64, f64)]) -> Result<(), WriteError> {
-    crate::export::atomic::write_atomic(path, |w| {
-        let mut csv = csv::Writer::from_writer(w);
-        csv.write_record(["metric", "baseline", "current", "shift"])?;
-        for (m, b, c, d) in rows {
-            let n = |v: f64| crate::export::number(Some(v));
-            csv.write_record([m.clone(), n(*b), n(*c), n(*d)])?;
-        }
-        csv.flush()
-    })
-}
-
-/// section-comparison.csv, bench-bias.csv and cohort-report.html.
-fn write_cohort(
-    config: &Config,
-    cohort: &Cohort,
-    stats: &SectionStats,
-    letters: &std::collections::BTreeMap<String, usize>,
-    provenance: &Provenance,
-    baseline: &[(String, f64, f64, f64)],
-) -> Result<(), WriteError> {
-    let comparisons = cohort.comparisons();
-    let bias = cohort.bench_bias(BiasRule::default());
-    let outliers = cohort.outliers();
-    cohort_csv::write_comparisons(&config.out_dir.join("section-comparison.csv"), &comparisons)?;
-    cohort_csv::write_bias(&config.out_dir.join("bench-bias.csv"), &bias)?;
-    let letters = letter_counts(config, letters);
-    let generated = format!(
-        "{} UTC from {} input files",
-        provenance.time_text,
-        provenance.inputs.len()
-    );
-    let report = Report {
-        title: &config.rubric.experiment.name,
-        generated: &generated,
-        cohort,
-        stats,
-        comparisons: &comparisons,
-        bias: &bias,
-        outliers: &outliers,
-        letters: &letters,
-        baseline,
-    };
-    cohort_workbook::write(
-        &config.out_dir.join("cohort-report.xlsx"),
-        &report,
-        config.timestamp,
-    )?;
-    report_html::write(&config.out_dir.join("cohort-report.html"), &report)
-}
-
 /// How far a run has come, for a progress display.
 #[derive(Clone, Copy, Debug, PartialEq, Eq)]
 pub struct Progress {
@@ -492,8 +415,8 @@ pub fn grade_with_progress(
     progress: &mut dyn FnMut(Progress),
 ) -> Result<Batch, RunError> {
     let (mut batch, calibration) = discover_inputs(config);
-    let outputs = output_paths(&config.out_dir);
-    refuse_overwriting_inputs(&outputs, &batch.files)?;
+    let paths = output_paths(&config.out_dir);
+    refuse_overwriting_inputs(&paths, &batch.files)?;
     std::fs::create_dir_all(&config.out_dir).map_err(|e| {
         ConfigError::Invalid(format!(
             "cannot create the output folder {}: {e}",
@@ -501,32 +424,8 @@ pub fn grade_with_progress(
         ))
     })?;
     crate::export::atomic::sweep_stale_partials(&config.out_dir);
-    let mut text = RowThread::spawn("text outputs", open_text_outputs(config, &outputs)?)
-        .map_err(|e| WriteError::other(&outputs[0], e))?;
-    let labels = config
-        .rubric
-        .criteria
-        .iter()
-        .map(|c| c.label.clone())
-        .collect();
-    let mut plan = BookPlan::new(&config.out_dir, config.split_sections);
-    let mut workbooks = match config.skip_workbooks {
-        true => None,
-        false => Some(
-            BookWorker::spawn(
-                "graded workbooks",
-                GradedWorkbooks::new(&config.out_dir, config.split_sections, labels),
-            )
-            .map_err(|e| WriteError::other(&config.out_dir, e))?,
-        ),
-    };
-    let mut stats = SectionStats::default();
-    let mut cohort = Cohort::default();
-    let mut parquet = ParquetRows::create(
-        &config.out_dir.join("results.parquet"),
-        config.pseudonyms.clone(),
-    )?;
-    let mut letters: std::collections::BTreeMap<String, usize> = Default::default();
+    let mut threads = Writers::spawn(config, &paths)?;
+    let mut tallies = Tallies::new(config)?;
     let files = std::mem::take(&mut batch.files);
     let first = section_centres(
         config,
@@ -535,25 +434,14 @@ pub fn grade_with_progress(
         Some(&config.out_dir),
     )?;
     let inputs = Inputs::second_pass(&files, calibration.as_deref(), &first);
-    let mut targets: Vec<&dyn Target> = vec![&text];
-    targets.extend(workbooks.as_ref().map(|w| w as &dyn Target));
-    let mut fan = Fanout::new(targets);
+    let mut fan = Fanout::new(threads.targets());
     stream(
         config,
         &inputs,
         None,
         &mut batch,
         &mut |g| {
-            stats.add(&g);
-            cohort.add(&g);
-            parquet.add(&g)?;
-            if let Some(l) = &g.score.letter {
-                *letters.entry(l.clone()).or_default() += 1;
-            }
-            plan.book(
-                &g.assessed.submission.source,
-                &g.assessed.submission.section,
-            );
+            tallies.add(&g)?;
             fan.row(g);
             Ok(())
         },
@@ -572,52 +460,10 @@ pub fn grade_with_progress(
         &config.rubric_text,
         &provenance_files,
     );
-    let stats = std::sync::Arc::new(stats);
-    if let Some(w) = workbooks.as_mut() {
-        refuse_overwriting_inputs(plan.paths(), &batch.files)?;
-        workbook_worker::start_saving(w, provenance.clone(), stats.clone());
-    }
-    // the text outputs drain their queue and commit while the summaries are written here
-    text.start_finish(batch.problems.clone());
-    section_stats::write(&config.out_dir.join("section-stats.csv"), &stats)?;
-    let baseline = match &config.baseline {
-        Some(file) => {
-            let earlier = parquet::read_term(file).map_err(ConfigError::Invalid)?;
-            let rows = parquet::compare(&earlier, &parquet.term());
-            write_baseline(&config.out_dir.join("baseline-comparison.csv"), &rows)?;
-            rows
-        }
-        None => Vec::new(),
-    };
-    parquet.finish()?;
-    write_cohort(config, &cohort, &stats, &letters, &provenance, &baseline)?;
-    text.join().unwrap_or_else(|| {
-        Err(WriteError::other(
-            &outputs[0],
-            "the text outputs' thread stopped",
-        ))
-    })?;
-    if let Some(w) = workbooks {
-        workbook_worker::wait(w)?;
-    }
+    refuse_overwriting_inputs(tallies.plan.paths(), &batch.files)?;
+    let stats = std::sync::Arc::new(std::mem::take(&mut tallies.stats));
+    threads.start_finish(&provenance, &stats, &batch.problems);
+    tallies.write_summaries(config, &stats, &provenance)?;
+    threads.wait()?;
     Ok(batch)
-}
-
-/// results.csv, results.json, gradebook.csv and, with pseudonyms, results-pseudonymized.csv.
-fn open_text_outputs(config: &Config, outputs: &[PathBuf; 3]) -> Result<TextOutputs, WriteError> {
-    let ids = config.rubric.criterion_ids();
-    let pseudonymized = match &config.pseudonyms {
-        Some(p) => Some(ResultsCsv::create_pseudonymized(
-            &config.out_dir.join("results-pseudonymized.csv"),
-            &ids,
-            p.clone(),
-        )?),
-        None => None,
-    };
-    Ok(TextOutputs {
-        csv: ResultsCsv::create(&outputs[0], &ids)?,
-        pseudonymized,
-        json: ResultsJson::create(&outputs[1])?,
-        gradebook: Gradebook::create(&outputs[2])?,
-    })
 }

@@ -1,0 +1,246 @@
+//! The outputs of a grading run, open while rows stream past: the writer threads (text outputs,
+//! graded workbooks) that take each row as it is graded, and the tallies the grading thread
+//! keeps for the summaries it writes at the end (section statistics, results.parquet, the
+//! baseline comparison and the cohort report).
+
+use std::collections::BTreeMap;
+use std::path::{Path, PathBuf};
+use std::sync::Arc;
+
+use crate::config::Config;
+use crate::error::{ConfigError, WriteError};
+use crate::export::book_plan::BookPlan;
+use crate::export::gradebook::Gradebook;
+use crate::export::parquet::{self, ParquetRows};
+use crate::export::provenance::Provenance;
+use crate::export::report_html::{self, Report};
+use crate::export::results_csv::ResultsCsv;
+use crate::export::results_json::ResultsJson;
+use crate::export::row_thread::{RowThread, Target};
+use crate::export::text_outputs::{TextOutputs, TextWorker};
+use crate::export::workbook::GradedWorkbooks;
+use crate::export::workbook_worker::{self, BookWorker};
+use crate::export::{cohort_csv, cohort_workbook, section_stats};
+use crate::ingest::Problem;
+use crate::rubric::score::Graded;
+use crate::stats::cohort::{BiasRule, Cohort};
+use crate::stats::sections::SectionStats;
+
+use super::RunError;
+
+/// The writer threads.
+pub(super) struct Writers {
+    text: TextWorker,
+    /// results.csv, the first of the text outputs, names the text thread in its errors.
+    text_path: PathBuf,
+    workbooks: Option<BookWorker>,
+}
+
+impl Writers {
+    /// Opens the text outputs (`paths`: results.csv, results.json, gradebook.csv) and starts the
+    /// threads.
+    pub(super) fn spawn(config: &Config, paths: &[PathBuf; 3]) -> Result<Writers, WriteError> {
+        let text = RowThread::spawn("text outputs", open_text_outputs(config, paths)?)
+            .map_err(|e| WriteError::other(&paths[0], e))?;
+        let labels = config
+            .rubric
+            .criteria
+            .iter()
+            .map(|c| c.label.clone())
+            .collect();
+        let workbooks = match config.skip_workbooks {
+            true => None,
+            false => Some(
+                BookWorker::spawn(
+                    "graded workbooks",
+                    GradedWorkbooks::new(&config.out_dir, config.split_sections, labels),
+                )
+                .map_err(|e| WriteError::other(&config.out_dir, e))?,
+            ),
+        };
+        Ok(Writers {
+            text,
+            text_path: paths[0].clone(),
+            workbooks,
+        })
+    }
+
+    /// The threads every graded row goes to.
+    pub(super) fn targets(&self) -> Vec<&dyn Target> {
+        let mut t: Vec<&dyn Target> = vec![&self.text];
+        t.extend(self.workbooks.as_ref().map(|w| w as &dyn Target));
+        t
+    }
+
+    /// Every row has been sent: the workbooks start saving, the text outputs drain their queue
+    /// and commit, while the grading thread writes the summaries.
+    pub(super) fn start_finish(
+        &mut self,
+        provenance: &Provenance,
+        stats: &Arc<SectionStats>,
+        problems: &[Problem],
+    ) {
+        if let Some(w) = self.workbooks.as_mut() {
+            workbook_worker::start_saving(w, provenance.clone(), stats.clone());
+        }
+        self.text.start_finish(problems.to_vec());
+    }
+
+    /// Waits for both threads; the first error either met.
+    pub(super) fn wait(self) -> Result<(), WriteError> {
+        self.text.join().unwrap_or_else(|| {
+            Err(WriteError::other(
+                &self.text_path,
+                "the text outputs' thread stopped",
+            ))
+        })?;
+        if let Some(w) = self.workbooks {
+            workbook_worker::wait(w)?;
+        }
+        Ok(())
+    }
+}
+
+/// results.csv, results.json, gradebook.csv and, with pseudonyms, results-pseudonymized.csv.
+fn open_text_outputs(config: &Config, paths: &[PathBuf; 3]) -> Result<TextOutputs, WriteError> {
+    let ids = config.rubric.criterion_ids();
+    let pseudonymized = match &config.pseudonyms {
+        Some(p) => Some(ResultsCsv::create_pseudonymized(
+            &config.out_dir.join("results-pseudonymized.csv"),
+            &ids,
+            p.clone(),
+        )?),
+        None => None,
+    };
+    Ok(TextOutputs {
+        csv: ResultsCsv::create(&paths[0], &ids)?,
+        pseudonymized,
+        json: ResultsJson::create(&paths[1])?,
+        gradebook: Gradebook::create(&paths[2])?,
+    })
+}
+
+/// What the grading thread keeps of every row for the summaries.
+pub(super) struct Tallies {
+    /// The graded workbooks' paths, planned as the workbook thread plans them, so that an
+    /// overwrite is refused without waiting for that thread.
+    pub(super) plan: BookPlan,
+    pub(super) stats: SectionStats,
+    cohort: Cohort,
+    parquet: ParquetRows,
+    letters: BTreeMap<String, usize>,
+}
+
+impl Tallies {
+    pub(super) fn new(config: &Config) -> Result<Tallies, WriteError> {
+        Ok(Tallies {
+            plan: BookPlan::new(&config.out_dir, config.split_sections),
+            stats: SectionStats::default(),
+            cohort: Cohort::default(),
+            parquet: ParquetRows::create(
+                &config.out_dir.join("results.parquet"),
+                config.pseudonyms.clone(),
+            )?,
+            letters: BTreeMap::new(),
+        })
+    }
+
+    pub(super) fn add(&mut self, g: &Graded) -> Result<(), WriteError> {
+        self.stats.add(g);
+        self.cohort.add(g);
+        self.parquet.add(g)?;
+        if let Some(l) = &g.score.letter {
+            *self.letters.entry(l.clone()).or_default() += 1;
+        }
+        let s = &g.assessed.submission;
+        self.plan.book(&s.source, &s.section);
+        Ok(())
+    }
+
+    /// section-stats.csv, the baseline comparison, results.parquet and the cohort report.
+    pub(super) fn write_summaries(
+        self,
+        config: &Config,
+        stats: &SectionStats,
+        provenance: &Provenance,
+    ) -> Result<(), RunError> {
+        section_stats::write(&config.out_dir.join("section-stats.csv"), stats)?;
+        let baseline = match &config.baseline {
+            Some(file) => {
+                let earlier = parquet::read_term(file).map_err(ConfigError::Invalid)?;
+                let rows = parquet::compare(&earlier, &self.parquet.term());
+                write_baseline(&config.out_dir.join("baseline-comparison.csv"), &rows)?;
+                rows
+            }
+            None => Vec::new(),
+        };
+        self.parquet.finish()?;
+        let letters = letter_counts(config, &self.letters);
+        write_cohort(config, &self.cohort, stats, &letters, provenance, &baseline)?;
+        Ok(())
+    }
+}
+
+/// The letters in the rubric's order (highest cut-off first), with how many students earned each.
+fn letter_counts(config: &Config, counts: &BTreeMap<String, usize>) -> Vec<(String, usize)> {
+    let Some(cuts) = config.rubric.grading.letters.as_ref() else {
+        return Vec::new();
+    };
+    let mut order: Vec<(&String, &f64)> = cuts.get_ref().iter().collect();
+    order.sort_by(|a, b| b.1.total_cmp(a.1));
+    order
+        .into_iter()
+        .map(|(l, _)| (l.clone(), counts.get(l).copied().unwrap_or(0)))
+        .collect()
+}
+
+/// baseline-comparison.csv: metric, baseline, current, shift.
+fn write_baseline(path: &Path, rows: &[(String, f64, f64, f64)]) -> Result<(), WriteError> {
+    crate::export::atomic::write_atomic(path, |w| {
+        let mut csv = csv::Writer::from_writer(w);
+        csv.write_record(["metric", "baseline", "current", "shift"])?;
+        for (m, b, c, d) in rows {
+            let n = |v: f64| crate::export::number(Some(v));
+            csv.write_record([m.clone(), n(*b), n(*c), n(*d)])?;
+        }
+        csv.flush()
+    })
+}
+
+/// section-comparison.csv, bench-bias.csv, cohort-report.xlsx and cohort-report.html.
+fn write_cohort(
+    config: &Config,
+    cohort: &Cohort,
+    stats: &SectionStats,
+    letters: &[(String, usize)],
+    provenance: &Provenance,
+    baseline: &[(String, f64, f64, f64)],
+) -> Result<(), WriteError> {
+    let comparisons = cohort.comparisons();
+    let bias = cohort.bench_bias(BiasRule::default());
+    let outliers = cohort.outliers();
+    cohort_csv::write_comparisons(&config.out_dir.join("section-comparison.csv"), &comparisons)?;
+    cohort_csv::write_bias(&config.out_dir.join("bench-bias.csv"), &bias)?;
+    let generated = format!(
+        "{} UTC from {} input files",
+        provenance.time_text,
+        provenance.inputs.len()
+    );
+    let report = Report {
+        title: &config.rubric.experiment.name,
+        generated: &generated,
+        cohort,
+        stats,
+        comparisons: &comparisons,
+        bias: &bias,
+        outliers: &outliers,
+        letters,
+        baseline,
+    };
+    cohort_workbook::write(
+        &config.out_dir.join("cohort-report.xlsx"),
+        &report,
+        config.timestamp,
+    )?;
+    report_html::write(&config.out_dir.join("cohort-report.html"), &report)
+}
