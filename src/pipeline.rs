@@ -460,7 +460,9 @@ pub fn grade_with_progress(
         &config.rubric_text,
         &provenance_files,
     );
-    refuse_overwriting_inputs(tallies.plan.paths(), &batch.files)?;
+    if let Some(plan) = &tallies.plan {
+        refuse_overwriting_inputs(plan.paths(), &batch.files)?;
+    }
     let stats = std::sync::Arc::new(std::mem::take(&mut tallies.stats));
     threads.start_finish(&provenance, &stats, &batch.problems);
     tallies.write_summaries(config, &stats, &provenance)?;

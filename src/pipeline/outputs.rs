@@ -123,8 +123,8 @@ fn open_text_outputs(config: &Config, paths: &[PathBuf; 3]) -> Result<TextOutput
 /// What the grading thread keeps of every row for the summaries.
 pub(super) struct Tallies {
     /// The graded workbooks' paths, planned as the workbook thread plans them, so that an
-    /// overwrite is refused without waiting for that thread.
-    pub(super) plan: BookPlan,
+    /// overwrite is refused without waiting for that thread; `None` with `--skip-workbooks`.
+    pub(super) plan: Option<BookPlan>,
     pub(super) stats: SectionStats,
     cohort: Cohort,
     parquet: ParquetRows,
@@ -134,7 +134,8 @@ pub(super) struct Tallies {
 impl Tallies {
     pub(super) fn new(config: &Config) -> Result<Tallies, WriteError> {
         Ok(Tallies {
-            plan: BookPlan::new(&config.out_dir, config.split_sections),
+            plan: (!config.skip_workbooks)
+                .then(|| BookPlan::new(&config.out_dir, config.split_sections)),
             stats: SectionStats::default(),
             cohort: Cohort::default(),
             parquet: ParquetRows::create(
@@ -152,8 +153,10 @@ impl Tallies {
         if let Some(l) = &g.score.letter {
             *self.letters.entry(l.clone()).or_default() += 1;
         }
-        let s = &g.assessed.submission;
-        self.plan.book(&s.source, &s.section);
+        if let Some(plan) = self.plan.as_mut() {
+            let s = &g.assessed.submission;
+            plan.book(&s.source, &s.section);
+        }
         Ok(())
     }
 
