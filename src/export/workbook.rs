@@ -378,11 +378,6 @@ impl GradedWorkbooks {
         }
         Ok(written)
     }
-
-    /// The workbook paths planned so far.
-    pub fn paths(&self) -> Vec<PathBuf> {
-        self.plan.paths().to_vec()
-    }
 }
 
 fn write_graded_row(
@@ -493,8 +488,6 @@ pub(super) fn write_opt(ws: &mut Worksheet, r: u32, c: u16, v: f64) -> Result<()
     Ok(())
 }
 
-/// The statistics sheet: the batch's figures for each section of this workbook, flag counts,
-/// rows left out, and native charts.
 #[cfg(test)]
 mod tests {
     use super::*;
