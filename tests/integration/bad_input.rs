@@ -22,6 +22,15 @@ fn grade_with(f: &Fixture, bad: &str) -> (i32, String, usize) {
     (run.code, run.stderr, rows)
 }
 
+/// Names of temporary files (`.partial`) left in `dir`.
+fn partials(dir: &std::path::Path) -> Vec<String> {
+    std::fs::read_dir(dir)
+        .unwrap()
+        .map(|e| e.unwrap().file_name().to_string_lossy().into_owned())
+        .filter(|n| n.ends_with(".partial"))
+        .collect()
+}
+
 fn zip_of(f: &Fixture, name: &str, entries: &[(&str, &[u8])]) {
     let file = std::fs::File::create(f.path(name)).unwrap();
     let mut zip = zip::ZipWriter::new(file);
@@ -248,11 +257,7 @@ fn inputs_are_unchanged_and_a_failed_run_keeps_the_previous_outputs() {
     );
     assert_eq!(failed.code, 2);
     assert_eq!(std::fs::read(out.join("results.csv")).unwrap(), previous);
-    let leftovers: Vec<_> = std::fs::read_dir(&out)
-        .unwrap()
-        .map(|e| e.unwrap().file_name().into_string().unwrap())
-        .filter(|n| n.ends_with(".partial"))
-        .collect();
+    let leftovers = partials(&out);
     assert!(leftovers.is_empty(), "{leftovers:?}");
 }
 
@@ -298,17 +303,22 @@ fn a_graded_workbook_that_would_overwrite_an_input_is_refused() {
         before,
         "the input is untouched"
     );
-    let leftovers = std::fs::read_dir(f.path("out"))
-        .unwrap()
-        .filter(|e| {
-            e.as_ref()
-                .unwrap()
-                .file_name()
-                .to_string_lossy()
-                .ends_with(".partial")
-        })
-        .count();
-    assert_eq!(leftovers, 0);
+    let leftovers = partials(&f.path("out"));
+    assert!(leftovers.is_empty(), "{leftovers:?}");
+    // without graded workbooks nothing would be overwritten: the batch is graded, and only the
+    // old workbook's own sheets are reported as unreadable tables (exit code 1, not 2)
+    let skipping = f.run(&[
+        "grade",
+        "a.csv",
+        "out/a-graded.xlsx",
+        "--out",
+        "out",
+        "--skip-workbooks",
+    ]);
+    assert_eq!(skipping.code, 1, "{}", skipping.stderr);
+    assert!(!skipping.stderr.contains("refusing"), "{}", skipping.stderr);
+    assert_eq!(f.results("out").len(), 1, "a.csv is graded");
+    assert_eq!(std::fs::read(&input).unwrap(), before);
 }
 
 #[test]
@@ -374,15 +384,6 @@ fn a_run_killed_mid_write_leaves_the_previous_outputs() {
     assert_eq!(outputs(&f.path("out")), before, "a finished output changed");
     // the next run sweeps the dead run's temporary files and writes its own outputs
     assert_eq!(f.run(&["grade", "small.csv", "--out", "out"]).code, 0);
-    let leftovers = std::fs::read_dir(f.path("out"))
-        .unwrap()
-        .filter(|e| {
-            e.as_ref()
-                .unwrap()
-                .file_name()
-                .to_string_lossy()
-                .ends_with(".partial")
-        })
-        .count();
-    assert_eq!(leftovers, 0);
+    let leftovers = partials(&f.path("out"));
+    assert!(leftovers.is_empty(), "{leftovers:?}");
 }
