@@ -121,7 +121,7 @@ impl Config {
         if let Some(p) = &opts.compounds {
             library.extend_from_file(p)?;
         }
-        let reference = rubric.reference_rule(opts.reference_mp_c);
+        let reference = ReferenceRule::for_experiment(&rubric.experiment, opts.reference_mp_c);
         if let Some(c) = rubric.experiment.compound.as_deref() {
             let Some(compound) = library.lookup(c) else {
                 return Err(ConfigError::Invalid(format!(

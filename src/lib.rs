@@ -11,6 +11,7 @@ pub mod error;
 pub mod export;
 pub mod fields;
 pub mod ingest;
+pub mod model;
 pub mod numtext;
 pub mod pipeline;
 pub mod reference;

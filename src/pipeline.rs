@@ -6,39 +6,19 @@
 use std::path::{Path, PathBuf};
 use std::sync::mpsc::sync_channel;
 
-use std::collections::HashMap;
-
-use crate::assess::{calibration, Assessed, Assessor, Calibration, Centres, Context};
+use crate::assess::{calibration, Assessor, Calibration, Centres, Context};
 use crate::config::Config;
 use crate::error::{ConfigError, WriteError};
 use crate::export::provenance::Provenance;
 use crate::export::row_thread::Fanout;
 use crate::ingest::spill::{Replay, SpillWriter};
 use crate::ingest::{self, discover, Collector, Problem, SheetReport};
+use crate::model::{Graded, Score, Tally};
 use crate::rubric::overrides::Override;
-use crate::rubric::score::{self, Graded, Score};
+use crate::rubric::score;
 
 mod outputs;
 use outputs::{Tallies, Writers};
-
-/// Counts over the batch's rows.
-#[derive(Clone, Copy, Debug, Default, PartialEq, Eq)]
-pub struct Tally {
-    pub rows: usize,
-    pub impossible: usize,
-    pub suspicious: usize,
-}
-
-impl Tally {
-    fn add(&mut self, a: &Assessed) {
-        self.rows += 1;
-        if a.is_impossible() {
-            self.impossible += 1;
-        } else if !a.flags.is_empty() {
-            self.suspicious += 1;
-        }
-    }
-}
 
 /// What a run read and found.
 #[derive(Debug, Default)]
@@ -254,7 +234,7 @@ fn section_centres(
     calibration_file: Option<&Path>,
     spill_dir: Option<&Path>,
 ) -> Result<FirstPass, RunError> {
-    let mut values: HashMap<String, [Vec<f64>; 2]> = HashMap::new();
+    let mut centres = Centres::default();
     let mut scratch = Batch::default();
     let mut first_pass = config.clone();
     first_pass.overrides = Default::default();
@@ -271,23 +251,14 @@ fn section_centres(
         spill.as_mut(),
         &mut scratch,
         &mut |g| {
-            let a = &g.assessed;
-            if !a.is_impossible() {
-                let section = &a.submission.section;
-                if !values.contains_key(section) {
-                    values.insert(section.clone(), Default::default());
-                }
-                if let Some(slot) = values.get_mut(section) {
-                    slot[0].extend(a.recovery_pct.filter(|v| v.is_finite()));
-                    slot[1].extend(a.depression_c.filter(|v| v.is_finite()));
-                }
-            }
+            centres.add(&g.assessed);
             Ok(())
         },
         &mut |_| {},
     )?;
+    centres.settle();
     Ok(FirstPass {
-        centres: Centres::from_values(&values),
+        centres,
         replay: spill.and_then(SpillWriter::finish),
     })
 }

@@ -3,6 +3,7 @@
 //! other compound uses the library's accepted value.
 
 use crate::reference::Compound;
+use crate::rubric::Experiment;
 
 /// How the rubric chooses the experiment compound's reference.
 #[derive(Clone, Debug, PartialEq)]
@@ -17,6 +18,25 @@ pub enum ReferenceRule {
     Range(f64, f64),
     /// Any clear point within the spread of the library's literature values.
     Literature,
+}
+
+impl ReferenceRule {
+    /// How the experiment's own compound is judged: the command line's value wins, then the
+    /// rubric's value, range, source or literature spread, else the library's accepted value.
+    pub fn for_experiment(e: &Experiment, command_line_mp_c: Option<f64>) -> ReferenceRule {
+        use ReferenceRule as R;
+        match (
+            command_line_mp_c.or(e.reference_mp_c),
+            e.reference_range_c,
+            &e.reference_source,
+        ) {
+            (Some(v), _, _) => R::Value(v),
+            (None, Some([lo, hi]), _) => R::Range(lo, hi),
+            (None, None, Some(s)) => R::Source(s.clone()),
+            _ if e.accept_literature_range => R::Literature,
+            _ => R::Accepted,
+        }
+    }
 }
 
 /// The reference for one compound: a value, or an accepted range.

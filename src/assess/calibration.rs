@@ -13,6 +13,7 @@ use crate::fields::Field;
 use crate::ingest::cells::{Cell, RawSheet};
 use crate::ingest::values::{parse_quantity, Decimal};
 use crate::ingest::{delimited, workbook};
+use crate::model::bench_key;
 
 /// A straight-line correction for one apparatus.
 #[derive(Clone, Debug, PartialEq)]
@@ -93,27 +94,9 @@ pub struct Calibration {
     pub fits: BTreeMap<String, (String, usize, Fit)>,
 }
 
-/// Matching key for an apparatus or bench: lower case, letters and digits only, and a leading
-/// "bench", "station", "apparatus" or "b" before a number dropped ("Bench 7", "B7" and "7" match).
-pub fn apparatus_key(text: &str) -> String {
-    let k: String = text
-        .to_lowercase()
-        .chars()
-        .filter(|c| c.is_alphanumeric())
-        .collect();
-    for prefix in ["bench", "station", "apparatus", "b"] {
-        if let Some(rest) = k.strip_prefix(prefix) {
-            if rest.starts_with(|c: char| c.is_ascii_digit()) {
-                return rest.to_string();
-            }
-        }
-    }
-    k
-}
-
 impl Calibration {
     pub fn fit_for(&self, apparatus: Option<&str>) -> Option<&(String, usize, Fit)> {
-        self.fits.get(&apparatus_key(apparatus?))
+        self.fits.get(&bench_key(apparatus?))
     }
 }
 
@@ -190,7 +173,7 @@ pub fn from_sheet(
         match (obs, cert) {
             (Ok(Some(o)), Ok(Some(c))) => {
                 let entry = points
-                    .entry(apparatus_key(&name))
+                    .entry(bench_key(&name))
                     .or_insert_with(|| (name.clone(), row.index as usize + 1, Vec::new()));
                 entry.2.push((o, c));
             }
@@ -288,10 +271,10 @@ mod tests {
 
     #[test]
     fn keys_match_across_spellings() {
-        assert_eq!(apparatus_key("Bench 7"), "7");
-        assert_eq!(apparatus_key("B7"), "7");
-        assert_eq!(apparatus_key("7"), "7");
-        assert_eq!(apparatus_key("Mel-Temp 3"), "meltemp3");
+        assert_eq!(bench_key("Bench 7"), "7");
+        assert_eq!(bench_key("B7"), "7");
+        assert_eq!(bench_key("7"), "7");
+        assert_eq!(bench_key("Mel-Temp 3"), "meltemp3");
     }
 
     #[test]

@@ -5,23 +5,22 @@
 pub mod accepted;
 pub mod calibration;
 mod duplicates;
-pub mod flags;
 mod judge;
 pub mod measures;
 pub mod physchem;
 
 use std::collections::HashMap;
 
-use serde::Serialize;
+pub use crate::stats::outlier::Centres;
 
 use crate::fields::Field;
 use crate::ingest::Submission;
+pub use crate::model::{Assessed, Flag, Severity};
 use crate::reference::{Compound, Library};
 use crate::rubric::{Experiment, Tolerances};
 pub use accepted::{Reference, ReferenceRule};
 pub use calibration::Calibration;
 use duplicates::Duplicates;
-pub use flags::{Flag, Severity};
 
 /// What the assessment needs besides the rows.
 pub struct Context<'a> {
@@ -31,105 +30,22 @@ pub struct Context<'a> {
     pub reference: ReferenceRule,
     pub tolerances: &'a Tolerances,
     pub calibration: Option<&'a Calibration>,
-    /// Each section's median and MAD of recovery and depression, for `outlier`.
+    /// Each section's centres, for `outlier`.
     pub centres: Option<&'a Centres>,
 }
 
-/// Each section's (median, MAD) of recovery and of depression over its rows without impossible
-/// entries, gathered in a first pass so that `outlier` is known when a row is graded.
-#[derive(Clone, Debug, Default)]
-pub struct Centres {
-    pub by_section: HashMap<String, [(f64, f64); 2]>,
-}
-
-/// Robust z-score beyond which a value is an outlier (Iglewicz and Hoaglin's 3.5).
-pub const OUTLIER_Z: f64 = 3.5;
-
-impl Centres {
-    /// Builds the centres from (section, recovery, depression) of rows without impossible entries.
-    pub fn from_values(values: &HashMap<String, [Vec<f64>; 2]>) -> Centres {
-        use crate::stats::inference::{mad, median};
-        let by_section = values
-            .iter()
-            .map(|(s, [rec, dep])| {
-                (
-                    s.clone(),
-                    [(median(rec), mad(rec)), (median(dep), mad(dep))],
-                )
-            })
-            .collect();
-        Centres { by_section }
-    }
-
-    fn outlier(&self, a: &Assessed) -> Option<String> {
-        let [rec, dep] = self.by_section.get(&a.submission.section)?;
-        let mut why = Vec::new();
-        for (what, value, (med, mad), unit) in [
-            ("recovery", a.recovery_pct, *rec, "%"),
-            ("depression", a.depression_c, *dep, "°C"),
-        ] {
-            let Some(v) = value.filter(|v| v.is_finite()) else {
-                continue;
-            };
-            let z = crate::stats::inference::robust_z(v, med, mad);
-            if z.abs() > OUTLIER_Z {
-                why.push(format!("{what} {v:.1} {unit} is {z:+.1} robust z from the section's median {med:.1} {unit} (MAD {mad:.2})"));
-            }
-        }
-        (!why.is_empty()).then(|| why.join("; "))
-    }
-}
-
-/// A submission with its measures and findings.
-#[derive(Clone, Debug, Default, Serialize)]
-pub struct Assessed {
-    pub submission: Submission,
-    /// The library's name for the compound, when found.
-    pub compound: Option<String>,
-    pub reference_mp_c: Option<f64>,
-    /// Onset and clear point as used: corrected by the calibration where one applies,
-    /// else as read (the submission keeps the readings).
-    pub mp_onset_c: Option<f64>,
-    pub mp_clear_c: Option<f64>,
-    pub recovery_pct: Option<f64>,
-    pub range_width_c: Option<f64>,
-    pub depression_c: Option<f64>,
-    pub purity_mol_pct: Option<f64>,
-    pub purity_note: String,
-    pub max_recovery_pct: Option<f64>,
-    pub min_solvent_ml: Option<f64>,
-    /// The correction applied to the readings, in words.
-    pub calibration: Option<String>,
-    /// Flags in alphabetical order of their codes, each with its reason.
-    pub flags: Vec<(Flag, String)>,
-}
-
-impl Assessed {
-    pub fn has(&self, flag: Flag) -> bool {
-        self.flags.iter().any(|(f, _)| *f == flag)
-    }
-
-    pub fn is_impossible(&self) -> bool {
-        self.flags
-            .iter()
-            .any(|(f, _)| f.severity() == Severity::Impossible)
-    }
-
-    pub fn flag_codes(&self) -> String {
-        self.flags
-            .iter()
-            .map(|(f, _)| f.code())
-            .collect::<Vec<_>>()
-            .join(";")
-    }
-
-    pub fn flag_notes(&self) -> String {
-        self.flags
-            .iter()
-            .map(|(f, n)| format!("{}: {n}", f.code()))
-            .collect::<Vec<_>>()
-            .join("; ")
-    }
+/// Why a row is an outlier in its section, or nothing.
+fn outlier_note(centres: &Centres, a: &Assessed) -> Option<String> {
+    let why: Vec<String> = centres
+        .far(a)
+        .into_iter()
+        .map(|f| {
+            let (what, unit, v, z) = (f.measure.noun(), f.measure.unit(), f.value, f.z);
+            let (med, mad) = (f.centre.median, f.centre.mad);
+            format!("{what} {v:.1} {unit} is {z:+.1} robust z from the section's median {med:.1} {unit} (MAD {mad:.2})")
+        })
+        .collect();
+    (!why.is_empty()).then(|| why.join("; "))
 }
 
 /// Formats a mass in grams for a sentence: up to three decimals, trailing zeros dropped.
@@ -259,7 +175,7 @@ impl<'a> Assessor<'a> {
             s.bench.as_deref()
         };
         if let Some(k) = key {
-            self.apparatus_seen.insert(calibration::apparatus_key(k));
+            self.apparatus_seen.insert(crate::model::bench_key(k));
         }
         let Some((name, _, fit)) = cal.fit_for(key) else {
             let what = cal.keyed_by.label();
@@ -380,7 +296,7 @@ impl<'a> Assessor<'a> {
             .iter()
             .any(|(f, _)| f.severity() == Severity::Impossible);
         if let (false, Some(c)) = (impossible, self.ctx.centres) {
-            if let Some(why) = c.outlier(&a) {
+            if let Some(why) = outlier_note(c, &a) {
                 flags.push((Flag::Outlier, why));
             }
         }

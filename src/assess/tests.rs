@@ -456,16 +456,35 @@ fn an_accepted_range_puts_clear_points_inside_it_at_the_reference() {
 #[test]
 fn outliers_by_robust_z_within_the_section() {
     // recoveries 70, 71, 72, 73, 74 in section A: median 72, MAD 1 (hand-worked); 90 % is
-    // 0.6745 x 18 / 1 = 12.1 robust z away, an outlier; 74 % is 1.3, not
-    let mut values = HashMap::new();
-    values.insert(
-        "A".to_string(),
-        [
-            vec![70.0, 71.0, 72.0, 73.0, 74.0],
-            vec![0.5, 0.6, 0.7, 0.8, 0.9],
-        ],
-    );
-    let centres = Centres::from_values(&values);
+    // 0.6745 x 18 / 1 = 12.1 robust z away, an outlier; 74 % is 1.3, not. A first pass over
+    // the section gathers its centres, as the pipeline does.
+    let mut centres = Centres::default();
+    let lib0 = Library::builtin();
+    let (t0, e0) = (Tolerances::default(), experiment());
+    let first = Context {
+        library: &lib0,
+        experiment: &e0,
+        reference: ReferenceRule::Accepted,
+        tolerances: &t0,
+        calibration: None,
+        centres: None,
+    };
+    let section: Vec<Submission> = [70.0, 71.0, 72.0, 73.0, 74.0]
+        .iter()
+        .enumerate()
+        .map(|(i, rec)| Submission {
+            student_id: Some(format!("f{i}")),
+            crude_mass_g: Some(3.0),
+            recovered_mass_g: Some(3.0 * rec / 100.0),
+            mp_onset_c: Some(121.0),
+            mp_clear_c: Some(121.7),
+            ..base()
+        })
+        .collect();
+    for a in assess_all(section, first) {
+        centres.add(&a);
+    }
+    centres.settle();
     let lib = Library::builtin();
     let t = Tolerances::default();
     let e = experiment();

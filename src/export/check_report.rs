@@ -4,10 +4,10 @@
 
 use std::fmt::Write as _;
 
-use crate::assess::{Assessed, Severity};
 use crate::ingest::{Problem, SheetReport};
-use crate::pipeline::Tally;
-use crate::rubric::score::Graded;
+use crate::model::Graded;
+use crate::model::Tally;
+use crate::model::{Assessed, Severity};
 
 /// Terminal styling, or none.
 #[derive(Clone, Copy)]

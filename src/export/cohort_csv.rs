@@ -36,7 +36,7 @@ pub fn write_comparisons(path: &Path, rows: &[Comparison]) -> Result<(), WriteEr
         for c in rows {
             let n = |v: f64| number(Some(v));
             csv.write_record([
-                c.measure.to_string(),
+                c.measure.key().to_string(),
                 c.grouping.to_string(),
                 c.test.to_string(),
                 neutralise(&c.group_a).into_owned(),

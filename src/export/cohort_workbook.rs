@@ -60,7 +60,7 @@ fn build(r: &Report, timestamp: i64) -> Result<Workbook, XlsxError> {
     header(ws, 0, &super::cohort_csv::COMPARISON_COLUMNS, &bold)?;
     for (i, c) in r.comparisons.iter().enumerate() {
         let row = 1 + i as u32;
-        for (col, t) in [c.measure, c.grouping, c.test, &c.group_a, &c.group_b]
+        for (col, t) in [c.measure.key(), c.grouping, c.test, &c.group_a, &c.group_b]
             .into_iter()
             .enumerate()
         {
@@ -142,7 +142,7 @@ fn build(r: &Report, timestamp: i64) -> Result<Workbook, XlsxError> {
         let row = 1 + i as u32;
         ws.write_string(row, 0, &o.section)?;
         ws.write_string(row, 1, &o.place)?;
-        ws.write_string(row, 2, o.measure)?;
+        ws.write_string(row, 2, o.measure.key())?;
         ws.write_number(row, 3, o.value)?;
         ws.write_number(row, 4, o.robust_z)?;
     }

@@ -7,10 +7,10 @@
 use std::path::{Path, PathBuf};
 
 use super::{neutralise, number};
-use crate::assess::Flag;
 use crate::error::WriteError;
 use crate::export::atomic::AtomicFile;
-use crate::rubric::score::Graded;
+use crate::model::Flag;
+use crate::model::Graded;
 
 pub const COLUMNS: [&str; 8] = [
     "student_id",

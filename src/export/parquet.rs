@@ -14,7 +14,7 @@ use polars::prelude::*;
 use super::atomic::AtomicFile;
 use super::pseudonym::Pseudonymizer;
 use crate::error::WriteError;
-use crate::rubric::score::Graded;
+use crate::model::Graded;
 
 use super::baseline::TermTally;
 pub use super::baseline::{compare, Term};

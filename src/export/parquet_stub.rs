@@ -5,7 +5,7 @@ use std::path::Path;
 
 use super::pseudonym::Pseudonymizer;
 use crate::error::WriteError;
-use crate::rubric::score::Graded;
+use crate::model::Graded;
 
 use super::baseline::TermTally;
 pub use super::baseline::{compare, Term};

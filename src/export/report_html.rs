@@ -8,6 +8,7 @@ use std::path::Path;
 
 use super::atomic::write_atomic;
 use crate::error::WriteError;
+use crate::model::Measure;
 use crate::stats::cohort::{BenchBias, Cohort, Comparison, Outlier};
 use crate::stats::sections::SectionStats;
 use crate::stats::{quantile_sorted, QUANTILE_DEFINITION};
@@ -236,7 +237,7 @@ pub fn findings_text(r: &Report) -> Vec<String> {
         out.push(format!(
             "{}s differ in {} (Kruskal-Wallis H = {}, p = {}); see the pairwise tests below",
             c.grouping,
-            c.measure.replace('_', " "),
+            c.measure.key().replace('_', " "),
             fmt(c.statistic, 2),
             fmt(c.p_value, 4)
         ));
@@ -283,12 +284,12 @@ pub fn render(r: &Report) -> String {
     s.push_str(&box_plot(
         "Percent recovery by section",
         "%",
-        &r.cohort.by_section("recovery_pct"),
+        &r.cohort.by_section(Measure::RECOVERY),
     ));
     s.push_str(&box_plot(
         "Score by section",
         "points",
-        &r.cohort.by_section("score"),
+        &r.cohort.by_section(Measure::SCORE),
     ));
     s.push_str("<h2>Grade distribution</h2>");
     s.push_str(&bar_chart(
@@ -344,7 +345,7 @@ pub fn render(r: &Report) -> String {
             let x = sum?;
             Some(vec![
                 sec.to_string(),
-                m.to_string(),
+                m.key().to_string(),
                 x.n.to_string(),
                 fmt(x.mean, 2),
                 fmt(x.sd, 2),
@@ -382,7 +383,7 @@ pub fn render(r: &Report) -> String {
         .iter()
         .map(|c| {
             vec![
-                c.measure.to_string(),
+                c.measure.key().to_string(),
                 c.grouping.to_string(),
                 c.test.to_string(),
                 c.group_a.clone(),
@@ -431,7 +432,7 @@ pub fn render(r: &Report) -> String {
                 vec![
                     o.section.clone(),
                     o.place.clone(),
-                    o.measure.to_string(),
+                    o.measure.key().to_string(),
                     fmt(o.value, 2),
                     fmt(o.robust_z, 1),
                 ]

@@ -8,7 +8,7 @@ use super::atomic::AtomicFile;
 use super::pseudonym::Pseudonymizer;
 use super::{neutralise, push_number};
 use crate::error::WriteError;
-use crate::rubric::score::Graded;
+use crate::model::Graded;
 
 /// The contract's columns, in order, then the columns added since.
 #[rustfmt::skip]

@@ -12,7 +12,7 @@ use std::collections::BTreeMap;
 
 use crate::error::WriteError;
 use crate::ingest::Problem;
-use crate::rubric::score::Graded;
+use crate::model::Graded;
 
 #[derive(Serialize)]
 struct Record<'a> {

@@ -11,7 +11,7 @@ use std::sync::mpsc::{sync_channel, SyncSender};
 use std::sync::Arc;
 use std::thread::JoinHandle;
 
-use crate::rubric::score::Graded;
+use crate::model::Graded;
 
 /// Rows sent at a time.
 const CHUNK: usize = 256;

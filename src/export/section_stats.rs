@@ -14,7 +14,10 @@ pub fn write(path: &Path, stats: &SectionStats) -> Result<(), WriteError> {
         let mut csv = csv::Writer::from_writer(w);
         csv.write_record(COLUMNS)?;
         for (section, measure, s) in stats.summaries() {
-            let mut rec = vec![super::neutralise(section).into_owned(), measure.to_string()];
+            let mut rec = vec![
+                super::neutralise(section).into_owned(),
+                measure.key().to_string(),
+            ];
             match s {
                 Some(s) => {
                     rec.push(s.n.to_string());

@@ -8,7 +8,7 @@ use super::results_json::ResultsJson;
 use super::row_thread::{RowSink, RowThread};
 use crate::error::WriteError;
 use crate::ingest::Problem;
-use crate::rubric::score::Graded;
+use crate::model::Graded;
 
 /// The text outputs of a grading run, open while rows stream past.
 pub struct TextOutputs {

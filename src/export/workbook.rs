@@ -16,10 +16,11 @@ use rust_xlsxwriter::{
 };
 
 use super::provenance::Provenance;
-use crate::assess::{Flag, Severity};
 use crate::error::WriteError;
 use crate::ingest::cells::Cell;
-use crate::rubric::score::Graded;
+use crate::model::columns::{self, Column, Outputs};
+use crate::model::Graded;
+use crate::model::Severity;
 use crate::stats::sections::SectionStats;
 
 /// Our palette: impossible entries rose, suspicious ones amber; the flags column also carries
@@ -32,40 +33,25 @@ const HEADER_FILL: u32 = 0xD9E4EC;
 /// explanation (it always does).
 pub const NOTES_PER_SHEET: usize = 100;
 
-/// The recomputed columns after the original ones: header, number format index.
-const COMPUTED: [(&str, usize); 11] = [
-    ("Crude (g)", 0),
-    ("Recovered (g)", 0),
-    ("Onset used (°C)", 1),
-    ("Clear point used (°C)", 1),
-    ("Recovery (%)", 1),
-    ("Range width (°C)", 1),
-    ("Reference mp (°C)", 1),
-    ("Depression (°C)", 1),
-    ("Purity (mol %)", 1),
-    ("Recovery ceiling (%)", 1),
-    ("Least solvent (mL)", 1),
-];
-
-/// Which computed columns a flag is about (indices into `COMPUTED`).
-fn flagged_columns(f: Flag) -> &'static [usize] {
-    match f {
-        Flag::RecoveryOver100
-        | Flag::NonpositiveMass
-        | Flag::LowRecovery
-        | Flag::RecoveryMismatch => &[0, 1, 4],
-        Flag::LikelyWet => &[1, 4, 9],
-        Flag::RangeInverted | Flag::OutsideCalibratedSpan => &[2, 3, 5],
-        Flag::LikelyImpure => &[5, 7],
-        Flag::AboveReference => &[3, 7],
-        Flag::SolventBelowMinimum => &[10],
-        _ => &[],
-    }
+/// The recomputed columns after the original ones: the registry's workbook columns.
+fn computed() -> impl Iterator<Item = &'static Column> {
+    columns::carried_by(Outputs::WORKBOOK)
 }
 
-/// Formats: [number format][fill], number formats masses 0.000, temperatures and percentages 0.0.
+/// How many recomputed columns follow the original ones.
+pub(super) fn computed_count() -> usize {
+    computed().count()
+}
+
+/// Where a recomputed column stands after the original ones.
+pub(super) fn computed_position(c: &Column) -> Option<u16> {
+    columns::position_in(Outputs::WORKBOOK, c).map(|i| i as u16)
+}
+
+/// Formats: for each number of decimals the recomputed columns use, one per fill (none,
+/// impossible, suspicious); masses 0.000, temperatures and percentages 0.0.
 pub(super) struct Formats {
-    pub(super) cells: [[Format; 3]; 2],
+    cells: Vec<(u8, [Format; 3])>,
     pub(super) text: [Format; 3],
     pub(super) header: Format,
     pub(super) bold: Format,
@@ -78,11 +64,18 @@ impl Formats {
             Some(c) => f.set_background_color(Color::RGB(c)),
             None => f,
         };
+        let mut decimals: Vec<u8> = computed().map(|c| c.decimals).collect();
+        decimals.sort_unstable();
+        decimals.dedup();
+        let number = |d: u8| {
+            let pattern = match d {
+                0 => "0".to_string(),
+                d => format!("0.{}", "0".repeat(usize::from(d))),
+            };
+            fills.map(|fl| with(Format::new().set_num_format(&pattern), fl))
+        };
         Formats {
-            cells: [
-                fills.map(|fl| with(Format::new().set_num_format("0.000"), fl)),
-                fills.map(|fl| with(Format::new().set_num_format("0.0"), fl)),
-            ],
+            cells: decimals.into_iter().map(|d| (d, number(d))).collect(),
             text: fills.map(|fl| with(Format::new(), fl)),
             header: Format::new()
                 .set_bold()
@@ -90,6 +83,18 @@ impl Formats {
                 .set_background_color(Color::RGB(HEADER_FILL)),
             bold: Format::new().set_bold(),
         }
+    }
+}
+
+impl Formats {
+    /// The number format of a recomputed column, with the fill for `severity`.
+    fn number(&self, c: &Column, severity: Option<Severity>) -> &Format {
+        let i = self
+            .cells
+            .iter()
+            .position(|(d, _)| *d == c.decimals)
+            .unwrap_or(0);
+        &self.cells[i].1[fill_index(severity)]
     }
 }
 
@@ -248,7 +253,7 @@ impl GradedWorkbooks {
             .as_deref()
             .map(|x| x.to_vec())
             .unwrap_or_default();
-        h.extend(COMPUTED.iter().map(|(c, _)| c.to_string()));
+        h.extend(computed().map(Column::header));
         h.extend(self.criteria.iter().cloned());
         h.extend(["Total", "Max", "Letter", "Flags", "Reasons"].map(String::from));
         h
@@ -307,12 +312,12 @@ impl GradedWorkbooks {
         ws.set_repeat_rows(0, 0).map_err(e)?;
         // number formats by column, so that unflagged cells need no format of their own
         let base = s.original.len() as u16;
-        for (i, (_, numfmt)) in COMPUTED.iter().enumerate() {
-            ws.set_column_format(base + i as u16, &self.formats.cells[*numfmt][0])
+        for (i, c) in computed().enumerate() {
+            ws.set_column_format(base + i as u16, self.formats.number(c, None))
                 .map_err(e)?;
         }
         // the total in bold, by column for the same reason
-        let total = base + (COMPUTED.len() + self.criteria.len()) as u16;
+        let total = base + (computed_count() + self.criteria.len()) as u16;
         ws.set_column_format(total, &self.formats.bold).map_err(e)?;
         let index = book.workbook.worksheets().len() - 1;
         book.names.push(name.clone());
@@ -355,7 +360,8 @@ impl GradedWorkbooks {
             let e = |err| xerr(&path, err);
             for sheet in &book.sheets {
                 let ws = book.workbook.worksheet_from_index(sheet.index).map_err(e)?;
-                let last_col = (sheet.originals + COMPUTED.len() + self.criteria.len() + 3) as u16;
+                let last_col =
+                    (sheet.originals + computed_count() + self.criteria.len() + 3) as u16;
                 ws.autofilter(0, 0, sheet.next_row.saturating_sub(1).max(1), last_col)
                     .map_err(e)?;
             }
@@ -386,47 +392,15 @@ fn write_graded_row(
     g: &Graded,
     f: &Formats,
 ) -> Result<(), XlsxError> {
-    let a = &g.assessed;
-    let s = &a.submission;
     let r = sheet.next_row;
     sheet.next_row += 1;
+    let s = &g.assessed.submission;
     for (c, cell) in s.original.iter().enumerate().take(sheet.originals) {
         write_cell(ws, r, c as u16, cell)?;
     }
-    let mut severity: [Option<Severity>; COMPUTED.len()] = [None; COMPUTED.len()];
-    for (flag, _) in &a.flags {
-        for &c in flagged_columns(*flag) {
-            if severity[c] != Some(Severity::Impossible) {
-                severity[c] = Some(flag.severity());
-            }
-        }
-    }
-    let values = [
-        s.crude_mass_g,
-        s.recovered_mass_g,
-        a.mp_onset_c,
-        a.mp_clear_c,
-        a.recovery_pct,
-        a.range_width_c,
-        a.reference_mp_c,
-        a.depression_c,
-        a.purity_mol_pct,
-        a.max_recovery_pct,
-        a.min_solvent_ml,
-    ];
-    let base = sheet.originals as u16;
-    for (i, v) in values.iter().enumerate() {
-        let col = base + i as u16;
-        match (v.filter(|x| x.is_finite()), severity[i]) {
-            (Some(x), None) => ws.write_number(r, col, x)?,
-            (Some(x), sev) => {
-                ws.write_number_with_format(r, col, x, &f.cells[COMPUTED[i].1][fill_index(sev)])?
-            }
-            (None, None) => ws,
-            (None, sev) => ws.write_blank(r, col, &f.cells[COMPUTED[i].1][fill_index(sev)])?,
-        };
-    }
-    let mut c = base + COMPUTED.len() as u16;
+    let mut c = sheet.originals as u16;
+    write_computed(ws, r, c, g, f)?;
+    c += computed_count() as u16;
     for cs in &g.score.criteria {
         ws.write_number(r, c, cs.points)?;
         c += 1;
@@ -436,47 +410,77 @@ fn write_graded_row(
     if let Some(l) = &g.score.letter {
         ws.write_string(r, c + 2, l)?;
     }
-    if !a.flags.is_empty() {
-        let worst = if a.is_impossible() {
-            Severity::Impossible
-        } else {
-            Severity::Suspicious
-        };
-        let marked: Vec<String> = a
-            .flags
-            .iter()
-            .map(|(fl, _)| {
-                format!(
-                    "{} {}",
-                    if fl.severity() == Severity::Impossible {
-                        "!"
-                    } else {
-                        "?"
-                    },
-                    fl.code()
-                )
-            })
-            .collect();
-        ws.write_string_with_format(
-            r,
-            c + 3,
-            marked.join("; "),
-            &f.text[fill_index(Some(worst))],
-        )?;
-        let text: Vec<String> = a
-            .flags
-            .iter()
-            .map(|(fl, n)| format!("{}: {n}", fl.code()))
-            .collect();
-        ws.write_string(r, c + 4, text.join("; "))?;
-        if sheet.notes < NOTES_PER_SHEET {
-            sheet.notes += 1;
-            ws.insert_note(
-                r,
-                c + 3,
-                &Note::new(text.join("\n")).set_author("benchgrade"),
-            )?;
+    write_flags(ws, sheet, r, c + 3, g, f)
+}
+
+/// The recomputed values from column `base` on, each shaded by the worst flag about it.
+fn write_computed(
+    ws: &mut Worksheet,
+    r: u32,
+    base: u16,
+    g: &Graded,
+    f: &Formats,
+) -> Result<(), XlsxError> {
+    let flags = &g.assessed.flags;
+    let row = g.row();
+    for (i, column) in computed().enumerate() {
+        let mut severity = None;
+        for (flag, _) in flags.iter().filter(|(fl, _)| column.shaded_by.contains(fl)) {
+            if severity != Some(Severity::Impossible) {
+                severity = Some(flag.severity());
+            }
         }
+        let col = base + i as u16;
+        match (column.number(row).filter(|x| x.is_finite()), severity) {
+            (Some(x), None) => ws.write_number(r, col, x)?,
+            (Some(x), sev) => ws.write_number_with_format(r, col, x, f.number(column, sev))?,
+            (None, None) => ws,
+            (None, sev) => ws.write_blank(r, col, f.number(column, sev))?,
+        };
+    }
+    Ok(())
+}
+
+/// The flags column (each code with its marker, shaded by the worst) at `col`, the reasons
+/// beside it, and a note with the reasons while the sheet has notes to spare.
+fn write_flags(
+    ws: &mut Worksheet,
+    sheet: &mut SectionSheet,
+    r: u32,
+    col: u16,
+    g: &Graded,
+    f: &Formats,
+) -> Result<(), XlsxError> {
+    let a = &g.assessed;
+    if a.flags.is_empty() {
+        return Ok(());
+    }
+    let worst = if a.is_impossible() {
+        Severity::Impossible
+    } else {
+        Severity::Suspicious
+    };
+    let marked: Vec<String> = a
+        .flags
+        .iter()
+        .map(|(fl, _)| {
+            let mark = match fl.severity() {
+                Severity::Impossible => "!",
+                Severity::Suspicious => "?",
+            };
+            format!("{mark} {}", fl.code())
+        })
+        .collect();
+    ws.write_string_with_format(r, col, marked.join("; "), &f.text[fill_index(Some(worst))])?;
+    let text: Vec<String> = a
+        .flags
+        .iter()
+        .map(|(fl, n)| format!("{}: {n}", fl.code()))
+        .collect();
+    ws.write_string(r, col + 1, text.join("; "))?;
+    if sheet.notes < NOTES_PER_SHEET {
+        sheet.notes += 1;
+        ws.insert_note(r, col, &Note::new(text.join("\n")).set_author("benchgrade"))?;
     }
     Ok(())
 }

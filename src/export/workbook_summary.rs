@@ -5,8 +5,9 @@
 use rust_xlsxwriter::{Chart, ChartType, Format, Workbook, Worksheet, XlsxError};
 
 use super::provenance::Provenance;
-use super::workbook::{sheet_name, write_opt, Book, Formats};
-use crate::stats::sections::{SectionStats, MEASURES};
+use super::workbook::{computed_position, sheet_name, write_opt, Book, Formats};
+use crate::model::{columns, Measure};
+use crate::stats::sections::SectionStats;
 use crate::stats::{histogram, QUANTILE_DEFINITION};
 
 pub(super) fn statistics_sheet(
@@ -72,7 +73,7 @@ pub(crate) fn summary_table(
     let mut r = 1;
     for (section, measure, summary) in stats.summaries().into_iter().filter(|(s, _, _)| keep(s)) {
         ws.write_string(r, 0, section)?;
-        ws.write_string(r, 1, measure)?;
+        ws.write_string(r, 1, measure.key())?;
         ws.write_number(r, 2, summary.as_ref().map_or(0.0, |s| s.n as f64))?;
         for (i, v) in summary.iter().flat_map(|s| s.values()).enumerate() {
             write_opt(ws, r, 3 + i as u16, v)?;
@@ -92,11 +93,6 @@ fn charts(
     data: &[(String, u32, usize)],
     start: u32,
 ) -> Result<(), XlsxError> {
-    let recovery_i = MEASURES
-        .iter()
-        .position(|m| *m == "recovery_pct")
-        .unwrap_or(0);
-    let score_i = MEASURES.iter().position(|m| *m == "score").unwrap_or(4);
     let mut r = start;
     ws.write_string(r, 0, "Recovery bins (%)")?;
     let bins = histogram(&[], 0.0, 10.0, 11);
@@ -122,24 +118,32 @@ fn charts(
             continue;
         };
         let columns = [
-            (&mut recovery, 0, 1, recovery_i),
-            (&mut score, 14, 15, score_i),
+            (&mut recovery, 0, 1, Measure::RECOVERY),
+            (&mut score, 14, 15, Measure::SCORE),
         ];
         for (chart, labels, first, measure) in columns {
+            let Some(values) = g.values(stats, measure) else {
+                continue;
+            };
             let col = (labels, first + k as u16);
-            histogram_series(ws, chart, (name, r), col, section, &g.values[measure])?;
+            histogram_series(ws, chart, (name, r), col, section, values)?;
         }
     }
     let mut scatter = Chart::new(ChartType::Scatter);
     scatter.title().set_name("Recovery against range width");
     scatter.x_axis().set_name("Range width (°C)");
     scatter.y_axis().set_name("Recovery (%)");
+    let at = |c: &columns::Column| computed_position(c);
+    let (Some(width_at), Some(rec_at)) = (at(&columns::RANGE_WIDTH_C), at(&columns::RECOVERY_PCT))
+    else {
+        return Ok(());
+    };
     for (sheet, rows, originals) in data {
         if *rows < 2 {
             continue;
         }
-        let width_col = (*originals + 5) as u16;
-        let rec_col = (*originals + 4) as u16;
+        let width_col = *originals as u16 + width_at;
+        let rec_col = *originals as u16 + rec_at;
         scatter
             .add_series()
             .set_name(sheet.as_str())

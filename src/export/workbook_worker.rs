@@ -13,7 +13,7 @@ use super::provenance::Provenance;
 use super::row_thread::{RowSink, RowThread};
 use super::workbook::GradedWorkbooks;
 use crate::error::WriteError;
-use crate::rubric::score::Graded;
+use crate::model::Graded;
 use crate::stats::sections::SectionStats;
 
 /// What the thread needs once every row has been sent.

@@ -22,7 +22,7 @@ use crate::export::workbook::GradedWorkbooks;
 use crate::export::workbook_worker::{self, BookWorker};
 use crate::export::{cohort_csv, cohort_workbook, section_stats};
 use crate::ingest::Problem;
-use crate::rubric::score::Graded;
+use crate::model::Graded;
 use crate::stats::cohort::{BiasRule, Cohort};
 use crate::stats::sections::SectionStats;
 

@@ -6,7 +6,7 @@ use std::collections::BTreeMap;
 use serde::{Deserialize, Serialize};
 use toml::Spanned;
 
-use crate::assess::Flag;
+use crate::model::Flag;
 
 /// A computed measure a criterion may score.
 #[derive(Clone, Copy, Debug, PartialEq, Eq)]
@@ -172,7 +172,7 @@ pub struct FlagRule {
 
 impl FlagRule {
     pub fn applies_to(&self, flag: Flag) -> bool {
-        use crate::assess::Severity;
+        use crate::model::Severity;
         match self.flag.get_ref().as_str() {
             "impossible" => flag.severity() == Severity::Impossible,
             "suspicious" => flag.severity() == Severity::Suspicious,

@@ -247,23 +247,6 @@ impl Rubric {
         }
         Ok(())
     }
-
-    /// How the experiment compound's reference is chosen (the command line's value wins).
-    pub fn reference_rule(&self, command_line_mp_c: Option<f64>) -> crate::assess::ReferenceRule {
-        use crate::assess::ReferenceRule as R;
-        let e = &self.experiment;
-        match (
-            command_line_mp_c.or(e.reference_mp_c),
-            e.reference_range_c,
-            &e.reference_source,
-        ) {
-            (Some(v), _, _) => R::Value(v),
-            (None, Some([lo, hi]), _) => R::Range(lo, hi),
-            (None, None, Some(s)) => R::Source(s.clone()),
-            _ if e.accept_literature_range => R::Literature,
-            _ => R::Accepted,
-        }
-    }
 }
 
 #[cfg(test)]

@@ -14,6 +14,7 @@ use std::path::Path;
 
 use crate::error::ConfigError;
 use crate::ingest::delimited;
+use crate::numtext::points;
 
 /// What an override does to the points.
 #[derive(Clone, Copy, Debug, PartialEq)]
@@ -47,11 +48,10 @@ pub struct Override {
 
 impl Override {
     pub fn describe(&self, what: &str, before: f64, after: f64) -> String {
-        let num = |v: f64| crate::export::number(Some((v * 1e6).round() / 1e6));
         format!(
             "{what} {} -> {} by {}: {}",
-            num(before),
-            num(after),
+            points(before),
+            points(after),
             self.grader,
             self.reason
         )

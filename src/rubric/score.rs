@@ -4,38 +4,8 @@
 use super::criteria::{Criterion, Measure};
 use super::overrides::Override;
 use super::Rubric;
-use crate::assess::Assessed;
-use crate::numtext::Fast;
-
-/// One criterion's result.
-#[derive(Clone, Debug, PartialEq)]
-pub struct CriterionScore {
-    pub id: String,
-    pub label: String,
-    pub points: f64,
-    pub max: f64,
-}
-
-/// One row's grade.
-#[derive(Clone, Debug, Default, PartialEq)]
-pub struct Score {
-    pub criteria: Vec<CriterionScore>,
-    pub total: f64,
-    pub max: f64,
-    pub percent: f64,
-    pub letter: Option<String>,
-    /// Plain sentences for the student.
-    pub feedback: String,
-    /// Overrides applied, each with its reason and grader.
-    pub overrides: Vec<String>,
-}
-
-/// A row with its assessment and its grade.
-#[derive(Clone, Debug, Default)]
-pub struct Graded {
-    pub assessed: Assessed,
-    pub score: Score,
-}
+use crate::model::{Assessed, CriterionScore, Score};
+use crate::numtext::{points, push_points, Fast};
 
 /// The value of a measure for a row.
 pub fn measure_value(m: Measure, a: &Assessed) -> Option<f64> {
@@ -148,17 +118,6 @@ fn missing_reason(m: Measure) -> &'static str {
     }
 }
 
-fn points_text(v: f64) -> String {
-    let mut s = String::new();
-    push_points(&mut s, v);
-    s
-}
-
-/// Points as feedback writes them: the shortest text, rounded to a millionth of a point.
-fn push_points(out: &mut String, v: f64) {
-    crate::export::push_number(out, Some((v * 1e6).round() / 1e6));
-}
-
 /// The feedback of one row, sentence by sentence, in one string.
 #[derive(Default)]
 struct Feedback(String);
@@ -226,11 +185,11 @@ pub fn score(rubric: &Rubric, a: &Assessed, overrides: &[&Override]) -> Score {
             }
             if rule.deduct > 0.0 {
                 deduct += rule.deduct;
-                effects.push(format!("{} points off", points_text(rule.deduct)));
+                effects.push(format!("{} points off", points(rule.deduct)));
             }
             if let Some(c) = rule.cap {
                 cap = cap.min(c);
-                effects.push(format!("the total is capped at {}", points_text(c)));
+                effects.push(format!("the total is capped at {}", points(c)));
             }
         }
         let effect = if effects.is_empty() {
@@ -298,8 +257,8 @@ pub fn score(rubric: &Rubric, a: &Assessed, overrides: &[&Override]) -> Score {
 #[cfg(test)]
 mod tests {
     use super::*;
-    use crate::assess::{Assessed, Flag};
     use crate::ingest::Submission;
+    use crate::model::{Assessed, Flag};
     use crate::rubric::overrides::Change;
 
     fn rubric(extra: &str) -> Rubric {

@@ -8,13 +8,10 @@
 use std::collections::BTreeMap;
 
 use super::inference::{
-    holm, kruskal_wallis, mad, mann_whitney, median, one_way_anova, robust_z, welch_anova, welch_t,
+    holm, kruskal_wallis, mann_whitney, median, one_way_anova, welch_anova, welch_t,
 };
-use crate::assess::{Flag, Severity};
-use crate::rubric::score::Graded;
-
-/// The measures compared across groups, as named in section-comparison.csv.
-pub const COMPARED: [&str; 4] = ["recovery_pct", "depression_c", "purity_mol_pct", "score"];
+use super::outlier::{self, Centre};
+use crate::model::{bench_key, Flag, Graded, Measure};
 
 /// Thresholds for a bench finding.
 #[derive(Clone, Copy, Debug)]
@@ -39,26 +36,68 @@ struct Row {
     section: u32,
     assistant: Option<u32>,
     bench: Option<u32>,
-    values: [f64; 4],
     impossible: bool,
     above_reference: bool,
-    where_: u32,
+    /// The spreadsheet row, and the "file [sheet]" it is in (in `Cohort::origins`).
+    origin: u32,
+    line: u32,
+}
+
+/// Names interned once: every row refers to its section, assistant, bench and file by number.
+#[derive(Clone, Debug, Default)]
+struct Names {
+    names: Vec<String>,
+    index: BTreeMap<String, u32>,
+}
+
+impl Names {
+    fn intern(&mut self, name: &str) -> u32 {
+        if let Some(&i) = self.index.get(name) {
+            return i;
+        }
+        let i = self.names.len() as u32;
+        self.names.push(name.to_string());
+        self.index.insert(name.to_string(), i);
+        i
+    }
+
+    fn get(&self, i: u32) -> &str {
+        &self.names[i as usize]
+    }
 }
 
 /// Everything the cohort report needs, gathered row by row.
-#[derive(Clone, Debug, Default)]
+#[derive(Clone, Debug)]
 pub struct Cohort {
-    names: Vec<String>,
-    index: BTreeMap<String, u32>,
+    /// The measures compared: the registry's compared measures.
+    measures: Vec<Measure>,
+    sections: Names,
+    assistants: Names,
+    benches: Names,
+    origins: Names,
     rows: Vec<Row>,
-    /// Where each row came from: the interned "file [sheet]" and the spreadsheet row.
-    places: Vec<(u32, u32)>,
+    /// Each row's value of every compared measure (NaN where none), row after row.
+    values: Vec<f64>,
+}
+
+impl Default for Cohort {
+    fn default() -> Self {
+        Cohort {
+            measures: Measure::compared(),
+            sections: Names::default(),
+            assistants: Names::default(),
+            benches: Names::default(),
+            origins: Names::default(),
+            rows: Vec::new(),
+            values: Vec::new(),
+        }
+    }
 }
 
 /// One line of section-comparison.csv.
 #[derive(Clone, Debug, PartialEq)]
 pub struct Comparison {
-    pub measure: &'static str,
+    pub measure: Measure,
     pub grouping: &'static str,
     pub test: &'static str,
     pub group_a: String,
@@ -91,90 +130,74 @@ pub struct BenchBias {
 pub struct Outlier {
     pub section: String,
     pub place: String,
-    pub measure: &'static str,
+    pub measure: Measure,
     pub value: f64,
     pub robust_z: f64,
 }
 
 impl Cohort {
     /// "file [sheet] row N", as the report names a row.
-    fn place(&self, i: u32) -> String {
-        let (origin, row) = self.places[i as usize];
-        let origin = &self.names[origin as usize];
-        format!("{} row {row}", origin.trim_start_matches('\u{3}'))
-    }
-
-    fn intern(&mut self, name: &str) -> u32 {
-        if let Some(&i) = self.index.get(name) {
-            return i;
-        }
-        let i = self.names.len() as u32;
-        self.names.push(name.to_string());
-        self.index.insert(name.to_string(), i);
-        i
+    fn place(&self, r: &Row) -> String {
+        format!("{} row {}", self.origins.get(r.origin), r.line)
     }
 
     pub fn add(&mut self, g: &Graded) {
         let a = &g.assessed;
         let s = &a.submission;
-        let section = self.intern(&s.section);
-        let assistant = s
-            .assistant
-            .as_deref()
-            .map(|x| self.intern(&format!("\u{1}{x}")));
+        let section = self.sections.intern(&s.section);
+        let assistant = s.assistant.as_deref().map(|x| self.assistants.intern(x));
+        // benches match however they are written ("Bench 7", "B7", "7"), as in calibration
         let bench = s
             .apparatus
             .as_deref()
             .or(s.bench.as_deref())
-            // benches match however they are written ("Bench 7", "B7", "7"), as in calibration
-            .map(|x| {
-                self.intern(&format!(
-                    "\u{2}{}",
-                    crate::assess::calibration::apparatus_key(x)
-                ))
-            });
+            .map(|x| self.benches.intern(&bench_key(x)));
         let origin = match &s.sheet {
-            Some(sheet) => format!("\u{3}{} [{sheet}]", s.source),
-            None => format!("\u{3}{}", s.source),
+            Some(sheet) => self.origins.intern(&format!("{} [{sheet}]", s.source)),
+            None => self.origins.intern(&s.source),
         };
-        let origin = self.intern(&origin);
-        self.places.push((origin, s.row));
-        let v = |x: Option<f64>| x.filter(|v| v.is_finite()).unwrap_or(f64::NAN);
+        let row = g.row();
+        self.values.extend(
+            self.measures
+                .iter()
+                .map(|m| m.value(row).unwrap_or(f64::NAN)),
+        );
         self.rows.push(Row {
             section,
             assistant,
             bench,
-            values: [
-                v(a.recovery_pct),
-                v(a.depression_c),
-                v(a.purity_mol_pct),
-                g.score.total,
-            ],
-            impossible: a
-                .flags
-                .iter()
-                .any(|(f, _)| f.severity() == Severity::Impossible),
+            impossible: a.is_impossible(),
             above_reference: a.has(Flag::AboveReference),
-            where_: self.places.len() as u32 - 1,
+            origin,
+            line: s.row,
         });
     }
 
-    fn name(&self, i: u32) -> &str {
-        self.names[i as usize].trim_start_matches(['\u{1}', '\u{2}'])
+    /// Where measure `m` sits among each row's values; `None` if it is not compared.
+    fn slot(&self, m: Measure) -> Option<usize> {
+        self.measures.iter().position(|x| *x == m)
     }
 
-    /// Values of measure `m` by group, for rows without impossible entries, groups in name order.
-    fn groups(&self, m: usize, key: impl Fn(&Row) -> Option<u32>) -> Vec<(String, Vec<f64>)> {
+    /// Row `i`'s value in slot `slot`.
+    fn value(&self, i: usize, slot: usize) -> f64 {
+        self.values[i * self.measures.len() + slot]
+    }
+
+    /// Values in `slot` by group, for rows without impossible entries, groups in name order.
+    fn groups(
+        &self,
+        slot: usize,
+        names: &Names,
+        key: impl Fn(&Row) -> Option<u32>,
+    ) -> Vec<(String, Vec<f64>)> {
         let mut by: BTreeMap<String, Vec<f64>> = BTreeMap::new();
-        for r in self
-            .rows
-            .iter()
-            .filter(|r| !r.impossible && r.values[m].is_finite())
-        {
+        for (i, r) in self.rows.iter().enumerate() {
+            let v = self.value(i, slot);
+            if r.impossible || !v.is_finite() {
+                continue;
+            }
             if let Some(k) = key(r) {
-                by.entry(self.name(k).to_string())
-                    .or_default()
-                    .push(r.values[m]);
+                by.entry(names.get(k).to_string()).or_default().push(v);
             }
         }
         by.into_iter().collect()
@@ -184,82 +207,34 @@ impl Cohort {
         let mut s: Vec<String> = self
             .rows
             .iter()
-            .map(|r| self.name(r.section).to_string())
+            .map(|r| self.sections.get(r.section).to_string())
             .collect();
         s.sort();
         s.dedup();
         s
     }
 
-    /// Values of a measure by section (rows without impossible entries), for plots.
-    pub fn by_section(&self, measure: &str) -> Vec<(String, Vec<f64>)> {
-        let m = COMPARED.iter().position(|x| *x == measure).unwrap_or(0);
-        self.groups(m, |r| Some(r.section))
+    /// Values of a measure by section (rows without impossible entries), for plots; empty for
+    /// a measure that is not compared.
+    pub fn by_section(&self, m: Measure) -> Vec<(String, Vec<f64>)> {
+        match self.slot(m) {
+            Some(slot) => self.groups(slot, &self.sections, |r| Some(r.section)),
+            None => Vec::new(),
+        }
     }
 
     /// Omnibus and pairwise tests of every compared measure across sections (and assistants).
     pub fn comparisons(&self) -> Vec<Comparison> {
         let mut out = Vec::new();
-        let groupings: [(&'static str, GroupKey); 2] = [
-            ("section", |r| Some(r.section)),
-            ("assistant", |r| r.assistant),
-        ];
-        for (m, measure) in COMPARED.iter().enumerate() {
-            for (grouping, key) in groupings {
-                let groups = self.groups(m, key);
-                if groups.len() < 2 {
-                    continue;
+        for (slot, &measure) in self.measures.iter().enumerate() {
+            let by_section = self.groups(slot, &self.sections, |r| Some(r.section));
+            let by_assistant = self.groups(slot, &self.assistants, |r| r.assistant);
+            for (grouping, groups) in [("section", by_section), ("assistant", by_assistant)] {
+                if groups.len() >= 2 {
+                    let blank = Comparison::blank(measure, grouping);
+                    out.extend(omnibus(&blank, &groups));
+                    out.extend(pairwise(&blank, &groups));
                 }
-                let refs: Vec<&[f64]> = groups.iter().map(|(_, v)| v.as_slice()).collect();
-                let row = |test, statistic, df1, df2, p, effect| Comparison {
-                    measure,
-                    grouping,
-                    test,
-                    group_a: String::new(),
-                    group_b: String::new(),
-                    statistic,
-                    df1,
-                    df2,
-                    p_value: p,
-                    p_adjusted: f64::NAN,
-                    effect_size: effect,
-                };
-                if let Some(a) = one_way_anova(&refs) {
-                    out.push(row("one-way ANOVA", a.f, a.df1, a.df2, a.p, a.eta_squared));
-                }
-                if let Some(w) = welch_anova(&refs) {
-                    out.push(row("Welch ANOVA", w.statistic, w.df1, w.df2, w.p, f64::NAN));
-                }
-                if let Some(k) = kruskal_wallis(&refs) {
-                    let n: usize = refs.iter().map(|g| g.len()).sum();
-                    // epsilon squared, H / (n - 1)
-                    out.push(row(
-                        "Kruskal-Wallis",
-                        k.statistic,
-                        k.df1,
-                        f64::NAN,
-                        k.p,
-                        k.statistic / (n as f64 - 1.0),
-                    ));
-                }
-                let mut pairs = Vec::new();
-                for i in 0..groups.len() {
-                    for j in i + 1..groups.len() {
-                        if let Some(t) = welch_t(&groups[i].1, &groups[j].1) {
-                            let d = cohen_d(&groups[i].1, &groups[j].1);
-                            pairs.push(Comparison {
-                                group_a: groups[i].0.clone(),
-                                group_b: groups[j].0.clone(),
-                                ..row("Welch t", t.statistic, t.df1, f64::NAN, t.p, d)
-                            });
-                        }
-                    }
-                }
-                let adjusted = holm(&pairs.iter().map(|p| p.p_value).collect::<Vec<_>>());
-                for (p, adj) in pairs.iter_mut().zip(adjusted) {
-                    p.p_adjusted = adj;
-                }
-                out.extend(pairs);
             }
         }
         out
@@ -267,84 +242,74 @@ impl Cohort {
 
     /// Each bench against the rest of the cohort on depression, Holm-adjusted across benches.
     pub fn bench_bias(&self, rule: BiasRule) -> Vec<BenchBias> {
-        let m = 1; // depression_c
-        let mut by: BTreeMap<u32, Vec<&Row>> = BTreeMap::new();
-        for r in self.rows.iter().filter(|r| r.values[m].is_finite()) {
+        let Some(slot) = self.slot(Measure::DEPRESSION) else {
+            return Vec::new();
+        };
+        let with_value: Vec<(usize, &Row)> = self
+            .rows
+            .iter()
+            .enumerate()
+            .filter(|(i, _)| self.value(*i, slot).is_finite())
+            .collect();
+        let mut by: BTreeMap<u32, Vec<usize>> = BTreeMap::new();
+        for (i, r) in &with_value {
             if let Some(b) = r.bench {
-                by.entry(b).or_default().push(r);
+                by.entry(b).or_default().push(*i);
             }
         }
         let mut out: Vec<BenchBias> = Vec::new();
-        for (&bench, rows) in &by {
-            let mine: Vec<f64> = rows.iter().map(|r| r.values[m]).collect();
-            let rest: Vec<f64> = self
-                .rows
+        for (&bench, members) in &by {
+            let mine: Vec<f64> = members.iter().map(|&i| self.value(i, slot)).collect();
+            let rest: Vec<f64> = with_value
                 .iter()
-                .filter(|r| r.values[m].is_finite() && r.bench != Some(bench))
-                .map(|r| r.values[m])
+                .filter(|(_, r)| r.bench != Some(bench))
+                .map(|(i, _)| self.value(*i, slot))
                 .collect();
             let Some((u, p)) = mann_whitney(&mine, &rest) else {
                 continue;
             };
             out.push(BenchBias {
-                bench: self.name(bench).to_string(),
+                bench: self.benches.get(bench).to_string(),
                 n: mine.len(),
                 median_shift_c: median(&rest) - median(&mine),
                 u_statistic: u,
                 p_value: p,
                 p_adjusted: f64::NAN,
-                above_reference: rows.iter().filter(|r| r.above_reference).count(),
+                above_reference: members
+                    .iter()
+                    .filter(|&&i| self.rows[i].above_reference)
+                    .count(),
                 finding: String::new(),
             });
         }
-        let adjusted = holm(&out.iter().map(|b| b.p_value).collect::<Vec<_>>());
-        for (b, adj) in out.iter_mut().zip(adjusted) {
-            b.p_adjusted = adj;
-            if b.median_shift_c.abs() >= rule.min_shift_c
-                && b.n >= rule.min_students
-                && adj < rule.max_p_adjusted
-            {
-                let dir = if b.median_shift_c > 0.0 {
-                    "high"
-                } else {
-                    "low"
-                };
-                b.finding = format!(
-                    "bench {} reads {:.1} °C {dir}; {} of its {} students were flagged above-reference; check the apparatus",
-                    b.bench,
-                    b.median_shift_c.abs(),
-                    b.above_reference,
-                    b.n
-                );
-            }
-        }
-        out.sort_by_key(|b| natural(&b.bench));
+        adjust_and_judge(&mut out, rule);
+        out.sort_by(|a, b| natural_cmp(&a.bench, &b.bench));
         out
     }
 
-    /// Students far from their section's median recovery or depression (|robust z| > 3.5).
+    /// Students far from their section's centre, by the one outlier rule.
     pub fn outliers(&self) -> Vec<Outlier> {
         let mut out = Vec::new();
-        for (m, measure) in [(0, "recovery_pct"), (1, "depression_c")] {
-            let mut by: BTreeMap<u32, Vec<&Row>> = BTreeMap::new();
-            for r in self
-                .rows
-                .iter()
-                .filter(|r| !r.impossible && r.values[m].is_finite())
-            {
-                by.entry(r.section).or_default().push(r);
+        for measure in outlier::MEASURES {
+            let Some(slot) = self.slot(measure) else {
+                continue;
+            };
+            let mut by: BTreeMap<u32, Vec<usize>> = BTreeMap::new();
+            for (i, r) in self.rows.iter().enumerate() {
+                if !r.impossible && self.value(i, slot).is_finite() {
+                    by.entry(r.section).or_default().push(i);
+                }
             }
-            for (section, rows) in by {
-                let v: Vec<f64> = rows.iter().map(|r| r.values[m]).collect();
-                let (med, d) = (median(&v), mad(&v));
-                for r in rows {
-                    let z = robust_z(r.values[m], med, d);
-                    if z.abs() > crate::assess::OUTLIER_Z {
+            for (section, members) in by {
+                let v: Vec<f64> = members.iter().map(|&i| self.value(i, slot)).collect();
+                let centre = Centre::of(&v);
+                for (&i, &value) in members.iter().zip(&v) {
+                    if let Some(z) = centre.outlier(value) {
                         out.push(Outlier {
-                            section: self.name(section).to_string(),
-                            place: self.place(r.where_),
+                            section: self.sections.get(section).to_string(),
+                            place: self.place(&self.rows[i]),
                             measure,
-                            value: r.values[m],
+                            value,
                             robust_z: z,
                         });
                     }
@@ -355,14 +320,145 @@ impl Cohort {
     }
 }
 
-/// Which group a row belongs to under a grouping.
-type GroupKey = fn(&Row) -> Option<u32>;
+impl Comparison {
+    /// A comparison of `measure` by `grouping`, its test and numbers still to be set.
+    fn blank(measure: Measure, grouping: &'static str) -> Comparison {
+        Comparison {
+            measure,
+            grouping,
+            test: "",
+            group_a: String::new(),
+            group_b: String::new(),
+            statistic: f64::NAN,
+            df1: f64::NAN,
+            df2: f64::NAN,
+            p_value: f64::NAN,
+            p_adjusted: f64::NAN,
+            effect_size: f64::NAN,
+        }
+    }
+}
 
-/// Sort key that puts "2" before "10".
-fn natural(s: &str) -> (String, u64, String) {
-    let digits: String = s.chars().filter(|c| c.is_ascii_digit()).collect();
-    let prefix: String = s.chars().take_while(|c| !c.is_ascii_digit()).collect();
-    (prefix, digits.parse().unwrap_or(0), s.to_string())
+/// One-way ANOVA, Welch's ANOVA and Kruskal-Wallis across the groups.
+fn omnibus(blank: &Comparison, groups: &[(String, Vec<f64>)]) -> Vec<Comparison> {
+    let refs: Vec<&[f64]> = groups.iter().map(|(_, v)| v.as_slice()).collect();
+    let row = |test, statistic, df1, df2, p_value, effect_size| Comparison {
+        test,
+        statistic,
+        df1,
+        df2,
+        p_value,
+        effect_size,
+        ..blank.clone()
+    };
+    let mut out = Vec::new();
+    if let Some(a) = one_way_anova(&refs) {
+        out.push(row("one-way ANOVA", a.f, a.df1, a.df2, a.p, a.eta_squared));
+    }
+    if let Some(w) = welch_anova(&refs) {
+        out.push(row("Welch ANOVA", w.statistic, w.df1, w.df2, w.p, f64::NAN));
+    }
+    if let Some(k) = kruskal_wallis(&refs) {
+        let n: usize = refs.iter().map(|g| g.len()).sum();
+        // epsilon squared, H / (n - 1)
+        let epsilon = k.statistic / (n as f64 - 1.0);
+        out.push(row(
+            "Kruskal-Wallis",
+            k.statistic,
+            k.df1,
+            f64::NAN,
+            k.p,
+            epsilon,
+        ));
+    }
+    out
+}
+
+/// Welch's t between every pair of groups (Cohen's d), Holm-adjusted together.
+fn pairwise(blank: &Comparison, groups: &[(String, Vec<f64>)]) -> Vec<Comparison> {
+    let mut pairs = Vec::new();
+    for (i, (name_a, a)) in groups.iter().enumerate() {
+        for (name_b, b) in &groups[i + 1..] {
+            if let Some(t) = welch_t(a, b) {
+                pairs.push(Comparison {
+                    test: "Welch t",
+                    group_a: name_a.clone(),
+                    group_b: name_b.clone(),
+                    statistic: t.statistic,
+                    df1: t.df1,
+                    p_value: t.p,
+                    effect_size: cohen_d(a, b),
+                    ..blank.clone()
+                });
+            }
+        }
+    }
+    let adjusted = holm(&pairs.iter().map(|p| p.p_value).collect::<Vec<_>>());
+    for (p, adj) in pairs.iter_mut().zip(adjusted) {
+        p.p_adjusted = adj;
+    }
+    pairs
+}
+
+/// Holm-adjusts the benches' p-values and words a finding for each bench past the rule.
+fn adjust_and_judge(benches: &mut [BenchBias], rule: BiasRule) {
+    let adjusted = holm(&benches.iter().map(|b| b.p_value).collect::<Vec<_>>());
+    for (b, adj) in benches.iter_mut().zip(adjusted) {
+        b.p_adjusted = adj;
+        if b.median_shift_c.abs() >= rule.min_shift_c
+            && b.n >= rule.min_students
+            && adj < rule.max_p_adjusted
+        {
+            let dir = if b.median_shift_c > 0.0 {
+                "high"
+            } else {
+                "low"
+            };
+            b.finding = format!(
+                "bench {} reads {:.1} °C {dir}; {} of its {} students were flagged above-reference; check the apparatus",
+                b.bench,
+                b.median_shift_c.abs(),
+                b.above_reference,
+                b.n
+            );
+        }
+    }
+}
+
+/// Orders names as people count: "2" before "10", "B1-2" before "B1-10", each run of digits
+/// compared as a number and the rest as text.
+pub fn natural_cmp(a: &str, b: &str) -> std::cmp::Ordering {
+    fn runs(s: &str) -> Vec<(bool, &str)> {
+        let mut out = Vec::new();
+        let mut start = 0;
+        let mut digits = None;
+        for (i, c) in s.char_indices() {
+            let d = c.is_ascii_digit();
+            if digits.is_some_and(|x| x != d) {
+                out.push((digits == Some(true), &s[start..i]));
+                start = i;
+            }
+            digits = Some(d);
+        }
+        if start < s.len() {
+            out.push((digits == Some(true), &s[start..]));
+        }
+        out
+    }
+    let (ra, rb) = (runs(a), runs(b));
+    for (x, y) in ra.iter().zip(&rb) {
+        let o = match (x, y) {
+            ((true, p), (true, q)) => {
+                let (p, q) = (p.trim_start_matches('0'), q.trim_start_matches('0'));
+                p.len().cmp(&q.len()).then_with(|| p.cmp(q))
+            }
+            ((_, p), (_, q)) => p.cmp(q),
+        };
+        if o.is_ne() {
+            return o;
+        }
+    }
+    ra.len().cmp(&rb.len()).then_with(|| a.cmp(b))
 }
 
 /// Cohen's d with the pooled standard deviation.
@@ -374,4 +470,16 @@ fn cohen_d(a: &[f64], b: &[f64]) -> f64 {
     let vb = b.iter().map(|x| (x - mb).powi(2)).sum::<f64>() / (nb - 1.0);
     let pooled = (((na - 1.0) * va + (nb - 1.0) * vb) / (na + nb - 2.0)).sqrt();
     (ma - mb) / pooled
+}
+
+#[cfg(test)]
+mod tests {
+    use super::*;
+
+    #[test]
+    fn names_sort_as_people_count() {
+        let mut v = vec!["B1-10", "10", "B1-2", "2", "B10", "B2", "01"];
+        v.sort_by(|a, b| natural_cmp(a, b));
+        assert_eq!(v, ["01", "2", "10", "B1-2", "B1-10", "B2", "B10"]);
+    }
 }

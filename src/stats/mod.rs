@@ -7,6 +7,7 @@
 
 pub mod cohort;
 pub mod inference;
+pub mod outlier;
 pub mod sections;
 
 use statrs::distribution::{ContinuousCDF, StudentsT};

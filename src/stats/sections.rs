@@ -4,50 +4,55 @@
 use std::collections::BTreeMap;
 
 use super::{summarize, Summary};
-use crate::assess::Severity;
-use crate::rubric::score::Graded;
-
-/// The measures summarised for every section, as named in section-stats.csv.
-pub const MEASURES: [&str; 5] = [
-    "recovery_pct",
-    "range_width_c",
-    "depression_c",
-    "purity_mol_pct",
-    "score",
-];
+use crate::model::{Graded, Measure, Severity};
 
 /// One section's gathered values.
 #[derive(Clone, Debug, Default)]
 pub struct Group {
     pub rows: usize,
-    pub values: [Vec<f64>; 5],
+    /// The values of each summarised measure, in the order of `SectionStats::measures`.
+    values: Vec<Vec<f64>>,
     pub flags: BTreeMap<&'static str, usize>,
     /// Rows left out of the statistics: where, and the impossible flags that excluded them.
     pub excluded: Vec<String>,
 }
 
 /// Statistics for every section of the batch, in section-name order.
-#[derive(Clone, Debug, Default)]
+#[derive(Clone, Debug)]
 pub struct SectionStats {
+    /// The measures summarised: the registry's summarised measures.
+    measures: Vec<Measure>,
     pub groups: BTreeMap<String, Group>,
 }
 
-fn measures(g: &Graded) -> [Option<f64>; 5] {
-    let a = &g.assessed;
-    [
-        a.recovery_pct,
-        a.range_width_c,
-        a.depression_c,
-        a.purity_mol_pct,
-        Some(g.score.total),
-    ]
+impl Default for SectionStats {
+    fn default() -> Self {
+        SectionStats {
+            measures: Measure::summarised(),
+            groups: BTreeMap::new(),
+        }
+    }
+}
+
+impl Group {
+    /// The values of a summarised measure; `None` for a measure that is not summarised.
+    pub fn values(&self, stats: &SectionStats, m: Measure) -> Option<&[f64]> {
+        let i = stats.measures.iter().position(|x| *x == m)?;
+        Some(self.values.get(i).map_or(&[], Vec::as_slice))
+    }
 }
 
 impl SectionStats {
+    pub fn measures(&self) -> &[Measure] {
+        &self.measures
+    }
+
     pub fn add(&mut self, g: &Graded) {
         let a = &g.assessed;
         let s = &a.submission;
+        let n = self.measures.len();
         let group = self.groups.entry(s.section.clone()).or_default();
+        group.values.resize_with(n, Vec::new);
         group.rows += 1;
         for (f, _) in &a.flags {
             *group.flags.entry(f.code()).or_default() += 1;
@@ -68,19 +73,19 @@ impl SectionStats {
                 .push(format!("{at}: {}", impossible.join(", ")));
             return;
         }
-        for (slot, v) in group.values.iter_mut().zip(measures(g)) {
-            if let Some(x) = v.filter(|x| x.is_finite()) {
-                slot.push(x);
-            }
+        let row = g.row();
+        for (slot, m) in group.values.iter_mut().zip(&self.measures) {
+            slot.extend(m.value(row));
         }
     }
 
     /// (section, measure, summary) for every section and measure; `None` where no value.
-    pub fn summaries(&self) -> Vec<(&str, &'static str, Option<Summary>)> {
+    pub fn summaries(&self) -> Vec<(&str, Measure, Option<Summary>)> {
         let mut out = Vec::new();
         for (name, g) in &self.groups {
-            for (m, v) in MEASURES.iter().zip(&g.values) {
-                out.push((name.as_str(), *m, summarize(v)));
+            for (i, m) in self.measures.iter().enumerate() {
+                let values = g.values.get(i).map_or(&[][..], Vec::as_slice);
+                out.push((name.as_str(), *m, summarize(values)));
             }
         }
         out

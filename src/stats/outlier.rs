@@ -1,0 +1,133 @@
+//! The one outlier rule, used by the `outlier` flag and by the cohort report's list of results
+//! far from their section, so that the two can never disagree: a value is an outlier when its
+//! robust z-score (Iglewicz and Hoaglin: 0.6745 x distance from the median / MAD) lies beyond
+//! 3.5, measured against its section's rows without impossible entries.
+
+use std::collections::HashMap;
+
+use super::inference::{mad, median};
+use crate::model::{Assessed, Measure, Row};
+
+/// The measures an outlier is judged on.
+pub const MEASURES: [Measure; 2] = [Measure::RECOVERY, Measure::DEPRESSION];
+
+/// Robust z-score beyond which a value is an outlier (Iglewicz and Hoaglin's 3.5).
+pub const OUTLIER_Z: f64 = 3.5;
+
+/// Where a section's values centre, and how far they spread.
+#[derive(Clone, Copy, Debug, PartialEq)]
+pub struct Centre {
+    pub median: f64,
+    /// Median absolute deviation from the median (unscaled).
+    pub mad: f64,
+}
+
+impl Centre {
+    /// The centre of a group's values.
+    pub fn of(values: &[f64]) -> Centre {
+        Centre {
+            median: median(values),
+            mad: mad(values),
+        }
+    }
+
+    /// The robust z-score of a value: 0.6745 (x - median) / MAD, or 0 when the MAD is zero.
+    pub fn z(&self, x: f64) -> f64 {
+        if self.mad > 0.0 {
+            0.6745 * (x - self.median) / self.mad
+        } else {
+            0.0
+        }
+    }
+
+    /// The robust z-score of a value beyond the threshold, or `None` for a value within it.
+    pub fn outlier(&self, x: f64) -> Option<f64> {
+        let z = self.z(x);
+        (z.abs() > OUTLIER_Z).then_some(z)
+    }
+}
+
+/// Each section's centre of every outlier measure, over its rows without impossible entries,
+/// gathered in a first pass so that `outlier` is known when a row is graded.
+#[derive(Clone, Debug, Default)]
+pub struct Centres {
+    values: HashMap<String, [Vec<f64>; MEASURES.len()]>,
+    by_section: HashMap<String, [Centre; MEASURES.len()]>,
+}
+
+/// A value far from its section's centre.
+#[derive(Clone, Copy, Debug, PartialEq)]
+pub struct Far {
+    pub measure: Measure,
+    pub value: f64,
+    pub centre: Centre,
+    pub z: f64,
+}
+
+impl Centres {
+    /// Gathers a row's values (rows with impossible entries are passed over).
+    pub fn add(&mut self, a: &Assessed) {
+        if a.is_impossible() {
+            return;
+        }
+        let section = &a.submission.section;
+        if !self.values.contains_key(section) {
+            self.values.insert(section.clone(), Default::default());
+        }
+        if let Some(slots) = self.values.get_mut(section) {
+            for (slot, m) in slots.iter_mut().zip(MEASURES) {
+                slot.extend(m.of_assessed(a).filter(|v| v.is_finite()));
+            }
+        }
+    }
+
+    /// Computes every section's centres once all rows are gathered.
+    pub fn settle(&mut self) {
+        for (section, values) in self.values.drain() {
+            self.by_section
+                .insert(section, values.each_ref().map(|v| Centre::of(v)));
+        }
+    }
+
+    /// The measures on which a row lies far from its section's centre.
+    pub fn far(&self, a: &Assessed) -> Vec<Far> {
+        let Some(centres) = self.by_section.get(&a.submission.section) else {
+            return Vec::new();
+        };
+        let row = Row {
+            assessed: a,
+            score: None,
+        };
+        MEASURES
+            .iter()
+            .zip(centres)
+            .filter_map(|(m, c)| {
+                let v = m.value(row)?;
+                let z = c.outlier(v)?;
+                Some(Far {
+                    measure: *m,
+                    value: v,
+                    centre: *c,
+                    z,
+                })
+            })
+            .collect()
+    }
+}
+
+#[cfg(test)]
+mod tests {
+    use super::*;
+    use approx::assert_abs_diff_eq;
+
+    #[test]
+    fn robust_scores() {
+        // 1, 2, 3, 4, 100: median 3, MAD 1 (hand-worked); 100 -> 0.6745 x 97 = 65.43
+        let c = Centre::of(&[1.0, 2.0, 3.0, 4.0, 100.0]);
+        assert_eq!((c.median, c.mad), (3.0, 1.0));
+        assert_abs_diff_eq!(c.z(100.0), 65.4265, epsilon = 1e-9);
+        assert!(c.outlier(100.0).is_some() && c.outlier(4.0).is_none());
+        // 3.5 / 0.6745 = 5.189 MADs from the median is the edge (hand-worked)
+        assert!(c.outlier(3.0 + 5.18).is_none() && c.outlier(3.0 + 5.2).is_some());
+    }
+}
