@@ -14,38 +14,84 @@ use polars::prelude::*;
 use super::atomic::AtomicFile;
 use super::pseudonym::Pseudonymizer;
 use crate::error::WriteError;
+use crate::model::columns::{self, Column, Kind, Outputs, Personal, Value};
 use crate::model::Graded;
 
 use super::baseline::TermTally;
 pub use super::baseline::{compare, Term};
 
-const TEXT: [&str; 8] = [
-    "source",
-    "sheet",
-    "section",
-    "student_id",
-    "student_name",
-    "bench",
-    "compound",
-    "flags",
-];
-const NUMBERS: [&str; 15] = [
-    "crude_mass_g",
-    "recovered_mass_g",
-    "solvent_volume_ml",
-    "mp_onset_c",
-    "mp_clear_c",
-    "recovery_pct",
-    "range_width_c",
-    "reference_mp_c",
-    "depression_c",
-    "purity_mol_pct",
-    "max_recovery_pct",
-    "min_solvent_ml",
-    "score",
-    "max_score",
-    "percent",
-];
+/// How a column is stored in results.parquet.
+#[derive(Clone, Copy, PartialEq, Eq, PartialOrd, Ord)]
+enum Stored {
+    Integer,
+    Text,
+    Number,
+}
+
+fn stored(c: &Column) -> Stored {
+    match c.kind {
+        Kind::Integer => Stored::Integer,
+        Kind::Number => Stored::Number,
+        _ => Stored::Text,
+    }
+}
+
+/// The registry's parquet columns, whole numbers first, then text, then numbers (each in
+/// registry order).
+fn parquet_columns() -> Vec<&'static Column> {
+    let mut cols: Vec<&'static Column> = columns::carried_by(Outputs::PARQUET).collect();
+    cols.sort_by_key(|c| stored(c));
+    cols
+}
+
+/// One column's values for the row group being gathered.
+enum Buffer {
+    Integer(Vec<u32>),
+    Text(Vec<Option<String>>),
+    Number(Vec<Option<f64>>),
+}
+
+impl Buffer {
+    fn new(c: &Column) -> Buffer {
+        match stored(c) {
+            Stored::Integer => Buffer::Integer(Vec::with_capacity(ROW_GROUP)),
+            Stored::Text => Buffer::Text(Vec::with_capacity(ROW_GROUP)),
+            Stored::Number => Buffer::Number(Vec::with_capacity(ROW_GROUP)),
+        }
+    }
+
+    fn push(&mut self, v: Value<'_>, sep: &str) {
+        match (self, v) {
+            (Buffer::Integer(b), Value::Integer(n)) => b.push(u32::try_from(n).unwrap_or(u32::MAX)),
+            (Buffer::Number(b), Value::Number(x)) => b.push(x.filter(|x| x.is_finite())),
+            (Buffer::Text(b), Value::Text(t)) => b.push(t.map(str::to_string)),
+            (Buffer::Text(b), Value::Items(items)) => {
+                let mut joined = String::new();
+                items.push_joined(sep, &mut joined);
+                b.push(Some(joined));
+            }
+            (Buffer::Integer(b), _) => b.push(0),
+            (Buffer::Number(b), _) => b.push(None),
+            (Buffer::Text(b), _) => b.push(None),
+        }
+    }
+
+    fn take(&mut self, name: &str) -> polars::prelude::Column {
+        match self {
+            Buffer::Integer(b) => polars::prelude::Column::new(name.into(), std::mem::take(b)),
+            Buffer::Text(b) => polars::prelude::Column::new(name.into(), std::mem::take(b)),
+            Buffer::Number(b) => polars::prelude::Column::new(name.into(), std::mem::take(b)),
+        }
+    }
+
+    fn len(&self) -> usize {
+        match self {
+            Buffer::Integer(b) => b.len(),
+            Buffer::Text(b) => b.len(),
+            Buffer::Number(b) => b.len(),
+        }
+    }
+}
 
 /// Rows held before they are written out as one row group: enough for good compression,
 /// few enough that the buffer stays about two megabytes whatever the class size (16,384 rows
@@ -58,9 +104,7 @@ pub struct ParquetRows {
     writer: BatchedWriter<Shared>,
     file: Rc<RefCell<Option<AtomicFile>>>,
     path: PathBuf,
-    text: [Vec<Option<String>>; TEXT.len()],
-    numbers: [Vec<Option<f64>>; NUMBERS.len()],
-    rows: Vec<u32>,
+    columns: Vec<(&'static Column, Buffer)>,
     pseudonyms: Option<Pseudonymizer>,
     term: TermTally,
 }
@@ -85,17 +129,15 @@ impl Write for Shared {
     }
 }
 
-fn schema() -> Schema {
-    let mut fields = vec![Field::new("row".into(), DataType::UInt32)];
-    fields.extend(
-        TEXT.iter()
-            .map(|k| Field::new((*k).into(), DataType::String)),
-    );
-    fields.extend(
-        NUMBERS
-            .iter()
-            .map(|k| Field::new((*k).into(), DataType::Float64)),
-    );
+fn schema(columns: &[(&'static Column, Buffer)]) -> Schema {
+    let fields = columns.iter().map(|(c, _)| {
+        let dtype = match stored(c) {
+            Stored::Integer => DataType::UInt32,
+            Stored::Text => DataType::String,
+            Stored::Number => DataType::Float64,
+        };
+        Field::new(c.name.into(), dtype)
+    });
     Schema::from_iter(fields)
 }
 
@@ -106,18 +148,20 @@ impl ParquetRows {
         pseudonyms: Option<Pseudonymizer>,
     ) -> Result<ParquetRows, WriteError> {
         let file = Rc::new(RefCell::new(Some(AtomicFile::create(path)?)));
+        let columns: Vec<(&'static Column, Buffer)> = parquet_columns()
+            .into_iter()
+            .map(|c| (c, Buffer::new(c)))
+            .collect();
         let writer = ParquetWriter::new(Shared(file.clone()))
             .with_row_group_size(Some(ROW_GROUP))
             .set_parallel(false)
-            .batched(&schema())
+            .batched(&schema(&columns))
             .map_err(|e| WriteError::other(path, e))?;
         Ok(ParquetRows {
             writer,
             file,
             path: path.to_path_buf(),
-            text: Default::default(),
-            numbers: Default::default(),
-            rows: Vec::with_capacity(ROW_GROUP),
+            columns,
             pseudonyms,
             term: TermTally::default(),
         })
@@ -125,54 +169,28 @@ impl ParquetRows {
 
     pub fn add(&mut self, g: &Graded) -> Result<(), WriteError> {
         let a = &g.assessed;
-        let s = &a.submission;
-        let id = match (&self.pseudonyms, s.student_id.as_deref()) {
-            (Some(p), Some(id)) => Some(p.pseudonym(id)),
-            (_, id) => id.map(str::to_string),
-        };
-        let name = if self.pseudonyms.is_some() {
-            None
-        } else {
-            s.student_name.clone()
-        };
-        let flags = a.flag_codes();
-        let sc = &g.score;
-        self.term.add(a.recovery_pct, Some(sc.percent), &flags);
-        let text = [
-            Some(s.source.clone()),
-            s.sheet.clone(),
-            Some(s.section.clone()),
-            id,
-            name,
-            s.bench.clone(),
-            a.compound.clone().or_else(|| s.compound.clone()),
-            Some(flags),
-        ];
-        for (column, v) in self.text.iter_mut().zip(text) {
-            column.push(v);
+        self.term
+            .add(a.recovery_pct, Some(g.score.percent), &a.flag_codes());
+        let row = g.row();
+        for (c, buffer) in &mut self.columns {
+            let sep = match c.kind {
+                Kind::List { sep } => sep,
+                _ => ";",
+            };
+            match (c.personal, &self.pseudonyms, c.value(row)) {
+                (Some(Personal::Id), Some(p), Value::Text(Some(id))) => {
+                    let pseudonym = p.pseudonym(id);
+                    buffer.push(Value::Text(Some(&pseudonym)), sep)
+                }
+                (Some(Personal::Name), Some(_), _) => buffer.push(Value::Text(None), sep),
+                (_, _, v) => buffer.push(v, sep),
+            }
         }
-        let numbers = [
-            s.crude_mass_g,
-            s.recovered_mass_g,
-            s.solvent_volume_ml,
-            a.mp_onset_c,
-            a.mp_clear_c,
-            a.recovery_pct,
-            a.range_width_c,
-            a.reference_mp_c,
-            a.depression_c,
-            a.purity_mol_pct,
-            a.max_recovery_pct,
-            a.min_solvent_ml,
-            Some(sc.total),
-            Some(sc.max),
-            Some(sc.percent),
-        ];
-        for (column, v) in self.numbers.iter_mut().zip(numbers) {
-            column.push(v.filter(|x| x.is_finite()));
-        }
-        self.rows.push(s.row);
-        if self.rows.len() >= ROW_GROUP {
+        if self
+            .columns
+            .first()
+            .is_some_and(|(_, b)| b.len() >= ROW_GROUP)
+        {
             self.flush()?;
         }
         Ok(())
@@ -180,16 +198,14 @@ impl ParquetRows {
 
     /// Writes the buffered rows as one row group.
     fn flush(&mut self) -> Result<(), WriteError> {
-        if self.rows.is_empty() {
+        if self.columns.first().is_none_or(|(_, b)| b.len() == 0) {
             return Ok(());
         }
-        let mut cols = vec![Column::new("row".into(), std::mem::take(&mut self.rows))];
-        for (k, v) in TEXT.iter().zip(self.text.iter_mut()) {
-            cols.push(Column::new((*k).into(), std::mem::take(v)));
-        }
-        for (k, v) in NUMBERS.iter().zip(self.numbers.iter_mut()) {
-            cols.push(Column::new((*k).into(), std::mem::take(v)));
-        }
+        let cols: Vec<polars::prelude::Column> = self
+            .columns
+            .iter_mut()
+            .map(|(c, b)| b.take(c.name))
+            .collect();
         let path = &self.path;
         let df = DataFrame::new_infer_height(cols).map_err(|e| WriteError::other(path, e))?;
         self.writer

@@ -1,30 +1,29 @@
-//! DIR/results.csv: one row per submission, columns exactly as the results contract orders them;
-//! later columns are only ever appended. Written row by row as the batch streams past.
+//! DIR/results.csv: one row per submission, the registry's columns in the contract's order
+//! (`model::columns`; later columns are only ever appended), then one `points_<criterion id>`
+//! column per criterion. Written row by row as the batch streams past.
 
-use std::fmt::Write as _;
 use std::path::{Path, PathBuf};
 
 use super::atomic::AtomicFile;
 use super::pseudonym::Pseudonymizer;
 use super::{neutralise, push_number};
 use crate::error::WriteError;
+use crate::model::columns::{self, Column, Kind, Outputs, Personal, Value};
 use crate::model::Graded;
+use crate::numtext::push_u64;
 
-/// The contract's columns, in order, then the columns added since.
-#[rustfmt::skip]
-pub const COLUMNS: [&str; 37] = [
-    "source", "sheet", "row", "section", "student_id", "student_name", "bench", "compound",
-    "crude_mass_g", "recovered_mass_g", "solvent_volume_ml", "mp_onset_c", "mp_clear_c",
-    "reported_recovery_pct", "recovery_pct", "range_width_c", "reference_mp_c", "depression_c",
-    "flags", "flag_notes",
-    // added after the contract: ingest
-    "assistant", "apparatus", "solvent", "notes",
-    // physical chemistry and calibration
-    "purity_mol_pct", "purity_note", "max_recovery_pct", "min_solvent_ml",
-    "mp_onset_observed_c", "mp_clear_observed_c", "calibration",
-    // grading; then one points_<criterion id> column per criterion of the rubric
-    "score", "max_score", "percent", "letter", "feedback", "overrides",
-];
+/// The columns results.csv writes before the points, in order.
+fn columns() -> impl Iterator<Item = &'static Column> {
+    columns::carried_by(Outputs::CSV).filter(|c| c.kind != Kind::Points)
+}
+
+/// results.csv's header: the registry's columns, then `points_<id>` per criterion.
+pub fn header(criteria: &[String]) -> Vec<String> {
+    columns()
+        .map(|c| c.name.to_string())
+        .chain(criteria.iter().map(|id| format!("points_{id}")))
+        .collect()
+}
 
 /// The results file being written.
 pub struct ResultsCsv {
@@ -44,11 +43,9 @@ impl ResultsCsv {
             buf: String::new(),
             pseudonyms: None,
         };
-        let header = COLUMNS
-            .iter()
-            .map(|c| c.to_string())
-            .chain(criteria.iter().map(|id| format!("points_{id}")));
-        out.csv.write_record(header).map_err(|e| out.error(e))?;
+        out.csv
+            .write_record(header(criteria))
+            .map_err(|e| out.error(e))?;
         Ok(out)
     }
 
@@ -70,80 +67,47 @@ impl ResultsCsv {
         }
     }
 
-    fn text(&mut self, v: Option<&str>) -> csv::Result<()> {
-        self.csv
-            .write_field(v.map(neutralise).as_deref().unwrap_or(""))
+    /// Writes the buffer as a text field, guarded against formula injection.
+    fn text_field(&mut self) -> csv::Result<()> {
+        let guarded = neutralise(&self.buf);
+        self.csv.write_field(guarded.as_bytes())
     }
 
-    fn number(&mut self, v: Option<f64>) -> csv::Result<()> {
+    /// Puts one value's text into the buffer.
+    fn fill(&mut self, column: &Column, value: Value<'_>) {
         self.buf.clear();
-        push_number(&mut self.buf, v);
-        self.csv.write_field(&self.buf)
+        match (value, column.personal, &self.pseudonyms) {
+            (Value::Text(Some(id)), Some(Personal::Id), Some(p)) => {
+                self.buf.push_str(&p.pseudonym(id))
+            }
+            (_, Some(Personal::Name), Some(_)) => {}
+            (Value::Text(t), _, _) => self.buf.push_str(t.unwrap_or("")),
+            (Value::Number(v), _, _) => push_number(&mut self.buf, v),
+            (Value::Integer(n), _, _) => push_u64(&mut self.buf, n),
+            (Value::Items(items), _, _) => {
+                let sep = match column.kind {
+                    Kind::List { sep } => sep,
+                    _ => "; ",
+                };
+                items.push_joined(sep, &mut self.buf);
+            }
+            (Value::Points(_), _, _) => {}
+        }
     }
 
     fn fields(&mut self, g: &Graded) -> csv::Result<()> {
-        let a = &g.assessed;
-        let s = &a.submission;
-        self.csv.write_field(&s.source)?;
-        self.csv.write_field(s.sheet.as_deref().unwrap_or(""))?;
-        self.buf.clear();
-        let _ = write!(self.buf, "{}", s.row);
-        self.csv.write_field(&self.buf)?;
-        self.text(Some(&s.section))?;
-        match &self.pseudonyms {
-            Some(p) => {
-                let id = s.student_id.as_deref().map(|id| p.pseudonym(id));
-                self.text(id.as_deref())?;
-                self.text(None)?;
-            }
-            None => {
-                self.text(s.student_id.as_deref())?;
-                self.text(s.student_name.as_deref())?;
+        let row = g.row();
+        for column in columns() {
+            self.fill(column, column.value(row));
+            match column.kind {
+                Kind::Text | Kind::List { .. } => self.text_field()?,
+                _ => self.csv.write_field(self.buf.as_bytes())?,
             }
         }
-        self.text(s.bench.as_deref())?;
-        self.text(a.compound.as_deref().or(s.compound.as_deref()))?;
-        for v in [
-            s.crude_mass_g,
-            s.recovered_mass_g,
-            s.solvent_volume_ml,
-            a.mp_onset_c,
-            a.mp_clear_c,
-        ] {
-            self.number(v)?;
-        }
-        self.number(s.reported_recovery_pct)?;
-        for v in [
-            a.recovery_pct,
-            a.range_width_c,
-            a.reference_mp_c,
-            a.depression_c,
-        ] {
-            self.number(v)?;
-        }
-        self.csv.write_field(a.flag_codes())?;
-        self.text(Some(&a.flag_notes()))?;
-        self.text(s.assistant.as_deref())?;
-        self.text(s.apparatus.as_deref())?;
-        self.text(s.solvent.as_deref())?;
-        self.csv.write_field(s.notes.join("; "))?;
-        self.number(a.purity_mol_pct)?;
-        self.csv.write_field(&a.purity_note)?;
-        self.number(a.max_recovery_pct)?;
-        self.number(a.min_solvent_ml)?;
-        self.number(s.mp_onset_c)?;
-        self.number(s.mp_clear_c)?;
-        self.csv
-            .write_field(a.calibration.as_deref().unwrap_or(""))?;
-        let sc = &g.score;
-        for v in [sc.total, sc.max, sc.percent] {
-            self.number(Some(v))?;
-        }
-        self.csv.write_field(sc.letter.as_deref().unwrap_or(""))?;
-        self.text(Some(&sc.feedback))?;
-        self.text(Some(&sc.overrides.join("; ")))?;
-        for c in &sc.criteria {
-            self.number(Some(c.points))?;
+        for c in &g.score.criteria {
+            self.buf.clear();
+            push_number(&mut self.buf, Some(c.points));
+            self.csv.write_field(self.buf.as_bytes())?;
         }
         self.csv.write_record(None::<&[u8]>)
     }
@@ -155,5 +119,41 @@ impl ResultsCsv {
 
     pub fn finish(self) -> Result<(), WriteError> {
         super::atomic::commit_csv(self.csv, &self.path)
+    }
+}
+
+#[cfg(test)]
+mod tests {
+    use super::*;
+
+    #[test]
+    fn the_contract_columns_come_first_in_their_order() {
+        // the results contract's first twenty columns (README, "results.csv"): a public
+        // interface that later versions only append to
+        let contract = [
+            "source",
+            "sheet",
+            "row",
+            "section",
+            "student_id",
+            "student_name",
+            "bench",
+            "compound",
+            "crude_mass_g",
+            "recovered_mass_g",
+            "solvent_volume_ml",
+            "mp_onset_c",
+            "mp_clear_c",
+            "reported_recovery_pct",
+            "recovery_pct",
+            "range_width_c",
+            "reference_mp_c",
+            "depression_c",
+            "flags",
+            "flag_notes",
+        ];
+        let h = header(&["recovery".into()]);
+        assert_eq!(&h[..contract.len()], contract);
+        assert_eq!(h.last().map(String::as_str), Some("points_recovery"));
     }
 }

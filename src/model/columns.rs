@@ -379,4 +379,20 @@ mod tests {
             assert_eq!(c.kind, Kind::Number, "measure {} must be a number", c.name);
         }
     }
+
+    #[test]
+    fn every_getter_gives_a_value_of_its_kind() {
+        let g = super::super::Graded::default();
+        for c in all() {
+            let ok = matches!(
+                (c.kind, c.value(g.row())),
+                (Kind::Text, Value::Text(_))
+                    | (Kind::Number, Value::Number(_))
+                    | (Kind::Integer, Value::Integer(_))
+                    | (Kind::List { .. }, Value::Items(_))
+                    | (Kind::Points, Value::Points(_))
+            );
+            assert!(ok, "{} gives a value of another kind", c.name);
+        }
+    }
 }

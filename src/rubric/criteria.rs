@@ -6,49 +6,7 @@ use std::collections::BTreeMap;
 use serde::{Deserialize, Serialize};
 use toml::Spanned;
 
-use crate::model::Flag;
-
-/// A computed measure a criterion may score.
-#[derive(Clone, Copy, Debug, PartialEq, Eq)]
-pub enum Measure {
-    RecoveryPct,
-    RangeWidthC,
-    DepressionC,
-    PurityMolPct,
-    ClearC,
-    /// Recovery as a percentage of the recovery ceiling.
-    RecoveryOfCeilingPct,
-    /// |reported - recomputed| recovery, in percentage points.
-    RecoveryReportErrorPct,
-}
-
-impl Measure {
-    pub const ALL: [Measure; 7] = [
-        Measure::RecoveryPct,
-        Measure::RangeWidthC,
-        Measure::DepressionC,
-        Measure::PurityMolPct,
-        Measure::ClearC,
-        Measure::RecoveryOfCeilingPct,
-        Measure::RecoveryReportErrorPct,
-    ];
-
-    pub fn key(self) -> &'static str {
-        match self {
-            Measure::RecoveryPct => "recovery_pct",
-            Measure::RangeWidthC => "range_width_c",
-            Measure::DepressionC => "depression_c",
-            Measure::PurityMolPct => "purity_mol_pct",
-            Measure::ClearC => "mp_clear_c",
-            Measure::RecoveryOfCeilingPct => "recovery_of_ceiling_pct",
-            Measure::RecoveryReportErrorPct => "recovery_report_error_pct",
-        }
-    }
-
-    pub fn from_key(k: &str) -> Option<Measure> {
-        Measure::ALL.into_iter().find(|m| m.key() == k)
-    }
-}
+use crate::model::{Flag, Measure};
 
 /// One band of a banded rule: points for a value between its bounds. A lower bound is `from`
 /// (value at or above) or `above` (strictly above); an upper bound is `to` (strictly below) or
@@ -148,8 +106,9 @@ pub struct Criterion {
 }
 
 impl Criterion {
+    /// The measure the criterion scores, if it names one a criterion may score.
     pub fn measure(&self) -> Option<Measure> {
-        Measure::from_key(self.measure.get_ref())
+        Measure::from_key(self.measure.get_ref()).filter(|m| m.role().scorable)
     }
 }
 
@@ -285,7 +244,7 @@ fn check_bands(c: &Criterion, bands: &Spanned<Vec<Band>>, out: &mut Vec<Finding>
 
 fn check_criterion(c: &Criterion, out: &mut Vec<Finding>) {
     if c.measure().is_none() {
-        let known: Vec<&str> = Measure::ALL.iter().map(|m| m.key()).collect();
+        let known: Vec<&str> = Measure::scorable().into_iter().map(Measure::key).collect();
         out.push(at(
             &c.measure,
             format!(

@@ -12,7 +12,7 @@ pub mod overrides;
 pub mod score;
 
 use crate::error::{toml_location, ConfigError, Located};
-pub use criteria::{Criterion, FlagRule, Grading, Measure};
+pub use criteria::{Criterion, FlagRule, Grading};
 
 /// The rubric shipped as `rubrics/default.toml`, compiled in so that a fresh clone grades.
 pub const DEFAULT_RUBRIC: &str = include_str!("../../rubrics/default.toml");

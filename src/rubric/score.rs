@@ -1,28 +1,11 @@
 //! Scoring: each criterion's points from its measure, then the flag rules (zero, deduct, cap),
 //! then any overrides, and a sentence for every point given or taken.
 
-use super::criteria::{Criterion, Measure};
+use super::criteria::Criterion;
 use super::overrides::Override;
 use super::Rubric;
 use crate::model::{Assessed, CriterionScore, Score};
-use crate::numtext::{points, push_points, Fast};
-
-/// The value of a measure for a row.
-pub fn measure_value(m: Measure, a: &Assessed) -> Option<f64> {
-    match m {
-        Measure::RecoveryPct => a.recovery_pct,
-        Measure::RangeWidthC => a.range_width_c,
-        Measure::DepressionC => a.depression_c,
-        Measure::PurityMolPct => a.purity_mol_pct,
-        Measure::ClearC => a.mp_clear_c,
-        Measure::RecoveryOfCeilingPct => {
-            Some(100.0 * a.recovery_pct? / a.max_recovery_pct.filter(|c| *c > 0.0)?)
-        }
-        Measure::RecoveryReportErrorPct => {
-            Some((a.submission.reported_recovery_pct? - a.recovery_pct?).abs())
-        }
-    }
-}
+use crate::numtext::{points, push_points};
 
 /// Removes floating-point noise from a computed value (122.0 - 120.8 is 1.2000000000000028)
 /// so that a value on a band edge is judged as written.
@@ -53,71 +36,6 @@ pub fn rule_points(c: &Criterion, x: f64) -> f64 {
     0.0
 }
 
-/// The measure in words, as the student reads it, appended to `out`.
-fn describe(out: &mut String, m: Measure, x: f64, a: &Assessed) {
-    use std::fmt::Write as _;
-    let v = Fast(x);
-    let reference = |out: &mut String| {
-        if let Some(r) = a.reference_mp_c {
-            let _ = write!(out, " ({:.1} °C)", Fast(r));
-        }
-    };
-    let _ = match m {
-        Measure::RecoveryPct => write!(out, "recovery {v:.1} %"),
-        Measure::RangeWidthC => match (a.mp_onset_c, a.mp_clear_c) {
-            (Some(o), Some(c)) => write!(
-                out,
-                "the range {:.1}-{:.1} °C is {v:.1} °C wide",
-                Fast(o),
-                Fast(c)
-            ),
-            _ => write!(out, "the range is {v:.1} °C wide"),
-        },
-        Measure::DepressionC if x >= 0.0 => {
-            let w = write!(
-                out,
-                "the clear point is {v:.1} °C below the literature value"
-            );
-            reference(out);
-            w
-        }
-        Measure::DepressionC => {
-            let w = write!(
-                out,
-                "the clear point is {:.1} °C above the literature value",
-                Fast(-x)
-            );
-            reference(out);
-            w
-        }
-        Measure::PurityMolPct => write!(out, "estimated purity {v:.1} mol %"),
-        Measure::ClearC => write!(out, "clear point {v:.1} °C"),
-        Measure::RecoveryOfCeilingPct => {
-            write!(
-                out,
-                "recovery is {v:.0} % of the most that could crystallise"
-            )
-        }
-        Measure::RecoveryReportErrorPct if x < 0.05 => {
-            write!(out, "the reported recovery matches the masses")
-        }
-        Measure::RecoveryReportErrorPct => {
-            write!(out, "the reported recovery is off by {v:.1} points")
-        }
-    };
-}
-
-fn missing_reason(m: Measure) -> &'static str {
-    match m {
-        Measure::RecoveryPct => "no recovery could be computed from the masses",
-        Measure::RecoveryOfCeilingPct => "no recovery ceiling could be computed (masses, solvent volume or the cold solubility unknown)",
-        Measure::RangeWidthC | Measure::ClearC => "no usable melting range was recorded",
-        Measure::DepressionC => "no clear point and reference to compare",
-        Measure::PurityMolPct => "no purity estimate could be made",
-        Measure::RecoveryReportErrorPct => "no reported recovery to check",
-    }
-}
-
 /// The feedback of one row, sentence by sentence, in one string.
 #[derive(Default)]
 struct Feedback(String);
@@ -140,17 +58,17 @@ pub fn score(rubric: &Rubric, a: &Assessed, overrides: &[&Override]) -> Score {
     for c in &rubric.criteria {
         let max = *c.max.get_ref();
         let m = c.measure();
-        let value = m.and_then(|m| measure_value(m, a));
+        let value = m.and_then(|m| m.of_assessed(a));
         let out = feedback.sentence();
         out.push_str(&c.label);
         out.push_str(": ");
         let points = match (m, value) {
             (Some(m), Some(x)) => {
-                describe(out, m, x, a);
+                m.sentence(out, x, a);
                 g.round(rule_points(c, x))
             }
             (Some(m), None) => {
-                out.push_str(missing_reason(m));
+                out.push_str(m.role().missing);
                 c.if_missing
             }
             (None, _) => {
