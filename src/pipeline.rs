@@ -66,7 +66,7 @@ fn context<'a>(
 /// uncorrected.
 fn load_calibration(path: Option<&Path>, problems: &mut Vec<Problem>) -> Option<Calibration> {
     let path = path?;
-    match calibration::load(path) {
+    match ingest::calibration::load(path).and_then(calibration::from_table) {
         Ok(c) => Some(c),
         Err(errors) => {
             let file = path.display().to_string();
@@ -97,12 +97,14 @@ fn unused_calibration(
     cal.fits
         .iter()
         .filter(|(key, _)| !used.contains(*key))
-        .map(|(_, (name, row, _))| Problem {
+        .map(|(_, f)| Problem {
             file: cal.source.clone(),
             sheet: None,
             message: format!(
-                "row {row}: {} \"{name}\" appears in no submission; check its spelling",
-                cal.keyed_by.label()
+                "row {}: {} \"{}\" appears in no submission; check its spelling",
+                f.first_row,
+                cal.keyed_by.label(),
+                f.name
             ),
             fatal: false,
         })

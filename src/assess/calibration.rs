@@ -2,17 +2,15 @@
 //! readings against their certified values, fitted as T_true = a + b x T_obs by least squares
 //! (a single standard gives an offset only). Students' readings are corrected before flagging.
 //!
-//! The file is a table with an apparatus (or bench) column, an optional standard column, and
-//! observed and certified temperatures in °C: a CSV, or a sheet named "Calibration" (else the
-//! first sheet) of a workbook. Certified values come from the file, since lots differ.
+//! The readings come from `ingest::calibration`, which finds the table in a CSV or workbook;
+//! certified values come from the file, since lots differ.
 
 use std::collections::BTreeMap;
-use std::path::Path;
 
 use crate::fields::Field;
-use crate::ingest::cells::{Cell, RawSheet};
-use crate::ingest::values::{parse_quantity, Decimal};
-use crate::ingest::{delimited, workbook};
+use crate::ingest::calibration::CalibrationTable;
+#[cfg(test)]
+use crate::ingest::calibration::Reading;
 use crate::model::bench_key;
 
 /// A straight-line correction for one apparatus.
@@ -84,157 +82,74 @@ pub fn fit(points: &[(f64, f64)]) -> Result<Fit, String> {
     })
 }
 
+/// One apparatus's correction, with the calibration file's spelling of its name and the
+/// first row that names it.
+#[derive(Clone, Debug, PartialEq)]
+pub struct ApparatusFit {
+    pub name: String,
+    pub first_row: usize,
+    pub fit: Fit,
+}
+
 /// The corrections of one run.
 #[derive(Clone, Debug)]
 pub struct Calibration {
     pub source: String,
     /// Which submission column names the apparatus: `Apparatus` or `Bench`.
     pub keyed_by: Field,
-    /// Fits by apparatus key, with the calibration file's spelling and first row.
-    pub fits: BTreeMap<String, (String, usize, Fit)>,
+    /// Fits by apparatus key.
+    pub fits: BTreeMap<String, ApparatusFit>,
 }
 
 impl Calibration {
-    pub fn fit_for(&self, apparatus: Option<&str>) -> Option<&(String, usize, Fit)> {
+    pub fn fit_for(&self, apparatus: Option<&str>) -> Option<&ApparatusFit> {
         self.fits.get(&bench_key(apparatus?))
     }
 }
 
-fn header_role(text: &str) -> Option<&'static str> {
-    let t = text.to_lowercase();
-    let has = |w: &str| t.split(|c: char| !c.is_alphanumeric()).any(|x| x == w);
-    if has("apparatus") || has("instrument") || has("device") {
-        Some("apparatus")
-    } else if has("bench") || has("station") {
-        Some("bench")
-    } else if has("observed") || has("reading") || has("measured") || has("read") {
-        Some("observed")
-    } else if (has("standard") || has("compound") || has("substance")) && !has("value") {
-        Some("standard")
-    } else if has("certified")
-        || has("certificate")
-        || has("true")
-        || has("reference")
-        || has("expected")
-    {
-        Some("certified")
-    } else {
-        None
-    }
-}
-
-fn number(cell: &Cell, decimal: Decimal) -> Result<Option<f64>, ()> {
-    match cell {
-        Cell::Empty => Ok(None),
-        Cell::Number(v) => Ok(Some(*v)),
-        Cell::Text(t) => parse_quantity(t, decimal).map(|q| Some(q.value)).ok_or(()),
-        _ => Err(()),
-    }
-}
-
-/// Reads and fits a calibration table. Every problem found is returned, each naming the row.
-pub fn from_sheet(
-    source: &str,
-    sheet: &RawSheet,
-    decimal: Decimal,
-) -> Result<Calibration, Vec<String>> {
-    let at = |row: u32| format!("{source} row {}", row + 1);
-    let (header_pos, roles) = sheet
-        .rows
-        .iter()
-        .take(20)
-        .enumerate()
-        .map(|(i, r)| (i, r.non_empty().filter_map(|(c, cell)| Some((c, header_role(&cell.as_text()?)?))).collect::<Vec<_>>()))
-        .find(|(_, roles)| {
-            let has = |w| roles.iter().any(|(_, r)| *r == w);
-            (has("apparatus") || has("bench")) && has("observed") && has("certified")
-        })
-        .ok_or_else(|| vec![format!("{source}: no calibration table found (columns for the apparatus or bench, the observed reading and the certified value)")])?;
-    let col = |w: &str| roles.iter().find(|(_, r)| *r == w).map(|(c, _)| *c);
-    let keyed_by = if col("apparatus").is_some() {
-        Field::Apparatus
-    } else {
-        Field::Bench
-    };
-    let key_col = col("apparatus").or(col("bench")).unwrap_or(0);
-    let (obs_col, cert_col) = (col("observed").unwrap_or(0), col("certified").unwrap_or(0));
-    let mut errors = Vec::new();
+/// The standards of each apparatus, fitted. Every problem is returned together: the table's
+/// (rows that could not be read) first, then each apparatus whose standards give no line.
+pub fn from_table(table: CalibrationTable) -> Result<Calibration, Vec<String>> {
+    let CalibrationTable {
+        source,
+        keyed_by,
+        readings,
+        mut problems,
+    } = table;
     // by apparatus key: the file's spelling, its first row, and the (observed, certified) pairs
-    type Standards = (String, usize, Vec<(f64, f64)>);
-    let mut points: BTreeMap<String, Standards> = BTreeMap::new();
-    for row in &sheet.rows[header_pos + 1..] {
-        let Some(name) = row.get(key_col).as_text() else {
-            continue;
-        };
-        let (obs, cert) = (
-            number(row.get(obs_col), decimal),
-            number(row.get(cert_col), decimal),
-        );
-        match (obs, cert) {
-            (Ok(Some(o)), Ok(Some(c))) => {
-                let entry = points
-                    .entry(bench_key(&name))
-                    .or_insert_with(|| (name.clone(), row.index as usize + 1, Vec::new()));
-                entry.2.push((o, c));
-            }
-            (Err(()), _) | (_, Err(())) => errors.push(format!(
-                "{}: a value that is not a temperature; give observed and certified readings in °C",
-                at(row.index)
-            )),
-            _ => errors.push(format!(
-                "{}: only one reading; each row needs the observed and the certified value",
-                at(row.index)
-            )),
-        }
+    let mut points: BTreeMap<String, (String, usize, Vec<(f64, f64)>)> = BTreeMap::new();
+    for r in readings {
+        let entry = points
+            .entry(bench_key(&r.apparatus))
+            .or_insert_with(|| (r.apparatus.clone(), r.row, Vec::new()));
+        entry.2.push((r.observed, r.certified));
     }
     let mut fits = BTreeMap::new();
     for (key, (name, first_row, pts)) in points {
         match fit(&pts) {
-            Ok(f) => {
-                fits.insert(key, (name, first_row, f));
+            Ok(fit) => {
+                fits.insert(
+                    key,
+                    ApparatusFit {
+                        name,
+                        first_row,
+                        fit,
+                    },
+                );
             }
-            Err(why) => errors.push(format!(
+            Err(why) => problems.push(format!(
                 "{source} row {first_row}: apparatus \"{name}\": {why}"
             )),
         }
     }
-    if !errors.is_empty() {
-        return Err(errors);
+    if !problems.is_empty() {
+        return Err(problems);
     }
     Ok(Calibration {
-        source: source.to_string(),
+        source,
         keyed_by,
         fits,
     })
-}
-
-/// Reads a calibration file: CSV/TSV, or a workbook's "Calibration" sheet (else its first).
-pub fn load(path: &Path) -> Result<Calibration, Vec<String>> {
-    let source = path.display().to_string();
-    let ext = path
-        .extension()
-        .and_then(|e| e.to_str())
-        .unwrap_or("")
-        .to_ascii_lowercase();
-    if let Some(format) = workbook::Format::from_extension(&ext) {
-        let mut sheets = Vec::new();
-        workbook::read_workbook(path, format, &mut |s| sheets.push(s))
-            .map_err(|e| vec![format!("{source}: {e}")])?;
-        let pick = sheets
-            .iter()
-            .position(|s| s.name.to_lowercase().contains("calibrat"))
-            .unwrap_or(0);
-        let chosen = sheets
-            .into_iter()
-            .nth(pick)
-            .ok_or_else(|| vec![format!("{source}: the workbook has no sheets")])?;
-        let sheet = chosen.result.map_err(|e| vec![format!("{source}: {e}")])?;
-        return from_sheet(&source, &sheet, Decimal::Point);
-    }
-    let bytes = std::fs::read(path).map_err(|e| vec![format!("{source}: cannot read: {e}")])?;
-    let d = delimited::read_delimited(&bytes, ext == "tsv")
-        .map_err(|e| vec![format!("{source}: {e}")])?;
-    from_sheet(&source, &d.sheet, d.decimal)
 }
 
 #[cfg(test)]
@@ -277,33 +192,59 @@ mod tests {
         assert_eq!(bench_key("Mel-Temp 3"), "meltemp3");
     }
 
-    #[test]
-    fn bad_files_name_their_rows() {
-        let (sheet, _) = sheet_of("Apparatus,Standard,Observed (°C),Certified (°C)\nA,vanillin,81.0,82.0\nA,caffeine,abc,236\nB,vanillin,81.5,\nC,x,120,121\nC,y,120,122\n");
-        let errs = from_sheet("cal.csv", &sheet, Decimal::Point).unwrap_err();
-        assert_eq!(errs.len(), 3, "{errs:?}");
-        assert!(errs[0].contains("cal.csv row 3") && errs[0].contains("not a temperature"));
-        assert!(errs[1].contains("row 4") && errs[1].contains("only one reading"));
-        assert!(errs[2].contains("\"C\"") && errs[2].contains("same temperature"));
+    fn reading(apparatus: &str, row: usize, observed: f64, certified: f64) -> Reading {
+        Reading {
+            apparatus: apparatus.into(),
+            row,
+            observed,
+            certified,
+        }
     }
 
-    fn sheet_of(text: &str) -> (RawSheet, Decimal) {
-        let d = delimited::read_delimited(text.as_bytes(), false).unwrap();
-        (d.sheet, d.decimal)
+    fn table(readings: Vec<Reading>, problems: Vec<String>) -> CalibrationTable {
+        CalibrationTable {
+            source: "cal.csv".into(),
+            keyed_by: Field::Bench,
+            readings,
+            problems,
+        }
     }
 
     #[test]
-    fn a_good_file_fits_each_apparatus() {
-        let (sheet, dec) = sheet_of("Bench;Standard;Reading;Certified value\n7;vanillin;79,6;82,0\n7;caffeine;233,0;236,0\n3;acetanilide;114,5;115,0\n");
-        let cal = from_sheet("cal.csv", &sheet, dec).unwrap();
-        assert_eq!(cal.keyed_by, Field::Bench);
+    fn a_table_fits_each_apparatus_however_it_is_spelt() {
+        let cal = from_table(table(
+            vec![
+                reading("7", 2, 79.6, 82.0),
+                reading("Bench 7", 3, 233.0, 236.0),
+                reading("3", 4, 114.5, 115.0),
+            ],
+            vec![],
+        ))
+        .unwrap();
         assert_eq!(cal.fits.len(), 2);
-        let (_, _, f) = cal.fit_for(Some("B7")).unwrap();
-        assert!(f.b > 1.0);
+        let f = cal.fit_for(Some("B7")).unwrap();
+        assert_eq!((f.name.as_str(), f.first_row), ("7", 2));
+        assert!(f.fit.b > 1.0);
         assert_abs_diff_eq!(
-            cal.fit_for(Some("Bench 3")).unwrap().2.a,
+            cal.fit_for(Some("Bench 3")).unwrap().fit.a,
             0.5,
             epsilon = 1e-9
+        );
+    }
+
+    #[test]
+    fn every_problem_is_returned_the_table_first() {
+        let errs = from_table(table(
+            vec![reading("C", 5, 120.0, 121.0), reading("C", 6, 120.0, 122.0)],
+            vec!["cal.csv row 3: a value that is not a temperature".into()],
+        ))
+        .unwrap_err();
+        assert_eq!(errs.len(), 2, "{errs:?}");
+        assert!(errs[0].contains("row 3"));
+        assert!(
+            errs[1].contains("row 5")
+                && errs[1].contains("\"C\"")
+                && errs[1].contains("same temperature")
         );
     }
 }

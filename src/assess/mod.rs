@@ -177,7 +177,7 @@ impl<'a> Assessor<'a> {
         if let Some(k) = key {
             self.apparatus_seen.insert(crate::model::bench_key(k));
         }
-        let Some((name, _, fit)) = cal.fit_for(key) else {
+        let Some(calibration::ApparatusFit { name, fit, .. }) = cal.fit_for(key) else {
             let what = cal.keyed_by.label();
             let note = match key {
                 Some(k) => format!("no calibration for {what} {k}; readings uncorrected"),

@@ -353,19 +353,20 @@ fn purity_column_from_the_clear_point() {
 
 #[test]
 fn calibration_corrects_before_flagging() {
-    use super::calibration::{fit, Calibration};
+    use super::calibration::{fit, ApparatusFit, Calibration};
+    let entry = |name: &str, first_row, fit| ApparatusFit {
+        name: name.to_string(),
+        first_row,
+        fit,
+    };
     let mut fits = std::collections::BTreeMap::new();
     fits.insert(
         "7".to_string(),
-        ("Bench 7".to_string(), 2, fit(&[(124.8, 122.4)]).unwrap()),
+        entry("Bench 7", 2, fit(&[(124.8, 122.4)]).unwrap()),
     );
     fits.insert(
         "3".to_string(),
-        (
-            "Bench 3".to_string(),
-            3,
-            fit(&[(81.0, 82.0), (234.5, 236.0)]).unwrap(),
-        ),
+        entry("Bench 3", 3, fit(&[(81.0, 82.0), (234.5, 236.0)]).unwrap()),
     );
     let cal = Calibration {
         source: "cal.csv".into(),

@@ -1,6 +1,7 @@
 //! Ingest: files in, `Submission`s out, with a report of every sheet's layout and every file
 //! or sheet that could not be used. Nothing here stops the batch: a bad file is a `Problem`.
 
+pub mod calibration;
 pub mod cells;
 pub mod delimited;
 pub mod discover;
