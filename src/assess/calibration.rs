@@ -8,9 +8,7 @@
 use std::collections::BTreeMap;
 
 use crate::fields::Field;
-use crate::ingest::calibration::CalibrationTable;
-#[cfg(test)]
-use crate::ingest::calibration::Reading;
+use crate::ingest::calibration::{CalibrationTable, Reading};
 use crate::model::bench_key;
 
 /// A straight-line correction for one apparatus.
@@ -116,16 +114,19 @@ pub fn from_table(table: CalibrationTable) -> Result<Calibration, Vec<String>> {
         readings,
         mut problems,
     } = table;
-    // by apparatus key: the file's spelling, its first row, and the (observed, certified) pairs
-    let mut points: BTreeMap<String, (String, usize, Vec<(f64, f64)>)> = BTreeMap::new();
+    // by apparatus key, the first reading's spelling and row
+    let mut by_key: BTreeMap<String, (Reading, Vec<(f64, f64)>)> = BTreeMap::new();
     for r in readings {
-        let entry = points
+        let pair = (r.observed, r.certified);
+        by_key
             .entry(bench_key(&r.apparatus))
-            .or_insert_with(|| (r.apparatus.clone(), r.row, Vec::new()));
-        entry.2.push((r.observed, r.certified));
+            .or_insert_with(|| (r, Vec::new()))
+            .1
+            .push(pair);
     }
     let mut fits = BTreeMap::new();
-    for (key, (name, first_row, pts)) in points {
+    for (key, (first, pts)) in by_key {
+        let (name, first_row) = (first.apparatus, first.row);
         match fit(&pts) {
             Ok(fit) => {
                 fits.insert(
