@@ -60,26 +60,49 @@ impl TermTally {
     }
 }
 
-/// (metric, baseline, current, shift) for the baseline comparison.
-pub fn compare(baseline: &Term, current: &Term) -> Vec<(String, f64, f64, f64)> {
+/// One line of baseline-comparison.csv: a headline figure in both terms.
+#[derive(Clone, Debug, PartialEq)]
+pub struct BaselineRow {
+    pub metric: String,
+    pub baseline: f64,
+    pub current: f64,
+    /// current - baseline.
+    pub shift: f64,
+}
+
+impl BaselineRow {
+    fn new(metric: String, baseline: f64, current: f64) -> BaselineRow {
+        BaselineRow {
+            metric,
+            baseline,
+            current,
+            shift: current - baseline,
+        }
+    }
+
+    /// A mean (of recovery or score), whose shift the report calls a finding.
+    pub fn is_mean(&self) -> bool {
+        self.metric.starts_with("mean")
+    }
+}
+
+/// The headline figures of both terms, for the baseline comparison.
+pub fn compare(baseline: &Term, current: &Term) -> Vec<BaselineRow> {
     let mut out = vec![
-        (
+        BaselineRow::new(
             "students".to_string(),
             baseline.rows as f64,
             current.rows as f64,
-            current.rows as f64 - baseline.rows as f64,
         ),
-        (
+        BaselineRow::new(
             "mean recovery (%)".to_string(),
             baseline.mean_recovery_pct,
             current.mean_recovery_pct,
-            current.mean_recovery_pct - baseline.mean_recovery_pct,
         ),
-        (
+        BaselineRow::new(
             "mean score (% of maximum)".to_string(),
             baseline.mean_score_pct,
             current.mean_score_pct,
-            current.mean_score_pct - baseline.mean_score_pct,
         ),
     ];
     let codes: std::collections::BTreeSet<&String> = baseline
@@ -90,7 +113,7 @@ pub fn compare(baseline: &Term, current: &Term) -> Vec<(String, f64, f64, f64)> 
     for code in codes {
         let b = baseline.flag_rates.get(code).copied().unwrap_or(0.0) * 100.0;
         let c = current.flag_rates.get(code).copied().unwrap_or(0.0) * 100.0;
-        out.push((format!("rows flagged {code} (%)"), b, c, c - b));
+        out.push(BaselineRow::new(format!("rows flagged {code} (%)"), b, c));
     }
     out
 }

@@ -1,74 +1,35 @@
 //! DIR/section-comparison.csv and DIR/bench-bias.csv: the cohort's tests, machine-readable.
+//! The tables are the report's (`report`), written with their codes as the header and every
+//! number at full precision.
 
 use std::path::Path;
 
+use super::report::{self, Cell, Table};
 use super::{atomic::write_atomic, neutralise, number};
 use crate::error::WriteError;
 use crate::stats::cohort::{BenchBias, Comparison};
 
-pub const COMPARISON_COLUMNS: [&str; 11] = [
-    "measure",
-    "grouping",
-    "test",
-    "group_a",
-    "group_b",
-    "statistic",
-    "df1",
-    "df2",
-    "p_value",
-    "p_adjusted",
-    "effect_size",
-];
-pub const BIAS_COLUMNS: [&str; 7] = [
-    "bench",
-    "n",
-    "median_shift_c",
-    "u_statistic",
-    "p_value",
-    "p_adjusted",
-    "finding",
-];
-
-pub fn write_comparisons(path: &Path, rows: &[Comparison]) -> Result<(), WriteError> {
+/// Writes a report table as CSV: text guarded against formula injection, numbers exact.
+pub fn write_table(path: &Path, t: &Table) -> Result<(), WriteError> {
     write_atomic(path, |w| {
         let mut csv = csv::Writer::from_writer(w);
-        csv.write_record(COMPARISON_COLUMNS)?;
-        for c in rows {
-            let n = |v: f64| number(Some(v));
-            csv.write_record([
-                c.measure.key().to_string(),
-                c.grouping.to_string(),
-                c.test.to_string(),
-                neutralise(&c.group_a).into_owned(),
-                neutralise(&c.group_b).into_owned(),
-                n(c.statistic),
-                n(c.df1),
-                n(c.df2),
-                n(c.p_value),
-                n(c.p_adjusted),
-                n(c.effect_size),
-            ])?;
+        csv.write_record(t.columns.iter().map(|c| c.code))?;
+        for row in &t.rows {
+            let fields = row.iter().map(|cell| match cell {
+                Cell::Text(s) => neutralise(s).into_owned(),
+                Cell::Count(n) => n.to_string(),
+                Cell::Number(v) => number(Some(*v)),
+            });
+            csv.write_record(fields)?;
         }
         csv.flush()
     })
 }
 
+pub fn write_comparisons(path: &Path, rows: &[Comparison]) -> Result<(), WriteError> {
+    write_table(path, &report::comparisons_table(rows))
+}
+
 pub fn write_bias(path: &Path, rows: &[BenchBias]) -> Result<(), WriteError> {
-    write_atomic(path, |w| {
-        let mut csv = csv::Writer::from_writer(w);
-        csv.write_record(BIAS_COLUMNS)?;
-        for b in rows {
-            let n = |v: f64| number(Some(v));
-            csv.write_record([
-                neutralise(&b.bench).into_owned(),
-                b.n.to_string(),
-                n(b.median_shift_c),
-                n(b.u_statistic),
-                n(b.p_value),
-                n(b.p_adjusted),
-                b.finding.clone(),
-            ])?;
-        }
-        csv.flush()
-    })
+    write_table(path, &report::bias_table(rows))
 }

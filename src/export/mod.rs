@@ -7,6 +7,7 @@ pub mod check_report;
 pub mod cohort_csv;
 pub mod cohort_workbook;
 pub mod gradebook;
+pub mod html;
 #[cfg(feature = "parquet")]
 pub mod parquet;
 #[cfg(not(feature = "parquet"))]
@@ -14,11 +15,13 @@ pub mod parquet;
 pub mod parquet;
 pub mod provenance;
 pub mod pseudonym;
+pub mod report;
 pub mod report_html;
 pub mod results_csv;
 pub mod results_json;
 pub mod row_thread;
 pub mod section_stats;
+pub mod svg;
 pub mod text_outputs;
 pub mod workbook;
 pub mod workbook_summary;

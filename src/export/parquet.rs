@@ -18,7 +18,7 @@ use crate::model::columns::{self, Column, Kind, Outputs, Personal, Value};
 use crate::model::Graded;
 
 use super::baseline::TermTally;
-pub use super::baseline::{compare, Term};
+pub use super::baseline::{compare, BaselineRow, Term};
 
 /// How a column is stored in results.parquet.
 #[derive(Clone, Copy, PartialEq, Eq, PartialOrd, Ord)]

@@ -8,7 +8,7 @@ use crate::error::WriteError;
 use crate::model::Graded;
 
 use super::baseline::TermTally;
-pub use super::baseline::{compare, Term};
+pub use super::baseline::{compare, BaselineRow, Term};
 
 /// Keeps the term figures; writes nothing.
 pub struct ParquetRows {

@@ -11,9 +11,10 @@ use crate::config::Config;
 use crate::error::{ConfigError, WriteError};
 use crate::export::book_plan::BookPlan;
 use crate::export::gradebook::Gradebook;
-use crate::export::parquet::{self, ParquetRows};
+use crate::export::parquet::{self, BaselineRow, ParquetRows};
 use crate::export::provenance::Provenance;
-use crate::export::report_html::{self, Report};
+use crate::export::report::Report;
+use crate::export::report_html;
 use crate::export::results_csv::ResultsCsv;
 use crate::export::results_json::ResultsJson;
 use crate::export::row_thread::{RowThread, Target};
@@ -198,13 +199,13 @@ fn letter_counts(config: &Config, counts: &BTreeMap<String, usize>) -> Vec<(Stri
 }
 
 /// baseline-comparison.csv: metric, baseline, current, shift.
-fn write_baseline(path: &Path, rows: &[(String, f64, f64, f64)]) -> Result<(), WriteError> {
+fn write_baseline(path: &Path, rows: &[BaselineRow]) -> Result<(), WriteError> {
     crate::export::atomic::write_atomic(path, |w| {
         let mut csv = csv::Writer::from_writer(w);
         csv.write_record(["metric", "baseline", "current", "shift"])?;
-        for (m, b, c, d) in rows {
+        for r in rows {
             let n = |v: f64| crate::export::number(Some(v));
-            csv.write_record([m.clone(), n(*b), n(*c), n(*d)])?;
+            csv.write_record([r.metric.clone(), n(r.baseline), n(r.current), n(r.shift)])?;
         }
         csv.flush()
     })
@@ -217,7 +218,7 @@ fn write_cohort(
     stats: &SectionStats,
     letters: &[(String, usize)],
     provenance: &Provenance,
-    baseline: &[(String, f64, f64, f64)],
+    baseline: &[BaselineRow],
 ) -> Result<(), WriteError> {
     let comparisons = cohort.comparisons();
     let bias = cohort.bench_bias(BiasRule::default());

@@ -1,0 +1,67 @@
+//! Small pieces of HTML shared by the pages benchgrade writes: text escaping (every text
+//! from a spreadsheet goes through it), numbers to a fixed number of places, and tables.
+
+use std::fmt::Write as _;
+
+use super::report::{Cell, Table};
+
+/// Escapes text for HTML and SVG: & < > " and '.
+pub fn escape(s: &str) -> String {
+    let mut out = String::with_capacity(s.len());
+    for c in s.chars() {
+        match c {
+            '&' => out.push_str("&amp;"),
+            '<' => out.push_str("&lt;"),
+            '>' => out.push_str("&gt;"),
+            '"' => out.push_str("&quot;"),
+            '\'' => out.push_str("&#39;"),
+            c => out.push(c),
+        }
+    }
+    out
+}
+
+/// A number to `places` decimals, or a dash where there is none.
+pub fn fmt(v: f64, places: usize) -> String {
+    if v.is_finite() {
+        format!("{v:.places$}")
+    } else {
+        "–".into()
+    }
+}
+
+/// A table of typed cells: text escaped, numbers to each column's decimals.
+pub fn table(t: &Table) -> String {
+    let mut s = String::from("<table><thead><tr>");
+    for c in &t.columns {
+        let _ = write!(s, "<th>{}</th>", escape(c.label));
+    }
+    s.push_str("</tr></thead><tbody>");
+    for r in &t.rows {
+        s.push_str("<tr>");
+        for (cell, c) in r.iter().zip(&t.columns) {
+            let text = match cell {
+                Cell::Text(x) => escape(x),
+                Cell::Count(n) => n.to_string(),
+                Cell::Number(v) => fmt(*v, c.decimals),
+            };
+            let _ = write!(s, "<td>{text}</td>");
+        }
+        s.push_str("</tr>");
+    }
+    s.push_str("</tbody></table>");
+    s
+}
+
+#[cfg(test)]
+mod tests {
+    use super::*;
+
+    #[test]
+    fn text_is_escaped() {
+        assert_eq!(
+            escape("<script>alert('x')</script> & \"y\""),
+            "&lt;script&gt;alert(&#39;x&#39;)&lt;/script&gt; &amp; &quot;y&quot;"
+        );
+    }
+}

@@ -1,0 +1,259 @@
+//! The cohort report's content, computed once and drawn twice: by the HTML page
+//! (`report_html`) and by the coordinator's workbook (`cohort_workbook`). The findings in plain
+//! language, and the tables as typed cells, each column with a label for people, a code (as the
+//! CSV files name it) and the decimals a person is shown.
+
+use super::baseline::BaselineRow;
+use crate::stats::cohort::{BenchBias, Cohort, Comparison, Outlier};
+use crate::stats::sections::SectionStats;
+
+/// Everything the report shows.
+pub struct Report<'a> {
+    pub title: &'a str,
+    pub generated: &'a str,
+    pub cohort: &'a Cohort,
+    pub stats: &'a SectionStats,
+    pub comparisons: &'a [Comparison],
+    pub bias: &'a [BenchBias],
+    pub outliers: &'a [Outlier],
+    pub letters: &'a [(String, usize)],
+    /// Against an earlier term, if one was given.
+    pub baseline: &'a [BaselineRow],
+}
+
+/// One cell of a report table.
+#[derive(Clone, Debug, PartialEq)]
+pub enum Cell {
+    Text(String),
+    /// A count of students or rows.
+    Count(usize),
+    /// A statistic, shown to its column's decimals (kept whole in the workbook).
+    Number(f64),
+}
+
+/// One column of a report table.
+#[derive(Clone, Copy, Debug, PartialEq)]
+pub struct TableColumn {
+    pub label: &'static str,
+    pub code: &'static str,
+    pub decimals: usize,
+}
+
+const fn col(label: &'static str, code: &'static str, decimals: usize) -> TableColumn {
+    TableColumn {
+        label,
+        code,
+        decimals,
+    }
+}
+
+/// A table of the report.
+#[derive(Clone, Debug, PartialEq)]
+pub struct Table {
+    pub columns: Vec<TableColumn>,
+    pub rows: Vec<Vec<Cell>>,
+}
+
+fn text(s: &str) -> Cell {
+    Cell::Text(s.to_string())
+}
+
+/// Each bench against the rest of the cohort.
+pub fn bias_table(bias: &[BenchBias]) -> Table {
+    Table {
+        columns: vec![
+            col("bench", "bench", 0),
+            col("n", "n", 0),
+            col("median shift (°C)", "median_shift_c", 2),
+            col("U", "u_statistic", 1),
+            col("p", "p_value", 4),
+            col("p (Holm)", "p_adjusted", 4),
+            col("finding", "finding", 0),
+        ],
+        rows: bias
+            .iter()
+            .map(|b| {
+                vec![
+                    text(&b.bench),
+                    Cell::Count(b.n),
+                    Cell::Number(b.median_shift_c),
+                    Cell::Number(b.u_statistic),
+                    Cell::Number(b.p_value),
+                    Cell::Number(b.p_adjusted),
+                    text(&b.finding),
+                ]
+            })
+            .collect(),
+    }
+}
+
+/// The omnibus and pairwise tests.
+pub fn comparisons_table(comparisons: &[Comparison]) -> Table {
+    Table {
+        columns: vec![
+            col("measure", "measure", 0),
+            col("grouping", "grouping", 0),
+            col("test", "test", 0),
+            col("group a", "group_a", 0),
+            col("group b", "group_b", 0),
+            col("statistic", "statistic", 3),
+            col("df1", "df1", 1),
+            col("df2", "df2", 1),
+            col("p", "p_value", 4),
+            col("p (Holm)", "p_adjusted", 4),
+            col("effect", "effect_size", 3),
+        ],
+        rows: comparisons
+            .iter()
+            .map(|c| {
+                vec![
+                    text(c.measure.key()),
+                    text(c.grouping),
+                    text(c.test),
+                    text(&c.group_a),
+                    text(&c.group_b),
+                    Cell::Number(c.statistic),
+                    Cell::Number(c.df1),
+                    Cell::Number(c.df2),
+                    Cell::Number(c.p_value),
+                    Cell::Number(c.p_adjusted),
+                    Cell::Number(c.effect_size),
+                ]
+            })
+            .collect(),
+    }
+}
+
+/// Results far from their section's centre.
+pub fn outliers_table(outliers: &[Outlier]) -> Table {
+    Table {
+        columns: vec![
+            col("section", "section", 0),
+            col("where", "where", 0),
+            col("measure", "measure", 0),
+            col("value", "value", 2),
+            col("robust z", "robust_z", 1),
+        ],
+        rows: outliers
+            .iter()
+            .map(|o| {
+                vec![
+                    text(&o.section),
+                    text(&o.place),
+                    text(o.measure.key()),
+                    Cell::Number(o.value),
+                    Cell::Number(o.robust_z),
+                ]
+            })
+            .collect(),
+    }
+}
+
+/// This term against the baseline term.
+pub fn baseline_table(rows: &[BaselineRow]) -> Table {
+    Table {
+        columns: vec![
+            col("metric", "metric", 0),
+            col("baseline", "baseline", 2),
+            col("this term", "current", 2),
+            col("shift", "shift", 2),
+        ],
+        rows: rows
+            .iter()
+            .map(|r| {
+                vec![
+                    text(&r.metric),
+                    Cell::Number(r.baseline),
+                    Cell::Number(r.current),
+                    Cell::Number(r.shift),
+                ]
+            })
+            .collect(),
+    }
+}
+
+/// Each section's summary of each measure that has values.
+pub fn sections_table(stats: &SectionStats) -> Table {
+    Table {
+        columns: vec![
+            col("section", "section", 0),
+            col("measure", "measure", 0),
+            col("n", "n", 0),
+            col("mean", "mean", 2),
+            col("sd", "sd", 2),
+            col("median", "median", 2),
+            col("q1", "q1", 2),
+            col("q3", "q3", 2),
+            col("95 % CI low", "ci95_low", 2),
+            col("95 % CI high", "ci95_high", 2),
+        ],
+        rows: stats
+            .summaries()
+            .into_iter()
+            .filter_map(|(sec, m, sum)| {
+                let x = sum?;
+                Some(vec![
+                    text(sec),
+                    text(m.key()),
+                    Cell::Count(x.n),
+                    Cell::Number(x.mean),
+                    Cell::Number(x.sd),
+                    Cell::Number(x.median),
+                    Cell::Number(x.q1),
+                    Cell::Number(x.q3),
+                    Cell::Number(x.ci95_low),
+                    Cell::Number(x.ci95_high),
+                ])
+            })
+            .collect(),
+    }
+}
+
+/// A number to `places` decimals for a sentence, or a dash.
+fn fmt(v: f64, places: usize) -> String {
+    super::html::fmt(v, places)
+}
+
+/// The findings in plain language, most important first.
+pub fn findings(r: &Report) -> Vec<String> {
+    let mut out: Vec<String> = r
+        .bias
+        .iter()
+        .filter(|b| !b.finding.is_empty())
+        .map(|b| b.finding.clone())
+        .collect();
+    for c in r
+        .comparisons
+        .iter()
+        .filter(|c| c.test == "Kruskal-Wallis" && c.p_value < 0.05)
+    {
+        out.push(format!(
+            "{}s differ in {} (Kruskal-Wallis H = {}, p = {}); see the pairwise tests below",
+            c.grouping,
+            c.measure.key().replace('_', " "),
+            fmt(c.statistic, 2),
+            fmt(c.p_value, 4)
+        ));
+    }
+    for b in r
+        .baseline
+        .iter()
+        .filter(|b| b.is_mean() && b.shift.abs() >= 2.0)
+    {
+        out.push(format!(
+            "against the baseline term, {} moved from {} to {} ({}{})",
+            b.metric,
+            fmt(b.baseline, 1),
+            fmt(b.current, 1),
+            if b.shift > 0.0 { "+" } else { "" },
+            fmt(b.shift, 1)
+        ));
+    }
+    if !r.outliers.is_empty() {
+        out.push(format!("{} results lie far from their section's median (robust z beyond 3.5); they are listed below", r.outliers.len()));
+    }
+    if out.is_empty() {
+        out.push("No section, assistant or bench stands out at the thresholds used.".into());
+    }
+    out
+}
