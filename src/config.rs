@@ -7,7 +7,7 @@ use std::path::{Path, PathBuf};
 use serde::Deserialize;
 
 use crate::assess::{accepted, ReferenceRule};
-use crate::error::{toml_location, ConfigError};
+use crate::error::{parse_toml, ConfigError};
 use crate::export::pseudonym::Pseudonymizer;
 use crate::ingest::headers::ColumnOverrides;
 use crate::reference::Library;
@@ -79,76 +79,21 @@ fn read_columns_file(path: &Path) -> Result<ColumnOverrides, ConfigError> {
     let file = path.display().to_string();
     let text = std::fs::read_to_string(path)
         .map_err(|e| ConfigError::Invalid(format!("cannot read columns file {file}: {e}")))?;
-    let parsed: ColumnsFile = toml::from_str(&text).map_err(|e| {
-        let (line, column) = toml_location(&text, e.span());
-        ConfigError::File {
-            file: file.clone(),
-            line,
-            column,
-            message: e.message().trim().to_string(),
-        }
-    })?;
+    let parsed: ColumnsFile = parse_toml(&text, &file)?;
     ColumnOverrides::from_pairs(&parsed.columns)
         .map_err(|m| ConfigError::Invalid(format!("{file}: {m}")))
 }
 
 impl Config {
     pub fn build(opts: Options) -> Result<Config, ConfigError> {
-        let (rubric, rubric_source, rubric_text) = match &opts.rubric {
-            Some(p) => {
-                let text = std::fs::read_to_string(p).map_err(|e| {
-                    ConfigError::Invalid(format!("cannot read rubric {}: {e}", p.display()))
-                })?;
-                (
-                    Rubric::parse(&text, &p.display().to_string())?,
-                    p.display().to_string(),
-                    text,
-                )
-            }
-            None => (
-                Rubric::builtin(),
-                "built-in rubrics/default.toml".to_string(),
-                crate::rubric::DEFAULT_RUBRIC.to_string(),
-            ),
-        };
-        let from_rubric = ColumnOverrides::from_pairs(&rubric.columns)
-            .map_err(|m| ConfigError::Invalid(format!("{rubric_source}: {m}")))?;
-        let columns = match &opts.columns {
-            Some(p) => read_columns_file(p)?.merged_over(&from_rubric),
-            None => from_rubric,
-        };
-        let mut library = Library::builtin();
+        let (rubric, rubric_source, rubric_text) = load_rubric(opts.rubric.as_deref())?;
+        let columns = column_map(&rubric, &rubric_source, opts.columns.as_deref())?;
+        let mut library = Library::builtin()?;
         if let Some(p) = &opts.compounds {
             library.extend_from_file(p)?;
         }
-        let reference = ReferenceRule::for_experiment(&rubric.experiment, opts.reference_mp_c);
-        if let Some(c) = rubric.experiment.compound.as_deref() {
-            let Some(compound) = library.lookup(c) else {
-                return Err(ConfigError::Invalid(format!(
-                    "{rubric_source}: experiment.compound \"{c}\" is not in the reference library; add it with --compounds FILE (see `benchgrade compounds`)"
-                )));
-            };
-            accepted::reference_for(compound, &reference)
-                .map_err(|m| ConfigError::Invalid(format!("{rubric_source}: {m}")))?;
-        }
-        if let Some(v) = opts.reference_mp_c {
-            if !v.is_finite() {
-                return Err(ConfigError::Invalid(
-                    "--reference-mp must be a temperature in °C".into(),
-                ));
-            }
-        }
-        let inputs = if opts.inputs.is_empty() {
-            match opts.sample_data {
-                Some(p) if p.is_dir() => vec![p],
-                _ => return Err(ConfigError::Invalid(
-                    "no input files given and no sample-data/ folder here; name the spreadsheets or folders to read".into(),
-                )),
-            }
-        } else {
-            opts.inputs
-        };
-        let out_dir = opts.out.unwrap_or_else(|| PathBuf::from("graded"));
+        let reference = reference_rule(&rubric, &rubric_source, &library, opts.reference_mp_c)?;
+        let out_dir = opts.out.clone().unwrap_or_else(|| PathBuf::from("graded"));
         if out_dir.is_file() {
             return Err(ConfigError::Invalid(format!(
                 "--out {} is a file; name a folder for the outputs",
@@ -156,53 +101,133 @@ impl Config {
             )));
         }
         Ok(Config {
-            inputs,
+            inputs: inputs(&opts)?,
             out_dir,
             overrides_file: opts.overrides.clone(),
             rubric_text,
             split_sections: opts.split_sections,
             skip_workbooks: opts.skip_workbooks,
-            baseline: match &opts.baseline {
-                Some(dir) => {
-                    let file = if dir.is_dir() {
-                        dir.join("results.parquet")
-                    } else {
-                        dir.clone()
-                    };
-                    if !file.is_file() {
-                        return Err(ConfigError::Invalid(format!("--baseline {}: no results.parquet there; name an earlier term's output folder", dir.display())));
-                    }
-                    Some(file)
-                }
-                None => None,
-            },
+            baseline: baseline_file(opts.baseline.as_deref())?,
             pseudonyms: match &opts.pseudonym_key {
                 Some(k) => Some(Pseudonymizer::new(k).map_err(ConfigError::Invalid)?),
                 None => None,
             },
-            timestamp: opts.timestamp.unwrap_or_else(|| {
-                std::time::SystemTime::now()
-                    .duration_since(std::time::UNIX_EPOCH)
-                    .map_or(0, |d| d.as_secs() as i64)
-            }),
+            timestamp: opts.timestamp.unwrap_or_else(now),
             overrides: match &opts.overrides {
                 Some(p) => Overrides::load(p, &rubric.criterion_ids())?,
                 None => Overrides::default(),
             },
             reference,
-            calibration: opts.calibration.or_else(|| {
-                let rel = rubric.experiment.calibration.as_ref()?;
-                let base = opts
-                    .rubric
-                    .as_ref()
-                    .and_then(|r| r.parent())
-                    .unwrap_or(Path::new(""));
-                Some(base.join(rel))
-            }),
+            calibration: calibration_file(&opts, &rubric),
             rubric,
             rubric_source,
             columns,
             library,
         })
     }
+}
+
+/// The rubric named, else the built-in one: parsed, where it came from, and its text.
+fn load_rubric(path: Option<&Path>) -> Result<(Rubric, String, String), ConfigError> {
+    let Some(p) = path else {
+        let source = "built-in rubrics/default.toml".to_string();
+        return Ok((
+            Rubric::builtin()?,
+            source,
+            crate::rubric::DEFAULT_RUBRIC.to_string(),
+        ));
+    };
+    let text = std::fs::read_to_string(p)
+        .map_err(|e| ConfigError::Invalid(format!("cannot read rubric {}: {e}", p.display())))?;
+    let source = p.display().to_string();
+    Ok((Rubric::parse(&text, &source)?, source, text))
+}
+
+/// The rubric's column mapping, with a `--columns` file's over it.
+fn column_map(
+    rubric: &Rubric,
+    rubric_source: &str,
+    file: Option<&Path>,
+) -> Result<ColumnOverrides, ConfigError> {
+    let from_rubric = ColumnOverrides::from_pairs(&rubric.columns)
+        .map_err(|m| ConfigError::Invalid(format!("{rubric_source}: {m}")))?;
+    Ok(match file {
+        Some(p) => read_columns_file(p)?.merged_over(&from_rubric),
+        None => from_rubric,
+    })
+}
+
+/// How the experiment's compound is judged, checked against the library.
+fn reference_rule(
+    rubric: &Rubric,
+    rubric_source: &str,
+    library: &Library,
+    command_line_mp_c: Option<f64>,
+) -> Result<ReferenceRule, ConfigError> {
+    let reference = ReferenceRule::for_experiment(&rubric.experiment, command_line_mp_c);
+    if let Some(c) = rubric.experiment.compound.as_deref() {
+        let Some(compound) = library.lookup(c) else {
+            return Err(ConfigError::Invalid(format!(
+                "{rubric_source}: experiment.compound \"{c}\" is not in the reference library; add it with --compounds FILE (see `benchgrade compounds`)"
+            )));
+        };
+        accepted::reference_for(compound, &reference)
+            .map_err(|m| ConfigError::Invalid(format!("{rubric_source}: {m}")))?;
+    }
+    if command_line_mp_c.is_some_and(|v| !v.is_finite()) {
+        return Err(ConfigError::Invalid(
+            "--reference-mp must be a temperature in °C".into(),
+        ));
+    }
+    Ok(reference)
+}
+
+/// The inputs named, else the sample data.
+fn inputs(opts: &Options) -> Result<Vec<PathBuf>, ConfigError> {
+    if !opts.inputs.is_empty() {
+        return Ok(opts.inputs.clone());
+    }
+    match &opts.sample_data {
+        Some(p) if p.is_dir() => Ok(vec![p.clone()]),
+        _ => Err(ConfigError::Invalid(
+            "no input files given and no sample-data/ folder here; name the spreadsheets or folders to read".into(),
+        )),
+    }
+}
+
+/// An earlier term's results.parquet, from its output folder (or the file itself).
+fn baseline_file(dir: Option<&Path>) -> Result<Option<PathBuf>, ConfigError> {
+    let Some(dir) = dir else { return Ok(None) };
+    let file = if dir.is_dir() {
+        dir.join("results.parquet")
+    } else {
+        dir.to_path_buf()
+    };
+    if !file.is_file() {
+        return Err(ConfigError::Invalid(format!(
+            "--baseline {}: no results.parquet there; name an earlier term's output folder",
+            dir.display()
+        )));
+    }
+    Ok(Some(file))
+}
+
+/// The calibration named on the command line, else the rubric's (relative to the rubric).
+fn calibration_file(opts: &Options, rubric: &Rubric) -> Option<PathBuf> {
+    opts.calibration.clone().or_else(|| {
+        let rel = rubric.experiment.calibration.as_ref()?;
+        let base = opts
+            .rubric
+            .as_ref()
+            .and_then(|r| r.parent())
+            .unwrap_or(Path::new(""));
+        Some(base.join(rel))
+    })
+}
+
+/// Seconds since the epoch, now.
+fn now() -> i64 {
+    std::time::SystemTime::now()
+        .duration_since(std::time::UNIX_EPOCH)
+        .map_or(0, |d| d.as_secs() as i64)
 }

@@ -66,6 +66,23 @@ impl WriteError {
     }
 }
 
+/// Parses a TOML configuration file's text; a syntax error or an unknown key becomes an error
+/// located to line and column of `file`.
+pub fn parse_toml<T: serde::de::DeserializeOwned>(
+    text: &str,
+    file: &str,
+) -> Result<T, ConfigError> {
+    toml::from_str(text).map_err(|e| {
+        let (line, column) = toml_location(text, e.span());
+        ConfigError::File {
+            file: file.to_string(),
+            line,
+            column,
+            message: e.message().trim().to_string(),
+        }
+    })
+}
+
 /// Turns a byte span from a TOML error into a 1-based line and column.
 pub fn toml_location(text: &str, span: Option<std::ops::Range<usize>>) -> (usize, usize) {
     let Some(span) = span else { return (1, 1) };

@@ -10,6 +10,7 @@ pub mod config;
 pub mod error;
 pub mod export;
 pub mod fields;
+pub mod files;
 pub mod ingest;
 pub mod model;
 pub mod numtext;

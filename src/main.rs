@@ -162,7 +162,10 @@ fn check(run: RunArgs) -> Result<ExitCode> {
 }
 
 fn compounds(json: bool, extra: Option<PathBuf>) -> Result<ExitCode> {
-    let mut lib = Library::builtin();
+    let mut lib = match Library::builtin() {
+        Ok(l) => l,
+        Err(e) => return usage_error(&e),
+    };
     if let Some(p) = extra {
         if let Err(e) = lib.extend_from_file(&p) {
             return usage_error(&e);

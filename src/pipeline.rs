@@ -396,7 +396,7 @@ pub fn grade_with_progress(
             config.out_dir.display()
         ))
     })?;
-    crate::export::atomic::sweep_stale_partials(&config.out_dir);
+    crate::files::sweep_stale_partials(&config.out_dir);
     let mut threads = Writers::spawn(config, &paths)?;
     let mut tallies = Tallies::new(config)?;
     let files = std::mem::take(&mut batch.files);

@@ -110,7 +110,7 @@ mod tests {
 
     #[test]
     fn sulfanilamide_keeps_every_value_and_the_rubric_chooses() {
-        let lib = Library::builtin();
+        let lib = Library::builtin().unwrap();
         let c = lib.lookup("sulfanilamide").unwrap();
         assert!(c.melting_points.len() >= 3);
         assert_eq!(

@@ -134,7 +134,11 @@ mod tests {
     }
 
     fn benzoic() -> Compound {
-        let mut c = Library::builtin().lookup("benzoic acid").unwrap().clone();
+        let mut c = Library::builtin()
+            .unwrap()
+            .lookup("benzoic acid")
+            .unwrap()
+            .clone();
         c.hfus_kj_mol = Some(Sourced {
             value: 18.02,
             source: "CRC".into(),
@@ -163,7 +167,11 @@ mod tests {
         assert!(purity(Some(121.0), Some(122.37), Some(&no_h), 5.0)
             .note
             .contains("no enthalpy"));
-        let aspirin = Library::builtin().lookup("aspirin").unwrap().clone();
+        let aspirin = Library::builtin()
+            .unwrap()
+            .lookup("aspirin")
+            .unwrap()
+            .clone();
         assert!(purity(Some(134.0), Some(135.0), Some(&aspirin), 5.0)
             .note
             .contains("decomposes"));
@@ -176,7 +184,7 @@ mod tests {
     #[test]
     fn benzoic_acid_needs_17_8_ml_of_boiling_water_per_gram() {
         // Handbook solubilities (from memory): 56.3 g/L near 100 °C, 1.7 g/L at 0 °C.
-        let lib = Library::builtin();
+        let lib = Library::builtin().unwrap();
         let s = &lib.lookup("benzoic acid").unwrap().solubility;
         let hot = solubility_at(s, 100.0).unwrap();
         assert_abs_diff_eq!(min_solvent_ml(1.00, hot), 17.8, epsilon = 0.05);

@@ -20,7 +20,7 @@ fn base() -> Submission {
 
 /// The default rubric's experiment: benzoic acid from water, cooled in ice.
 fn experiment() -> Experiment {
-    crate::rubric::Rubric::builtin().experiment
+    crate::rubric::Rubric::builtin().unwrap().experiment
 }
 
 fn with_rule(
@@ -28,7 +28,7 @@ fn with_rule(
     reference: ReferenceRule,
     calibration: Option<&Calibration>,
 ) -> Vec<Assessed> {
-    let lib = Library::builtin();
+    let lib = Library::builtin().unwrap();
     let t = Tolerances::default();
     let e = experiment();
     let ctx = Context {
@@ -437,7 +437,7 @@ fn an_accepted_range_puts_clear_points_inside_it_at_the_reference() {
         compound: Some("sulfanilamide".into()),
         ..experiment()
     };
-    let lib = Library::builtin();
+    let lib = Library::builtin().unwrap();
     let t = Tolerances::default();
     let ctx = Context {
         library: &lib,
@@ -460,7 +460,7 @@ fn outliers_by_robust_z_within_the_section() {
     // 0.6745 x 18 / 1 = 12.1 robust z away, an outlier; 74 % is 1.3, not. A first pass over
     // the section gathers its centres, as the pipeline does.
     let mut centres = Centres::default();
-    let lib0 = Library::builtin();
+    let lib0 = Library::builtin().unwrap();
     let (t0, e0) = (Tolerances::default(), experiment());
     let first = Context {
         library: &lib0,
@@ -486,7 +486,7 @@ fn outliers_by_robust_z_within_the_section() {
         centres.add(&a);
     }
     centres.settle();
-    let lib = Library::builtin();
+    let lib = Library::builtin().unwrap();
     let t = Tolerances::default();
     let e = experiment();
     let ctx = Context {

@@ -8,6 +8,7 @@ use std::io::{BufWriter, Write};
 use std::path::{Path, PathBuf};
 
 use crate::error::WriteError;
+use crate::files::partial_path;
 
 /// An output being written to a temporary file beside its destination.
 pub struct AtomicFile {
@@ -22,11 +23,7 @@ impl AtomicFile {
             .parent()
             .filter(|p| !p.as_os_str().is_empty())
             .unwrap_or(Path::new("."));
-        let name = path
-            .file_name()
-            .and_then(|n| n.to_str())
-            .unwrap_or("output");
-        let tmp = dir.join(format!(".{name}.{}.partial", std::process::id()));
+        let tmp = partial_path(dir, path);
         let file = File::create(&tmp).map_err(|source| WriteError {
             path: path.to_path_buf(),
             source,
@@ -92,43 +89,14 @@ impl Drop for AtomicFile {
     }
 }
 
-/// Removes temporary files that a run killed mid-write left in `dir`: names of the form
-/// `.NAME.PID.partial` whose process is gone. Where there is no /proc to ask (not Linux),
-/// nothing is removed. The finished outputs are never touched.
-pub fn sweep_stale_partials(dir: &Path) {
-    let proc = Path::new("/proc");
-    if !proc.join("self").exists() {
-        return;
-    }
-    let Ok(entries) = std::fs::read_dir(dir) else {
-        return;
-    };
-    for entry in entries.flatten() {
-        let name = entry.file_name();
-        let Some(pid) = name.to_str().and_then(partial_pid) else {
-            continue;
-        };
-        if pid != std::process::id() && !proc.join(pid.to_string()).exists() {
-            let _ = std::fs::remove_file(entry.path());
-        }
-    }
-}
-
-/// The process id in a temporary file's name `.NAME.PID.partial`.
-fn partial_pid(name: &str) -> Option<u32> {
-    let rest = name.strip_prefix('.')?.strip_suffix(".partial")?;
-    let (_, pid) = rest.rsplit_once('.')?;
-    pid.parse().ok()
-}
-
 /// Saves a workbook atomically: rust_xlsxwriter writes a temporary file beside the destination,
 /// which is then renamed into place.
 pub fn save_workbook(wb: &mut rust_xlsxwriter::Workbook, path: &Path) -> Result<(), WriteError> {
-    let name = path
-        .file_name()
-        .and_then(|n| n.to_str())
-        .unwrap_or("workbook");
-    let tmp = path.with_file_name(format!(".{name}.{}.partial", std::process::id()));
+    let dir = path
+        .parent()
+        .filter(|p| !p.as_os_str().is_empty())
+        .unwrap_or(Path::new("."));
+    let tmp = partial_path(dir, path);
     if let Err(e) = wb.save(&tmp) {
         let _ = std::fs::remove_file(&tmp);
         return Err(WriteError::other(path, e));
@@ -189,14 +157,6 @@ mod tests {
             1,
             "no temporary file left"
         );
-    }
-
-    #[test]
-    fn temporary_names_carry_the_writer_process() {
-        assert_eq!(partial_pid(".results.csv.4242.partial"), Some(4242));
-        assert_eq!(partial_pid(".a.b.c.7.partial"), Some(7));
-        assert_eq!(partial_pid("results.csv"), None);
-        assert_eq!(partial_pid(".results.csv.partial"), None);
     }
 
     #[test]

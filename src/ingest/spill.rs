@@ -31,7 +31,7 @@ impl SpillWriter {
     /// Creates `.first-pass.PID.partial` in `dir` (swept like any temporary file if the run is
     /// killed). `None` if the file cannot be created.
     pub fn create(dir: &Path) -> Option<SpillWriter> {
-        let path = dir.join(format!(".first-pass.{}.partial", std::process::id()));
+        let path = crate::files::partial_path(dir, Path::new("first-pass"));
         let file = File::create(&path).ok()?;
         Some(SpillWriter {
             path,

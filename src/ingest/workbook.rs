@@ -123,12 +123,15 @@ fn describe<E: std::fmt::Display>(e: E) -> String {
     }
 }
 
-fn stream_xlsx(wb: &mut Xlsx<BufReader<File>>, name: &str) -> Result<RawSheet, String> {
-    let mut reader = wb.worksheet_cells_reader(name).map_err(describe)?;
+/// Collects streamed cells into sparse rows, refusing a cell outside the grid.
+fn collect_cells<E: std::fmt::Display>(
+    name: &str,
+    mut next: impl FnMut() -> Result<Option<((u32, u32), Cell)>, E>,
+) -> Result<RawSheet, String> {
     let mut rows = RowBuilder::default();
-    while let Some(cell) = reader.next_cell().map_err(describe)? {
-        let (r, c) = bounded(cell.get_position())?;
-        rows.push(r, c, from_data_ref(cell.get_value().clone()));
+    while let Some((pos, cell)) = next().map_err(describe)? {
+        let (r, c) = bounded(pos)?;
+        rows.push(r, c, cell);
     }
     Ok(RawSheet {
         name: Some(name.to_string()),
@@ -136,16 +139,23 @@ fn stream_xlsx(wb: &mut Xlsx<BufReader<File>>, name: &str) -> Result<RawSheet, S
     })
 }
 
+fn stream_xlsx(wb: &mut Xlsx<BufReader<File>>, name: &str) -> Result<RawSheet, String> {
+    let mut reader = wb.worksheet_cells_reader(name).map_err(describe)?;
+    collect_cells(name, || {
+        let next = reader.next_cell()?;
+        Ok::<_, calamine::XlsxError>(
+            next.map(|c| (c.get_position(), from_data_ref(c.get_value().clone()))),
+        )
+    })
+}
+
 fn stream_xlsb(wb: &mut Xlsb<BufReader<File>>, name: &str) -> Result<RawSheet, String> {
     let mut reader = wb.worksheet_cells_reader(name).map_err(describe)?;
-    let mut rows = RowBuilder::default();
-    while let Some(cell) = reader.next_cell().map_err(describe)? {
-        let (r, c) = bounded(cell.get_position())?;
-        rows.push(r, c, from_data_ref(cell.get_value().clone()));
-    }
-    Ok(RawSheet {
-        name: Some(name.to_string()),
-        rows: rows.finish(),
+    collect_cells(name, || {
+        let next = reader.next_cell()?;
+        Ok::<_, calamine::XlsbError>(
+            next.map(|c| (c.get_position(), from_data_ref(c.get_value().clone()))),
+        )
     })
 }
 

@@ -10,7 +10,7 @@ use std::path::Path;
 
 use serde::{Deserialize, Serialize};
 
-use crate::error::{toml_location, ConfigError};
+use crate::error::{parse_toml, ConfigError};
 
 const BUILTIN: &str = include_str!("compounds.toml");
 
@@ -89,15 +89,7 @@ pub fn name_key(name: &str) -> String {
 }
 
 fn parse(text: &str, file: &str) -> Result<Vec<Compound>, ConfigError> {
-    let parsed: CompoundFile = toml::from_str(text).map_err(|e| {
-        let (line, column) = toml_location(text, e.span());
-        ConfigError::File {
-            file: file.to_string(),
-            line,
-            column,
-            message: e.message().to_string(),
-        }
-    })?;
+    let parsed: CompoundFile = parse_toml(text, file)?;
     for c in &parsed.compound {
         if c.melting_points.is_empty() {
             return Err(ConfigError::Invalid(format!(
@@ -110,11 +102,11 @@ fn parse(text: &str, file: &str) -> Result<Vec<Compound>, ConfigError> {
 }
 
 impl Library {
-    /// The built-in library.
-    pub fn builtin() -> Library {
-        // The built-in data is part of the program; a unit test proves it parses.
-        let compounds = parse(BUILTIN, "built-in compounds.toml").unwrap_or_default();
-        Library::from_compounds(compounds)
+    /// The built-in library. The data is compiled in; a broken file is an error (and fails
+    /// the unit tests), never an empty library.
+    pub fn builtin() -> Result<Library, ConfigError> {
+        let compounds = parse(BUILTIN, "built-in src/reference/compounds.toml")?;
+        Ok(Library::from_compounds(compounds))
     }
 
     fn from_compounds(compounds: Vec<Compound>) -> Library {
@@ -244,7 +236,7 @@ mod tests {
 
     #[test]
     fn names_synonyms_and_cas_match_case_insensitively() {
-        let lib = Library::builtin();
+        let lib = Library::builtin().unwrap();
         assert_eq!(lib.lookup("ASPIRIN").unwrap().name, "acetylsalicylic acid");
         assert_eq!(lib.lookup("Benzoic Acid").unwrap().cas, "65-85-0");
         assert_eq!(lib.lookup("β-naphthol").unwrap().name, "2-naphthol");
@@ -261,7 +253,7 @@ mod tests {
     #[test]
     fn benzoic_acid_water_solubility() {
         // Handbook values, from memory: about 3.4 g/L at 25 °C and 56 g/L near 100 °C.
-        let lib = Library::builtin();
+        let lib = Library::builtin().unwrap();
         let c = lib.lookup("benzoic acid").unwrap();
         let at = |t: f64| c.solubility.iter().find(|s| s.t_c == t).unwrap().g_per_l;
         assert_abs_diff_eq!(at(25.0), 3.4, epsilon = 0.1);
@@ -304,7 +296,7 @@ mod tests {
 
     #[test]
     fn molar_masses_agree_with_formulas() {
-        for c in Library::builtin().compounds() {
+        for c in Library::builtin().unwrap().compounds() {
             let f = c
                 .formula
                 .as_deref()
@@ -322,7 +314,7 @@ mod tests {
             "[[compound]]\nname = \"Benzoic acid\"\ncas = \"65-85-0\"\nmolar_mass = { value = 122.12, source = \"x\" }\naccepted_mp_c = 122.0\nmelting_points = [{ value_c = 122.0, source = \"lab lot\" }]\n",
         )
         .unwrap();
-        let mut lib = Library::builtin();
+        let mut lib = Library::builtin().unwrap();
         let n = lib.compounds().len();
         lib.extend_from_file(&p).unwrap();
         assert_eq!(lib.compounds().len(), n);

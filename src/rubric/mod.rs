@@ -11,7 +11,7 @@ pub mod criteria;
 pub mod overrides;
 pub mod score;
 
-use crate::error::{toml_location, ConfigError, Located};
+use crate::error::{parse_toml, toml_location, ConfigError, Located};
 pub use criteria::{Criterion, FlagRule, Grading};
 
 /// The rubric shipped as `rubrics/default.toml`, compiled in so that a fresh clone grades.
@@ -122,15 +122,7 @@ pub struct Rubric {
 impl Rubric {
     /// Parses rubric text; `file` names it in messages.
     pub fn parse(text: &str, file: &str) -> Result<Rubric, ConfigError> {
-        let rubric: Rubric = toml::from_str(text).map_err(|e| {
-            let (line, column) = toml_location(text, e.span());
-            ConfigError::File {
-                file: file.to_string(),
-                line,
-                column,
-                message: e.message().trim().to_string(),
-            }
-        })?;
+        let rubric: Rubric = parse_toml(text, file)?;
         rubric.validate(file)?;
         let findings = criteria::check(&rubric.grading, &rubric.criteria, &rubric.flag_rules);
         if !findings.is_empty() {
@@ -177,27 +169,10 @@ impl Rubric {
             .collect()
     }
 
-    pub fn builtin() -> Rubric {
-        // The default rubric is part of the program; a unit test proves it parses.
-        Rubric::parse(DEFAULT_RUBRIC, "rubrics/default.toml").unwrap_or_else(|_| Rubric {
-            experiment: Experiment {
-                name: "recrystallization".into(),
-                compound: None,
-                reference_mp_c: None,
-                reference_range_c: None,
-                reference_source: None,
-                accept_literature_range: false,
-                solvent: default_solvent(),
-                cold_c: 0.0,
-                hot_c: default_hot(),
-                calibration: None,
-            },
-            tolerances: Tolerances::default(),
-            columns: BTreeMap::new(),
-            grading: Grading::default(),
-            criteria: Vec::new(),
-            flag_rules: Vec::new(),
-        })
+    /// The built-in rubric. It is compiled in; a broken file is an error (and fails the unit
+    /// tests), never a silent stand-in.
+    pub fn builtin() -> Result<Rubric, ConfigError> {
+        Rubric::parse(DEFAULT_RUBRIC, "built-in rubrics/default.toml")
     }
 
     fn validate(&self, file: &str) -> Result<(), ConfigError> {

@@ -50,126 +50,180 @@ impl Feedback {
     }
 }
 
-/// Grades one assessed row.
-pub fn score(rubric: &Rubric, a: &Assessed, overrides: &[&Override]) -> Score {
-    let g = &rubric.grading;
-    let mut feedback = Feedback::default();
-    let mut criteria: Vec<CriterionScore> = Vec::with_capacity(rubric.criteria.len());
-    for c in &rubric.criteria {
-        let max = *c.max.get_ref();
-        let m = c.measure();
-        let value = m.and_then(|m| m.of_assessed(a));
-        let out = feedback.sentence();
-        out.push_str(&c.label);
-        out.push_str(": ");
-        let points = match (m, value) {
-            (Some(m), Some(x)) => {
-                m.sentence(out, x, a);
-                g.round(rule_points(c, x))
-            }
-            (Some(m), None) => {
-                out.push_str(m.role().missing);
-                c.if_missing
-            }
-            (None, _) => {
-                out.push_str("not scored");
-                0.0
-            }
+/// A row being scored: each criterion's points, then what the flags and overrides did.
+struct Scoring<'a> {
+    rubric: &'a Rubric,
+    criteria: Vec<CriterionScore>,
+    /// The criteria's sentences: the measure in words and the points it earned.
+    measured: Vec<String>,
+    /// Each flag with its reason and what it did to the points.
+    flags: Vec<String>,
+    deduct: f64,
+    cap: f64,
+    /// Overrides applied, in words.
+    applied: Vec<String>,
+}
+
+impl<'a> Scoring<'a> {
+    /// Each criterion's points from its measure (or `if_missing`), with its sentence.
+    fn measure(rubric: &'a Rubric, a: &Assessed) -> Scoring<'a> {
+        let mut s = Scoring {
+            rubric,
+            criteria: Vec::with_capacity(rubric.criteria.len()),
+            measured: Vec::with_capacity(rubric.criteria.len()),
+            flags: Vec::new(),
+            deduct: 0.0,
+            cap: f64::INFINITY,
+            applied: Vec::new(),
         };
-        out.push_str(", ");
-        push_points(out, points);
-        out.push_str(" of ");
-        push_points(out, max);
-        out.push_str(" points");
-        criteria.push(CriterionScore {
-            id: c.id.get_ref().clone(),
-            label: c.label.clone(),
-            points,
-            max,
-        });
+        for c in &rubric.criteria {
+            let (points, sentence) = criterion_points(rubric, c, a);
+            s.measured.push(sentence);
+            s.criteria.push(CriterionScore {
+                id: c.id.get_ref().clone(),
+                label: c.label.clone(),
+                points,
+                max: *c.max.get_ref(),
+            });
+        }
+        s
     }
-    let mut deduct = 0.0;
-    let mut cap = f64::INFINITY;
-    for (flag, reason) in &a.flags {
-        let mut effects = Vec::new();
-        for rule in rubric.flag_rules.iter().filter(|r| r.applies_to(*flag)) {
-            for id in rule.zeroed() {
-                if let Some(cs) = criteria.iter_mut().find(|cs| cs.id == *id) {
-                    if cs.points > 0.0 {
-                        effects.push(format!("{} earns nothing", cs.label));
+
+    /// The flag rules: criteria zeroed, points deducted, the total capped.
+    fn apply_flags(&mut self, a: &Assessed) {
+        for (flag, reason) in &a.flags {
+            let mut effects = Vec::new();
+            for rule in self
+                .rubric
+                .flag_rules
+                .iter()
+                .filter(|r| r.applies_to(*flag))
+            {
+                for id in rule.zeroed() {
+                    if let Some(cs) = self.criteria.iter_mut().find(|cs| cs.id == *id) {
+                        if cs.points > 0.0 {
+                            effects.push(format!("{} earns nothing", cs.label));
+                        }
+                        cs.points = 0.0;
                     }
-                    cs.points = 0.0;
+                }
+                if rule.deduct > 0.0 {
+                    self.deduct += rule.deduct;
+                    effects.push(format!("{} points off", points(rule.deduct)));
+                }
+                if let Some(c) = rule.cap {
+                    self.cap = self.cap.min(c);
+                    effects.push(format!("the total is capped at {}", points(c)));
                 }
             }
-            if rule.deduct > 0.0 {
-                deduct += rule.deduct;
-                effects.push(format!("{} points off", points(rule.deduct)));
-            }
-            if let Some(c) = rule.cap {
-                cap = cap.min(c);
-                effects.push(format!("the total is capped at {}", points(c)));
-            }
-        }
-        let effect = if effects.is_empty() {
-            "no effect on points".to_string()
-        } else {
-            effects.join(", ")
-        };
-        let out = feedback.sentence();
-        out.push_str("Flag ");
-        out.push_str(flag.code());
-        out.push_str(": ");
-        out.push_str(reason);
-        out.push_str(" (");
-        out.push_str(&effect);
-        out.push(')');
-    }
-    let mut applied = Vec::new();
-    for o in overrides.iter().filter(|o| o.criterion.is_some()) {
-        if let Some(cs) = criteria
-            .iter_mut()
-            .find(|cs| Some(&cs.id) == o.criterion.as_ref())
-        {
-            let before = cs.points;
-            cs.points = o.change.apply(before).clamp(0.0, cs.max);
-            applied.push(o.describe(&cs.label, before, cs.points));
+            let effect = if effects.is_empty() {
+                "no effect on points".to_string()
+            } else {
+                effects.join(", ")
+            };
+            self.flags
+                .push(format!("Flag {}: {reason} ({effect})", flag.code()));
         }
     }
-    let max: f64 = criteria.iter().map(|c| c.max).sum();
-    let sum: f64 = criteria.iter().map(|c| c.points).sum();
-    let mut total = g.round((sum - deduct).max(0.0).min(cap));
-    for o in overrides.iter().filter(|o| o.criterion.is_none()) {
-        let before = total;
-        total = o.change.apply(before).clamp(0.0, max);
-        applied.push(o.describe("total", before, total));
+
+    /// Criterion overrides, clamped to the criterion's range.
+    fn apply_criterion_overrides(&mut self, overrides: &[&Override]) {
+        for o in overrides {
+            let Some(id) = &o.criterion else { continue };
+            if let Some(cs) = self.criteria.iter_mut().find(|cs| cs.id == *id) {
+                let before = cs.points;
+                cs.points = o.change.apply(before).clamp(0.0, cs.max);
+                self.applied.push(o.describe(&cs.label, before, cs.points));
+            }
+        }
     }
-    let percent = if max > 0.0 { 100.0 * total / max } else { 0.0 };
-    let letter = g.letter(percent);
-    for s in &applied {
-        let out = feedback.sentence();
-        out.push_str("Override: ");
-        out.push_str(s);
+
+    /// The total after deductions and caps, rounded, then total overrides; and the letter.
+    fn finish(mut self, overrides: &[&Override]) -> Score {
+        let g = &self.rubric.grading;
+        let max: f64 = self.criteria.iter().map(|c| c.max).sum();
+        let sum: f64 = self.criteria.iter().map(|c| c.points).sum();
+        let mut total = g.round((sum - self.deduct).max(0.0).min(self.cap));
+        for o in overrides.iter().filter(|o| o.criterion.is_none()) {
+            let before = total;
+            total = o.change.apply(before).clamp(0.0, max);
+            self.applied.push(o.describe("total", before, total));
+        }
+        let percent = if max > 0.0 { 100.0 * total / max } else { 0.0 };
+        let letter = g.letter(percent);
+        let feedback = self.feedback(total, max, letter.as_deref());
+        Score {
+            criteria: self.criteria,
+            total,
+            max,
+            percent,
+            letter,
+            feedback,
+            overrides: self.applied,
+        }
     }
-    let out = feedback.sentence();
-    out.push_str("Total ");
-    push_points(out, total);
+
+    /// The sentences: each criterion, each flag, each override, then the total.
+    fn feedback(&self, total: f64, max: f64, letter: Option<&str>) -> String {
+        let mut f = Feedback::default();
+        for s in self.measured.iter().chain(&self.flags) {
+            f.sentence().push_str(s);
+        }
+        for s in &self.applied {
+            let out = f.sentence();
+            out.push_str("Override: ");
+            out.push_str(s);
+        }
+        let out = f.sentence();
+        out.push_str("Total ");
+        push_points(out, total);
+        out.push_str(" of ");
+        push_points(out, max);
+        if let Some(l) = letter {
+            out.push_str(" (");
+            out.push_str(l);
+            out.push(')');
+        }
+        out.push('.');
+        f.0
+    }
+}
+
+/// A criterion's points before flags and overrides, and its sentence.
+fn criterion_points(rubric: &Rubric, c: &Criterion, a: &Assessed) -> (f64, String) {
+    let max = *c.max.get_ref();
+    let m = c.measure();
+    let mut out = String::with_capacity(96);
+    out.push_str(&c.label);
+    out.push_str(": ");
+    let points = match (m, m.and_then(|m| m.of_assessed(a))) {
+        (Some(m), Some(x)) => {
+            m.sentence(&mut out, x, a);
+            rubric.grading.round(rule_points(c, x))
+        }
+        (Some(m), None) => {
+            out.push_str(m.role().missing);
+            c.if_missing
+        }
+        (None, _) => {
+            out.push_str("not scored");
+            0.0
+        }
+    };
+    out.push_str(", ");
+    push_points(&mut out, points);
     out.push_str(" of ");
-    push_points(out, max);
-    if let Some(l) = &letter {
-        out.push_str(" (");
-        out.push_str(l);
-        out.push(')');
-    }
-    out.push('.');
-    Score {
-        criteria,
-        total,
-        max,
-        percent,
-        letter,
-        feedback: feedback.0,
-        overrides: applied,
-    }
+    push_points(&mut out, max);
+    out.push_str(" points");
+    (points, out)
+}
+
+/// Grades one assessed row.
+pub fn score(rubric: &Rubric, a: &Assessed, overrides: &[&Override]) -> Score {
+    let mut s = Scoring::measure(rubric, a);
+    s.apply_flags(a);
+    s.apply_criterion_overrides(overrides);
+    s.finish(overrides)
 }
 
 #[cfg(test)]

@@ -21,7 +21,7 @@ fn bradley() -> HashMap<String, f64> {
 #[test]
 fn every_builtin_compound_is_within_3_k_of_the_bradley_dataset() {
     let data = bradley();
-    for c in Library::builtin().compounds() {
+    for c in Library::builtin().unwrap().compounds() {
         let k = data
             .get(&c.cas)
             .unwrap_or_else(|| panic!("{} ({}) not in the Bradley subset", c.name, c.cas));
@@ -47,7 +47,7 @@ fn every_builtin_compound_is_within_3_k_of_the_bradley_dataset() {
 #[test]
 fn benzoic_acid_triple_point_matches_nist() {
     // NIST Chemistry WebBook: benzoic acid triple point 395.52 K.
-    let lib = Library::builtin();
+    let lib = Library::builtin().unwrap();
     let c = lib.lookup("benzoic acid").unwrap();
     assert!(c
         .melting_points
