@@ -32,6 +32,9 @@ pub enum Command {
     Check {
         #[command(flatten)]
         run: RunArgs,
+        /// Also say what each flag code that was raised means
+        #[arg(long)]
+        explain: bool,
     },
     /// Work with rubric files
     Rubric {

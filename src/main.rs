@@ -138,7 +138,7 @@ fn grade(run: RunArgs, g: GradeArgs) -> Result<ExitCode> {
     Ok(exit_for(&batch))
 }
 
-fn check(run: RunArgs) -> Result<ExitCode> {
+fn check(run: RunArgs, explain: bool) -> Result<ExitCode> {
     let config = match Config::build(options(run, None)) {
         Ok(c) => c,
         Err(e) => return usage_error(&e),
@@ -153,6 +153,10 @@ fn check(run: RunArgs) -> Result<ExitCode> {
     writeln!(out)?;
     write!(out, "{}", check_report::flagged(&batch.rows, style))?;
     writeln!(out)?;
+    if explain {
+        write!(out, "{}", check_report::legend(&batch.rows, style))?;
+        writeln!(out)?;
+    }
     write!(
         out,
         "{}",
@@ -214,7 +218,7 @@ fn main() -> ExitCode {
     };
     let result = match cli.command {
         Command::Grade { run, grade: g } => grade(run, g),
-        Command::Check { run } => check(run),
+        Command::Check { run, explain } => check(run, explain),
         Command::Rubric {
             action: RubricAction::Check { file },
         } => rubric_check(&file),

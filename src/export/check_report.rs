@@ -7,7 +7,7 @@ use std::fmt::Write as _;
 use crate::ingest::{Problem, SheetReport};
 use crate::model::Graded;
 use crate::model::Tally;
-use crate::model::{Assessed, Severity};
+use crate::model::{Assessed, Flag, Severity};
 
 /// Terminal styling, or none.
 #[derive(Clone, Copy)]
@@ -125,6 +125,27 @@ pub fn flagged(rows: &[Graded], style: Style) -> String {
                 let _ = writeln!(out, "      {who} {mark} {code}: {note}");
             }
         }
+    }
+    out
+}
+
+/// What each flag code raised in the batch means, in the order of the flag table.
+pub fn legend(rows: &[Graded], style: Style) -> String {
+    let mut out = String::new();
+    let _ = writeln!(out, "{}", style.bold("Flags raised, and what they mean"));
+    let raised: Vec<Flag> = Flag::ALL
+        .into_iter()
+        .filter(|f| rows.iter().any(|g| g.assessed.has(*f)))
+        .collect();
+    if raised.is_empty() {
+        let _ = writeln!(out, "  none");
+    }
+    for f in raised {
+        let mark = match f.severity() {
+            Severity::Impossible => "! impossible",
+            Severity::Suspicious => "? suspicious",
+        };
+        let _ = writeln!(out, "  {:<24} {mark}: {}", f.code(), f.meaning());
     }
     out
 }

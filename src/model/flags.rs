@@ -81,7 +81,8 @@ impl Flag {
         }
     }
 
-    /// One line for `benchgrade check --explain` and the documentation.
+    /// What the flag means, in one line: `benchgrade check --explain` prints it for every flag
+    /// raised.
     pub fn meaning(self) -> &'static str {
         match self {
             Flag::RecoveryOver100 => "more recovered than crude: a weighing or transcription error, or a wet product",

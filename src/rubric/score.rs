@@ -298,8 +298,17 @@ mod tests {
                 "width {w}"
             );
         }
-        // floating-point noise on an edge is settled: 122.0 - 120.8 = 1.2000000000000028
-        assert_eq!(rule_points(&r.criteria[1], 122.0 - 121.0), 30.0);
+        // floating-point noise on an edge is settled: a range of 127.3-128.3 °C is
+        // 128.3 - 127.3 = 1.0000000000000142 in doubles, which unsettled would fall in the
+        // "above 1.0" band; as written it is 1.0 wide and earns the "through 1.0" band's 30
+        let width = 128.3 - 127.3;
+        assert!(width > 1.0, "the noise this test is about: {width}");
+        assert_eq!(rule_points(&r.criteria[1], width), 30.0);
+        assert_eq!(
+            rule_points(&r.criteria[1], 128.3 - 126.3),
+            20.0,
+            "2.000000000000014"
+        );
     }
 
     #[test]

@@ -10,6 +10,7 @@ use std::collections::BTreeMap;
 use super::inference::{
     holm, kruskal_wallis, mann_whitney, median, one_way_anova, welch_anova, welch_t,
 };
+use super::mean_and_ss;
 use super::outlier::{self, Centre};
 use crate::model::{bench_key, Flag, Graded, Measure};
 
@@ -464,11 +465,9 @@ pub fn natural_cmp(a: &str, b: &str) -> std::cmp::Ordering {
 /// Cohen's d with the pooled standard deviation.
 fn cohen_d(a: &[f64], b: &[f64]) -> f64 {
     let (na, nb) = (a.len() as f64, b.len() as f64);
-    let ma = a.iter().sum::<f64>() / na;
-    let mb = b.iter().sum::<f64>() / nb;
-    let va = a.iter().map(|x| (x - ma).powi(2)).sum::<f64>() / (na - 1.0);
-    let vb = b.iter().map(|x| (x - mb).powi(2)).sum::<f64>() / (nb - 1.0);
-    let pooled = (((na - 1.0) * va + (nb - 1.0) * vb) / (na + nb - 2.0)).sqrt();
+    let (ma, ssa) = mean_and_ss(a);
+    let (mb, ssb) = mean_and_ss(b);
+    let pooled = ((ssa + ssb) / (na + nb - 2.0)).sqrt();
     (ma - mb) / pooled
 }
 

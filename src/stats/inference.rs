@@ -8,6 +8,8 @@
 
 use statrs::distribution::{ChiSquared, ContinuousCDF, FisherSnedecor, StudentsT};
 
+use super::{mean, ss_about};
+
 /// A classical one-way analysis of variance.
 #[derive(Clone, Debug, PartialEq)]
 pub struct Anova {
@@ -30,16 +32,6 @@ pub struct Test {
     pub df1: f64,
     pub df2: f64,
     pub p: f64,
-}
-
-fn mean(x: &[f64]) -> f64 {
-    // two passes: a first mean, then the mean of deviations from it, to keep digits
-    let m0 = x.iter().sum::<f64>() / x.len() as f64;
-    m0 + x.iter().map(|v| v - m0).sum::<f64>() / x.len() as f64
-}
-
-fn ss_about(x: &[f64], m: f64) -> f64 {
-    x.iter().map(|v| (v - m) * (v - m)).sum()
 }
 
 fn f_sf(f: f64, d1: f64, d2: f64) -> f64 {

@@ -5,7 +5,7 @@ use std::io::Write;
 
 use rust_xlsxwriter::Workbook;
 
-use crate::harness::{project_root, Fixture};
+use crate::harness::{self, project_root, Fixture};
 
 const GOOD: &str = "ID,Crude mass (g),Recovered mass (g),MP\ns1,3.0,2.1,121-122\n";
 
@@ -110,10 +110,15 @@ fn cells_at_opposite_corners_cost_what_they_hold() {
         ws.write_string(0, 0, "ID").unwrap();
         ws.write_string(1_048_575, 16_383, "far corner").unwrap();
     });
-    let (code, err, rows) = grade_with(&f, "corners.xlsx");
+    f.write("good.csv", GOOD);
+    // a dense grid of these two cells would be 2^34 cells (hundreds of GB); within 1 GiB of
+    // address space the run must still finish
+    let args = ["grade", "corners.xlsx", "good.csv", "--out", "out"];
+    let run = harness::run_capped(f.dir.path(), &args, 1024);
     // no table in it: a clear message, and the good file graded
-    assert_eq!((code, rows), (1, 1), "{err}");
-    assert!(err.contains("corners.xlsx"));
+    assert_eq!(run.code, 1, "{}", run.stderr);
+    assert_eq!(f.results("out").len(), 1);
+    assert!(run.stderr.contains("corners.xlsx"), "{}", run.stderr);
 }
 
 #[test]

@@ -60,10 +60,33 @@ impl Fixture {
 }
 
 pub fn run_in(dir: &Path, args: &[&str]) -> Run {
-    let out = Command::new(env!("CARGO_BIN_EXE_benchgrade"))
-        .args(args)
+    finish(
+        Command::new(env!("CARGO_BIN_EXE_benchgrade")).args(args),
+        dir,
+    )
+}
+
+/// Runs the binary with its address space capped at `mib` MiB (`ulimit -v`, through sh): a
+/// run that reserved more would die of a failed allocation instead of finishing.
+pub fn run_capped(dir: &Path, args: &[&str], mib: u64) -> Run {
+    let script = format!("ulimit -v {}; exec \"$0\" \"$@\"", mib * 1024);
+    finish(
+        Command::new("sh")
+            .arg("-c")
+            .arg(script)
+            .arg(env!("CARGO_BIN_EXE_benchgrade"))
+            .args(args),
+        dir,
+    )
+}
+
+fn finish(cmd: &mut Command, dir: &Path) -> Run {
+    let out = cmd
         .current_dir(dir)
         .env("NO_COLOR", "1")
+        // the developer's own settings must not leak into a test
+        .env_remove("BENCHGRADE_PSEUDONYM_KEY")
+        .env_remove("SOURCE_DATE_EPOCH")
         .output()
         .expect("the binary runs");
     Run {
