@@ -1,3 +1,4 @@
+#![allow(unsafe_code)] // the allocator's options are set through its C interface, before main
 //! The binary's memory allocator. A run allocates and frees several small strings for every
 //! row (cells, names, feedback sentences, flag notes); mimalloc does that in fewer cycles than
 //! glibc's malloc, and with two options set it also holds less memory at its peak. Measured with

@@ -6,6 +6,7 @@ mod cohort;
 mod grading;
 mod harness;
 mod ingest_messy;
+mod layers;
 mod nist;
 mod physchem;
 mod reference_data;
