@@ -37,10 +37,10 @@ fn main() -> Result<(), Box<dyn std::error::Error>> {
             ws.write_string(r, 1, format!("Student {}", s * per + i))?;
             ws.write_string(r, 6, "120.5-121.7")?;
             for c in [2u16, 3, 4, 5, 7] {
-                ws.write_number(r, c, x * 0.001 + c as f64)?;
+                ws.write_number(r, c, x * 0.001 + f64::from(c))?;
             }
             for c in 8..25u16 {
-                ws.write_number(r, c, x * 0.01 + c as f64)?;
+                ws.write_number(r, c, x * 0.01 + f64::from(c))?;
             }
             ws.write_string(r, 25, "B")?;
             ws.write_string(r, 26, "")?;

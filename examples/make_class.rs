@@ -5,6 +5,9 @@
 //!
 //! Defaults: 100,000 rows over 8 sections. The same arguments give the same workbook.
 
+// a generator reads best as one long recipe
+#![allow(clippy::too_many_lines)]
+
 use rust_xlsxwriter::{DocProperties, ExcelDateTime, Workbook};
 
 struct Lcg(u64);

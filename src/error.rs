@@ -88,12 +88,7 @@ pub fn toml_location(text: &str, span: Option<std::ops::Range<usize>>) -> (usize
     let Some(span) = span else { return (1, 1) };
     let upto = &text[..span.start.min(text.len())];
     let line = upto.matches('\n').count() + 1;
-    let column = upto
-        .rsplit('\n')
-        .next()
-        .map(|l| l.chars().count())
-        .unwrap_or(0)
-        + 1;
+    let column = upto.rsplit('\n').next().map_or(0, |l| l.chars().count()) + 1;
     (line, column)
 }
 

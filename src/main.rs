@@ -62,50 +62,45 @@ fn report_problems(batch: &Batch) {
 }
 
 fn exit_for(batch: &Batch) -> ExitCode {
-    ExitCode::from(if batch.incomplete() { 1 } else { 0 })
+    ExitCode::from(u8::from(batch.incomplete()))
 }
 
-fn grade(run: RunArgs, g: GradeArgs) -> Result<ExitCode> {
-    let quiet = g.quiet;
-    let mut opts = options(run, Some(g.out));
-    opts.split_sections = g.split_sections;
-    opts.skip_workbooks = g.skip_workbooks;
-    opts.baseline = g.baseline.clone();
-    if g.pseudonymize {
-        let key = match (
-            &g.pseudonym_key,
-            std::env::var_os("BENCHGRADE_PSEUDONYM_KEY"),
-        ) {
-            (Some(file), _) => match std::fs::read(file) {
-                Ok(k) => k,
-                Err(e) => {
-                    return usage_error(&format!(
-                        "cannot read the pseudonym key {}: {e}",
-                        file.display()
-                    ))
-                }
-            },
-            (None, Some(k)) => k.into_encoded_bytes(),
-            (None, None) => {
-                return usage_error(&"--pseudonymize needs a secret key: --pseudonym-key FILE or BENCHGRADE_PSEUDONYM_KEY; no guessable default is used");
-            }
-        };
-        opts.pseudonym_key = Some(key);
+/// The secret key for `--pseudonymize`: the key file, else BENCHGRADE_PSEUDONYM_KEY.
+fn pseudonym_key(g: &GradeArgs) -> Result<Option<Vec<u8>>, String> {
+    if !g.pseudonymize {
+        return Ok(None);
     }
-    opts.timestamp = g.timestamp.or(opts.timestamp);
-    let config = match Config::build(opts) {
-        Ok(c) => c,
-        Err(e) => return usage_error(&e),
-    };
-    let started = std::time::Instant::now();
-    let mut bar: Option<indicatif::ProgressBar> = None;
-    let show = !quiet && std::io::stderr().is_terminal();
-    // a bar only for batches that take more than a couple of seconds
-    let mut progress = |p: benchgrade::Progress| {
-        if !show || started.elapsed() < std::time::Duration::from_secs(2) {
+    match (&g.pseudonym_key, std::env::var_os("BENCHGRADE_PSEUDONYM_KEY")) {
+        (Some(file), _) => std::fs::read(file)
+            .map(Some)
+            .map_err(|e| format!("cannot read the pseudonym key {}: {e}", file.display())),
+        (None, Some(k)) => Ok(Some(k.into_encoded_bytes())),
+        (None, None) => Err("--pseudonymize needs a secret key: --pseudonym-key FILE or BENCHGRADE_PSEUDONYM_KEY; no guessable default is used".into()),
+    }
+}
+
+/// A progress bar on standard error, shown only for runs past a couple of seconds on a
+/// terminal, never with `--quiet`.
+struct Bar {
+    show: bool,
+    started: std::time::Instant,
+    shown: Option<indicatif::ProgressBar>,
+}
+
+impl Bar {
+    fn new(quiet: bool) -> Bar {
+        Bar {
+            show: !quiet && std::io::stderr().is_terminal(),
+            started: std::time::Instant::now(),
+            shown: None,
+        }
+    }
+
+    fn update(&mut self, p: benchgrade::Progress) {
+        if !self.show || self.started.elapsed() < std::time::Duration::from_secs(2) {
             return;
         }
-        let b = bar.get_or_insert_with(|| {
+        let b = self.shown.get_or_insert_with(|| {
             let b = indicatif::ProgressBar::new(p.files as u64);
             let style = indicatif::ProgressStyle::with_template(
                 "{elapsed} [{bar:30}] {pos}/{len} files, {msg}",
@@ -116,11 +111,34 @@ fn grade(run: RunArgs, g: GradeArgs) -> Result<ExitCode> {
         });
         b.set_position(p.files_done as u64);
         b.set_message(format!("{} rows", p.rows));
-    };
-    let result = benchgrade::grade_with_progress(&config, &mut progress);
-    if let Some(b) = bar {
-        b.finish_and_clear();
     }
+
+    fn clear(self) {
+        if let Some(b) = self.shown {
+            b.finish_and_clear();
+        }
+    }
+}
+
+fn grade(run: RunArgs, g: GradeArgs) -> Result<ExitCode> {
+    let quiet = g.quiet;
+    let key = match pseudonym_key(&g) {
+        Ok(k) => k,
+        Err(e) => return usage_error(&e),
+    };
+    let mut opts = options(run, Some(g.out));
+    opts.split_sections = g.split_sections;
+    opts.skip_workbooks = g.skip_workbooks;
+    opts.baseline = g.baseline;
+    opts.pseudonym_key = key;
+    opts.timestamp = g.timestamp.or(opts.timestamp);
+    let config = match Config::build(opts) {
+        Ok(c) => c,
+        Err(e) => return usage_error(&e),
+    };
+    let mut bar = Bar::new(quiet);
+    let result = benchgrade::grade_with_progress(&config, &mut |p| bar.update(p));
+    bar.clear();
     let batch = match result {
         Ok(b) => b,
         Err(RunError::Config(e)) => return usage_error(&e),
@@ -202,6 +220,8 @@ fn rubric_check(file: &std::path::Path) -> Result<ExitCode> {
     }
 }
 
+// every command returns a Result, and a usage error is one of its outcomes
+#[allow(clippy::unnecessary_wraps)]
 fn usage_error(e: &dyn std::fmt::Display) -> Result<ExitCode> {
     eprintln!("benchgrade: {e}");
     Ok(ExitCode::from(2))

@@ -4,7 +4,7 @@
 //! temporary files renamed into place at the end.
 
 use std::path::{Path, PathBuf};
-use std::sync::mpsc::sync_channel;
+use std::sync::mpsc::{sync_channel, SyncSender};
 
 use crate::assess::{calibration, Assessor, Calibration, Centres, Context};
 use crate::config::Config;
@@ -14,7 +14,7 @@ use crate::export::row_thread::Fanout;
 use crate::ingest::spill::{Replay, SpillWriter};
 use crate::ingest::{self, discover, Collector, Problem, SheetReport};
 use crate::model::{Graded, Score, Tally};
-use crate::rubric::overrides::Override;
+use crate::rubric::overrides::{Override, Overrides};
 use crate::rubric::score;
 
 mod outputs;
@@ -143,8 +143,47 @@ struct FirstPass {
     replay: Option<Replay>,
 }
 
+/// Hands every file's events (or the first pass's record of them) to `tx`, in batch order,
+/// until the receiver hangs up.
+fn read_all(files: &[PathBuf], replay: Option<&Replay>, tx: &SyncSender<ingest::Event>) {
+    if let Some(r) = replay {
+        return r.replay(&mut |e| tx.send(e).is_ok());
+    }
+    for f in files {
+        let mut open = true;
+        ingest::read_file(f, &mut |e| open &= tx.send(e).is_ok());
+        if !open {
+            break;
+        }
+    }
+}
+
+/// Assesses and scores rows one after another.
+struct Grader<'a> {
+    config: &'a Config,
+    assessor: Assessor<'a>,
+    overrides: Overrides,
+    /// Whether rows are scored: not in the first pass, which needs only the measures.
+    scoring: bool,
+}
+
+impl Grader<'_> {
+    fn grade(&mut self, sub: ingest::Submission) -> Graded {
+        let a = self.assessor.assess(sub);
+        let score = if self.scoring {
+            let s = &a.submission;
+            let own = self.overrides.for_row(s.student_id.as_deref(), &s.section);
+            let refs: Vec<&Override> = own.iter().collect();
+            score::score(&self.config.rubric, &a, &refs)
+        } else {
+            Score::default()
+        };
+        Graded { score, assessed: a }
+    }
+}
+
 /// Reads `files` (or replays the first pass's record of them) on a reader thread and hands each
-/// assessed row to `on_row`, in batch order; `record` keeps what was read. Stops at the first
+/// graded row to `on_row`, in batch order; `record` keeps what was read. Stops at the first
 /// error `on_row` returns.
 fn stream(
     config: &Config,
@@ -154,73 +193,50 @@ fn stream(
     on_row: &mut dyn FnMut(Graded) -> Result<(), WriteError>,
     progress: &mut dyn FnMut(Progress),
 ) -> Result<(), RunError> {
-    let rows_done = std::cell::Cell::new(0usize);
-    let mut files_done = 0;
-    let (files, centres, replay) = (inputs.files, inputs.centres, inputs.replay);
     let calibration = load_calibration(inputs.calibration, &mut batch.problems);
-    let mut overrides = config.overrides.clone();
-    let mut assessor = Assessor::new(context(config, calibration.as_ref(), centres));
+    let mut grader = Grader {
+        config,
+        assessor: Assessor::new(context(config, calibration.as_ref(), inputs.centres)),
+        overrides: config.overrides.clone(),
+        scoring: inputs.centres.is_some(),
+    };
     let mut collector = Collector::default();
     let mut failure: Option<WriteError> = None;
+    let mut done = Progress {
+        files_done: 0,
+        files: inputs.files.len(),
+        rows: 0,
+    };
     std::thread::scope(|scope| {
         let (tx, rx) = sync_channel(0);
-        scope.spawn(move || {
-            if let Some(r) = replay {
-                return r.replay(&mut |e| tx.send(e).is_ok());
-            }
-            for f in files {
-                let mut open = true;
-                ingest::read_file(f, &mut |e| open &= tx.send(e).is_ok());
-                if !open {
-                    break;
-                }
-            }
-        });
-        let mut handle_row = |sub| {
-            if failure.is_some() {
-                return;
-            }
-            let a = assessor.assess(sub);
-            rows_done.set(rows_done.get() + 1);
-            let score = if inputs.centres.is_some() {
-                let own =
-                    overrides.for_row(a.submission.student_id.as_deref(), &a.submission.section);
-                let refs: Vec<&Override> = own.iter().collect();
-                score::score(&config.rubric, &a, &refs)
-            } else {
-                // the first pass needs only the measures
-                Score::default()
-            };
-            batch.tally.add(&a);
-            if let Err(e) = on_row(Graded { score, assessed: a }) {
-                failure = Some(e);
-            }
-        };
-        for event in rx.iter() {
+        scope.spawn(move || read_all(inputs.files, inputs.replay, &tx));
+        for event in &rx {
             let file_done = matches!(event, ingest::Event::FileDone(_));
             if let Some(w) = record.as_deref_mut() {
                 w.record(&event);
             }
-            collector.handle(event, &config.columns, &mut handle_row);
-            files_done += usize::from(file_done);
-            progress(Progress {
-                files_done,
-                files: files.len(),
-                rows: rows_done.get(),
+            collector.handle(event, &config.columns, &mut |sub| {
+                if failure.is_none() {
+                    let g = grader.grade(sub);
+                    done.rows += 1;
+                    batch.tally.add(&g.assessed);
+                    failure = on_row(g).err();
+                }
             });
+            done.files_done += usize::from(file_done);
+            progress(done);
         }
     });
     batch.sheets = collector.sheets;
     batch.problems.extend(collector.problems);
     if let Some(cal) = &calibration {
-        batch
-            .problems
-            .extend(unused_calibration(cal, assessor.apparatus_seen()));
+        let seen = grader.assessor.apparatus_seen();
+        batch.problems.extend(unused_calibration(cal, seen));
     }
     if let Some(e) = failure {
         return Err(e.into());
     }
-    let unmatched = overrides.unmatched();
+    let unmatched = grader.overrides.unmatched();
     if !unmatched.is_empty() {
         return Err(ConfigError::Invalid(unmatched.join("\n")).into());
     }
@@ -239,7 +255,7 @@ fn section_centres(
     let mut centres = Centres::default();
     let mut scratch = Batch::default();
     let mut first_pass = config.clone();
-    first_pass.overrides = Default::default();
+    first_pass.overrides = crate::rubric::overrides::Overrides::default();
     let inputs = Inputs {
         files,
         calibration: calibration_file,

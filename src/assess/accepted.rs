@@ -52,7 +52,7 @@ impl Reference {
     pub fn at(&self, clear_c: Option<f64>) -> f64 {
         match *self {
             Reference::Point(v) => v,
-            Reference::Range(lo, hi) => clear_c.map_or((lo + hi) / 2.0, |c| c.clamp(lo, hi)),
+            Reference::Range(lo, hi) => clear_c.map_or(f64::midpoint(lo, hi), |c| c.clamp(lo, hi)),
         }
     }
 

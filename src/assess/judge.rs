@@ -154,7 +154,8 @@ fn wet_or_impure(a: &Assessed, t: &Tolerances, out: &mut Vec<(Flag, String)>) {
     if let Some(c) = over_ceiling {
         let mut note = format!("recovery {rec:.1} % exceeds the most that could crystallise ({c:.1} %): solvent or insoluble matter in the product");
         if !off.is_empty() {
-            note.push_str(&format!("; {}", off.join(" and ")));
+            note.push_str("; ");
+            note.push_str(&off.join(" and "));
         }
         out.push((Flag::LikelyWet, note + "; dry to constant mass and reweigh"));
     } else if heavy && !off.is_empty() {

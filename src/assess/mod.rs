@@ -136,7 +136,7 @@ impl<'a> Assessor<'a> {
         Assessor {
             ctx,
             duplicates: Duplicates::default(),
-            apparatus_seen: Default::default(),
+            apparatus_seen: std::collections::BTreeSet::default(),
             compounds: HashMap::new(),
             default,
         }
@@ -313,4 +313,5 @@ pub fn assess_all(subs: Vec<Submission>, ctx: Context) -> Vec<Assessed> {
 }
 
 #[cfg(test)]
+#[allow(clippy::too_many_lines)]
 mod tests;

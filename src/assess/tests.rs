@@ -248,7 +248,7 @@ fn flags_are_in_alphabetical_order() {
     });
     let c = codes(&a);
     let mut sorted = c.clone();
-    sorted.sort();
+    sorted.sort_unstable();
     assert_eq!(c, sorted);
     assert_eq!(a.flag_codes(), c.join(";"));
 }

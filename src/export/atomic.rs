@@ -59,7 +59,8 @@ impl AtomicFile {
                 .writer
                 .take()
                 .ok_or_else(|| std::io::Error::other("already committed"))?;
-            w.into_inner().map_err(|e| e.into_error())?;
+            w.into_inner()
+                .map_err(std::io::IntoInnerError::into_error)?;
             std::fs::rename(&self.tmp, &self.path)
         })();
         result.map_err(|source| WriteError {

@@ -16,28 +16,28 @@ pub struct Style {
 }
 
 impl Style {
-    fn paint(&self, code: &str, text: &str) -> String {
+    fn paint(self, code: &str, text: &str) -> String {
         if self.color {
             format!("\x1b[{code}m{text}\x1b[0m")
         } else {
             text.to_string()
         }
     }
-    fn bold(&self, t: &str) -> String {
+    fn bold(self, t: &str) -> String {
         self.paint("1", t)
     }
-    fn impossible(&self, t: &str) -> String {
+    fn impossible(self, t: &str) -> String {
         self.paint("31", t)
     }
-    fn suspicious(&self, t: &str) -> String {
+    fn suspicious(self, t: &str) -> String {
         self.paint("33", t)
     }
-    fn dim(&self, t: &str) -> String {
+    fn dim(self, t: &str) -> String {
         self.paint("2", t)
     }
 }
 
-fn sheet_title(source: &str, sheet: &Option<String>) -> String {
+fn sheet_title(source: &str, sheet: Option<&String>) -> String {
     match sheet {
         Some(s) => format!("{source} [{s}]"),
         None => source.to_string(),
@@ -59,7 +59,7 @@ pub fn layouts(sheets: &[SheetReport], style: Style) -> String {
         let _ = writeln!(
             out,
             "  {}: header row {}, {} student rows{}",
-            sheet_title(&s.source, &s.sheet),
+            sheet_title(&s.source, s.sheet.as_ref()),
             s.layout.header_row,
             s.students,
             extra

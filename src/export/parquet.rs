@@ -138,7 +138,7 @@ fn schema(columns: &[(&'static Column, Buffer)]) -> Schema {
         };
         Field::new(c.name.into(), dtype)
     });
-    Schema::from_iter(fields)
+    fields.collect()
 }
 
 impl ParquetRows {
@@ -180,7 +180,7 @@ impl ParquetRows {
             match (c.personal, &self.pseudonyms, c.value(row)) {
                 (Some(Personal::Id), Some(p), Value::Text(Some(id))) => {
                     let pseudonym = p.pseudonym(id);
-                    buffer.push(Value::Text(Some(&pseudonym)), sep)
+                    buffer.push(Value::Text(Some(&pseudonym)), sep);
                 }
                 (Some(Personal::Name), Some(_), _) => buffer.push(Value::Text(None), sep),
                 (_, _, v) => buffer.push(v, sep),

@@ -23,10 +23,17 @@ pub struct Provenance {
 }
 
 pub fn sha256_hex(bytes: &[u8]) -> String {
-    Sha256::digest(bytes)
-        .iter()
-        .map(|b| format!("{b:02x}"))
-        .collect()
+    hex(&Sha256::digest(bytes))
+}
+
+/// Bytes as lower-case hexadecimal.
+pub fn hex(bytes: &[u8]) -> String {
+    use std::fmt::Write as _;
+    let mut s = String::with_capacity(bytes.len() * 2);
+    for b in bytes {
+        let _ = write!(s, "{b:02x}");
+    }
+    s
 }
 
 /// SHA-256 of a file, read in chunks; `None` if it cannot be read.
@@ -41,7 +48,7 @@ pub fn sha256_file(path: &Path) -> Option<String> {
         }
         h.update(&buf[..n]);
     }
-    Some(h.finalize().iter().map(|b| format!("{b:02x}")).collect())
+    Some(hex(&h.finalize()))
 }
 
 /// "2026-12-01 22:23:57" for seconds since the epoch (UTC), by the days-to-civil algorithm

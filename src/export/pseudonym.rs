@@ -33,8 +33,7 @@ impl Pseudonymizer {
             Hmac::<Sha256>::new_from_slice(&self.key).expect("HMAC takes keys of any length");
         mac.update(id.trim().as_bytes());
         let tag = mac.finalize().into_bytes();
-        let hex: String = tag.iter().take(6).map(|b| format!("{b:02x}")).collect();
-        format!("p-{hex}")
+        format!("p-{}", super::provenance::hex(&tag[..6]))
     }
 }
 

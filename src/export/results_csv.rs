@@ -78,7 +78,7 @@ impl ResultsCsv {
         self.buf.clear();
         match (value, column.personal, &self.pseudonyms) {
             (Value::Text(Some(id)), Some(Personal::Id), Some(p)) => {
-                self.buf.push_str(&p.pseudonym(id))
+                self.buf.push_str(&p.pseudonym(id));
             }
             (_, Some(Personal::Name), Some(_)) => {}
             (Value::Text(t), _, _) => self.buf.push_str(t.unwrap_or("")),

@@ -89,7 +89,7 @@ impl ResultsJson {
         self.buf.extend_from_slice(sep);
         let result = serde_json::to_writer(&mut self.buf, &Record(g.row()))
             .map_err(Into::into)
-            .and_then(|_| self.file.write_all(&self.buf));
+            .and_then(|()| self.file.write_all(&self.buf));
         result.map_err(|e| self.file.error(e))
     }
 

@@ -18,17 +18,14 @@ pub fn write(path: &Path, stats: &SectionStats) -> Result<(), WriteError> {
                 super::neutralise(section).into_owned(),
                 measure.key().to_string(),
             ];
-            match s {
-                Some(s) => {
-                    rec.push(s.n.to_string());
-                    for v in s.values() {
-                        rec.push(number(Some(v)));
-                    }
+            if let Some(s) = s {
+                rec.push(s.n.to_string());
+                for v in s.values() {
+                    rec.push(number(Some(v)));
                 }
-                None => {
-                    rec.push("0".into());
-                    rec.extend(std::iter::repeat_n(String::new(), 10));
-                }
+            } else {
+                rec.push("0".into());
+                rec.extend(std::iter::repeat_n(String::new(), 10));
             }
             csv.write_record(&rec)?;
         }

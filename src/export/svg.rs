@@ -10,6 +10,81 @@ const PALETTE: [&str; 8] = [
     "#3b6ea8", "#c2673a", "#4f8f5b", "#8a5a9e", "#b8962e", "#4a9aa0", "#a4485c", "#6b6b6b",
 ];
 
+/// A group's five numbers as a box plot draws them: quartiles, median, and whiskers to the
+/// most extreme values within 1.5 IQR of the box.
+struct Boxed {
+    sorted: Vec<f64>,
+    q1: f64,
+    median: f64,
+    q3: f64,
+    low: f64,
+    high: f64,
+}
+
+impl Boxed {
+    fn of(values: &[f64]) -> Boxed {
+        let mut v = values.to_vec();
+        v.sort_by(f64::total_cmp);
+        let (q1, median, q3) = (
+            quantile_sorted(&v, 0.25),
+            quantile_sorted(&v, 0.5),
+            quantile_sorted(&v, 0.75),
+        );
+        let iqr = q3 - q1;
+        let low = v
+            .iter()
+            .copied()
+            .find(|x| *x >= q1 - 1.5 * iqr)
+            .unwrap_or(q1);
+        let high = v
+            .iter()
+            .rev()
+            .copied()
+            .find(|x| *x <= q3 + 1.5 * iqr)
+            .unwrap_or(q3);
+        Boxed {
+            sorted: v,
+            q1,
+            median,
+            q3,
+            low,
+            high,
+        }
+    }
+}
+
+/// One group's row of a box plot at height `y`, in colour `c`, `x` mapping values across.
+fn box_row(s: &mut String, b: &Boxed, y: f64, c: &str, x: impl Fn(f64) -> f64) {
+    let _ = write!(
+        s,
+        r#"<line x1="{:.1}" y1="{y}" x2="{:.1}" y2="{y}" stroke="{c}"/>"#,
+        x(b.low),
+        x(b.high)
+    );
+    let _ = write!(
+        s,
+        r#"<rect x="{:.1}" y="{:.1}" width="{:.1}" height="16" fill="{c}" fill-opacity="0.25" stroke="{c}"/>"#,
+        x(b.q1),
+        y - 8.0,
+        (x(b.q3) - x(b.q1)).max(1.0)
+    );
+    let _ = write!(
+        s,
+        r#"<line x1="{:.1}" y1="{:.1}" x2="{:.1}" y2="{:.1}" stroke="{c}" stroke-width="2.5"/>"#,
+        x(b.median),
+        y - 8.0,
+        x(b.median),
+        y + 8.0
+    );
+    for p in b.sorted.iter().filter(|p| **p < b.low || **p > b.high) {
+        let _ = write!(
+            s,
+            r#"<circle cx="{:.1}" cy="{y}" r="2.5" fill="none" stroke="{c}"/>"#,
+            x(*p)
+        );
+    }
+}
+
 /// Horizontal box plots (median, quartiles, whiskers to the most extreme value within 1.5 IQR,
 /// points beyond), one row per group.
 pub fn box_plot(title: &str, unit: &str, groups: &[(String, Vec<f64>)]) -> String {
@@ -32,67 +107,21 @@ pub fn box_plot(title: &str, unit: &str, groups: &[(String, Vec<f64>)]) -> Strin
         escape(title)
     );
     for (i, (name, values)) in groups.iter().enumerate() {
-        let mut v = values.clone();
-        v.sort_by(f64::total_cmp);
-        let (q1, med, q3) = (
-            quantile_sorted(&v, 0.25),
-            quantile_sorted(&v, 0.5),
-            quantile_sorted(&v, 0.75),
-        );
-        let iqr = q3 - q1;
-        let lo_w = v
-            .iter()
-            .copied()
-            .find(|x| *x >= q1 - 1.5 * iqr)
-            .unwrap_or(q1);
-        let hi_w = v
-            .iter()
-            .rev()
-            .copied()
-            .find(|x| *x <= q3 + 1.5 * iqr)
-            .unwrap_or(q3);
+        let b = Boxed::of(values);
         let y = 20.0 + row_h * i as f64 + row_h / 2.0;
-        let c = PALETTE[i % PALETTE.len()];
         let _ = write!(
             s,
             r#"<text x="{}" y="{}" text-anchor="end" class="label">{} (n={})</text>"#,
             left - 8.0,
             y + 4.0,
             escape(name),
-            v.len()
+            b.sorted.len()
         );
-        let _ = write!(
-            s,
-            r#"<line x1="{:.1}" y1="{y}" x2="{:.1}" y2="{y}" stroke="{c}"/>"#,
-            x(lo_w),
-            x(hi_w)
-        );
-        let _ = write!(
-            s,
-            r#"<rect x="{:.1}" y="{:.1}" width="{:.1}" height="16" fill="{c}" fill-opacity="0.25" stroke="{c}"/>"#,
-            x(q1),
-            y - 8.0,
-            (x(q3) - x(q1)).max(1.0)
-        );
-        let _ = write!(
-            s,
-            r#"<line x1="{:.1}" y1="{:.1}" x2="{:.1}" y2="{:.1}" stroke="{c}" stroke-width="2.5"/>"#,
-            x(med),
-            y - 8.0,
-            x(med),
-            y + 8.0
-        );
-        for p in v.iter().filter(|p| **p < lo_w || **p > hi_w) {
-            let _ = write!(
-                s,
-                r#"<circle cx="{:.1}" cy="{y}" r="2.5" fill="none" stroke="{c}"/>"#,
-                x(*p)
-            );
-        }
+        box_row(&mut s, &b, y, PALETTE[i % PALETTE.len()], x);
     }
     let axis_y = height - 14.0;
     for k in 0..=4 {
-        let v = lo + (hi - lo) * k as f64 / 4.0;
+        let v = lo + (hi - lo) * f64::from(k) / 4.0;
         let _ = write!(
             s,
             r#"<text x="{:.1}" y="{axis_y}" text-anchor="middle" class="tick">{}</text>"#,

@@ -124,7 +124,8 @@ pub fn sheet_name(wanted: &str, taken: &[String]) -> String {
     if free(&base) {
         return base;
     }
-    (2..)
+    // at most `taken.len()` names are taken, so one of these is free
+    (2..=taken.len() + 2)
         .map(|i| {
             let suffix = format!(" ({i})");
             let head: String = base.chars().take(31 - suffix.len()).collect();
@@ -251,7 +252,7 @@ impl GradedWorkbooks {
         let mut h: Vec<String> = s
             .original_headers
             .as_deref()
-            .map(|x| x.to_vec())
+            .map(<[std::string::String]>::to_vec)
             .unwrap_or_default();
         h.extend(computed().map(Column::header));
         h.extend(self.criteria.iter().cloned());

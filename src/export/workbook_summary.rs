@@ -75,12 +75,25 @@ pub(crate) fn summary_table(
         ws.write_string(r, 0, section)?;
         ws.write_string(r, 1, measure.key())?;
         ws.write_number(r, 2, summary.as_ref().map_or(0.0, |s| s.n as f64))?;
-        for (i, v) in summary.iter().flat_map(|s| s.values()).enumerate() {
+        for (i, v) in summary
+            .iter()
+            .flat_map(super::super::stats::Summary::values)
+            .enumerate()
+        {
             write_opt(ws, r, 3 + i as u16, v)?;
         }
         r += 1;
     }
     Ok(r)
+}
+
+/// A column chart with its title and axis names.
+fn column_chart(title: &str, x: &str, y: &str) -> Chart {
+    let mut c = Chart::new(ChartType::Column);
+    c.title().set_name(title);
+    c.x_axis().set_name(x);
+    c.y_axis().set_name(y);
+    c
 }
 
 /// Histograms binned by us (the writer has no histogram type), drawn as column charts, and a
@@ -93,22 +106,31 @@ fn charts(
     data: &[(String, u32, usize)],
     start: u32,
 ) -> Result<(), XlsxError> {
-    let mut r = start;
+    let (recovery, score) = histograms(ws, name, sections, stats, start)?;
+    let r = start + 14;
+    ws.insert_chart(r, 0, &recovery)?;
+    ws.insert_chart(r, 8, &score)?;
+    ws.insert_chart(r + 16, 0, &scatter(data))?;
+    Ok(())
+}
+
+/// The recovery and score histograms of every section, their bins written from row `r`.
+fn histograms(
+    ws: &mut Worksheet,
+    name: &str,
+    sections: &[String],
+    stats: &SectionStats,
+    r: u32,
+) -> Result<(Chart, Chart), XlsxError> {
     ws.write_string(r, 0, "Recovery bins (%)")?;
     let bins = histogram(&[], 0.0, 10.0, 11);
     for (i, (lo, hi, _)) in bins.iter().enumerate() {
         ws.write_string(r + 1 + i as u32, 0, format!("{lo:.0}-{hi:.0}"))?;
     }
-    let mut recovery = Chart::new(ChartType::Column);
-    recovery
-        .title()
-        .set_name("Recovery by section (rows without impossible entries)");
-    recovery.x_axis().set_name("Recovery (%)");
-    recovery.y_axis().set_name("Students");
-    let mut score = Chart::new(ChartType::Column);
-    score.title().set_name("Score distribution");
-    score.x_axis().set_name("Score (% of maximum, bins of 10)");
-    score.y_axis().set_name("Students");
+    let title = "Recovery by section (rows without impossible entries)";
+    let mut recovery = column_chart(title, "Recovery (%)", "Students");
+    let x = "Score (% of maximum, bins of 10)";
+    let mut score = column_chart("Score distribution", x, "Students");
     ws.write_string(r, 14, "Score bins")?;
     for i in 0..11 {
         ws.write_string(r + 1 + i, 14, format!("{}-{}", i * 10, i * 10 + 10))?;
@@ -129,6 +151,11 @@ fn charts(
             histogram_series(ws, chart, (name, r), col, section, values)?;
         }
     }
+    Ok((recovery, score))
+}
+
+/// Recovery against range width, a series per section sheet, read from the sheets' cells.
+fn scatter(data: &[(String, u32, usize)]) -> Chart {
     let mut scatter = Chart::new(ChartType::Scatter);
     scatter.title().set_name("Recovery against range width");
     scatter.x_axis().set_name("Range width (°C)");
@@ -136,7 +163,7 @@ fn charts(
     let at = |c: &columns::Column| computed_position(c);
     let (Some(width_at), Some(rec_at)) = (at(&columns::RANGE_WIDTH_C), at(&columns::RECOVERY_PCT))
     else {
-        return Ok(());
+        return scatter;
     };
     for (sheet, rows, originals) in data {
         if *rows < 2 {
@@ -150,11 +177,7 @@ fn charts(
             .set_categories((sheet.as_str(), 1, width_col, rows - 1, width_col))
             .set_values((sheet.as_str(), 1, rec_col, rows - 1, rec_col));
     }
-    r += 14;
-    ws.insert_chart(r, 0, &recovery)?;
-    ws.insert_chart(r, 8, &score)?;
-    ws.insert_chart(r + 16, 0, &scatter)?;
-    Ok(())
+    scatter
 }
 
 pub(super) fn provenance_sheet(

@@ -172,7 +172,7 @@ pub fn rows_from_cells(cells: Vec<(u32, u32, Cell)>) -> Vec<RawRow> {
 
 /// Column letters for a 0-based column index: 0 is A, 26 is AA.
 pub fn column_letters(col: u32) -> String {
-    let mut n = col as u64 + 1;
+    let mut n = u64::from(col) + 1;
     let mut out = Vec::new();
     while n > 0 {
         let rem = ((n - 1) % 26) as u8;
@@ -195,7 +195,7 @@ pub fn cell_ref(sheet: Option<&str>, row: u32, col: u32) -> String {
             let _ = write!(s, "'{}'!", name.replace('\'', "''"));
         }
     }
-    let _ = write!(s, "{}{}", column_letters(col), row as u64 + 1);
+    let _ = write!(s, "{}{}", column_letters(col), u64::from(row) + 1);
     s
 }
 

@@ -21,12 +21,11 @@ pub fn decode(bytes: &[u8]) -> (String, &'static str) {
         let (text, _) = enc.decode_without_bom_handling(&bytes[bom_len..]);
         return (text.into_owned(), enc.name());
     }
-    match std::str::from_utf8(bytes) {
-        Ok(s) => (s.to_string(), UTF_8.name()),
-        Err(_) => {
-            let (text, _) = WINDOWS_1252.decode_without_bom_handling(bytes);
-            (text.into_owned(), "ISO-8859-1 (read as windows-1252)")
-        }
+    if let Ok(s) = std::str::from_utf8(bytes) {
+        (s.to_string(), UTF_8.name())
+    } else {
+        let (text, _) = WINDOWS_1252.decode_without_bom_handling(bytes);
+        (text.into_owned(), "ISO-8859-1 (read as windows-1252)")
     }
 }
 
@@ -66,8 +65,7 @@ pub fn sniff_delimiter(text: &str, is_tsv: bool) -> u8 {
             .chunk_by(|a, b| a == b)
             .filter(|g| g[0] > 0)
             .max_by_key(|g| (g.len(), g[0]))
-            .map(|g| g[0])
-            .unwrap_or(0);
+            .map_or(0, |g| g[0]);
         let agreeing = counts.iter().filter(|&&c| c == mode && c > 0).count();
         if (agreeing, mode) > (best.1, best.2) {
             best = (delim as u8, agreeing, mode);
@@ -98,8 +96,8 @@ fn sniff_decimal(rows: &[RawRow], delimiter: u8) -> Decimal {
                             && b.bytes().all(|x| x.is_ascii_digit())
                     })
                 };
-                comma += digits_around(',') as usize;
-                point += digits_around('.') as usize;
+                comma += usize::from(digits_around(','));
+                point += usize::from(digits_around('.'));
             }
         }
     }
@@ -143,7 +141,7 @@ pub fn read_delimited(bytes: &[u8], is_tsv: bool) -> Result<Delimited, String> {
         match reader.read_record(&mut record) {
             Ok(false) => break,
             Ok(true) => {
-                let line = record.position().map(|p| line_of(p.byte())).unwrap_or(0);
+                let line = record.position().map_or(0, |p| line_of(p.byte()));
                 let index = u32::try_from(line).map_err(|_| "the file has too many lines")?;
                 let cells: Vec<(u32, Cell)> = record
                     .iter()

@@ -53,13 +53,12 @@ fn take_bracketed_unit(text: &str) -> (String, Option<Unit>) {
         match text[i + 1..].find(close) {
             Some(len) => {
                 let inner = &text[i + 1..i + 1 + len];
-                match parse_unit(inner) {
-                    Some(u) => unit = Some(u),
-                    None => {
-                        rest.push(' ');
-                        rest.push_str(inner);
-                        rest.push(' ');
-                    }
+                if let Some(u) = parse_unit(inner) {
+                    unit = Some(u);
+                } else {
+                    rest.push(' ');
+                    rest.push_str(inner);
+                    rest.push(' ');
                 }
                 while let Some((j, _)) = chars.peek() {
                     if *j <= i + 1 + len {
@@ -199,18 +198,32 @@ const RECOVERED_WORDS: [&str; 12] = [
 ];
 const CRUDE_WORDS: [&str; 6] = ["crude", "impure", "starting", "initial", "before", "raw"];
 
-/// The field a parsed header names, by rules over its words and unit.
+/// The field a parsed header names, by rules over its words and unit, tried in order: who or
+/// where (apparatus, bench, section, assistant), the melting point, the reported recovery, the
+/// compound, the solvent, the masses, then the student's id and name.
 pub fn classify(h: &ParsedHeader) -> HeaderMeaning {
-    use HeaderMeaning::{Ambiguous, Field as F, Unknown};
     let w = Words(&h.words);
-    let temp = matches!(h.unit, Some(Unit::Temperature(_)));
-    let percent = matches!(h.unit, Some(Unit::Percent)) || w.any(&["percent", "pct"]);
-    let mass = w.any(&MASS_WORDS) || matches!(h.unit, Some(Unit::Mass(_)));
-    let mp = w.any(&MP_WORDS) || (w.has("melting") && w.has("point"));
-    if w.any(&["apparatus", "instrument", "device", "thermometer"]) {
-        return F(Field::Apparatus);
-    }
-    if w.any(&[
+    place_or_person(&w)
+        .or_else(|| melting(&w, h))
+        .or_else(|| substance(&w, h))
+        .or_else(|| mass(&w, h))
+        .or_else(|| student(&w))
+        .unwrap_or(HeaderMeaning::Unknown)
+}
+
+fn percent(w: &Words, h: &ParsedHeader) -> bool {
+    matches!(h.unit, Some(Unit::Percent)) || w.any(&["percent", "pct"])
+}
+
+fn is_mass(w: &Words, h: &ParsedHeader) -> bool {
+    w.any(&MASS_WORDS) || matches!(h.unit, Some(Unit::Mass(_)))
+}
+
+/// The apparatus, bench, section or teaching assistant.
+fn place_or_person(w: &Words) -> Option<HeaderMeaning> {
+    let f = if w.any(&["apparatus", "instrument", "device", "thermometer"]) {
+        Field::Apparatus
+    } else if w.any(&[
         "bench",
         "station",
         "workstation",
@@ -219,12 +232,12 @@ pub fn classify(h: &ParsedHeader) -> HeaderMeaning {
         "drawer",
         "locker",
     ]) {
-        return F(Field::Bench);
-    }
-    if w.any(&["section", "sec", "sect"]) || w.only(&["lab", "group", "number"]) && w.has("group") {
-        return F(Field::Section);
-    }
-    if w.any(&[
+        Field::Bench
+    } else if w.any(&["section", "sec", "sect"])
+        || w.only(&["lab", "group", "number"]) && w.has("group")
+    {
+        Field::Section
+    } else if w.any(&[
         "ta",
         "gta",
         "assistant",
@@ -233,49 +246,79 @@ pub fn classify(h: &ParsedHeader) -> HeaderMeaning {
         "tutor",
         "grader",
     ]) {
-        return F(Field::Assistant);
+        Field::Assistant
+    } else {
+        return None;
+    };
+    Some(HeaderMeaning::Field(f))
+}
+
+/// A melting range, onset or clear point (or a temperature that is none of them: unknown).
+fn melting(w: &Words, h: &ParsedHeader) -> Option<HeaderMeaning> {
+    let temp = matches!(h.unit, Some(Unit::Temperature(_)));
+    let mp = w.any(&MP_WORDS) || (w.has("melting") && w.has("point"));
+    if !(mp || temp || w.any(&["onset", "clearing", "meniscus"]) || w.only(&["clear", "point"])) {
+        return None;
     }
-    if mp || temp || w.any(&["onset", "clearing", "meniscus"]) || w.only(&["clear", "point"]) {
-        let onset = w.any(&ONSET_WORDS);
-        let clear = w.any(&CLEAR_WORDS);
-        return match (onset, clear) {
-            (true, false) => F(Field::MpOnset),
-            (false, true) => F(Field::MpClear),
-            (true, true) => F(Field::MpRange),
-            (false, false) if mp || w.has("range") => F(Field::MpRange),
-            _ => Unknown,
-        };
+    let onset = w.any(&ONSET_WORDS);
+    let clear = w.any(&CLEAR_WORDS);
+    Some(match (onset, clear) {
+        (true, false) => HeaderMeaning::Field(Field::MpOnset),
+        (false, true) => HeaderMeaning::Field(Field::MpClear),
+        (true, true) => HeaderMeaning::Field(Field::MpRange),
+        (false, false) if mp || w.has("range") => HeaderMeaning::Field(Field::MpRange),
+        _ => HeaderMeaning::Unknown,
+    })
+}
+
+/// The reported recovery, the compound, the solvent volume or the solvent.
+fn substance(w: &Words, h: &ParsedHeader) -> Option<HeaderMeaning> {
+    let f = if percent(w, h) && w.any(&["recovery", "recovered", "yield"]) {
+        Field::ReportedRecovery
+    } else if w.any(&["compound", "substance", "chemical", "material", "unknown"])
+        || w.only(&["sample"])
+    {
+        Field::Compound
+    } else if (w.any(&["volume", "vol"]) || matches!(h.unit, Some(Unit::Volume(_))))
+        && !is_mass(w, h)
+    {
+        Field::SolventVolume
+    } else if w.has("solvent") && !is_mass(w, h) {
+        Field::Solvent
+    } else {
+        return None;
+    };
+    Some(HeaderMeaning::Field(f))
+}
+
+/// The crude or the recovered mass, or a mass that could be either.
+fn mass(w: &Words, h: &ParsedHeader) -> Option<HeaderMeaning> {
+    if percent(w, h) {
+        return None;
     }
-    if percent && w.any(&["recovery", "recovered", "yield"]) {
-        return F(Field::ReportedRecovery);
-    }
-    if w.any(&["compound", "substance", "chemical", "material", "unknown"]) || w.only(&["sample"]) {
-        return F(Field::Compound);
-    }
-    let volume = w.any(&["volume", "vol"]) || matches!(h.unit, Some(Unit::Volume(_)));
-    if volume && !mass {
-        return F(Field::SolventVolume);
-    }
-    if w.has("solvent") && !mass {
-        return F(Field::Solvent);
-    }
-    if !percent {
-        let crude = w.any(&CRUDE_WORDS);
-        let recovered = w.any(&RECOVERED_WORDS);
-        match (crude, recovered) {
-            (true, false) => return F(Field::CrudeMass),
-            (false, true)
-                if mass || w.only(&["recovered", "recovery", "yield", "pure", "crystals"]) =>
-            {
-                return F(Field::RecoveredMass)
-            }
-            (true, true) if mass => return Ambiguous(Field::CrudeMass, Field::RecoveredMass),
-            (false, false) if mass && !w.any(&["molar", "molecular"]) => {
-                return Ambiguous(Field::CrudeMass, Field::RecoveredMass)
-            }
-            _ => {}
+    let mass = is_mass(w, h);
+    let crude = w.any(&CRUDE_WORDS);
+    let recovered = w.any(&RECOVERED_WORDS);
+    match (crude, recovered) {
+        (true, false) => Some(HeaderMeaning::Field(Field::CrudeMass)),
+        (false, true)
+            if mass || w.only(&["recovered", "recovery", "yield", "pure", "crystals"]) =>
+        {
+            Some(HeaderMeaning::Field(Field::RecoveredMass))
         }
+        (true, true) if mass => Some(HeaderMeaning::Ambiguous(
+            Field::CrudeMass,
+            Field::RecoveredMass,
+        )),
+        (false, false) if mass && !w.any(&["molar", "molecular"]) => Some(
+            HeaderMeaning::Ambiguous(Field::CrudeMass, Field::RecoveredMass),
+        ),
+        _ => None,
     }
+}
+
+/// The student's id or name.
+fn student(w: &Words) -> Option<HeaderMeaning> {
     let id_words = ["id", "number", "num", "code"];
     if w.has("student") && w.any(&id_words)
         || w.has("id")
@@ -291,12 +334,12 @@ pub fn classify(h: &ParsedHeader) -> HeaderMeaning {
             "login",
         ])
     {
-        return F(Field::StudentId);
+        return Some(HeaderMeaning::Field(Field::StudentId));
     }
     if w.any(&["name", "surname", "fullname"]) || w.only(&["student"]) {
-        return F(Field::StudentName);
+        return Some(HeaderMeaning::Field(Field::StudentName));
     }
-    Unknown
+    None
 }
 
 /// Explicit header-to-field choices from the rubric or a `--columns` file.

@@ -98,7 +98,7 @@ pub fn read_file(path: &Path, emit: &mut dyn FnMut(Event)) {
         .and_then(|e| e.to_str())
         .unwrap_or("")
         .to_ascii_lowercase();
-    let len = std::fs::metadata(path).map(|m| m.len()).unwrap_or(0);
+    let len = std::fs::metadata(path).map_or(0, |m| m.len());
     if len == 0 {
         emit(fatal("the file is empty".into()));
     } else if let Some(format) = Format::from_extension(&ext) {

@@ -101,29 +101,26 @@ pub fn parse_range(text: &str, decimal: Decimal) -> Option<RawRange> {
     if t.is_empty() {
         return None;
     }
-    match split_range(t) {
-        Some((a, b)) => {
-            let (onset, u1) = temperature(strip_approximate(a).0, decimal)?;
-            let (clear, u2) = temperature(strip_approximate(b).0, decimal)?;
-            if u1.is_some() && u2.is_some() && u1 != u2 {
-                return None;
-            }
-            Some(RawRange {
-                onset,
-                clear,
-                unit: u2.or(u1),
-                single: false,
-            })
+    if let Some((a, b)) = split_range(t) {
+        let (onset, u1) = temperature(strip_approximate(a).0, decimal)?;
+        let (clear, u2) = temperature(strip_approximate(b).0, decimal)?;
+        if u1.is_some() && u2.is_some() && u1 != u2 {
+            return None;
         }
-        None => {
-            let (v, unit) = temperature(t, decimal)?;
-            Some(RawRange {
-                onset: v,
-                clear: v,
-                unit,
-                single: true,
-            })
-        }
+        Some(RawRange {
+            onset,
+            clear,
+            unit: u2.or(u1),
+            single: false,
+        })
+    } else {
+        let (v, unit) = temperature(t, decimal)?;
+        Some(RawRange {
+            onset: v,
+            clear: v,
+            unit,
+            single: true,
+        })
     }
 }
 
@@ -182,7 +179,7 @@ mod tests {
         // Anything we format the way students write ranges parses back to the same numbers.
         #[test]
         fn formatted_ranges_parse_back(a in 0u32..4000, b in 0u32..4000, sep in 0usize..6, approx in any::<bool>(), unit in 0usize..3) {
-            let (onset, clear) = (a as f64 / 10.0, b as f64 / 10.0);
+            let (onset, clear) = (f64::from(a) / 10.0, f64::from(b) / 10.0);
             let seps = ["-", " - ", "–", " to ", "—", " – "];
             let units = ["", " °C", "°C"];
             let text = format!("{}{}{}{}{}", if approx { "~" } else { "" }, onset, seps[sep], clear, units[unit]);
@@ -192,14 +189,14 @@ mod tests {
 
         #[test]
         fn single_values_parse_back(a in -500i32..4000) {
-            let v = a as f64 / 10.0;
+            let v = f64::from(a) / 10.0;
             let got = parse_range(&format!("{v}"), Decimal::Point).unwrap();
             prop_assert_eq!((got.onset, got.clear, got.single), (v, v, true));
         }
 
         #[test]
         fn decimal_comma_ranges_parse_back(a in 0u32..4000, b in 0u32..4000) {
-            let (onset, clear) = (a as f64 / 10.0, b as f64 / 10.0);
+            let (onset, clear) = (f64::from(a) / 10.0, f64::from(b) / 10.0);
             let text = format!("{onset}-{clear}").replace('.', ",");
             let got = parse_range(&text, Decimal::Comma).unwrap();
             prop_assert_eq!((got.onset, got.clear), (onset, clear));

@@ -40,7 +40,7 @@ fn kind(field: Field) -> Kind {
 /// Converts a value in `unit` (or the field's default unit) to the field's base unit.
 fn convert(kind: Kind, value: f64, unit: Option<Unit>) -> Result<f64, Unit> {
     match (kind, unit) {
-        (Kind::Mass, None) | (Kind::Volume, None) | (Kind::Percent, None) => Ok(value),
+        (Kind::Mass | Kind::Volume | Kind::Percent, None) => Ok(value),
         (Kind::Temperature, None) => Ok(value),
         (Kind::Mass, Some(Unit::Mass(f))) | (Kind::Volume, Some(Unit::Volume(f))) => Ok(value * f),
         (Kind::Temperature, Some(Unit::Temperature(t))) => Ok(t.to_celsius(value)),
@@ -133,7 +133,7 @@ fn set_text(sub: &mut Submission, field: Field, text: Option<String>) {
         Field::StudentName => &mut sub.student_name,
         Field::Section => {
             return if let Some(t) = text {
-                sub.section = t
+                sub.section = t;
             }
         }
         Field::Bench => &mut sub.bench,
@@ -178,50 +178,46 @@ pub fn read_row(row: &RawRow, layout: &Layout, origin: &Origin) -> Submission {
         let Some(field) = column.field else { continue };
         let cell = row.get(column.index);
         let at = || cell_ref(origin.sheet, row.index, column.index);
-        if field == Field::MpRange {
-            match read_range(cell, column, origin.decimal) {
-                Ok(Some((onset, clear, single))) => {
-                    sub.mp_onset_c = Some(onset);
-                    sub.mp_clear_c = Some(clear);
-                    if single {
-                        sub.notes.push(format!(
-                            "{}: one melting value given; taken as both onset and clear point",
-                            at()
-                        ));
-                    }
-                }
-                Ok(None) => {}
-                Err(found) => sub.unreadable.push(Unreadable {
-                    field,
-                    cell: at(),
-                    found,
-                }),
-            }
+        let read = if field == Field::MpRange {
+            read_range_into(&mut sub, cell, column, origin.decimal, &at)
         } else if field.is_numeric() {
-            match read_number(cell, column, origin.decimal) {
-                Ok(v) => set_number(&mut sub, field, v),
-                Err(found) => sub.unreadable.push(Unreadable {
-                    field,
-                    cell: at(),
-                    found,
-                }),
-            }
+            read_number(cell, column, origin.decimal).map(|v| set_number(&mut sub, field, v))
+        } else if let Cell::Error(_) = cell {
+            Err(found_instead(cell))
         } else {
-            let text = match cell {
-                Cell::Error(_) => {
-                    sub.unreadable.push(Unreadable {
-                        field,
-                        cell: at(),
-                        found: found_instead(cell),
-                    });
-                    None
-                }
-                other => other.as_text(),
-            };
-            set_text(&mut sub, field, text);
+            set_text(&mut sub, field, cell.as_text());
+            Ok(())
+        };
+        if let Err(found) = read {
+            sub.unreadable.push(Unreadable {
+                field,
+                cell: at(),
+                found,
+            });
         }
     }
     sub
+}
+
+/// Reads a melting-range cell into the submission's onset and clear point.
+fn read_range_into(
+    sub: &mut Submission,
+    cell: &Cell,
+    column: &Column,
+    decimal: Decimal,
+    at: &dyn Fn() -> String,
+) -> Result<(), String> {
+    if let Some((onset, clear, single)) = read_range(cell, column, decimal)? {
+        sub.mp_onset_c = Some(onset);
+        sub.mp_clear_c = Some(clear);
+        if single {
+            sub.notes.push(format!(
+                "{}: one melting value given; taken as both onset and clear point",
+                at()
+            ));
+        }
+    }
+    Ok(())
 }
 
 #[cfg(test)]
@@ -249,7 +245,10 @@ mod tests {
             sheet: Some("Sec 2"),
             default_section: "Sec 2",
             decimal: Decimal::Point,
-            headers: headers.iter().map(|h| h.to_string()).collect(),
+            headers: headers
+                .iter()
+                .map(std::string::ToString::to_string)
+                .collect(),
         };
         read_row(&sheet.rows[1], &layout, &origin)
     }

@@ -347,7 +347,7 @@ mod tests {
                 m.contains("Crude mass (g)") && m.contains("Crude (g)"),
                 "{m}"
             ),
-            other => panic!("{other:?}"),
+            LayoutError::NoTable => panic!("no table"),
         }
     }
 

@@ -100,7 +100,7 @@ pub fn strip_approximate(text: &str) -> (&str, bool) {
     for word in APPROXIMATE {
         if t.len() >= word.len() && t.is_char_boundary(word.len()) {
             let (head, rest) = t.split_at(word.len());
-            let word_like = word.chars().all(|c| c.is_alphabetic());
+            let word_like = word.chars().all(char::is_alphabetic);
             let boundary = !word_like || rest.starts_with([' ', '.']) || rest.is_empty();
             if head.eq_ignore_ascii_case(word) && boundary {
                 return (rest.trim_start(), true);

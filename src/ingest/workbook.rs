@@ -60,7 +60,7 @@ fn not_a_zip(path: &Path) -> String {
     if bytes.starts_with(&OLE_MAGIC) {
         let marker: Vec<u8> = "EncryptionInfo"
             .encode_utf16()
-            .flat_map(|u| u.to_le_bytes())
+            .flat_map(u16::to_le_bytes)
             .collect();
         if bytes.windows(marker.len()).any(|w| w == marker.as_slice()) {
             return "the workbook is password-protected (encrypted); save an unprotected copy and grade that".into();
@@ -223,7 +223,8 @@ where
 {
     let mut wb = open()?;
     let names = wb.sheet_names();
-    if names.len() < 2 || std::thread::available_parallelism().map_or(1, |n| n.get()) < 2 {
+    if names.len() < 2 || std::thread::available_parallelism().map_or(1, std::num::NonZero::get) < 2
+    {
         read_all(wb, read, on_sheet);
         return Ok(());
     }
@@ -306,7 +307,7 @@ mod tests {
             ws.set_name(format!("S{i}")).unwrap();
             for r in 0..=i as u32 {
                 ws.write_string(r, 0, format!("sheet {i} row {r}")).unwrap();
-                ws.write_number(r, 1, r as f64).unwrap();
+                ws.write_number(r, 1, f64::from(r)).unwrap();
             }
         }
         wb.save(dir.path().join("b.xlsx")).unwrap();

@@ -364,7 +364,7 @@ mod tests {
         assert!(names
             .iter()
             .all(|n| n.chars().all(|c| c.is_ascii_lowercase() || c == '_')));
-        names.sort();
+        names.sort_unstable();
         names.dedup();
         assert_eq!(names.len(), ALL.len());
     }

@@ -111,7 +111,7 @@ mod tests {
     #[test]
     fn codes_are_distinct_kebab_case() {
         let mut codes: Vec<&str> = Flag::ALL.iter().map(|f| f.code()).collect();
-        codes.sort();
+        codes.sort_unstable();
         codes.dedup();
         assert_eq!(codes.len(), Flag::ALL.len());
         assert!(codes.iter().all(|c| c

@@ -49,15 +49,16 @@ impl Writers {
             .iter()
             .map(|c| c.label.clone())
             .collect();
-        let workbooks = match config.skip_workbooks {
-            true => None,
-            false => Some(
+        let workbooks = if config.skip_workbooks {
+            None
+        } else {
+            Some(
                 BookWorker::spawn(
                     "graded workbooks",
                     GradedWorkbooks::new(&config.out_dir, config.split_sections, labels),
                 )
                 .map_err(|e| WriteError::other(&config.out_dir, e))?,
-            ),
+            )
         };
         Ok(Writers {
             text,

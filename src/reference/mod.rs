@@ -121,15 +121,12 @@ impl Library {
     }
 
     fn insert(&mut self, c: Compound) {
-        let pos = match self.index.get(&name_key(&c.name)) {
-            Some(&i) => {
-                self.compounds[i] = c.clone();
-                i
-            }
-            None => {
-                self.compounds.push(c.clone());
-                self.compounds.len() - 1
-            }
+        let pos = if let Some(&i) = self.index.get(&name_key(&c.name)) {
+            self.compounds[i] = c.clone();
+            i
+        } else {
+            self.compounds.push(c.clone());
+            self.compounds.len() - 1
         };
         for key in std::iter::once(&c.name)
             .chain(&c.synonyms)

@@ -140,10 +140,7 @@ impl FlagRule {
     }
 
     pub fn zeroed(&self) -> &[String] {
-        self.zero
-            .as_ref()
-            .map(|z| z.get_ref().as_slice())
-            .unwrap_or(&[])
+        self.zero.as_ref().map_or(&[], |z| z.get_ref().as_slice())
     }
 }
 
@@ -298,6 +295,16 @@ fn check_criterion(c: &Criterion, out: &mut Vec<Finding>) {
 /// Every problem in the graded part of a rubric.
 pub fn check(grading: &Grading, criteria: &[Criterion], flag_rules: &[FlagRule]) -> Vec<Finding> {
     let mut out = Vec::new();
+    let ids = check_criteria(criteria, &mut out);
+    for r in flag_rules {
+        check_flag_rule(r, &ids, &mut out);
+    }
+    check_grading(grading, criteria, &mut out);
+    out
+}
+
+/// Each criterion, and that ids are well formed and unique; returns the ids.
+fn check_criteria<'a>(criteria: &'a [Criterion], out: &mut Vec<Finding>) -> Vec<&'a str> {
     let mut ids: Vec<&str> = Vec::new();
     for c in criteria {
         let id = c.id.get_ref().as_str();
@@ -310,31 +317,37 @@ pub fn check(grading: &Grading, criteria: &[Criterion], flag_rules: &[FlagRule])
             out.push(at(&c.id, format!("criterion id \"{id}\" is used twice")));
         }
         ids.push(id);
-        check_criterion(c, &mut out);
+        check_criterion(c, out);
     }
-    for r in flag_rules {
-        let code = r.flag.get_ref().as_str();
-        let known = code == "impossible"
-            || code == "suspicious"
-            || Flag::ALL.iter().any(|f| f.code() == code);
-        if !known {
-            let codes: Vec<&str> = Flag::ALL.iter().map(|f| f.code()).collect();
-            out.push(at(
-                &r.flag,
-                format!(
-                    "unknown flag code \"{code}\"; use one of {}, impossible or suspicious",
-                    codes.join(", ")
-                ),
-            ));
-        }
-        if let Some(z) = &r.zero {
-            for id in z.get_ref() {
-                if !ids.contains(&id.as_str()) {
-                    out.push(at(z, format!("zero names unknown criterion \"{id}\"")));
-                }
+    ids
+}
+
+/// A flag rule names a flag code (or a kind) and only criteria that exist.
+fn check_flag_rule(r: &FlagRule, ids: &[&str], out: &mut Vec<Finding>) {
+    let code = r.flag.get_ref().as_str();
+    let known =
+        code == "impossible" || code == "suspicious" || Flag::ALL.iter().any(|f| f.code() == code);
+    if !known {
+        let codes: Vec<&str> = Flag::ALL.iter().map(|f| f.code()).collect();
+        out.push(at(
+            &r.flag,
+            format!(
+                "unknown flag code \"{code}\"; use one of {}, impossible or suspicious",
+                codes.join(", ")
+            ),
+        ));
+    }
+    if let Some(z) = &r.zero {
+        for id in z.get_ref() {
+            if !ids.contains(&id.as_str()) {
+                out.push(at(z, format!("zero names unknown criterion \"{id}\"")));
             }
         }
     }
+}
+
+/// The total, the letter cut-offs and the rounding.
+fn check_grading(grading: &Grading, criteria: &[Criterion], out: &mut Vec<Finding>) {
     if let Some(total) = &grading.total {
         let sum: f64 = criteria.iter().map(|c| *c.max.get_ref()).sum();
         if (sum - total.get_ref()).abs() > 1e-9 {
@@ -360,7 +373,6 @@ pub fn check(grading: &Grading, criteria: &[Criterion], flag_rules: &[FlagRule])
             message: "grading.round_to must be zero or more".into(),
         });
     }
-    out
 }
 
 #[cfg(test)]

@@ -82,6 +82,135 @@ fn number(text: &str) -> Option<f64> {
         .filter(|v| v.is_finite())
 }
 
+/// The parts of one override as typed (a line of the file, or a form), each trimmed and `None`
+/// when empty.
+#[derive(Clone, Copy, Debug, Default)]
+pub struct Typed<'a> {
+    pub student_id: Option<&'a str>,
+    pub section: Option<&'a str>,
+    pub criterion: Option<&'a str>,
+    pub points: Option<&'a str>,
+    pub adjust: Option<&'a str>,
+    pub reason: Option<&'a str>,
+    pub grader: Option<&'a str>,
+}
+
+/// Why an override cannot be used: the part it concerns, and what to fix.
+#[derive(Clone, Debug, PartialEq, Eq)]
+pub struct Invalid {
+    /// The column (or form field) at fault: "student_id", "criterion", "points", "reason", ...
+    pub field: &'static str,
+    pub message: String,
+}
+
+fn invalid(field: &'static str, message: impl Into<String>) -> Invalid {
+    Invalid {
+        field,
+        message: message.into(),
+    }
+}
+
+impl Typed<'_> {
+    /// Checks an override as typed; `criteria` are the rubric's criterion ids, `line` where it
+    /// stands in its file.
+    pub fn check(&self, criteria: &[String], line: usize) -> Result<Override, Invalid> {
+        let student_id = self
+            .student_id
+            .ok_or_else(|| invalid("student_id", "no student id given"))?;
+        let crit = self
+            .criterion
+            .ok_or_else(|| invalid("criterion", "no criterion given (a criterion id, or total)"))?;
+        let criterion = if crit.eq_ignore_ascii_case("total") {
+            None
+        } else if criteria.iter().any(|c| c == crit) {
+            Some(crit.to_string())
+        } else {
+            return Err(invalid(
+                "criterion",
+                format!(
+                    "unknown criterion \"{crit}\"; the rubric's criteria are {}, or total",
+                    criteria.join(", ")
+                ),
+            ));
+        };
+        let reason = self
+            .reason
+            .ok_or_else(|| invalid("reason", "every override needs a reason"))?;
+        let grader = self
+            .grader
+            .ok_or_else(|| invalid("grader", "every override needs the grader's name"))?;
+        Ok(Override {
+            student_id: student_id.to_string(),
+            section: self.section.map(str::to_string),
+            criterion,
+            change: self.change()?,
+            reason: reason.to_string(),
+            grader: grader.to_string(),
+            line,
+        })
+    }
+
+    fn change(&self) -> Result<Change, Invalid> {
+        match (self.points, self.adjust) {
+            (Some(p), None) => number(p)
+                .map(Change::Set)
+                .ok_or_else(|| invalid("points", format!("points \"{p}\" is not a number"))),
+            (None, Some(a)) => number(a)
+                .map(Change::Adjust)
+                .ok_or_else(|| invalid("adjust", format!("adjust \"{a}\" is not a number"))),
+            _ => Err(invalid(
+                "points",
+                "give either points (the new value) or adjust (a change), not both or neither",
+            )),
+        }
+    }
+}
+
+/// Which column of an overrides file holds each part.
+struct FileColumns {
+    id: usize,
+    criterion: usize,
+    reason: usize,
+    grader: usize,
+    points: Option<usize>,
+    adjust: Option<usize>,
+    section: Option<usize>,
+}
+
+impl FileColumns {
+    fn find(headers: &csv::StringRecord) -> Result<FileColumns, String> {
+        let need = |names: &[&str], what: &str| {
+            column(headers, names).ok_or_else(|| format!("no {what} column; the header must name student_id, criterion, points or adjust, reason and grader"))
+        };
+        Ok(FileColumns {
+            id: need(&["student_id", "id", "student"], "student_id")?,
+            criterion: need(&["criterion"], "criterion")?,
+            reason: need(&["reason"], "reason")?,
+            grader: need(&["grader"], "grader")?,
+            points: column(headers, &["points"]),
+            adjust: column(headers, &["adjust", "adjustment"]),
+            section: column(headers, &["section"]),
+        })
+    }
+
+    fn typed<'a>(&self, rec: &'a csv::StringRecord) -> Typed<'a> {
+        let get = |c: Option<usize>| {
+            c.and_then(|c| rec.get(c))
+                .map(str::trim)
+                .filter(|s| !s.is_empty())
+        };
+        Typed {
+            student_id: get(Some(self.id)),
+            section: get(self.section),
+            criterion: get(Some(self.criterion)),
+            points: get(self.points),
+            adjust: get(self.adjust),
+            reason: get(Some(self.reason)),
+            grader: get(Some(self.grader)),
+        }
+    }
+}
+
 impl Overrides {
     /// Reads an overrides file; `criteria` are the rubric's criterion ids.
     pub fn load(path: &Path, criteria: &[String]) -> Result<Overrides, ConfigError> {
@@ -95,16 +224,7 @@ impl Overrides {
             .flexible(true)
             .from_reader(text.as_bytes());
         let headers = reader.headers().map_err(|e| err(1, e.to_string()))?.clone();
-        let need = |names: &[&str], what: &str| {
-            column(&headers, names).ok_or_else(|| err(1, format!("no {what} column; the header must name student_id, criterion, points or adjust, reason and grader")))
-        };
-        let id_col = need(&["student_id", "id", "student"], "student_id")?;
-        let crit_col = need(&["criterion"], "criterion")?;
-        let reason_col = need(&["reason"], "reason")?;
-        let grader_col = need(&["grader"], "grader")?;
-        let points_col = column(&headers, &["points"]);
-        let adjust_col = column(&headers, &["adjust", "adjustment"]);
-        let section_col = column(&headers, &["section"]);
+        let columns = FileColumns::find(&headers).map_err(|m| err(1, m))?;
         let mut out = Overrides {
             source: source.clone(),
             ..Overrides::default()
@@ -112,67 +232,32 @@ impl Overrides {
         for (i, rec) in reader.records().enumerate() {
             let rec = rec.map_err(|e| err(i + 2, e.to_string()))?;
             let line = rec.position().map_or(i + 2, |p| p.line() as usize);
-            let get = |c: Option<usize>| {
-                c.and_then(|c| rec.get(c))
-                    .map(str::trim)
-                    .filter(|s| !s.is_empty())
-            };
-            let Some(student_id) = get(Some(id_col)) else {
+            let typed = columns.typed(&rec);
+            // a line without a student is a blank or a note, not an override
+            if typed.student_id.is_none() {
                 continue;
-            };
-            let crit = get(Some(crit_col))
-                .ok_or_else(|| err(line, "no criterion given (a criterion id, or total)".into()))?;
-            let criterion = if crit.eq_ignore_ascii_case("total") {
-                None
-            } else if criteria.iter().any(|c| c == crit) {
-                Some(crit.to_string())
-            } else {
-                return Err(err(
-                    line,
-                    format!(
-                        "unknown criterion \"{crit}\"; the rubric's criteria are {}, or total",
-                        criteria.join(", ")
-                    ),
-                ));
-            };
-            let change = match (get(points_col), get(adjust_col)) {
-                (Some(p), None) => Change::Set(
-                    number(p)
-                        .ok_or_else(|| err(line, format!("points \"{p}\" is not a number")))?,
-                ),
-                (None, Some(a)) => Change::Adjust(
-                    number(a)
-                        .ok_or_else(|| err(line, format!("adjust \"{a}\" is not a number")))?,
-                ),
-                _ => return Err(err(
-                    line,
-                    "give either points (the new value) or adjust (a change), not both or neither"
-                        .into(),
-                )),
-            };
-            let reason = get(Some(reason_col))
-                .ok_or_else(|| err(line, "every override needs a reason".into()))?
-                .to_string();
-            let grader = get(Some(grader_col))
-                .ok_or_else(|| err(line, "every override needs the grader's name".into()))?
-                .to_string();
-            let section = get(section_col).map(str::to_string);
-            out.by_id
-                .entry(student_id.to_string())
-                .or_default()
-                .push(out.list.len());
-            out.list.push(Override {
-                student_id: student_id.to_string(),
-                section,
-                criterion,
-                change,
-                reason,
-                grader,
-                line,
-            });
+            }
+            let o = typed
+                .check(criteria, line)
+                .map_err(|e| err(line, e.message))?;
+            out.push(o);
         }
-        out.used = vec![false; out.list.len()];
         Ok(out)
+    }
+
+    /// Adds an override (checked) to the list.
+    pub fn push(&mut self, o: Override) {
+        self.by_id
+            .entry(o.student_id.clone())
+            .or_default()
+            .push(self.list.len());
+        self.list.push(o);
+        self.used.push(false);
+    }
+
+    /// Every override, in the file's order.
+    pub fn list(&self) -> &[Override] {
+        &self.list
     }
 
     /// The overrides for a row, marked as used.

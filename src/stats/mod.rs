@@ -119,9 +119,7 @@ pub fn summarize(values: &[f64]) -> Option<Summary> {
     };
     let sem = sd / (n as f64).sqrt();
     let t = if n > 1 {
-        StudentsT::new(0.0, 1.0, (n - 1) as f64)
-            .map(|d| d.inverse_cdf(0.975))
-            .unwrap_or(f64::NAN)
+        StudentsT::new(0.0, 1.0, (n - 1) as f64).map_or(f64::NAN, |d| d.inverse_cdf(0.975))
     } else {
         f64::NAN
     };

@@ -53,11 +53,7 @@ fn a_password_protected_workbook_is_named_as_such() {
     // "EncryptionInfo" stream (MS-OFFCRYPTO); this is a minimal stand-in with that marker
     let mut bytes = vec![0xD0, 0xCF, 0x11, 0xE0, 0xA1, 0xB1, 0x1A, 0xE1];
     bytes.resize(512, 0);
-    bytes.extend(
-        "EncryptionInfo"
-            .encode_utf16()
-            .flat_map(|u| u.to_le_bytes()),
-    );
+    bytes.extend("EncryptionInfo".encode_utf16().flat_map(u16::to_le_bytes));
     bytes.resize(4096, 0);
     f.write("locked.xlsx", bytes);
     let (code, err, rows) = grade_with(&f, "locked.xlsx");
@@ -133,7 +129,7 @@ fn a_sheet_with_16384_columns_and_a_header_only_sheet() {
             ws.write_string(0, c as u16, *h).unwrap();
         }
         for c in 4..16_384u16 {
-            ws.write_number(0, c, c as f64).unwrap();
+            ws.write_number(0, c, f64::from(c)).unwrap();
         }
         ws.write_string(1, 0, "w1").unwrap();
         ws.write_number(1, 1, 3.0).unwrap();

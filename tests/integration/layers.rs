@@ -104,7 +104,10 @@ fn every_module_uses_only_the_layers_below_it() {
 #[test]
 fn the_layer_check_sees_an_upward_import() {
     // the check itself, on a made-up module that reaches up to `pipeline`
-    let known: BTreeSet<String> = ["model", "pipeline"].iter().map(|s| s.to_string()).collect();
+    let known: BTreeSet<String> = ["model", "pipeline"]
+        .iter()
+        .map(std::string::ToString::to_string)
+        .collect();
     let code = vec!["use crate::pipeline::Batch;\nuse crate::model::Graded;".to_string()];
     let found = uses(&code, &known);
     assert!(found.contains("pipeline") && found.contains("model"));

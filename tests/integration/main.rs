@@ -1,5 +1,12 @@
 //! The one integration-test binary: the real `benchgrade` run on fixtures and sample data.
 
+// a test reads best as one story, fixture to assertion
+#![allow(
+    clippy::too_many_lines,
+    clippy::case_sensitive_file_extension_comparisons,
+    clippy::format_push_string
+)]
+
 mod bad_corpus;
 mod bad_input;
 mod cohort;
