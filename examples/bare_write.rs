@@ -5,22 +5,12 @@
 //!
 //!     cargo run --release --example bare_write -- OUT.xlsx [ROWS] [SECTIONS]
 
+mod common;
+
 fn main() -> Result<(), Box<dyn std::error::Error>> {
-    let args: Vec<String> = std::env::args().collect();
-    let out = args
-        .get(1)
-        .ok_or("usage: bare_write OUT.xlsx [ROWS] [SECTIONS]")?;
-    let rows: usize = args
-        .get(2)
-        .map(|s| s.parse())
-        .transpose()?
-        .unwrap_or(100_000);
-    let sections: usize = args
-        .get(3)
-        .map(|s| s.parse())
-        .transpose()?
-        .unwrap_or(8)
-        .max(1);
+    let (out, rows, sections) =
+        common::out_rows_sections("usage: bare_write OUT.xlsx [ROWS] [SECTIONS]")?;
+    let out = out.as_str();
     let per = rows.div_ceil(sections);
     // the zip level graded workbooks are written with, so that the comparison is like for like
     let mut wb = benchgrade::export::workbook::new_workbook();

@@ -8,22 +8,10 @@
 // a generator reads best as one long recipe
 #![allow(clippy::too_many_lines)]
 
+mod common;
+use common::Lcg;
+
 use rust_xlsxwriter::{DocProperties, ExcelDateTime, Workbook};
-
-struct Lcg(u64);
-
-impl Lcg {
-    fn next(&mut self) -> f64 {
-        self.0 = self
-            .0
-            .wrapping_mul(6364136223846793005)
-            .wrapping_add(1442695040888963407);
-        (self.0 >> 11) as f64 / (1u64 << 53) as f64
-    }
-    fn between(&mut self, lo: f64, hi: f64) -> f64 {
-        lo + (hi - lo) * self.next()
-    }
-}
 
 const HEADERS: [&str; 8] = [
     "Student ID",
@@ -42,21 +30,9 @@ fn round(v: f64, places: i32) -> f64 {
 }
 
 fn main() -> Result<(), Box<dyn std::error::Error>> {
-    let args: Vec<String> = std::env::args().collect();
-    let out = args
-        .get(1)
-        .ok_or("usage: make_class OUT.xlsx [ROWS] [SECTIONS]")?;
-    let rows: usize = args
-        .get(2)
-        .map(|s| s.parse())
-        .transpose()?
-        .unwrap_or(100_000);
-    let sections: usize = args
-        .get(3)
-        .map(|s| s.parse())
-        .transpose()?
-        .unwrap_or(8)
-        .max(1);
+    let (out, rows, sections) =
+        common::out_rows_sections("usage: make_class OUT.xlsx [ROWS] [SECTIONS]")?;
+    let out = out.as_str();
     let mut rng = Lcg(42);
     let mut wb = Workbook::new();
     let when = ExcelDateTime::from_ymd(2026, 9, 1)?;

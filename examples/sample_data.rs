@@ -16,24 +16,8 @@ use std::path::Path;
 
 use rust_xlsxwriter::{DocProperties, ExcelDateTime, Format, FormatAlign, Formula, Workbook};
 
-/// A small deterministic generator (64-bit LCG, Knuth's constants), so the data never changes.
-struct Lcg(u64);
-
-impl Lcg {
-    fn next(&mut self) -> f64 {
-        self.0 = self
-            .0
-            .wrapping_mul(6364136223846793005)
-            .wrapping_add(1442695040888963407);
-        (self.0 >> 11) as f64 / (1u64 << 53) as f64
-    }
-    fn between(&mut self, lo: f64, hi: f64) -> f64 {
-        lo + (hi - lo) * self.next()
-    }
-    fn pick<'a>(&mut self, items: &'a [&'a str]) -> &'a str {
-        items[(self.next() * items.len() as f64) as usize % items.len()]
-    }
-}
+mod common;
+use common::Lcg;
 
 const FIRST: [&str; 24] = [
     "Avery", "Bilal", "Carmen", "Dario", "Elif", "Farah", "Gideon", "Hana", "Ilya", "Jonas",
