@@ -17,5 +17,6 @@ mod layers;
 mod nist;
 mod physchem;
 mod reference_data;
+mod registry;
 mod sample_data;
 mod workbooks;
