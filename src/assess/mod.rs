@@ -41,8 +41,8 @@ fn outlier_note(centres: &Centres, a: &Assessed) -> Option<String> {
         .into_iter()
         .map(|f| {
             let (what, unit, v, z) = (f.measure.noun(), f.measure.unit(), f.value, f.z);
-            let (med, mad) = (f.centre.median, f.centre.mad);
-            format!("{what} {v:.1} {unit} is {z:+.1} robust z from the section's median {med:.1} {unit} (MAD {mad:.2})")
+            let (med, spread) = (f.centre.median, f.centre.spread());
+            format!("{what} {v:.1} {unit} is {z:+.1} robust z from the section's median {med:.1} {unit} ({spread})")
         })
         .collect();
     (!why.is_empty()).then(|| why.join("; "))

@@ -69,6 +69,7 @@ pub fn bias_table(bias: &[BenchBias]) -> Table {
             col("p", "p_value", 4),
             col("p (Holm)", "p_adjusted", 4),
             col("finding", "finding", 0),
+            col("note", "note", 0),
         ],
         rows: bias
             .iter()
@@ -81,6 +82,7 @@ pub fn bias_table(bias: &[BenchBias]) -> Table {
                     Cell::Number(b.p_value),
                     Cell::Number(b.p_adjusted),
                     text(&b.finding),
+                    text(&b.note),
                 ]
             })
             .collect(),
@@ -102,6 +104,7 @@ pub fn comparisons_table(comparisons: &[Comparison]) -> Table {
             col("p", "p_value", 4),
             col("p (Holm)", "p_adjusted", 4),
             col("effect", "effect_size", 3),
+            col("note", "note", 0),
         ],
         rows: comparisons
             .iter()
@@ -118,6 +121,7 @@ pub fn comparisons_table(comparisons: &[Comparison]) -> Table {
                     Cell::Number(c.p_value),
                     Cell::Number(c.p_adjusted),
                     Cell::Number(c.effect_size),
+                    text(&c.note),
                 ]
             })
             .collect(),
@@ -247,6 +251,22 @@ pub fn findings(r: &Report) -> Vec<String> {
             fmt(b.current, 1),
             if b.shift > 0.0 { "+" } else { "" },
             fmt(b.shift, 1)
+        ));
+    }
+    let undefined: Vec<&Comparison> = r
+        .comparisons
+        .iter()
+        .filter(|c| !c.p_value.is_finite())
+        .collect();
+    if let Some(first) = undefined.first() {
+        out.push(format!(
+            "{} of the {} comparisons could not be made from these data and are listed with the reason (for example {} by {}, {}: {})",
+            undefined.len(),
+            r.comparisons.len(),
+            first.measure.key().replace('_', " "),
+            first.grouping,
+            first.test,
+            first.note
         ));
     }
     if !r.outliers.is_empty() {

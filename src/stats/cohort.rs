@@ -8,7 +8,7 @@
 use std::collections::BTreeMap;
 
 use super::inference::{
-    holm, kruskal_wallis, mann_whitney, median, one_way_anova, welch_anova, welch_t,
+    holm, kruskal_wallis, mann_whitney, median, one_way_anova, welch_anova, welch_t, LeftOut,
 };
 use super::mean_and_ss;
 use super::outlier::{self, Centre};
@@ -109,6 +109,8 @@ pub struct Comparison {
     pub p_value: f64,
     pub p_adjusted: f64,
     pub effect_size: f64,
+    /// Why the test gives no number, or which groups it left out; empty otherwise.
+    pub note: String,
 }
 
 /// One line of bench-bias.csv.
@@ -124,6 +126,8 @@ pub struct BenchBias {
     pub p_adjusted: f64,
     pub above_reference: usize,
     pub finding: String,
+    /// Why the test gives no p-value; empty otherwise.
+    pub note: String,
 }
 
 /// A student whose value sits far from the section's median (robust z beyond 3.5).
@@ -231,10 +235,20 @@ impl Cohort {
             let by_section = self.groups(slot, &self.sections, |r| Some(r.section));
             let by_assistant = self.groups(slot, &self.assistants, |r| r.assistant);
             for (grouping, groups) in [("section", by_section), ("assistant", by_assistant)] {
-                if groups.len() >= 2 {
-                    let blank = Comparison::blank(measure, grouping);
-                    out.extend(omnibus(&blank, &groups));
-                    out.extend(pairwise(&blank, &groups));
+                let blank = Comparison::blank(measure, grouping);
+                match groups.len() {
+                    0 => {}
+                    1 => out.extend(omnibus(&blank, &groups).into_iter().map(|c| {
+                        let why = format!("only one {grouping} has values for this measure");
+                        Comparison {
+                            note: why,
+                            ..blank.undefined(c.test, String::new())
+                        }
+                    })),
+                    _ => {
+                        out.extend(omnibus(&blank, &groups));
+                        out.extend(pairwise(&blank, &groups));
+                    }
                 }
             }
         }
@@ -267,6 +281,17 @@ impl Cohort {
                 .map(|(i, _)| self.value(*i, slot))
                 .collect();
             let Some((u, p)) = mann_whitney(&mine, &rest) else {
+                out.push(BenchBias {
+                    bench: self.benches.get(bench).to_string(),
+                    n: mine.len(),
+                    median_shift_c: f64::NAN,
+                    u_statistic: f64::NAN,
+                    p_value: f64::NAN,
+                    p_adjusted: f64::NAN,
+                    above_reference: 0,
+                    finding: String::new(),
+                    note: "no other clear points to compare this bench with".into(),
+                });
                 continue;
             };
             out.push(BenchBias {
@@ -281,6 +306,7 @@ impl Cohort {
                     .filter(|&&i| self.rows[i].above_reference)
                     .count(),
                 finding: String::new(),
+                note: String::new(),
             });
         }
         adjust_and_judge(&mut out, rule);
@@ -336,11 +362,22 @@ impl Comparison {
             p_value: f64::NAN,
             p_adjusted: f64::NAN,
             effect_size: f64::NAN,
+            note: String::new(),
+        }
+    }
+
+    /// The test, with no number and the reason in words.
+    fn undefined(&self, test: &'static str, why: String) -> Comparison {
+        Comparison {
+            test,
+            note: why,
+            ..self.clone()
         }
     }
 }
 
-/// One-way ANOVA, Welch's ANOVA and Kruskal-Wallis across the groups.
+/// One-way ANOVA, Welch's ANOVA and Kruskal-Wallis across the groups; a test the data leave
+/// undefined is a row with the reason.
 fn omnibus(blank: &Comparison, groups: &[(String, Vec<f64>)]) -> Vec<Comparison> {
     let refs: Vec<&[f64]> = groups.iter().map(|(_, v)| v.as_slice()).collect();
     let row = |test, statistic, df1, df2, p_value, effect_size| Comparison {
@@ -353,58 +390,97 @@ fn omnibus(blank: &Comparison, groups: &[(String, Vec<f64>)]) -> Vec<Comparison>
         ..blank.clone()
     };
     let mut out = Vec::new();
-    if let Some(a) = one_way_anova(&refs) {
-        out.push(row("one-way ANOVA", a.f, a.df1, a.df2, a.p, a.eta_squared));
-    }
-    if let Some(w) = welch_anova(&refs) {
-        out.push(row("Welch ANOVA", w.statistic, w.df1, w.df2, w.p, f64::NAN));
-    }
-    if let Some(k) = kruskal_wallis(&refs) {
-        let n: usize = refs.iter().map(|g| g.len()).sum();
-        // epsilon squared, H / (n - 1)
-        let epsilon = k.statistic / (n as f64 - 1.0);
-        out.push(row(
-            "Kruskal-Wallis",
-            k.statistic,
-            k.df1,
-            f64::NAN,
-            k.p,
-            epsilon,
-        ));
-    }
+    out.push(match one_way_anova(&refs) {
+        Ok(a) => row("one-way ANOVA", a.f, a.df1, a.df2, a.p, a.eta_squared),
+        Err(why) => blank.undefined("one-way ANOVA", why),
+    });
+    let welch = welch_anova(&refs);
+    let left_out = welch_left_out(&welch.left_out, groups);
+    out.push(match welch.result {
+        Ok(w) => Comparison {
+            note: left_out,
+            ..row("Welch ANOVA", w.statistic, w.df1, w.df2, w.p, f64::NAN)
+        },
+        Err(why) if left_out.is_empty() => blank.undefined("Welch ANOVA", why),
+        Err(why) => blank.undefined("Welch ANOVA", format!("{why}; {left_out}")),
+    });
+    out.push(match kruskal_wallis(&refs) {
+        Ok(k) => {
+            let n: usize = refs.iter().map(|g| g.len()).sum();
+            // epsilon squared, H / (n - 1)
+            let epsilon = k.statistic / (n as f64 - 1.0);
+            row("Kruskal-Wallis", k.statistic, k.df1, f64::NAN, k.p, epsilon)
+        }
+        Err(why) => blank.undefined("Kruskal-Wallis", why),
+    });
     out
 }
 
-/// Welch's t between every pair of groups (Cohen's d), Holm-adjusted together.
+/// "left out Sec 03 (one value), Sec 05 (every value the same)", or nothing.
+fn welch_left_out(left: &[(usize, LeftOut)], groups: &[(String, Vec<f64>)]) -> String {
+    if left.is_empty() {
+        return String::new();
+    }
+    let named: Vec<String> = left
+        .iter()
+        .map(|(i, why)| {
+            let why = match why {
+                LeftOut::OneValue => "one value",
+                LeftOut::NoSpread => "every value the same",
+            };
+            format!("{} ({why})", groups[*i].0)
+        })
+        .collect();
+    format!("left out {}", named.join(", "))
+}
+
+/// Welch's t between every pair of groups (Cohen's d), Holm-adjusted together; a pair the
+/// data leave undefined is a row with the reason and takes no part in the adjustment.
 fn pairwise(blank: &Comparison, groups: &[(String, Vec<f64>)]) -> Vec<Comparison> {
     let mut pairs = Vec::new();
     for (i, (name_a, a)) in groups.iter().enumerate() {
         for (name_b, b) in &groups[i + 1..] {
-            if let Some(t) = welch_t(a, b) {
-                pairs.push(Comparison {
+            let named = Comparison {
+                group_a: name_a.clone(),
+                group_b: name_b.clone(),
+                ..blank.clone()
+            };
+            pairs.push(match welch_t(a, b) {
+                Ok(t) => Comparison {
                     test: "Welch t",
-                    group_a: name_a.clone(),
-                    group_b: name_b.clone(),
                     statistic: t.statistic,
                     df1: t.df1,
                     p_value: t.p,
                     effect_size: cohen_d(a, b),
-                    ..blank.clone()
-                });
-            }
+                    ..named
+                },
+                Err(why) => named.undefined("Welch t", why),
+            });
         }
     }
-    let adjusted = holm(&pairs.iter().map(|p| p.p_value).collect::<Vec<_>>());
-    for (p, adj) in pairs.iter_mut().zip(adjusted) {
-        p.p_adjusted = adj;
+    let tested: Vec<usize> = (0..pairs.len())
+        .filter(|&i| pairs[i].note.is_empty())
+        .collect();
+    let adjusted = holm(&tested.iter().map(|&i| pairs[i].p_value).collect::<Vec<_>>());
+    for (&i, adj) in tested.iter().zip(adjusted) {
+        pairs[i].p_adjusted = adj;
     }
     pairs
 }
 
 /// Holm-adjusts the benches' p-values and words a finding for each bench past the rule.
 fn adjust_and_judge(benches: &mut [BenchBias], rule: BiasRule) {
-    let adjusted = holm(&benches.iter().map(|b| b.p_value).collect::<Vec<_>>());
-    for (b, adj) in benches.iter_mut().zip(adjusted) {
+    let tested: Vec<usize> = (0..benches.len())
+        .filter(|&i| benches[i].note.is_empty())
+        .collect();
+    let adjusted = holm(
+        &tested
+            .iter()
+            .map(|&i| benches[i].p_value)
+            .collect::<Vec<_>>(),
+    );
+    for (&i, adj) in tested.iter().zip(adjusted) {
+        let b = &mut benches[i];
         b.p_adjusted = adj;
         if b.median_shift_c.abs() >= rule.min_shift_c
             && b.n >= rule.min_students

@@ -2,9 +2,10 @@
 //! Kruskal-Wallis with tie correction, Welch's t, Holm's adjustment, Mann-Whitney U and the
 //! median absolute deviation. Distributions come from statrs.
 //!
-//! statrs' own `f_oneway` sums squares from raw values and loses every digit on the NIST StRD
-//! sets with many constant leading digits (SmLs06, SmLs09), so ANOVA here works from deviations
-//! about each group's mean, computed in two passes.
+//! A test that is undefined for the data (fewer than two groups, a group of one, no variation)
+//! says why instead of giving a number: statrs panics on a NaN statistic, and a NaN in a report
+//! explains nothing. ANOVA forms its sums from deviations about a provisional centre (the first
+//! value), so data with many constant leading digits (NIST StRD SmLs07-09) keep their digits.
 
 use statrs::distribution::{ChiSquared, ContinuousCDF, FisherSnedecor, StudentsT};
 
@@ -34,36 +35,81 @@ pub struct Test {
     pub p: f64,
 }
 
+/// Why a test gives no number, in words.
+pub type Undefined = String;
+
+/// Why a group was left out of Welch's ANOVA.
+#[derive(Clone, Copy, Debug, PartialEq, Eq)]
+pub enum LeftOut {
+    /// One value: no variance.
+    OneValue,
+    /// Every value the same: a variance of zero gives it infinite weight.
+    NoSpread,
+}
+
+/// Welch's ANOVA over the groups it can weigh, and the groups (by index) it left out.
+#[derive(Clone, Debug, PartialEq)]
+pub struct Welch {
+    pub result: Result<Test, Undefined>,
+    pub left_out: Vec<(usize, LeftOut)>,
+}
+
 fn f_sf(f: f64, d1: f64, d2: f64) -> f64 {
+    if !(f.is_finite() && d1 > 0.0 && d2 > 0.0) {
+        return f64::NAN;
+    }
     FisherSnedecor::new(d1, d2).map_or(f64::NAN, |d| d.sf(f))
 }
 
-/// One-way ANOVA over groups with at least one value each; `None` with fewer than two groups
-/// or no within-group degrees of freedom.
-pub fn one_way_anova(groups: &[&[f64]]) -> Option<Anova> {
+fn chi2_sf(x: f64, df: f64) -> f64 {
+    if !(x.is_finite() && df > 0.0) {
+        return f64::NAN;
+    }
+    ChiSquared::new(df).map_or(f64::NAN, |d| d.sf(x))
+}
+
+/// Two-sided p of Student's t.
+fn t_two_sided(t: f64, df: f64) -> f64 {
+    if !(t.is_finite() && df > 0.0) {
+        return f64::NAN;
+    }
+    StudentsT::new(0.0, 1.0, df).map_or(f64::NAN, |d| 2.0 * d.sf(t.abs()))
+}
+
+/// One-way ANOVA over the groups that have values.
+pub fn one_way_anova(groups: &[&[f64]]) -> Result<Anova, Undefined> {
     let groups: Vec<&[f64]> = groups.iter().copied().filter(|g| !g.is_empty()).collect();
     let k = groups.len();
     let n: usize = groups.iter().map(|g| g.len()).sum();
-    if k < 2 || n <= k {
-        return None;
+    if k < 2 {
+        return Err("fewer than two groups with data".into());
     }
-    let all: Vec<f64> = groups.iter().flat_map(|g| g.iter().copied()).collect();
+    if n <= k {
+        return Err("every group has a single value, so there is no variation within groups to compare against".into());
+    }
+    // deviations from a provisional centre: exact for values close to it, and small, so the
+    // sums of squares keep their digits
+    let centre = groups[0][0];
+    let dev: Vec<Vec<f64>> = groups
+        .iter()
+        .map(|g| g.iter().map(|x| x - centre).collect())
+        .collect();
+    let all: Vec<f64> = dev.iter().flatten().copied().collect();
     let grand = mean(&all);
-    let means: Vec<f64> = groups.iter().map(|g| mean(g)).collect();
-    let ss_between: f64 = groups
+    let means: Vec<f64> = dev.iter().map(|g| mean(g)).collect();
+    let ss_between: f64 = dev
         .iter()
         .zip(&means)
         .map(|(g, m)| g.len() as f64 * (m - grand) * (m - grand))
         .sum();
-    let ss_within: f64 = groups
-        .iter()
-        .zip(&means)
-        .map(|(g, m)| ss_about(g, *m))
-        .sum();
+    let ss_within: f64 = dev.iter().zip(&means).map(|(g, m)| ss_about(g, *m)).sum();
+    if ss_within <= 0.0 {
+        return Err("no variation within any group (every value equals its group's mean)".into());
+    }
     let (df1, df2) = ((k - 1) as f64, (n - k) as f64);
     let ms_within = ss_within / df2;
     let f = (ss_between / df1) / ms_within;
-    Some(Anova {
+    Ok(Anova {
         f,
         df1,
         df2,
@@ -75,24 +121,39 @@ pub fn one_way_anova(groups: &[&[f64]]) -> Option<Anova> {
     })
 }
 
-/// Welch's heteroscedastic one-way ANOVA (Welch 1951). Needs at least two values per group.
-pub fn welch_anova(groups: &[&[f64]]) -> Option<Test> {
-    let groups: Vec<&[f64]> = groups.iter().copied().filter(|g| g.len() >= 2).collect();
-    let k = groups.len() as f64;
-    if k < 2.0 {
-        return None;
+/// Welch's heteroscedastic one-way ANOVA (Welch 1951) over the groups with at least two values
+/// and some spread; the others are named as left out.
+pub fn welch_anova(groups: &[&[f64]]) -> Welch {
+    let mut left_out = Vec::new();
+    let mut stats: Vec<(f64, f64, f64)> = Vec::new();
+    for (i, g) in groups.iter().enumerate() {
+        if g.is_empty() {
+            continue;
+        }
+        if g.len() < 2 {
+            left_out.push((i, LeftOut::OneValue));
+            continue;
+        }
+        let n = g.len() as f64;
+        let m = mean(g);
+        let v = ss_about(g, m) / (n - 1.0);
+        if v <= 0.0 {
+            left_out.push((i, LeftOut::NoSpread));
+            continue;
+        }
+        stats.push((n, m, v));
     }
-    let stats: Vec<(f64, f64, f64)> = groups
-        .iter()
-        .map(|g| {
-            let n = g.len() as f64;
-            let m = mean(g);
-            (n, m, ss_about(g, m) / (n - 1.0))
-        })
-        .collect();
-    if stats.iter().any(|(_, _, v)| *v <= 0.0) {
-        return None;
-    }
+    let result = if stats.len() < 2 {
+        Err("fewer than two groups with two or more differing values".into())
+    } else {
+        Ok(welch_statistic(&stats))
+    };
+    Welch { result, left_out }
+}
+
+/// Welch's F from each group's (n, mean, variance).
+fn welch_statistic(stats: &[(f64, f64, f64)]) -> Test {
+    let k = stats.len() as f64;
     let w: Vec<f64> = stats.iter().map(|(n, _, v)| n / v).collect();
     let sw: f64 = w.iter().sum();
     let mw = stats
@@ -115,12 +176,12 @@ pub fn welch_anova(groups: &[&[f64]]) -> Option<Test> {
     let b = 1.0 + 2.0 * (k - 2.0) / (k * k - 1.0) * lambda;
     let f = a / b;
     let df2 = (k * k - 1.0) / (3.0 * lambda);
-    Some(Test {
+    Test {
         statistic: f,
         df1: k - 1.0,
         df2,
         p: f_sf(f, k - 1.0, df2),
-    })
+    }
 }
 
 /// Average ranks (1-based) of the pooled values, and the sizes of the tied groups.
@@ -146,11 +207,11 @@ fn ranks(values: &[f64]) -> (Vec<f64>, Vec<usize>) {
 }
 
 /// Kruskal-Wallis H with the correction for ties, against chi-squared with k - 1 df.
-pub fn kruskal_wallis(groups: &[&[f64]]) -> Option<Test> {
+pub fn kruskal_wallis(groups: &[&[f64]]) -> Result<Test, Undefined> {
     let groups: Vec<&[f64]> = groups.iter().copied().filter(|g| !g.is_empty()).collect();
     let k = groups.len();
     if k < 2 {
-        return None;
+        return Err("fewer than two groups with data".into());
     }
     let all: Vec<f64> = groups.iter().flat_map(|g| g.iter().copied()).collect();
     let n = all.len() as f64;
@@ -165,39 +226,38 @@ pub fn kruskal_wallis(groups: &[&[f64]]) -> Option<Test> {
     let h = 12.0 / (n * (n + 1.0)) * sum - 3.0 * (n + 1.0);
     let correction =
         1.0 - ties.iter().map(|&t| (t * t * t - t) as f64).sum::<f64>() / (n * n * n - n);
-    if correction <= 0.0 {
-        return None;
+    if correction <= 0.0 || !correction.is_finite() {
+        return Err("every value is the same, so there is nothing to rank".into());
     }
     let h = h / correction;
     let df = (k - 1) as f64;
-    Some(Test {
+    Ok(Test {
         statistic: h,
         df1: df,
         df2: f64::NAN,
-        p: ChiSquared::new(df).map_or(f64::NAN, |d| d.sf(h)),
+        p: chi2_sf(h, df),
     })
 }
 
 /// Welch's two-sample t-test, two-sided.
-pub fn welch_t(a: &[f64], b: &[f64]) -> Option<Test> {
+pub fn welch_t(a: &[f64], b: &[f64]) -> Result<Test, Undefined> {
     if a.len() < 2 || b.len() < 2 {
-        return None;
+        return Err("a group of one value has no spread to test against".into());
     }
     let (na, nb) = (a.len() as f64, b.len() as f64);
     let (ma, mb) = (mean(a), mean(b));
     let (va, vb) = (ss_about(a, ma) / (na - 1.0), ss_about(b, mb) / (nb - 1.0));
     let se2 = va / na + vb / nb;
     if se2 <= 0.0 {
-        return None;
+        return Err("neither group varies".into());
     }
     let t = (ma - mb) / se2.sqrt();
     let df = se2 * se2 / ((va / na).powi(2) / (na - 1.0) + (vb / nb).powi(2) / (nb - 1.0));
-    let p = StudentsT::new(0.0, 1.0, df).map_or(f64::NAN, |d| 2.0 * d.sf(t.abs()));
-    Some(Test {
+    Ok(Test {
         statistic: t,
         df1: df,
         df2: f64::NAN,
-        p,
+        p: t_two_sided(t, df),
     })
 }
 
@@ -216,33 +276,33 @@ pub fn holm(p: &[f64]) -> Vec<f64> {
     out
 }
 
-/// Number of arrangements giving each U for samples of sizes m and n, no ties.
-fn u_distribution(m: usize, n: usize) -> Vec<f64> {
-    // f[i][j][u]: ways for sizes i and j; f(i, j, u) = f(i - 1, j, u - j) + f(i, j - 1, u)
-    let max = m * n;
-    let mut prev: Vec<Vec<f64>> = (0..=n)
-        .map(|_| {
-            let mut v = vec![0.0; max + 1];
-            v[0] = 1.0;
-            v
-        })
-        .collect();
-    for i in 1..=m {
-        let mut cur: Vec<Vec<f64>> = vec![vec![0.0; max + 1]; n + 1];
-        cur[0][0] = 1.0;
-        for j in 1..=n {
-            for u in 0..=i * j {
-                let a = if u >= j { prev[j][u - j] } else { 0.0 };
-                cur[j][u] = a + cur[j - 1][u];
-            }
+/// P(U <= t) for samples of sizes `m` and `n` without ties: the first t + 1 coefficients of the
+/// Gaussian binomial [m + n choose m](q), whose coefficient of q^u counts the arrangements
+/// giving U = u, built as the product over k = 1..m of (1 - q^(n+k)) / (1 - q^k) and cut at
+/// degree t. O(m t) work in all; the low coefficients are free of cancellation, so a lower tail
+/// keeps its digits (an upper tail is taken through the symmetry of U).
+fn u_lower_tail(m: usize, n: usize, t: usize) -> f64 {
+    let (m, n) = (m.min(n), m.max(n));
+    let len = t + 1;
+    let mut c = vec![0.0f64; len];
+    c[0] = 1.0;
+    let mut total = 1.0f64;
+    for k in 1..=m {
+        // multiply by (1 - q^(n+k)), then divide by (1 - q^k): q_j = p_j + q_(j-k)
+        let mut q = vec![0.0f64; len];
+        for j in 0..len {
+            let p = c[j] - if j >= n + k { c[j - n - k] } else { 0.0 };
+            q[j] = p + if j >= k { q[j - k] } else { 0.0 };
         }
-        prev = cur;
+        c = q;
+        // C(n + k, k), the number of arrangements
+        total = total * (n + k) as f64 / k as f64;
     }
-    prev[n].clone()
+    (c.iter().sum::<f64>() / total).min(1.0)
 }
 
 /// Mann-Whitney U, two-sided, as SciPy's `mannwhitneyu` (method "auto"): the exact
-/// distribution when there are no ties and a sample has at most 8 values, else the normal
+/// distribution when there are no ties and one sample has at most 8 values, else the normal
 /// approximation with the tie and continuity corrections. Returns U for the first sample and p.
 /// (statrs' `mannwhitneyu` was checked against SciPy and gave p = 1 for a case SciPy puts at
 /// 0.032, so it is not used.)
@@ -256,11 +316,9 @@ pub fn mann_whitney(a: &[f64], b: &[f64]) -> Option<(f64, f64)> {
     let u2 = (m * n) as f64 - u1;
     let u = u1.max(u2);
     let tied = ties.iter().any(|&t| t > 1);
-    let p = if !tied && m.min(n) <= 8 && m * n <= 10_000 {
-        let dist = u_distribution(m, n);
-        let total: f64 = dist.iter().sum();
-        let upper: f64 = dist[(u as usize).min(m * n)..].iter().sum::<f64>() / total;
-        2.0 * upper
+    let p = if !tied && m.min(n) <= 8 {
+        // P(U >= u) = P(U <= mn - u) by symmetry; U is whole without ties
+        2.0 * u_lower_tail(m, n, (m * n) - u as usize)
     } else {
         let nn = (m + n) as f64;
         let t: f64 = ties.iter().map(|&t| (t * t * t - t) as f64).sum();
@@ -285,6 +343,12 @@ pub fn median(x: &[f64]) -> f64 {
 pub fn mad(x: &[f64]) -> f64 {
     let m = median(x);
     median(&x.iter().map(|v| (v - m).abs()).collect::<Vec<_>>())
+}
+
+/// Mean absolute deviation from the median, the outlier rule's fallback where the MAD is 0.
+pub fn mean_abs_deviation(x: &[f64]) -> f64 {
+    let m = median(x);
+    x.iter().map(|v| (v - m).abs()).sum::<f64>() / x.len() as f64
 }
 
 #[cfg(test)]
@@ -344,7 +408,7 @@ mod tests {
         let (u, p) = mann_whitney(&a, &b).unwrap();
         assert_eq!(u, 27.0);
         assert_abs_diff_eq!(p, 0.087_771_777_481_226_47, epsilon = 1e-10);
-        let w = welch_anova(&[&L1, &L2, &L3]).unwrap();
+        let w = welch_anova(&[&L1, &L2, &L3]).result.unwrap();
         assert_abs_diff_eq!(w.statistic, 9.023_741_344_048_918, epsilon = 1e-9);
         assert_abs_diff_eq!(w.p, 0.009_051_398_579_123_376, epsilon = 1e-9);
     }
@@ -355,5 +419,53 @@ mod tests {
         let k = kruskal_wallis(&[&[1.0, 2.0, 2.0, 3.0], &[2.0, 3.0, 3.0, 4.0]]).unwrap();
         assert_abs_diff_eq!(k.statistic, 2.302_631_578_947_367_3, epsilon = 1e-12);
         assert_abs_diff_eq!(k.p, 0.129_155_013_990_066_85, epsilon = 1e-12);
+    }
+
+    #[test]
+    fn mann_whitney_exact_for_a_small_sample_against_a_large_one() {
+        // SciPy 1.17.1, mannwhitneyu(a, b, method="auto"), which is exact here (no ties, the
+        // smaller sample has at most 8 values) however large the other sample is
+        let b: Vec<f64> = (0..1994)
+            .map(|i| f64::from(i) + 0.25 * f64::from(i % 3))
+            .collect();
+        let a = [100.6, 400.7, 900.8, 1200.9, 1500.1, 1990.2];
+        let (u, p) = mann_whitney(&a, &b).unwrap();
+        assert_eq!(u, 6095.0);
+        assert_abs_diff_eq!(p, 0.938_106_973_681_689_2, epsilon = 1e-12);
+        let high = [1500.1, 1700.2, 1800.3, 1850.4, 1900.6, 1980.7];
+        let (u, p) = mann_whitney(&high, &b).unwrap();
+        assert_eq!(u, 10734.0);
+        assert_abs_diff_eq!(p, 0.000_159_726_134_943_529_26, epsilon = 1e-15);
+        let c = [1.5, 2.25, 3.75, 4.5, 10.5, 11.25, 12.75, 20.5];
+        let d: Vec<f64> = (5..35).map(|x| f64::from(x) + 0.1).collect();
+        let (u, p) = mann_whitney(&c, &d).unwrap();
+        assert_eq!(u, 37.0);
+        assert_abs_diff_eq!(p, 0.001_925_424_875_589_661_3, epsilon = 1e-15);
+    }
+
+    #[test]
+    fn undefined_tests_say_why() {
+        // every student full marks in two sections: no variation at all
+        let same: [&[f64]; 2] = [&[100.0, 100.0], &[100.0, 100.0, 100.0]];
+        assert!(one_way_anova(&same).unwrap_err().contains("no variation"));
+        assert!(kruskal_wallis(&same).unwrap_err().contains("the same"));
+        let w = welch_anova(&same);
+        assert!(w.result.is_err());
+        assert_eq!(
+            w.left_out,
+            vec![(0, LeftOut::NoSpread), (1, LeftOut::NoSpread)]
+        );
+        assert!(welch_t(&[1.0], &[1.0, 2.0])
+            .unwrap_err()
+            .contains("one value"));
+        // one group, and groups of one
+        assert!(one_way_anova(&[&[1.0, 2.0]])
+            .unwrap_err()
+            .contains("fewer than two"));
+        assert!(one_way_anova(&[&[1.0], &[2.0]]).is_err());
+        // Welch leaves out a group of one and says so, and still tests the rest
+        let w = welch_anova(&[&L1, &[7.0], &L2]);
+        assert_eq!(w.left_out, vec![(1, LeftOut::OneValue)]);
+        assert!(w.result.is_ok());
     }
 }

@@ -1,11 +1,15 @@
 //! The one outlier rule, used by the `outlier` flag and by the cohort report's list of results
 //! far from their section, so that the two can never disagree: a value is an outlier when its
 //! robust z-score (Iglewicz and Hoaglin: 0.6745 x distance from the median / MAD) lies beyond
-//! 3.5, measured against its section's rows without impossible entries.
+//! 3.5, measured against its section's rows without impossible entries. Where most values are
+//! equal the MAD is 0; the score then uses the mean absolute deviation from the median, as
+//! 0.7979 x distance / mean absolute deviation (0.7979 = sqrt(2/pi), the ratio of the mean
+//! absolute deviation to the standard deviation of a normal distribution: common practice, as
+//! in IBM SPSS's modified z-score).
 
 use std::collections::HashMap;
 
-use super::inference::{mad, median};
+use super::inference::{mad, mean_abs_deviation, median};
 use crate::model::{Assessed, Measure, Row};
 
 /// The measures an outlier is judged on.
@@ -20,6 +24,8 @@ pub struct Centre {
     pub median: f64,
     /// Median absolute deviation from the median (unscaled).
     pub mad: f64,
+    /// Mean absolute deviation from the median, used where the MAD is 0.
+    pub mean_ad: f64,
 }
 
 impl Centre {
@@ -28,15 +34,28 @@ impl Centre {
         Centre {
             median: median(values),
             mad: mad(values),
+            mean_ad: mean_abs_deviation(values),
         }
     }
 
-    /// The robust z-score of a value: 0.6745 (x - median) / MAD, or 0 when the MAD is zero.
+    /// The robust z-score of a value: 0.6745 (x - median) / MAD; where the MAD is 0,
+    /// 0.7979 (x - median) / mean absolute deviation; 0 when every value is the median.
     pub fn z(&self, x: f64) -> f64 {
         if self.mad > 0.0 {
             0.6745 * (x - self.median) / self.mad
+        } else if self.mean_ad > 0.0 {
+            0.7979 * (x - self.median) / self.mean_ad
         } else {
             0.0
+        }
+    }
+
+    /// The spread the score was measured against, in words: "MAD 1.20", or the fallback.
+    pub fn spread(&self) -> String {
+        if self.mad > 0.0 || self.mean_ad.is_nan() || self.mean_ad <= 0.0 {
+            format!("MAD {:.2}", self.mad)
+        } else {
+            format!("MAD 0; mean absolute deviation {:.2}", self.mean_ad)
         }
     }
 
@@ -129,5 +148,22 @@ mod tests {
         assert!(c.outlier(100.0).is_some() && c.outlier(4.0).is_none());
         // 3.5 / 0.6745 = 5.189 MADs from the median is the edge (hand-worked)
         assert!(c.outlier(3.0 + 5.18).is_none() && c.outlier(3.0 + 5.2).is_some());
+    }
+
+    #[test]
+    fn a_mad_of_zero_falls_back_to_the_mean_absolute_deviation() {
+        // ten recoveries at 75 % and one at 40 %: median 75, MAD 0; mean absolute deviation
+        // 35 / 11 = 3.1818 (hand-worked); 40 % is 0.7979 x 35 / 3.1818 = 8.78 robust z away
+        let mut v = vec![75.0; 10];
+        v.push(40.0);
+        let c = Centre::of(&v);
+        assert_eq!((c.median, c.mad), (75.0, 0.0));
+        let z = c
+            .outlier(40.0)
+            .expect("40 % among ten at 75 % is an outlier");
+        assert_abs_diff_eq!(z, -0.7979 * 35.0 / (35.0 / 11.0), epsilon = 1e-9);
+        assert!(c.outlier(75.0).is_none());
+        assert!(c.spread().contains("mean absolute deviation 3.18"));
+        assert_eq!(Centre::of(&[5.0, 5.0]).z(5.0), 0.0);
     }
 }

@@ -18,5 +18,6 @@ mod nist;
 mod physchem;
 mod reference_data;
 mod registry;
+mod reliability;
 mod sample_data;
 mod workbooks;

@@ -155,3 +155,77 @@ fn nist_strd_univariate_summary_statistics() {
         );
     }
 }
+
+/// A StRD ANOVA file's responses as doubles, by treatment, exactly as a spreadsheet cell would
+/// hold them (no shifting).
+fn load_raw(name: &str) -> Vec<Vec<f64>> {
+    let text = std::fs::read_to_string(
+        project_root()
+            .join("tests/data/nist-strd-anova")
+            .join(format!("{name}.dat")),
+    )
+    .unwrap();
+    let mut groups: Vec<Vec<f64>> = Vec::new();
+    for line in text.lines().skip(60) {
+        let w: Vec<&str> = line.split_whitespace().collect();
+        if let [t, y] = w.as_slice() {
+            let (Ok(t), Ok(y)) = (t.parse::<usize>(), y.parse::<f64>()) else {
+                continue;
+            };
+            if groups.len() < t {
+                groups.resize(t, Vec::new());
+            }
+            groups[t - 1].push(y);
+        }
+    }
+    groups
+}
+
+#[test]
+fn nist_strd_anova_through_the_cohort_comparisons_on_raw_values() {
+    // Each StRD set's responses, as doubles, become the recoveries of graded rows, one section
+    // per treatment, and go through the cohort comparisons that write section-comparison.csv.
+    // The exact F and residual sd of those same doubles (Python 3.11 fractions.Fraction,
+    // computed once) are the target: at least 9 digits. (Summing raw values of SmLs07-09,
+    // about 1e12 with a spread of 0.1, kept 3.2 digits before the sums were centred.)
+    use benchgrade::model::{Graded, Measure};
+    use benchgrade::stats::cohort::Cohort;
+    for (name, exact_f) in [
+        ("AtmWtAg", 15.946733566676926),
+        ("SiRstv", 1.1804623744024467),
+        ("SmLs01", 21.0),
+        ("SmLs02", 201.00000000000003),
+        ("SmLs03", 2001.0000000000002),
+        ("SmLs04", 21.0000000007761),
+        ("SmLs05", 201.00000001241764),
+        ("SmLs06", 2001.0000001288329),
+        ("SmLs07", 21.00081188781877),
+        ("SmLs08", 201.01300409594845),
+        ("SmLs09", 2001.1349262209505),
+    ] {
+        let mut cohort = Cohort::default();
+        for (t, values) in load_raw(name).iter().enumerate() {
+            for &y in values {
+                let mut g = Graded::default();
+                g.assessed.submission.section = format!("treatment {:02}", t + 1);
+                g.assessed.recovery_pct = Some(y);
+                cohort.add(&g);
+            }
+        }
+        let f = cohort
+            .comparisons()
+            .into_iter()
+            .find(|c| {
+                c.measure == Measure::RECOVERY
+                    && c.grouping == "section"
+                    && c.test == "one-way ANOVA"
+            })
+            .unwrap()
+            .statistic;
+        let digits = significant_digits(f, exact_f);
+        assert!(
+            digits >= 9.0,
+            "{name}: F {f} vs exact {exact_f} ({digits:.1} digits)"
+        );
+    }
+}

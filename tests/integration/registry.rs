@@ -50,7 +50,7 @@ fn statistics_and_comparisons_cover_the_registry_measures() {
     let read = |name: &str| -> BTreeSet<String> {
         let mut r = csv::Reader::from_path(f.path(&format!("out/{name}"))).unwrap();
         r.records()
-            .map(|rec| rec.unwrap()[if name == "section-stats.csv" { 1 } else { 0 }].to_string())
+            .map(|rec| rec.unwrap()[usize::from(name == "section-stats.csv")].to_string())
             .collect()
     };
     let summarised: BTreeSet<String> = Measure::summarised()
