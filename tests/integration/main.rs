@@ -4,7 +4,8 @@
 #![allow(
     clippy::too_many_lines,
     clippy::case_sensitive_file_extension_comparisons,
-    clippy::format_push_string
+    clippy::format_push_string,
+    clippy::format_collect
 )]
 
 mod bad_corpus;
