@@ -12,7 +12,12 @@ fn main() -> Result<(), Box<dyn std::error::Error>> {
         return Err("usage: io_floor IN.xlsx OUT.xlsx".into());
     };
     let mut reader = open_workbook_auto(input)?;
-    let mut out = benchgrade::export::workbook::new_workbook();
+    // temporary files beside the output, as graded workbooks keep them
+    let beside = std::path::Path::new(output.as_str())
+        .parent()
+        .filter(|p| !p.as_os_str().is_empty());
+    let mut out =
+        benchgrade::export::workbook::new_workbook(beside.unwrap_or(std::path::Path::new(".")))?;
     let mut cells = 0usize;
     for name in reader.sheet_names() {
         let range = reader.worksheet_range(&name)?;

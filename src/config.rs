@@ -8,6 +8,7 @@ use serde::Deserialize;
 
 use crate::assess::{accepted, ReferenceRule};
 use crate::error::{parse_toml, ConfigError};
+use crate::export::parquet::Term;
 use crate::export::pseudonym::Pseudonymizer;
 use crate::ingest::headers::ColumnOverrides;
 use crate::reference::Library;
@@ -64,9 +65,16 @@ pub struct Config {
     /// Writes DIR/results-pseudonymized.csv when set (and pseudonymises results.parquet).
     pub pseudonyms: Option<Pseudonymizer>,
     /// The earlier term's results.parquet.
-    pub baseline: Option<PathBuf>,
+    pub baseline: Option<Baseline>,
     /// Seconds since the epoch: fixed, or the time the run started.
     pub timestamp: i64,
+}
+
+/// An earlier term's results.parquet and its headline figures.
+#[derive(Clone, Debug)]
+pub struct Baseline {
+    pub file: PathBuf,
+    pub term: Term,
 }
 
 #[derive(Deserialize)]
@@ -112,7 +120,7 @@ impl Config {
                 Some(k) => Some(Pseudonymizer::new(k).map_err(ConfigError::Invalid)?),
                 None => None,
             },
-            timestamp: opts.timestamp.unwrap_or_else(now),
+            timestamp: timestamp(opts.timestamp)?,
             overrides: match &opts.overrides {
                 Some(p) => Overrides::load(p, &rubric.criterion_ids())?,
                 None => Overrides::default(),
@@ -196,7 +204,7 @@ fn inputs(opts: &Options) -> Result<Vec<PathBuf>, ConfigError> {
 }
 
 /// An earlier term's results.parquet, from its output folder (or the file itself).
-fn baseline_file(dir: Option<&Path>) -> Result<Option<PathBuf>, ConfigError> {
+fn baseline_file(dir: Option<&Path>) -> Result<Option<Baseline>, ConfigError> {
     let Some(dir) = dir else { return Ok(None) };
     let file = if dir.is_dir() {
         dir.join("results.parquet")
@@ -209,7 +217,20 @@ fn baseline_file(dir: Option<&Path>) -> Result<Option<PathBuf>, ConfigError> {
             dir.display()
         )));
     }
-    Ok(Some(file))
+    let term = crate::export::parquet::read_term(&file)
+        .map_err(|e| ConfigError::Invalid(format!("--baseline: {e}")))?;
+    Ok(Some(Baseline { file, term }))
+}
+
+/// The time of grading: the one given, if the workbooks can carry it, else now.
+fn timestamp(given: Option<i64>) -> Result<i64, ConfigError> {
+    let Some(t) = given else { return Ok(now()) };
+    crate::export::provenance::check_timestamp(t).map_err(|why| {
+        ConfigError::Invalid(format!(
+            "--timestamp (or SOURCE_DATE_EPOCH) {t}: {why}; give seconds since 1970-01-01 UTC"
+        ))
+    })?;
+    Ok(t)
 }
 
 /// The calibration named on the command line, else the rubric's (relative to the rubric).

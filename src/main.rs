@@ -3,6 +3,7 @@
 
 mod alloc;
 mod cli;
+mod fail;
 
 use std::io::{IsTerminal, Write};
 use std::path::PathBuf;
@@ -54,10 +55,13 @@ fn style() -> Style {
     }
 }
 
-fn report_problems(batch: &Batch) {
-    for p in &batch.problems {
+fn report_problems(problems: &[benchgrade::ingest::Problem]) {
+    for p in problems {
         let kind = if p.fatal { "error" } else { "note" };
-        eprintln!("benchgrade: {kind}: {p}");
+        fail::say(&format!(
+            "benchgrade: {kind}: {}",
+            check_report::printable(&p.to_string())
+        ));
     }
 }
 
@@ -136,6 +140,7 @@ fn grade(run: RunArgs, g: GradeArgs) -> Result<ExitCode> {
         Ok(c) => c,
         Err(e) => return usage_error(&e),
     };
+    fail::doing(format!("grading into {}", config.out_dir.display()));
     let mut bar = Bar::new(quiet);
     let result = benchgrade::grade_with_progress(&config, &mut |p| bar.update(p));
     bar.clear();
@@ -143,15 +148,26 @@ fn grade(run: RunArgs, g: GradeArgs) -> Result<ExitCode> {
         Ok(b) => b,
         Err(RunError::Config(e)) => return usage_error(&e),
         Err(RunError::Write(e)) => return Err(e).context("writing the results"),
+        Err(RunError::Nothing { message, problems }) => {
+            report_problems(&problems);
+            fail::say(&format!("benchgrade: {message}"));
+            return Ok(ExitCode::from(1));
+        }
+        Err(RunError::Internal(_)) => return Ok(fail::internal_error()),
     };
-    report_problems(&batch);
+    report_problems(&batch.problems);
     if !quiet {
-        let line = check_report::summary(&batch.tally, &[], batch.files.len());
-        print!("{line}");
-        println!(
+        let mut out = std::io::stdout().lock();
+        write!(
+            out,
+            "{}",
+            check_report::summary(&batch.tally, &[], batch.files.len())
+        )?;
+        writeln!(
+            out,
             "wrote the results, gradebook, workbooks and cohort report into {}",
             config.out_dir.display()
-        );
+        )?;
     }
     Ok(exit_for(&batch))
 }
@@ -161,8 +177,10 @@ fn check(run: RunArgs, explain: bool) -> Result<ExitCode> {
         Ok(c) => c,
         Err(e) => return usage_error(&e),
     };
+    fail::doing("checking the inputs".into());
     let batch = match benchgrade::assess_batch(&config) {
         Ok(b) => b,
+        Err(RunError::Internal(_)) => return Ok(fail::internal_error()),
         Err(e) => return usage_error(&e),
     };
     let style = style();
@@ -207,13 +225,14 @@ fn rubric_check(file: &std::path::Path) -> Result<ExitCode> {
     match benchgrade::rubric::Rubric::load(file) {
         Ok(r) => {
             let max: f64 = r.criteria.iter().map(|c| *c.max.get_ref()).sum();
-            println!(
+            writeln!(
+                std::io::stdout().lock(),
                 "{}: ok, {} criteria worth {} points, {} flag rules",
                 file.display(),
                 r.criteria.len(),
                 benchgrade::export::number(Some(max)),
                 r.flag_rules.len()
-            );
+            )?;
             Ok(ExitCode::SUCCESS)
         }
         Err(e) => usage_error(&e),
@@ -223,12 +242,19 @@ fn rubric_check(file: &std::path::Path) -> Result<ExitCode> {
 // every command returns a Result, and a usage error is one of its outcomes
 #[allow(clippy::unnecessary_wraps)]
 fn usage_error(e: &dyn std::fmt::Display) -> Result<ExitCode> {
-    eprintln!("benchgrade: {e}");
+    let text = e.to_string();
+    let lines: Vec<_> = text.lines().map(check_report::printable).collect();
+    fail::say(&format!("benchgrade: {}", lines.join("\n")));
     Ok(ExitCode::from(2))
 }
 
 fn main() -> ExitCode {
     alloc::tune_late();
+    fail::install_hook();
+    std::panic::catch_unwind(run).unwrap_or_else(|_| fail::internal_error())
+}
+
+fn run() -> ExitCode {
     let cli = match Cli::try_parse() {
         Ok(c) => c,
         Err(e) => {
@@ -249,8 +275,9 @@ fn main() -> ExitCode {
     };
     match result {
         Ok(code) => code,
+        Err(e) if fail::is_broken_pipe(&e) => ExitCode::SUCCESS,
         Err(e) => {
-            eprintln!("benchgrade: {e:#}");
+            fail::say(&format!("benchgrade: {e:#}"));
             ExitCode::from(2)
         }
     }

@@ -9,8 +9,10 @@ use std::sync::mpsc::{sync_channel, SyncSender};
 use crate::assess::{calibration, Assessor, Calibration, Centres, Context};
 use crate::config::Config;
 use crate::error::{ConfigError, WriteError};
+use crate::export::atomic::Stage;
 use crate::export::provenance::Provenance;
 use crate::export::row_thread::Fanout;
+use crate::files::FolderLock;
 use crate::ingest::spill::{Replay, SpillWriter};
 use crate::ingest::{self, discover, Collector, Problem, SheetReport};
 use crate::model::{Graded, Score, Tally};
@@ -38,14 +40,27 @@ impl Batch {
     }
 }
 
-/// Why a grading run stopped.
+/// Why a grading run stopped. Whatever the reason, the output folder keeps the previous
+/// run's outputs.
 #[derive(Debug, thiserror::Error)]
 pub enum RunError {
     #[error(transparent)]
     Config(#[from] ConfigError),
     #[error(transparent)]
     Write(#[from] WriteError),
+    /// No file to grade, or no student row in any (exit code 1); the problems say why.
+    #[error("{message}")]
+    Nothing {
+        message: String,
+        problems: Vec<Problem>,
+    },
+    /// A writer thread panicked: a bug, reported as such.
+    #[error("{0}")]
+    Internal(String),
 }
+
+/// How long a run waits for another run writing into the same folder before it gives up.
+pub const LOCK_WAIT: std::time::Duration = std::time::Duration::from_secs(5);
 
 fn context<'a>(
     config: &'a Config,
@@ -398,23 +413,61 @@ pub fn grade(config: &Config) -> Result<Batch, RunError> {
     grade_with_progress(config, &mut |_| {})
 }
 
+/// Creates the output folder and takes its lock; completes a publication a killed run left
+/// half done and sweeps dead runs' temporary files.
+fn open_output_folder(config: &Config) -> Result<FolderLock, RunError> {
+    let dir = &config.out_dir;
+    let invalid = |what: &str, e: std::io::Error| {
+        ConfigError::Invalid(format!("{what} the output folder {}: {e}", dir.display()))
+    };
+    std::fs::create_dir_all(dir).map_err(|e| invalid("cannot create", e))?;
+    let lock = FolderLock::take(dir, LOCK_WAIT)
+        .map_err(|e| invalid("cannot lock", e))?
+        .ok_or_else(|| {
+            ConfigError::Invalid(format!(
+                "another benchgrade run is writing into {}; wait for it to finish, or choose another --out folder",
+                dir.display()
+            ))
+        })?;
+    crate::export::atomic::recover(dir)
+        .map_err(|e| invalid("cannot finish the last run's outputs in", e))?;
+    crate::files::sweep_stale_partials(dir);
+    Ok(lock)
+}
+
+/// Refuses a batch with nothing to grade, before anything is written.
+fn refuse_nothing(batch: &Batch, config: &Config) -> Result<(), RunError> {
+    if !batch.files.is_empty() {
+        return Ok(());
+    }
+    let inputs: Vec<String> = config
+        .inputs
+        .iter()
+        .map(|p| p.display().to_string())
+        .collect();
+    Err(RunError::Nothing {
+        message: format!(
+            "nothing to grade in {} (no spreadsheet found, or only the output folder); the outputs in {} are unchanged",
+            inputs.join(", "),
+            config.out_dir.display()
+        ),
+        problems: batch.problems.clone(),
+    })
+}
+
 /// `grade`, telling `progress` after each sheet and file.
 pub fn grade_with_progress(
     config: &Config,
     progress: &mut dyn FnMut(Progress),
 ) -> Result<Batch, RunError> {
     let (mut batch, calibration) = discover_inputs(config);
+    refuse_nothing(&batch, config)?;
     let paths = output_paths(&config.out_dir);
     refuse_overwriting_inputs(&paths, &batch.files)?;
-    std::fs::create_dir_all(&config.out_dir).map_err(|e| {
-        ConfigError::Invalid(format!(
-            "cannot create the output folder {}: {e}",
-            config.out_dir.display()
-        ))
-    })?;
-    crate::files::sweep_stale_partials(&config.out_dir);
-    let mut threads = Writers::spawn(config, &paths)?;
-    let mut tallies = Tallies::new(config)?;
+    let _lock = open_output_folder(config)?;
+    let stage = Stage::new();
+    let mut threads = Writers::spawn(config, &paths, &stage)?;
+    let mut tallies = Tallies::new(config, &stage)?;
     let files = std::mem::take(&mut batch.files);
     let first = section_centres(
         config,
@@ -452,9 +505,19 @@ pub fn grade_with_progress(
     if let Some(plan) = &tallies.plan {
         refuse_overwriting_inputs(plan.paths(), &batch.files)?;
     }
+    if batch.tally.rows == 0 {
+        return Err(RunError::Nothing {
+            message: format!(
+                "no student rows could be read from the inputs; the outputs in {} are unchanged",
+                config.out_dir.display()
+            ),
+            problems: batch.problems,
+        });
+    }
     let stats = std::sync::Arc::new(std::mem::take(&mut tallies.stats));
     threads.start_finish(&provenance, &stats, &batch.problems);
-    tallies.write_summaries(config, &stats, &provenance)?;
+    tallies.write_summaries(config, &stats, &provenance, &stage)?;
     threads.wait()?;
+    stage.publish(&config.out_dir, &batch.files)?;
     Ok(batch)
 }

@@ -1,37 +1,216 @@
-//! Writing an output so that it is never half-written: a temporary file in the same folder,
-//! then renamed over the destination in one step. An output that is dropped without being
-//! committed (an error, a panic) leaves the previous file untouched, and so does a process
-//! killed at any point: the rename is the only step that changes what the destination holds.
+//! Writing the output folder as one unit. Every output of a run is written to a temporary file
+//! beside its destination (created new, never through a link) and, when complete, flushed to
+//! disk and handed to the run's `Stage`. Only when every output is complete does `publish` make
+//! them current together: it writes a journal naming each temporary file and its destination
+//! (and the files an earlier run wrote that this one did not), renames them all in one tight
+//! loop, records what the folder now holds in a manifest and removes the journal. A run killed
+//! before the journal is in place leaves the previous outputs as they were (its temporary files
+//! are swept by the next run); one killed after is completed by the next run (`recover`) before
+//! it does anything else. An output dropped without being completed (an error, a panic) is
+//! removed, and so are a failed run's completed ones.
 
+use std::fmt::Write as _;
 use std::fs::File;
 use std::io::{BufWriter, Write};
 use std::path::{Path, PathBuf};
+use std::sync::{Arc, Mutex};
 
 use crate::error::WriteError;
-use crate::files::partial_path;
+use crate::files::{create_new, partial_path};
+
+/// The journal of a publication in progress.
+const JOURNAL: &str = ".benchgrade-journal";
+/// What the folder holds from the last run: one output file name a line.
+pub const MANIFEST: &str = ".benchgrade-manifest";
+
+/// The folder of a temporary file: the destination's.
+fn folder(path: &Path) -> &Path {
+    path.parent()
+        .filter(|p| !p.as_os_str().is_empty())
+        .unwrap_or(Path::new("."))
+}
+
+fn write_error(path: &Path) -> impl Fn(std::io::Error) -> WriteError + '_ {
+    move |source| WriteError {
+        path: path.to_path_buf(),
+        source,
+    }
+}
+
+/// Completed outputs waiting to be made current: (temporary file, destination).
+#[derive(Debug, Default)]
+struct Staged {
+    files: Vec<(PathBuf, PathBuf)>,
+    published: bool,
+}
+
+impl Drop for Staged {
+    fn drop(&mut self) {
+        if !self.published {
+            for (tmp, _) in &self.files {
+                let _ = std::fs::remove_file(tmp);
+            }
+        }
+    }
+}
+
+/// The outputs of one run, made current together by `publish`. Cloned into every writer.
+#[derive(Clone, Debug, Default)]
+pub struct Stage {
+    staged: Arc<Mutex<Staged>>,
+}
+
+impl Stage {
+    pub fn new() -> Stage {
+        Stage::default()
+    }
+
+    fn add(&self, tmp: PathBuf, path: PathBuf) {
+        if let Ok(mut s) = self.staged.lock() {
+            s.files.push((tmp, path));
+        }
+    }
+
+    /// The destinations staged so far.
+    pub fn paths(&self) -> Vec<PathBuf> {
+        self.staged
+            .lock()
+            .map(|s| s.files.iter().map(|(_, p)| p.clone()).collect())
+            .unwrap_or_default()
+    }
+
+    /// Makes every staged output in `dir` current together, and removes what the previous run
+    /// wrote there and this one did not (nothing else is ever touched, and never one of this
+    /// run's `inputs`).
+    pub fn publish(&self, dir: &Path, inputs: &[PathBuf]) -> Result<Vec<PathBuf>, WriteError> {
+        let err = write_error(dir);
+        let mut staged = self
+            .staged
+            .lock()
+            .map_err(|_| err(std::io::Error::other("a writer thread failed")))?;
+        staged.files.sort_by(|a, b| a.1.cmp(&b.1));
+        let names: Vec<(String, String)> = staged
+            .files
+            .iter()
+            .map(|(t, p)| (file_name(t), file_name(p)))
+            .collect();
+        let current: Vec<&str> = names.iter().map(|(_, p)| p.as_str()).collect();
+        let is_input = |name: &str| {
+            let p = dir.join(name).canonicalize().ok();
+            inputs.iter().any(|i| i.canonicalize().ok() == p)
+        };
+        let stale: Vec<String> = read_manifest(dir)
+            .into_iter()
+            .filter(|n| !current.contains(&n.as_str()) && !is_input(n))
+            .collect();
+        let mut journal = String::from("benchgrade journal 1\n");
+        for (t, p) in &names {
+            let _ = writeln!(journal, "put\t{t}\t{p}");
+        }
+        for n in &stale {
+            let _ = writeln!(journal, "drop\t{n}");
+        }
+        journal.push_str("end\n");
+        write_small(dir, JOURNAL, &journal).map_err(&err)?;
+        sync_dir(dir);
+        staged.published = true;
+        apply(dir, &journal).map_err(&err)?;
+        Ok(staged.files.iter().map(|(_, p)| p.clone()).collect())
+    }
+}
+
+fn file_name(p: &Path) -> String {
+    p.file_name()
+        .map(|n| n.to_string_lossy().into_owned())
+        .unwrap_or_default()
+}
+
+/// A plain file name: no folder, no parent, not hidden.
+fn plain(name: &str) -> bool {
+    !name.is_empty() && !name.starts_with('.') && !name.contains(['/', '\\'])
+}
+
+fn read_manifest(dir: &Path) -> Vec<String> {
+    std::fs::read_to_string(dir.join(MANIFEST))
+        .map(|t| t.lines().filter(|n| plain(n)).map(str::to_string).collect())
+        .unwrap_or_default()
+}
+
+/// Writes a small file in `dir` through a temporary file, then renames it into place.
+fn write_small(dir: &Path, name: &str, text: &str) -> std::io::Result<()> {
+    let tmp = partial_path(dir, Path::new(name));
+    let mut f = create_new(&tmp)?;
+    f.write_all(text.as_bytes())?;
+    f.sync_all()?;
+    std::fs::rename(&tmp, dir.join(name))
+}
+
+fn sync_dir(dir: &Path) {
+    if let Ok(d) = File::open(dir) {
+        let _ = d.sync_all();
+    }
+}
+
+/// Carries out a complete journal: every temporary file still there renamed into place, every
+/// stale output removed, the manifest written, the journal removed.
+fn apply(dir: &Path, journal: &str) -> std::io::Result<()> {
+    let mut manifest = String::new();
+    for line in journal.lines() {
+        let parts: Vec<&str> = line.split('\t').collect();
+        match parts.as_slice() {
+            ["put", tmp, name] if plain(name) && tmp.ends_with(".partial") => {
+                let from = dir.join(tmp);
+                if std::fs::symlink_metadata(&from).is_ok() {
+                    std::fs::rename(&from, dir.join(name))?;
+                }
+                manifest.push_str(name);
+                manifest.push('\n');
+            }
+            ["drop", name] if plain(name) => {
+                let _ = std::fs::remove_file(dir.join(name));
+            }
+            _ => {}
+        }
+    }
+    write_small(dir, MANIFEST, &manifest)?;
+    std::fs::remove_file(dir.join(JOURNAL))?;
+    sync_dir(dir);
+    Ok(())
+}
+
+/// Completes a publication a killed run left half done: call before anything else touches the
+/// folder (and before stale temporary files are swept). A journal without its end line was
+/// never in place and is removed.
+pub fn recover(dir: &Path) -> std::io::Result<bool> {
+    let path = dir.join(JOURNAL);
+    let Ok(journal) = std::fs::read_to_string(&path) else {
+        return Ok(false);
+    };
+    if journal.starts_with("benchgrade journal 1\n") && journal.ends_with("end\n") {
+        apply(dir, &journal)?;
+    } else {
+        std::fs::remove_file(&path)?;
+    }
+    Ok(true)
+}
 
 /// An output being written to a temporary file beside its destination.
 pub struct AtomicFile {
     path: PathBuf,
     tmp: PathBuf,
     writer: Option<BufWriter<File>>,
+    stage: Stage,
 }
 
 impl AtomicFile {
-    pub fn create(path: &Path) -> Result<AtomicFile, WriteError> {
-        let dir = path
-            .parent()
-            .filter(|p| !p.as_os_str().is_empty())
-            .unwrap_or(Path::new("."));
-        let tmp = partial_path(dir, path);
-        let file = File::create(&tmp).map_err(|source| WriteError {
-            path: path.to_path_buf(),
-            source,
-        })?;
+    pub fn create(path: &Path, stage: &Stage) -> Result<AtomicFile, WriteError> {
+        let tmp = partial_path(folder(path), path);
+        let file = create_new(&tmp).map_err(write_error(path))?;
         Ok(AtomicFile {
             path: path.to_path_buf(),
             tmp,
             writer: Some(BufWriter::with_capacity(1 << 16, file)),
+            stage: stage.clone(),
         })
     }
 
@@ -52,21 +231,28 @@ impl AtomicFile {
         }
     }
 
-    /// Flushes and renames the temporary file into place.
+    /// Flushes the temporary file to disk and hands it to the stage, complete.
     pub fn commit(mut self) -> Result<(), WriteError> {
         let result = (|| {
             let w = self
                 .writer
                 .take()
                 .ok_or_else(|| std::io::Error::other("already committed"))?;
-            w.into_inner()
+            let file = w
+                .into_inner()
                 .map_err(std::io::IntoInnerError::into_error)?;
-            std::fs::rename(&self.tmp, &self.path)
+            file.sync_all()
         })();
-        result.map_err(|source| WriteError {
-            path: self.path.clone(),
-            source,
-        })
+        match result {
+            Ok(()) => {
+                self.stage.add(self.tmp.clone(), self.path.clone());
+                Ok(())
+            }
+            Err(source) => {
+                let _ = std::fs::remove_file(&self.tmp);
+                Err(self.error(source))
+            }
+        }
     }
 }
 
@@ -90,22 +276,32 @@ impl Drop for AtomicFile {
     }
 }
 
-/// Saves a workbook atomically: rust_xlsxwriter writes a temporary file beside the destination,
-/// which is then renamed into place.
-pub fn save_workbook(wb: &mut rust_xlsxwriter::Workbook, path: &Path) -> Result<(), WriteError> {
-    let dir = path
-        .parent()
-        .filter(|p| !p.as_os_str().is_empty())
-        .unwrap_or(Path::new("."));
-    let tmp = partial_path(dir, path);
-    if let Err(e) = wb.save(&tmp) {
-        let _ = std::fs::remove_file(&tmp);
-        return Err(WriteError::other(path, e));
+/// Saves a workbook to a temporary file beside its destination and stages it.
+pub fn save_workbook(
+    wb: &mut rust_xlsxwriter::Workbook,
+    path: &Path,
+    stage: &Stage,
+) -> Result<(), WriteError> {
+    let tmp = partial_path(folder(path), path);
+    let result = create_new(&tmp).map_err(write_error(path)).and_then(|f| {
+        let mut w = BufWriter::new(f);
+        wb.save_to_writer(&mut w)
+            .map_err(|e| WriteError::other(path, e))?;
+        let f = w
+            .into_inner()
+            .map_err(|e| write_error(path)(e.into_error()))?;
+        f.sync_all().map_err(write_error(path))
+    });
+    match result {
+        Ok(()) => {
+            stage.add(tmp, path.to_path_buf());
+            Ok(())
+        }
+        Err(e) => {
+            let _ = std::fs::remove_file(&tmp);
+            Err(e)
+        }
     }
-    std::fs::rename(&tmp, path).map_err(|source| WriteError {
-        path: path.to_path_buf(),
-        source,
-    })
 }
 
 /// The first output that is also one of the inputs (compared as canonical paths).
@@ -119,7 +315,7 @@ pub fn overwritten_input(outputs: &[PathBuf], inputs: &[PathBuf]) -> Option<Path
     })
 }
 
-/// Flushes a CSV writer over an atomic file and renames the file into place.
+/// Flushes a CSV writer over an atomic file and stages the file.
 pub fn commit_csv(csv: csv::Writer<AtomicFile>, path: &Path) -> Result<(), WriteError> {
     let file = csv.into_inner().map_err(|e| WriteError {
         path: path.to_path_buf(),
@@ -128,12 +324,12 @@ pub fn commit_csv(csv: csv::Writer<AtomicFile>, path: &Path) -> Result<(), Write
     file.commit()
 }
 
-/// Writes `path` atomically with what `fill` puts into the writer.
-pub fn write_atomic<F>(path: &Path, fill: F) -> Result<(), WriteError>
+/// Writes `path` through a temporary file with what `fill` puts into it, and stages it.
+pub fn write_atomic<F>(path: &Path, stage: &Stage, fill: F) -> Result<(), WriteError>
 where
     F: FnOnce(&mut dyn Write) -> std::io::Result<()>,
 {
-    let mut f = AtomicFile::create(path)?;
+    let mut f = AtomicFile::create(path, stage)?;
     fill(&mut f).map_err(|e| f.error(e))?;
     f.commit()
 }
@@ -142,32 +338,87 @@ where
 mod tests {
     use super::*;
 
+    fn names(dir: &Path) -> Vec<String> {
+        let mut v: Vec<String> = std::fs::read_dir(dir)
+            .unwrap()
+            .map(|e| e.unwrap().file_name().to_string_lossy().into_owned())
+            .collect();
+        v.sort();
+        v
+    }
+
     #[test]
     fn a_failed_write_leaves_the_old_file() {
         let dir = tempfile::tempdir().unwrap();
         let p = dir.path().join("out.csv");
-        write_atomic(&p, |w| w.write_all(b"old")).unwrap();
-        let failed = write_atomic(&p, |w| {
+        let stage = Stage::new();
+        write_atomic(&p, &stage, |w| w.write_all(b"old")).unwrap();
+        stage.publish(dir.path(), &[]).unwrap();
+        let stage = Stage::new();
+        let failed = write_atomic(&p, &stage, |w| {
             w.write_all(b"new, half")?;
             Err(std::io::Error::other("interrupted"))
         });
         assert!(failed.is_err());
+        drop(stage);
         assert_eq!(std::fs::read(&p).unwrap(), b"old");
         assert_eq!(
-            std::fs::read_dir(dir.path()).unwrap().count(),
-            1,
+            names(dir.path()),
+            [MANIFEST, "out.csv"],
             "no temporary file left"
         );
     }
 
     #[test]
-    fn an_uncommitted_file_is_discarded() {
+    fn an_uncommitted_file_is_discarded_and_so_is_an_unpublished_stage() {
         let dir = tempfile::tempdir().unwrap();
         let p = dir.path().join("out.csv");
+        let stage = Stage::new();
         {
-            let mut f = AtomicFile::create(&p).unwrap();
+            let mut f = AtomicFile::create(&p, &stage).unwrap();
             f.write_all(b"partial").unwrap();
         }
-        assert_eq!(std::fs::read_dir(dir.path()).unwrap().count(), 0);
+        assert!(names(dir.path()).is_empty());
+        write_atomic(&p, &stage, |w| w.write_all(b"complete")).unwrap();
+        assert_eq!(names(dir.path()).len(), 1, "staged, not yet current");
+        assert!(!p.exists());
+        drop(stage);
+        assert!(names(dir.path()).is_empty());
+    }
+
+    #[test]
+    fn outputs_become_current_together_and_stale_ones_go() {
+        let dir = tempfile::tempdir().unwrap();
+        let stage = Stage::new();
+        for name in ["a.csv", "b.csv"] {
+            write_atomic(&dir.path().join(name), &stage, |w| w.write_all(b"1")).unwrap();
+        }
+        stage.publish(dir.path(), &[]).unwrap();
+        std::fs::write(dir.path().join("mine.txt"), b"a file of the user's").unwrap();
+        let stage = Stage::new();
+        write_atomic(&dir.path().join("a.csv"), &stage, |w| w.write_all(b"2")).unwrap();
+        stage.publish(dir.path(), &[]).unwrap();
+        assert_eq!(names(dir.path()), [MANIFEST, "a.csv", "mine.txt"]);
+        assert_eq!(std::fs::read(dir.path().join("a.csv")).unwrap(), b"2");
+    }
+
+    #[test]
+    fn a_journal_left_by_a_killed_run_is_completed() {
+        let dir = tempfile::tempdir().unwrap();
+        let d = dir.path();
+        std::fs::write(d.join("a.csv"), b"old").unwrap();
+        std::fs::write(d.join(".a.csv.999999.partial"), b"new").unwrap();
+        // killed after the journal and one rename of two: b.csv is already current
+        std::fs::write(d.join("b.csv"), b"new").unwrap();
+        let journal = "benchgrade journal 1\nput\t.a.csv.999999.partial\ta.csv\nput\t.b.csv.999999.partial\tb.csv\nend\n";
+        std::fs::write(d.join(JOURNAL), journal).unwrap();
+        assert!(recover(d).unwrap());
+        assert_eq!(std::fs::read(d.join("a.csv")).unwrap(), b"new");
+        assert_eq!(names(d), [MANIFEST, "a.csv", "b.csv"]);
+        // a journal cut short was never in place: removed, nothing else touched
+        std::fs::write(d.join(JOURNAL), "benchgrade journal 1\nput\t.x\ta.csv\n").unwrap();
+        assert!(recover(d).unwrap());
+        assert_eq!(std::fs::read(d.join("a.csv")).unwrap(), b"new");
+        assert!(!d.join(JOURNAL).exists());
     }
 }

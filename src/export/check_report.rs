@@ -9,6 +9,33 @@ use crate::model::Graded;
 use crate::model::Tally;
 use crate::model::{Assessed, Flag, Severity};
 
+/// Text from a spreadsheet made safe for a terminal: control characters (an escape sequence
+/// could recolour or clear the screen) and the invisible characters that reorder text are shown
+/// as `\x1b`-style escapes. Everything the binary prints passes through it.
+pub fn printable(text: &str) -> std::borrow::Cow<'_, str> {
+    let unsafe_char = |c: char| {
+        c.is_control()
+            || matches!(c, '\u{200b}'..='\u{200f}' | '\u{202a}'..='\u{202e}' | '\u{2066}'..='\u{2069}')
+    };
+    if !text.chars().any(unsafe_char) {
+        return text.into();
+    }
+    let mut out = String::with_capacity(text.len() + 8);
+    for c in text.chars() {
+        if unsafe_char(c) {
+            let n = u32::from(c);
+            if n < 0x100 {
+                let _ = write!(out, "\\x{n:02x}");
+            } else {
+                let _ = write!(out, "\\u{{{n:04x}}}");
+            }
+        } else {
+            out.push(c);
+        }
+    }
+    out.into()
+}
+
 /// Terminal styling, or none.
 #[derive(Clone, Copy)]
 pub struct Style {
@@ -39,8 +66,8 @@ impl Style {
 
 fn sheet_title(source: &str, sheet: Option<&String>) -> String {
     match sheet {
-        Some(s) => format!("{source} [{s}]"),
-        None => source.to_string(),
+        Some(s) => format!("{} [{}]", printable(source), printable(s)),
+        None => printable(source).into_owned(),
     }
 }
 
@@ -69,14 +96,14 @@ pub fn layouts(sheets: &[SheetReport], style: Style) -> String {
                 (Some(f), _) => {
                     format!("{}{}", f.label(), if c.explicit { " (mapped)" } else { "" })
                 }
-                (None, Some(note)) => style.dim(note),
+                (None, Some(note)) => style.dim(&printable(note)),
                 (None, None) => style.dim("not used"),
             };
             let _ = writeln!(
                 out,
                 "    {:>3}  {:<32} -> {}",
                 c.letter,
-                format!("\"{}\"", c.header),
+                format!("\"{}\"", printable(&c.header)),
                 target
             );
         }
@@ -106,12 +133,12 @@ pub fn flagged(rows: &[Graded], style: Style) -> String {
     let mut last_file = "";
     for (file, section, members) in groups {
         if file != last_file {
-            let _ = writeln!(out, "  {}", style.bold(file));
+            let _ = writeln!(out, "  {}", style.bold(&printable(file)));
             last_file = file;
         }
-        let _ = writeln!(out, "    section {section}");
+        let _ = writeln!(out, "    section {}", printable(section));
         for a in members {
-            let id = a.submission.student_id.as_deref().unwrap_or("(no id)");
+            let id = printable(a.submission.student_id.as_deref().unwrap_or("(no id)"));
             for (i, (flag, note)) in a.flags.iter().enumerate() {
                 let (mark, code) = match flag.severity() {
                     Severity::Impossible => ("!", style.impossible(flag.code())),
@@ -122,7 +149,7 @@ pub fn flagged(rows: &[Graded], style: Style) -> String {
                 } else {
                     " ".repeat(22)
                 };
-                let _ = writeln!(out, "      {who} {mark} {code}: {note}");
+                let _ = writeln!(out, "      {who} {mark} {code}: {}", printable(note));
             }
         }
     }
@@ -158,7 +185,23 @@ pub fn summary(tally: &Tally, problems: &[Problem], files: usize) -> String {
         tally.rows, files, tally.impossible, tally.suspicious, clean
     );
     for p in problems {
-        let _ = writeln!(out, "{} {p}", if p.fatal { "error:" } else { "note:" });
+        let kind = if p.fatal { "error:" } else { "note:" };
+        let _ = writeln!(out, "{kind} {}", printable(&p.to_string()));
     }
     out
+}
+
+#[cfg(test)]
+mod tests {
+    use super::*;
+
+    #[test]
+    fn escape_sequences_are_shown_not_sent() {
+        assert_eq!(printable("Sec 01"), "Sec 01");
+        assert_eq!(
+            printable("\u{1b}[2J\u{1b}]0;pwned\u{7}"),
+            "\\x1b[2J\\x1b]0;pwned\\x07"
+        );
+        assert_eq!(printable("a\nb\u{202e}c"), "a\\x0ab\\u{202e}c");
+    }
 }

@@ -4,14 +4,15 @@
 
 use std::path::Path;
 
+use super::atomic::{write_atomic, Stage};
 use super::report::{self, Cell, Table};
-use super::{atomic::write_atomic, neutralise, number};
+use super::{neutralise, number};
 use crate::error::WriteError;
 use crate::stats::cohort::{BenchBias, Comparison};
 
 /// Writes a report table as CSV: text guarded against formula injection, numbers exact.
-pub fn write_table(path: &Path, t: &Table) -> Result<(), WriteError> {
-    write_atomic(path, |w| {
+pub fn write_table(path: &Path, t: &Table, stage: &Stage) -> Result<(), WriteError> {
+    write_atomic(path, stage, |w| {
         let mut csv = csv::Writer::from_writer(w);
         csv.write_record(t.columns.iter().map(|c| c.code))?;
         for row in &t.rows {
@@ -26,10 +27,14 @@ pub fn write_table(path: &Path, t: &Table) -> Result<(), WriteError> {
     })
 }
 
-pub fn write_comparisons(path: &Path, rows: &[Comparison]) -> Result<(), WriteError> {
-    write_table(path, &report::comparisons_table(rows))
+pub fn write_comparisons(
+    path: &Path,
+    rows: &[Comparison],
+    stage: &Stage,
+) -> Result<(), WriteError> {
+    write_table(path, &report::comparisons_table(rows), stage)
 }
 
-pub fn write_bias(path: &Path, rows: &[BenchBias]) -> Result<(), WriteError> {
-    write_table(path, &report::bias_table(rows))
+pub fn write_bias(path: &Path, rows: &[BenchBias], stage: &Stage) -> Result<(), WriteError> {
+    write_table(path, &report::bias_table(rows), stage)
 }

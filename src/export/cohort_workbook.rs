@@ -8,6 +8,7 @@ use rust_xlsxwriter::{
     Chart, ChartType, DocProperties, ExcelDateTime, Format, Workbook, Worksheet, XlsxError,
 };
 
+use super::atomic::Stage;
 use super::report::{self, Cell, Report, Table};
 use crate::error::WriteError;
 use crate::stats::QUANTILE_DEFINITION;
@@ -156,7 +157,7 @@ fn build(r: &Report, timestamp: i64) -> Result<Workbook, XlsxError> {
 }
 
 /// Writes the cohort workbook atomically (temporary file, then rename).
-pub fn write(path: &Path, r: &Report, timestamp: i64) -> Result<(), WriteError> {
+pub fn write(path: &Path, r: &Report, timestamp: i64, stage: &Stage) -> Result<(), WriteError> {
     let mut wb = build(r, timestamp).map_err(|e| WriteError::other(path, e))?;
-    super::atomic::save_workbook(&mut wb, path)
+    super::atomic::save_workbook(&mut wb, path, stage)
 }

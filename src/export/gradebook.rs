@@ -8,7 +8,7 @@ use std::path::{Path, PathBuf};
 
 use super::{neutralise, number};
 use crate::error::WriteError;
-use crate::export::atomic::AtomicFile;
+use crate::export::atomic::{AtomicFile, Stage};
 use crate::model::Flag;
 use crate::model::Graded;
 
@@ -29,8 +29,8 @@ pub struct Gradebook {
 }
 
 impl Gradebook {
-    pub fn create(path: &Path) -> Result<Gradebook, WriteError> {
-        let mut csv = csv::Writer::from_writer(AtomicFile::create(path)?);
+    pub fn create(path: &Path, stage: &Stage) -> Result<Gradebook, WriteError> {
+        let mut csv = csv::Writer::from_writer(AtomicFile::create(path, stage)?);
         let err = |e: csv::Error| WriteError {
             path: path.to_path_buf(),
             source: e.into(),

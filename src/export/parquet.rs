@@ -11,7 +11,7 @@ use std::rc::Rc;
 
 use polars::prelude::*;
 
-use super::atomic::AtomicFile;
+use super::atomic::{AtomicFile, Stage};
 use super::pseudonym::Pseudonymizer;
 use crate::error::WriteError;
 use crate::model::columns::{self, Column, Kind, Outputs, Personal, Value};
@@ -146,8 +146,9 @@ impl ParquetRows {
     pub fn create(
         path: &Path,
         pseudonyms: Option<Pseudonymizer>,
+        stage: &Stage,
     ) -> Result<ParquetRows, WriteError> {
-        let file = Rc::new(RefCell::new(Some(AtomicFile::create(path)?)));
+        let file = Rc::new(RefCell::new(Some(AtomicFile::create(path, stage)?)));
         let columns: Vec<(&'static Column, Buffer)> = parquet_columns()
             .into_iter()
             .map(|c| (c, Buffer::new(c)))

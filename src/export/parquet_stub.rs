@@ -3,6 +3,7 @@
 
 use std::path::Path;
 
+use super::atomic::Stage;
 use super::pseudonym::Pseudonymizer;
 use crate::error::WriteError;
 use crate::model::Graded;
@@ -19,6 +20,7 @@ impl ParquetRows {
     pub fn create(
         _path: &Path,
         _pseudonyms: Option<Pseudonymizer>,
+        _stage: &Stage,
     ) -> Result<ParquetRows, WriteError> {
         Ok(ParquetRows {
             term: TermTally::default(),

@@ -73,6 +73,13 @@ pub fn utc_text(secs: i64) -> String {
     )
 }
 
+/// Whether a time of grading can be written into a workbook's properties (1970 to 9999).
+pub fn check_timestamp(t: i64) -> Result<(), String> {
+    rust_xlsxwriter::ExcelDateTime::from_timestamp(t)
+        .map(|_| ())
+        .map_err(|e| e.to_string())
+}
+
 impl Provenance {
     pub fn new(timestamp: i64, rubric: &str, rubric_text: &str, files: &[&Path]) -> Provenance {
         Provenance {

@@ -7,7 +7,7 @@
 use std::fmt::Write as _;
 use std::path::Path;
 
-use super::atomic::write_atomic;
+use super::atomic::{write_atomic, Stage};
 use super::html::{escape, table};
 use super::report::{self, Report};
 use super::svg::{bar_chart, box_plot};
@@ -117,7 +117,7 @@ fn outliers(s: &mut String, r: &Report) {
     }
 }
 
-pub fn write(path: &Path, r: &Report) -> Result<(), WriteError> {
+pub fn write(path: &Path, r: &Report, stage: &Stage) -> Result<(), WriteError> {
     let html = render(r);
-    write_atomic(path, |w| w.write_all(html.as_bytes()))
+    write_atomic(path, stage, |w| w.write_all(html.as_bytes()))
 }

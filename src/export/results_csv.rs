@@ -4,7 +4,7 @@
 
 use std::path::{Path, PathBuf};
 
-use super::atomic::AtomicFile;
+use super::atomic::{AtomicFile, Stage};
 use super::pseudonym::Pseudonymizer;
 use super::{neutralise, push_number};
 use crate::error::WriteError;
@@ -36,9 +36,13 @@ pub struct ResultsCsv {
 
 impl ResultsCsv {
     /// Opens the file and writes the header: the fixed columns, then `points_<id>` per criterion.
-    pub fn create(path: &Path, criteria: &[String]) -> Result<ResultsCsv, WriteError> {
+    pub fn create(
+        path: &Path,
+        criteria: &[String],
+        stage: &Stage,
+    ) -> Result<ResultsCsv, WriteError> {
         let mut out = ResultsCsv {
-            csv: csv::Writer::from_writer(AtomicFile::create(path)?),
+            csv: csv::Writer::from_writer(AtomicFile::create(path, stage)?),
             path: path.to_path_buf(),
             buf: String::new(),
             pseudonyms: None,
@@ -54,8 +58,9 @@ impl ResultsCsv {
         path: &Path,
         criteria: &[String],
         p: Pseudonymizer,
+        stage: &Stage,
     ) -> Result<ResultsCsv, WriteError> {
-        let mut out = ResultsCsv::create(path, criteria)?;
+        let mut out = ResultsCsv::create(path, criteria, stage)?;
         out.pseudonyms = Some(p);
         Ok(out)
     }

@@ -9,7 +9,7 @@ use std::path::Path;
 use serde::ser::{SerializeMap, SerializeSeq};
 use serde::{Serialize, Serializer};
 
-use super::atomic::AtomicFile;
+use super::atomic::{AtomicFile, Stage};
 use std::collections::BTreeMap;
 
 use crate::error::WriteError;
@@ -68,8 +68,8 @@ pub struct ResultsJson {
 }
 
 impl ResultsJson {
-    pub fn create(path: &Path) -> Result<ResultsJson, WriteError> {
-        let mut file = AtomicFile::create(path)?;
+    pub fn create(path: &Path, stage: &Stage) -> Result<ResultsJson, WriteError> {
+        let mut file = AtomicFile::create(path, stage)?;
         let head = format!(
             "{{\"tool\":\"benchgrade\",\"version\":\"{}\",\"records\":[",
             env!("CARGO_PKG_VERSION")

@@ -3,14 +3,15 @@
 
 use std::path::Path;
 
-use super::{atomic::write_atomic, number};
+use super::atomic::{write_atomic, Stage};
+use super::number;
 use crate::error::WriteError;
 use crate::stats::sections::SectionStats;
 
 pub use crate::stats::SUMMARY_COLUMNS as COLUMNS;
 
-pub fn write(path: &Path, stats: &SectionStats) -> Result<(), WriteError> {
-    write_atomic(path, |w| {
+pub fn write(path: &Path, stats: &SectionStats, stage: &Stage) -> Result<(), WriteError> {
+    write_atomic(path, stage, |w| {
         let mut csv = csv::Writer::from_writer(w);
         csv.write_record(COLUMNS)?;
         for (section, measure, s) in stats.summaries() {

@@ -10,6 +10,7 @@
 use std::collections::HashMap;
 use std::path::{Path, PathBuf};
 
+use super::atomic::Stage;
 use super::book_plan::BookPlan;
 use rust_xlsxwriter::{
     Color, DocProperties, ExcelDateTime, Format, Note, Workbook, Worksheet, XlsxError,
@@ -180,11 +181,14 @@ pub(super) struct Book {
 /// class of a few hundred students differs by a few kilobytes.
 pub const ZIP_LEVEL: u8 = 1;
 
-/// A workbook as every graded workbook starts.
-pub fn new_workbook() -> Workbook {
+/// A workbook as every graded workbook starts. Its constant-memory sheets keep their rows in
+/// unnamed temporary files in `tempdir` (the output folder: student data never goes to a shared
+/// temporary folder).
+pub fn new_workbook(tempdir: &Path) -> Result<Workbook, XlsxError> {
     let mut wb = Workbook::new();
     wb.set_zip_compression_level(ZIP_LEVEL);
-    wb
+    wb.set_tempdir(tempdir)?;
+    Ok(wb)
 }
 
 /// The graded workbooks of a batch, open while rows stream past.
@@ -195,6 +199,9 @@ pub struct GradedWorkbooks {
     formats: Formats,
     /// (source, sheet, section, workbook, sheet) of the previous row.
     last: Option<(String, Option<String>, String, usize, usize)>,
+    out_dir: PathBuf,
+    /// Where the saved workbooks wait to be made current with every other output.
+    stage: Stage,
 }
 
 fn xerr(path: &Path, e: XlsxError) -> WriteError {
@@ -220,31 +227,40 @@ fn write_cell(ws: &mut Worksheet, row: u32, col: u16, cell: &Cell) -> Result<(),
 
 impl GradedWorkbooks {
     /// `criteria`: the rubric's criterion labels, in order.
-    pub fn new(out_dir: &Path, split_sections: bool, criteria: Vec<String>) -> GradedWorkbooks {
+    pub fn new(
+        out_dir: &Path,
+        split_sections: bool,
+        criteria: Vec<String>,
+        stage: Stage,
+    ) -> GradedWorkbooks {
         GradedWorkbooks {
             criteria,
             books: Vec::new(),
             plan: BookPlan::new(out_dir, split_sections),
             formats: Formats::new(),
             last: None,
+            out_dir: out_dir.to_path_buf(),
+            stage,
         }
     }
 
     /// The workbook a row belongs to, opened on first use.
-    fn book_for(&mut self, g: &Graded) -> usize {
+    fn book_for(&mut self, g: &Graded) -> Result<usize, WriteError> {
         let s = &g.assessed.submission;
         let (i, new) = self.plan.book(&s.source, &s.section);
         if new {
+            let path = self.plan.paths()[i].clone();
+            let workbook = new_workbook(&self.out_dir).map_err(|e| xerr(&path, e))?;
             self.books.push(Book {
-                path: self.plan.paths()[i].clone(),
-                workbook: new_workbook(),
+                path,
+                workbook,
                 sheets: Vec::new(),
                 by_key: HashMap::new(),
                 names: Vec::new(),
                 sections: Vec::new(),
             });
         }
-        i
+        Ok(i)
     }
 
     fn header(&self, g: &Graded) -> Vec<String> {
@@ -269,7 +285,7 @@ impl GradedWorkbooks {
                 return Ok((*bi, *si));
             }
         }
-        let bi = self.book_for(g);
+        let bi = self.book_for(g)?;
         let sheet_key = (s.sheet.clone(), s.section.clone());
         let si = match self.books[bi].by_key.get(&sheet_key) {
             Some(&i) => i,
@@ -380,7 +396,7 @@ impl GradedWorkbooks {
                 .set_title("Graded recrystallization results")
                 .set_comment("written by benchgrade");
             book.workbook.set_properties(&props);
-            super::atomic::save_workbook(&mut book.workbook, &path)?;
+            super::atomic::save_workbook(&mut book.workbook, &path, &self.stage)?;
             written.push(path);
         }
         Ok(written)

@@ -6,7 +6,7 @@
 //! once every row has been sent. Whether a workbook would overwrite an input is decided on the
 //! grading thread from its own `BookPlan`, before the thread is told to save.
 
-use std::path::{Path, PathBuf};
+use std::path::PathBuf;
 use std::sync::Arc;
 
 use super::provenance::Provenance;
@@ -45,15 +45,4 @@ pub type BookWorker = RowThread<GradedWorkbooks>;
 /// Tells the thread every row has been sent; it saves while the caller goes on.
 pub fn start_saving(worker: &mut BookWorker, provenance: Provenance, stats: Arc<SectionStats>) {
     worker.start_finish(BookFinish { provenance, stats });
-}
-
-/// Waits for every workbook to be saved; returns their paths.
-pub fn wait(worker: BookWorker) -> Result<Vec<PathBuf>, WriteError> {
-    worker
-        .join()
-        .unwrap_or_else(|| Err(thread_error("the workbook thread stopped")))
-}
-
-fn thread_error(what: &str) -> WriteError {
-    WriteError::other(Path::new("graded workbooks"), what)
 }

@@ -8,7 +8,8 @@ use std::path::{Path, PathBuf};
 use std::sync::Arc;
 
 use crate::config::Config;
-use crate::error::{ConfigError, WriteError};
+use crate::error::WriteError;
+use crate::export::atomic::Stage;
 use crate::export::book_plan::BookPlan;
 use crate::export::gradebook::Gradebook;
 use crate::export::parquet::{self, BaselineRow, ParquetRows};
@@ -40,8 +41,12 @@ pub(super) struct Writers {
 impl Writers {
     /// Opens the text outputs (`paths`: results.csv, results.json, gradebook.csv) and starts the
     /// threads.
-    pub(super) fn spawn(config: &Config, paths: &[PathBuf; 3]) -> Result<Writers, WriteError> {
-        let text = RowThread::spawn("text outputs", open_text_outputs(config, paths)?)
+    pub(super) fn spawn(
+        config: &Config,
+        paths: &[PathBuf; 3],
+        stage: &Stage,
+    ) -> Result<Writers, WriteError> {
+        let text = RowThread::spawn("text outputs", open_text_outputs(config, paths, stage)?)
             .map_err(|e| WriteError::other(&paths[0], e))?;
         let labels = config
             .rubric
@@ -55,7 +60,12 @@ impl Writers {
             Some(
                 BookWorker::spawn(
                     "graded workbooks",
-                    GradedWorkbooks::new(&config.out_dir, config.split_sections, labels),
+                    GradedWorkbooks::new(
+                        &config.out_dir,
+                        config.split_sections,
+                        labels,
+                        stage.clone(),
+                    ),
                 )
                 .map_err(|e| WriteError::other(&config.out_dir, e))?,
             )
@@ -89,36 +99,47 @@ impl Writers {
     }
 
     /// Waits for both threads; the first error either met.
-    pub(super) fn wait(self) -> Result<(), WriteError> {
-        self.text.join().unwrap_or_else(|| {
-            Err(WriteError::other(
-                &self.text_path,
-                "the text outputs' thread stopped",
-            ))
-        })?;
+    /// Waits for both threads; the first error either met. A thread that died (a panic) is an
+    /// internal error, never a half-written output: nothing is published after it.
+    pub(super) fn wait(self) -> Result<(), RunError> {
+        let died = |what: &str| RunError::Internal(format!("the thread writing {what} stopped"));
+        match self.text.join() {
+            Some(outcome) => outcome?,
+            None => return Err(died(&self.text_path.display().to_string())),
+        }
         if let Some(w) = self.workbooks {
-            workbook_worker::wait(w)?;
+            match w.join() {
+                Some(outcome) => {
+                    outcome?;
+                }
+                None => return Err(died("the graded workbooks")),
+            }
         }
         Ok(())
     }
 }
 
 /// results.csv, results.json, gradebook.csv and, with pseudonyms, results-pseudonymized.csv.
-fn open_text_outputs(config: &Config, paths: &[PathBuf; 3]) -> Result<TextOutputs, WriteError> {
+fn open_text_outputs(
+    config: &Config,
+    paths: &[PathBuf; 3],
+    stage: &Stage,
+) -> Result<TextOutputs, WriteError> {
     let ids = config.rubric.criterion_ids();
     let pseudonymized = match &config.pseudonyms {
         Some(p) => Some(ResultsCsv::create_pseudonymized(
             &config.out_dir.join("results-pseudonymized.csv"),
             &ids,
             p.clone(),
+            stage,
         )?),
         None => None,
     };
     Ok(TextOutputs {
-        csv: ResultsCsv::create(&paths[0], &ids)?,
+        csv: ResultsCsv::create(&paths[0], &ids, stage)?,
         pseudonymized,
-        json: ResultsJson::create(&paths[1])?,
-        gradebook: Gradebook::create(&paths[2])?,
+        json: ResultsJson::create(&paths[1], stage)?,
+        gradebook: Gradebook::create(&paths[2], stage)?,
     })
 }
 
@@ -134,7 +155,7 @@ pub(super) struct Tallies {
 }
 
 impl Tallies {
-    pub(super) fn new(config: &Config) -> Result<Tallies, WriteError> {
+    pub(super) fn new(config: &Config, stage: &Stage) -> Result<Tallies, WriteError> {
         Ok(Tallies {
             plan: (!config.skip_workbooks)
                 .then(|| BookPlan::new(&config.out_dir, config.split_sections)),
@@ -143,6 +164,7 @@ impl Tallies {
             parquet: ParquetRows::create(
                 &config.out_dir.join("results.parquet"),
                 config.pseudonyms.clone(),
+                stage,
             )?,
             letters: BTreeMap::new(),
         })
@@ -168,20 +190,27 @@ impl Tallies {
         config: &Config,
         stats: &SectionStats,
         provenance: &Provenance,
+        stage: &Stage,
     ) -> Result<(), RunError> {
-        section_stats::write(&config.out_dir.join("section-stats.csv"), stats)?;
+        let dir = &config.out_dir;
+        section_stats::write(&dir.join("section-stats.csv"), stats, stage)?;
         let baseline = match &config.baseline {
-            Some(file) => {
-                let earlier = parquet::read_term(file).map_err(ConfigError::Invalid)?;
-                let rows = parquet::compare(&earlier, &self.parquet.term());
-                write_baseline(&config.out_dir.join("baseline-comparison.csv"), &rows)?;
+            Some(earlier) => {
+                let rows = parquet::compare(&earlier.term, &self.parquet.term());
+                write_baseline(&dir.join("baseline-comparison.csv"), &rows, stage)?;
                 rows
             }
             None => Vec::new(),
         };
         self.parquet.finish()?;
         let letters = letter_counts(config, &self.letters);
-        write_cohort(config, &self.cohort, stats, &letters, provenance, &baseline)?;
+        let cohort = Summaries {
+            cohort: &self.cohort,
+            stats,
+            letters: &letters,
+            baseline: &baseline,
+        };
+        write_cohort(config, &cohort, provenance, stage)?;
         Ok(())
     }
 }
@@ -200,8 +229,8 @@ fn letter_counts(config: &Config, counts: &BTreeMap<String, usize>) -> Vec<(Stri
 }
 
 /// baseline-comparison.csv: metric, baseline, current, shift.
-fn write_baseline(path: &Path, rows: &[BaselineRow]) -> Result<(), WriteError> {
-    crate::export::atomic::write_atomic(path, |w| {
+fn write_baseline(path: &Path, rows: &[BaselineRow], stage: &Stage) -> Result<(), WriteError> {
+    crate::export::atomic::write_atomic(path, stage, |w| {
         let mut csv = csv::Writer::from_writer(w);
         csv.write_record(["metric", "baseline", "current", "shift"])?;
         for r in rows {
@@ -213,19 +242,26 @@ fn write_baseline(path: &Path, rows: &[BaselineRow]) -> Result<(), WriteError> {
 }
 
 /// section-comparison.csv, bench-bias.csv, cohort-report.xlsx and cohort-report.html.
+/// What the cohort report is drawn from, kept through the run.
+struct Summaries<'a> {
+    cohort: &'a Cohort,
+    stats: &'a SectionStats,
+    letters: &'a [(String, usize)],
+    baseline: &'a [BaselineRow],
+}
+
 fn write_cohort(
     config: &Config,
-    cohort: &Cohort,
-    stats: &SectionStats,
-    letters: &[(String, usize)],
+    s: &Summaries,
     provenance: &Provenance,
-    baseline: &[BaselineRow],
+    stage: &Stage,
 ) -> Result<(), WriteError> {
-    let comparisons = cohort.comparisons();
-    let bias = cohort.bench_bias(BiasRule::default());
-    let outliers = cohort.outliers();
-    cohort_csv::write_comparisons(&config.out_dir.join("section-comparison.csv"), &comparisons)?;
-    cohort_csv::write_bias(&config.out_dir.join("bench-bias.csv"), &bias)?;
+    let dir = &config.out_dir;
+    let comparisons = s.cohort.comparisons();
+    let bias = s.cohort.bench_bias(BiasRule::default());
+    let outliers = s.cohort.outliers();
+    cohort_csv::write_comparisons(&dir.join("section-comparison.csv"), &comparisons, stage)?;
+    cohort_csv::write_bias(&dir.join("bench-bias.csv"), &bias, stage)?;
     let generated = format!(
         "{} UTC from {} input files",
         provenance.time_text,
@@ -234,18 +270,15 @@ fn write_cohort(
     let report = Report {
         title: &config.rubric.experiment.name,
         generated: &generated,
-        cohort,
-        stats,
+        cohort: s.cohort,
+        stats: s.stats,
         comparisons: &comparisons,
         bias: &bias,
         outliers: &outliers,
-        letters,
-        baseline,
+        letters: s.letters,
+        baseline: s.baseline,
     };
-    cohort_workbook::write(
-        &config.out_dir.join("cohort-report.xlsx"),
-        &report,
-        config.timestamp,
-    )?;
-    report_html::write(&config.out_dir.join("cohort-report.html"), &report)
+    let xlsx = dir.join("cohort-report.xlsx");
+    cohort_workbook::write(&xlsx, &report, config.timestamp, stage)?;
+    report_html::write(&dir.join("cohort-report.html"), &report, stage)
 }

@@ -25,7 +25,7 @@ const LAYERS: [&str; 13] = [
 ];
 
 /// The binary's own files, which sit above the library.
-const BINARY: [&str; 4] = ["lib.rs", "main.rs", "cli.rs", "alloc.rs"];
+const BINARY: [&str; 5] = ["lib.rs", "main.rs", "cli.rs", "alloc.rs", "fail.rs"];
 
 /// The source of every file of a top-level module, with its test modules cut off.
 fn module_sources(src: &Path) -> BTreeMap<String, Vec<String>> {
