@@ -85,7 +85,7 @@ struct ColumnsFile {
 
 fn read_columns_file(path: &Path) -> Result<ColumnOverrides, ConfigError> {
     let file = path.display().to_string();
-    let text = std::fs::read_to_string(path)
+    let text = crate::files::read_to_string(path)
         .map_err(|e| ConfigError::Invalid(format!("cannot read columns file {file}: {e}")))?;
     let parsed: ColumnsFile = parse_toml(&text, &file)?;
     ColumnOverrides::from_pairs(&parsed.columns)
@@ -145,7 +145,7 @@ fn load_rubric(path: Option<&Path>) -> Result<(Rubric, String, String), ConfigEr
             crate::rubric::DEFAULT_RUBRIC.to_string(),
         ));
     };
-    let text = std::fs::read_to_string(p)
+    let text = crate::files::read_to_string(p)
         .map_err(|e| ConfigError::Invalid(format!("cannot read rubric {}: {e}", p.display())))?;
     let source = p.display().to_string();
     Ok((Rubric::parse(&text, &source)?, source, text))

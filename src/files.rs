@@ -20,6 +20,23 @@ pub fn create_new(path: &Path) -> io::Result<File> {
     }
 }
 
+/// Reads a whole file, refusing anything but a regular file: a pipe or a device (a link to
+/// /dev/zero named like a spreadsheet) would never end.
+pub fn read(path: &Path) -> io::Result<Vec<u8>> {
+    let meta = std::fs::metadata(path)?;
+    if !meta.is_file() {
+        return Err(io::Error::other(
+            "not a regular file (a pipe, device or socket); only files are read",
+        ));
+    }
+    std::fs::read(path)
+}
+
+/// `read`, as UTF-8 text.
+pub fn read_to_string(path: &Path) -> io::Result<String> {
+    String::from_utf8(read(path)?).map_err(|_| io::Error::other("not UTF-8 text"))
+}
+
 /// The output folder's lock: held while a run writes into the folder, so that two runs never
 /// mix their files. An advisory lock (flock) on `DIR/.benchgrade.lock`, opened without
 /// following a link; the kernel drops it when the process ends, however it ends.

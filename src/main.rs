@@ -75,7 +75,7 @@ fn pseudonym_key(g: &GradeArgs) -> Result<Option<Vec<u8>>, String> {
         return Ok(None);
     }
     match (&g.pseudonym_key, std::env::var_os("BENCHGRADE_PSEUDONYM_KEY")) {
-        (Some(file), _) => std::fs::read(file)
+        (Some(file), _) => benchgrade::files::read(file)
             .map(Some)
             .map_err(|e| format!("cannot read the pseudonym key {}: {e}", file.display())),
         (None, Some(k)) => Ok(Some(k.into_encoded_bytes())),

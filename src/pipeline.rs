@@ -314,7 +314,7 @@ fn discover_inputs(config: &Config) -> (Batch, Option<PathBuf>) {
             file: m.path.display().to_string(),
             sheet: None,
             message: m.message,
-            fatal: true,
+            fatal: m.fatal,
         })
         .collect();
     let named = config

@@ -38,6 +38,10 @@ pub fn hex(bytes: &[u8]) -> String {
 
 /// SHA-256 of a file, read in chunks; `None` if it cannot be read.
 pub fn sha256_file(path: &Path) -> Option<String> {
+    // a pipe or a device would never end
+    if !std::fs::metadata(path).ok()?.is_file() {
+        return None;
+    }
     let mut f = std::fs::File::open(path).ok()?;
     let mut h = Sha256::new();
     let mut buf = vec![0u8; 1 << 16];

@@ -162,7 +162,8 @@ pub fn load(path: &Path) -> Result<CalibrationTable, Vec<String>> {
         let sheet = chosen.result.map_err(|e| vec![format!("{source}: {e}")])?;
         return from_sheet(&source, &sheet, Decimal::Point);
     }
-    let bytes = std::fs::read(path).map_err(|e| vec![format!("{source}: cannot read: {e}")])?;
+    let bytes =
+        crate::files::read(path).map_err(|e| vec![format!("{source}: cannot read: {e}")])?;
     let d = delimited::read_delimited(&bytes, ext == "tsv")
         .map_err(|e| vec![format!("{source}: {e}")])?;
     from_sheet(&source, &d.sheet, d.decimal)

@@ -98,8 +98,13 @@ pub fn read_file(path: &Path, emit: &mut dyn FnMut(Event)) {
         .and_then(|e| e.to_str())
         .unwrap_or("")
         .to_ascii_lowercase();
-    let len = std::fs::metadata(path).map_or(0, |m| m.len());
-    if len == 0 {
+    let meta = std::fs::metadata(path);
+    let len = meta.as_ref().map_or(0, std::fs::Metadata::len);
+    if meta.as_ref().is_ok_and(|m| !m.is_file()) {
+        emit(fatal(
+            "not a regular file (a pipe, device or socket); only files are read".into(),
+        ));
+    } else if len == 0 {
         emit(fatal("the file is empty".into()));
     } else if let Some(format) = Format::from_extension(&ext) {
         let mut on_sheet = |s: workbook::SheetRead| match s.result {
@@ -121,7 +126,7 @@ pub fn read_file(path: &Path, emit: &mut dyn FnMut(Event)) {
             emit(fatal(message));
         }
     } else if ext == "csv" || ext == "tsv" {
-        match std::fs::read(path)
+        match crate::files::read(path)
             .map_err(|e| format!("cannot read: {e}"))
             .and_then(|b| delimited::read_delimited(&b, ext == "tsv"))
         {

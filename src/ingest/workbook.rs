@@ -14,6 +14,16 @@ use super::cells::{Cell, RawSheet, RowBuilder};
 
 /// Largest total size a zipped workbook may expand to.
 pub const MAX_EXPANDED_BYTES: u64 = 2 << 30;
+/// Largest size a part that is read whole (the shared strings, the styles, the workbook's own
+/// XML) may expand to. A class of a hundred thousand students has a few MB of shared strings;
+/// a single cell holds at most 32,767 characters.
+pub const MAX_PART_BYTES: u64 = 64 << 20;
+/// Largest size one worksheet part (read as a stream) may expand to: a million students in ten
+/// columns fit.
+pub const MAX_SHEET_BYTES: u64 = 1 << 30;
+/// Most cells one sheet may hold, so that a sheet whose part lies about its size still costs a
+/// bounded amount of memory (ten million cells, about 400 MB).
+pub const MAX_CELLS: usize = 10_000_000;
 /// Grid limits of the OOXML formats: positions beyond them are corrupt.
 const MAX_ROWS: u32 = 1 << 20;
 const MAX_COLS: u32 = 1 << 14;
@@ -56,7 +66,7 @@ const OLE_MAGIC: [u8; 8] = [0xD0, 0xCF, 0x11, 0xE0, 0xA1, 0xB1, 0x1A, 0xE1];
 
 /// Says what a file that should be a zip archive is instead.
 fn not_a_zip(path: &Path) -> String {
-    let bytes = std::fs::read(path).unwrap_or_default();
+    let bytes = crate::files::read(path).unwrap_or_default();
     if bytes.starts_with(&OLE_MAGIC) {
         let marker: Vec<u8> = "EncryptionInfo"
             .encode_utf16()
@@ -82,16 +92,59 @@ fn not_a_zip(path: &Path) -> String {
     }
 }
 
-/// Reads the zip directory and refuses an archive that would expand past the limit.
+/// A worksheet part, read as a stream; every other part is read whole.
+fn is_sheet_part(name: &str) -> bool {
+    name.starts_with("xl/worksheets/sheet") || name == "content.xml"
+}
+
+/// How many bytes a part really inflates to, counted up to `limit` + 1 and thrown away.
+fn inflated_size<R: std::io::Read + std::io::Seek>(
+    archive: &mut zip::ZipArchive<R>,
+    i: usize,
+    limit: u64,
+) -> Result<u64, String> {
+    let entry = archive
+        .by_index(i)
+        .map_err(|e| format!("not a readable workbook: {e}"))?;
+    std::io::copy(
+        &mut std::io::Read::take(entry, limit + 1),
+        &mut std::io::sink(),
+    )
+    .map_err(|e| format!("not a readable workbook: {e}"))
+}
+
+/// Reads the zip directory and refuses an archive that would expand past the limits: in all,
+/// and for any one part (those read whole are inflated once and counted, since a damaged or
+/// malicious file can understate their size).
 pub fn check_zip(path: &Path) -> Result<(), String> {
     let file = File::open(path).map_err(|e| format!("cannot open: {e}"))?;
     let mut archive = zip::ZipArchive::new(BufReader::new(file)).map_err(|_| not_a_zip(path))?;
     let mut total: u64 = 0;
     for i in 0..archive.len() {
-        let entry = archive
-            .by_index_raw(i)
-            .map_err(|e| format!("not a readable workbook: {e}"))?;
-        total = total.saturating_add(entry.size());
+        let (name, declared) = {
+            let entry = archive
+                .by_index_raw(i)
+                .map_err(|e| format!("not a readable workbook: {e}"))?;
+            let name = entry.name().map(|n| n.to_string()).unwrap_or_default();
+            (name, entry.size())
+        };
+        let limit = if is_sheet_part(&name) {
+            MAX_SHEET_BYTES
+        } else {
+            MAX_PART_BYTES
+        };
+        let size = if is_sheet_part(&name) || declared > limit {
+            declared
+        } else {
+            inflated_size(&mut archive, i, limit)?
+        };
+        if size > limit {
+            return Err(format!(
+                "refused: its part {name} would expand to more than {} MiB, more than a class file holds (a damaged file or a zip bomb)",
+                limit >> 20
+            ));
+        }
+        total = total.saturating_add(size);
     }
     if total > MAX_EXPANDED_BYTES {
         return Err(format!(
@@ -129,9 +182,16 @@ fn collect_cells<E: std::fmt::Display>(
     mut next: impl FnMut() -> Result<Option<((u32, u32), Cell)>, E>,
 ) -> Result<RawSheet, String> {
     let mut rows = RowBuilder::default();
+    let mut cells = 0usize;
     while let Some((pos, cell)) = next().map_err(describe)? {
         let (r, c) = bounded(pos)?;
         rows.push(r, c, cell);
+        cells += 1;
+        if cells > MAX_CELLS {
+            return Err(format!(
+                "refused: the sheet holds more than {MAX_CELLS} cells, more than a class file holds"
+            ));
+        }
     }
     Ok(RawSheet {
         name: Some(name.to_string()),

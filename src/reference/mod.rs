@@ -138,7 +138,7 @@ impl Library {
 
     /// Adds the compounds of a user file, replacing built-in ones of the same name.
     pub fn extend_from_file(&mut self, path: &Path) -> Result<(), ConfigError> {
-        let text = std::fs::read_to_string(path).map_err(|e| {
+        let text = crate::files::read_to_string(path).map_err(|e| {
             ConfigError::Invalid(format!("cannot read compound file {}: {e}", path.display()))
         })?;
         for c in parse(&text, &path.display().to_string())? {

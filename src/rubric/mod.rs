@@ -155,7 +155,7 @@ impl Rubric {
     }
 
     pub fn load(path: &Path) -> Result<Rubric, ConfigError> {
-        let text = std::fs::read_to_string(path).map_err(|e| {
+        let text = crate::files::read_to_string(path).map_err(|e| {
             ConfigError::Invalid(format!("cannot read rubric {}: {e}", path.display()))
         })?;
         Rubric::parse(&text, &path.display().to_string())

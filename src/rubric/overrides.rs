@@ -215,7 +215,7 @@ impl Overrides {
     /// Reads an overrides file; `criteria` are the rubric's criterion ids.
     pub fn load(path: &Path, criteria: &[String]) -> Result<Overrides, ConfigError> {
         let source = path.display().to_string();
-        let bytes = std::fs::read(path)
+        let bytes = crate::files::read(path)
             .map_err(|e| ConfigError::Invalid(format!("cannot read overrides {source}: {e}")))?;
         let (text, _) = delimited::decode(&bytes);
         let err =

@@ -99,6 +99,18 @@ const CORPUS: &[Expect] = &[
         rows: 0,
         message: "zip bomb",
     },
+    Expect {
+        file: "shared-strings-bomb.xlsx",
+        code: 1,
+        rows: 0,
+        message: "xl/sharedStrings.xml would expand",
+    },
+    Expect {
+        file: "shared-strings-bomb-understated.xlsx",
+        code: 1,
+        rows: 0,
+        message: "larger than its declared",
+    },
 ];
 
 /// Copies a corpus file into the fixture, grades it beside good.csv and checks what every file

@@ -80,6 +80,38 @@ pub fn run_capped(dir: &Path, args: &[&str], mib: u64) -> Run {
     )
 }
 
+/// Runs the binary, killing it if it takes longer than `secs`: a hang fails the test instead
+/// of stalling the suite. `None` when it had to be killed.
+pub fn run_within(dir: &Path, args: &[&str], secs: u64) -> Option<Run> {
+    let mut child = Command::new(env!("CARGO_BIN_EXE_benchgrade"))
+        .args(args)
+        .current_dir(dir)
+        .env("NO_COLOR", "1")
+        .env_remove("BENCHGRADE_PSEUDONYM_KEY")
+        .env_remove("SOURCE_DATE_EPOCH")
+        .stdout(std::process::Stdio::piped())
+        .stderr(std::process::Stdio::piped())
+        .spawn()
+        .expect("the binary runs");
+    let deadline = std::time::Instant::now() + std::time::Duration::from_secs(secs);
+    loop {
+        if child.try_wait().expect("wait").is_some() {
+            let out = child.wait_with_output().expect("output");
+            return Some(Run {
+                code: out.status.code().unwrap_or(-1),
+                stdout: String::from_utf8_lossy(&out.stdout).into_owned(),
+                stderr: String::from_utf8_lossy(&out.stderr).into_owned(),
+            });
+        }
+        if std::time::Instant::now() > deadline {
+            let _ = child.kill();
+            let _ = child.wait();
+            return None;
+        }
+        std::thread::sleep(std::time::Duration::from_millis(20));
+    }
+}
+
 fn finish(cmd: &mut Command, dir: &Path) -> Run {
     let out = cmd
         .current_dir(dir)

@@ -2,7 +2,7 @@
 //! half-replaces its outputs: each case of the adversarial pass, as a test named for what it
 //! proves.
 
-use crate::harness::{read_results, Fixture};
+use crate::harness::{self, project_root, read_results, Fixture};
 
 /// A section of `n` students who all did exactly the same (and so earn the same score).
 fn identical_section(section: &str, n: usize) -> String {
@@ -42,4 +42,108 @@ fn zero_variance_comparisons_are_rows_with_a_reason_not_a_crash() {
         "the report says it in words"
     );
     assert!(f.path("out/cohort-report.xlsx").exists());
+}
+
+#[test]
+fn a_shared_strings_bomb_is_refused_within_a_gigabyte() {
+    // tests/data/bad: 1.5 MB whose shared strings inflate to 1.5 GiB (it took 15 GB of memory
+    // before parts read whole were bounded); under a 1 GiB address-space cap the run must end
+    // with the file named and the good file graded
+    let f = Fixture::new();
+    f.write(
+        "good.csv",
+        "ID,Crude mass (g),Recovered mass (g),MP\ng1,3.0,2.1,121-122\n",
+    );
+    for bomb in [
+        "shared-strings-bomb.xlsx",
+        "shared-strings-bomb-understated.xlsx",
+    ] {
+        let path = project_root().join("tests/data/bad").join(bomb);
+        let args = ["grade", path.to_str().unwrap(), "good.csv", "--out", "out"];
+        let run = harness::run_capped(f.dir.path(), &args, 1024);
+        assert_eq!(run.code, 1, "{bomb}: {}", run.stderr);
+        assert!(run.stderr.contains(bomb), "{}", run.stderr);
+        assert_eq!(f.results("out").len(), 1);
+    }
+}
+
+const GOOD: &str = "ID,Crude mass (g),Recovered mass (g),MP\ng1,3.0,2.1,121-122\n";
+
+#[test]
+fn a_folder_linking_to_its_parent_is_walked_once() {
+    let f = Fixture::new();
+    f.write("class/a.csv", GOOD);
+    std::os::unix::fs::symlink(f.path("class"), f.path("class/back")).unwrap();
+    std::os::unix::fs::symlink(f.dir.path(), f.path("class/up")).unwrap();
+    let run = harness::run_within(f.dir.path(), &["grade", "class", "--out", "out"], 60)
+        .expect("a link loop must not make the walk endless");
+    assert_eq!(run.code, 0, "{}", run.stderr);
+    assert_eq!(f.results("out").len(), 1, "each file once");
+    assert_eq!(
+        run.stderr.matches("loop").count(),
+        1,
+        "reported once: {}",
+        run.stderr
+    );
+    assert!(
+        run.stderr.contains("outside the folder given"),
+        "{}",
+        run.stderr
+    );
+}
+
+#[test]
+fn the_same_file_named_twice_is_read_once() {
+    let f = Fixture::new();
+    f.write(
+        "a.csv",
+        "ID,Crude mass (g),Recovered mass (g),MP\ng1,3.0,2.1,121-122\ng2,3.0,2.2,121-122\n",
+    );
+    std::fs::create_dir(f.path("x")).unwrap();
+    let run = f.run(&["grade", "a.csv", "./x/../a.csv", "--out", "out"]);
+    assert_eq!(run.code, 0, "{}", run.stderr);
+    let rows = f.results("out");
+    assert_eq!(rows.len(), 2);
+    assert!(rows
+        .iter()
+        .all(|r| !r["flags"].contains("duplicate-student")));
+    assert!(run.stderr.contains("read once"), "{}", run.stderr);
+}
+
+#[test]
+fn a_pipe_or_a_device_named_like_a_spreadsheet_is_named_not_read() {
+    let f = Fixture::new();
+    f.write("good.csv", GOOD);
+    let fifo = f.path("pipe.csv");
+    let made = std::process::Command::new("mkfifo").arg(&fifo).status();
+    assert!(made.is_ok_and(|s| s.success()), "mkfifo");
+    std::os::unix::fs::symlink("/dev/zero", f.path("zero.xlsx")).unwrap();
+    for args in [
+        vec!["grade", ".", "--out", "out"],
+        vec!["grade", "pipe.csv", "zero.xlsx", "good.csv", "--out", "out"],
+        vec![
+            "grade",
+            "good.csv",
+            "--calibration",
+            "pipe.csv",
+            "--out",
+            "out",
+        ],
+        vec![
+            "grade",
+            "good.csv",
+            "--overrides",
+            "pipe.csv",
+            "--out",
+            "out",
+        ],
+    ] {
+        let run = harness::run_within(f.dir.path(), &args, 60).expect("no hang on a pipe");
+        assert!(run.code == 1 || run.code == 2, "{args:?}: {}", run.stderr);
+        assert!(
+            run.stderr.contains("not a regular file"),
+            "{args:?}: {}",
+            run.stderr
+        );
+    }
 }

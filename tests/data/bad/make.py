@@ -119,6 +119,8 @@ def main():
     corners = [(0, [(0, "Student ID")]), (1048575, [(16383, "far corner")])]
     write("opposite-corners.xlsx", workbook([("Corners", sheet_xml(corners))]))
     write_bomb("zip-bomb.xlsx", 3 << 30)
+    write_strings_bomb("shared-strings-bomb.xlsx", 3 << 29, understate=False)
+    write_strings_bomb("shared-strings-bomb-understated.xlsx", 3 << 29, understate=True)
     write_encrypted("password-protected.xlsx", good)
 
 
@@ -135,6 +137,38 @@ def write_bomb(name, size):
             while left > 0:
                 f.write(chunk[: min(left, len(chunk))])
                 left -= len(chunk)
+
+
+def write_strings_bomb(name, size, understate):
+    """A small workbook whose shared-strings part inflates to `size` bytes, one string of
+    that length; with `understate`, the zip's headers claim 1,000 bytes instead."""
+    path = os.path.join(HERE, name)
+    sheet = ('<?xml version="1.0"?><worksheet xmlns="http://schemas.openxmlformats.org/spreadsheetml/2006/main">'
+             '<sheetData><row r="1"><c r="A1" t="s"><v>0</v></c></row></sheetData></worksheet>')
+    with zipfile.ZipFile(path, "w", zipfile.ZIP_DEFLATED, compresslevel=9) as z:
+        write_parts(z, [("Strings", sheet)])
+        with z.open("xl/sharedStrings.xml", "w") as f:
+            head = b'<?xml version="1.0"?><sst xmlns="http://schemas.openxmlformats.org/spreadsheetml/2006/main" count="1" uniqueCount="1"><si><t>'
+            tail = b"</t></si></sst>"
+            f.write(head)
+            chunk = b"a" * (1 << 24)
+            left = size - len(head) - len(tail)
+            while left > 0:
+                f.write(chunk[: min(left, len(chunk))])
+                left -= len(chunk)
+            f.write(tail)
+    if understate:
+        data = bytearray(open(path, "rb").read())
+        target = b"xl/sharedStrings.xml"
+        # local file header: uncompressed size at offset 22; central directory header: at 24
+        for sig, at in ((b"PK\x03\x04", 22), (b"PK\x01\x02", 24)):
+            i = 0
+            while (i := data.find(sig, i)) >= 0:
+                name_at = i + (30 if at == 22 else 46)
+                if data[name_at:name_at + len(target)] == target:
+                    data[i + at:i + at + 4] = (1000).to_bytes(4, "little")
+                i += 4
+        open(path, "wb").write(bytes(data))
 
 
 def write_encrypted(name, plain):
