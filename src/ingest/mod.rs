@@ -107,24 +107,7 @@ pub fn read_file(path: &Path, emit: &mut dyn FnMut(Event)) {
     } else if len == 0 {
         emit(fatal("the file is empty".into()));
     } else if let Some(format) = Format::from_extension(&ext) {
-        let mut on_sheet = |s: workbook::SheetRead| match s.result {
-            Ok(sheet) => emit(Event::Sheet(SheetData {
-                source: source.clone(),
-                default_section: s.name.clone(),
-                sheet,
-                decimal: Decimal::Point,
-                encoding: None,
-            })),
-            Err(message) => emit(Event::Problem(Problem {
-                file: source.clone(),
-                sheet: Some(s.name),
-                message,
-                fatal: true,
-            })),
-        };
-        if let Err(message) = workbook::read_workbook(path, format, &mut on_sheet) {
-            emit(fatal(message));
-        }
+        read_workbook_file(path, format, &source, emit);
     } else if ext == "csv" || ext == "tsv" {
         match crate::files::read(path)
             .map_err(|e| format!("cannot read: {e}"))
@@ -146,6 +129,33 @@ pub fn read_file(path: &Path, emit: &mut dyn FnMut(Event)) {
         )));
     }
     emit(Event::FileDone(source));
+}
+
+/// Each sheet of a workbook, or its problem, as an event.
+fn read_workbook_file(path: &Path, format: Format, source: &str, emit: &mut dyn FnMut(Event)) {
+    let mut on_sheet = |s: workbook::SheetRead| match s.result {
+        Ok(sheet) => emit(Event::Sheet(SheetData {
+            source: source.to_string(),
+            default_section: s.name.clone(),
+            sheet,
+            decimal: Decimal::Point,
+            encoding: None,
+        })),
+        Err(message) => emit(Event::Problem(Problem {
+            file: source.to_string(),
+            sheet: Some(s.name),
+            message,
+            fatal: true,
+        })),
+    };
+    if let Err(message) = workbook::read_workbook(path, format, &mut on_sheet) {
+        emit(Event::Problem(Problem {
+            file: source.to_string(),
+            sheet: None,
+            message,
+            fatal: true,
+        }));
+    }
 }
 
 /// Receives what readers produce, in order: tabulates sheets into submissions, keeps the sheet
