@@ -107,36 +107,83 @@ fn fill_index(s: Option<Severity>) -> usize {
     }
 }
 
-/// A sheet name Excel accepts: at most 31 characters, none of []:*?/\, unique in the workbook.
+/// Sheet names benchgrade keeps for its own sheets, and the one Excel keeps for itself.
+pub const RESERVED_SHEETS: [&str; 3] = ["History", "Statistics", "Provenance"];
+
+/// Excel's most characters in a cell.
+pub const MAX_CELL_CHARS: usize = 32_767;
+
+/// Excel's most columns in a sheet.
+const MAX_COLUMNS: usize = 16_384;
+
+/// Sheet names compare without regard to case, any alphabet's ("ÉCOLE" is "école").
+fn same_sheet_name(a: &str, b: &str) -> bool {
+    a.to_lowercase() == b.to_lowercase()
+}
+
+/// The longest start of `s` within `max` UTF-16 units (Excel counts sheet names in them).
+fn cut_utf16(s: &str, max: usize) -> &str {
+    let mut units = 0;
+    for (i, c) in s.char_indices() {
+        units += c.len_utf16();
+        if units > max {
+            return &s[..i];
+        }
+    }
+    s
+}
+
+/// A sheet name Excel accepts: at most 31 characters, none of []:*?/\, not starting or ending
+/// with an apostrophe, not one of `RESERVED_SHEETS`, unique in the workbook in any case.
 pub fn sheet_name(wanted: &str, taken: &[String]) -> String {
     let clean: String = wanted
         .chars()
-        .map(|c| if "[]:*?/\\".contains(c) { '_' } else { c })
+        .map(|c| {
+            if "[]:*?/\\".contains(c) || c.is_control() {
+                '_'
+            } else {
+                c
+            }
+        })
         .collect();
-    let clean = clean.trim_matches('\'').trim();
-    let base: String = if clean.is_empty() {
-        "Section".into()
-    } else {
-        clean.chars().take(31).collect()
-    };
+    let tidy = |s: &str| s.trim().trim_matches('\'').trim().to_string();
+    let mut base = tidy(cut_utf16(&tidy(&clean), 31));
+    if base.is_empty() {
+        base = "Section".into();
+    }
     let free = |n: &str| {
-        !taken.iter().any(|t| t.eq_ignore_ascii_case(n)) && !n.eq_ignore_ascii_case("history")
+        !taken.iter().any(|t| same_sheet_name(t, n))
+            && !RESERVED_SHEETS.iter().any(|r| same_sheet_name(r, n))
     };
     if free(&base) {
         return base;
     }
     // at most `taken.len()` names are taken, so one of these is free
-    (2..=taken.len() + 2)
+    (2..=taken.len() + 4)
         .map(|i| {
             let suffix = format!(" ({i})");
-            let head: String = base.chars().take(31 - suffix.len()).collect();
-            format!("{head}{suffix}")
+            format!("{}{suffix}", tidy(cut_utf16(&base, 31 - suffix.len())))
         })
         .find(|n| free(n))
         .unwrap_or(base)
 }
 
-/// A file name that stays inside the output folder: letters, digits, `-`, `_` and `.` only.
+/// Text as a cell can hold it: beyond Excel's 32,767 characters, cut with a mark saying so.
+pub fn fit_cell(text: &str) -> std::borrow::Cow<'_, str> {
+    const MARK: &str = " [cut: more than a cell holds]";
+    if text.len() <= MAX_CELL_CHARS || text.chars().count() <= MAX_CELL_CHARS {
+        return text.into();
+    }
+    let keep: String = text.chars().take(MAX_CELL_CHARS - MARK.len()).collect();
+    (keep + MARK).into()
+}
+
+/// Most bytes of a graded workbook's file stem: with "-graded.xlsx" and a temporary file's
+/// ".NAME.PID.partial" it stays well within the 255 bytes a file name may have.
+const MAX_STEM_BYTES: usize = 150;
+
+/// A file name that stays inside the output folder: letters, digits, `-`, `_` and `.` only,
+/// cut to `MAX_STEM_BYTES` bytes at a character boundary.
 pub fn file_stem(wanted: &str) -> String {
     let s: String = wanted
         .chars()
@@ -149,10 +196,17 @@ pub fn file_stem(wanted: &str) -> String {
         })
         .collect();
     let s = s.trim_start_matches('.');
-    if s.is_empty() {
+    let mut end = 0;
+    for (i, c) in s.char_indices() {
+        if i + c.len_utf8() > MAX_STEM_BYTES {
+            break;
+        }
+        end = i + c.len_utf8();
+    }
+    if end == 0 {
         "graded".into()
     } else {
-        s.chars().take(100).collect()
+        s[..end].to_string()
     }
 }
 
@@ -171,6 +225,8 @@ pub(super) struct Book {
     by_key: HashMap<(Option<String>, String), usize>,
     pub(super) names: Vec<String>,
     pub(super) sections: Vec<String>,
+    /// What the provenance sheet should say of this workbook's sheets.
+    pub(super) notes: Vec<String>,
 }
 
 /// The zip (deflate) level of graded workbooks. A workbook is compressed as it is saved, after
@@ -216,7 +272,7 @@ fn write_cell(ws: &mut Worksheet, row: u32, col: u16, cell: &Cell) -> Result<(),
         }
         Cell::Number(_) => {}
         Cell::Text(t) | Cell::Error(t) | Cell::Date(t) => {
-            ws.write_string(row, col, t)?;
+            ws.write_string(row, col, fit_cell(t))?;
         }
         Cell::Bool(b) => {
             ws.write_boolean(row, col, *b)?;
@@ -258,9 +314,20 @@ impl GradedWorkbooks {
                 by_key: HashMap::new(),
                 names: Vec::new(),
                 sections: Vec::new(),
+                notes: Vec::new(),
             });
         }
         Ok(i)
+    }
+
+    /// How many of a sheet's original columns fit beside the ones benchgrade adds.
+    fn originals(&self, g: &Graded) -> usize {
+        let added = computed_count() + self.criteria.len() + 5;
+        g.assessed
+            .submission
+            .original
+            .len()
+            .min(MAX_COLUMNS - added)
     }
 
     fn header(&self, g: &Graded) -> Vec<String> {
@@ -268,7 +335,7 @@ impl GradedWorkbooks {
         let mut h: Vec<String> = s
             .original_headers
             .as_deref()
-            .map(<[std::string::String]>::to_vec)
+            .map(|h| h[..h.len().min(self.originals(g))].to_vec())
             .unwrap_or_default();
         h.extend(computed().map(Column::header));
         h.extend(self.criteria.iter().cloned());
@@ -302,33 +369,32 @@ impl GradedWorkbooks {
         key: (Option<String>, String),
     ) -> Result<usize, WriteError> {
         let header = self.header(g);
+        let originals = self.originals(g);
         let s = &g.assessed.submission;
         let book = &mut self.books[bi];
         let path = book.path.clone();
         let e = |err| xerr(&path, err);
         let name = sheet_name(&s.section, &book.names);
+        if name != s.section {
+            book.notes.push(format!(
+                "Sheet \"{name}\" holds section \"{}\".",
+                fit_cell(&s.section)
+            ));
+        }
+        if originals < s.original.len() {
+            book.notes.push(format!(
+                "Sheet \"{name}\": only the first {originals} of the section's {} columns fit in a sheet beside benchgrade's own; results.csv holds every value read.",
+                s.original.len()
+            ));
+        }
         let ws = book
             .workbook
             .add_worksheet_with_constant_memory()
             .map_err(e)?;
         ws.set_name(&name).map_err(e)?;
-        for (c, h) in header.iter().enumerate() {
-            ws.write_string_with_format(0, c as u16, h, &self.formats.header)
-                .map_err(e)?;
-            let least = if c < s.original.len() { 14 } else { 8 };
-            let width = (h.chars().count().clamp(least, 30) + 2) as f64;
-            ws.set_column_width(c as u16, width).map_err(e)?;
-        }
-        ws.set_column_width(header.len() as u16 - 2, 30)
-            .map_err(e)?;
-        ws.set_column_width(header.len() as u16 - 1, 80)
-            .map_err(e)?;
-        ws.set_freeze_panes(1, 0).map_err(e)?;
-        // printed: landscape, the header repeated on every page
-        ws.set_landscape();
-        ws.set_repeat_rows(0, 0).map_err(e)?;
+        write_header(ws, &header, originals, &self.formats).map_err(e)?;
         // number formats by column, so that unflagged cells need no format of their own
-        let base = s.original.len() as u16;
+        let base = originals as u16;
         for (i, c) in computed().enumerate() {
             ws.set_column_format(base + i as u16, self.formats.number(c, None))
                 .map_err(e)?;
@@ -345,7 +411,7 @@ impl GradedWorkbooks {
             index,
             name,
             next_row: 1,
-            originals: s.original.len(),
+            originals,
             notes: 0,
         });
         book.by_key.insert(key, book.sheets.len() - 1);
@@ -387,6 +453,7 @@ impl GradedWorkbooks {
             super::workbook_summary::provenance_sheet(
                 &mut book.workbook,
                 provenance,
+                &book.notes,
                 &self.formats,
             )
             .map_err(e)?;
@@ -401,6 +468,29 @@ impl GradedWorkbooks {
         }
         Ok(written)
     }
+}
+
+/// The header row: bold, wrapped, columns sized to their headers; frozen, and repeated on
+/// every printed page.
+fn write_header(
+    ws: &mut Worksheet,
+    header: &[String],
+    originals: usize,
+    f: &Formats,
+) -> Result<(), XlsxError> {
+    for (c, h) in header.iter().enumerate() {
+        ws.write_string_with_format(0, c as u16, fit_cell(h), &f.header)?;
+        let least = if c < originals { 14 } else { 8 };
+        let width = (h.chars().count().clamp(least, 30) + 2) as f64;
+        ws.set_column_width(c as u16, width)?;
+    }
+    ws.set_column_width(header.len() as u16 - 2, 30)?;
+    ws.set_column_width(header.len() as u16 - 1, 80)?;
+    ws.set_freeze_panes(1, 0)?;
+    // printed: landscape, the header repeated on every page
+    ws.set_landscape();
+    ws.set_repeat_rows(0, 0)?;
+    Ok(())
 }
 
 fn write_graded_row(
@@ -488,16 +578,18 @@ fn write_flags(
             format!("{mark} {}", fl.code())
         })
         .collect();
-    ws.write_string_with_format(r, col, marked.join("; "), &f.text[fill_index(Some(worst))])?;
+    let fill = &f.text[fill_index(Some(worst))];
+    ws.write_string_with_format(r, col, fit_cell(&marked.join("; ")), fill)?;
     let text: Vec<String> = a
         .flags
         .iter()
         .map(|(fl, n)| format!("{}: {n}", fl.code()))
         .collect();
-    ws.write_string(r, col + 1, text.join("; "))?;
+    ws.write_string(r, col + 1, fit_cell(&text.join("; ")))?;
     if sheet.notes < NOTES_PER_SHEET {
         sheet.notes += 1;
-        ws.insert_note(r, col, &Note::new(text.join("\n")).set_author("benchgrade"))?;
+        let note = Note::new(fit_cell(&text.join("\n"))).set_author("benchgrade");
+        ws.insert_note(r, col, &note)?;
     }
     Ok(())
 }

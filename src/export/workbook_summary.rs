@@ -5,7 +5,7 @@
 use rust_xlsxwriter::{Chart, ChartType, Format, Workbook, Worksheet, XlsxError};
 
 use super::provenance::Provenance;
-use super::workbook::{computed_position, sheet_name, write_opt, Book, Formats};
+use super::workbook::{computed_position, fit_cell, write_opt, Book, Formats};
 use crate::model::{columns, Measure};
 use crate::stats::sections::SectionStats;
 use crate::stats::{histogram, QUANTILE_DEFINITION};
@@ -22,7 +22,8 @@ pub(super) fn statistics_sheet(
         .collect();
     let sections = book.sections.clone();
     let ws = book.workbook.add_worksheet();
-    let name = sheet_name("Statistics", &book.names);
+    // reserved: no section sheet can be named so
+    let name = "Statistics".to_string();
     ws.set_name(&name)?;
     ws.set_column_width(0, 16)?;
     ws.set_column_width(1, 18)?;
@@ -35,7 +36,7 @@ pub(super) fn statistics_sheet(
     for section in &sections {
         if let Some(g) = stats.groups.get(section) {
             for (code, n) in &g.flags {
-                ws.write_string(r, 0, section)?;
+                ws.write_string(r, 0, fit_cell(section))?;
                 ws.write_string(r, 1, *code)?;
                 ws.write_number(r, 2, *n as f64)?;
                 r += 1;
@@ -47,11 +48,11 @@ pub(super) fn statistics_sheet(
     r += 1;
     for section in &sections {
         if let Some(g) = stats.groups.get(section) {
-            ws.write_string(r, 0, section)?;
+            ws.write_string(r, 0, fit_cell(section))?;
             ws.write_number(r, 2, g.excluded.len() as f64)?;
             r += 1;
             for e in &g.excluded {
-                ws.write_string(r, 1, e)?;
+                ws.write_string(r, 1, fit_cell(e))?;
                 r += 1;
             }
         }
@@ -72,7 +73,7 @@ pub(crate) fn summary_table(
     }
     let mut r = 1;
     for (section, measure, summary) in stats.summaries().into_iter().filter(|(s, _, _)| keep(s)) {
-        ws.write_string(r, 0, section)?;
+        ws.write_string(r, 0, fit_cell(section))?;
         ws.write_string(r, 1, measure.key())?;
         ws.write_number(r, 2, summary.as_ref().map_or(0.0, |s| s.n as f64))?;
         for (i, v) in summary
@@ -183,6 +184,7 @@ fn scatter(data: &[(String, u32, usize)]) -> Chart {
 pub(super) fn provenance_sheet(
     wb: &mut Workbook,
     p: &Provenance,
+    book_notes: &[String],
     f: &Formats,
 ) -> Result<(), XlsxError> {
     let ws = wb.add_worksheet();
@@ -206,13 +208,13 @@ pub(super) fn provenance_sheet(
     ws.write_string_with_format(r, 2, "SHA-256", &f.bold)?;
     r += 1;
     for (file, sha) in &p.inputs {
-        ws.write_string(r, 1, file)?;
+        ws.write_string(r, 1, fit_cell(file))?;
         ws.write_string(r, 2, sha)?;
         r += 1;
     }
     r += 1;
-    for note in &p.notes {
-        ws.write_string(r, 0, note)?;
+    for note in p.notes.iter().chain(book_notes) {
+        ws.write_string(r, 0, fit_cell(note))?;
         r += 1;
     }
     Ok(())
@@ -228,13 +230,13 @@ fn histogram_series(
     section: &str,
     values: &[f64],
 ) -> Result<(), XlsxError> {
-    ws.write_string(r, col, section)?;
+    ws.write_string(r, col, fit_cell(section))?;
     for (i, (_, _, n)) in histogram(values, 0.0, 10.0, 11).iter().enumerate() {
         ws.write_number(r + 1 + i as u32, col, *n as f64)?;
     }
     chart
         .add_series()
-        .set_name(section)
+        .set_name(fit_cell(section).as_ref())
         .set_categories((sheet, r + 1, labels, r + 11, labels))
         .set_values((sheet, r + 1, col, r + 11, col));
     Ok(())

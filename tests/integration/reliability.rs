@@ -147,3 +147,74 @@ fn a_pipe_or_a_device_named_like_a_spreadsheet_is_named_not_read() {
         );
     }
 }
+
+#[test]
+fn awkward_sections_long_cells_wide_sheets_and_long_names_still_get_their_workbooks() {
+    use calamine::Reader;
+    let f = Fixture::new();
+    let long_cell = "x".repeat(40_000);
+    let sections = [
+        "Provenance",
+        "Statistics",
+        "A very long section name that is cut here 1",
+        "A very long section name that is cut here 2",
+        "ÉCOLE",
+        "école",
+        "Cut just after an apostrophe '-tail",
+        "=1+1",
+        "History",
+    ];
+    let mut csv = String::from("ID,Section,Notes,Crude mass (g),Recovered mass (g),MP range\n");
+    for (i, s) in sections.iter().enumerate() {
+        let note = if i == 0 { long_cell.as_str() } else { "fine" };
+        csv += &format!("s{i},\"{s}\",{note},3.0,2.1,121-122\nt{i},\"{s}\",ok,3.0,2.2,121-122\n");
+    }
+    f.write("tricky.csv", &csv);
+    let stem = "学".repeat(80); // 240 bytes: a legal name, but not with "-graded.xlsx" after it
+    f.write(&format!("{stem}.csv"), GOOD);
+    let mut wide = String::from("ID,Crude mass (g),Recovered mass (g),MP range");
+    (0..17_000).for_each(|i| wide += &format!(",c{i}"));
+    wide += "\nw1,3,2,121-122";
+    (0..17_000).for_each(|_| wide += ",v");
+    f.write("wide.csv", wide + "\n");
+    let run = f.run(&["grade", ".", "--out", "out"]);
+    assert_eq!(run.code, 0, "{}", run.stderr);
+    let books: Vec<_> = std::fs::read_dir(f.path("out"))
+        .unwrap()
+        .map(|e| e.unwrap().path())
+        .filter(|p| {
+            p.extension().is_some_and(|e| e == "xlsx") && !p.ends_with("cohort-report.xlsx")
+        })
+        .collect();
+    assert_eq!(books.len(), 3, "{books:?}");
+    let mut tricky: calamine::Xlsx<_> =
+        calamine::open_workbook(f.path("out/tricky-graded.xlsx")).unwrap();
+    let names = tricky.sheet_names();
+    assert_eq!(names.len(), sections.len() + 2, "{names:?}");
+    let lower: std::collections::BTreeSet<String> =
+        names.iter().map(|n| n.to_lowercase()).collect();
+    assert_eq!(lower.len(), names.len(), "distinct in any case: {names:?}");
+    assert!(names
+        .iter()
+        .all(|n| n.encode_utf16().count() <= 31 && !n.ends_with('\'')));
+    let provenance = tricky.worksheet_range("Provenance").unwrap();
+    let said: String = provenance
+        .cells()
+        .map(|(_, _, c)| c.to_string())
+        .collect::<Vec<_>>()
+        .join("\n");
+    assert!(said.contains("holds section \"Statistics\""), "{said}");
+    let first = tricky.worksheet_range(&names[0]).unwrap();
+    assert!(first
+        .cells()
+        .any(|(_, _, c)| c.to_string().ends_with("[cut: more than a cell holds]")));
+    if let Some(soffice) = harness::soffice() {
+        let pdf = harness::convert(
+            soffice,
+            f.dir.path(),
+            &f.path("out/tricky-graded.xlsx"),
+            "pdf",
+        );
+        assert!(std::fs::read(pdf).unwrap().starts_with(b"%PDF"));
+    }
+}
