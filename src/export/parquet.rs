@@ -184,6 +184,16 @@ impl ParquetRows {
                     buffer.push(Value::Text(Some(&pseudonym)), sep);
                 }
                 (Some(Personal::Name), Some(_), _) => buffer.push(Value::Text(None), sep),
+                (Some(Personal::Quotes), Some(_), v) => {
+                    let mut text = String::new();
+                    match v {
+                        Value::Text(t) => text.push_str(t.unwrap_or("")),
+                        Value::Items(items) => items.push_joined(sep, &mut text),
+                        _ => {}
+                    }
+                    let told = crate::model::without_cell_text(&text, a);
+                    buffer.push(Value::Text(Some(&told)), sep);
+                }
                 (_, _, v) => buffer.push(v, sep),
             }
         }

@@ -9,7 +9,7 @@ use super::pseudonym::Pseudonymizer;
 use super::{neutralise, push_number};
 use crate::error::WriteError;
 use crate::model::columns::{self, Column, Kind, Outputs, Personal, Value};
-use crate::model::Graded;
+use crate::model::{without_cell_text, Graded};
 use crate::numtext::push_u64;
 
 /// The columns results.csv writes before the points, in order.
@@ -104,6 +104,9 @@ impl ResultsCsv {
         let row = g.row();
         for column in columns() {
             self.fill(column, column.value(row));
+            if self.pseudonyms.is_some() && column.personal == Some(Personal::Quotes) {
+                self.buf = without_cell_text(&self.buf, &g.assessed);
+            }
             match column.kind {
                 Kind::Text | Kind::List { .. } => self.text_field()?,
                 _ => self.csv.write_field(self.buf.as_bytes())?,

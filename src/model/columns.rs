@@ -54,12 +54,13 @@ impl Outputs {
     }
 }
 
-/// Personal data: replaced (an id, by its pseudonym) or left out (a name) in anything that
-/// leaves the course.
+/// Personal data: replaced (an id, by its pseudonym), left out (a name) or told without the
+/// row's own cell text (sentences that may quote it) in anything that leaves the course.
 #[derive(Clone, Copy, Debug, PartialEq, Eq)]
 pub enum Personal {
     Id,
     Name,
+    Quotes,
 }
 
 /// The items of a list column, borrowed from the row.
@@ -251,6 +252,7 @@ registry! {
         get: |r| Value::Text(a(r).submission.bench.as_deref()), }
     /// The library's name for the compound, else the name as written.
     COMPOUND = { name: "compound", label: "Compound", outputs: RESULTS_PARQUET,
+        personal: Some(Personal::Quotes),
         get: |r| Value::Text(a(r).compound.as_deref().or(a(r).submission.compound.as_deref())), }
     CRUDE_MASS_G = { name: "crude_mass_g", label: "Crude", unit: Some("g"), decimals: 3,
         kind: Kind::Number, outputs: EVERYWHERE, shaded_by: MASS_FLAGS,
@@ -293,6 +295,7 @@ registry! {
     FLAGS = { name: "flags", label: "Flags", kind: Kind::List { sep: ";" },
         outputs: RESULTS_PARQUET, get: |r| Value::Items(Items::Codes(&a(r).flags)), }
     FLAG_NOTES = { name: "flag_notes", label: "Reasons", kind: Kind::List { sep: "; " },
+        personal: Some(Personal::Quotes),
         get: |r| Value::Items(Items::Notes(&a(r).flags)), }
     ASSISTANT = { name: "assistant", label: "Teaching assistant",
         get: |r| Value::Text(a(r).submission.assistant.as_deref()), }
@@ -301,6 +304,7 @@ registry! {
     SOLVENT = { name: "solvent", label: "Solvent",
         get: |r| Value::Text(a(r).submission.solvent.as_deref()), }
     NOTES = { name: "notes", label: "Notes", kind: Kind::List { sep: "; " },
+        personal: Some(Personal::Quotes),
         get: |r| Value::Items(Items::Texts(&a(r).submission.notes)), }
     PURITY_MOL_PCT = { name: "purity_mol_pct", label: "Purity", unit: Some("mol %"),
         kind: Kind::Number, outputs: EVERYWHERE,
@@ -333,7 +337,7 @@ registry! {
         get: |r| Value::Text(r.score.and_then(|s| s.letter.as_deref())), }
     POINTS = { name: "points", label: "Points", kind: Kind::Points,
         get: |r| Value::Points(r.score.map_or(&[], |s| s.criteria.as_slice())), }
-    FEEDBACK = { name: "feedback", label: "Feedback",
+    FEEDBACK = { name: "feedback", label: "Feedback", personal: Some(Personal::Quotes),
         get: |r| Value::Text(Some(r.score.map_or("", |s| s.feedback.as_str()))), }
     OVERRIDES = { name: "overrides", label: "Overrides", kind: Kind::List { sep: "; " },
         get: |r| Value::Items(Items::Texts(r.score.map_or(&[], |s| s.overrides.as_slice()))), }

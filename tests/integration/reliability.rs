@@ -218,3 +218,24 @@ fn awkward_sections_long_cells_wide_sheets_and_long_names_still_get_their_workbo
         assert!(std::fs::read(pdf).unwrap().starts_with(b"%PDF"));
     }
 }
+
+#[test]
+fn the_pseudonymized_export_never_quotes_a_cell() {
+    let f = Fixture::new();
+    f.write(
+        "names.csv",
+        "ID,Crude mass (g),Recovered mass (g),MP range,Compound\ns1,Ana Lima,2.1,121-122,benzoic acid\ns2,3.0,2.0,121-122,Bruno Costa\n",
+    );
+    f.write("course.key", "a course secret of some length");
+    let run = f.run(&[
+        "grade", "names.csv", "--out", "out", "--pseudonymize", "--pseudonym-key", "course.key",
+    ]);
+    assert_eq!(run.code, 0, "{}", run.stderr);
+    let plain = std::fs::read_to_string(f.path("out/results.csv")).unwrap();
+    assert!(plain.contains("Ana Lima"), "the course's own results keep the cell text");
+    let out = std::fs::read_to_string(f.path("out/results-pseudonymized.csv")).unwrap();
+    for name in ["Ana Lima", "Bruno Costa"] {
+        assert!(!out.contains(name), "{name} in the pseudonymized export:\n{out}");
+    }
+    assert!(out.contains("text in a number cell"), "{out}");
+}
