@@ -1,8 +1,9 @@
-//! CSV and TSV exports: UTF-8 with or without a byte-order mark, UTF-16 from "Unicode text"
-//! exports, Latin-1 (read as Windows-1252, its superset); comma, semicolon or tab delimited;
+//! CSV and TSV exports: UTF-8 with or without a byte-order mark (and UTF-8 with a few damaged
+//! bytes, which stay UTF-8 and are marked), UTF-16 from "Unicode text" exports with or without
+//! a mark, Latin-1 (read as Windows-1252, its superset); comma, semicolon or tab delimited;
 //! decimal commas where the file uses them.
 
-use encoding_rs::{Encoding, UTF_8, WINDOWS_1252};
+use encoding_rs::{Encoding, UTF_16BE, UTF_16LE, UTF_8, WINDOWS_1252};
 
 use super::cells::{Cell, RawRow, RawSheet};
 use super::values::Decimal;
@@ -13,20 +14,63 @@ pub struct Delimited {
     pub decimal: Decimal,
     pub delimiter: u8,
     pub encoding: &'static str,
+    /// Bytes that were not valid in the file's encoding (UTF-8 read with a few damaged bytes),
+    /// each shown as U+FFFD, and the line of the first.
+    pub damaged: Option<(usize, usize)>,
 }
 
-/// Decodes bytes to text: a byte-order mark decides, else UTF-8 if valid, else Windows-1252.
+/// Valid multi-byte UTF-8 sequences and invalid bytes in `bytes`.
+fn utf8_census(bytes: &[u8]) -> (usize, usize) {
+    let (mut valid, mut invalid) = (0, 0);
+    for chunk in bytes.utf8_chunks() {
+        valid += chunk.valid().chars().filter(|c| !c.is_ascii()).count();
+        invalid += chunk.invalid().len();
+    }
+    (valid, invalid)
+}
+
+/// UTF-16 without a byte-order mark: text whose every other byte is mostly zero.
+fn utf16_without_bom(bytes: &[u8]) -> Option<&'static Encoding> {
+    let sample = &bytes[..bytes.len().min(4096) & !1];
+    if sample.len() < 4 {
+        return None;
+    }
+    let zeros = |offset: usize| sample.iter().skip(offset).step_by(2).filter(|b| **b == 0).count();
+    let (even, odd) = (zeros(0), zeros(1));
+    let half = sample.len() / 2;
+    if odd * 10 >= half * 7 && even * 10 < half {
+        Some(UTF_16LE)
+    } else if even * 10 >= half * 7 && odd * 10 < half {
+        Some(UTF_16BE)
+    } else {
+        None
+    }
+}
+
+/// Decodes bytes to text: a byte-order mark decides; else UTF-16 if it looks so; else UTF-8
+/// if valid, or nearly so (a few damaged bytes among real UTF-8 letters are shown as U+FFFD,
+/// not taken for Windows-1252, which would garble every "ë"); else Windows-1252.
 pub fn decode(bytes: &[u8]) -> (String, &'static str) {
     if let Some((enc, bom_len)) = Encoding::for_bom(bytes) {
         let (text, _) = enc.decode_without_bom_handling(&bytes[bom_len..]);
         return (text.into_owned(), enc.name());
     }
-    if let Ok(s) = std::str::from_utf8(bytes) {
-        (s.to_string(), UTF_8.name())
-    } else {
-        let (text, _) = WINDOWS_1252.decode_without_bom_handling(bytes);
-        (text.into_owned(), "ISO-8859-1 (read as windows-1252)")
+    if let Some(enc) = utf16_without_bom(bytes) {
+        let (text, _) = enc.decode_without_bom_handling(bytes);
+        return (text.into_owned(), enc.name());
     }
+    if let Ok(s) = std::str::from_utf8(bytes) {
+        return (s.to_string(), UTF_8.name());
+    }
+    let (valid, invalid) = utf8_census(bytes);
+    if valid > 0 && invalid <= (valid / 4).max(1) {
+        return (
+            String::from_utf8_lossy(bytes).into_owned(),
+            "UTF-8, with bytes that are not UTF-8",
+        );
+    }
+    let (text, _) = WINDOWS_1252.decode_without_bom_handling(bytes);
+    (text.into_owned(), "ISO-8859-1 (read as windows-1252)")
 }
 
 /// Counts a candidate delimiter on a line, outside double quotes.
@@ -112,8 +156,12 @@ fn sniff_decimal(rows: &[RawRow], delimiter: u8) -> Decimal {
 pub fn read_delimited(bytes: &[u8], is_tsv: bool) -> Result<Delimited, String> {
     let (text, encoding) = decode(bytes);
     if text.contains('\0') {
-        return Err("the file holds binary data, not delimited text".into());
+        return Err("the file holds binary data, not delimited text (if it is UTF-16 text, save it as UTF-8 CSV)".into());
     }
+    let damaged = text.find('\u{fffd}').map(|at| {
+        let line = text[..at].matches('\n').count() + 1;
+        (text.matches('\u{fffd}').count(), line)
+    });
     let delimiter = sniff_delimiter(&text, is_tsv);
     let mut reader = csv::ReaderBuilder::new()
         .has_headers(false)
@@ -162,6 +210,7 @@ pub fn read_delimited(bytes: &[u8], is_tsv: bool) -> Result<Delimited, String> {
         decimal,
         delimiter,
         encoding,
+        damaged,
     })
 }
 
@@ -184,6 +233,22 @@ mod tests {
         let d = read_delimited(b"ID,Name\ns1,Jos\xE9\n", false).unwrap();
         assert_eq!(d.sheet.rows[1].get(1), &Cell::Text("José".into()));
         assert!(d.encoding.starts_with("ISO-8859-1"));
+    }
+
+    #[test]
+    fn nearly_utf8_stays_utf8_and_utf16_is_found_without_a_mark() {
+        // "Zoë" twice in UTF-8, one stray 0xE9 (a Latin-1 é) in another cell
+        let d = read_delimited(b"ID,Name\ns1,Zo\xC3\xAB\ns2,Ren\xE9\ns3,Zo\xC3\xAB\n", false).unwrap();
+        assert_eq!(d.sheet.rows[1].get(1), &Cell::Text("Zoë".into()));
+        assert_eq!(d.sheet.rows[2].get(1), &Cell::Text("Ren\u{fffd}".into()));
+        assert_eq!(d.damaged, Some((1, 3)));
+        let utf16: Vec<u8> = "ID,Name\ns1,Zoë\n"
+            .encode_utf16()
+            .flat_map(u16::to_le_bytes)
+            .collect();
+        let d = read_delimited(&utf16, false).unwrap();
+        assert_eq!(d.encoding, "UTF-16LE");
+        assert_eq!(d.sheet.rows[1].get(1), &Cell::Text("Zoë".into()));
     }
 
     #[test]

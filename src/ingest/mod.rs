@@ -113,13 +113,23 @@ pub fn read_file(path: &Path, emit: &mut dyn FnMut(Event)) {
             .map_err(|e| format!("cannot read: {e}"))
             .and_then(|b| delimited::read_delimited(&b, ext == "tsv"))
         {
-            Ok(d) => emit(Event::Sheet(SheetData {
-                source: source.clone(),
-                sheet: d.sheet,
-                default_section: file_stem(path),
-                decimal: d.decimal,
-                encoding: Some(d.encoding.to_string()),
-            })),
+            Ok(d) => {
+                if let Some((bytes, line)) = d.damaged {
+                    emit(Event::Problem(Problem {
+                        file: source.clone(),
+                        sheet: None,
+                        message: format!("{bytes} bytes are not valid {} (the first on line {line}); they show as \u{fffd} and the cells holding them are marked", d.encoding.split(',').next().unwrap_or("text")),
+                        fatal: false,
+                    }));
+                }
+                emit(Event::Sheet(SheetData {
+                    source: source.clone(),
+                    sheet: d.sheet,
+                    default_section: file_stem(path),
+                    decimal: d.decimal,
+                    encoding: Some(d.encoding.to_string()),
+                }));
+            }
             Err(message) => emit(fatal(message)),
         }
     } else {

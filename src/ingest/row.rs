@@ -185,7 +185,14 @@ pub fn read_row(row: &RawRow, layout: &Layout, origin: &Origin) -> Submission {
         } else if let Cell::Error(_) = cell {
             Err(found_instead(cell))
         } else {
-            set_text(&mut sub, field, cell.as_text());
+            let text = cell.as_text();
+            if text.as_deref().is_some_and(|t| t.contains('\u{fffd}')) {
+                sub.notes.push(format!(
+                    "{}: holds bytes that are not valid text (shown as \u{fffd})",
+                    at()
+                ));
+            }
+            set_text(&mut sub, field, text);
             Ok(())
         };
         if let Err(found) = read {
