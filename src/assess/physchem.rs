@@ -69,7 +69,10 @@ pub fn purity(
         return none(format!("no enthalpy of fusion known for {}", c.name));
     };
     if clear > t0 {
-        return none(format!("clear point {clear:.1} °C is above the reference {t0:.1} °C: the method does not apply"));
+        let (c, r) = apart(clear, t0);
+        return none(format!(
+            "clear point {c} °C is above the reference {r} °C: the method does not apply"
+        ));
     }
     let x1 = mole_fraction_from_clear_point(clear + KELVIN, t0 + KELVIN, h.value * 1000.0);
     let impurity = 100.0 * (1.0 - x1);
@@ -105,7 +108,19 @@ pub fn solubility_at(points: &[Solubility], t_c: f64) -> Option<f64> {
 
 /// The most that could crystallise, taking the crude as pure: 100 x (crude - S_cold x V) / crude.
 pub fn max_recovery_pct(crude_g: f64, cold_g_per_l: f64, volume_ml: f64) -> f64 {
-    100.0 * (crude_g - cold_g_per_l * volume_ml / 1000.0) / crude_g
+    // more solvent than keeps all of the crude dissolved leaves nothing to crystallise: 0 %
+    (100.0 * (crude_g - cold_g_per_l * volume_ml / 1000.0) / crude_g).max(0.0)
+}
+
+/// Two temperatures to as many decimals (one to four) as tell them apart.
+fn apart(a: f64, b: f64) -> (String, String) {
+    for d in 1..=4 {
+        let (x, y) = (format!("{a:.d$}"), format!("{b:.d$}"));
+        if x != y || d == 4 {
+            return (x, y);
+        }
+    }
+    (a.to_string(), b.to_string())
 }
 
 /// The least boiling solvent that dissolves the crude: crude / S_hot, in mL.
@@ -210,5 +225,20 @@ mod tests {
         assert_abs_diff_eq!(solubility_at(&pts, 10.0).unwrap(), 2.0, epsilon = 1e-12);
         assert_eq!(solubility_at(&pts, 25.0), None);
         assert_eq!(solubility_at(&pts, -5.0), None);
+    }
+
+    #[test]
+    fn the_ceiling_is_never_below_zero_and_notes_tell_close_temperatures_apart() {
+        // urea, about 1080 g/L at 20 °C (handbook, from memory): 1 mL keeps 1.08 g dissolved,
+        // more than 1.0 g of crude: nothing can crystallise, a ceiling of 0 %, not -8 %
+        assert_eq!(max_recovery_pct(1.0, 1080.0, 1.0), 0.0);
+        assert_eq!(
+            apart(122.44, 122.4),
+            ("122.44".to_string(), "122.40".to_string())
+        );
+        assert_eq!(
+            apart(123.0, 122.4),
+            ("123.0".to_string(), "122.4".to_string())
+        );
     }
 }

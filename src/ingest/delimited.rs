@@ -35,7 +35,14 @@ fn utf16_without_bom(bytes: &[u8]) -> Option<&'static Encoding> {
     if sample.len() < 4 {
         return None;
     }
-    let zeros = |offset: usize| sample.iter().skip(offset).step_by(2).filter(|b| **b == 0).count();
+    let zeros = |offset: usize| {
+        sample
+            .iter()
+            .skip(offset)
+            .step_by(2)
+            .filter(|b| **b == 0)
+            .count()
+    };
     let (even, odd) = (zeros(0), zeros(1));
     let half = sample.len() / 2;
     if odd * 10 >= half * 7 && even * 10 < half {
@@ -238,7 +245,11 @@ mod tests {
     #[test]
     fn nearly_utf8_stays_utf8_and_utf16_is_found_without_a_mark() {
         // "Zoë" twice in UTF-8, one stray 0xE9 (a Latin-1 é) in another cell
-        let d = read_delimited(b"ID,Name\ns1,Zo\xC3\xAB\ns2,Ren\xE9\ns3,Zo\xC3\xAB\n", false).unwrap();
+        let d = read_delimited(
+            b"ID,Name\ns1,Zo\xC3\xAB\ns2,Ren\xE9\ns3,Zo\xC3\xAB\n",
+            false,
+        )
+        .unwrap();
         assert_eq!(d.sheet.rows[1].get(1), &Cell::Text("Zoë".into()));
         assert_eq!(d.sheet.rows[2].get(1), &Cell::Text("Ren\u{fffd}".into()));
         assert_eq!(d.damaged, Some((1, 3)));

@@ -84,9 +84,21 @@ fn read_number(cell: &Cell, column: &Column, decimal: Decimal) -> Result<Option<
         },
         other => return Err(found_instead(other)),
     };
-    convert(k, value, unit)
-        .map(Some)
-        .map_err(|u| format!("{} where {} belongs", u.describe(), describe_kind(k)))
+    let v = convert(k, value, unit)
+        .map_err(|u| format!("{} where {} belongs", u.describe(), describe_kind(k)))?;
+    physical(k, v).map(Some)
+}
+
+/// Refuses a value no measurement can give: a temperature below absolute zero, a negative
+/// volume. (A mass of zero or less is read, and flagged `nonpositive-mass`.)
+fn physical(kind: Kind, v: f64) -> Result<f64, String> {
+    match kind {
+        Kind::Temperature if v < -273.15 => {
+            Err(format!("{v} °C, below absolute zero (-273.15 °C)"))
+        }
+        Kind::Volume if v < 0.0 => Err(format!("a negative volume ({v} mL)")),
+        _ => Ok(v),
+    }
 }
 
 /// Reads a melting-range cell into (onset, clear) in °C; `single` when one value was written.
@@ -108,18 +120,16 @@ fn read_range(
     match cell {
         Cell::Empty => Ok(None),
         Cell::Number(v) => {
-            let c = header_scale.to_celsius(*v);
+            let c = physical(Kind::Temperature, header_scale.to_celsius(*v))?;
             Ok(Some((c, c, true)))
         }
         Cell::Text(t) if is_blank_marker(t) => Ok(None),
         Cell::Text(t) => match parse_range(t, decimal) {
             Some(r) => {
                 let scale = r.unit.unwrap_or(header_scale);
-                Ok(Some((
-                    scale.to_celsius(r.onset),
-                    scale.to_celsius(r.clear),
-                    r.single,
-                )))
+                let onset = physical(Kind::Temperature, scale.to_celsius(r.onset))?;
+                let clear = physical(Kind::Temperature, scale.to_celsius(r.clear))?;
+                Ok(Some((onset, clear, r.single)))
             }
             None => Err(found_instead(cell)),
         },
@@ -325,5 +335,30 @@ mod tests {
         assert_eq!(s.unreadable[0].found, "a volume where a mass belongs");
         assert_eq!(s.recovered_mass_g, None);
         assert!(s.unreadable.iter().all(|u| u.field != Field::RecoveredMass));
+    }
+
+    #[test]
+    fn readings_no_measurement_can_give_are_unreadable() {
+        let s = one_row(
+            &[
+                "ID",
+                "Crude mass (g)",
+                "Recovered mass (g)",
+                "MP (K)",
+                "Water (mL)",
+            ],
+            vec![
+                Cell::Text("s1".into()),
+                Cell::Number(3.0),
+                Cell::Number(2.0),
+                Cell::Number(-5.0),
+                Cell::Number(-20.0),
+            ],
+        );
+        let found: Vec<&str> = s.unreadable.iter().map(|u| u.found.as_str()).collect();
+        assert_eq!(s.unreadable.len(), 2, "{found:?}");
+        assert!(found[0].contains("below absolute zero"), "{found:?}");
+        assert!(found[1].contains("negative volume"), "{found:?}");
+        assert_eq!((s.mp_clear_c, s.solvent_volume_ml), (None, None));
     }
 }

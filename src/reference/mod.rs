@@ -248,6 +248,36 @@ mod tests {
     }
 
     #[test]
+    fn every_solubility_follows_from_the_text_it_cites() {
+        // "1 g in N mL" is 1000 / N g/L; within 2 %, the rounding of the value written
+        let mut checked = 0;
+        for c in Library::builtin().unwrap().compounds() {
+            for s in &c.solubility {
+                let Some(rest) = s.source.split("1 g in ").nth(1) else {
+                    continue;
+                };
+                let ml: f64 = rest
+                    .trim_start_matches("about ")
+                    .split_whitespace()
+                    .next()
+                    .and_then(|n| n.parse().ok())
+                    .unwrap_or_else(|| panic!("{}: cannot read {:?}", c.name, s.source));
+                let cited = 1000.0 / ml;
+                assert!(
+                    (s.g_per_l - cited).abs() <= 0.02 * cited,
+                    "{} at {} °C: {} g/L, but \"{}\" is {cited:.3} g/L",
+                    c.name,
+                    s.t_c,
+                    s.g_per_l,
+                    s.source
+                );
+                checked += 1;
+            }
+        }
+        assert!(checked >= 15, "the citations were read ({checked})");
+    }
+
+    #[test]
     fn water_solubility_rises_with_temperature() {
         // common practice: these solids dissolve better in hot water than in cold, which is
         // what recrystallizing them from water relies on

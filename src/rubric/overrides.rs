@@ -291,9 +291,10 @@ impl Overrides {
                     .as_ref()
                     .map(|s| format!(" in section {s}"))
                     .unwrap_or_default();
+                // the id itself is personal data: the line names the override
                 format!(
-                    "{} line {}: no submission for student \"{}\"{section}; check the id",
-                    self.source, o.line, o.student_id
+                    "{} line {}: no submission has this override's student id{section}; check the id",
+                    self.source, o.line
                 )
             })
             .collect()

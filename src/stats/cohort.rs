@@ -14,6 +14,10 @@ use super::mean_and_ss;
 use super::outlier::{self, Centre};
 use crate::model::{bench_key, Flag, Graded, Measure};
 
+/// Most groups whose every pair is tested (40 groups make 780 pairs): thousands of sections
+/// would make millions of rows, more than a worksheet holds.
+pub const MAX_PAIRWISE_GROUPS: usize = 40;
+
 /// Thresholds for a bench finding.
 #[derive(Clone, Copy, Debug)]
 pub struct BiasRule {
@@ -245,9 +249,17 @@ impl Cohort {
                             ..blank.undefined(c.test, String::new())
                         }
                     })),
-                    _ => {
+                    n => {
                         out.extend(omnibus(&blank, &groups));
-                        out.extend(pairwise(&blank, &groups));
+                        if n <= MAX_PAIRWISE_GROUPS {
+                            out.extend(pairwise(&blank, &groups));
+                        } else {
+                            let why = format!(
+                                "pairwise tests left out: {n} {grouping}s make {} pairs, more than a table can show; compare a few at a time",
+                                n * (n - 1) / 2
+                            );
+                            out.push(blank.undefined("Welch t", why));
+                        }
                     }
                 }
             }
@@ -556,5 +568,23 @@ mod tests {
         let mut v = vec!["B1-10", "10", "B1-2", "2", "B10", "B2", "01"];
         v.sort_by(|a, b| natural_cmp(a, b));
         assert_eq!(v, ["01", "2", "10", "B1-2", "B1-10", "B2", "B10"]);
+    }
+
+    #[test]
+    fn thousands_of_sections_do_not_make_millions_of_pairs() {
+        let mut cohort = Cohort::default();
+        for i in 0..2000 {
+            for v in [70.0, 72.0 + f64::from(i % 7)] {
+                let mut g = Graded::default();
+                g.assessed.submission.section = format!("S{i}");
+                g.assessed.recovery_pct = Some(v);
+                cohort.add(&g);
+            }
+        }
+        let rows = cohort.comparisons();
+        assert!(rows.len() < 100, "{} rows", rows.len());
+        assert!(rows
+            .iter()
+            .any(|c| c.test == "Welch t" && c.note.contains("1999000 pairs")));
     }
 }

@@ -228,14 +228,26 @@ fn the_pseudonymized_export_never_quotes_a_cell() {
     );
     f.write("course.key", "a course secret of some length");
     let run = f.run(&[
-        "grade", "names.csv", "--out", "out", "--pseudonymize", "--pseudonym-key", "course.key",
+        "grade",
+        "names.csv",
+        "--out",
+        "out",
+        "--pseudonymize",
+        "--pseudonym-key",
+        "course.key",
     ]);
     assert_eq!(run.code, 0, "{}", run.stderr);
     let plain = std::fs::read_to_string(f.path("out/results.csv")).unwrap();
-    assert!(plain.contains("Ana Lima"), "the course's own results keep the cell text");
+    assert!(
+        plain.contains("Ana Lima"),
+        "the course's own results keep the cell text"
+    );
     let out = std::fs::read_to_string(f.path("out/results-pseudonymized.csv")).unwrap();
     for name in ["Ana Lima", "Bruno Costa"] {
-        assert!(!out.contains(name), "{name} in the pseudonymized export:\n{out}");
+        assert!(
+            !out.contains(name),
+            "{name} in the pseudonymized export:\n{out}"
+        );
     }
     assert!(out.contains("text in a number cell"), "{out}");
 }
@@ -244,13 +256,27 @@ fn the_pseudonymized_export_never_quotes_a_cell() {
 fn a_stray_byte_does_not_garble_a_utf8_file() {
     let f = Fixture::new();
     let mut bytes = b"ID,Name,Crude mass (g),Recovered mass (g),MP\n".to_vec();
-    bytes.extend_from_slice("s1,Zoë Brandt,3.0,2.1,121-122\ns2,Ana Zoë,3.0,2.2,121-122\n".as_bytes());
+    bytes.extend_from_slice(
+        "s1,Zoë Brandt,3.0,2.1,121-122\ns2,Ana Zoë,3.0,2.2,121-122\n".as_bytes(),
+    );
     bytes.extend_from_slice(b"s3,Ren\xE9 Marsh,3.0,2.0,121-122\n");
     f.write("class.csv", bytes);
     let run = f.run(&["grade", "class.csv", "--out", "out"]);
     assert_eq!(run.code, 0, "{}", run.stderr);
     let rows = f.results("out");
-    assert_eq!(rows[0]["student_name"], "Zoë Brandt", "not read as windows-1252");
-    assert!(rows[2]["notes"].contains("C4") || rows[2]["notes"].contains("B4"), "{:?}", rows[2]["notes"]);
-    assert_eq!(run.stderr.matches("not valid UTF-8").count(), 1, "said once: {}", run.stderr);
+    assert_eq!(
+        rows[0]["student_name"], "Zoë Brandt",
+        "not read as windows-1252"
+    );
+    assert!(
+        rows[2]["notes"].contains("C4") || rows[2]["notes"].contains("B4"),
+        "{:?}",
+        rows[2]["notes"]
+    );
+    assert_eq!(
+        run.stderr.matches("not valid UTF-8").count(),
+        1,
+        "said once: {}",
+        run.stderr
+    );
 }
