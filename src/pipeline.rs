@@ -59,8 +59,17 @@ pub enum RunError {
     Internal(String),
 }
 
-/// How long a run waits for another run writing into the same folder before it gives up.
+/// How long a run waits for another run writing into the same folder before it gives up
+/// (`BENCHGRADE_LOCK_WAIT`, in seconds, changes it).
 pub const LOCK_WAIT: std::time::Duration = std::time::Duration::from_secs(5);
+
+fn lock_wait() -> std::time::Duration {
+    std::env::var("BENCHGRADE_LOCK_WAIT")
+        .ok()
+        .and_then(|s| s.trim().parse::<f64>().ok())
+        .filter(|s| s.is_finite() && *s >= 0.0)
+        .map_or(LOCK_WAIT, std::time::Duration::from_secs_f64)
+}
 
 fn context<'a>(
     config: &'a Config,
@@ -421,7 +430,7 @@ fn open_output_folder(config: &Config) -> Result<FolderLock, RunError> {
         ConfigError::Invalid(format!("{what} the output folder {}: {e}", dir.display()))
     };
     std::fs::create_dir_all(dir).map_err(|e| invalid("cannot create", e))?;
-    let lock = FolderLock::take(dir, LOCK_WAIT)
+    let lock = FolderLock::take(dir, lock_wait())
         .map_err(|e| invalid("cannot lock", e))?
         .ok_or_else(|| {
             ConfigError::Invalid(format!(

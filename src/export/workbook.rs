@@ -258,6 +258,8 @@ pub struct GradedWorkbooks {
     out_dir: PathBuf,
     /// Where the saved workbooks wait to be made current with every other output.
     stage: Stage,
+    /// Set by BENCHGRADE_FAULT=panic-in-workbooks: the tests' way to make a writer panic.
+    fault: bool,
 }
 
 fn xerr(path: &Path, e: XlsxError) -> WriteError {
@@ -297,6 +299,7 @@ impl GradedWorkbooks {
             last: None,
             out_dir: out_dir.to_path_buf(),
             stage,
+            fault: std::env::var_os("BENCHGRADE_FAULT").is_some_and(|v| v == "panic-in-workbooks"),
         }
     }
 
@@ -420,6 +423,10 @@ impl GradedWorkbooks {
 
     /// Appends a row to its workbook's section sheet.
     pub fn row(&mut self, g: &Graded) -> Result<(), WriteError> {
+        // a deliberate bug, so that the tests can show what a panic does to a run
+        if self.fault {
+            panic!("BENCHGRADE_FAULT=panic-in-workbooks");
+        }
         let (bi, si) = self.place(g)?;
         let book = &mut self.books[bi];
         let path = book.path.clone();

@@ -323,7 +323,10 @@ mod tests {
         let unmatched = o.unmatched();
         assert_eq!(unmatched.len(), 1);
         assert!(unmatched[0].contains("line 4"), "{unmatched:?}");
-        assert!(!unmatched[0].contains("s2"), "the id is personal data: {unmatched:?}");
+        assert!(
+            !unmatched[0].contains("s2"),
+            "the id is personal data: {unmatched:?}"
+        );
     }
 
     #[test]

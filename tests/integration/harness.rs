@@ -231,3 +231,57 @@ pub fn outside_program<T>(found: Option<T>, what: &str, install: &str) -> Option
     }
     found
 }
+
+/// Runs the binary with extra environment variables.
+pub fn run_env(dir: &Path, args: &[&str], env: &[(&str, &str)]) -> Run {
+    let mut cmd = Command::new(env!("CARGO_BIN_EXE_benchgrade"));
+    cmd.args(args);
+    for (k, v) in env {
+        cmd.env(k, v);
+    }
+    // `finish` clears the developer's own settings, so set ours after it would: run here
+    let out = cmd
+        .current_dir(dir)
+        .env("NO_COLOR", "1")
+        .output()
+        .expect("the binary runs");
+    Run {
+        code: out.status.code().unwrap_or(-1),
+        stdout: String::from_utf8_lossy(&out.stdout).into_owned(),
+        stderr: String::from_utf8_lossy(&out.stderr).into_owned(),
+    }
+}
+
+/// Every visible file of an output folder with its SHA-256 (hidden bookkeeping left out).
+pub fn folder_state(dir: &Path) -> std::collections::BTreeMap<String, String> {
+    std::fs::read_dir(dir)
+        .map(|entries| {
+            entries
+                .filter_map(Result::ok)
+                .map(|e| e.file_name().to_string_lossy().into_owned())
+                .filter(|n| !n.starts_with('.'))
+                .map(|n| {
+                    let hash = benchgrade::export::provenance::sha256_file(&dir.join(&n))
+                        .unwrap_or_default();
+                    (n, hash)
+                })
+                .collect()
+        })
+        .unwrap_or_default()
+}
+
+/// A class of `rows` students over `sections` sections, as CSV text.
+pub fn class_csv(rows: usize, sections: usize) -> String {
+    let mut s = String::from("ID,Name,Section,Bench,Crude mass (g),Recovered mass (g),MP range\n");
+    for i in 0..rows {
+        let rec = 1.6 + (i % 13) as f64 * 0.07;
+        let clear = 121.0 + (i % 9) as f64 * 0.15;
+        s += &format!(
+            "s{i},Student {i},S{},{},3.00,{rec:.2},{:.1}-{clear:.1}\n",
+            i % sections,
+            i % 12 + 1,
+            clear - 1.0
+        );
+    }
+    s
+}

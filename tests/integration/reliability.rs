@@ -280,3 +280,263 @@ fn a_stray_byte_does_not_garble_a_utf8_file() {
         run.stderr
     );
 }
+
+#[test]
+fn a_second_run_into_the_same_folder_waits_then_gives_up() {
+    let f = Fixture::new();
+    f.write("a.csv", GOOD);
+    assert_eq!(f.run(&["grade", "a.csv", "--out", "out"]).code, 0);
+    let before = harness::folder_state(&f.path("out"));
+    // another run holds the folder's lock
+    let held = std::fs::File::open(f.path("out/.benchgrade.lock")).unwrap();
+    held.lock().unwrap();
+    let args = ["grade", "a.csv", "--out", "out"];
+    let run = harness::run_env(f.dir.path(), &args, &[("BENCHGRADE_LOCK_WAIT", "0.5")]);
+    assert_eq!(run.code, 2, "{}", run.stderr);
+    assert!(
+        run.stderr
+            .contains("another benchgrade run is writing into out"),
+        "{}",
+        run.stderr
+    );
+    assert_eq!(harness::folder_state(&f.path("out")), before);
+    drop(held);
+    assert_eq!(f.run(&args).code, 0, "free again once the other run ends");
+}
+
+#[test]
+fn nothing_to_grade_is_an_error_and_keeps_the_outputs() {
+    let f = Fixture::new();
+    f.write("class/a.csv", GOOD);
+    assert_eq!(f.run(&["grade", "class", "--out", "out"]).code, 0);
+    let before = harness::folder_state(&f.path("out"));
+    std::fs::create_dir(f.path("empty")).unwrap();
+    for args in [
+        vec!["grade", "empty", "--out", "out"],
+        vec!["grade", "out", "--out", "out"],
+    ] {
+        let run = f.run(&args);
+        assert_eq!(run.code, 1, "{args:?}: {}", run.stderr);
+        assert!(run.stderr.contains("nothing to grade"), "{}", run.stderr);
+        assert_eq!(harness::folder_state(&f.path("out")), before, "{args:?}");
+    }
+}
+
+#[test]
+fn a_bad_baseline_or_timestamp_is_refused_before_anything_is_written() {
+    let f = Fixture::new();
+    f.write("a.csv", GOOD);
+    assert_eq!(f.run(&["grade", "a.csv", "--out", "out"]).code, 0);
+    let before = harness::folder_state(&f.path("out"));
+    std::fs::create_dir_all(f.path("old")).unwrap();
+    f.write("old/results.parquet", b"PAR1 not really");
+    f.write("empty/results.parquet", b"");
+    for args in [
+        vec!["grade", "a.csv", "--out", "out", "--baseline", "old"],
+        vec!["grade", "a.csv", "--out", "out", "--baseline", "empty"],
+        vec![
+            "grade",
+            "a.csv",
+            "--out",
+            "out",
+            "--timestamp",
+            "-99999999999",
+        ],
+        vec![
+            "grade",
+            "a.csv",
+            "--out",
+            "out",
+            "--timestamp",
+            "999999999999",
+        ],
+    ] {
+        let run = f.run(&args);
+        assert_eq!(run.code, 2, "{args:?}: {}", run.stderr);
+        assert_eq!(harness::folder_state(&f.path("out")), before, "{args:?}");
+        assert!(!run.stderr.contains("panicked"), "{}", run.stderr);
+    }
+}
+
+#[test]
+fn a_panic_is_one_message_and_the_outputs_stay() {
+    let f = Fixture::new();
+    f.write("a.csv", GOOD);
+    assert_eq!(f.run(&["grade", "a.csv", "--out", "out"]).code, 0);
+    let before = harness::folder_state(&f.path("out"));
+    let args = ["grade", "a.csv", "--out", "out"];
+    let run = harness::run_env(
+        f.dir.path(),
+        &args,
+        &[("BENCHGRADE_FAULT", "panic-in-workbooks")],
+    );
+    assert_eq!(run.code, 1, "{}", run.stderr);
+    assert_eq!(run.stderr.lines().count(), 1, "one message: {}", run.stderr);
+    assert!(
+        run.stderr.contains(
+            "internal error while grading into out; previous outputs kept; please report"
+        ),
+        "{}",
+        run.stderr
+    );
+    assert_eq!(harness::folder_state(&f.path("out")), before);
+    let left: Vec<_> = std::fs::read_dir(f.path("out"))
+        .unwrap()
+        .map(|e| e.unwrap().file_name().to_string_lossy().into_owned())
+        .filter(|n| n.ends_with(".partial"))
+        .collect();
+    assert!(left.is_empty(), "{left:?}");
+}
+
+#[test]
+fn a_reader_that_closes_the_pipe_ends_the_run_quietly() {
+    use std::io::{BufRead, BufReader};
+    let f = Fixture::new();
+    // every row flagged, so that `check` prints far more than a pipe holds (64 KiB)
+    let rows: String = (0..4000)
+        .map(|i| format!("s{i},3.0,3.5,121-122\n"))
+        .collect();
+    f.write(
+        "class.csv",
+        format!("ID,Crude mass (g),Recovered mass (g),MP\n{rows}"),
+    );
+    let mut child = std::process::Command::new(env!("CARGO_BIN_EXE_benchgrade"))
+        .args(["check", "class.csv"])
+        .current_dir(f.dir.path())
+        .stdout(std::process::Stdio::piped())
+        .stderr(std::process::Stdio::piped())
+        .spawn()
+        .unwrap();
+    let mut first = String::new();
+    BufReader::new(child.stdout.take().unwrap())
+        .read_line(&mut first)
+        .unwrap();
+    // the reader is gone, as `| head -1` leaves it
+    let out = child.wait_with_output().unwrap();
+    let stderr = String::from_utf8_lossy(&out.stderr);
+    assert_eq!(out.status.code(), Some(0), "{stderr}");
+    assert!(
+        !stderr.contains("panicked") && !stderr.contains("Broken pipe"),
+        "{stderr}"
+    );
+}
+
+#[test]
+fn a_killed_run_leaves_the_old_outputs_or_the_new_ones() {
+    let f = Fixture::new();
+    f.write("small.csv", GOOD);
+    f.write("big.csv", harness::class_csv(20_000, 6));
+    let ts = ["--timestamp", "1767225600"];
+    let grade = |input: &str, out: &str| {
+        let mut args = vec!["grade", input, "--out", out, "--quiet"];
+        args.extend(ts);
+        assert_eq!(f.run(&args).code, 0);
+    };
+    grade("small.csv", "old");
+    grade("big.csv", "new");
+    let (old, new) = (
+        harness::folder_state(&f.path("old")),
+        harness::folder_state(&f.path("new")),
+    );
+    let started = std::time::Instant::now();
+    grade("big.csv", "timing");
+    let full = started.elapsed();
+    let mut saw = (0, 0);
+    // kills from the start to a little past the end of a whole run
+    for k in 0..14u32 {
+        let out = f.path(&format!("kill{k}"));
+        let copy = std::process::Command::new("cp")
+            .arg("-a")
+            .arg(f.path("old"))
+            .arg(&out)
+            .status();
+        assert!(copy.unwrap().success());
+        let mut child = std::process::Command::new(env!("CARGO_BIN_EXE_benchgrade"))
+            .args([
+                "grade",
+                "big.csv",
+                "--out",
+                out.to_str().unwrap(),
+                "--quiet",
+            ])
+            .args(ts)
+            .current_dir(f.dir.path())
+            .spawn()
+            .unwrap();
+        std::thread::sleep(full.mul_f64(f64::from(k) / 11.0));
+        let _ = child.kill(); // SIGKILL
+        let _ = child.wait();
+        // what a later run does first: complete a publication the killed one left half done
+        benchgrade::export::atomic::recover(&out).unwrap();
+        let state = harness::folder_state(&out);
+        assert!(
+            state == old || state == new,
+            "killed at {k}/11: a mixed folder {state:?}"
+        );
+        if state == old {
+            saw.0 += 1
+        } else {
+            saw.1 += 1
+        }
+    }
+    eprintln!(
+        "kills that left the old set: {}, the new one: {}",
+        saw.0, saw.1
+    );
+    assert!(
+        saw.0 > 0 && saw.1 > 0,
+        "the kills landed before and after the end: {saw:?}"
+    );
+}
+
+#[test]
+fn a_full_disk_fails_the_run_and_keeps_the_outputs() {
+    let f = Fixture::new();
+    let disk = f.path("disk");
+    std::fs::create_dir(&disk).unwrap();
+    let mounted = std::process::Command::new("mount")
+        .args(["-t", "tmpfs", "-o", "size=1m", "tmpfs"])
+        .arg(&disk)
+        .output();
+    if !mounted.as_ref().is_ok_and(|o| o.status.success()) {
+        // CI runs as root and mounts it; elsewhere say why the check did not run
+        assert!(
+            std::env::var_os("BENCHGRADE_CI").is_none(),
+            "CI must be able to mount a tmpfs: {mounted:?}"
+        );
+        eprintln!("skipped: mounting a small tmpfs needs root");
+        return;
+    }
+    struct Unmount<'a>(&'a std::path::Path);
+    impl Drop for Unmount<'_> {
+        fn drop(&mut self) {
+            let _ = std::process::Command::new("umount").arg(self.0).status();
+        }
+    }
+    let _unmount = Unmount(&disk);
+    f.write("small.csv", GOOD);
+    f.write("big.csv", harness::class_csv(20_000, 6));
+    let out = disk.join("out");
+    let out_arg = out.to_str().unwrap();
+    assert_eq!(f.run(&["grade", "small.csv", "--out", out_arg]).code, 0);
+    let before = harness::folder_state(&out);
+    let run = f.run(&["grade", "big.csv", "--out", out_arg]);
+    assert_eq!(run.code, 2, "{}", run.stderr);
+    assert!(
+        run.stderr.contains("No space left on device"),
+        "{}",
+        run.stderr
+    );
+    assert!(!run.stderr.contains("panicked"), "{}", run.stderr);
+    assert_eq!(
+        harness::folder_state(&out),
+        before,
+        "the previous outputs stay"
+    );
+    let left: Vec<_> = std::fs::read_dir(&out)
+        .unwrap()
+        .map(|e| e.unwrap().file_name().to_string_lossy().into_owned())
+        .filter(|n| n.ends_with(".partial"))
+        .collect();
+    assert!(left.is_empty(), "{left:?}");
+}
