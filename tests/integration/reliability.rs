@@ -474,9 +474,9 @@ fn a_killed_run_leaves_the_old_outputs_or_the_new_ones() {
             "killed at {k}/11: a mixed folder {state:?}"
         );
         if state == old {
-            saw.0 += 1
+            saw.0 += 1;
         } else {
-            saw.1 += 1
+            saw.1 += 1;
         }
     }
     eprintln!(
