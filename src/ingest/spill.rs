@@ -32,7 +32,7 @@ impl SpillWriter {
     /// killed). `None` if the file cannot be created.
     pub fn create(dir: &Path) -> Option<SpillWriter> {
         let path = crate::files::partial_path(dir, Path::new("first-pass"));
-        let file = File::create(&path).ok()?;
+        let file = crate::files::create_new(&path).ok()?;
         Some(SpillWriter {
             path,
             out: Some(BufWriter::with_capacity(1 << 16, file)),

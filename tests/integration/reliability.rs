@@ -540,3 +540,29 @@ fn a_full_disk_fails_the_run_and_keeps_the_outputs() {
         .collect();
     assert!(left.is_empty(), "{left:?}");
 }
+
+#[test]
+fn formula_text_in_file_and_sheet_names_is_guarded_and_escapes_are_shown_not_sent() {
+    let f = Fixture::new();
+    f.xlsx("=2+2.xlsx", |wb| {
+        let ws = wb.add_worksheet().set_name("=1+1").unwrap();
+        for (c, h) in ["ID", "Section", "Crude mass (g)", "Recovered mass (g)", "MP"].iter().enumerate() {
+            ws.write_string(0, c as u16, *h).unwrap();
+        }
+        ws.write_string(1, 0, "s\u{1b}[2J1").unwrap();
+        ws.write_string(1, 1, "A\u{1b}]0;owned\u{7}").unwrap();
+        ws.write_number(1, 2, 3.0).unwrap();
+        ws.write_number(1, 3, 4.0).unwrap();
+        ws.write_string(1, 4, "121-122").unwrap();
+    });
+    let run = f.run(&["grade", "=2+2.xlsx", "--out", "out"]);
+    assert_eq!(run.code, 0, "{}", run.stderr);
+    let text = std::fs::read_to_string(f.path("out/results.csv")).unwrap();
+    let row = text.lines().nth(1).unwrap();
+    assert!(row.starts_with("'=2+2.xlsx,'=1+1,"), "{row}");
+    let check = f.run(&["check", "=2+2.xlsx"]);
+    for output in [&check.stdout, &check.stderr] {
+        assert!(!output.contains('\u{1b}') && !output.contains('\u{7}'), "{output:?}");
+    }
+    assert!(check.stdout.contains("\\x1b[2J"), "{}", check.stdout);
+}
