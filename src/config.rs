@@ -10,7 +10,7 @@ use crate::assess::{accepted, ReferenceRule};
 use crate::error::{parse_toml, ConfigError};
 use crate::export::parquet::Term;
 use crate::export::pseudonym::Pseudonymizer;
-use crate::ingest::headers::ColumnOverrides;
+use crate::ingest::headers::{ColumnOverrides, MappingValue};
 use crate::reference::Library;
 use crate::rubric::overrides::Overrides;
 use crate::rubric::Rubric;
@@ -80,7 +80,7 @@ pub struct Baseline {
 #[derive(Deserialize)]
 #[serde(deny_unknown_fields)]
 struct ColumnsFile {
-    columns: BTreeMap<String, String>,
+    columns: BTreeMap<String, MappingValue>,
 }
 
 fn read_columns_file(path: &Path) -> Result<ColumnOverrides, ConfigError> {
@@ -88,7 +88,7 @@ fn read_columns_file(path: &Path) -> Result<ColumnOverrides, ConfigError> {
     let text = crate::files::read_to_string(path)
         .map_err(|e| ConfigError::Invalid(format!("cannot read columns file {file}: {e}")))?;
     let parsed: ColumnsFile = parse_toml(&text, &file)?;
-    ColumnOverrides::from_pairs(&parsed.columns)
+    ColumnOverrides::from_table(&parsed.columns)
         .map_err(|m| ConfigError::Invalid(format!("{file}: {m}")))
 }
 
@@ -157,7 +157,7 @@ fn column_map(
     rubric_source: &str,
     file: Option<&Path>,
 ) -> Result<ColumnOverrides, ConfigError> {
-    let from_rubric = ColumnOverrides::from_pairs(&rubric.columns)
+    let from_rubric = ColumnOverrides::from_table(&rubric.columns)
         .map_err(|m| ConfigError::Invalid(format!("{rubric_source}: {m}")))?;
     Ok(match file {
         Some(p) => read_columns_file(p)?.merged_over(&from_rubric),

@@ -21,10 +21,18 @@ pub enum Field {
     MpOnset,
     MpClear,
     ReportedRecovery,
+    /// The family name, where names come in parts.
+    LastName,
+    /// The given name, where names come in parts.
+    FirstName,
+    /// A status such as "W" or "excused".
+    Status,
+    /// Free comments about the row (a notes or remarks column).
+    Notes,
 }
 
 impl Field {
-    pub const ALL: [Field; 15] = [
+    pub const ALL: [Field; 19] = [
         Field::StudentId,
         Field::StudentName,
         Field::Section,
@@ -40,6 +48,10 @@ impl Field {
         Field::MpOnset,
         Field::MpClear,
         Field::ReportedRecovery,
+        Field::LastName,
+        Field::FirstName,
+        Field::Status,
+        Field::Notes,
     ];
 
     /// The name used in `[columns]` tables and `--columns` files.
@@ -60,6 +72,10 @@ impl Field {
             Field::MpOnset => "mp_onset",
             Field::MpClear => "mp_clear",
             Field::ReportedRecovery => "reported_recovery",
+            Field::LastName => "last_name",
+            Field::FirstName => "first_name",
+            Field::Status => "status",
+            Field::Notes => "notes",
         }
     }
 
@@ -81,11 +97,23 @@ impl Field {
             Field::MpOnset => "melting onset",
             Field::MpClear => "clear point",
             Field::ReportedRecovery => "reported recovery",
+            Field::LastName => "last name",
+            Field::FirstName => "first name",
+            Field::Status => "status",
+            Field::Notes => "notes",
         }
     }
 
     pub fn from_key(key: &str) -> Option<Field> {
         Field::ALL.into_iter().find(|f| f.key() == key)
+    }
+
+    /// Fields a sheet must have a column for: without one, every row misses it.
+    pub fn is_required(self) -> bool {
+        matches!(
+            self,
+            Field::StudentId | Field::CrudeMass | Field::RecoveredMass
+        )
     }
 
     /// Fields whose cells must hold numbers.

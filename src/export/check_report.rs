@@ -71,6 +71,32 @@ fn sheet_title(source: &str, sheet: Option<&String>) -> String {
     }
 }
 
+/// The unit a numeric column was read in, and where it came from.
+fn unit_note(c: &crate::ingest::table::Column) -> String {
+    use crate::ingest::table::UnitSource;
+    let Some(f) = c
+        .field
+        .filter(|f| f.is_numeric() || *f == crate::fields::Field::MpRange)
+    else {
+        return String::new();
+    };
+    match (c.unit, c.unit_source) {
+        (Some(u), Some(UnitSource::UnitsRow)) => format!(", in {} (units row)", u.symbol()),
+        (Some(u), _) => format!(", in {} (header)", u.symbol()),
+        (None, _) => format!(", in {} unless a cell says otherwise", default_unit(f)),
+    }
+}
+
+fn default_unit(f: crate::fields::Field) -> &'static str {
+    use crate::fields::Field;
+    match f {
+        Field::CrudeMass | Field::RecoveredMass => "g",
+        Field::SolventVolume => "mL",
+        Field::ReportedRecovery => "%",
+        _ => "°C",
+    }
+}
+
 /// How the headers of every sheet were mapped.
 pub fn layouts(sheets: &[SheetReport], style: Style) -> String {
     let mut out = String::new();
@@ -91,10 +117,14 @@ pub fn layouts(sheets: &[SheetReport], style: Style) -> String {
             s.students,
             extra
         );
+        if let Some(r) = s.layout.units_row {
+            let _ = writeln!(out, "    units row {r} (not a submission)");
+        }
         for c in &s.layout.columns {
             let target = match (c.field, &c.note) {
                 (Some(f), _) => {
-                    format!("{}{}", f.label(), if c.explicit { " (mapped)" } else { "" })
+                    let mapped = if c.explicit { " (mapped)" } else { "" };
+                    format!("{}{mapped}{}", f.label(), unit_note(c))
                 }
                 (None, Some(note)) => style.dim(&printable(note)),
                 (None, None) => style.dim("not used"),

@@ -266,6 +266,12 @@ fn xerr(path: &Path, e: XlsxError) -> WriteError {
     WriteError::other(path, e)
 }
 
+/// The number format of a percent cell copied from a student's sheet.
+fn percent_format() -> &'static Format {
+    static PERCENT: std::sync::OnceLock<Format> = std::sync::OnceLock::new();
+    PERCENT.get_or_init(|| Format::new().set_num_format("0.0#%"))
+}
+
 fn write_cell(ws: &mut Worksheet, row: u32, col: u16, cell: &Cell) -> Result<(), XlsxError> {
     match cell {
         Cell::Empty => {}
@@ -279,6 +285,11 @@ fn write_cell(ws: &mut Worksheet, row: u32, col: u16, cell: &Cell) -> Result<(),
         Cell::Bool(b) => {
             ws.write_boolean(row, col, *b)?;
         }
+        // as the student's sheet showed it: a percentage
+        Cell::Percent(v) if v.is_finite() => {
+            ws.write_number_with_format(row, col, *v, percent_format())?;
+        }
+        Cell::Percent(_) => {}
     }
     Ok(())
 }

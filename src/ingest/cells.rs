@@ -16,6 +16,8 @@ pub enum Cell {
     /// A date or time; kept as text for messages only.
     Date(String),
     Bool(bool),
+    /// A number shown as a percentage: the cell holds the fraction (0.728 shown as 72.8 %).
+    Percent(f64),
 }
 
 impl Cell {
@@ -40,6 +42,7 @@ impl Cell {
             Cell::Error(e) => Some(e.clone()),
             Cell::Date(d) => Some(d.clone()),
             Cell::Bool(b) => Some(b.to_string()),
+            Cell::Percent(v) => Some(format!("{}%", format_number(percent_of_fraction(*v)))),
         }
     }
 
@@ -50,6 +53,23 @@ impl Cell {
             other => other,
         }
     }
+}
+
+/// A fraction as the percentage a spreadsheet shows for it, exactly as typed: the decimal point
+/// moved two places in the shortest digits of the fraction, so 0.576 is 57.6, not the
+/// 57.599999999999994 that 100 x 0.576 gives in binary.
+pub fn percent_of_fraction(v: f64) -> f64 {
+    if !v.is_finite() {
+        return v;
+    }
+    let sci = format!("{v:e}");
+    let Some((mantissa, exp)) = sci.split_once('e') else {
+        return v * 100.0;
+    };
+    let exp: i32 = exp.parse().unwrap_or(0);
+    format!("{mantissa}e{}", exp + 2)
+        .parse()
+        .unwrap_or(v * 100.0)
 }
 
 /// Formats a number the shortest way that reads back exactly; whole numbers without ".0".

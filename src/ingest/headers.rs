@@ -2,8 +2,11 @@
 //!
 //! A header is lower-cased, its unit taken out of brackets or from after a slash or comma, and
 //! the rest split into words. Rules over those words (not fuzzy string distance, which would
-//! confuse "crude mass" with "recovered mass") decide the field. An explicit mapping from the
-//! rubric or a `--columns` file is consulted first and always wins.
+//! confuse "crude mass" with "recovered mass") decide the field. A column about someone other
+//! than the student ("Partner ID"), a reference value rather than a measurement ("Literature
+//! mp"), or comments ("TA notes") is never taken for the student's own data. An explicit
+//! mapping from the rubric or a `--columns` file (by header text, or by column letter, for all
+//! sheets or for one file or sheet) is consulted first and always wins.
 
 use std::collections::BTreeMap;
 
@@ -26,6 +29,8 @@ pub enum HeaderMeaning {
     Unknown,
     /// Mapped to "ignore" explicitly.
     Ignored,
+    /// Not the student's own data, and why ("a reference value, not a measurement").
+    NotOwn(&'static str),
 }
 
 /// Canonical text for comparing a header with an explicit mapping: lower case, single spaces.
@@ -198,12 +203,15 @@ const RECOVERED_WORDS: [&str; 12] = [
 ];
 const CRUDE_WORDS: [&str; 6] = ["crude", "impure", "starting", "initial", "before", "raw"];
 
-/// The field a parsed header names, by rules over its words and unit, tried in order: who or
+/// The field a parsed header names, by rules over its words and unit, tried in order: comments
+/// and statuses, what is not the student's own (another person, a reference value), who or
 /// where (apparatus, bench, section, assistant), the melting point, the reported recovery, the
 /// compound, the solvent, the masses, then the student's id and name.
 pub fn classify(h: &ParsedHeader) -> HeaderMeaning {
     let w = Words(&h.words);
-    place_or_person(&w)
+    remarks(&w)
+        .or_else(|| not_own(&w))
+        .or_else(|| place_or_person(&w))
         .or_else(|| melting(&w, h))
         .or_else(|| substance(&w, h))
         .or_else(|| mass(&w, h))
@@ -217,6 +225,62 @@ fn percent(w: &Words, h: &ParsedHeader) -> bool {
 
 fn is_mass(w: &Words, h: &ParsedHeader) -> bool {
     w.any(&MASS_WORDS) || matches!(h.unit, Some(Unit::Mass(_)))
+}
+
+/// A notes or comments column (whoever wrote it: "TA notes" is not the assistant), or a status.
+fn remarks(w: &Words) -> Option<HeaderMeaning> {
+    let f = if w.any(&[
+        "notes",
+        "note",
+        "comment",
+        "comments",
+        "remark",
+        "remarks",
+        "observation",
+        "observations",
+    ]) {
+        Field::Notes
+    } else if w.any(&[
+        "status",
+        "attendance",
+        "standing",
+        "enrolment",
+        "enrollment",
+    ]) {
+        Field::Status
+    } else {
+        return None;
+    };
+    Some(HeaderMeaning::Field(f))
+}
+
+/// A column about another person, or a reference or expected value, rather than the student's
+/// own measurement.
+fn not_own(w: &Words) -> Option<HeaderMeaning> {
+    if w.any(&["partner", "partners", "neighbour", "neighbor"]) {
+        return Some(HeaderMeaning::NotOwn(
+            "about another person (a partner), not the student",
+        ));
+    }
+    let reference = [
+        "literature",
+        "lit",
+        "expected",
+        "reference",
+        "ref",
+        "theoretical",
+        "theory",
+        "accepted",
+        "handbook",
+        "known",
+        "target",
+        "nominal",
+        "true",
+        "certified",
+    ];
+    w.any(&reference).then_some(HeaderMeaning::NotOwn(
+        "a reference or expected value, not the student's measurement",
+    ))
 }
 
 /// The apparatus, bench, section or teaching assistant.
@@ -336,57 +400,188 @@ fn student(w: &Words) -> Option<HeaderMeaning> {
     {
         return Some(HeaderMeaning::Field(Field::StudentId));
     }
-    if w.any(&["name", "surname", "fullname"]) || w.only(&["student"]) {
+    let family =
+        w.any(&["surname", "family", "lastname", "familyname"]) || w.has("name") && w.has("last");
+    let given = w.any(&["forename", "forenames", "given", "firstname", "givenname"])
+        || w.has("name") && w.has("first");
+    match (family, given) {
+        (true, false) => return Some(HeaderMeaning::Field(Field::LastName)),
+        (false, true) => return Some(HeaderMeaning::Field(Field::FirstName)),
+        _ => {}
+    }
+    if w.any(&["name", "fullname"]) || w.only(&["student"]) {
         return Some(HeaderMeaning::Field(Field::StudentName));
     }
     None
 }
 
-/// Explicit header-to-field choices from the rubric or a `--columns` file.
-/// Keys are canonical header text; `None` means "ignore this column".
+/// A value of a `[columns]` table: a field key for a header (or a column letter), or a table of
+/// such mappings for one file or sheet.
+#[derive(Clone, Debug, PartialEq, serde::Serialize, serde::Deserialize)]
+#[serde(untagged)]
+pub enum MappingValue {
+    Field(String),
+    Scope(BTreeMap<String, String>),
+}
+
+/// Where a scoped mapping applies: a file (by name), a sheet (by name), or a sheet of a file.
+#[derive(Clone, Debug, PartialEq)]
+struct Scope {
+    file: Option<String>,
+    sheet: Option<String>,
+}
+
+impl Scope {
+    /// "class.xlsx", "[Sec 07]" or "class.xlsx [Sec 07]".
+    fn parse(key: &str) -> Scope {
+        let key = key.trim();
+        match key.rfind('[').filter(|_| key.ends_with(']')) {
+            Some(i) => {
+                let file = key[..i].trim();
+                Scope {
+                    file: (!file.is_empty()).then(|| file.to_string()),
+                    sheet: Some(key[i + 1..key.len() - 1].trim().to_string()),
+                }
+            }
+            None => Scope {
+                file: Some(key.to_string()),
+                sheet: None,
+            },
+        }
+    }
+
+    fn matches(&self, file: &str, sheet: Option<&str>) -> bool {
+        let name = std::path::Path::new(file)
+            .file_name()
+            .map(|n| n.to_string_lossy().into_owned())
+            .unwrap_or_default();
+        self.file.as_ref().is_none_or(|f| f == &name || f == file)
+            && self
+                .sheet
+                .as_ref()
+                .is_none_or(|s| sheet.is_some_and(|x| canonical(x) == canonical(s)))
+    }
+}
+
+/// Explicit column choices from the rubric or a `--columns` file: by header text (canonical)
+/// or by column letter ("column C"), for every sheet or for one file or sheet. `None` means
+/// "ignore this column".
 #[derive(Clone, Debug, Default)]
 pub struct ColumnOverrides {
     pub map: BTreeMap<String, Option<Field>>,
+    /// By column letter ("C").
+    pub letters: BTreeMap<String, Option<Field>>,
+    scoped: Vec<(Scope, ColumnOverrides)>,
+}
+
+/// The column letters of a key written "column C" (any case), if it is one.
+fn letter_key(key: &str) -> Option<String> {
+    let k = key.trim();
+    let rest = k.get(..7).filter(|h| h.eq_ignore_ascii_case("column "))?;
+    let letters = k[rest.len()..].trim().to_ascii_uppercase();
+    (!letters.is_empty() && letters.len() <= 3 && letters.bytes().all(|b| b.is_ascii_uppercase()))
+        .then_some(letters)
+}
+
+fn field_for(header: &str, key: &str) -> Result<Option<Field>, String> {
+    if key == "ignore" {
+        return Ok(None);
+    }
+    Field::from_key(key).map(Some).ok_or_else(|| {
+        let known: Vec<&str> = Field::ALL.iter().map(|f| f.key()).collect();
+        format!(
+            "column \"{header}\" is mapped to unknown field \"{key}\"; use one of {} or \"ignore\"",
+            known.join(", ")
+        )
+    })
 }
 
 impl ColumnOverrides {
-    /// Reads `"Header text" = "field_key"` pairs, "ignore" to drop a column.
+    /// Reads `"Header text" = "field_key"` pairs ("ignore" drops a column; a key "column C"
+    /// names a column by its letter).
     pub fn from_pairs<'a>(
         pairs: impl IntoIterator<Item = (&'a String, &'a String)>,
     ) -> Result<Self, String> {
-        let mut map = BTreeMap::new();
+        let mut out = ColumnOverrides::default();
         for (header, key) in pairs {
-            let field = if key == "ignore" {
-                None
-            } else {
-                Some(Field::from_key(key).ok_or_else(|| {
-                    let known: Vec<&str> = Field::ALL.iter().map(|f| f.key()).collect();
-                    format!(
-                        "column \"{header}\" is mapped to unknown field \"{key}\"; use one of {} or \"ignore\"",
-                        known.join(", ")
-                    )
-                })?)
+            let field = field_for(header, key)?;
+            match letter_key(header) {
+                Some(l) => out.letters.insert(l, field),
+                None => out.map.insert(canonical(header), field),
             };
-            map.insert(canonical(header), field);
         }
-        Ok(ColumnOverrides { map })
+        Ok(out)
+    }
+
+    /// Reads a `[columns]` table: pairs for every sheet, and tables of pairs for one file or
+    /// sheet (`[columns."class.xlsx [Sec 07]"]`).
+    pub fn from_table(table: &BTreeMap<String, MappingValue>) -> Result<Self, String> {
+        let pairs: Vec<(&String, &String)> = table
+            .iter()
+            .filter_map(|(k, v)| match v {
+                MappingValue::Field(f) => Some((k, f)),
+                MappingValue::Scope(_) => None,
+            })
+            .collect();
+        let mut out = ColumnOverrides::from_pairs(pairs)?;
+        for (k, v) in table {
+            if let MappingValue::Scope(inner) = v {
+                out.scoped
+                    .push((Scope::parse(k), ColumnOverrides::from_pairs(inner)?));
+            }
+        }
+        Ok(out)
     }
 
     pub fn merged_over(mut self, base: &ColumnOverrides) -> ColumnOverrides {
         for (k, v) in &base.map {
             self.map.entry(k.clone()).or_insert(*v);
         }
+        for (k, v) in &base.letters {
+            self.letters.entry(k.clone()).or_insert(*v);
+        }
+        self.scoped.extend(base.scoped.iter().cloned());
         self
+    }
+
+    /// The mappings that apply to one sheet of one file: its scoped ones over the general ones.
+    pub fn for_sheet(&self, file: &str, sheet: Option<&str>) -> ColumnOverrides {
+        let mut out = ColumnOverrides {
+            map: self.map.clone(),
+            letters: self.letters.clone(),
+            scoped: Vec::new(),
+        };
+        for (scope, m) in &self.scoped {
+            if scope.matches(file, sheet) {
+                out.map.extend(m.map.iter().map(|(k, v)| (k.clone(), *v)));
+                out.letters
+                    .extend(m.letters.iter().map(|(k, v)| (k.clone(), *v)));
+            }
+        }
+        out
     }
 }
 
-/// The meaning of a header cell, explicit mapping first.
-pub fn meaning(text: &str, overrides: &ColumnOverrides) -> (HeaderMeaning, bool) {
-    match overrides.map.get(&canonical(text)) {
+/// The meaning of a header cell in column `letter`, explicit mapping first (by letter, then
+/// by header text).
+pub fn meaning(text: &str, letter: &str, overrides: &ColumnOverrides) -> (HeaderMeaning, bool) {
+    let explicit = overrides
+        .letters
+        .get(letter)
+        .or_else(|| overrides.map.get(&canonical(text)));
+    match explicit {
         Some(Some(f)) => (HeaderMeaning::Field(*f), true),
         Some(None) => (HeaderMeaning::Ignored, true),
         None => (classify(&parse_header(text)), false),
     }
+}
+
+/// The line to paste into a `--columns` file's `[columns]` table to map a column to a field.
+pub fn mapping_line(letter: &str, field: Option<Field>) -> String {
+    format!(
+        "\"column {letter}\" = \"{}\"",
+        field.map_or("ignore", Field::key)
+    )
 }
 
 #[cfg(test)]
@@ -475,8 +670,44 @@ mod tests {
 
     #[test]
     fn unrelated_headers_are_unknown() {
-        for t in ["Comments", "Date", "Notes", "Signature", ""] {
+        for t in ["Date", "Signature", ""] {
             assert_eq!(field(t), HeaderMeaning::Unknown, "{t:?}");
+        }
+    }
+
+    #[test]
+    fn headers_are_read_by_meaning() {
+        use Field::*;
+        for (text, want) in [
+            ("TA notes", Notes),
+            ("Comments", Notes),
+            ("Instructor remarks", Notes),
+            ("Status", Status),
+            ("Last name", LastName),
+            ("Family name", LastName),
+            ("Surname", LastName),
+            ("First name", FirstName),
+            ("Given name", FirstName),
+            ("Forename", FirstName),
+            ("TA", Assistant),
+            ("TA name", Assistant),
+        ] {
+            assert_eq!(field(text), HeaderMeaning::Field(want), "{text:?}");
+        }
+        for text in [
+            "Partner ID",
+            "Lab partner",
+            "Literature mp (°C)",
+            "Lit. m.p.",
+            "Expected mass (g)",
+            "Theoretical yield (g)",
+            "Reference melting point",
+        ] {
+            assert!(
+                matches!(field(text), HeaderMeaning::NotOwn(_)),
+                "{text:?}: {:?}",
+                field(text)
+            );
         }
     }
 
@@ -488,12 +719,39 @@ mod tests {
         ];
         let o = ColumnOverrides::from_pairs(pairs.iter().map(|(a, b)| (a, b))).unwrap();
         assert_eq!(
-            meaning("wt  a", &o),
+            meaning("wt  a", "A", &o),
             (HeaderMeaning::Field(Field::CrudeMass), true)
         );
-        assert_eq!(meaning("Mass (g)", &o), (HeaderMeaning::Ignored, true));
+        assert_eq!(meaning("Mass (g)", "B", &o), (HeaderMeaning::Ignored, true));
         let bad = [("x".to_string(), "crude".to_string())];
         assert!(ColumnOverrides::from_pairs(bad.iter().map(|(a, b)| (a, b))).is_err());
+    }
+
+    #[test]
+    fn columns_by_letter_for_one_file_or_sheet() {
+        let table: BTreeMap<String, MappingValue> = toml::from_str(
+            "\"column C\" = \"crude_mass\"\n[\"two.xlsx [Sheet1]\"]\n\"column D\" = \"recovered_mass\"\n",
+        )
+        .unwrap();
+        let o = ColumnOverrides::from_table(&table).unwrap();
+        let here = o.for_sheet("data/two.xlsx", Some("Sheet1"));
+        assert_eq!(
+            meaning("Mass (g)", "C", &here).0,
+            HeaderMeaning::Field(Field::CrudeMass)
+        );
+        assert_eq!(
+            meaning("Mass (g)", "D", &here).0,
+            HeaderMeaning::Field(Field::RecoveredMass)
+        );
+        let elsewhere = o.for_sheet("other.xlsx", Some("Sheet1"));
+        assert!(matches!(
+            meaning("Mass (g)", "D", &elsewhere).0,
+            HeaderMeaning::Ambiguous(..)
+        ));
+        assert_eq!(
+            mapping_line("D", Some(Field::RecoveredMass)),
+            "\"column D\" = \"recovered_mass\""
+        );
     }
 
     proptest! {

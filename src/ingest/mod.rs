@@ -6,6 +6,7 @@ pub mod cells;
 pub mod delimited;
 pub mod discover;
 pub mod headers;
+pub mod percent_cells;
 pub mod range;
 pub mod row;
 pub mod spill;
@@ -188,6 +189,15 @@ impl Collector {
             Event::Sheet(data) => match tabulate(&data, columns, on_row) {
                 Ok(report) => {
                     self.tables_in_file += 1;
+                    if let Some(message) = report.layout.missing_message() {
+                        // one message for the sheet; its rows still carry missing-value
+                        self.problems.push(Problem {
+                            file: report.source.clone(),
+                            sheet: report.sheet.clone(),
+                            message,
+                            fatal: true,
+                        });
+                    }
                     if report.students == 0 {
                         // read correctly, but worth a word: often the wrong tab or an unsaved file
                         self.problems.push(Problem {
@@ -248,7 +258,8 @@ pub fn tabulate(
         message,
         fatal,
     };
-    let layout = match table::locate(sheet, columns) {
+    let columns = columns.for_sheet(&data.source, sheet.name.as_deref());
+    let layout = match table::locate(sheet, &columns) {
         Ok(l) => l,
         Err(LayoutError::NoTable) => {
             return Err(problem(
@@ -256,7 +267,6 @@ pub fn tabulate(
                 false,
             ))
         }
-        Err(LayoutError::Ambiguous(message)) => return Err(problem(message, true)),
     };
     let origin = row::Origin {
         source: &data.source,

@@ -1,7 +1,7 @@
 //! One student row to a `Submission`: each mapped cell read with its column's unit, converted
 //! to grams, millilitres and degrees Celsius; a cell that cannot be read is named, not guessed.
 
-use super::cells::{cell_ref, Cell, RawRow};
+use super::cells::{cell_ref, format_number, percent_of_fraction, Cell, RawRow};
 use super::range::parse_range;
 use super::submission::{Submission, Unreadable};
 use super::table::{Column, Layout};
@@ -63,6 +63,7 @@ fn found_instead(cell: &Cell) -> String {
         Cell::Error(e) => format!("the error {e}"),
         Cell::Date(_) => "a date".into(),
         Cell::Bool(b) => format!("the value {}", if *b { "TRUE" } else { "FALSE" }),
+        Cell::Percent(v) => format!("the percentage {}", format_number(percent_of_fraction(*v))),
         Cell::Text(t) => format!("the text \"{}\"", t.trim()),
         Cell::Number(v) => format!("the number {v}"),
         Cell::Empty => "nothing".into(),
@@ -76,7 +77,9 @@ fn read_number(cell: &Cell, column: &Column, decimal: Decimal) -> Result<Option<
     let header_unit = column.unit;
     let (value, unit) = match cell {
         Cell::Empty => return Ok(None),
-        Cell::Number(v) => (*v, header_unit),
+        // a cell shown as a percentage is one, in every use: 0.728 shown as 72.8 % is 72.8
+        Cell::Percent(v) if matches!(k, Kind::Percent) => return Ok(Some(percent_of_fraction(*v))),
+        Cell::Number(v) | Cell::Percent(v) => (*v, header_unit),
         Cell::Text(t) if is_blank_marker(t) => return Ok(None),
         Cell::Text(t) => match parse_quantity(t, decimal) {
             Some(q) => (q.value, q.unit.or(header_unit)),
@@ -151,9 +154,23 @@ fn set_text(sub: &mut Submission, field: Field, text: Option<String>) {
         Field::Assistant => &mut sub.assistant,
         Field::Compound => &mut sub.compound,
         Field::Solvent => &mut sub.solvent,
+        Field::Status => &mut sub.status,
+        Field::Notes => &mut sub.remarks,
         _ => return,
     };
     *slot = text;
+}
+
+/// One name from name parts: "Last, First", or whichever part there is; a whole-name column
+/// wins where there is one.
+fn join_name(sub: &mut Submission, last: Option<String>, first: Option<String>) {
+    if sub.student_name.is_some() {
+        return;
+    }
+    sub.student_name = match (last, first) {
+        (Some(l), Some(f)) => Some(format!("{l}, {f}")),
+        (l, f) => l.or(f),
+    };
 }
 
 fn set_number(sub: &mut Submission, field: Field, value: Option<f64>) {
@@ -184,6 +201,8 @@ pub fn read_row(row: &RawRow, layout: &Layout, origin: &Origin) -> Submission {
         original_headers: Some(origin.headers.clone()),
         ..Submission::default()
     };
+    sub.no_column.clone_from(&layout.missing);
+    let (mut last, mut first) = (None, None);
     for column in &layout.columns {
         let Some(field) = column.field else { continue };
         let cell = row.get(column.index);
@@ -202,7 +221,11 @@ pub fn read_row(row: &RawRow, layout: &Layout, origin: &Origin) -> Submission {
                     at()
                 ));
             }
-            set_text(&mut sub, field, text);
+            match field {
+                Field::LastName => last = text,
+                Field::FirstName => first = text,
+                _ => set_text(&mut sub, field, text),
+            }
             Ok(())
         };
         if let Err(found) = read {
@@ -213,6 +236,7 @@ pub fn read_row(row: &RawRow, layout: &Layout, origin: &Origin) -> Submission {
             });
         }
     }
+    join_name(&mut sub, last, first);
     sub
 }
 
@@ -228,6 +252,7 @@ fn read_range_into(
         sub.mp_onset_c = Some(onset);
         sub.mp_clear_c = Some(clear);
         if single {
+            sub.single_reading = true;
             sub.notes.push(format!(
                 "{}: one melting value given; taken as both onset and clear point",
                 at()

@@ -154,6 +154,10 @@ fn put_cell(out: &mut impl Write, cell: &Cell) -> io::Result<()> {
             put_str(out, t)
         }
         Cell::Bool(b) => out.write_all(&[5, u8::from(*b)]),
+        Cell::Percent(v) => {
+            out.write_all(&[6])?;
+            out.write_all(&v.to_le_bytes())
+        }
     }
 }
 
@@ -250,6 +254,11 @@ fn get_cell(input: &mut impl Read) -> io::Result<Cell> {
         3 => Cell::Error(get_str(input)?),
         4 => Cell::Date(get_str(input)?),
         5 => Cell::Bool(byte(input)? != 0),
+        6 => {
+            let mut b = [0u8; 8];
+            input.read_exact(&mut b)?;
+            Cell::Percent(f64::from_le_bytes(b))
+        }
         _ => return Err(corrupt("cell")),
     })
 }
@@ -316,6 +325,7 @@ mod tests {
             ".*".prop_map(Cell::Error),
             ".*".prop_map(Cell::Date),
             any::<bool>().prop_map(Cell::Bool),
+            any::<f64>().prop_map(Cell::Percent),
         ]
     }
 
@@ -351,7 +361,9 @@ mod tests {
     /// Field by field, numbers by their bits (a NaN must come back as the same NaN).
     fn same(a: &Event, b: &Event) -> bool {
         let cells_eq = |x: &Cell, y: &Cell| match (x, y) {
-            (Cell::Number(p), Cell::Number(q)) => p.to_bits() == q.to_bits(),
+            (Cell::Number(p), Cell::Number(q)) | (Cell::Percent(p), Cell::Percent(q)) => {
+                p.to_bits() == q.to_bits()
+            }
             _ => x == y,
         };
         match (a, b) {

@@ -41,6 +41,14 @@ pub struct Submission {
     pub mp_onset_c: Option<f64>,
     pub mp_clear_c: Option<f64>,
     pub reported_recovery_pct: Option<f64>,
+    /// The row's status cell, as written ("W", "excused"), if the sheet has a status column.
+    pub status: Option<String>,
+    /// The row's notes cell, as written, if the sheet has a notes column.
+    pub remarks: Option<String>,
+    /// The melting entry was one temperature, taken as both onset and clear point.
+    pub single_reading: bool,
+    /// Fields the sheet has no column for (their absence is the sheet's, not the student's).
+    pub no_column: Vec<Field>,
     pub unreadable: Vec<Unreadable>,
     /// Observations that are not flags ("single melting value: onset taken as the clear point").
     pub notes: Vec<String>,

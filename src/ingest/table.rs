@@ -4,7 +4,7 @@
 use serde::Serialize;
 
 use super::cells::{column_letters, RawRow, RawSheet};
-use super::headers::{meaning, parse_header, ColumnOverrides, HeaderMeaning};
+use super::headers::{mapping_line, meaning, parse_header, ColumnOverrides, HeaderMeaning};
 use super::values::Unit;
 use crate::fields::Field;
 
@@ -12,6 +12,15 @@ use crate::fields::Field;
 const HEADER_SEARCH_ROWS: usize = 50;
 /// A header row must name at least this many distinct fields.
 const MIN_HEADER_FIELDS: usize = 3;
+
+/// Where a column's unit came from.
+#[derive(Clone, Copy, Debug, PartialEq, Eq, Serialize)]
+#[serde(rename_all = "snake_case")]
+pub enum UnitSource {
+    Header,
+    /// A row of units directly under the header ("(g)", "mg", "°C").
+    UnitsRow,
+}
 
 /// One column of the header row and what it was taken to mean.
 #[derive(Clone, Debug, Serialize)]
@@ -25,6 +34,7 @@ pub struct Column {
     pub explicit: bool,
     #[serde(skip)]
     pub unit: Option<Unit>,
+    pub unit_source: Option<UnitSource>,
     /// Why the column is not used, when it is not.
     pub note: Option<String>,
 }
@@ -37,12 +47,55 @@ pub struct Layout {
     pub header_pos: usize,
     /// 1-based header row.
     pub header_row: u32,
+    /// 1-based row of units directly under the header, if there is one.
+    pub units_row: Option<u32>,
     pub columns: Vec<Column>,
+    /// Fields grading needs that no column holds.
+    pub missing: Vec<Field>,
 }
 
 impl Layout {
     pub fn column(&self, field: Field) -> Option<&Column> {
         self.columns.iter().find(|c| c.field == Some(field))
+    }
+
+    /// Whether some column holds the melting range (or its onset or clear point).
+    fn has_melting(&self) -> bool {
+        [Field::MpRange, Field::MpOnset, Field::MpClear]
+            .iter()
+            .any(|f| self.column(*f).is_some())
+    }
+
+    /// The message for a sheet with no column for a field grading needs: which, the headers
+    /// that were not understood, and the line to paste into a `--columns` file.
+    pub fn missing_message(&self) -> Option<String> {
+        if self.missing.is_empty() {
+            return None;
+        }
+        let wanted: Vec<&str> = self.missing.iter().map(|f| f.label()).collect();
+        let unused: Vec<&Column> = self.columns.iter().filter(|c| c.field.is_none()).collect();
+        let mut m = format!(
+            "no column for the {}; every row is graded as missing it",
+            wanted.join(" or the ")
+        );
+        if unused.is_empty() {
+            return Some(m);
+        }
+        let heads: Vec<String> = unused
+            .iter()
+            .map(|c| format!("{} \"{}\"", c.letter, c.header))
+            .collect();
+        m.push_str(&format!("; columns not used: {}", heads.join(", ")));
+        let lines: Vec<String> = unused
+            .iter()
+            .zip(&self.missing)
+            .map(|(c, f)| mapping_line(&c.letter, Some(*f)))
+            .collect();
+        m.push_str(&format!(
+            "; if one holds it, map it in a --columns file's [columns] table, for example: {}",
+            lines.join(" and ")
+        ));
+        Some(m)
     }
 }
 
@@ -51,8 +104,6 @@ impl Layout {
 pub enum LayoutError {
     /// Nothing that looks like a header row: the sheet is skipped with a note.
     NoTable,
-    /// A header, or two headers, that could mean more than one thing: an error.
-    Ambiguous(String),
 }
 
 fn is_core(f: Field) -> bool {
@@ -69,17 +120,23 @@ fn header_columns(row: &RawRow, overrides: &ColumnOverrides) -> Vec<(Column, Hea
             _ => None,
         })
         .map(|(col, text)| {
-            let (m, explicit) = meaning(&text, overrides);
+            let letter = column_letters(col);
+            let (m, explicit) = meaning(&text, &letter, overrides);
+            let unit = parse_header(&text).unit;
             let column = Column {
                 index: col,
-                letter: column_letters(col),
-                unit: parse_header(&text).unit,
+                letter,
+                unit,
+                unit_source: unit.map(|_| UnitSource::Header),
                 field: match m {
                     HeaderMeaning::Field(f) => Some(f),
                     _ => None,
                 },
                 explicit,
-                note: None,
+                note: match m {
+                    HeaderMeaning::NotOwn(why) => Some(format!("not used: {why}")),
+                    _ => None,
+                },
                 header: text,
             };
             (column, m)
@@ -123,25 +180,90 @@ pub fn locate(sheet: &RawSheet, overrides: &ColumnOverrides) -> Result<Layout, L
         }
     }
     let (pos, cols, _) = best.ok_or(LayoutError::NoTable)?;
-    let columns = resolve(cols)?;
-    Ok(Layout {
+    let mut columns = resolve(cols);
+    let units_row = units_row(sheet, pos, &mut columns);
+    let mut layout = Layout {
         header_pos: pos,
         header_row: sheet.rows[pos].index + 1,
+        units_row,
         columns,
-    })
+        missing: Vec::new(),
+    };
+    layout.missing = Field::ALL
+        .into_iter()
+        .filter(|f| f.is_required() && layout.column(*f).is_none())
+        .collect();
+    if !layout.has_melting() {
+        layout.missing.push(Field::MpRange);
+    }
+    Ok(layout)
 }
 
-/// Settles conflicts: explicit beats recognised; two claims of one kind are an error.
-fn resolve(cols: Vec<(Column, HeaderMeaning)>) -> Result<Vec<Column>, LayoutError> {
-    for (c, m) in &cols {
-        if let HeaderMeaning::Ambiguous(a, b) = m {
-            return Err(LayoutError::Ambiguous(format!(
-                "header \"{}\" in column {} could be the {} or the {}; say which in a --columns file, e.g. \"{}\" = \"{}\"",
-                c.header, c.letter, a.label(), b.label(), c.header, a.key()
-            )));
+/// The unit a units-row cell names: "g", "(g)", "[mg]", "°C", "%"; any case.
+fn unit_cell(cell: &super::cells::Cell) -> Option<Unit> {
+    let t = cell.as_text()?;
+    let inner = t
+        .trim()
+        .trim_start_matches(['(', '['])
+        .trim_end_matches([')', ']'])
+        .trim();
+    super::values::parse_unit(inner)
+}
+
+/// A row directly under the header whose every non-empty cell is a unit gives those columns
+/// their unit (where the header names none) and is not a submission (common practice in lab
+/// sheets: the units on a line of their own). Returns its 1-based row.
+fn units_row(sheet: &RawSheet, header_pos: usize, columns: &mut [Column]) -> Option<u32> {
+    let header = &sheet.rows[header_pos];
+    let row = sheet.rows.get(header_pos + 1)?;
+    if row.index != header.index + 1 {
+        return None;
+    }
+    let units: Vec<(u32, Unit)> = row
+        .non_empty()
+        .map(|(c, cell)| unit_cell(cell).map(|u| (c, u)))
+        .collect::<Option<_>>()?;
+    if units.is_empty() {
+        return None;
+    }
+    for (c, u) in units {
+        let Some(col) = columns.iter_mut().find(|x| x.index == c) else {
+            continue;
+        };
+        if col.unit.is_some() {
+            continue;
+        }
+        col.unit = Some(u);
+        col.unit_source = Some(UnitSource::UnitsRow);
+        // the unit can tell what a header alone does not ("Water used" over "mL")
+        if col.field.is_none() && col.note.is_none() && !col.explicit {
+            let mut h = parse_header(&col.header);
+            h.unit = Some(u);
+            if let HeaderMeaning::Field(f) = super::headers::classify(&h) {
+                col.field = Some(f);
+            }
         }
     }
-    let mut columns: Vec<Column> = cols.into_iter().map(|(c, _)| c).collect();
+    Some(row.index + 1)
+}
+
+/// Settles conflicts: explicit beats recognised; a header that could mean two things, or two
+/// columns that claim one field, are left unused with a note and the lines that would settle
+/// them, never guessed.
+fn resolve(cols: Vec<(Column, HeaderMeaning)>) -> Vec<Column> {
+    let mut columns: Vec<Column> = Vec::with_capacity(cols.len());
+    for (mut c, m) in cols {
+        if let HeaderMeaning::Ambiguous(a, b) = m {
+            c.note = Some(format!(
+                "not used: could be the {} or the {}; say which in a --columns file: {} or {}",
+                a.label(),
+                b.label(),
+                mapping_line(&c.letter, Some(a)),
+                mapping_line(&c.letter, Some(b))
+            ));
+        }
+        columns.push(c);
+    }
     for field in Field::ALL {
         let claims: Vec<usize> = (0..columns.len())
             .filter(|&i| columns[i].field == Some(field))
@@ -154,23 +276,28 @@ fn resolve(cols: Vec<(Column, HeaderMeaning)>) -> Result<Vec<Column>, LayoutErro
             .copied()
             .filter(|&i| columns[i].explicit)
             .collect();
-        if explicit.len() == 1 {
-            for &i in &claims {
-                if !columns[i].explicit {
-                    columns[i].field = None;
-                    columns[i].note = Some(format!(
-                        "not used: the {} is mapped explicitly to another column",
-                        field.label()
-                    ));
-                }
+        let keep = (explicit.len() == 1).then(|| explicit[0]);
+        let letters: Vec<String> = claims.iter().map(|&i| columns[i].letter.clone()).collect();
+        for &i in &claims {
+            if Some(i) == keep {
+                continue;
             }
-            continue;
+            columns[i].field = None;
+            columns[i].note = Some(match keep {
+                Some(k) => format!(
+                    "not used: the {} is mapped explicitly to column {}",
+                    field.label(),
+                    columns[k].letter
+                ),
+                None => format!(
+                    "not used: columns {} all look like the {}; say which holds it in a --columns file, e.g. {} and {}",
+                    letters.join(" and "),
+                    field.label(),
+                    mapping_line(&columns[i].letter, Some(field)),
+                    mapping_line(&letters[usize::from(letters[0] == columns[i].letter)], None)
+                ),
+            });
         }
-        let (a, b) = (&columns[claims[0]], &columns[claims[1]]);
-        return Err(LayoutError::Ambiguous(format!(
-            "columns {} (\"{}\") and {} (\"{}\") both look like the {}; map one in a --columns file, e.g. \"{}\" = \"ignore\"",
-            a.letter, a.header, b.letter, b.header, field.label(), b.header
-        )));
     }
     let has_pair = columns.iter().any(|c| c.field == Some(Field::MpOnset))
         && columns.iter().any(|c| c.field == Some(Field::MpClear));
@@ -184,7 +311,7 @@ fn resolve(cols: Vec<(Column, HeaderMeaning)>) -> Result<Vec<Column>, LayoutErro
                 Some("not used: separate onset and clear-point columns are read instead".into());
         }
     }
-    Ok(columns)
+    columns
 }
 
 /// Text in a row's first cell that marks the end of the student rows.
@@ -235,14 +362,27 @@ pub fn student_rows<'a>(sheet: &'a RawSheet, layout: &Layout) -> Vec<&'a RawRow>
         .filter(|c| c.field.is_some())
         .map(|c| c.index)
         .collect();
-    let who: Vec<u32> = [Field::StudentId, Field::StudentName]
-        .iter()
-        .filter_map(|f| layout.column(*f).map(|c| c.index))
-        .collect();
+    let who: Vec<u32> = [
+        Field::StudentId,
+        Field::StudentName,
+        Field::LastName,
+        Field::FirstName,
+    ]
+    .iter()
+    .filter_map(|f| layout.column(*f).map(|c| c.index))
+    .collect();
     let header = &sheet.rows[layout.header_pos];
     let mut out = Vec::new();
     let mut prev = header.index;
-    for row in &sheet.rows[layout.header_pos + 1..] {
+    let first = layout.header_pos + 1 + usize::from(layout.units_row.is_some());
+    if let Some(units) = sheet
+        .rows
+        .get(first - 1)
+        .filter(|_| layout.units_row.is_some())
+    {
+        prev = units.index;
+    }
+    for row in sheet.rows.iter().skip(first) {
         let gap = row.index > prev + 1;
         prev = row.index;
         let first = row.non_empty().next().map(|(_, c)| c);
@@ -340,14 +480,18 @@ mod tests {
             locate(&s, &ColumnOverrides::default()).unwrap_err(),
             LayoutError::NoTable
         );
+        // two columns that both look like the crude mass: neither is guessed, both say why
         let s = sheet(&[&["Student ID", "Crude mass (g)", "Crude (g)", "MP range"]]);
-        let err = locate(&s, &ColumnOverrides::default()).unwrap_err();
-        match err {
-            LayoutError::Ambiguous(m) => assert!(
-                m.contains("Crude mass (g)") && m.contains("Crude (g)"),
-                "{m}"
-            ),
-            LayoutError::NoTable => panic!("no table"),
+        let layout = locate(&s, &ColumnOverrides::default()).unwrap();
+        assert!(layout.column(Field::CrudeMass).is_none());
+        assert_eq!(layout.missing, vec![Field::CrudeMass, Field::RecoveredMass]);
+        for c in &layout.columns[1..3] {
+            let note = c.note.as_deref().unwrap_or_default();
+            assert!(note.contains("columns B and C"), "{note}");
+            assert!(
+                note.contains(&format!("\"column {}\" = \"crude_mass\"", c.letter)),
+                "{note}"
+            );
         }
     }
 

@@ -43,6 +43,33 @@ pub enum Unit {
 }
 
 impl Unit {
+    /// The unit's usual symbol: "g", "mg", "mL", "°C", "%".
+    pub fn symbol(&self) -> String {
+        let scaled = |f: f64, base: &str| match f {
+            x if x == 1.0 => base.to_string(),
+            x if x == 0.001 => format!("m{base}"),
+            x if x == 1000.0 => format!("k{base}"),
+            x if x == 1e-6 => format!("µ{base}"),
+            x => format!("{x} {base}"),
+        };
+        match self {
+            Unit::Mass(f) => scaled(*f, "g"),
+            Unit::Volume(1000.0) => "L".into(),
+            Unit::Volume(f) if *f == 0.001 => "µL".into(),
+            Unit::Volume(f) => {
+                if *f == 1.0 {
+                    "mL".into()
+                } else {
+                    format!("{f} mL")
+                }
+            }
+            Unit::Temperature(TempUnit::Celsius) => "°C".into(),
+            Unit::Temperature(TempUnit::Fahrenheit) => "°F".into(),
+            Unit::Temperature(TempUnit::Kelvin) => "K".into(),
+            Unit::Percent => "%".into(),
+        }
+    }
+
     pub fn describe(&self) -> &'static str {
         match self {
             Unit::Mass(_) => "a mass",

@@ -11,6 +11,7 @@ use std::path::Path;
 use calamine::{open_workbook, Data, DataRef, Ods, Reader, Xls, Xlsb, Xlsx};
 
 use super::cells::{Cell, RawSheet, RowBuilder};
+use super::percent_cells;
 
 /// Largest total size a zipped workbook may expand to.
 pub const MAX_EXPANDED_BYTES: u64 = 2 << 30;
@@ -199,13 +200,45 @@ fn collect_cells<E: std::fmt::Display>(
     })
 }
 
+/// Whether a number format shows a percentage: a `%` in its first section, outside quotes
+/// and not escaped ("0.0%" is; `0"%"` and `0\%` show a percent sign beside the number itself).
+pub fn is_percent_format(code: &str) -> bool {
+    let mut quoted = false;
+    let mut escaped = false;
+    for c in code.chars() {
+        match c {
+            _ if escaped => escaped = false,
+            '\\' => escaped = true,
+            '"' => quoted = !quoted,
+            ';' if !quoted => return false,
+            '%' if !quoted => return true,
+            _ => {}
+        }
+    }
+    false
+}
+
 fn stream_xlsx(wb: &mut Xlsx<BufReader<File>>, name: &str) -> Result<RawSheet, String> {
     let mut reader = wb.worksheet_cells_reader(name).map_err(describe)?;
+    // which styles show a percentage, by style id
+    let percent: Vec<bool> = reader
+        .styles()
+        .iter()
+        .map(|s| {
+            s.number_format
+                .as_ref()
+                .is_some_and(|f| is_percent_format(&f.format_code))
+        })
+        .collect();
     collect_cells(name, || {
-        let next = reader.next_cell()?;
-        Ok::<_, calamine::XlsxError>(
-            next.map(|c| (c.get_position(), from_data_ref(c.get_value().clone()))),
-        )
+        let next = reader.next_cell_with_style_id()?;
+        Ok::<_, calamine::XlsxError>(next.map(|(c, style)| {
+            let cell = match from_data_ref(c.get_value().clone()) {
+                Cell::Number(v) if percent.get(style).copied().unwrap_or(false) => Cell::Percent(v),
+                other => other,
+            };
+            (c.get_position(), cell)
+        }))
     })
 }
 
@@ -256,15 +289,37 @@ impl Format {
     }
 }
 
-fn read_all<R, F>(mut wb: R, mut read: F, on_sheet: &mut dyn FnMut(SheetRead))
+/// Whether a workbook is one benchgrade wrote: its "Provenance" sheet opens with the tool's name.
+fn is_own_output<R: Reader<BufReader<File>>>(wb: &mut R) -> bool {
+    if !wb.sheet_names().iter().any(|n| n == "Provenance") {
+        return false;
+    }
+    let Ok(range) = wb.worksheet_range("Provenance") else {
+        return false;
+    };
+    let text = |c: (u32, u32)| match range.get_value(c) {
+        Some(Data::String(s)) => s.clone(),
+        _ => String::new(),
+    };
+    text((0, 0)) == "tool" && text((0, 1)).starts_with("benchgrade ")
+}
+
+const OWN_OUTPUT: &str =
+    "skipped: this is a graded workbook benchgrade wrote; grade the class file it came from";
+
+fn read_all<R, F>(mut wb: R, mut read: F, on_sheet: &mut dyn FnMut(SheetRead)) -> Result<(), String>
 where
     R: Reader<BufReader<File>>,
     F: FnMut(&mut R, &str) -> Result<RawSheet, String>,
 {
+    if is_own_output(&mut wb) {
+        return Err(OWN_OUTPUT.into());
+    }
     for name in wb.sheet_names() {
         let result = read(&mut wb, &name);
         on_sheet(SheetRead { name, result });
     }
+    Ok(())
 }
 
 /// `read_all` on two threads: a helper opens its own copy of the workbook and reads every
@@ -285,8 +340,10 @@ where
     let names = wb.sheet_names();
     if names.len() < 2 || std::thread::available_parallelism().map_or(1, std::num::NonZero::get) < 2
     {
-        read_all(wb, read, on_sheet);
-        return Ok(());
+        return read_all(wb, read, on_sheet);
+    }
+    if is_own_output(&mut wb) {
+        return Err(OWN_OUTPUT.into());
     }
     std::thread::scope(|scope| {
         let (tx, rx) = std::sync::mpsc::sync_channel::<SheetRead>(0);
@@ -318,6 +375,14 @@ where
     Ok(())
 }
 
+/// A sheet with its percent-formatted cells re-typed.
+fn marked(mut sheet: SheetRead, percent: &percent_cells::PercentCells) -> SheetRead {
+    if let (Ok(raw), Some(blocks)) = (&mut sheet.result, percent.get(&sheet.name)) {
+        percent_cells::mark(raw, blocks);
+    }
+    sheet
+}
+
 /// Opens a workbook and hands over each sheet as soon as it is read, so that only one sheet's
 /// cells are held at a time. `Err` when the file itself cannot be opened.
 pub fn read_workbook(
@@ -340,16 +405,16 @@ pub fn read_workbook(
             stream_xlsb,
             on_sheet,
         )?,
-        Format::Xls => read_all(
-            open_workbook::<Xls<_>, _>(path).map_err(describe)?,
-            dense,
-            on_sheet,
-        ),
-        Format::Ods => read_all(
-            open_workbook::<Ods<_>, _>(path).map_err(describe)?,
-            dense,
-            on_sheet,
-        ),
+        Format::Xls => {
+            let wb = open_workbook::<Xls<_>, _>(path).map_err(describe)?;
+            let percent = percent_cells::xls(path).unwrap_or_default();
+            read_all(wb, dense, &mut |s| on_sheet(marked(s, &percent)))?;
+        }
+        Format::Ods => {
+            let wb = open_workbook::<Ods<_>, _>(path).map_err(describe)?;
+            let percent = percent_cells::ods(path).unwrap_or_default();
+            read_all(wb, dense, &mut |s| on_sheet(marked(s, &percent)))?;
+        }
     }
     Ok(())
 }

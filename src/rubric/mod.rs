@@ -108,9 +108,10 @@ pub struct Rubric {
     pub experiment: Experiment,
     #[serde(default)]
     pub tolerances: Tolerances,
-    /// Header text to field key ("ignore" drops the column).
+    /// Header text (or "column C") to field key ("ignore" drops the column), and tables of
+    /// such mappings for one file or sheet.
     #[serde(default)]
-    pub columns: BTreeMap<String, String>,
+    pub columns: BTreeMap<String, crate::ingest::headers::MappingValue>,
     #[serde(default)]
     pub grading: Grading,
     #[serde(default, rename = "criterion")]

@@ -306,8 +306,8 @@ fn a_graded_workbook_that_would_overwrite_an_input_is_refused() {
     );
     let leftovers = partials(&f.path("out"));
     assert!(leftovers.is_empty(), "{leftovers:?}");
-    // without graded workbooks nothing would be overwritten: the batch is graded, and only the
-    // old workbook's own sheets are reported as unreadable tables (exit code 1, not 2)
+    // without graded workbooks nothing would be overwritten: the batch is graded, and the old
+    // workbook is skipped as one benchgrade wrote (exit code 1, not 2)
     let skipping = f.run(&[
         "grade",
         "a.csv",
@@ -318,6 +318,13 @@ fn a_graded_workbook_that_would_overwrite_an_input_is_refused() {
     ]);
     assert_eq!(skipping.code, 1, "{}", skipping.stderr);
     assert!(!skipping.stderr.contains("refusing"), "{}", skipping.stderr);
+    assert!(
+        skipping
+            .stderr
+            .contains("a graded workbook benchgrade wrote"),
+        "{}",
+        skipping.stderr
+    );
     assert_eq!(f.results("out").len(), 1, "a.csv is graded");
     assert_eq!(std::fs::read(&input).unwrap(), before);
 }

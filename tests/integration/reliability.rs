@@ -546,7 +546,16 @@ fn formula_text_in_file_and_sheet_names_is_guarded_and_escapes_are_shown_not_sen
     let f = Fixture::new();
     f.xlsx("=2+2.xlsx", |wb| {
         let ws = wb.add_worksheet().set_name("=1+1").unwrap();
-        for (c, h) in ["ID", "Section", "Crude mass (g)", "Recovered mass (g)", "MP"].iter().enumerate() {
+        for (c, h) in [
+            "ID",
+            "Section",
+            "Crude mass (g)",
+            "Recovered mass (g)",
+            "MP",
+        ]
+        .iter()
+        .enumerate()
+        {
             ws.write_string(0, c as u16, *h).unwrap();
         }
         ws.write_string(1, 0, "s\u{1b}[2J1").unwrap();
@@ -562,7 +571,10 @@ fn formula_text_in_file_and_sheet_names_is_guarded_and_escapes_are_shown_not_sen
     assert!(row.starts_with("'=2+2.xlsx,'=1+1,"), "{row}");
     let check = f.run(&["check", "=2+2.xlsx"]);
     for output in [&check.stdout, &check.stderr] {
-        assert!(!output.contains('\u{1b}') && !output.contains('\u{7}'), "{output:?}");
+        assert!(
+            !output.contains('\u{1b}') && !output.contains('\u{7}'),
+            "{output:?}"
+        );
     }
     assert!(check.stdout.contains("\\x1b[2J"), "{}", check.stdout);
 }

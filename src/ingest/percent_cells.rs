@@ -1,0 +1,369 @@
+//! Which cells of an .ods or .xls workbook are shown as percentages.
+//!
+//! A spreadsheet program stores "72.8 %" as the number 0.728 and keeps the percent in the cell's
+//! format. calamine hands back the number but not the format for these two formats, so a
+//! reported recovery typed with a percent sign would be read as 0.728. This module finds the
+//! formatted cells itself: in OpenDocument the cell's `office:value-type="percentage"`, in the
+//! legacy binary format the number format of the cell's extended format (XF) record. Only a cell
+//! calamine read as a plain number is re-typed, so a position this scan gets wrong changes
+//! nothing; the grade still cannot hinge on it, since scoring reads a fraction that fits the
+//! masses as a percentage in every format (see `assess`).
+
+use std::collections::HashMap;
+use std::io::{BufReader, Read};
+use std::path::Path;
+
+use quick_xml::events::{BytesStart, Event};
+
+use super::cells::{Cell, RawSheet};
+use super::workbook::is_percent_format;
+
+/// A block of percent-formatted cells: rows `row..row + rows`, columns `col..col + cols`.
+#[derive(Clone, Copy, Debug, PartialEq, Eq)]
+pub struct Block {
+    pub row: u32,
+    pub rows: u32,
+    pub col: u32,
+    pub cols: u32,
+}
+
+/// Percent blocks by sheet name.
+pub type PercentCells = HashMap<String, Vec<Block>>;
+
+/// Re-types the plain numbers of `sheet` that lie in one of `blocks` as percentages.
+pub fn mark(sheet: &mut RawSheet, blocks: &[Block]) {
+    for b in blocks {
+        let end_row = b.row.saturating_add(b.rows);
+        let end_col = b.col.saturating_add(b.cols);
+        let first = sheet.rows.partition_point(|r| r.index < b.row);
+        for row in sheet.rows[first..]
+            .iter_mut()
+            .take_while(|r| r.index < end_row)
+        {
+            let from = row.cells.partition_point(|(c, _)| *c < b.col);
+            for (c, cell) in row.cells[from..].iter_mut() {
+                if *c >= end_col {
+                    break;
+                }
+                if let Cell::Number(v) = *cell {
+                    *cell = Cell::Percent(v);
+                }
+            }
+        }
+    }
+}
+
+fn attr(e: &BytesStart<'_>, name: &str) -> Option<String> {
+    e.attributes()
+        .flatten()
+        .find(|a| a.key.as_ref() == name)
+        .map(|a| a.value.into_owned())
+}
+
+fn repeats(e: &BytesStart<'_>, name: &str) -> u32 {
+    attr(e, name)
+        .and_then(|v| v.trim().parse().ok())
+        .unwrap_or(1)
+        .max(1)
+}
+
+/// Where the scan of one OpenDocument table stands.
+#[derive(Default)]
+struct OdsCursor {
+    sheet: Option<String>,
+    row: u32,
+    row_repeats: u32,
+    col: u32,
+    blocks: Vec<Block>,
+}
+
+impl OdsCursor {
+    fn cell(&mut self, e: &BytesStart<'_>) {
+        let cols = repeats(e, "table:number-columns-repeated");
+        if attr(e, "office:value-type").as_deref() == Some("percentage") {
+            let b = Block {
+                row: self.row,
+                rows: self.row_repeats,
+                col: self.col,
+                cols,
+            };
+            match self.blocks.last_mut() {
+                // the same block continued in the next row
+                Some(last)
+                    if last.col == b.col
+                        && last.cols == b.cols
+                        && last.row + last.rows == b.row =>
+                {
+                    last.rows += b.rows;
+                }
+                _ => self.blocks.push(b),
+            }
+        }
+        self.col = self.col.saturating_add(cols);
+    }
+}
+
+/// The percentage cells of every table in an OpenDocument spreadsheet's content.xml.
+pub fn ods(path: &Path) -> Result<PercentCells, String> {
+    let file = std::fs::File::open(path).map_err(|e| e.to_string())?;
+    let mut archive = zip::ZipArchive::new(BufReader::new(file)).map_err(|e| e.to_string())?;
+    let content = archive.by_name("content.xml").map_err(|e| e.to_string())?;
+    let mut reader = quick_xml::Reader::from_reader(BufReader::new(content));
+    let mut found = PercentCells::new();
+    let mut at = OdsCursor::default();
+    let mut buf = Vec::new();
+    loop {
+        let event = reader
+            .read_event_into(&mut buf)
+            .map_err(|e| e.to_string())?;
+        match &event {
+            Event::Start(e) | Event::Empty(e) => match e.name().as_ref() {
+                "table:table" if at.sheet.is_none() => {
+                    at = OdsCursor {
+                        sheet: Some(attr(e, "table:name").unwrap_or_default()),
+                        ..OdsCursor::default()
+                    };
+                }
+                "table:table-row" => {
+                    at.col = 0;
+                    at.row_repeats = repeats(e, "table:number-rows-repeated");
+                    if matches!(event, Event::Empty(_)) {
+                        at.row = at.row.saturating_add(at.row_repeats);
+                    }
+                }
+                "table:table-cell" | "table:covered-table-cell" => at.cell(e),
+                _ => {}
+            },
+            Event::End(e) => match e.name().as_ref() {
+                "table:table-row" => at.row = at.row.saturating_add(at.row_repeats),
+                "table:table" => {
+                    let done = std::mem::take(&mut at);
+                    if let Some(name) = done.sheet {
+                        if !done.blocks.is_empty() {
+                            found.entry(name).or_default().extend(done.blocks);
+                        }
+                    }
+                }
+                _ => {}
+            },
+            Event::Eof => break,
+            _ => {}
+        }
+        buf.clear();
+    }
+    Ok(found)
+}
+
+/// Record types of the binary workbook format (BIFF5 and BIFF8) that this scan reads.
+mod record {
+    pub const EOF: u16 = 0x000A;
+    pub const BOF: u16 = 0x0809;
+    pub const FORMAT: u16 = 0x041E;
+    pub const XF: u16 = 0x00E0;
+    pub const BOUNDSHEET: u16 = 0x0085;
+    pub const NUMBER: u16 = 0x0203;
+    pub const RK: u16 = 0x027E;
+    pub const MULRK: u16 = 0x00BD;
+    pub const FORMULA: u16 = 0x0006;
+}
+
+/// The records of a BIFF stream from `at`: (type, body).
+fn records(stream: &[u8], mut at: usize) -> impl Iterator<Item = (u16, &[u8])> {
+    std::iter::from_fn(move || {
+        let head = stream.get(at..at + 4)?;
+        let kind = u16::from_le_bytes([head[0], head[1]]);
+        let len = usize::from(u16::from_le_bytes([head[2], head[3]]));
+        let body = stream.get(at + 4..at + 4 + len)?;
+        at += 4 + len;
+        Some((kind, body))
+    })
+}
+
+fn u16_at(b: &[u8], i: usize) -> Option<u16> {
+    b.get(i..i + 2).map(|s| u16::from_le_bytes([s[0], s[1]]))
+}
+
+fn u32_at(b: &[u8], i: usize) -> Option<u32> {
+    b.get(i..i + 4)
+        .map(|s| u32::from_le_bytes([s[0], s[1], s[2], s[3]]))
+}
+
+/// A BIFF8 string of `cch` characters at `b[i..]`: a flags byte, then Latin-1 bytes or UTF-16.
+fn biff8_chars(b: &[u8], i: usize, cch: usize) -> String {
+    let Some(&flags) = b.get(i) else {
+        return String::new();
+    };
+    let body = b.get(i + 1..).unwrap_or_default();
+    if flags & 1 == 1 {
+        let units: Vec<u16> = body
+            .chunks_exact(2)
+            .take(cch)
+            .map(|p| u16::from_le_bytes([p[0], p[1]]))
+            .collect();
+        String::from_utf16_lossy(&units)
+    } else {
+        body.iter().take(cch).map(|&c| char::from(c)).collect()
+    }
+}
+
+/// Number format codes by id, the format id of each XF, and each sheet's name and offset.
+#[derive(Default)]
+struct Globals {
+    formats: HashMap<u16, String>,
+    xf_formats: Vec<u16>,
+    sheets: Vec<(String, usize)>,
+}
+
+fn globals(stream: &[u8], biff8: bool) -> Globals {
+    let mut g = Globals::default();
+    for (kind, b) in records(stream, 0) {
+        match kind {
+            record::FORMAT => {
+                let Some(id) = u16_at(b, 0) else { continue };
+                let code = if biff8 {
+                    let cch = usize::from(u16_at(b, 2).unwrap_or(0));
+                    biff8_chars(b, 4, cch)
+                } else {
+                    let cch = usize::from(b.get(2).copied().unwrap_or(0));
+                    b.iter().skip(3).take(cch).map(|&c| char::from(c)).collect()
+                };
+                g.formats.insert(id, code);
+            }
+            record::XF => g.xf_formats.push(u16_at(b, 2).unwrap_or(0)),
+            record::BOUNDSHEET => {
+                let Some(offset) = u32_at(b, 0) else { continue };
+                let cch = usize::from(b.get(6).copied().unwrap_or(0));
+                let name = if biff8 {
+                    biff8_chars(b, 7, cch)
+                } else {
+                    b.iter().skip(7).take(cch).map(|&c| char::from(c)).collect()
+                };
+                g.sheets.push((name, offset as usize));
+            }
+            record::EOF => break,
+            _ => {}
+        }
+    }
+    g
+}
+
+/// Built-in number formats 9 ("0%") and 10 ("0.00%") show percentages.
+fn format_is_percent(g: &Globals, id: u16) -> bool {
+    match g.formats.get(&id) {
+        Some(code) => is_percent_format(code),
+        None => matches!(id, 9 | 10),
+    }
+}
+
+/// The cells of one sheet substream whose XF shows a percentage.
+fn sheet_blocks(stream: &[u8], offset: usize, percent_xf: &[bool]) -> Vec<Block> {
+    let is_percent =
+        |xf: Option<u16>| xf.is_some_and(|x| percent_xf.get(usize::from(x)) == Some(&true));
+    let one = |row: u16, col: u16| Block {
+        row: u32::from(row),
+        rows: 1,
+        col: u32::from(col),
+        cols: 1,
+    };
+    let mut blocks = Vec::new();
+    for (kind, b) in records(stream, offset).skip(1) {
+        let (Some(row), Some(col)) = (u16_at(b, 0), u16_at(b, 2)) else {
+            if kind == record::EOF {
+                break;
+            }
+            continue;
+        };
+        match kind {
+            record::NUMBER | record::RK | record::FORMULA if is_percent(u16_at(b, 4)) => {
+                blocks.push(one(row, col));
+            }
+            record::MULRK => {
+                // (xf, rk) pairs of six bytes from byte 4, then the last column
+                for (i, pair) in b
+                    .get(4..b.len().saturating_sub(2))
+                    .unwrap_or_default()
+                    .chunks_exact(6)
+                    .enumerate()
+                {
+                    if is_percent(u16_at(pair, 0)) {
+                        blocks.push(one(row, col.saturating_add(i as u16)));
+                    }
+                }
+            }
+            record::EOF | record::BOF => break,
+            _ => {}
+        }
+    }
+    blocks
+}
+
+/// The percent-formatted number cells of every sheet of a legacy binary workbook.
+pub fn xls(path: &Path) -> Result<PercentCells, String> {
+    let mut file = cfb::open(path).map_err(|e| e.to_string())?;
+    let (name, biff8) = if file.exists("/Workbook") {
+        ("/Workbook", true)
+    } else {
+        ("/Book", false)
+    };
+    let mut stream = Vec::new();
+    file.open_stream(name)
+        .and_then(|mut s| s.read_to_end(&mut stream))
+        .map_err(|e| e.to_string())?;
+    let g = globals(&stream, biff8);
+    let percent_xf: Vec<bool> = g
+        .xf_formats
+        .iter()
+        .map(|&id| format_is_percent(&g, id))
+        .collect();
+    let mut found = PercentCells::new();
+    for (name, offset) in &g.sheets {
+        let blocks = sheet_blocks(&stream, *offset, &percent_xf);
+        if !blocks.is_empty() {
+            found.entry(name.clone()).or_default().extend(blocks);
+        }
+    }
+    Ok(found)
+}
+
+#[cfg(test)]
+mod tests {
+    use super::*;
+    use crate::ingest::cells::rows_from_cells;
+
+    #[test]
+    fn only_plain_numbers_inside_a_block_become_percentages() {
+        let mut sheet = RawSheet {
+            name: None,
+            rows: rows_from_cells(vec![
+                (0, 0, Cell::Text("Recovery".into())),
+                (1, 0, Cell::Number(0.728)),
+                (2, 0, Cell::Number(0.8)),
+                (2, 1, Cell::Number(0.5)),
+                (3, 0, Cell::Text("n/a".into())),
+            ]),
+        };
+        mark(
+            &mut sheet,
+            &[Block {
+                row: 1,
+                rows: 3,
+                col: 0,
+                cols: 1,
+            }],
+        );
+        let at = |r: usize, c: u32| sheet.rows[r].get(c).clone();
+        assert_eq!(at(1, 0), Cell::Percent(0.728));
+        assert_eq!(at(2, 0), Cell::Percent(0.8));
+        assert_eq!(at(2, 1), Cell::Number(0.5));
+        assert_eq!(at(3, 0), Cell::Text("n/a".into()));
+        assert_eq!(at(0, 0), Cell::Text("Recovery".into()));
+    }
+
+    #[test]
+    fn biff_records_stop_at_a_truncated_one() {
+        let mut s = vec![0x03, 0x02, 0x02, 0x00, 7, 7];
+        s.extend([0x0A, 0x00, 0x10, 0x00, 1]); // says 16 bytes, holds 1
+        let got: Vec<u16> = records(&s, 0).map(|(k, _)| k).collect();
+        assert_eq!(got, vec![0x0203]);
+    }
+}
