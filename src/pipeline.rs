@@ -6,6 +6,7 @@
 use std::path::{Path, PathBuf};
 use std::sync::mpsc::{sync_channel, SyncSender};
 
+use crate::assess::duplicates::{Counted, Repeats};
 use crate::assess::{calibration, Assessor, Calibration, Centres, Context};
 use crate::config::Config;
 use crate::error::{ConfigError, WriteError};
@@ -74,7 +75,7 @@ fn lock_wait() -> std::time::Duration {
 fn context<'a>(
     config: &'a Config,
     calibration: Option<&'a Calibration>,
-    centres: Option<&'a Centres>,
+    inputs: &Inputs<'a>,
 ) -> Context<'a> {
     Context {
         library: &config.library,
@@ -82,7 +83,9 @@ fn context<'a>(
         reference: config.reference.clone(),
         tolerances: &config.rubric.tolerances,
         calibration,
-        centres,
+        centres: inputs.centres,
+        counted: config.rubric.grading.duplicates,
+        repeats: inputs.repeats,
     }
 }
 
@@ -141,6 +144,8 @@ struct Inputs<'a> {
     calibration: Option<&'a Path>,
     /// Section centres from the first pass, for `outlier`.
     centres: Option<&'a Centres>,
+    /// The first pass's repeated students, for `duplicates = "last"`.
+    repeats: Option<&'a Repeats>,
     /// The first pass's record of what it read, replayed instead of reading `files` again.
     replay: Option<&'a Replay>,
 }
@@ -156,6 +161,7 @@ impl<'a> Inputs<'a> {
             files,
             calibration,
             centres: Some(&first.centres),
+            repeats: Some(&first.repeats),
             replay: first.replay.as_ref(),
         }
     }
@@ -164,6 +170,7 @@ impl<'a> Inputs<'a> {
 /// What the first pass learnt: the section centres, and its record of the inputs, if kept.
 struct FirstPass {
     centres: Centres,
+    repeats: Repeats,
     replay: Option<Replay>,
 }
 
@@ -196,7 +203,12 @@ impl Grader<'_> {
         let a = self.assessor.assess(sub);
         let score = if self.scoring {
             let s = &a.submission;
-            let own = self.overrides.for_row(s.student_id.as_deref(), &s.section);
+            // an override applies to the submission that counts, never to a repeat
+            let own = if a.has(crate::model::Flag::DuplicateStudent) {
+                Vec::new()
+            } else {
+                self.overrides.for_row(s.student_id.as_deref(), &s.section)
+            };
             let refs: Vec<&Override> = own.iter().collect();
             score::score(&self.config.rubric, &a, &refs)
         } else {
@@ -220,7 +232,7 @@ fn stream(
     let calibration = load_calibration(inputs.calibration, &mut batch.problems);
     let mut grader = Grader {
         config,
-        assessor: Assessor::new(context(config, calibration.as_ref(), inputs.centres)),
+        assessor: Assessor::new(context(config, calibration.as_ref(), inputs)),
         overrides: config.overrides.clone(),
         scoring: inputs.centres.is_some(),
     };
@@ -277,6 +289,8 @@ fn section_centres(
     spill_dir: Option<&Path>,
 ) -> Result<FirstPass, RunError> {
     let mut centres = Centres::default();
+    let mut repeats = Repeats::default();
+    let last_counts = config.rubric.grading.duplicates == Counted::Last;
     let mut scratch = Batch::default();
     let mut first_pass = config.clone();
     first_pass.overrides = crate::rubric::overrides::Overrides::default();
@@ -284,6 +298,7 @@ fn section_centres(
         files,
         calibration: calibration_file,
         centres: None,
+        repeats: None,
         replay: None,
     };
     let mut spill = spill_dir.and_then(SpillWriter::create);
@@ -294,13 +309,17 @@ fn section_centres(
         &mut scratch,
         &mut |g| {
             centres.add(&g.assessed);
+            if last_counts && g.assessed.has(crate::model::Flag::DuplicateStudent) {
+                repeats.add_repeat(&g.assessed.submission);
+            }
             Ok(())
         },
         &mut |_| {},
     )?;
-    centres.settle();
+    centres.settle(config.rubric.tolerances.outlier_min_n);
     Ok(FirstPass {
         centres,
+        repeats,
         replay: spill.and_then(SpillWriter::finish),
     })
 }

@@ -191,6 +191,13 @@ mod tests {
         assert_eq!(bench_key("B7"), "7");
         assert_eq!(bench_key("7"), "7");
         assert_eq!(bench_key("Mel-Temp 3"), "meltemp3");
+        // leading zeros and prefixes name one bench: "01", "1", "B01", "Bench 1"
+        for written in ["01", "1", "B01", "Bench 1", "bench 001", "Station 1"] {
+            assert_eq!(bench_key(written), "1", "{written}");
+        }
+        assert_eq!(bench_key("0"), "0");
+        assert_eq!(bench_key("10"), "10");
+        assert_eq!(bench_key("B10"), "10");
     }
 
     fn reading(apparatus: &str, row: usize, observed: f64, certified: f64) -> Reading {

@@ -15,7 +15,18 @@ use crate::fields::Field;
 use crate::ingest::Submission;
 use crate::rubric::Tolerances;
 
-fn missing_fields(sub: &Submission) -> Vec<&'static str> {
+/// Whether the sheet itself has no column for `field` (for a melting reading: no melting
+/// column at all, which the layout records as a missing melting range).
+fn sheet_lacks(sub: &Submission, field: Field) -> bool {
+    let melting = [Field::MpRange, Field::MpOnset, Field::MpClear];
+    if melting.contains(&field) {
+        melting.iter().any(|f| sub.no_column.contains(f))
+    } else {
+        sub.no_column.contains(&field)
+    }
+}
+
+fn missing_fields(sub: &Submission) -> Vec<String> {
     let mp_unreadable = sub.is_unreadable(Field::MpRange);
     let checks: [(bool, Field); 5] = [
         (sub.student_id.is_none(), Field::StudentId),
@@ -27,7 +38,13 @@ fn missing_fields(sub: &Submission) -> Vec<&'static str> {
     checks
         .iter()
         .filter(|(empty, f)| *empty && !sub.is_unreadable(*f))
-        .map(|(_, f)| f.label())
+        .map(|(_, f)| {
+            if sheet_lacks(sub, *f) {
+                format!("{} (the sheet has no column for it)", f.label())
+            } else {
+                f.label().to_string()
+            }
+        })
         .collect()
 }
 

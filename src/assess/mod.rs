@@ -4,7 +4,8 @@
 
 pub mod accepted;
 pub mod calibration;
-mod duplicates;
+pub mod duplicates;
+pub mod excused;
 mod judge;
 pub mod measures;
 pub mod physchem;
@@ -20,7 +21,7 @@ use crate::reference::{Compound, Library};
 use crate::rubric::{Experiment, Tolerances};
 pub use accepted::{Reference, ReferenceRule};
 pub use calibration::Calibration;
-use duplicates::Duplicates;
+use duplicates::{Counted, Duplicates, LastCounts, Repeats};
 
 /// What the assessment needs besides the rows.
 pub struct Context<'a> {
@@ -32,6 +33,10 @@ pub struct Context<'a> {
     pub calibration: Option<&'a Calibration>,
     /// Each section's centres, for `outlier`.
     pub centres: Option<&'a Centres>,
+    /// Which repeated submission counts, and (for the last) the first pass's plan of repeats;
+    /// without a plan the first counts.
+    pub counted: Counted,
+    pub repeats: Option<&'a Repeats>,
 }
 
 /// Why a row is an outlier in its section, or nothing.
@@ -45,7 +50,7 @@ fn outlier_note(centres: &Centres, a: &Assessed) -> Option<String> {
             format!("{what} {v:.1} {unit} is {z:+.1} robust z from the section's median {med:.1} {unit} ({spread})")
         })
         .collect();
-    (!why.is_empty()).then(|| why.join("; "))
+    (!why.is_empty()).then(|| why.join(" and "))
 }
 
 /// Formats a mass in grams for a sentence: up to three decimals, trailing zeros dropped.
@@ -116,6 +121,7 @@ fn resolve_compound<'a>(name: Option<&str>, ctx: &Context<'a>) -> Resolved<'a> {
 pub struct Assessor<'a> {
     ctx: Context<'a>,
     duplicates: Duplicates,
+    last_counts: LastCounts,
     /// Calibration keys of the apparatus (or benches) the rows named.
     apparatus_seen: std::collections::BTreeSet<String>,
     compounds: HashMap<String, Resolved<'a>>,
@@ -136,6 +142,7 @@ impl<'a> Assessor<'a> {
         Assessor {
             ctx,
             duplicates: Duplicates::default(),
+            last_counts: LastCounts::default(),
             apparatus_seen: std::collections::BTreeSet::default(),
             compounds: HashMap::new(),
             default,
@@ -242,6 +249,54 @@ impl<'a> Assessor<'a> {
         (ceiling, hot.map(|sh| physchem::min_solvent_ml(crude, sh)))
     }
 
+    /// The row's flags, from the assessment and what came before it; none for an excused
+    /// student, against whom nothing about the row is held.
+    fn flags(
+        &mut self,
+        a: &Assessed,
+        unknown: Option<String>,
+        outside_span: Option<String>,
+    ) -> Vec<(Flag, String)> {
+        let t = self.ctx.tolerances;
+        let mut flags = Vec::new();
+        if let Some(why) = unknown {
+            flags.push((Flag::UnknownCompound, why));
+        }
+        if let Some(why) = outside_span {
+            flags.push((Flag::OutsideCalibratedSpan, why));
+        }
+        judge::impossible(a, t, &mut flags);
+        judge::suspicious(a, t, &mut flags);
+        let repeat = match (self.ctx.counted, self.ctx.repeats) {
+            (Counted::Last, Some(plan)) => self.last_counts.check(&a.submission, plan),
+            _ => self.duplicates.check(&a.submission),
+        };
+        if let Some(why) = repeat {
+            flags.push((Flag::DuplicateStudent, why));
+        }
+        let impossible = flags
+            .iter()
+            .any(|(f, _)| f.severity() == Severity::Impossible);
+        if let (false, Some(c)) = (impossible, self.ctx.centres) {
+            if let Some(why) = outlier_note(c, a) {
+                flags.push((Flag::Outlier, why));
+            }
+        }
+        if let (true, Some(t)) = (a.submission.single_reading, a.mp_clear_c) {
+            flags.push((
+                Flag::SingleReading,
+                format!(
+                    "one temperature ({}) was recorded, not a range; it is used as the clear point",
+                    celsius(t)
+                ),
+            ));
+        }
+        if a.excused.is_some() {
+            flags.clear();
+        }
+        flags
+    }
+
     /// Assesses the next submission of the batch.
     pub fn assess(&mut self, mut sub: Submission) -> Assessed {
         let resolved = self.resolve(sub.compound.as_deref());
@@ -256,17 +311,17 @@ impl<'a> Assessor<'a> {
         );
         let (max_recovery_pct, min_solvent_ml) = self.solvent_bounds(&sub, resolved.compound);
         let recovery_pct = measures::recovery_pct(sub.crude_mass_g, sub.recovered_mass_g);
-        if let (Some(reported), Some(rec)) = (sub.reported_recovery_pct, recovery_pct) {
-            if measures::reported_as_percent(reported, rec, t.recovery_mismatch_pct).1 {
-                sub.notes.push(format!(
-                    "reported recovery {reported} read as a fraction ({:.1} %)",
-                    reported * 100.0
-                ));
-            }
-        }
+        read_reported_as_percent(&mut sub, recovery_pct, t);
+        // one temperature is not a range: its width was not measured
+        let range_width_c = if sub.single_reading {
+            None
+        } else {
+            measures::range_width_c(readings.onset, readings.clear)
+        };
+        let excused = excused::reason(&sub);
         let mut a = Assessed {
             recovery_pct,
-            range_width_c: measures::range_width_c(readings.onset, readings.clear),
+            range_width_c,
             depression_c: measures::depression_c(reference, readings.clear),
             compound: resolved.compound.map(|c| c.name.clone()),
             reference_mp_c: reference,
@@ -279,30 +334,27 @@ impl<'a> Assessor<'a> {
             calibration: readings.note,
             submission: sub,
             flags: Vec::new(),
+            excused,
         };
-        let mut flags = Vec::new();
-        if let Some(why) = resolved.unknown {
-            flags.push((Flag::UnknownCompound, why));
-        }
-        if let Some(why) = readings.outside_span {
-            flags.push((Flag::OutsideCalibratedSpan, why));
-        }
-        judge::impossible(&a, t, &mut flags);
-        judge::suspicious(&a, t, &mut flags);
-        if let Some(why) = self.duplicates.check(&a.submission) {
-            flags.push((Flag::DuplicateStudent, why));
-        }
-        let impossible = flags
-            .iter()
-            .any(|(f, _)| f.severity() == Severity::Impossible);
-        if let (false, Some(c)) = (impossible, self.ctx.centres) {
-            if let Some(why) = outlier_note(c, &a) {
-                flags.push((Flag::Outlier, why));
-            }
-        }
+        let mut flags = self.flags(&a, resolved.unknown, readings.outside_span);
         flags.sort_by_key(|(f, _)| f.code());
         a.flags = flags;
         a
+    }
+}
+
+/// A reported recovery that is a fraction fitting the masses is a percentage typed without its
+/// format: it is read as one here, once, so that flags, scoring and statistics all use the
+/// same value.
+fn read_reported_as_percent(sub: &mut Submission, recovery_pct: Option<f64>, t: &Tolerances) {
+    if let (Some(reported), Some(rec)) = (sub.reported_recovery_pct, recovery_pct) {
+        if measures::reported_as_percent(reported, rec, t.recovery_mismatch_pct).1 {
+            let pct = crate::ingest::cells::percent_of_fraction(reported);
+            sub.notes.push(format!(
+                "reported recovery {reported} read as a fraction ({pct} %)"
+            ));
+            sub.reported_recovery_pct = Some(pct);
+        }
     }
 }
 

@@ -38,6 +38,8 @@ fn with_rule(
         tolerances: &t,
         calibration,
         centres: None,
+        counted: crate::rubric::Counted::First,
+        repeats: None,
     };
     assess_all(subs, ctx)
 }
@@ -446,6 +448,8 @@ fn an_accepted_range_puts_clear_points_inside_it_at_the_reference() {
         tolerances: &t,
         calibration: None,
         centres: None,
+        counted: crate::rubric::Counted::First,
+        repeats: None,
     };
     let out = assess_all(vec![sulfa(165.0), sulfa(161.0), sulfa(168.0)], ctx);
     assert_eq!(out[0].depression_c, Some(0.0));
@@ -469,6 +473,8 @@ fn outliers_by_robust_z_within_the_section() {
         tolerances: &t0,
         calibration: None,
         centres: None,
+        counted: crate::rubric::Counted::First,
+        repeats: None,
     };
     let section: Vec<Submission> = [70.0, 71.0, 72.0, 73.0, 74.0]
         .iter()
@@ -485,7 +491,7 @@ fn outliers_by_robust_z_within_the_section() {
     for a in assess_all(section, first) {
         centres.add(&a);
     }
-    centres.settle();
+    centres.settle(5);
     let lib = Library::builtin().unwrap();
     let t = Tolerances::default();
     let e = experiment();
@@ -496,6 +502,8 @@ fn outliers_by_robust_z_within_the_section() {
         tolerances: &t,
         calibration: None,
         centres: Some(&centres),
+        counted: crate::rubric::Counted::First,
+        repeats: None,
     };
     let row = |rec: f64| Submission {
         crude_mass_g: Some(3.0),

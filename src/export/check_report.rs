@@ -141,7 +141,7 @@ pub fn layouts(sheets: &[SheetReport], style: Style) -> String {
     out
 }
 
-/// Flagged rows grouped by file, then section, in input order.
+/// Flagged and excused rows grouped by file, then section, in input order.
 pub fn flagged(rows: &[Graded], style: Style) -> String {
     let mut out = String::new();
     let _ = writeln!(out, "{}", style.bold("Flagged rows"));
@@ -149,7 +149,7 @@ pub fn flagged(rows: &[Graded], style: Style) -> String {
     for a in rows
         .iter()
         .map(|g| &g.assessed)
-        .filter(|a| !a.flags.is_empty())
+        .filter(|a| !a.flags.is_empty() || a.excused.is_some())
     {
         let key = (a.submission.source.as_str(), a.submission.section.as_str());
         match groups.iter_mut().find(|g| (g.0, g.1) == key) {
@@ -169,6 +169,10 @@ pub fn flagged(rows: &[Graded], style: Style) -> String {
         let _ = writeln!(out, "    section {}", printable(section));
         for a in members {
             let id = printable(a.submission.student_id.as_deref().unwrap_or("(no id)"));
+            if let Some(why) = &a.excused {
+                let who = format!("row {:<5} {:<12}", a.submission.row, id);
+                let _ = writeln!(out, "      {who} - excused, not graded: {}", printable(why));
+            }
             for (i, (flag, note)) in a.flags.iter().enumerate() {
                 let (mark, code) = match flag.severity() {
                     Severity::Impossible => ("!", style.impossible(flag.code())),
@@ -209,9 +213,13 @@ pub fn legend(rows: &[Graded], style: Style) -> String {
 
 /// Totals and the problems, one line each.
 pub fn summary(tally: &Tally, problems: &[Problem], files: usize) -> String {
-    let clean = tally.rows - tally.impossible - tally.suspicious;
+    let clean = tally.rows - tally.impossible - tally.suspicious - tally.excused;
+    let excused = match tally.excused {
+        0 => String::new(),
+        n => format!(", {n} excused (-)"),
+    };
     let mut out = format!(
-        "{} submissions from {} files: {} with impossible entries (!), {} suspicious only (?), {} clean\n",
+        "{} submissions from {} files: {} with impossible entries (!), {} suspicious only (?), {} clean{excused}\n",
         tally.rows, files, tally.impossible, tally.suspicious, clean
     );
     for p in problems {

@@ -1,8 +1,10 @@
 //! DIR/gradebook.csv: one row per student for a learning-management system's generic CSV
 //! import: student_id, student_name, section, score, max_score, percent, letter, feedback.
-//! A later submission with an id already seen in its section (`duplicate-student`) is left
-//! out: the first one counts, and results.csv lists both. Text from student input is guarded
-//! against formula injection.
+//! A repeated submission that does not count (`duplicate-student`; the rubric's
+//! `grading.duplicates` says whether the first or the last counts) is left out, and results.csv
+//! lists both. An excused student keeps the row with score, percent and letter empty (common
+//! practice: a generic LMS import leaves a blank grade blank, where 0 would be a failing grade).
+//! Text from student input is guarded against formula injection.
 
 use std::path::{Path, PathBuf};
 
@@ -54,9 +56,9 @@ impl Gradebook {
             t(s.student_id.as_deref()),
             t(s.student_name.as_deref()),
             t(Some(&s.section)),
-            number(Some(sc.total)),
+            number((!sc.excused).then_some(sc.total)),
             number(Some(sc.max)),
-            number(Some((sc.percent * 100.0).round() / 100.0)),
+            number((!sc.excused).then_some((sc.percent * 100.0).round() / 100.0)),
             sc.letter.clone().unwrap_or_default(),
             t(Some(&sc.feedback)),
         ];

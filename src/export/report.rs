@@ -190,15 +190,17 @@ pub fn sections_table(stats: &SectionStats) -> Table {
             col("q3", "q3", 2),
             col("95 % CI low", "ci95_low", 2),
             col("95 % CI high", "ci95_high", 2),
+            col("excluded", "excluded", 0),
+            col("excused", "excused", 0),
         ],
         rows: stats
             .summaries()
             .into_iter()
-            .filter_map(|(sec, m, sum)| {
-                let x = sum?;
+            .filter_map(|row| {
+                let x = row.summary?;
                 Some(vec![
-                    text(sec),
-                    text(m.key()),
+                    text(row.section),
+                    text(row.measure.key()),
                     Cell::Count(x.n),
                     Cell::Number(x.mean),
                     Cell::Number(x.sd),
@@ -207,6 +209,8 @@ pub fn sections_table(stats: &SectionStats) -> Table {
                     Cell::Number(x.q3),
                     Cell::Number(x.ci95_low),
                     Cell::Number(x.ci95_high),
+                    Cell::Count(row.excluded),
+                    Cell::Count(row.excused),
                 ])
             })
             .collect(),

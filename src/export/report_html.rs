@@ -69,7 +69,12 @@ fn grades(s: &mut String, r: &Report) {
         .iter()
         .map(|(l, n)| (l.clone(), *n as f64))
         .collect();
-    s.push_str(&bar_chart("Students by letter grade", &bars, "students"));
+    let n: usize = r.letters.iter().map(|(_, n)| n).sum();
+    s.push_str(&bar_chart(
+        &format!("Students by letter grade (n = {n} graded)"),
+        &bars,
+        "students",
+    ));
 }
 
 fn benches(s: &mut String, r: &Report) {
@@ -92,7 +97,7 @@ fn statistics(s: &mut String, r: &Report) {
     s.push_str(&table(&report::sections_table(r.stats)));
     let _ = write!(
         s,
-        "<p>Rows with impossible entries are left out; {}.</p>",
+        "<p>Each measure leaves out the rows whose entries for it are impossible (excluded) and excused students; the score counts every graded student; {}.</p>",
         escape(QUANTILE_DEFINITION)
     );
 }

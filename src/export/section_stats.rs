@@ -8,18 +8,19 @@ use super::number;
 use crate::error::WriteError;
 use crate::stats::sections::SectionStats;
 
+use crate::stats::LEFT_OUT_COLUMNS;
 pub use crate::stats::SUMMARY_COLUMNS as COLUMNS;
 
 pub fn write(path: &Path, stats: &SectionStats, stage: &Stage) -> Result<(), WriteError> {
     write_atomic(path, stage, |w| {
         let mut csv = csv::Writer::from_writer(w);
-        csv.write_record(COLUMNS)?;
-        for (section, measure, s) in stats.summaries() {
+        csv.write_record(COLUMNS.iter().chain(&LEFT_OUT_COLUMNS))?;
+        for row in stats.summaries() {
             let mut rec = vec![
-                super::neutralise(section).into_owned(),
-                measure.key().to_string(),
+                super::neutralise(row.section).into_owned(),
+                row.measure.key().to_string(),
             ];
-            if let Some(s) = s {
+            if let Some(s) = &row.summary {
                 rec.push(s.n.to_string());
                 for v in s.values() {
                     rec.push(number(Some(v)));
@@ -28,6 +29,8 @@ pub fn write(path: &Path, stats: &SectionStats, stage: &Stage) -> Result<(), Wri
                 rec.push("0".into());
                 rec.extend(std::iter::repeat_n(String::new(), 10));
             }
+            rec.push(row.excluded.to_string());
+            rec.push(row.excused.to_string());
             csv.write_record(&rec)?;
         }
         csv.flush()

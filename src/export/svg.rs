@@ -111,7 +111,7 @@ pub fn box_plot(title: &str, unit: &str, groups: &[(String, Vec<f64>)]) -> Strin
         let y = 20.0 + row_h * i as f64 + row_h / 2.0;
         let _ = write!(
             s,
-            r#"<text x="{}" y="{}" text-anchor="end" class="label">{} (n={})</text>"#,
+            r#"<text x="{}" y="{}" text-anchor="end" class="label">{} (n = {})</text>"#,
             left - 8.0,
             y + 4.0,
             escape(name),
@@ -203,7 +203,7 @@ mod tests {
                 ("B<".into(), vec![2.0, 9.0]),
             ],
         );
-        assert!(svg.contains("A (n=3)") && svg.contains("B&lt; (n=2)"));
+        assert!(svg.contains("A (n = 3)") && svg.contains("B&lt; (n = 2)"));
         assert_eq!(svg.matches("<rect").count(), 2);
     }
 }

@@ -528,8 +528,14 @@ fn write_graded_row(
         ws.write_number(r, c, cs.points)?;
         c += 1;
     }
-    ws.write_number(r, c, g.score.total)?; // bold by its column's format
     ws.write_number(r, c + 1, g.score.max)?;
+    if let Some(why) = &g.assessed.excused {
+        // no score, no letter: the reason where the flags would be
+        ws.write_string(r, c + 2, "excused")?;
+        ws.write_string(r, c + 4, fit_cell(&format!("excused: {why}")))?;
+        return Ok(());
+    }
+    ws.write_number(r, c, g.score.total)?; // bold by its column's format
     if let Some(l) = &g.score.letter {
         ws.write_string(r, c + 2, l)?;
     }

@@ -29,7 +29,7 @@ pub(super) fn statistics_sheet(
     ws.set_column_width(1, 18)?;
     let mut r = summary_table(ws, stats, |s| sections.iter().any(|x| x == s), &f.header)?;
     r += 1;
-    ws.write_string(r, 0, format!("Statistics leave out rows with impossible entries; {QUANTILE_DEFINITION}; sd and ci95 use n - 1."))?;
+    ws.write_string(r, 0, format!("Each measure leaves out the rows whose entries for it are impossible (excluded) and every excused student; the score counts every graded student; {QUANTILE_DEFINITION}; sd and ci95 use n - 1."))?;
     r += 2;
     ws.write_string_with_format(r, 0, "Flag counts", &f.bold)?;
     r += 1;
@@ -68,21 +68,28 @@ pub(crate) fn summary_table(
     keep: impl Fn(&str) -> bool,
     header: &Format,
 ) -> Result<u32, XlsxError> {
-    for (c, h) in crate::stats::SUMMARY_COLUMNS.iter().enumerate() {
+    let stats_columns = crate::stats::SUMMARY_COLUMNS.len() as u16;
+    let headers = crate::stats::SUMMARY_COLUMNS
+        .iter()
+        .chain(&crate::stats::LEFT_OUT_COLUMNS);
+    for (c, h) in headers.enumerate() {
         ws.write_string_with_format(0, c as u16, *h, header)?;
     }
     let mut r = 1;
-    for (section, measure, summary) in stats.summaries().into_iter().filter(|(s, _, _)| keep(s)) {
-        ws.write_string(r, 0, fit_cell(section))?;
-        ws.write_string(r, 1, measure.key())?;
-        ws.write_number(r, 2, summary.as_ref().map_or(0.0, |s| s.n as f64))?;
-        for (i, v) in summary
+    for row in stats.summaries().into_iter().filter(|x| keep(x.section)) {
+        ws.write_string(r, 0, fit_cell(row.section))?;
+        ws.write_string(r, 1, row.measure.key())?;
+        ws.write_number(r, 2, row.summary.as_ref().map_or(0.0, |s| s.n as f64))?;
+        for (i, v) in row
+            .summary
             .iter()
             .flat_map(super::super::stats::Summary::values)
             .enumerate()
         {
             write_opt(ws, r, 3 + i as u16, v)?;
         }
+        ws.write_number(r, stats_columns, row.excluded as f64)?;
+        ws.write_number(r, stats_columns + 1, row.excused as f64)?;
         r += 1;
     }
     Ok(r)

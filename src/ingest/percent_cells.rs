@@ -41,7 +41,7 @@ pub fn mark(sheet: &mut RawSheet, blocks: &[Block]) {
             .take_while(|r| r.index < end_row)
         {
             let from = row.cells.partition_point(|(c, _)| *c < b.col);
-            for (c, cell) in row.cells[from..].iter_mut() {
+            for (c, cell) in &mut row.cells[from..] {
                 if *c >= end_col {
                     break;
                 }

@@ -2,6 +2,7 @@
 //! and the student rows down to the first totals or notes block.
 
 use serde::Serialize;
+use std::fmt::Write as _;
 
 use super::cells::{column_letters, RawRow, RawSheet};
 use super::headers::{mapping_line, meaning, parse_header, ColumnOverrides, HeaderMeaning};
@@ -85,16 +86,17 @@ impl Layout {
             .iter()
             .map(|c| format!("{} \"{}\"", c.letter, c.header))
             .collect();
-        m.push_str(&format!("; columns not used: {}", heads.join(", ")));
+        let _ = write!(m, "; columns not used: {}", heads.join(", "));
         let lines: Vec<String> = unused
             .iter()
             .zip(&self.missing)
             .map(|(c, f)| mapping_line(&c.letter, Some(*f)))
             .collect();
-        m.push_str(&format!(
+        let _ = write!(
+            m,
             "; if one holds it, map it in a --columns file's [columns] table, for example: {}",
             lines.join(" and ")
-        ));
+        );
         Some(m)
     }
 }
@@ -265,39 +267,7 @@ fn resolve(cols: Vec<(Column, HeaderMeaning)>) -> Vec<Column> {
         columns.push(c);
     }
     for field in Field::ALL {
-        let claims: Vec<usize> = (0..columns.len())
-            .filter(|&i| columns[i].field == Some(field))
-            .collect();
-        if claims.len() < 2 {
-            continue;
-        }
-        let explicit: Vec<usize> = claims
-            .iter()
-            .copied()
-            .filter(|&i| columns[i].explicit)
-            .collect();
-        let keep = (explicit.len() == 1).then(|| explicit[0]);
-        let letters: Vec<String> = claims.iter().map(|&i| columns[i].letter.clone()).collect();
-        for &i in &claims {
-            if Some(i) == keep {
-                continue;
-            }
-            columns[i].field = None;
-            columns[i].note = Some(match keep {
-                Some(k) => format!(
-                    "not used: the {} is mapped explicitly to column {}",
-                    field.label(),
-                    columns[k].letter
-                ),
-                None => format!(
-                    "not used: columns {} all look like the {}; say which holds it in a --columns file, e.g. {} and {}",
-                    letters.join(" and "),
-                    field.label(),
-                    mapping_line(&columns[i].letter, Some(field)),
-                    mapping_line(&letters[usize::from(letters[0] == columns[i].letter)], None)
-                ),
-            });
-        }
+        settle_claims(&mut columns, field);
     }
     let has_pair = columns.iter().any(|c| c.field == Some(Field::MpOnset))
         && columns.iter().any(|c| c.field == Some(Field::MpClear));
@@ -312,6 +282,43 @@ fn resolve(cols: Vec<(Column, HeaderMeaning)>) -> Vec<Column> {
         }
     }
     columns
+}
+
+/// Two or more columns that claim `field`: an explicit mapping wins; else none is used.
+fn settle_claims(columns: &mut [Column], field: Field) {
+    let claims: Vec<usize> = (0..columns.len())
+        .filter(|&i| columns[i].field == Some(field))
+        .collect();
+    if claims.len() < 2 {
+        return;
+    }
+    let explicit: Vec<usize> = claims
+        .iter()
+        .copied()
+        .filter(|&i| columns[i].explicit)
+        .collect();
+    let keep = (explicit.len() == 1).then(|| explicit[0]);
+    let letters: Vec<String> = claims.iter().map(|&i| columns[i].letter.clone()).collect();
+    for &i in &claims {
+        if Some(i) == keep {
+            return;
+        }
+        columns[i].field = None;
+        columns[i].note = Some(match keep {
+            Some(k) => format!(
+                "not used: the {} is mapped explicitly to column {}",
+                field.label(),
+                columns[k].letter
+            ),
+            None => format!(
+                "not used: columns {} all look like the {}; say which holds it in a --columns file, e.g. {} and {}",
+                letters.join(" and "),
+                field.label(),
+                mapping_line(&columns[i].letter, Some(field)),
+                mapping_line(&letters[usize::from(letters[0] == columns[i].letter)], None)
+            ),
+        });
+    }
 }
 
 /// Text in a row's first cell that marks the end of the student rows.

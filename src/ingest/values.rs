@@ -46,10 +46,10 @@ impl Unit {
     /// The unit's usual symbol: "g", "mg", "mL", "°C", "%".
     pub fn symbol(&self) -> String {
         let scaled = |f: f64, base: &str| match f {
-            x if x == 1.0 => base.to_string(),
-            x if x == 0.001 => format!("m{base}"),
-            x if x == 1000.0 => format!("k{base}"),
-            x if x == 1e-6 => format!("µ{base}"),
+            1.0 => base.to_string(),
+            0.001 => format!("m{base}"),
+            1000.0 => format!("k{base}"),
+            1e-6 => format!("µ{base}"),
             x => format!("{x} {base}"),
         };
         match self {

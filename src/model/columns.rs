@@ -11,7 +11,7 @@
 //! measure is one entry below plus its computation.
 
 use super::measure::{sentences, MeasureRole};
-use super::{Assessed, CriterionScore, Flag, Row};
+use super::{Assessed, CriterionScore, Flag, Row, Score};
 
 /// What a column holds, which decides how each output writes it.
 #[derive(Clone, Copy, Debug, PartialEq, Eq)]
@@ -225,6 +225,11 @@ fn a(r: Row<'_>) -> &Assessed {
     r.assessed
 }
 
+/// The score of a graded row; `None` for an excused student or a row not yet scored.
+fn graded(r: Row<'_>) -> Option<&Score> {
+    r.score.filter(|s| !s.excused)
+}
+
 macro_rules! registry {
     ($( $(#[doc = $doc:literal])* $id:ident = { $($body:tt)* } )*) => {
         $( $(#[doc = $doc])* pub const $id: Column = Column { $($body)* ..BLANK }; )*
@@ -307,7 +312,7 @@ registry! {
         personal: Some(Personal::Quotes),
         get: |r| Value::Items(Items::Texts(&a(r).submission.notes)), }
     PURITY_MOL_PCT = { name: "purity_mol_pct", label: "Purity", unit: Some("mol %"),
-        kind: Kind::Number, outputs: EVERYWHERE,
+        kind: Kind::Number, outputs: EVERYWHERE, shaded_by: &[Flag::AboveReference],
         measure: Some(MeasureRole::compared(sentences::purity, "no purity estimate could be made")),
         get: |r| Value::Number(a(r).purity_mol_pct), }
     PURITY_NOTE = { name: "purity_note", label: "Purity note",
@@ -328,13 +333,13 @@ registry! {
         get: |r| Value::Text(a(r).calibration.as_deref()), }
     SCORE = { name: "score", label: "Score", unit: Some("points"), kind: Kind::Number,
         outputs: RESULTS_PARQUET, measure: Some(MeasureRole::TOTAL),
-        get: |r| Value::Number(r.score.map(|s| s.total)), }
+        get: |r| Value::Number(graded(r).map(|s| s.total)), }
     MAX_SCORE = { name: "max_score", label: "Max", kind: Kind::Number,
         outputs: RESULTS_PARQUET, get: |r| Value::Number(r.score.map(|s| s.max)), }
     PERCENT = { name: "percent", label: "Percent", unit: Some("%"), kind: Kind::Number,
-        outputs: RESULTS_PARQUET, get: |r| Value::Number(r.score.map(|s| s.percent)), }
+        outputs: RESULTS_PARQUET, get: |r| Value::Number(graded(r).map(|s| s.percent)), }
     LETTER = { name: "letter", label: "Letter",
-        get: |r| Value::Text(r.score.and_then(|s| s.letter.as_deref())), }
+        get: |r| Value::Text(graded(r).and_then(|s| s.letter.as_deref())), }
     POINTS = { name: "points", label: "Points", kind: Kind::Points,
         get: |r| Value::Points(r.score.map_or(&[], |s| s.criteria.as_slice())), }
     FEEDBACK = { name: "feedback", label: "Feedback", personal: Some(Personal::Quotes),
@@ -356,6 +361,9 @@ registry! {
         get: |r| Value::Number(
             a(r).submission.reported_recovery_pct.zip(a(r).recovery_pct).map(|(rep, rec)| (rep - rec).abs())
         ), }
+    /// `graded`, or `excused` for a student who withdrew or was excused (no score given).
+    STATUS = { name: "status", label: "Status", outputs: RESULTS_PARQUET,
+        get: |r| Value::Text(Some(if a(r).excused.is_some() { "excused" } else { "graded" })), }
 }
 
 #[cfg(test)]

@@ -20,6 +20,7 @@ pub enum Flag {
     SolventBelowMinimum,
     OutsideCalibratedSpan,
     Outlier,
+    SingleReading,
 }
 
 /// Whether a flag marks an entry that cannot be true or one that only looks wrong.
@@ -30,7 +31,7 @@ pub enum Severity {
 }
 
 impl Flag {
-    pub const ALL: [Flag; 15] = [
+    pub const ALL: [Flag; 16] = [
         Flag::RecoveryOver100,
         Flag::RangeInverted,
         Flag::AboveReference,
@@ -46,6 +47,7 @@ impl Flag {
         Flag::SolventBelowMinimum,
         Flag::OutsideCalibratedSpan,
         Flag::Outlier,
+        Flag::SingleReading,
     ];
 
     pub fn code(self) -> &'static str {
@@ -65,6 +67,7 @@ impl Flag {
             Flag::SolventBelowMinimum => "solvent-below-minimum",
             Flag::OutsideCalibratedSpan => "outside-calibrated-span",
             Flag::Outlier => "outlier",
+            Flag::SingleReading => "single-reading",
         }
     }
 
@@ -76,7 +79,8 @@ impl Flag {
             | Flag::LowRecovery
             | Flag::SolventBelowMinimum
             | Flag::OutsideCalibratedSpan
-            | Flag::Outlier => Severity::Suspicious,
+            | Flag::Outlier
+            | Flag::SingleReading => Severity::Suspicious,
             _ => Severity::Impossible,
         }
     }
@@ -99,7 +103,31 @@ impl Flag {
             Flag::LowRecovery => "recovery below the rubric's threshold",
             Flag::SolventBelowMinimum => "less solvent than dissolves the crude at the boil (a note: insoluble matter may have been filtered off)",
             Flag::OutsideCalibratedSpan => "a reading beyond the temperatures of the apparatus's calibration standards",
-            Flag::Outlier => "recovery or depression far from the section's median (robust z-score beyond 3.5)",
+            Flag::Outlier => "recovery or depression far from the section's median (robust z-score beyond 3.5, in a section of at least outlier_min_n rows)",
+            Flag::SingleReading => "the melting entry is one temperature, not a range: its width was not measured",
+        }
+    }
+
+    /// Why the flag cost points, as a clause after a criterion's points ("0 of 40 points:
+    /// recovered mass exceeds crude").
+    pub fn short(self) -> &'static str {
+        match self {
+            Flag::RecoveryOver100 => "recovered mass exceeds crude",
+            Flag::RangeInverted => "the onset is written above the clear point",
+            Flag::AboveReference => "the clear point is above the literature value",
+            Flag::NonpositiveMass => "a mass of zero or less",
+            Flag::MissingValue => "a value is missing",
+            Flag::UnreadableValue => "a value could not be read",
+            Flag::UnknownCompound => "the compound is not in the library",
+            Flag::DuplicateStudent => "a repeated submission",
+            Flag::RecoveryMismatch => "the reported recovery disagrees with the masses",
+            Flag::LikelyImpure => "the product looks impure",
+            Flag::LikelyWet => "the product looks wet",
+            Flag::LowRecovery => "the recovery is low",
+            Flag::SolventBelowMinimum => "less solvent than dissolves the crude",
+            Flag::OutsideCalibratedSpan => "a reading outside the calibrated span",
+            Flag::Outlier => "far from the rest of the section",
+            Flag::SingleReading => "one temperature is not a range",
         }
     }
 }

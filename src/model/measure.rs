@@ -138,6 +138,21 @@ impl Measure {
         })
     }
 
+    /// Why a row has no value of this measure, in words for its feedback.
+    pub fn why_missing(self, a: &Assessed) -> String {
+        match (
+            self == Measure::RANGE_WIDTH,
+            a.submission.single_reading,
+            a.mp_clear_c,
+        ) {
+            (true, true, Some(t)) => format!(
+                "one temperature ({:.1} °C) was recorded, not a range, so no width was measured",
+                Fast(t)
+            ),
+            _ => self.role().missing.to_string(),
+        }
+    }
+
     /// Appends the feedback sentence for value `x`.
     pub fn sentence(self, out: &mut String, x: f64, a: &Assessed) {
         (self.role().sentence)(out, x, a);
@@ -180,6 +195,21 @@ pub mod sentences {
 
     pub fn width(out: &mut String, x: f64, a: &Assessed) {
         let v = Fast(x);
+        if x < 0.0 {
+            let _ = match (a.mp_onset_c, a.mp_clear_c) {
+                (Some(o), Some(c)) => write!(
+                    out,
+                    "the range {:.1}-{:.1} °C is inverted (the onset is above the clear point)",
+                    Fast(o),
+                    Fast(c)
+                ),
+                _ => write!(
+                    out,
+                    "the range is inverted (the onset is above the clear point)"
+                ),
+            };
+            return;
+        }
         let _ = match (a.mp_onset_c, a.mp_clear_c) {
             (Some(o), Some(c)) => write!(
                 out,

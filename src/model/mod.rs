@@ -35,6 +35,9 @@ pub struct Assessed {
     pub calibration: Option<String>,
     /// Flags in alphabetical order of their codes, each with its reason.
     pub flags: Vec<(Flag, String)>,
+    /// Why the student is excused (a withdrawal or an excuse in the status or notes), if so:
+    /// the row is then not graded and left out of every statistic.
+    pub excused: Option<String>,
 }
 
 impl Assessed {
@@ -46,6 +49,21 @@ impl Assessed {
         self.flags
             .iter()
             .any(|(f, _)| f.severity() == Severity::Impossible)
+    }
+
+    /// Whether the row's value of measure `m` enters statistics and comparisons: not for an
+    /// excused student or a repeated submission that does not count, nor where the row holds
+    /// an impossible entry about that measure (a flag that shades its column). The score
+    /// counts for every graded student.
+    pub fn counts_for(&self, m: Measure) -> bool {
+        if self.excused.is_some() || self.has(Flag::DuplicateStudent) {
+            return false;
+        }
+        let about = m.column().shaded_by;
+        !self
+            .flags
+            .iter()
+            .any(|(f, _)| f.severity() == Severity::Impossible && about.contains(f))
     }
 
     pub fn flag_codes(&self) -> String {
@@ -86,6 +104,8 @@ pub struct Score {
     pub feedback: String,
     /// Overrides applied, each with its reason and grader.
     pub overrides: Vec<String>,
+    /// The student is excused: no total, percent or letter is given.
+    pub excused: bool,
 }
 
 /// A row with its assessment and its grade.
@@ -112,22 +132,35 @@ pub struct Row<'a> {
     pub score: Option<&'a Score>,
 }
 
-/// Matching key for an apparatus or bench, the one way benches are told apart everywhere: lower case, letters and digits only, and a leading
-/// "bench", "station", "apparatus" or "b" before a number dropped ("Bench 7", "B7" and "7" match).
+/// Matching key for an apparatus or bench, the one way benches are told apart everywhere:
+/// lower case, letters and digits only, a leading "bench", "station", "apparatus" or "b" before
+/// a number dropped, and the number's leading zeros too ("Bench 7", "B07", "07" and "7" match).
 pub fn bench_key(text: &str) -> String {
     let k: String = text
         .to_lowercase()
         .chars()
         .filter(|c| c.is_alphanumeric())
         .collect();
+    let mut rest = k.as_str();
     for prefix in ["bench", "station", "apparatus", "b"] {
-        if let Some(rest) = k.strip_prefix(prefix) {
-            if rest.starts_with(|c: char| c.is_ascii_digit()) {
-                return rest.to_string();
+        if let Some(r) = k.strip_prefix(prefix) {
+            if r.starts_with(|c: char| c.is_ascii_digit()) {
+                rest = r;
+                break;
             }
         }
     }
-    k
+    if rest.starts_with(|c: char| c.is_ascii_digit()) {
+        let trimmed = rest.trim_start_matches('0');
+        let keep = if trimmed.starts_with(|c: char| c.is_ascii_digit()) {
+            trimmed
+        } else {
+            // all zeros, or zeros before letters ("0A"): keep one zero
+            &rest[rest.len() - trimmed.len() - 1..]
+        };
+        return keep.to_string();
+    }
+    rest.to_string()
 }
 
 /// A sentence about a row with every piece of the row's own cell text taken out, for exports
@@ -157,12 +190,15 @@ pub struct Tally {
     pub rows: usize,
     pub impossible: usize,
     pub suspicious: usize,
+    pub excused: usize,
 }
 
 impl Tally {
     pub fn add(&mut self, a: &Assessed) {
         self.rows += 1;
-        if a.is_impossible() {
+        if a.excused.is_some() {
+            self.excused += 1;
+        } else if a.is_impossible() {
             self.impossible += 1;
         } else if !a.flags.is_empty() {
             self.suspicious += 1;

@@ -24,6 +24,7 @@ use crate::export::workbook::GradedWorkbooks;
 use crate::export::workbook_worker::{self, BookWorker};
 use crate::export::{cohort_csv, cohort_workbook, section_stats};
 use crate::ingest::Problem;
+use crate::model::Flag;
 use crate::model::Graded;
 use crate::stats::cohort::{BiasRule, Cohort};
 use crate::stats::sections::SectionStats;
@@ -174,7 +175,8 @@ impl Tallies {
         self.stats.add(g);
         self.cohort.add(g);
         self.parquet.add(g)?;
-        if let Some(l) = &g.score.letter {
+        // each graded student once: a repeat that does not count has no grade of its own
+        if let (false, Some(l)) = (g.assessed.has(Flag::DuplicateStudent), &g.score.letter) {
             *self.letters.entry(l.clone()).or_default() += 1;
         }
         if let Some(plan) = self.plan.as_mut() {
@@ -259,7 +261,7 @@ fn write_cohort(
     let dir = &config.out_dir;
     let comparisons = s.cohort.comparisons();
     let bias = s.cohort.bench_bias(BiasRule::default());
-    let outliers = s.cohort.outliers();
+    let outliers = s.cohort.outliers(config.rubric.tolerances.outlier_min_n);
     cohort_csv::write_comparisons(&dir.join("section-comparison.csv"), &comparisons, stage)?;
     cohort_csv::write_bias(&dir.join("bench-bias.csv"), &bias, stage)?;
     let generated = format!(

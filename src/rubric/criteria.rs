@@ -157,6 +157,18 @@ pub struct Grading {
     /// Letter grades by the lowest percentage that earns them.
     #[serde(default)]
     pub letters: Option<Spanned<BTreeMap<String, f64>>>,
+    /// Which of a student's repeated submissions in a section counts: "first" or "last".
+    #[serde(default)]
+    pub duplicates: Counted,
+}
+
+/// Which of a student's repeated submissions in a section counts.
+#[derive(Clone, Copy, Debug, Default, PartialEq, Eq, Serialize, Deserialize)]
+#[serde(rename_all = "lowercase")]
+pub enum Counted {
+    #[default]
+    First,
+    Last,
 }
 
 impl Grading {

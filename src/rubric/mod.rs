@@ -12,7 +12,7 @@ pub mod overrides;
 pub mod score;
 
 use crate::error::{parse_toml, toml_location, ConfigError, Located};
-pub use criteria::{Criterion, FlagRule, Grading};
+pub use criteria::{Counted, Criterion, FlagRule, Grading};
 
 /// The rubric shipped as `rubrics/default.toml`, compiled in so that a fresh clone grades.
 pub const DEFAULT_RUBRIC: &str = include_str!("../../rubrics/default.toml");
@@ -83,6 +83,9 @@ pub struct Tolerances {
     pub max_impurity_mol_pct: f64,
     /// A single calibration standard is trusted this far (°C) either side of its reading.
     pub calibration_margin_c: f64,
+    /// The least number of rows without impossible entries a section needs before any of its
+    /// rows is flagged `outlier`: a robust z from a handful of values is noise.
+    pub outlier_min_n: usize,
 }
 
 impl Default for Tolerances {
@@ -98,6 +101,7 @@ impl Default for Tolerances {
             near_ceiling_pct: 5.0,
             max_impurity_mol_pct: 5.0,
             calibration_margin_c: 5.0,
+            outlier_min_n: 10,
         }
     }
 }

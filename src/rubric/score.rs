@@ -4,7 +4,7 @@
 use super::criteria::Criterion;
 use super::overrides::Override;
 use super::Rubric;
-use crate::model::{Assessed, CriterionScore, Score};
+use crate::model::{Assessed, CriterionScore, Flag, Measure, Score};
 use crate::numtext::{points, push_points};
 
 /// Removes floating-point noise from a computed value (122.0 - 120.8 is 1.2000000000000028)
@@ -50,16 +50,24 @@ impl Feedback {
     }
 }
 
+/// One criterion's sentence while the row is scored: the measure in words, then why its
+/// points changed after it was measured.
+struct Line {
+    words: String,
+    why: Vec<String>,
+}
+
 /// A row being scored: each criterion's points, then what the flags and overrides did.
 struct Scoring<'a> {
     rubric: &'a Rubric,
     criteria: Vec<CriterionScore>,
-    /// The criteria's sentences: the measure in words and the points it earned.
-    measured: Vec<String>,
+    lines: Vec<Line>,
     /// Each flag with its reason and what it did to the points.
     flags: Vec<String>,
-    deduct: f64,
-    cap: f64,
+    /// Points taken off the total, by flag.
+    deductions: Vec<(&'static str, f64)>,
+    /// The most the total may be, by flag.
+    caps: Vec<(&'static str, f64)>,
     /// Overrides applied, in words.
     applied: Vec<String>,
 }
@@ -70,15 +78,18 @@ impl<'a> Scoring<'a> {
         let mut s = Scoring {
             rubric,
             criteria: Vec::with_capacity(rubric.criteria.len()),
-            measured: Vec::with_capacity(rubric.criteria.len()),
+            lines: Vec::with_capacity(rubric.criteria.len()),
             flags: Vec::new(),
-            deduct: 0.0,
-            cap: f64::INFINITY,
+            deductions: Vec::new(),
+            caps: Vec::new(),
             applied: Vec::new(),
         };
         for c in &rubric.criteria {
-            let (points, sentence) = criterion_points(rubric, c, a);
-            s.measured.push(sentence);
+            let (points, words, why) = criterion_points(rubric, c, a);
+            s.lines.push(Line {
+                words,
+                why: why.into_iter().collect(),
+            });
             s.criteria.push(CriterionScore {
                 id: c.id.get_ref().clone(),
                 label: c.label.clone(),
@@ -89,31 +100,35 @@ impl<'a> Scoring<'a> {
         s
     }
 
+    /// Zeroes criterion `id` for `flag`; says what that did, if anything.
+    fn zero(&mut self, id: &str, flag: Flag) -> Option<String> {
+        let i = self.criteria.iter().position(|cs| cs.id == id)?;
+        let cs = &mut self.criteria[i];
+        if cs.points <= 0.0 {
+            return None;
+        }
+        let effect = format!("{} {} -> 0 points", cs.label, points(cs.points));
+        cs.points = 0.0;
+        self.lines[i].why.push(flag.short().to_string());
+        Some(effect)
+    }
+
     /// The flag rules: criteria zeroed, points deducted, the total capped.
     fn apply_flags(&mut self, a: &Assessed) {
+        let rubric = self.rubric;
         for (flag, reason) in &a.flags {
             let mut effects = Vec::new();
-            for rule in self
-                .rubric
-                .flag_rules
-                .iter()
-                .filter(|r| r.applies_to(*flag))
-            {
+            for rule in rubric.flag_rules.iter().filter(|r| r.applies_to(*flag)) {
                 for id in rule.zeroed() {
-                    if let Some(cs) = self.criteria.iter_mut().find(|cs| cs.id == *id) {
-                        if cs.points > 0.0 {
-                            effects.push(format!("{} earns nothing", cs.label));
-                        }
-                        cs.points = 0.0;
-                    }
+                    effects.extend(self.zero(id, *flag));
                 }
                 if rule.deduct > 0.0 {
-                    self.deduct += rule.deduct;
-                    effects.push(format!("{} points off", points(rule.deduct)));
+                    self.deductions.push((flag.code(), rule.deduct));
+                    effects.push(format!("{} points off the total", points(rule.deduct)));
                 }
                 if let Some(c) = rule.cap {
-                    self.cap = self.cap.min(c);
-                    effects.push(format!("the total is capped at {}", points(c)));
+                    self.caps.push((flag.code(), c));
+                    effects.push(format!("the total may be at most {}", points(c)));
                 }
             }
             let effect = if effects.is_empty() {
@@ -130,28 +145,74 @@ impl<'a> Scoring<'a> {
     fn apply_criterion_overrides(&mut self, overrides: &[&Override]) {
         for o in overrides {
             let Some(id) = &o.criterion else { continue };
-            if let Some(cs) = self.criteria.iter_mut().find(|cs| cs.id == *id) {
+            if let Some(i) = self.criteria.iter().position(|cs| cs.id == *id) {
+                let cs = &mut self.criteria[i];
                 let before = cs.points;
                 cs.points = o.change.apply(before).clamp(0.0, cs.max);
+                self.lines[i].why.push(format!(
+                    "override by {}, was {}: {}",
+                    o.grader,
+                    points(before),
+                    o.reason.replace(';', ",")
+                ));
                 self.applied.push(o.describe(&cs.label, before, cs.points));
             }
         }
     }
 
-    /// The total after deductions and caps, rounded, then total overrides; and the letter.
+    /// The total after deductions, the floor at zero, caps and rounding, then total
+    /// overrides; and the letter. Each step that moves the total is a sentence of its own.
     fn finish(mut self, overrides: &[&Override]) -> Score {
         let g = &self.rubric.grading;
         let max: f64 = self.criteria.iter().map(|c| c.max).sum();
-        let sum: f64 = self.criteria.iter().map(|c| c.points).sum();
-        let mut total = g.round((sum - self.deduct).max(0.0).min(self.cap));
+        let mut steps = Vec::new();
+        let mut total: f64 = self.criteria.iter().map(|c| c.points).sum();
+        for (code, d) in &self.deductions {
+            total -= d;
+            steps.push(format!("Deduction for {code}: -{} points", points(*d)));
+        }
+        if total < 0.0 {
+            steps.push(format!(
+                "Floor: the total cannot fall below 0, +{} points",
+                points(-total)
+            ));
+            total = 0.0;
+        }
+        if let Some((code, cap)) = self.caps.iter().min_by(|x, y| x.1.total_cmp(&y.1)) {
+            if total > *cap {
+                steps.push(format!(
+                    "Cap for {code}: the total is held at {}, -{} points",
+                    points(*cap),
+                    points(total - cap)
+                ));
+                total = *cap;
+            } else {
+                steps.push(format!(
+                    "Cap for {code}: the total may be at most {}, which it is not above",
+                    points(*cap)
+                ));
+            }
+        }
+        let rounded = g.round(total);
+        if (rounded - total).abs() > 1e-9 {
+            let sign = if rounded > total { "+" } else { "-" };
+            steps.push(format!(
+                "Rounding to a multiple of {}: {sign}{} points",
+                points(g.round_to),
+                points((rounded - total).abs())
+            ));
+        }
+        total = rounded;
         for o in overrides.iter().filter(|o| o.criterion.is_none()) {
             let before = total;
             total = o.change.apply(before).clamp(0.0, max);
-            self.applied.push(o.describe("total", before, total));
+            let said = o.describe("total", before, total);
+            steps.push(format!("Override: {said}"));
+            self.applied.push(said);
         }
         let percent = if max > 0.0 { 100.0 * total / max } else { 0.0 };
         let letter = g.letter(percent);
-        let feedback = self.feedback(total, max, letter.as_deref());
+        let feedback = self.feedback(&steps, total, max, letter.as_deref());
         Score {
             criteria: self.criteria,
             total,
@@ -160,19 +221,31 @@ impl<'a> Scoring<'a> {
             letter,
             feedback,
             overrides: self.applied,
+            excused: false,
         }
     }
 
-    /// The sentences: each criterion, each flag, each override, then the total.
-    fn feedback(&self, total: f64, max: f64, letter: Option<&str>) -> String {
+    /// The sentences: each criterion with the points it finally earns, each flag, each step
+    /// that moved the total, then the total; the points named add up to it.
+    fn feedback(&self, steps: &[String], total: f64, max: f64, letter: Option<&str>) -> String {
         let mut f = Feedback::default();
-        for s in self.measured.iter().chain(&self.flags) {
-            f.sentence().push_str(s);
-        }
-        for s in &self.applied {
+        for (line, cs) in self.lines.iter().zip(&self.criteria) {
             let out = f.sentence();
-            out.push_str("Override: ");
-            out.push_str(s);
+            out.push_str(&cs.label);
+            out.push_str(": ");
+            out.push_str(&line.words);
+            out.push_str(", ");
+            push_points(out, cs.points);
+            out.push_str(" of ");
+            push_points(out, cs.max);
+            out.push_str(" points");
+            if !line.why.is_empty() {
+                out.push_str(": ");
+                out.push_str(&line.why.join(", "));
+            }
+        }
+        for s in self.flags.iter().chain(steps) {
+            f.sentence().push_str(s);
         }
         let out = f.sentence();
         out.push_str("Total ");
@@ -189,37 +262,114 @@ impl<'a> Scoring<'a> {
     }
 }
 
-/// A criterion's points before flags and overrides, and its sentence.
-fn criterion_points(rubric: &Rubric, c: &Criterion, a: &Assessed) -> (f64, String) {
-    let max = *c.max.get_ref();
+/// A criterion's points before flags and overrides, the measure in words, and why the points
+/// are not what the measure's rule gives, if they are not.
+fn criterion_points(rubric: &Rubric, c: &Criterion, a: &Assessed) -> (f64, String, Option<String>) {
     let m = c.measure();
-    let mut out = String::with_capacity(96);
-    out.push_str(&c.label);
-    out.push_str(": ");
-    let points = match (m, m.and_then(|m| m.of_assessed(a))) {
+    let mut words = String::with_capacity(96);
+    match (m, m.and_then(|m| m.of_assessed(a))) {
+        // a negative width is an inverted range, which has no width to score
+        (Some(m), Some(x)) if m == Measure::RANGE_WIDTH && x < 0.0 => {
+            m.sentence(&mut words, x, a);
+            (
+                0.0,
+                words,
+                Some("an inverted range has no width to score".into()),
+            )
+        }
         (Some(m), Some(x)) => {
-            m.sentence(&mut out, x, a);
-            rubric.grading.round(rule_points(c, x))
+            m.sentence(&mut words, x, a);
+            (rubric.grading.round(rule_points(c, x)), words, None)
         }
         (Some(m), None) => {
-            out.push_str(m.role().missing);
-            c.if_missing
+            words.push_str(&m.why_missing(a));
+            (c.if_missing, words, None)
         }
         (None, _) => {
-            out.push_str("not scored");
-            0.0
+            words.push_str("not scored");
+            (0.0, words, None)
         }
-    };
-    out.push_str(", ");
-    push_points(&mut out, points);
-    out.push_str(" of ");
-    push_points(&mut out, max);
-    out.push_str(" points");
-    (points, out)
+    }
+}
+
+/// The grade of an excused student: no points, no letter, the reason in the feedback; an
+/// override for the student is listed as not applied.
+fn excused(rubric: &Rubric, why: &str, overrides: &[&Override]) -> Score {
+    let overrides = overrides
+        .iter()
+        .map(|o| {
+            let what = o.criterion.as_deref().unwrap_or("total");
+            format!(
+                "not applied, the student is excused: {what} by {}: {}",
+                o.grader, o.reason
+            )
+        })
+        .collect();
+    Score {
+        criteria: Vec::new(),
+        total: 0.0,
+        max: rubric.criteria.iter().map(|c| *c.max.get_ref()).sum(),
+        percent: 0.0,
+        letter: None,
+        feedback: format!("Excused ({why}): not graded."),
+        overrides,
+        excused: true,
+    }
+}
+
+/// Reads a feedback text back and checks that the points it names add up to the total it
+/// states: each criterion's "P of M points", each deduction, floor, cap and rounding step's
+/// signed points, each total override's change. `labels` are the rubric's criterion labels.
+/// Returns the total stated, or what does not add up.
+pub fn audit_feedback(feedback: &str, labels: &[&str]) -> Result<f64, String> {
+    let num = |t: &str| t.trim().parse::<f64>().ok();
+    let mut sum = 0.0;
+    let mut stated = None;
+    for sentence in feedback.split("; ") {
+        let s = sentence.trim_end_matches('.');
+        if labels.iter().any(|l| s.starts_with(&format!("{l}: "))) {
+            let earned = s.match_indices(" of ").filter_map(|(i, _)| {
+                let p = num(s[..i].rsplit(", ").next()?)?;
+                let max = num(s[i + 4..].split(" points").next()?)?;
+                Some((p, max))
+            });
+            let (p, _) = earned
+                .last()
+                .ok_or_else(|| format!("no points in \"{s}\""))?;
+            sum += p;
+        } else if ["Deduction for ", "Floor: ", "Cap for ", "Rounding "]
+            .iter()
+            .any(|p| s.starts_with(p))
+        {
+            if let Some(head) = s.strip_suffix(" points") {
+                let v = head.rsplit(' ').next().and_then(num);
+                sum += v.ok_or_else(|| format!("no signed points in \"{s}\""))?;
+            }
+        } else if let Some(rest) = s.strip_prefix("Override: total ") {
+            let (before, after) = rest
+                .split_once(" -> ")
+                .ok_or_else(|| format!("no change in \"{s}\""))?;
+            let after = after.split(' ').next().and_then(num);
+            sum += after.zip(num(before)).map_or(f64::NAN, |(a, b)| a - b);
+        } else if let Some(rest) = s.strip_prefix("Total ") {
+            stated = rest.split(' ').next().and_then(num);
+        }
+    }
+    let total = stated.ok_or("no total stated")?;
+    // each number is shown to six decimals
+    if (sum - total).abs() > 1e-5 {
+        return Err(format!(
+            "the sentences add up to {sum}, the total is {total}"
+        ));
+    }
+    Ok(total)
 }
 
 /// Grades one assessed row.
 pub fn score(rubric: &Rubric, a: &Assessed, overrides: &[&Override]) -> Score {
+    if let Some(why) = &a.excused {
+        return excused(rubric, why, overrides);
+    }
     let mut s = Scoring::measure(rubric, a);
     s.apply_flags(a);
     s.apply_criterion_overrides(overrides);
@@ -265,10 +415,15 @@ mod tests {
             min_solvent_ml: None,
             calibration: None,
             flags: Vec::new(),
+            excused: None,
         }
     }
 
-    fn points(s: &Score) -> Vec<f64> {
+    fn labels(r: &Rubric) -> Vec<&str> {
+        r.criteria.iter().map(|c| c.label.as_str()).collect()
+    }
+
+    fn points_of(s: &Score) -> Vec<f64> {
         s.criteria.iter().map(|c| c.points).collect()
     }
 
@@ -316,7 +471,7 @@ mod tests {
         let r = rubric("");
         // linear from 20 points at 0 °C to 0 at 4 °C: 1.0 °C below gives 15 (hand-worked)
         let s = score(&r, &row(80.0, 0.5, 1.0, Some(80.5)), &[]);
-        assert_eq!(points(&s), vec![40.0, 30.0, 15.0, 10.0]);
+        assert_eq!(points_of(&s), vec![40.0, 30.0, 15.0, 10.0]);
         // 1.3 °C: 20 x (1 - 1.3/4) = 13.5 exactly; 1.4 °C: 13.0; clamped beyond the anchors
         assert_eq!(
             score(&r, &row(80.0, 0.5, 1.3, None), &[]).criteria[2].points,
@@ -375,7 +530,23 @@ mod tests {
         // recovery zeroed: 0 + 30 + 20 + 10 = 60, capped at 50 by the impossible group rule
         assert_eq!(s.criteria[0].points, 0.0);
         assert_eq!(s.total, 50.0);
-        assert!(s.feedback.contains("Flag recovery-over-100: recovered 2.6 g exceeds crude 2.5 g (Recovery earns nothing, the total is capped at 50)"), "{}", s.feedback);
+        // the criterion says what it finally earns and why; the flag says what it did; the cap
+        // is a sentence of its own; the sentences add up to the total
+        assert!(
+            s.feedback.starts_with(
+                "Recovery: recovery 104.0 %, 0 of 40 points: recovered mass exceeds crude;"
+            ),
+            "{}",
+            s.feedback
+        );
+        assert!(s.feedback.contains("Flag recovery-over-100: recovered 2.6 g exceeds crude 2.5 g (Recovery 40 -> 0 points, the total may be at most 50)"), "{}", s.feedback);
+        assert!(
+            s.feedback
+                .contains("Cap for recovery-over-100: the total is held at 50, -10 points"),
+            "{}",
+            s.feedback
+        );
+        assert_eq!(audit_feedback(&s.feedback, &labels(&r)), Ok(50.0));
         a.flags = vec![(Flag::LikelyWet, "heavy".into())];
         assert_eq!(score(&r, &a, &[]).total, 93.0, "100 - 7");
         a.flags = vec![(Flag::LowRecovery, "low".into())];
@@ -417,5 +588,146 @@ mod tests {
             vec!["total 50 -> 62.5 by RO: re-run under supervision"]
         );
         assert!(s.feedback.contains("Override: total 50 -> 62.5"));
+    }
+
+    #[test]
+    fn an_inverted_range_and_a_single_reading_earn_nothing_for_width_and_say_why() {
+        let r = rubric("");
+        let mut a = row(80.0, -1.0, 0.0, None);
+        let s = score(&r, &a, &[]);
+        assert_eq!(s.criteria[1].points, 0.0);
+        assert!(
+            s.feedback.contains("Range: the range 123.4-122.4 °C is inverted (the onset is above the clear point), 0 of 30 points: an inverted range has no width to score"),
+            "{}",
+            s.feedback
+        );
+        // one temperature: the width is not measured, so the criterion's if_missing (0) applies
+        a = row(80.0, 0.0, 0.0, None);
+        a.range_width_c = None;
+        a.submission.single_reading = true;
+        let s = score(&r, &a, &[]);
+        assert_eq!(s.criteria[1].points, 0.0);
+        assert!(
+            s.feedback.contains("Range: one temperature (122.4 °C) was recorded, not a range, so no width was measured, 0 of 30 points"),
+            "{}",
+            s.feedback
+        );
+        assert_eq!(audit_feedback(&s.feedback, &labels(&r)), Ok(s.total));
+    }
+
+    #[test]
+    fn deductions_floors_and_rounding_are_sentences_that_add_up() {
+        let r = rubric(
+            "[[flag_rule]]\nflag = \"likely-wet\"\ndeduct = 7.3\n\
+             [[flag_rule]]\nflag = \"missing-value\"\ndeduct = 150\n",
+        );
+        let mut a = row(80.0, 0.5, 0.0, Some(80.0));
+        a.flags = vec![(Flag::LikelyWet, "heavy".into())];
+        let s = score(&r, &a, &[]);
+        // 100 - 7.3 = 92.7, rounded to a multiple of 0.5: 92.5
+        assert_eq!(s.total, 92.5);
+        assert!(
+            s.feedback.contains("Deduction for likely-wet: -7.3 points"),
+            "{}",
+            s.feedback
+        );
+        assert!(
+            s.feedback
+                .contains("Rounding to a multiple of 0.5: -0.2 points"),
+            "{}",
+            s.feedback
+        );
+        assert_eq!(audit_feedback(&s.feedback, &labels(&r)), Ok(92.5));
+        a.flags = vec![(Flag::MissingValue, "no crude mass given".into())];
+        let s = score(&r, &a, &[]);
+        assert_eq!(s.total, 0.0);
+        assert!(
+            s.feedback
+                .contains("Floor: the total cannot fall below 0, +50 points"),
+            "{}",
+            s.feedback
+        );
+        assert_eq!(audit_feedback(&s.feedback, &labels(&r)), Ok(0.0));
+    }
+
+    #[test]
+    fn an_excused_student_gets_no_points_and_the_reason() {
+        let r = rubric("");
+        let mut a = row(80.0, 0.5, 0.0, None);
+        a.excused = Some("status \"W\": withdrawn".into());
+        let s = score(&r, &a, &[]);
+        assert!(s.excused && s.letter.is_none() && s.criteria.is_empty());
+        assert_eq!(s.feedback, "Excused (status \"W\": withdrawn): not graded.");
+        let g = crate::model::Graded {
+            assessed: a,
+            score: s,
+        };
+        use crate::model::columns::{Value, LETTER, PERCENT, SCORE, STATUS};
+        assert!(matches!(SCORE.value(g.row()), Value::Number(None)));
+        assert!(matches!(PERCENT.value(g.row()), Value::Number(None)));
+        assert!(matches!(LETTER.value(g.row()), Value::Text(None)));
+        assert!(matches!(
+            STATUS.value(g.row()),
+            Value::Text(Some("excused"))
+        ));
+    }
+
+    proptest::proptest! {
+        /// Whatever the measures, flags and overrides, the feedback's points add up to the
+        /// total, and each criterion's sentence names the points it finally earned.
+        #[test]
+        fn feedback_adds_up_to_the_score(
+            rec in -20.0f64..150.0,
+            width in -3.0f64..6.0,
+            dep in -2.0f64..8.0,
+            reported in proptest::option::of(-5.0f64..150.0),
+            flags in proptest::collection::vec(0usize..Flag::ALL.len(), 0..4),
+            set in proptest::option::of(0.0f64..50.0),
+            adjust in proptest::option::of(-30.0f64..30.0),
+            missing_width in proptest::bool::ANY,
+        ) {
+            let r = rubric(
+                "[[flag_rule]]\nflag = \"recovery-over-100\"\nzero = [\"recovery\"]\n\
+                 [[flag_rule]]\nflag = \"range-inverted\"\nzero = [\"range\", \"depression\"]\n\
+                 [[flag_rule]]\nflag = \"likely-wet\"\ndeduct = 7.25\n\
+                 [[flag_rule]]\nflag = \"suspicious\"\ndeduct = 2\n\
+                 [[flag_rule]]\nflag = \"impossible\"\ncap = 50\n",
+            );
+            let mut a = row(rec, width, dep, reported);
+            if missing_width {
+                a.range_width_c = None;
+                a.submission.single_reading = true;
+            }
+            let mut fl: Vec<Flag> = flags.iter().map(|&i| Flag::ALL[i]).collect();
+            fl.sort_by_key(|f| f.code());
+            fl.dedup();
+            a.flags = fl.into_iter().map(|f| (f, "a reason".to_string())).collect();
+            let over = |criterion: Option<&str>, change| Override {
+                student_id: "s".into(),
+                section: None,
+                criterion: criterion.map(str::to_string),
+                change,
+                reason: "checked; re-weighed".into(),
+                grader: "RO".into(),
+                line: 2,
+            };
+            let mut list = Vec::new();
+            if let Some(v) = set { list.push(over(Some("depression"), Change::Set(v))); }
+            if let Some(v) = adjust { list.push(over(None, Change::Adjust(v))); }
+            let refs: Vec<&Override> = list.iter().collect();
+            let s = score(&r, &a, &refs);
+            let stated = audit_feedback(&s.feedback, &labels(&r));
+            // the feedback shows points to six decimals
+            proptest::prop_assert!(
+                stated.as_ref().is_ok_and(|t| (t - s.total).abs() < 1e-6),
+                "{:?} for {}: {}", stated, s.total, s.feedback
+            );
+            for cs in &s.criteria {
+                let said = format!("{}: ", cs.label);
+                let sentence = s.feedback.split("; ").find(|x| x.starts_with(&said)).unwrap();
+                let p = format!(", {} of {} points", points(cs.points), points(cs.max));
+                proptest::prop_assert!(sentence.contains(&p), "{} / {}", sentence, p);
+            }
+        }
     }
 }

@@ -1,7 +1,8 @@
 //! The coordinator's view: whether sections, teaching assistants, benches or apparatus differ.
 //! Rows are gathered compactly as the batch streams past; the tests run at the end.
 //!
-//! Comparisons use the rows without impossible entries. Bench bias uses every row with a
+//! Comparisons use, for each measure, the rows whose entries for it are possible, never an
+//! excused student or a repeat that does not count. Bench bias uses every row with a
 //! depression (an above-reference reading is the evidence of a bench that reads high), and is
 //! worded as an equipment finding, never as a mark against the students.
 
@@ -42,6 +43,8 @@ struct Row {
     assistant: Option<u32>,
     bench: Option<u32>,
     impossible: bool,
+    /// Bit i set: the row's value in slot i enters comparisons (`Assessed::counts_for`).
+    counts: u32,
     above_reference: bool,
     /// The spreadsheet row, and the "file [sheet]" it is in (in `Cohort::origins`).
     origin: u32,
@@ -166,16 +169,22 @@ impl Cohort {
             None => self.origins.intern(&s.source),
         };
         let row = g.row();
-        self.values.extend(
-            self.measures
-                .iter()
-                .map(|m| m.value(row).unwrap_or(f64::NAN)),
-        );
+        // an excused student or a repeat that does not count has no values here at all
+        let left_out = a.excused.is_some() || a.has(Flag::DuplicateStudent);
+        let value = |m: &Measure| m.value(row).filter(|_| !left_out).unwrap_or(f64::NAN);
+        self.values.extend(self.measures.iter().map(value));
+        let counts = self
+            .measures
+            .iter()
+            .enumerate()
+            .filter(|(_, m)| a.counts_for(**m))
+            .fold(0u32, |bits, (i, _)| bits | (1 << i));
         self.rows.push(Row {
             section,
             assistant,
             bench,
-            impossible: a.is_impossible(),
+            impossible: a.is_impossible() || left_out,
+            counts,
             above_reference: a.has(Flag::AboveReference),
             origin,
             line: s.row,
@@ -192,7 +201,8 @@ impl Cohort {
         self.values[i * self.measures.len() + slot]
     }
 
-    /// Values in `slot` by group, for rows without impossible entries, groups in name order.
+    /// Values in `slot` by group, for rows whose entries for the measure are possible, groups
+    /// in name order.
     fn groups(
         &self,
         slot: usize,
@@ -202,7 +212,7 @@ impl Cohort {
         let mut by: BTreeMap<String, Vec<f64>> = BTreeMap::new();
         for (i, r) in self.rows.iter().enumerate() {
             let v = self.value(i, slot);
-            if r.impossible || !v.is_finite() {
+            if r.counts & (1 << slot) == 0 || !v.is_finite() {
                 continue;
             }
             if let Some(k) = key(r) {
@@ -326,9 +336,14 @@ impl Cohort {
         out
     }
 
-    /// Students far from their section's centre, by the one outlier rule.
-    pub fn outliers(&self) -> Vec<Outlier> {
+    /// Students far from their section's centre, by the one outlier rule, in sections with at
+    /// least `min_n` rows without impossible entries.
+    pub fn outliers(&self, min_n: usize) -> Vec<Outlier> {
         let mut out = Vec::new();
+        let mut sizes: BTreeMap<u32, usize> = BTreeMap::new();
+        for r in self.rows.iter().filter(|r| !r.impossible) {
+            *sizes.entry(r.section).or_default() += 1;
+        }
         for measure in outlier::MEASURES {
             let Some(slot) = self.slot(measure) else {
                 continue;
@@ -340,6 +355,9 @@ impl Cohort {
                 }
             }
             for (section, members) in by {
+                if sizes.get(&section).copied().unwrap_or(0) < min_n {
+                    continue;
+                }
                 let v: Vec<f64> = members.iter().map(|&i| self.value(i, slot)).collect();
                 let centre = Centre::of(&v);
                 for (&i, &value) in members.iter().zip(&v) {

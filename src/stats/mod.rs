@@ -68,6 +68,10 @@ pub const SUMMARY_COLUMNS: [&str; 13] = [
     "ci95_high",
 ];
 
+/// Columns appended after `SUMMARY_COLUMNS` in section-stats.csv and the Statistics sheets:
+/// rows left out of the measure for impossible entries, and excused students.
+pub const LEFT_OUT_COLUMNS: [&str; 2] = ["excluded", "excused"];
+
 /// Linear inclusive quantile of sorted data: h = (n - 1) p, interpolated between neighbours.
 pub fn quantile_sorted(sorted: &[f64], p: f64) -> f64 {
     match sorted.len() {

@@ -1,7 +1,8 @@
 //! The one outlier rule, used by the `outlier` flag and by the cohort report's list of results
 //! far from their section, so that the two can never disagree: a value is an outlier when its
 //! robust z-score (Iglewicz and Hoaglin: 0.6745 x distance from the median / MAD) lies beyond
-//! 3.5, measured against its section's rows without impossible entries. Where most values are
+//! 3.5, measured against its section's rows without impossible entries, in a section with at
+//! least `outlier_min_n` of them (a rubric tolerance, default 10). Where most values are
 //! equal the MAD is 0; the score then uses the mean absolute deviation from the median, as
 //! 0.7979 x distance / mean absolute deviation (0.7979 = sqrt(2/pi), the ratio of the mean
 //! absolute deviation to the standard deviation of a normal distribution: common practice, as
@@ -67,10 +68,12 @@ impl Centre {
 }
 
 /// Each section's centre of every outlier measure, over its rows without impossible entries,
-/// gathered in a first pass so that `outlier` is known when a row is graded.
+/// gathered in a first pass so that `outlier` is known when a row is graded. A section with
+/// fewer such rows than the rubric's `outlier_min_n` gets no centres: in three rows a MAD of
+/// 0.09 makes 72.5 % beside 74.5 % look extreme, and a robust z says nothing.
 #[derive(Clone, Debug, Default)]
 pub struct Centres {
-    values: HashMap<String, [Vec<f64>; MEASURES.len()]>,
+    values: HashMap<String, ([Vec<f64>; MEASURES.len()], usize)>,
     by_section: HashMap<String, [Centre; MEASURES.len()]>,
 }
 
@@ -86,25 +89,29 @@ pub struct Far {
 impl Centres {
     /// Gathers a row's values (rows with impossible entries are passed over).
     pub fn add(&mut self, a: &Assessed) {
-        if a.is_impossible() {
+        if a.is_impossible() || a.excused.is_some() {
             return;
         }
         let section = &a.submission.section;
         if !self.values.contains_key(section) {
             self.values.insert(section.clone(), Default::default());
         }
-        if let Some(slots) = self.values.get_mut(section) {
+        if let Some((slots, rows)) = self.values.get_mut(section) {
+            *rows += 1;
             for (slot, m) in slots.iter_mut().zip(MEASURES) {
                 slot.extend(m.of_assessed(a).filter(|v| v.is_finite()));
             }
         }
     }
 
-    /// Computes every section's centres once all rows are gathered.
-    pub fn settle(&mut self) {
-        for (section, values) in self.values.drain() {
-            self.by_section
-                .insert(section, values.each_ref().map(|v| Centre::of(v)));
+    /// Computes the centres of every section with at least `min_n` rows once all rows are
+    /// gathered.
+    pub fn settle(&mut self, min_n: usize) {
+        for (section, (values, rows)) in self.values.drain() {
+            if rows >= min_n {
+                self.by_section
+                    .insert(section, values.each_ref().map(|v| Centre::of(v)));
+            }
         }
     }
 

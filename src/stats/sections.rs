@@ -1,5 +1,7 @@
-//! Per-section statistics gathered as the batch streams past: the measures of every row that
-//! holds no impossible entry, the count of each flag, and which rows were left out and why.
+//! Per-section statistics gathered as the batch streams past: each measure over the rows whose
+//! entries for it are possible (a recovery over 100 % leaves the recovery out, not the row's
+//! melting range; the score counts for every graded student), the count of each flag, and which
+//! rows were left out of what and why. Excused students are counted, and left out of all of it.
 
 use std::collections::BTreeMap;
 
@@ -9,12 +11,30 @@ use crate::model::{Graded, Measure, Severity};
 /// One section's gathered values.
 #[derive(Clone, Debug, Default)]
 pub struct Group {
+    /// Every row of the section, excused ones included.
     pub rows: usize,
+    /// Students excused (withdrawn, absent, exempt): left out of every statistic.
+    pub excused: usize,
     /// The values of each summarised measure, in the order of `SectionStats::measures`.
     values: Vec<Vec<f64>>,
+    /// For each summarised measure, how many rows were left out of it.
+    left_out: Vec<usize>,
     pub flags: BTreeMap<&'static str, usize>,
-    /// Rows left out of the statistics: where, and the impossible flags that excluded them.
+    /// Rows left out of some measure's statistics: where, which measures, and why.
     pub excluded: Vec<String>,
+}
+
+/// One section's summary of one measure, with the rows it leaves out.
+#[derive(Clone, Debug)]
+pub struct SectionSummary<'a> {
+    pub section: &'a str,
+    pub measure: Measure,
+    /// `None` where no row has a value.
+    pub summary: Option<Summary>,
+    /// Rows whose entries for this measure are impossible (or a repeat that does not count).
+    pub excluded: usize,
+    /// Excused students of the section.
+    pub excused: usize,
 }
 
 /// Statistics for every section of the batch, in section-name order.
@@ -53,39 +73,57 @@ impl SectionStats {
         let n = self.measures.len();
         let group = self.groups.entry(s.section.clone()).or_default();
         group.values.resize_with(n, Vec::new);
+        group.left_out.resize(n, 0);
         group.rows += 1;
+        if a.excused.is_some() {
+            group.excused += 1;
+            return;
+        }
         for (f, _) in &a.flags {
             *group.flags.entry(f.code()).or_default() += 1;
         }
-        let impossible: Vec<&str> = a
-            .flags
-            .iter()
-            .filter(|(f, _)| f.severity() == Severity::Impossible)
-            .map(|(f, _)| f.code())
-            .collect();
-        if !impossible.is_empty() {
+        let row = g.row();
+        let mut left_out = Vec::new();
+        for (i, m) in self.measures.iter().enumerate() {
+            if a.counts_for(*m) {
+                group.values[i].extend(m.value(row));
+            } else {
+                group.left_out[i] += 1;
+                left_out.push(m.key());
+            }
+        }
+        if !left_out.is_empty() {
             let at = match &s.sheet {
                 Some(sheet) => format!("{} [{}] row {}", s.source, sheet, s.row),
                 None => format!("{} row {}", s.source, s.row),
             };
-            group
-                .excluded
-                .push(format!("{at}: {}", impossible.join(", ")));
-            return;
-        }
-        let row = g.row();
-        for (slot, m) in group.values.iter_mut().zip(&self.measures) {
-            slot.extend(m.value(row));
+            let why: Vec<&str> = a
+                .flags
+                .iter()
+                .filter(|(f, _)| f.severity() == Severity::Impossible)
+                .map(|(f, _)| f.code())
+                .collect();
+            group.excluded.push(format!(
+                "{at}: {} left out ({})",
+                left_out.join(", "),
+                why.join(", ")
+            ));
         }
     }
 
-    /// (section, measure, summary) for every section and measure; `None` where no value.
-    pub fn summaries(&self) -> Vec<(&str, Measure, Option<Summary>)> {
+    /// Every section's summary of every measure, sections in name order.
+    pub fn summaries(&self) -> Vec<SectionSummary<'_>> {
         let mut out = Vec::new();
         for (name, g) in &self.groups {
             for (i, m) in self.measures.iter().enumerate() {
                 let values = g.values.get(i).map_or(&[][..], Vec::as_slice);
-                out.push((name.as_str(), *m, summarize(values)));
+                out.push(SectionSummary {
+                    section: name.as_str(),
+                    measure: *m,
+                    summary: summarize(values),
+                    excluded: g.left_out.get(i).copied().unwrap_or(0),
+                    excused: g.excused,
+                });
             }
         }
         out

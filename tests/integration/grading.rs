@@ -159,7 +159,20 @@ fn overrides_are_applied_shown_and_checked() {
         book[1]["student_name"], "'=HYPERLINK(\"x\")",
         "formula injection neutralised"
     );
-    assert!(book[0]["feedback"].contains("Override: Melting range 25 -> 10"));
+    // the criterion's sentence states the points it finally earns, and why; the total
+    // override is a sentence of its own
+    assert!(
+        book[0]["feedback"].contains(
+            ", 10 of 25 points: override by R. Okafor, was 25: range recorded on a faulty block"
+        ),
+        "{}",
+        book[0]["feedback"]
+    );
+    assert!(
+        book[0]["feedback"].contains("Override: total "),
+        "{}",
+        book[0]["feedback"]
+    );
     // twice gives byte-identical outputs
     let first = std::fs::read(f.path("out/gradebook.csv")).unwrap();
     assert_eq!(

@@ -1,0 +1,148 @@
+//! Excused students: a withdrawal or an excuse written in the row's status or notes cell.
+//!
+//! A class sheet keeps everyone on the roll, and the student who withdrew or was excused is a
+//! row like any other, usually with empty measurements and a word in a status column ("W",
+//! "withdrew", "excused", "absent"). Such a row is not graded: it gets no score, no letter and
+//! no impossible flags, and statistics leave it out (common practice: a gradebook leaves an
+//! excused grade blank rather than zero). A status cell decides whatever else the row holds;
+//! a notes cell only when the row lacks what grading needs (a recovered mass or a melting
+//! entry), since notes mention absences in passing ("absent on Monday, made it up Tuesday").
+
+use crate::ingest::Submission;
+
+/// Words that excuse a row wherever they stand in the cell, and what each means.
+const WORDS: [(&str, &str); 14] = [
+    ("withdrew", "withdrawn"),
+    ("withdrawn", "withdrawn"),
+    ("withdraw", "withdrawn"),
+    ("withdrawal", "withdrawn"),
+    ("excused", "excused"),
+    ("excuse", "excused"),
+    ("exempt", "exempt"),
+    ("exempted", "exempt"),
+    ("exemption", "exempt"),
+    ("absent", "absent"),
+    ("absence", "absent"),
+    ("dropped", "dropped the course"),
+    ("drop", "dropped the course"),
+    ("deferred", "deferred"),
+];
+
+/// Registrar-style codes that excuse a row only as the whole of a status cell.
+const CODES: [(&str, &str); 6] = [
+    ("w", "withdrawn"),
+    ("wd", "withdrawn"),
+    ("wdr", "withdrawn"),
+    ("ex", "excused"),
+    ("exc", "excused"),
+    ("abs", "absent"),
+];
+
+fn words(text: &str) -> Vec<String> {
+    text.to_lowercase()
+        .split(|c: char| !c.is_alphanumeric())
+        .filter(|w| !w.is_empty())
+        .map(str::to_string)
+        .collect()
+}
+
+/// The meaning of the first excusing word of `text`, unless negated ("not excused").
+fn excusing_word(text: &str, codes: bool) -> Option<(&'static str, String)> {
+    let w = words(text);
+    if codes && w.len() == 1 {
+        if let Some((_, meaning)) = CODES.iter().find(|(c, _)| *c == w[0]) {
+            return Some((meaning, w[0].clone()));
+        }
+    }
+    w.iter().enumerate().find_map(|(i, word)| {
+        let (_, meaning) = WORDS.iter().find(|(x, _)| x == word)?;
+        let negated = i > 0 && matches!(w[i - 1].as_str(), "not" | "no" | "never" | "un");
+        (!negated).then(|| (*meaning, word.clone()))
+    })
+}
+
+/// Why the row is excused, in words for its feedback, or `None`.
+pub fn reason(s: &Submission) -> Option<String> {
+    if let Some(status) = s.status.as_deref() {
+        if let Some((meaning, word)) = excusing_word(status, true) {
+            let shown: String = status.trim().chars().take(40).collect();
+            return Some(if word == meaning {
+                format!("status \"{shown}\"")
+            } else {
+                format!("status \"{shown}\": {meaning}")
+            });
+        }
+    }
+    let lacks = s.recovered_mass_g.is_none() || (s.mp_onset_c.is_none() && s.mp_clear_c.is_none());
+    let notes = s.remarks.as_deref().filter(|_| lacks)?;
+    let (_, word) = excusing_word(notes, false)?;
+    Some(format!(
+        "the notes say \"{word}\" and the row has nothing to grade"
+    ))
+}
+
+#[cfg(test)]
+mod tests {
+    use super::*;
+
+    fn row(status: Option<&str>, notes: Option<&str>, measured: bool) -> Submission {
+        Submission {
+            status: status.map(str::to_string),
+            remarks: notes.map(str::to_string),
+            recovered_mass_g: measured.then_some(1.8),
+            mp_onset_c: measured.then_some(120.5),
+            mp_clear_c: measured.then_some(122.0),
+            ..Submission::default()
+        }
+    }
+
+    #[test]
+    fn a_status_word_excuses_whatever_the_row_holds() {
+        for (status, said) in [
+            ("W", "status \"W\": withdrawn"),
+            ("wd", "status \"wd\": withdrawn"),
+            ("Withdrew 10/14", "status \"Withdrew 10/14\": withdrawn"),
+            ("EXCUSED (medical)", "status \"EXCUSED (medical)\""),
+            ("Absent", "status \"Absent\""),
+            ("dropped", "status \"dropped\": dropped the course"),
+            ("exempt", "status \"exempt\""),
+        ] {
+            for measured in [false, true] {
+                assert_eq!(
+                    reason(&row(Some(status), None, measured)).as_deref(),
+                    Some(said)
+                );
+            }
+        }
+    }
+
+    #[test]
+    fn other_statuses_and_negations_do_not() {
+        for status in [
+            "graded",
+            "present",
+            "not excused",
+            "late",
+            "wet",
+            "Wk 3",
+            "unexcused",
+        ] {
+            let why = reason(&row(Some(status), None, false));
+            assert!(why.is_none(), "{status}: {why:?}");
+        }
+        // a code is a code only as the whole cell: "w" inside a sentence is not a withdrawal
+        assert_eq!(reason(&row(Some("w/ partner"), None, false)), None);
+    }
+
+    #[test]
+    fn a_notes_word_excuses_only_a_row_without_measurements() {
+        assert!(reason(&row(None, Some("absent"), false)).is_some());
+        assert!(reason(&row(None, Some("excused by instructor"), false)).is_some());
+        assert_eq!(
+            reason(&row(None, Some("absent Monday, made up Tuesday"), true)),
+            None
+        );
+        // single letters in notes never excuse
+        assert_eq!(reason(&row(None, Some("W"), false)), None);
+    }
+}
