@@ -93,11 +93,15 @@ pub struct GradeArgs {
     /// UTC), for byte-identical outputs; default: SOURCE_DATE_EPOCH, else now
     #[arg(long, value_name = "SECONDS")]
     pub timestamp: Option<i64>,
+    /// Title of the cohort report and workbooks, e.g. "CHEM 2150 — Fall 2026"; default: the
+    /// rubric's experiment.course, experiment.term and experiment.name
+    #[arg(long, value_name = "TEXT")]
+    pub title: Option<String>,
 }
 
 #[derive(Args, Debug)]
 pub struct RunArgs {
-    /// Spreadsheets (.xlsx .xlsm .xlsb .xls .ods .csv .tsv) or folders; default: the bundled sample-data/
+    /// Spreadsheets (.xlsx .xlsm .xlsb .xls .ods .csv .tsv) or folders; default: the sample class built in
     #[arg(value_name = "FILES")]
     pub inputs: Vec<PathBuf>,
     /// Rubric file (TOML); default: rubrics/default.toml, built in

@@ -38,6 +38,8 @@ pub struct Options {
     pub baseline: Option<PathBuf>,
     /// Time of grading, seconds since the epoch (from --timestamp or SOURCE_DATE_EPOCH).
     pub timestamp: Option<i64>,
+    /// The title of the reports; default: the rubric's course, term and experiment name.
+    pub title: Option<String>,
 }
 
 /// Everything a run needs, validated.
@@ -68,6 +70,8 @@ pub struct Config {
     pub baseline: Option<Baseline>,
     /// Seconds since the epoch: fixed, or the time the run started.
     pub timestamp: i64,
+    /// The reports' title: `--title`, else the rubric's course, term and experiment name.
+    pub title: String,
 }
 
 /// An earlier term's results.parquet and its headline figures.
@@ -127,12 +131,32 @@ impl Config {
             },
             reference,
             calibration: calibration_file(&opts, &rubric),
+            title: title(opts.title.as_deref(), &rubric),
             rubric,
             rubric_source,
             columns,
             library,
         })
     }
+}
+
+/// `--title`, else the rubric's course, term and experiment name, joined by dashes.
+fn title(given: Option<&str>, rubric: &Rubric) -> String {
+    if let Some(t) = given.map(str::trim).filter(|t| !t.is_empty()) {
+        return t.to_string();
+    }
+    let e = &rubric.experiment;
+    [
+        e.course.as_deref(),
+        e.term.as_deref(),
+        Some(e.name.as_str()),
+    ]
+    .into_iter()
+    .flatten()
+    .map(str::trim)
+    .filter(|p| !p.is_empty())
+    .collect::<Vec<_>>()
+    .join(" — ")
 }
 
 /// The rubric named, else the built-in one: parsed, where it came from, and its text.

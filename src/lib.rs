@@ -17,6 +17,7 @@ pub mod numtext;
 pub mod pipeline;
 pub mod reference;
 pub mod rubric;
+pub mod sample;
 pub mod stats;
 
 pub use config::{Config, Options};

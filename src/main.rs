@@ -17,20 +17,67 @@ use benchgrade::reference::Library;
 use benchgrade::{Batch, Config, Options, RunError};
 use cli::{Cli, Command, GradeArgs, RubricAction, RunArgs};
 
-/// The sample data: in the working directory when run from a clone, else beside the sources.
-fn sample_data() -> Option<PathBuf> {
-    let here = PathBuf::from("sample-data");
-    if here.is_dir() {
-        return Some(here);
+/// The sample class built into the binary, for a run given no inputs: written into a fresh
+/// folder that becomes the working directory, so that the files read show as `sample-data/...`
+/// wherever the binary runs. Paths typed on the command line are made absolute first. The
+/// folder is removed when the run ends.
+struct SampleClass(PathBuf);
+
+impl SampleClass {
+    fn prepare(run: &mut RunArgs, more: &mut [&mut PathBuf]) -> Result<Option<SampleClass>> {
+        if !run.inputs.is_empty() {
+            return Ok(None);
+        }
+        let here = std::env::current_dir().context("finding the working directory")?;
+        let absolute = |p: &mut PathBuf| {
+            if p.is_relative() {
+                *p = here.join(&*p);
+            }
+        };
+        for p in [
+            &mut run.rubric,
+            &mut run.columns,
+            &mut run.compounds,
+            &mut run.calibration,
+            &mut run.overrides,
+        ]
+        .into_iter()
+        .flatten()
+        {
+            absolute(p);
+        }
+        for p in more.iter_mut() {
+            absolute(p);
+        }
+        let nanos = std::time::SystemTime::now()
+            .duration_since(std::time::UNIX_EPOCH)
+            .map_or(0, |d| d.subsec_nanos());
+        let dir =
+            std::env::temp_dir().join(format!("benchgrade-sample-{}-{nanos}", std::process::id()));
+        std::fs::create_dir(&dir).context("making a folder for the sample class")?;
+        let class = SampleClass(dir);
+        benchgrade::sample::write_into(&class.0).context("writing out the sample class")?;
+        std::env::set_current_dir(&class.0).context("entering the sample class's folder")?;
+        run.inputs = vec![PathBuf::from(benchgrade::sample::FOLDER)];
+        fail::say(&format!(
+            "benchgrade: no inputs named; using the sample class built into benchgrade ({} files of an invented course)",
+            benchgrade::sample::FILES.len()
+        ));
+        Ok(Some(class))
     }
-    let built = PathBuf::from(env!("CARGO_MANIFEST_DIR")).join("sample-data");
-    built.is_dir().then_some(built)
+}
+
+impl Drop for SampleClass {
+    fn drop(&mut self) {
+        let _ = std::env::set_current_dir(std::env::temp_dir());
+        let _ = std::fs::remove_dir_all(&self.0);
+    }
 }
 
 fn options(run: RunArgs, out: Option<PathBuf>) -> Options {
     Options {
         inputs: run.inputs,
-        sample_data: sample_data(),
+        sample_data: None,
         out,
         rubric: run.rubric,
         columns: run.columns,
@@ -45,6 +92,7 @@ fn options(run: RunArgs, out: Option<PathBuf>) -> Options {
         timestamp: std::env::var("SOURCE_DATE_EPOCH")
             .ok()
             .and_then(|v| v.trim().parse().ok()),
+        title: None,
     }
 }
 
@@ -124,7 +172,11 @@ impl Bar {
     }
 }
 
-fn grade(run: RunArgs, g: GradeArgs) -> Result<ExitCode> {
+fn grade(mut run: RunArgs, mut g: GradeArgs) -> Result<ExitCode> {
+    let mut paths: Vec<&mut PathBuf> = vec![&mut g.out];
+    paths.extend(g.baseline.as_mut());
+    paths.extend(g.pseudonym_key.as_mut());
+    let _sample = SampleClass::prepare(&mut run, &mut paths)?;
     let quiet = g.quiet;
     let key = match pseudonym_key(&g) {
         Ok(k) => k,
@@ -136,6 +188,7 @@ fn grade(run: RunArgs, g: GradeArgs) -> Result<ExitCode> {
     opts.baseline = g.baseline;
     opts.pseudonym_key = key;
     opts.timestamp = g.timestamp.or(opts.timestamp);
+    opts.title = g.title;
     let config = match Config::build(opts) {
         Ok(c) => c,
         Err(e) => return usage_error(&e),
@@ -172,7 +225,8 @@ fn grade(run: RunArgs, g: GradeArgs) -> Result<ExitCode> {
     Ok(exit_for(&batch))
 }
 
-fn check(run: RunArgs, explain: bool) -> Result<ExitCode> {
+fn check(mut run: RunArgs, explain: bool) -> Result<ExitCode> {
+    let _sample = SampleClass::prepare(&mut run, &mut [])?;
     let config = match Config::build(options(run, None)) {
         Ok(c) => c,
         Err(e) => return usage_error(&e),

@@ -324,6 +324,19 @@ fn section_centres(
     })
 }
 
+/// A note when the baseline term was graded under another rubric (its score shifts are left out).
+fn baseline_note(config: &Config) -> Option<Problem> {
+    let b = config.baseline.as_ref()?;
+    let sha = crate::export::provenance::sha256_hex(config.rubric_text.as_bytes());
+    let why = crate::export::parquet::rubric_mismatch(&b.term, &sha)?;
+    Some(Problem {
+        file: b.file.display().to_string(),
+        sheet: None,
+        message: why,
+        fatal: false,
+    })
+}
+
 /// A file found in a folder whose name says it holds the apparatus calibration.
 fn is_calibration_file(path: &Path) -> bool {
     path.file_stem()
@@ -483,6 +496,21 @@ fn refuse_nothing(batch: &Batch, config: &Config) -> Result<(), RunError> {
     })
 }
 
+/// What the run graded with and read: the rubric, the calibration, every input.
+fn provenance(config: &Config, files: &[PathBuf], calibration: Option<&Path>) -> Provenance {
+    let mut read: Vec<&Path> = files.iter().map(PathBuf::as_path).collect();
+    read.extend(calibration);
+    read.extend(config.overrides_file.as_deref());
+    let used = crate::export::provenance::Used {
+        rubric: &config.rubric_source,
+        rubric_text: &config.rubric_text,
+        experiment: &config.rubric.experiment.name,
+        title: &config.title,
+        calibration,
+    };
+    Provenance::new(config.timestamp, &used, &read)
+}
+
 /// `grade`, telling `progress` after each sheet and file.
 pub fn grade_with_progress(
     config: &Config,
@@ -490,6 +518,7 @@ pub fn grade_with_progress(
 ) -> Result<Batch, RunError> {
     let (mut batch, calibration) = discover_inputs(config);
     refuse_nothing(&batch, config)?;
+    batch.problems.extend(baseline_note(config));
     let paths = output_paths(&config.out_dir);
     refuse_overwriting_inputs(&paths, &batch.files)?;
     let _lock = open_output_folder(config)?;
@@ -521,15 +550,7 @@ pub fn grade_with_progress(
     drop(fan);
     drop(first);
     batch.files = files;
-    let mut provenance_files: Vec<&Path> = batch.files.iter().map(PathBuf::as_path).collect();
-    provenance_files.extend(calibration.as_deref());
-    provenance_files.extend(config.overrides_file.as_deref());
-    let provenance = Provenance::new(
-        config.timestamp,
-        &config.rubric_source,
-        &config.rubric_text,
-        &provenance_files,
-    );
+    let provenance = provenance(config, &batch.files, calibration.as_deref());
     if let Some(plan) = &tallies.plan {
         refuse_overwriting_inputs(plan.paths(), &batch.files)?;
     }

@@ -12,6 +12,25 @@ pub struct Term {
     pub mean_score_pct: f64,
     /// Share of rows carrying each flag code.
     pub flag_rates: BTreeMap<String, f64>,
+    /// SHA-256 of the rubric the term was graded under, as its results.parquet records it.
+    pub rubric_sha256: Option<String>,
+}
+
+/// Why the score shifts against a baseline are left out, or `None` when both terms were graded
+/// under the same rubric.
+pub fn rubric_mismatch(baseline: &Term, rubric_sha256: &str) -> Option<String> {
+    let short = |s: &str| s.chars().take(12).collect::<String>();
+    match baseline.rubric_sha256.as_deref() {
+        Some(b) if b == rubric_sha256 => None,
+        Some(b) => Some(format!(
+            "the baseline term was graded under a different rubric (SHA-256 {}... against this run's {}...): its scores are not comparable, so score shifts are left out",
+            short(b),
+            short(rubric_sha256)
+        )),
+        None => Some(
+            "the baseline's results.parquet does not record its rubric: its scores may not be comparable, so score shifts are left out".into(),
+        ),
+    }
 }
 
 /// Running sums for a term's headline figures, fed a row at a time: by results.parquet as it
@@ -26,7 +45,11 @@ pub struct TermTally {
 
 impl TermTally {
     /// One row: its recovery, its score as a percentage, its flag codes separated by ';'.
+    /// An excused student (no percent) or a repeat that does not count adds nothing.
     pub fn add(&mut self, recovery: Option<f64>, percent: Option<f64>, flags: &str) {
+        if percent.is_none() || flags.split(';').any(|c| c == "duplicate-student") {
+            return;
+        }
         self.rows += 1;
         for (slot, v) in [(&mut self.recovery, recovery), (&mut self.percent, percent)] {
             if let Some(v) = v.filter(|v| v.is_finite()) {
@@ -56,6 +79,7 @@ impl TermTally {
                 .iter()
                 .map(|(k, c)| (k.clone(), *c as f64 / n))
                 .collect(),
+            rubric_sha256: None,
         }
     }
 }
@@ -86,8 +110,9 @@ impl BaselineRow {
     }
 }
 
-/// The headline figures of both terms, for the baseline comparison.
-pub fn compare(baseline: &Term, current: &Term) -> Vec<BaselineRow> {
+/// The headline figures of both terms, for the baseline comparison; the mean score only when
+/// both were graded under the same rubric.
+pub fn compare(baseline: &Term, current: &Term, same_rubric: bool) -> Vec<BaselineRow> {
     let mut out = vec![
         BaselineRow::new(
             "students".to_string(),
@@ -99,12 +124,14 @@ pub fn compare(baseline: &Term, current: &Term) -> Vec<BaselineRow> {
             baseline.mean_recovery_pct,
             current.mean_recovery_pct,
         ),
-        BaselineRow::new(
+    ];
+    if same_rubric {
+        out.push(BaselineRow::new(
             "mean score (% of maximum)".to_string(),
             baseline.mean_score_pct,
             current.mean_score_pct,
-        ),
-    ];
+        ));
+    }
     let codes: std::collections::BTreeSet<&String> = baseline
         .flag_rates
         .keys()

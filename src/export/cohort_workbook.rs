@@ -76,8 +76,9 @@ fn overview(wb: &mut Workbook, r: &Report, bold: &Format) -> Result<(), XlsxErro
             r.generated
         ),
     )?;
-    ws.write_string_with_format(3, 0, "Findings", bold)?;
-    for (row, f) in (4..).zip(report::findings(r)) {
+    ws.write_string(2, 0, r.used)?;
+    ws.write_string_with_format(4, 0, "Findings", bold)?;
+    for (row, f) in (5..).zip(report::findings(r)) {
         ws.write_string(row, 0, f)?;
     }
     Ok(())

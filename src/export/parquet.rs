@@ -18,7 +18,10 @@ use crate::model::columns::{self, Column, Kind, Outputs, Personal, Value};
 use crate::model::Graded;
 
 use super::baseline::TermTally;
-pub use super::baseline::{compare, BaselineRow, Term};
+pub use super::baseline::{compare, rubric_mismatch, BaselineRow, Term};
+
+/// The key under which results.parquet records the SHA-256 of the rubric it was graded under.
+pub const RUBRIC_KEY: &str = "benchgrade.rubric_sha256";
 
 /// How a column is stored in results.parquet.
 #[derive(Clone, Copy, PartialEq, Eq, PartialOrd, Ord)]
@@ -146,6 +149,7 @@ impl ParquetRows {
     pub fn create(
         path: &Path,
         pseudonyms: Option<Pseudonymizer>,
+        rubric_sha256: &str,
         stage: &Stage,
     ) -> Result<ParquetRows, WriteError> {
         let file = Rc::new(RefCell::new(Some(AtomicFile::create(path, stage)?)));
@@ -153,7 +157,12 @@ impl ParquetRows {
             .into_iter()
             .map(|c| (c, Buffer::new(c)))
             .collect();
+        let meta = KeyValueMetadata::from_static(vec![(
+            RUBRIC_KEY.to_string(),
+            rubric_sha256.to_string(),
+        )]);
         let writer = ParquetWriter::new(Shared(file.clone()))
+            .with_key_value_metadata(Some(meta))
             .with_row_group_size(Some(ROW_GROUP))
             .set_parallel(false)
             .batched(&schema(&columns))
@@ -170,9 +179,12 @@ impl ParquetRows {
 
     pub fn add(&mut self, g: &Graded) -> Result<(), WriteError> {
         let a = &g.assessed;
-        self.term
-            .add(a.recovery_pct, Some(g.score.percent), &a.flag_codes());
         let row = g.row();
+        self.term.add(
+            a.recovery_pct,
+            columns::PERCENT.number(row),
+            &a.flag_codes(),
+        );
         for (c, buffer) in &mut self.columns {
             let sep = match c.kind {
                 Kind::List { sep } => sep,
@@ -248,12 +260,22 @@ impl ParquetRows {
 pub fn read_term(path: &Path) -> Result<Term, String> {
     let file = std::fs::File::open(path)
         .map_err(|e| format!("cannot open the baseline {}: {e}", path.display()))?;
-    let df = ParquetReader::new(file).finish().map_err(|e| {
+    let not_ours = |e: PolarsError| {
         format!(
             "{}: not a results.parquet benchgrade wrote: {e}",
             path.display()
         )
-    })?;
+    };
+    let mut reader = ParquetReader::new(file);
+    let rubric_sha256 = reader
+        .get_metadata()
+        .map_err(not_ours)?
+        .key_value_metadata()
+        .iter()
+        .flatten()
+        .find(|kv| kv.key == RUBRIC_KEY)
+        .and_then(|kv| kv.value.clone());
+    let df = reader.finish().map_err(not_ours)?;
     let column = |k: &str| df.column(k).map_err(|e| format!("{}: {e}", path.display()));
     let numbers = |k: &str| -> Result<Vec<Option<f64>>, String> {
         let c = column(k)?;
@@ -270,5 +292,8 @@ pub fn read_term(path: &Path) -> Result<Term, String> {
     for ((r, p), f) in recovery.into_iter().zip(percent).zip(flags.iter()) {
         tally.add(r, p, f.unwrap_or(""));
     }
-    Ok(tally.term())
+    Ok(Term {
+        rubric_sha256,
+        ..tally.term()
+    })
 }

@@ -9,7 +9,7 @@ use crate::error::WriteError;
 use crate::model::Graded;
 
 use super::baseline::TermTally;
-pub use super::baseline::{compare, BaselineRow, Term};
+pub use super::baseline::{compare, rubric_mismatch, BaselineRow, Term};
 
 /// Keeps the term figures; writes nothing.
 pub struct ParquetRows {
@@ -20,6 +20,7 @@ impl ParquetRows {
     pub fn create(
         _path: &Path,
         _pseudonyms: Option<Pseudonymizer>,
+        _rubric_sha256: &str,
         _stage: &Stage,
     ) -> Result<ParquetRows, WriteError> {
         Ok(ParquetRows {
@@ -29,8 +30,11 @@ impl ParquetRows {
 
     pub fn add(&mut self, g: &Graded) -> Result<(), WriteError> {
         let a = &g.assessed;
-        self.term
-            .add(a.recovery_pct, Some(g.score.percent), &a.flag_codes());
+        self.term.add(
+            a.recovery_pct,
+            crate::model::columns::PERCENT.number(g.row()),
+            &a.flag_codes(),
+        );
         Ok(())
     }
 

@@ -17,9 +17,24 @@ pub struct Provenance {
     pub time_text: String,
     pub rubric: String,
     pub rubric_sha256: String,
+    /// The rubric's experiment.name.
+    pub experiment: String,
+    /// The reports' title (course, term, experiment).
+    pub title: String,
+    /// (file, SHA-256) of the calibration applied, if any.
+    pub calibration: Option<(String, String)>,
     /// (file, SHA-256) of every input, calibration and overrides file.
     pub inputs: Vec<(String, String)>,
     pub notes: Vec<String>,
+}
+
+/// What a run graded with, for its provenance: the rubric and the calibration.
+pub struct Used<'a> {
+    pub rubric: &'a str,
+    pub rubric_text: &'a str,
+    pub experiment: &'a str,
+    pub title: &'a str,
+    pub calibration: Option<&'a Path>,
 }
 
 pub fn sha256_hex(bytes: &[u8]) -> String {
@@ -85,26 +100,43 @@ pub fn check_timestamp(t: i64) -> Result<(), String> {
 }
 
 impl Provenance {
-    pub fn new(timestamp: i64, rubric: &str, rubric_text: &str, files: &[&Path]) -> Provenance {
+    /// "rubric name (file, SHA-256 abcdef012345...)" and the calibration, in one line for
+    /// reports.
+    pub fn used_line(&self) -> String {
+        let short = |sha: &str| sha.chars().take(12).collect::<String>();
+        let calibration = match &self.calibration {
+            Some((file, sha)) => format!("{file} (SHA-256 {}...)", short(sha)),
+            None => "none".into(),
+        };
+        format!(
+            "Rubric: {} ({}, SHA-256 {}...); calibration: {calibration}",
+            self.experiment,
+            self.rubric,
+            short(&self.rubric_sha256)
+        )
+    }
+
+    pub fn new(timestamp: i64, used: &Used<'_>, files: &[&Path]) -> Provenance {
+        let file = |p: &Path| {
+            (
+                p.display().to_string(),
+                sha256_file(p).unwrap_or_else(|| "(unreadable)".into()),
+            )
+        };
         Provenance {
             version: env!("CARGO_PKG_VERSION"),
             timestamp,
             time_text: utc_text(timestamp),
-            rubric: rubric.to_string(),
-            rubric_sha256: sha256_hex(rubric_text.as_bytes()),
-            inputs: files
-                .iter()
-                .map(|p| {
-                    (
-                        p.display().to_string(),
-                        sha256_file(p).unwrap_or_else(|| "(unreadable)".into()),
-                    )
-                })
-                .collect(),
+            rubric: used.rubric.to_string(),
+            rubric_sha256: sha256_hex(used.rubric_text.as_bytes()),
+            experiment: used.experiment.to_string(),
+            title: used.title.to_string(),
+            calibration: used.calibration.map(file),
+            inputs: files.iter().map(|p| file(p)).collect(),
             notes: vec![
                 format!("Statistics: {QUANTILE_DEFINITION}."),
                 format!("Purity estimates: {PURITY_ASSUMPTIONS}."),
-                "Rows with impossible entries are left out of the statistics.".into(),
+                "Each measure's statistics leave out the rows whose entries for it are impossible, and excused students; the score counts every graded student.".into(),
             ],
         }
     }

@@ -11,6 +11,10 @@ use crate::stats::sections::SectionStats;
 pub struct Report<'a> {
     pub title: &'a str,
     pub generated: &'a str,
+    /// The rubric and calibration graded with, in one line.
+    pub used: &'a str,
+    /// Why the baseline's score shifts are left out, if they are.
+    pub baseline_note: Option<&'a str>,
     pub cohort: &'a Cohort,
     pub stats: &'a SectionStats,
     pub comparisons: &'a [Comparison],
@@ -256,6 +260,9 @@ pub fn findings(r: &Report) -> Vec<String> {
             if b.shift > 0.0 { "+" } else { "" },
             fmt(b.shift, 1)
         ));
+    }
+    if let Some(note) = r.baseline_note {
+        out.push(note.to_string());
     }
     let undefined: Vec<&Comparison> = r
         .comparisons

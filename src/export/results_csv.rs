@@ -32,6 +32,8 @@ pub struct ResultsCsv {
     buf: String,
     /// When set, ids are replaced by pseudonyms and names left out.
     pseudonyms: Option<Pseudonymizer>,
+    /// The rubric's criterion ids, in the order of the `points_` columns.
+    criteria: Vec<String>,
 }
 
 impl ResultsCsv {
@@ -46,6 +48,7 @@ impl ResultsCsv {
             path: path.to_path_buf(),
             buf: String::new(),
             pseudonyms: None,
+            criteria: criteria.to_vec(),
         };
         out.csv
             .write_record(header(criteria))
@@ -112,9 +115,19 @@ impl ResultsCsv {
                 _ => self.csv.write_field(self.buf.as_bytes())?,
             }
         }
-        for c in &g.score.criteria {
+        // one field per criterion of the rubric, empty where the row has no points (excused)
+        for (i, id) in self.criteria.iter().enumerate() {
+            let points = match g.score.criteria.get(i) {
+                Some(c) if c.id == *id => Some(c.points),
+                _ => g
+                    .score
+                    .criteria
+                    .iter()
+                    .find(|c| c.id == *id)
+                    .map(|c| c.points),
+            };
             self.buf.clear();
-            push_number(&mut self.buf, Some(c.points));
+            push_number(&mut self.buf, points);
             self.csv.write_field(self.buf.as_bytes())?;
         }
         self.csv.write_record(None::<&[u8]>)

@@ -200,11 +200,19 @@ pub(super) fn provenance_sheet(
     ws.set_column_width(1, 60)?;
     ws.set_column_width(2, 68)?;
     let mut r = 0;
+    let (calibration, calibration_sha) = match &p.calibration {
+        Some((file, sha)) => (file.clone(), sha.clone()),
+        None => ("none".to_string(), String::new()),
+    };
     for (k, v) in [
         ("tool", format!("benchgrade {}", p.version)),
         ("graded at (UTC)", p.time_text.clone()),
+        ("title", p.title.clone()),
+        ("experiment", p.experiment.clone()),
         ("rubric", p.rubric.clone()),
         ("rubric SHA-256", p.rubric_sha256.clone()),
+        ("calibration", calibration),
+        ("calibration SHA-256", calibration_sha),
     ] {
         ws.write_string_with_format(r, 0, k, &f.bold)?;
         ws.write_string(r, 1, &v)?;

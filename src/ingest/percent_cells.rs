@@ -366,4 +366,49 @@ mod tests {
         let got: Vec<u16> = records(&s, 0).map(|(k, _)| k).collect();
         assert_eq!(got, vec![0x0203]);
     }
+
+    fn ods_with(content: &str) -> tempfile::TempDir {
+        let dir = tempfile::tempdir().unwrap();
+        let f = std::fs::File::create(dir.path().join("t.ods")).unwrap();
+        let mut z = zip::ZipWriter::new(f);
+        z.start_file("content.xml", zip::write::SimpleFileOptions::default())
+            .unwrap();
+        std::io::Write::write_all(&mut z, content.as_bytes()).unwrap();
+        z.finish().unwrap();
+        dir
+    }
+
+    #[test]
+    fn ods_percentage_cells_are_found_through_repeats() {
+        // OpenDocument 1.2 part 1, 9.1.3 and 9.1.4: number-rows-repeated and
+        // number-columns-repeated stand for that many copies of the row or cell
+        let content = r#"<office:document-content xmlns:office="o" xmlns:table="t" xmlns:text="x"><office:body><office:spreadsheet>
+<table:table table:name="Sec 1">
+<table:table-row><table:table-cell office:value-type="string"><text:p>id</text:p></table:table-cell></table:table-row>
+<table:table-row table:number-rows-repeated="2"><table:table-cell table:number-columns-repeated="2"/><table:table-cell office:value-type="percentage" office:value="0.73"/></table:table-row>
+<table:table-row><table:table-cell office:value-type="float" office:value="3"/><table:table-cell office:value-type="percentage" office:value="0.5" table:number-columns-repeated="2"/></table:table-row>
+</table:table>
+<table:table table:name="Other"><table:table-row><table:table-cell office:value-type="float" office:value="1"/></table:table-row></table:table>
+</office:spreadsheet></office:body></office:document-content>"#;
+        let dir = ods_with(content);
+        let found = ods(&dir.path().join("t.ods")).unwrap();
+        assert_eq!(
+            found.get("Sec 1"),
+            Some(&vec![
+                Block {
+                    row: 1,
+                    rows: 2,
+                    col: 2,
+                    cols: 1
+                },
+                Block {
+                    row: 3,
+                    rows: 1,
+                    col: 1,
+                    cols: 2
+                },
+            ])
+        );
+        assert!(!found.contains_key("Other"));
+    }
 }

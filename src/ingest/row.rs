@@ -323,6 +323,40 @@ mod tests {
     }
 
     #[test]
+    fn names_in_parts_make_one_name_and_percent_cells_are_percentages() {
+        let s = one_row(
+            &[
+                "Surname",
+                "Given name",
+                "ID",
+                "Crude mass (g)",
+                "Recovered mass (g)",
+                "MP",
+                "% recovery",
+                "Status",
+                "TA notes",
+            ],
+            vec![
+                Cell::Text("Núñez".into()),
+                Cell::Text("Pilar".into()),
+                Cell::Text("S1".into()),
+                Cell::Number(2.39),
+                Cell::Number(1.655),
+                Cell::Text("119.8-121.5".into()),
+                Cell::Percent(0.692),
+                Cell::Text("excused".into()),
+                Cell::Text("fire alarm during drying".into()),
+            ],
+        );
+        assert_eq!(s.student_name.as_deref(), Some("Núñez, Pilar"));
+        // 0.692 shown as 69.2 % is 69.2, exactly as typed
+        assert_eq!(s.reported_recovery_pct, Some(69.2));
+        assert_eq!(s.status.as_deref(), Some("excused"));
+        assert_eq!(s.remarks.as_deref(), Some("fire alarm during drying"));
+        assert_eq!(s.assistant, None, "a notes column is not the assistant");
+    }
+
+    #[test]
     fn unreadable_cells_are_named() {
         let s = one_row(
             &[

@@ -516,4 +516,46 @@ mod tests {
         assert!(layout.column(Field::MpRange).is_none());
         assert!(layout.column(Field::MpOnset).is_some());
     }
+
+    /// A units row under the header is common practice in class sheets: "(g)", "mg", "°C",
+    /// blank over text columns.
+    #[test]
+    fn a_units_row_gives_columns_their_unit_and_is_not_a_student() {
+        for units in [
+            ["", "(g)", "mg", "°C"],
+            ["", "G", "MG", "°c"],
+            ["", "[g]", "(mg)", "deg C"],
+        ] {
+            let s = sheet(&[
+                &["Student ID", "Crude mass", "Recovered mass", "MP range"],
+                &units,
+                &["s1", "3.0", "2100", "120-121"],
+            ]);
+            let layout = locate(&s, &ColumnOverrides::default()).unwrap();
+            assert_eq!(layout.units_row, Some(2), "{units:?}");
+            let rec = layout.column(Field::RecoveredMass).unwrap();
+            assert_eq!(rec.unit, Some(Unit::Mass(0.001)), "{units:?}");
+            assert_eq!(rec.unit_source, Some(UnitSource::UnitsRow));
+            let rows = student_rows(&s, &layout);
+            assert_eq!(
+                rows.len(),
+                1,
+                "{units:?}: the units row is not a submission"
+            );
+            assert_eq!(rows[0].index, 2);
+        }
+        // a row with anything but units under the header is a student
+        let s = sheet(&[
+            &[
+                "Student ID",
+                "Crude mass (g)",
+                "Recovered mass (g)",
+                "MP range",
+            ],
+            &["g", "3.0", "2.1", "120-121"],
+        ]);
+        let layout = locate(&s, &ColumnOverrides::default()).unwrap();
+        assert_eq!(layout.units_row, None);
+        assert_eq!(student_rows(&s, &layout).len(), 1);
+    }
 }

@@ -165,6 +165,7 @@ impl Tallies {
             parquet: ParquetRows::create(
                 &config.out_dir.join("results.parquet"),
                 config.pseudonyms.clone(),
+                &crate::export::provenance::sha256_hex(config.rubric_text.as_bytes()),
                 stage,
             )?,
             letters: BTreeMap::new(),
@@ -196,9 +197,14 @@ impl Tallies {
     ) -> Result<(), RunError> {
         let dir = &config.out_dir;
         section_stats::write(&dir.join("section-stats.csv"), stats, stage)?;
+        let mismatch = config
+            .baseline
+            .as_ref()
+            .and_then(|b| parquet::rubric_mismatch(&b.term, &provenance.rubric_sha256));
         let baseline = match &config.baseline {
             Some(earlier) => {
-                let rows = parquet::compare(&earlier.term, &self.parquet.term());
+                let rows =
+                    parquet::compare(&earlier.term, &self.parquet.term(), mismatch.is_none());
                 write_baseline(&dir.join("baseline-comparison.csv"), &rows, stage)?;
                 rows
             }
@@ -211,6 +217,7 @@ impl Tallies {
             stats,
             letters: &letters,
             baseline: &baseline,
+            baseline_note: mismatch.as_deref(),
         };
         write_cohort(config, &cohort, provenance, stage)?;
         Ok(())
@@ -250,6 +257,7 @@ struct Summaries<'a> {
     stats: &'a SectionStats,
     letters: &'a [(String, usize)],
     baseline: &'a [BaselineRow],
+    baseline_note: Option<&'a str>,
 }
 
 fn write_cohort(
@@ -269,9 +277,12 @@ fn write_cohort(
         provenance.time_text,
         provenance.inputs.len()
     );
+    let used = provenance.used_line();
     let report = Report {
-        title: &config.rubric.experiment.name,
+        title: &config.title,
         generated: &generated,
+        used: &used,
+        baseline_note: s.baseline_note,
         cohort: s.cohort,
         stats: s.stats,
         comparisons: &comparisons,

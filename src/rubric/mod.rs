@@ -21,6 +21,12 @@ pub const DEFAULT_RUBRIC: &str = include_str!("../../rubrics/default.toml");
 #[serde(deny_unknown_fields)]
 pub struct Experiment {
     pub name: String,
+    /// The course, for titles ("CHEM 2150 Organic Laboratory").
+    #[serde(default)]
+    pub course: Option<String>,
+    /// The term, for titles ("Fall 2026").
+    #[serde(default)]
+    pub term: Option<String>,
     /// The compound every row is taken to be when a row names none.
     #[serde(default)]
     pub compound: Option<String>,

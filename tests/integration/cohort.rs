@@ -231,7 +231,11 @@ fn parquet_results_and_a_baseline_term() {
     use benchgrade::export::parquet::read_term;
     let f = Fixture::new();
     grade(&f);
-    let rows = read_results(&f.path("out/results.csv"));
+    // the term's figures are over the students that count: graded, not a repeat
+    let rows: Vec<_> = read_results(&f.path("out/results.csv"))
+        .into_iter()
+        .filter(|r| r["status"] == "graded" && !r["flags"].contains("duplicate-student"))
+        .collect();
     let term = read_term(&f.path("out/results.parquet")).unwrap();
     assert_eq!(term.rows, rows.len());
     let rec: Vec<f64> = rows.iter().filter_map(|r| num(r, "recovery_pct")).collect();
@@ -262,7 +266,47 @@ fn parquet_results_and_a_baseline_term() {
     let students = cmp.iter().find(|r| r["metric"] == "students").unwrap();
     assert_eq!(num(students, "baseline"), Some(rows.len() as f64));
     let now = read_results(&out2.join("results.csv"));
-    assert_eq!(num(students, "current"), Some(now.len() as f64));
+    let counted = now
+        .iter()
+        .filter(|r| r["status"] == "graded" && !r["flags"].contains("duplicate-student"))
+        .count();
+    assert_eq!(num(students, "current"), Some(counted as f64));
+    assert!(
+        cmp.iter()
+            .any(|r| r["metric"] == "mean score (% of maximum)"),
+        "the same rubric: score shifts are compared"
+    );
+    // graded under another rubric: said on standard error and in the report, no score shift
+    let other = project_root().join("rubrics/upper-level.toml");
+    let out3 = f.path("term3");
+    let run3 = run_in(
+        &project_root(),
+        &[
+            "grade",
+            one.to_str().unwrap(),
+            "--rubric",
+            other.to_str().unwrap(),
+            "--out",
+            out3.to_str().unwrap(),
+            "--baseline",
+            base.to_str().unwrap(),
+            "--skip-workbooks",
+        ],
+    );
+    assert!(run3.code <= 1, "{}", run3.stderr);
+    assert!(
+        run3.stderr.contains("graded under a different rubric"),
+        "{}",
+        run3.stderr
+    );
+    let cmp3 = read_results(&out3.join("baseline-comparison.csv"));
+    assert!(cmp3.iter().all(|r| !r["metric"].contains("score")));
+    let html = std::fs::read_to_string(out3.join("cohort-report.html")).unwrap();
+    assert!(html.contains("graded under a different rubric"));
+    assert!(
+        html.contains("upper-level.toml"),
+        "the report names the rubric used"
+    );
     let shift = cmp
         .iter()
         .find(|r| r["metric"] == "mean recovery (%)")

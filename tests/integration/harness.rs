@@ -196,7 +196,8 @@ pub fn soffice() -> Option<&'static str> {
 }
 
 /// Converts `file` with LibreOffice (headless, a profile of its own in `dir`) to `format`
-/// ("pdf", "csv") in `dir/converted`; the converted file's path.
+/// ("pdf", "csv", or with a filter: "xls:MS Excel 97") in `dir/converted`; the converted file's
+/// path.
 pub fn convert(soffice: &str, dir: &Path, file: &Path, format: &str) -> PathBuf {
     let profile = dir.join("lo-profile");
     let out = Command::new(soffice)
@@ -218,7 +219,8 @@ pub fn convert(soffice: &str, dir: &Path, file: &Path, format: &str) -> PathBuf 
         String::from_utf8_lossy(&out.stderr)
     );
     let stem = file.file_stem().unwrap().to_string_lossy().into_owned();
-    dir.join("converted").join(format!("{stem}.{format}"))
+    let ext = format.split(':').next().unwrap_or(format);
+    dir.join("converted").join(format!("{stem}.{ext}"))
 }
 
 pub fn outside_program<T>(found: Option<T>, what: &str, install: &str) -> Option<T> {

@@ -8,11 +8,12 @@ use std::path::Path;
 use crate::harness::project_root;
 
 /// From the bottom up: a module may use only those before it.
-const LAYERS: [&str; 13] = [
+const LAYERS: [&str; 14] = [
     "error",
     "fields",
     "numtext",
     "files",
+    "sample",
     "ingest",
     "model",
     "reference",

@@ -17,6 +17,7 @@ mod ingest_messy;
 mod layers;
 mod nist;
 mod physchem;
+mod real_files;
 mod reference_data;
 mod registry;
 mod reliability;
