@@ -473,6 +473,7 @@ fn open_output_folder(config: &Config) -> Result<FolderLock, RunError> {
     crate::export::atomic::recover(dir)
         .map_err(|e| invalid("cannot finish the last run's outputs in", e))?;
     crate::files::sweep_stale_partials(dir);
+    crate::files::sweep_stale_partials(&dir.join(crate::export::handouts::FOLDER));
     Ok(lock)
 }
 

@@ -59,7 +59,7 @@ impl LastCounts {
         *n += 1;
         (*n < *total).then(|| {
             format!(
-                "this id appears again later in section {}; the last submission, at {last}, is the one that counts",
+                "this id appears again later in section {}: the last submission, at {last}, is the one that counts",
                 s.section
             )
         })
@@ -132,7 +132,7 @@ impl Duplicates {
             let (source, sheet) = &places[first.place as usize];
             let at = where_is(source, sheet.as_deref(), first.row);
             return Some(format!(
-                "this id already appears in section {} at {at}; the first submission is the one that counts",
+                "this id already appears in section {} at {at}: the first submission is the one that counts",
                 s.section
             ));
         }

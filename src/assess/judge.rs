@@ -171,15 +171,18 @@ fn wet_or_impure(a: &Assessed, t: &Tolerances, out: &mut Vec<(Flag, String)>) {
     if let Some(c) = over_ceiling {
         let mut note = format!("recovery {rec:.1} % exceeds the most that could crystallise ({c:.1} %): solvent or insoluble matter in the product");
         if !off.is_empty() {
-            note.push_str("; ");
+            note.push_str(", and ");
             note.push_str(&off.join(" and "));
         }
-        out.push((Flag::LikelyWet, note + "; dry to constant mass and reweigh"));
+        out.push((
+            Flag::LikelyWet,
+            note + " (dry to constant mass and reweigh)",
+        ));
     } else if heavy && !off.is_empty() {
         out.push((
             Flag::LikelyWet,
             format!(
-                "{mass}{} and {}: solvent likely left in the crystals; dry to constant mass",
+                "{mass}{} and {}: solvent likely left in the crystals (dry to constant mass)",
                 if ceiling.is_none() && rec <= 100.0 {
                     format!(" (at or above {:.0} %)", t.wet_recovery_pct)
                 } else {
@@ -215,7 +218,7 @@ pub(super) fn suspicious(a: &Assessed, t: &Tolerances, out: &mut Vec<(Flag, Stri
         if v < min {
             out.push((
                 Flag::SolventBelowMinimum,
-                format!("{v:.1} mL is less than the {min:.1} mL of boiling solvent needed to dissolve the crude; insoluble matter may have been filtered off hot"),
+                format!("{v:.1} mL is less than the {min:.1} mL of boiling solvent needed to dissolve the crude (insoluble matter may have been filtered off hot)"),
             ));
         }
     }

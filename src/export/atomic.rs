@@ -41,6 +41,8 @@ fn write_error(path: &Path) -> impl Fn(std::io::Error) -> WriteError + '_ {
 #[derive(Debug, Default)]
 struct Staged {
     files: Vec<(PathBuf, PathBuf)>,
+    /// Subfolders this run made for its outputs.
+    folders: Vec<PathBuf>,
     published: bool,
 }
 
@@ -49,6 +51,10 @@ impl Drop for Staged {
         if !self.published {
             for (tmp, _) in &self.files {
                 let _ = std::fs::remove_file(tmp);
+            }
+            // a subfolder made for this run's outputs goes too, if nothing else is in it
+            for folder in &self.folders {
+                let _ = std::fs::remove_dir(folder);
             }
         }
     }
@@ -68,6 +74,14 @@ impl Stage {
     fn add(&self, tmp: PathBuf, path: PathBuf) {
         if let Ok(mut s) = self.staged.lock() {
             s.files.push((tmp, path));
+        }
+    }
+
+    /// Takes note of a subfolder made for this run's outputs, removed (when empty) if the run
+    /// fails.
+    pub fn made_folder(&self, folder: &Path) {
+        if let Ok(mut s) = self.staged.lock() {
+            s.folders.push(folder.to_path_buf());
         }
     }
 
@@ -92,7 +106,7 @@ impl Stage {
         let names: Vec<(String, String)> = staged
             .files
             .iter()
-            .map(|(t, p)| (file_name(t), file_name(p)))
+            .map(|(t, p)| (relative(dir, t), relative(dir, p)))
             .collect();
         let current: Vec<&str> = names.iter().map(|(_, p)| p.as_str()).collect();
         let is_input = |name: &str| {
@@ -125,9 +139,38 @@ fn file_name(p: &Path) -> String {
         .unwrap_or_default()
 }
 
-/// A plain file name: no folder, no parent, not hidden.
+/// A path under `dir` as the journal and the manifest name it: "results.csv",
+/// "handouts/sec-01.html".
+fn relative(dir: &Path, p: &Path) -> String {
+    match p.strip_prefix(dir) {
+        Ok(rel) if rel.components().count() <= 2 => rel
+            .iter()
+            .map(|c| c.to_string_lossy())
+            .collect::<Vec<_>>()
+            .join("/"),
+        _ => file_name(p),
+    }
+}
+
+/// A plain file name (no folder, no parent, not hidden), or one inside a plain subfolder
+/// ("handouts/sec-01.html").
 fn plain(name: &str) -> bool {
-    !name.is_empty() && !name.starts_with('.') && !name.contains(['/', '\\'])
+    let parts: Vec<&str> = name.split('/').collect();
+    let ok = |n: &str| !n.is_empty() && !n.starts_with('.') && !n.contains('\\') && n != "..";
+    match parts.as_slice() {
+        [file] => ok(file),
+        [folder, file] => ok(folder) && ok(file),
+        _ => false,
+    }
+}
+
+/// A temporary file's name as the journal gives it: hidden, in the folder or one subfolder.
+fn temporary(name: &str) -> bool {
+    let file = name.rsplit('/').next().unwrap_or(name);
+    file.starts_with('.')
+        && file.ends_with(".partial")
+        && name.split('/').count() <= 2
+        && !name.split('/').any(|p| p == "..")
 }
 
 fn read_manifest(dir: &Path) -> Vec<String> {
@@ -158,7 +201,7 @@ fn apply(dir: &Path, journal: &str) -> std::io::Result<()> {
     for line in journal.lines() {
         let parts: Vec<&str> = line.split('\t').collect();
         match parts.as_slice() {
-            ["put", tmp, name] if plain(name) && tmp.ends_with(".partial") => {
+            ["put", tmp, name] if plain(name) && temporary(tmp) => {
                 let from = dir.join(tmp);
                 if std::fs::symlink_metadata(&from).is_ok() {
                     std::fs::rename(&from, dir.join(name))?;
@@ -168,6 +211,10 @@ fn apply(dir: &Path, journal: &str) -> std::io::Result<()> {
             }
             ["drop", name] if plain(name) => {
                 let _ = std::fs::remove_file(dir.join(name));
+                // a subfolder an earlier run made goes once it is empty
+                if let Some((folder, _)) = name.split_once('/') {
+                    let _ = std::fs::remove_dir(dir.join(folder));
+                }
             }
             _ => {}
         }

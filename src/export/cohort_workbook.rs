@@ -86,7 +86,7 @@ fn overview(wb: &mut Workbook, r: &Report, bold: &Format) -> Result<(), XlsxErro
 
 fn sections(wb: &mut Workbook, r: &Report, bold: &Format) -> Result<(), XlsxError> {
     let ws = wb.add_worksheet().set_name("Sections")?;
-    let row = super::workbook_summary::summary_table(ws, r.stats, |_| true, bold)?;
+    let row = super::workbook_summary::summary_table(ws, 0, r.stats, |_| true, bold)?;
     ws.write_string(
         row + 1,
         0,

@@ -1,8 +1,9 @@
-//! results.csv, results.json, gradebook.csv and the pseudonymized results, written together on
+//! results.csv, results.json, gradebook.csv, the pseudonymized results and the handouts, written together on
 //! a writer thread (`row_thread`): formatting a row's numbers and sentences four ways, and the
 //! system calls that write them, cost the grading thread more than grading it.
 
 use super::gradebook::Gradebook;
+use super::handouts::Handouts;
 use super::results_csv::ResultsCsv;
 use super::results_json::ResultsJson;
 use super::row_thread::{RowSink, RowThread};
@@ -16,6 +17,7 @@ pub struct TextOutputs {
     pub pseudonymized: Option<ResultsCsv>,
     pub json: ResultsJson,
     pub gradebook: Gradebook,
+    pub handouts: Handouts,
 }
 
 impl RowSink for TextOutputs {
@@ -32,6 +34,7 @@ impl RowSink for TextOutputs {
             }
             self.json.row(g)?;
             self.gradebook.row(g)?;
+            self.handouts.row(g)?;
         }
         Ok(())
     }
@@ -42,7 +45,8 @@ impl RowSink for TextOutputs {
             p.finish()?;
         }
         self.json.finish(&problems)?;
-        self.gradebook.finish()
+        self.gradebook.finish()?;
+        self.handouts.finish()
     }
 }
 

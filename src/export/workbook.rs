@@ -13,13 +13,12 @@ use std::path::{Path, PathBuf};
 use super::atomic::Stage;
 use super::book_plan::BookPlan;
 use rust_xlsxwriter::{
-    Color, DocProperties, ExcelDateTime, Format, Note, Workbook, Worksheet, XlsxError,
+    Color, DocProperties, ExcelDateTime, Format, FormatAlign, Workbook, Worksheet, XlsxError,
 };
 
 use super::provenance::Provenance;
 use crate::error::WriteError;
-use crate::ingest::cells::Cell;
-use crate::model::columns::{self, Column, Outputs};
+use crate::model::columns::Column;
 use crate::model::Graded;
 use crate::model::Severity;
 use crate::stats::sections::SectionStats;
@@ -29,25 +28,8 @@ use crate::stats::sections::SectionStats;
 const IMPOSSIBLE_FILL: u32 = 0xF6C6C0;
 const SUSPICIOUS_FILL: u32 = 0xFBE3A6;
 const HEADER_FILL: u32 = 0xD9E4EC;
-/// Cell notes per section sheet. The writer keeps notes in memory whatever its mode (we
-/// measured at about 20 kB each), so beyond this many the "Reasons" column alone carries the
-/// explanation (it always does).
-pub const NOTES_PER_SHEET: usize = 100;
-
-/// The recomputed columns after the original ones: the registry's workbook columns.
-fn computed() -> impl Iterator<Item = &'static Column> {
-    columns::carried_by(Outputs::WORKBOOK)
-}
-
-/// How many recomputed columns follow the original ones.
-pub(super) fn computed_count() -> usize {
-    computed().count()
-}
-
-/// Where a recomputed column stands after the original ones.
-pub(super) fn computed_position(c: &Column) -> Option<u16> {
-    columns::position_in(Outputs::WORKBOOK, c).map(|i| i as u16)
-}
+pub use super::section_sheet::NOTES_PER_SHEET;
+use super::section_sheet::{self as sheet, computed, SectionSheet};
 
 /// Formats: for each number of decimals the recomputed columns use, one per fill (none,
 /// impossible, suspicious); masses 0.000, temperatures and percentages 0.0.
@@ -56,14 +38,25 @@ pub(super) struct Formats {
     pub(super) text: [Format; 3],
     pub(super) header: Format,
     pub(super) bold: Format,
+    /// Top-aligned, for the student's own columns.
+    pub(super) top: Format,
+    /// The first title row of a section sheet, and the others.
+    pub(super) title: Format,
+    pub(super) plain: Format,
+    /// Wrapped text: the reasons and the feedback.
+    pub(super) wrap: Format,
 }
 
 impl Formats {
     fn new() -> Formats {
         let fills = [None, Some(IMPOSSIBLE_FILL), Some(SUSPICIOUS_FILL)];
-        let with = |f: Format, fill: Option<u32>| match fill {
-            Some(c) => f.set_background_color(Color::RGB(c)),
-            None => f,
+        // every cell top-aligned, so that a row grown for its feedback reads from the top
+        let with = |f: Format, fill: Option<u32>| {
+            match fill {
+                Some(c) => f.set_background_color(Color::RGB(c)),
+                None => f,
+            }
+            .set_align(FormatAlign::Top)
         };
         let mut decimals: Vec<u8> = computed().map(|c| c.decimals).collect();
         decimals.sort_unstable();
@@ -77,19 +70,23 @@ impl Formats {
         };
         Formats {
             cells: decimals.into_iter().map(|d| (d, number(d))).collect(),
-            text: fills.map(|fl| with(Format::new(), fl)),
+            text: fills.map(|fl| with(Format::new().set_text_wrap(), fl)),
             header: Format::new()
                 .set_bold()
                 .set_text_wrap()
                 .set_background_color(Color::RGB(HEADER_FILL)),
-            bold: Format::new().set_bold(),
+            bold: Format::new().set_bold().set_align(FormatAlign::Top),
+            top: Format::new().set_align(FormatAlign::Top),
+            title: Format::new().set_bold().set_font_size(13),
+            plain: Format::new(),
+            wrap: sheet::wrap_format(),
         }
     }
 }
 
 impl Formats {
     /// The number format of a recomputed column, with the fill for `severity`.
-    fn number(&self, c: &Column, severity: Option<Severity>) -> &Format {
+    pub(super) fn number(&self, c: &Column, severity: Option<Severity>) -> &Format {
         let i = self
             .cells
             .iter()
@@ -99,7 +96,7 @@ impl Formats {
     }
 }
 
-fn fill_index(s: Option<Severity>) -> usize {
+pub(super) fn fill_index(s: Option<Severity>) -> usize {
     match s {
         None => 0,
         Some(Severity::Impossible) => 1,
@@ -210,14 +207,6 @@ pub fn file_stem(wanted: &str) -> String {
     }
 }
 
-pub(super) struct SectionSheet {
-    pub(super) index: usize,
-    pub(super) name: String,
-    pub(super) next_row: u32,
-    pub(super) originals: usize,
-    pub(super) notes: usize,
-}
-
 pub(super) struct Book {
     pub(super) path: PathBuf,
     pub(super) workbook: Workbook,
@@ -249,7 +238,10 @@ pub fn new_workbook(tempdir: &Path) -> Result<Workbook, XlsxError> {
 
 /// The graded workbooks of a batch, open while rows stream past.
 pub struct GradedWorkbooks {
-    criteria: Vec<String>,
+    /// The rubric's criteria: (label, id), in order.
+    criteria: Vec<(String, String)>,
+    /// The most points a student can earn, for the score histogram's bins.
+    max_score: f64,
     books: Vec<Book>,
     plan: BookPlan,
     formats: Formats,
@@ -266,44 +258,18 @@ fn xerr(path: &Path, e: XlsxError) -> WriteError {
     WriteError::other(path, e)
 }
 
-/// The number format of a percent cell copied from a student's sheet.
-fn percent_format() -> &'static Format {
-    static PERCENT: std::sync::OnceLock<Format> = std::sync::OnceLock::new();
-    PERCENT.get_or_init(|| Format::new().set_num_format("0.0#%"))
-}
-
-fn write_cell(ws: &mut Worksheet, row: u32, col: u16, cell: &Cell) -> Result<(), XlsxError> {
-    match cell {
-        Cell::Empty => {}
-        Cell::Number(v) if v.is_finite() => {
-            ws.write_number(row, col, *v)?;
-        }
-        Cell::Number(_) => {}
-        Cell::Text(t) | Cell::Error(t) | Cell::Date(t) => {
-            ws.write_string(row, col, fit_cell(t))?;
-        }
-        Cell::Bool(b) => {
-            ws.write_boolean(row, col, *b)?;
-        }
-        // as the student's sheet showed it: a percentage
-        Cell::Percent(v) if v.is_finite() => {
-            ws.write_number_with_format(row, col, *v, percent_format())?;
-        }
-        Cell::Percent(_) => {}
-    }
-    Ok(())
-}
-
 impl GradedWorkbooks {
-    /// `criteria`: the rubric's criterion labels, in order.
+    /// `criteria`: the rubric's criteria as (label, id), in order.
     pub fn new(
         out_dir: &Path,
         split_sections: bool,
-        criteria: Vec<String>,
+        criteria: Vec<(String, String)>,
+        max_score: f64,
         stage: Stage,
     ) -> GradedWorkbooks {
         GradedWorkbooks {
             criteria,
+            max_score,
             books: Vec::new(),
             plan: BookPlan::new(out_dir, split_sections),
             formats: Formats::new(),
@@ -335,26 +301,12 @@ impl GradedWorkbooks {
     }
 
     /// How many of a sheet's original columns fit beside the ones benchgrade adds.
-    fn originals(&self, g: &Graded) -> usize {
-        let added = computed_count() + self.criteria.len() + 5;
+    fn room(&self, g: &Graded) -> usize {
         g.assessed
             .submission
             .original
             .len()
-            .min(MAX_COLUMNS - added)
-    }
-
-    fn header(&self, g: &Graded) -> Vec<String> {
-        let s = &g.assessed.submission;
-        let mut h: Vec<String> = s
-            .original_headers
-            .as_deref()
-            .map(|h| h[..h.len().min(self.originals(g))].to_vec())
-            .unwrap_or_default();
-        h.extend(computed().map(Column::header));
-        h.extend(self.criteria.iter().cloned());
-        h.extend(["Total", "Max", "Letter", "Flags", "Reasons"].map(String::from));
-        h
+            .min(MAX_COLUMNS - sheet::added_columns(self.criteria.len()))
     }
 
     /// The (workbook, sheet) a row goes to; the previous row's answer is reused when the row
@@ -382,8 +334,7 @@ impl GradedWorkbooks {
         g: &Graded,
         key: (Option<String>, String),
     ) -> Result<usize, WriteError> {
-        let header = self.header(g);
-        let originals = self.originals(g);
+        let room = self.room(g);
         let s = &g.assessed.submission;
         let book = &mut self.books[bi];
         let path = book.path.clone();
@@ -395,9 +346,9 @@ impl GradedWorkbooks {
                 fit_cell(&s.section)
             ));
         }
-        if originals < s.original.len() {
+        if room < s.original.len() {
             book.notes.push(format!(
-                "Sheet \"{name}\": only the first {originals} of the section's {} columns fit in a sheet beside benchgrade's own; results.csv holds every value read.",
+                "Sheet \"{name}\": only the first {room} of the section's {} columns fit in a sheet beside benchgrade's own; results.csv holds every value read.",
                 s.original.len()
             ));
         }
@@ -406,28 +357,24 @@ impl GradedWorkbooks {
             .add_worksheet_with_constant_memory()
             .map_err(e)?;
         ws.set_name(&name).map_err(e)?;
-        write_header(ws, &header, originals, &self.formats).map_err(e)?;
-        // number formats by column, so that unflagged cells need no format of their own
-        let base = originals as u16;
-        for (i, c) in computed().enumerate() {
-            ws.set_column_format(base + i as u16, self.formats.number(c, None))
-                .map_err(e)?;
-        }
-        // the total in bold, by column for the same reason
-        let total = base + (computed_count() + self.criteria.len()) as u16;
-        ws.set_column_format(total, &self.formats.bold).map_err(e)?;
         let index = book.workbook.worksheets().len() - 1;
-        book.names.push(name.clone());
+        let head = s.original_headers.clone().unwrap_or_default();
+        let ws = book.workbook.worksheet_from_index(index).map_err(e)?;
+        let section = sheet::start(
+            ws,
+            index,
+            name.clone(),
+            &head,
+            &self.criteria,
+            room,
+            &self.formats,
+        )
+        .map_err(e)?;
+        book.names.push(name);
         if !book.sections.contains(&s.section) {
             book.sections.push(s.section.clone());
         }
-        book.sheets.push(SectionSheet {
-            index,
-            name,
-            next_row: 1,
-            originals,
-            notes: 0,
-        });
+        book.sheets.push(section);
         book.by_key.insert(key, book.sheets.len() - 1);
         Ok(book.sheets.len() - 1)
     }
@@ -444,7 +391,7 @@ impl GradedWorkbooks {
             .workbook
             .worksheet_from_index(sheet.index)
             .map_err(|e| xerr(&path, e))?;
-        write_graded_row(ws, sheet, g, &self.formats).map_err(|e| xerr(&path, e))
+        sheet::write_row(ws, sheet, g, &self.formats).map_err(|e| xerr(&path, e))
     }
 
     /// Adds statistics, charts and provenance to every workbook and saves each atomically.
@@ -457,15 +404,20 @@ impl GradedWorkbooks {
         for mut book in self.books {
             let path = book.path.clone();
             let e = |err| xerr(&path, err);
-            for sheet in &book.sheets {
-                let ws = book.workbook.worksheet_from_index(sheet.index).map_err(e)?;
-                let last_col =
-                    (sheet.originals + computed_count() + self.criteria.len() + 3) as u16;
-                ws.autofilter(0, 0, sheet.next_row.saturating_sub(1).max(1), last_col)
+            for section in &book.sheets {
+                let ws = book
+                    .workbook
+                    .worksheet_from_index(section.index)
                     .map_err(e)?;
+                sheet::finish(ws, section).map_err(e)?;
             }
-            super::workbook_summary::statistics_sheet(&mut book, stats, &self.formats)
-                .map_err(e)?;
+            super::workbook_summary::statistics_sheet(
+                &mut book,
+                stats,
+                self.max_score,
+                &self.formats,
+            )
+            .map_err(e)?;
             super::workbook_summary::provenance_sheet(
                 &mut book.workbook,
                 provenance,
@@ -484,136 +436,6 @@ impl GradedWorkbooks {
         }
         Ok(written)
     }
-}
-
-/// The header row: bold, wrapped, columns sized to their headers; frozen, and repeated on
-/// every printed page.
-fn write_header(
-    ws: &mut Worksheet,
-    header: &[String],
-    originals: usize,
-    f: &Formats,
-) -> Result<(), XlsxError> {
-    for (c, h) in header.iter().enumerate() {
-        ws.write_string_with_format(0, c as u16, fit_cell(h), &f.header)?;
-        let least = if c < originals { 14 } else { 8 };
-        let width = (h.chars().count().clamp(least, 30) + 2) as f64;
-        ws.set_column_width(c as u16, width)?;
-    }
-    ws.set_column_width(header.len() as u16 - 2, 30)?;
-    ws.set_column_width(header.len() as u16 - 1, 80)?;
-    ws.set_freeze_panes(1, 0)?;
-    // printed: landscape, the header repeated on every page
-    ws.set_landscape();
-    ws.set_repeat_rows(0, 0)?;
-    Ok(())
-}
-
-fn write_graded_row(
-    ws: &mut Worksheet,
-    sheet: &mut SectionSheet,
-    g: &Graded,
-    f: &Formats,
-) -> Result<(), XlsxError> {
-    let r = sheet.next_row;
-    sheet.next_row += 1;
-    let s = &g.assessed.submission;
-    for (c, cell) in s.original.iter().enumerate().take(sheet.originals) {
-        write_cell(ws, r, c as u16, cell)?;
-    }
-    let mut c = sheet.originals as u16;
-    write_computed(ws, r, c, g, f)?;
-    c += computed_count() as u16;
-    for cs in &g.score.criteria {
-        ws.write_number(r, c, cs.points)?;
-        c += 1;
-    }
-    ws.write_number(r, c + 1, g.score.max)?;
-    if let Some(why) = &g.assessed.excused {
-        // no score, no letter: the reason where the flags would be
-        ws.write_string(r, c + 2, "excused")?;
-        ws.write_string(r, c + 4, fit_cell(&format!("excused: {why}")))?;
-        return Ok(());
-    }
-    ws.write_number(r, c, g.score.total)?; // bold by its column's format
-    if let Some(l) = &g.score.letter {
-        ws.write_string(r, c + 2, l)?;
-    }
-    write_flags(ws, sheet, r, c + 3, g, f)
-}
-
-/// The recomputed values from column `base` on, each shaded by the worst flag about it.
-fn write_computed(
-    ws: &mut Worksheet,
-    r: u32,
-    base: u16,
-    g: &Graded,
-    f: &Formats,
-) -> Result<(), XlsxError> {
-    let flags = &g.assessed.flags;
-    let row = g.row();
-    for (i, column) in computed().enumerate() {
-        let mut severity = None;
-        for (flag, _) in flags.iter().filter(|(fl, _)| column.shaded_by.contains(fl)) {
-            if severity != Some(Severity::Impossible) {
-                severity = Some(flag.severity());
-            }
-        }
-        let col = base + i as u16;
-        match (column.number(row).filter(|x| x.is_finite()), severity) {
-            (Some(x), None) => ws.write_number(r, col, x)?,
-            (Some(x), sev) => ws.write_number_with_format(r, col, x, f.number(column, sev))?,
-            (None, None) => ws,
-            (None, sev) => ws.write_blank(r, col, f.number(column, sev))?,
-        };
-    }
-    Ok(())
-}
-
-/// The flags column (each code with its marker, shaded by the worst) at `col`, the reasons
-/// beside it, and a note with the reasons while the sheet has notes to spare.
-fn write_flags(
-    ws: &mut Worksheet,
-    sheet: &mut SectionSheet,
-    r: u32,
-    col: u16,
-    g: &Graded,
-    f: &Formats,
-) -> Result<(), XlsxError> {
-    let a = &g.assessed;
-    if a.flags.is_empty() {
-        return Ok(());
-    }
-    let worst = if a.is_impossible() {
-        Severity::Impossible
-    } else {
-        Severity::Suspicious
-    };
-    let marked: Vec<String> = a
-        .flags
-        .iter()
-        .map(|(fl, _)| {
-            let mark = match fl.severity() {
-                Severity::Impossible => "!",
-                Severity::Suspicious => "?",
-            };
-            format!("{mark} {}", fl.code())
-        })
-        .collect();
-    let fill = &f.text[fill_index(Some(worst))];
-    ws.write_string_with_format(r, col, fit_cell(&marked.join("; ")), fill)?;
-    let text: Vec<String> = a
-        .flags
-        .iter()
-        .map(|(fl, n)| format!("{}: {n}", fl.code()))
-        .collect();
-    ws.write_string(r, col + 1, fit_cell(&text.join("; ")))?;
-    if sheet.notes < NOTES_PER_SHEET {
-        sheet.notes += 1;
-        let note = Note::new(fit_cell(&text.join("\n"))).set_author("benchgrade");
-        ws.insert_note(r, col, &note)?;
-    }
-    Ok(())
 }
 
 pub(super) fn write_opt(ws: &mut Worksheet, r: u32, c: u16, v: f64) -> Result<(), XlsxError> {

@@ -21,7 +21,7 @@ use serde::Serialize;
 
 use cells::RawSheet;
 use headers::ColumnOverrides;
-pub use submission::{Submission, Unreadable};
+pub use submission::{SheetHead, Submission, Unreadable};
 use table::{Layout, LayoutError};
 use values::Decimal;
 use workbook::Format;
@@ -231,6 +231,46 @@ impl Collector {
     }
 }
 
+/// Most title rows above a header a graded workbook copies.
+const MAX_TITLE_ROWS: usize = 4;
+
+/// The header texts, the id and name columns, and the title rows of a sheet's table.
+fn sheet_head(sheet: &RawSheet, layout: &table::Layout) -> submission::SheetHead {
+    let identity = layout
+        .columns
+        .iter()
+        .enumerate()
+        .filter(|(_, c)| {
+            matches!(
+                c.field,
+                Some(
+                    crate::fields::Field::StudentId
+                        | crate::fields::Field::StudentName
+                        | crate::fields::Field::LastName
+                        | crate::fields::Field::FirstName
+                )
+            )
+        })
+        .map(|(i, _)| i)
+        .collect();
+    let title = sheet.rows[..layout.header_pos]
+        .iter()
+        .map(|r| {
+            r.non_empty()
+                .filter_map(|(_, c)| c.as_text())
+                .collect::<Vec<_>>()
+                .join("  ")
+        })
+        .filter(|t| !t.is_empty())
+        .take(MAX_TITLE_ROWS)
+        .collect();
+    submission::SheetHead {
+        headers: layout.columns.iter().map(|c| c.header.clone()).collect(),
+        identity,
+        title,
+    }
+}
+
 /// Finds the table in a sheet and hands over each student row as a `Submission`.
 pub fn tabulate(
     data: &SheetData,
@@ -273,7 +313,7 @@ pub fn tabulate(
         sheet: sheet.name.as_deref(),
         default_section: &data.default_section,
         decimal: data.decimal,
-        headers: layout.columns.iter().map(|c| c.header.clone()).collect(),
+        headers: std::sync::Arc::new(sheet_head(sheet, &layout)),
     };
     let rows = table::student_rows(sheet, &layout);
     let students = rows.len();

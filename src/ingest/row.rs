@@ -15,8 +15,8 @@ pub struct Origin<'a> {
     /// Section used when the sheet has no section column: the sheet name or the file stem.
     pub default_section: &'a str,
     pub decimal: Decimal,
-    /// The header texts of the sheet's table, kept with each row.
-    pub headers: std::sync::Arc<[String]>,
+    /// The header texts and title rows of the sheet's table, kept with each row.
+    pub headers: std::sync::Arc<super::submission::SheetHead>,
 }
 
 /// What kind of quantity a numeric field holds.
@@ -287,10 +287,13 @@ mod tests {
             sheet: Some("Sec 2"),
             default_section: "Sec 2",
             decimal: Decimal::Point,
-            headers: headers
-                .iter()
-                .map(std::string::ToString::to_string)
-                .collect(),
+            headers: std::sync::Arc::new(super::super::submission::SheetHead {
+                headers: headers
+                    .iter()
+                    .map(std::string::ToString::to_string)
+                    .collect(),
+                ..Default::default()
+            }),
         };
         read_row(&sheet.rows[1], &layout, &origin)
     }

@@ -19,6 +19,18 @@ pub struct Unreadable {
     pub found: String,
 }
 
+/// What a graded workbook copies of the sheet a row came from, shared by its rows: the header
+/// texts of its table's columns, which of those columns name the student (printed on every
+/// page), and the title rows above the header.
+#[derive(Clone, Debug, Default, PartialEq)]
+pub struct SheetHead {
+    pub headers: Vec<String>,
+    /// Positions in `headers` of the id and name columns, in sheet order.
+    pub identity: Vec<usize>,
+    /// The rows above the header, each as its cells' text.
+    pub title: Vec<String>,
+}
+
 /// One student's row, normalized.
 #[derive(Clone, Debug, Default, PartialEq, Serialize)]
 pub struct Submission {
@@ -55,9 +67,9 @@ pub struct Submission {
     /// The row's cells under the sheet's header, as read, for the graded workbook.
     #[serde(skip)]
     pub original: Vec<Cell>,
-    /// The sheet's header texts, shared by its rows.
+    /// The sheet's header texts and title rows, shared by its rows.
     #[serde(skip)]
-    pub original_headers: Option<Arc<[String]>>,
+    pub original_headers: Option<Arc<SheetHead>>,
 }
 
 impl Submission {

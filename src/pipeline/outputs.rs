@@ -12,6 +12,7 @@ use crate::error::WriteError;
 use crate::export::atomic::Stage;
 use crate::export::book_plan::BookPlan;
 use crate::export::gradebook::Gradebook;
+use crate::export::handouts::Handouts;
 use crate::export::parquet::{self, BaselineRow, ParquetRows};
 use crate::export::provenance::Provenance;
 use crate::export::report::Report;
@@ -53,8 +54,14 @@ impl Writers {
             .rubric
             .criteria
             .iter()
-            .map(|c| c.label.clone())
+            .map(|c| (c.label.clone(), c.id.get_ref().clone()))
             .collect();
+        let max_score = config
+            .rubric
+            .criteria
+            .iter()
+            .map(|c| *c.max.get_ref())
+            .sum();
         let workbooks = if config.skip_workbooks {
             None
         } else {
@@ -65,6 +72,7 @@ impl Writers {
                         &config.out_dir,
                         config.split_sections,
                         labels,
+                        max_score,
                         stage.clone(),
                     ),
                 )
@@ -141,6 +149,7 @@ fn open_text_outputs(
         pseudonymized,
         json: ResultsJson::create(&paths[1], stage)?,
         gradebook: Gradebook::create(&paths[2], stage)?,
+        handouts: Handouts::new(&config.out_dir, &config.title, stage),
     })
 }
 

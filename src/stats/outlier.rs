@@ -56,7 +56,7 @@ impl Centre {
         if self.mad > 0.0 || self.mean_ad.is_nan() || self.mean_ad <= 0.0 {
             format!("MAD {:.2}", self.mad)
         } else {
-            format!("MAD 0; mean absolute deviation {:.2}", self.mean_ad)
+            format!("MAD 0, mean absolute deviation {:.2}", self.mean_ad)
         }
     }
 

@@ -22,6 +22,10 @@ pub struct Group {
     pub flags: BTreeMap<&'static str, usize>,
     /// Rows left out of some measure's statistics: where, which measures, and why.
     pub excluded: Vec<String>,
+    /// (range width, recovery) of every row where both count, for a scatter plot.
+    pub width_recovery: Vec<(f64, f64)>,
+    /// Rows with an impossible entry about the width or the recovery, left out of the scatter.
+    pub scatter_left_out: usize,
 }
 
 /// One section's summary of one measure, with the rows it leaves out.
@@ -89,8 +93,16 @@ impl SectionStats {
                 group.values[i].extend(m.value(row));
             } else {
                 group.left_out[i] += 1;
-                left_out.push(m.key());
+                left_out.push(m.noun());
             }
+        }
+        let (w, r) = (Measure::RANGE_WIDTH, Measure::RECOVERY);
+        if a.counts_for(w) && a.counts_for(r) {
+            if let (Some(x), Some(y)) = (w.value(row), r.value(row)) {
+                group.width_recovery.push((x, y));
+            }
+        } else {
+            group.scatter_left_out += 1;
         }
         if !left_out.is_empty() {
             let at = match &s.sheet {
@@ -101,14 +113,25 @@ impl SectionStats {
                 .flags
                 .iter()
                 .filter(|(f, _)| f.severity() == Severity::Impossible)
-                .map(|(f, _)| f.code())
+                .map(|(f, _)| f.short())
                 .collect();
             group.excluded.push(format!(
-                "{at}: {} left out ({})",
+                "{at}: {} left out: {}",
                 left_out.join(", "),
                 why.join(", ")
             ));
         }
+    }
+
+    /// How many rows of `section` were left out of measure `m` (impossible entries, repeats).
+    pub fn left_out(&self, section: &str, m: Measure) -> usize {
+        let Some(i) = self.measures.iter().position(|x| *x == m) else {
+            return 0;
+        };
+        self.groups
+            .get(section)
+            .and_then(|g| g.left_out.get(i).copied())
+            .unwrap_or(0)
     }
 
     /// Every section's summary of every measure, sections in name order.

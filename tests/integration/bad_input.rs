@@ -339,7 +339,7 @@ fn a_run_killed_mid_write_leaves_the_previous_outputs() {
         let mut v: Vec<(String, String)> = std::fs::read_dir(dir)
             .unwrap()
             .map(|e| e.unwrap().path())
-            .filter(|p| !p.to_string_lossy().ends_with(".partial"))
+            .filter(|p| !p.to_string_lossy().ends_with(".partial") && p.is_file())
             .map(|p| {
                 let h = sha256_file(&p).unwrap();
                 (p.file_name().unwrap().to_string_lossy().into_owned(), h)

@@ -33,7 +33,18 @@ fn every_student_row_is_in_its_workbook_with_the_right_values() {
     let names = wb.sheet_names();
     assert_eq!(names, vec!["Sec 01", "Statistics", "Provenance"]);
     let range = wb.worksheet_range("Sec 01").unwrap();
-    let header: Vec<String> = range.rows().next().unwrap().iter().map(cell_text).collect();
+    // the assistant's title rows come first, then the header (the row with "Total")
+    let header_at = range
+        .rows()
+        .position(|r| r.iter().any(|c| cell_text(c) == "Total"))
+        .expect("a header row");
+    let header: Vec<String> = range
+        .rows()
+        .nth(header_at)
+        .unwrap()
+        .iter()
+        .map(cell_text)
+        .collect();
     let col = |h: &str| {
         header
             .iter()
@@ -44,8 +55,12 @@ fn every_student_row_is_in_its_workbook_with_the_right_values() {
         .iter()
         .filter(|r| r["source"].ends_with("section-01.xlsx"))
         .collect();
-    assert_eq!(range.height() - 1, ours.len(), "every student row is there");
-    for (r, want) in range.rows().skip(1).zip(&ours) {
+    assert_eq!(
+        range.height() - 1 - header_at,
+        ours.len(),
+        "every student row is there"
+    );
+    for (r, want) in range.rows().skip(header_at + 1).zip(&ours) {
         assert_eq!(cell_text(&r[col("Student #")]), want["student_id"]);
         assert_eq!(cell_text(&r[col("Name")]), want["student_name"]);
         for (h, c) in [
@@ -90,13 +105,43 @@ fn the_statistics_sheet_equals_section_stats_csv() {
     ] {
         let mut wb: Xlsx<_> = open_workbook(f.path("out").join(book)).unwrap();
         let range = wb.worksheet_range("Statistics").unwrap();
-        let header: Vec<String> = range.rows().next().unwrap().iter().map(cell_text).collect();
-        for r in range.rows().skip(1) {
-            let (Data::String(section), Data::String(measure)) = (&r[0], &r[1]) else {
+        // people's labels: "Recovery (%)" for recovery_pct, "95 % CI, high" for ci95_high
+        let at = range
+            .rows()
+            .position(|r| cell_text(&r[0]) == "Section")
+            .expect("the table's header");
+        let labels: Vec<String> = range
+            .rows()
+            .nth(at)
+            .unwrap()
+            .iter()
+            .map(cell_text)
+            .collect();
+        assert_eq!(
+            labels[..15],
+            benchgrade::export::workbook_summary::STAT_LABELS
+        );
+        let header: Vec<&str> = benchgrade::stats::SUMMARY_COLUMNS
+            .iter()
+            .chain(&benchgrade::stats::LEFT_OUT_COLUMNS)
+            .copied()
+            .collect();
+        let key = |label: &str| {
+            benchgrade::model::Measure::summarised()
+                .into_iter()
+                .find(|m| m.column().header() == label)
+                .map_or_else(
+                    || panic!("{label} names no measure"),
+                    |m| m.key().to_string(),
+                )
+        };
+        for r in range.rows().skip(at + 1) {
+            let (Data::String(section), Data::String(label)) = (&r[0], &r[1]) else {
                 break;
             };
+            let measure = key(label);
             let want = by_key[&(section.clone(), measure.clone())];
-            for (i, h) in header.iter().enumerate().skip(2).take(11) {
+            for (i, h) in header.iter().enumerate().skip(2) {
                 match (&r[i], num(want, h)) {
                     (Data::Float(v), Some(w)) => assert!(
                         (v - w).abs() <= 1e-12 * w.abs().max(1.0),

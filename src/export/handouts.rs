@@ -1,0 +1,325 @@
+//! DIR/handouts/<section>.html: what a grader prints and hands back, one student a printed page.
+//! Each page names the course and experiment, the student and their id, the values they
+//! reported and what benchgrade recomputed, each criterion's points, the flags in words, any
+//! override, the feedback, and the total and letter. Self-contained (inline style, no script,
+//! nothing loaded), every text escaped. Written on the text writer thread as rows stream past,
+//! a section's page after page into its own temporary file.
+//!
+//! No "Handouts" sheet is added to the graded workbook: a worksheet prints a student a page only
+//! with a page break and a layout of its own for every student, which the section sheet (one row
+//! a student, its Feedback column holding the same sentences) cannot also be.
+
+use std::collections::BTreeMap;
+use std::fmt::Write as _;
+use std::io::Write as _;
+use std::path::{Path, PathBuf};
+
+use super::atomic::{AtomicFile, Stage};
+use super::html::escape;
+use super::workbook::file_stem;
+use crate::error::WriteError;
+use crate::model::columns::{self, Column};
+use crate::model::{Flag, Graded, Severity};
+
+/// The folder under the output folder that holds the handouts.
+pub const FOLDER: &str = "handouts";
+
+/// Most sections that get a handout file (each is an open file while the batch streams).
+pub const MAX_SECTIONS: usize = 400;
+
+const STYLE: &str = "body{font:9.5pt/1.35 'DejaVu Sans',Arial,sans-serif;color:#111;margin:0}\
+.student{padding:0;max-width:185mm}\
+.student+.student{break-before:page;page-break-before:always}\
+h1{font-size:14pt;margin:0 0 1mm}h2{font-size:10.5pt;margin:3.5mm 0 1mm}\
+.course{color:#444;margin:0 0 2mm}.id{margin:0}\
+.pair{display:grid;grid-template-columns:1.15fr 1fr;gap:5mm}\
+table{border-collapse:collapse;width:100%}th,td{border:1px solid #999;padding:0.7mm 1.6mm;text-align:left;vertical-align:top}\
+th{background:#e8edf1}td.n{text-align:right;font-variant-numeric:tabular-nums}\
+ul{margin:0;padding-left:5mm}li{margin:0.5mm 0}\
+.total{font-size:12pt;font-weight:bold;margin-top:3mm}\
+.mark{font-weight:bold}.code{color:#555}\
+@page{margin:14mm}@media screen{.student{padding:8mm;border-bottom:2px solid #ccc}}";
+
+/// The handouts of a batch: one open file a section.
+pub struct Handouts {
+    dir: PathBuf,
+    title: String,
+    stage: Stage,
+    files: BTreeMap<String, AtomicFile>,
+    stems: BTreeMap<String, String>,
+    /// Sections past `MAX_SECTIONS`, which get no handouts.
+    pub skipped: usize,
+    page: String,
+}
+
+/// The values a handout shows: (label with unit, what the student reported, what was used).
+fn values(g: &Graded) -> Vec<(String, Option<f64>, Option<f64>, u8)> {
+    let a = &g.assessed;
+    let s = &a.submission;
+    let row = g.row();
+    let n = |c: &Column| c.number(row).filter(|v| v.is_finite());
+    vec![
+        (columns::CRUDE_MASS_G.header(), s.crude_mass_g, None, 3),
+        (
+            columns::RECOVERED_MASS_G.header(),
+            s.recovered_mass_g,
+            None,
+            3,
+        ),
+        (
+            columns::SOLVENT_VOLUME_ML.header(),
+            s.solvent_volume_ml,
+            None,
+            1,
+        ),
+        ("Melting onset (°C)".into(), s.mp_onset_c, a.mp_onset_c, 1),
+        ("Clear point (°C)".into(), s.mp_clear_c, a.mp_clear_c, 1),
+        (
+            "Recovery (%)".into(),
+            s.reported_recovery_pct,
+            a.recovery_pct,
+            1,
+        ),
+        (
+            columns::RANGE_WIDTH_C.header(),
+            None,
+            n(&columns::RANGE_WIDTH_C),
+            1,
+        ),
+        (columns::REFERENCE_MP_C.header(), None, a.reference_mp_c, 1),
+        (columns::DEPRESSION_C.header(), None, a.depression_c, 1),
+        (columns::PURITY_MOL_PCT.header(), None, a.purity_mol_pct, 1),
+        (
+            columns::MAX_RECOVERY_PCT.header(),
+            None,
+            a.max_recovery_pct,
+            1,
+        ),
+    ]
+}
+
+fn cell(v: Option<f64>, decimals: u8) -> String {
+    v.filter(|v| v.is_finite())
+        .map(|v| format!("{v:.*}", usize::from(decimals)))
+        .unwrap_or_default()
+}
+
+impl Handouts {
+    pub fn new(out_dir: &Path, title: &str, stage: &Stage) -> Handouts {
+        Handouts {
+            dir: out_dir.join(FOLDER),
+            title: title.to_string(),
+            stage: stage.clone(),
+            files: BTreeMap::new(),
+            stems: BTreeMap::new(),
+            skipped: 0,
+            page: String::with_capacity(8 << 10),
+        }
+    }
+
+    /// The section's file, opened with the page's head on first use; `None` past the limit.
+    fn file(&mut self, section: &str) -> Result<Option<&mut AtomicFile>, WriteError> {
+        if !self.files.contains_key(section) {
+            if self.files.len() >= MAX_SECTIONS {
+                self.skipped += 1;
+                return Ok(None);
+            }
+            let mut stem = file_stem(section);
+            let mut k = 2;
+            while self.stems.contains_key(&stem.to_lowercase()) {
+                stem = format!("{}-{k}", file_stem(section));
+                k += 1;
+            }
+            self.stems.insert(stem.to_lowercase(), section.to_string());
+            self.make_folder()?;
+            let path = self.dir.join(format!("{stem}.html"));
+            let mut f = AtomicFile::create(&path, &self.stage)?;
+            let head = format!(
+                "<!DOCTYPE html><html lang=\"en\"><head><meta charset=\"utf-8\"><meta http-equiv=\"Content-Security-Policy\" content=\"default-src 'none'; style-src 'unsafe-inline'\"><title>{} — {}</title><style>{STYLE}</style></head><body>",
+                escape(&self.title),
+                escape(section)
+            );
+            f.write_all(head.as_bytes()).map_err(|e| f.error(e))?;
+            self.files.insert(section.to_string(), f);
+        }
+        Ok(self.files.get_mut(section))
+    }
+
+    /// The handouts folder: made if missing; a link or a file in its place is refused.
+    fn make_folder(&self) -> Result<(), WriteError> {
+        let err = |source| WriteError {
+            path: self.dir.clone(),
+            source,
+        };
+        match std::fs::symlink_metadata(&self.dir) {
+            Ok(m) if m.is_dir() => Ok(()),
+            Ok(_) => Err(err(std::io::Error::other(
+                "is not a folder; move it away so that the handouts can be written",
+            ))),
+            Err(_) => {
+                std::fs::create_dir(&self.dir).map_err(err)?;
+                self.stage.made_folder(&self.dir);
+                Ok(())
+            }
+        }
+    }
+
+    /// Adds a student's page; a repeated submission that does not count gets none.
+    pub fn row(&mut self, g: &Graded) -> Result<(), WriteError> {
+        if g.assessed.has(Flag::DuplicateStudent) {
+            return Ok(());
+        }
+        let mut page = std::mem::take(&mut self.page);
+        page.clear();
+        write_page(&mut page, &self.title, g);
+        let section = g.assessed.submission.section.clone();
+        if let Some(f) = self.file(&section)? {
+            f.write_all(page.as_bytes()).map_err(|e| f.error(e))?;
+        }
+        self.page = page;
+        Ok(())
+    }
+
+    /// Closes every page and stages the files.
+    pub fn finish(self) -> Result<(), WriteError> {
+        for (_, mut f) in self.files {
+            f.write_all(b"</body></html>\n").map_err(|e| f.error(e))?;
+            f.commit()?;
+        }
+        Ok(())
+    }
+}
+
+/// One student's printed page.
+fn write_page(out: &mut String, title: &str, g: &Graded) {
+    let a = &g.assessed;
+    let s = &a.submission;
+    let name = s.student_name.as_deref().unwrap_or("(no name)");
+    let id = s.student_id.as_deref().unwrap_or("(no id)");
+    let _ = write!(
+        out,
+        "<section class=\"student\"><p class=\"course\">{} · section {}</p><h1>{}</h1><p class=\"id\">Student id {}</p>",
+        escape(title),
+        escape(&s.section),
+        escape(name),
+        escape(id)
+    );
+    if let Some(why) = &a.excused {
+        let _ = write!(
+            out,
+            "<p class=\"total\">Excused: not graded</p><p>{}</p></section>",
+            escape(why)
+        );
+        return;
+    }
+    out.push_str("<div class=\"pair\"><div><h2>Your values</h2><table><thead><tr><th>Quantity</th><th>Reported</th><th>Used or recomputed</th></tr></thead><tbody>");
+    for (label, reported, used, d) in values(g) {
+        let _ = write!(
+            out,
+            "<tr><td>{}</td><td class=\"n\">{}</td><td class=\"n\">{}</td></tr>",
+            escape(&label),
+            cell(reported, d),
+            cell(used, d)
+        );
+    }
+    out.push_str("</tbody></table></div><div>");
+    points(out, g);
+    out.push_str("</div></div>");
+    flags_and_overrides(out, g);
+    out.push_str("<h2>Feedback</h2><ul>");
+    // the total closes the page in large type
+    for sentence in g
+        .score
+        .feedback
+        .split("; ")
+        .filter(|x| !x.starts_with("Total "))
+    {
+        let _ = write!(out, "<li>{}</li>", escape(sentence));
+    }
+    let _ = write!(
+        out,
+        "</ul><p class=\"total\">Total {} of {}{}</p></section>",
+        crate::numtext::points(g.score.total),
+        crate::numtext::points(g.score.max),
+        g.score
+            .letter
+            .as_deref()
+            .map(|l| format!(" — {}", escape(l)))
+            .unwrap_or_default()
+    );
+}
+
+fn points(out: &mut String, g: &Graded) {
+    out.push_str("<h2>Points</h2><table><thead><tr><th>Criterion</th><th>Points</th><th>Of</th></tr></thead><tbody>");
+    for c in &g.score.criteria {
+        let _ = write!(
+            out,
+            "<tr><td>{}</td><td class=\"n\">{}</td><td class=\"n\">{}</td></tr>",
+            escape(&c.label),
+            crate::numtext::points(c.points),
+            crate::numtext::points(c.max)
+        );
+    }
+    out.push_str("</tbody></table>");
+}
+
+fn flags_and_overrides(out: &mut String, g: &Graded) {
+    let a = &g.assessed;
+    if !a.flags.is_empty() {
+        out.push_str("<h2>What was flagged</h2><ul>");
+        for (f, reason) in &a.flags {
+            let kind = match f.severity() {
+                Severity::Impossible => "! cannot be right",
+                Severity::Suspicious => "? looks wrong",
+            };
+            // the reason, with what the flag did to the points, is in the feedback below
+            let _ = reason;
+            let _ = write!(
+                out,
+                "<li><span class=\"mark\">{kind}</span>: {} <span class=\"code\">({})</span></li>",
+                escape(f.meaning()),
+                f.code()
+            );
+        }
+        out.push_str("</ul>");
+    }
+    if !g.score.overrides.is_empty() {
+        out.push_str("<h2>Changed by a grader</h2><ul>");
+        for o in &g.score.overrides {
+            let _ = write!(out, "<li>{}</li>", escape(o));
+        }
+        out.push_str("</ul>");
+    }
+}
+
+#[cfg(test)]
+mod tests {
+    use super::*;
+    use crate::ingest::Submission;
+    use crate::model::{Assessed, Score};
+
+    #[test]
+    fn student_text_is_escaped_and_the_page_has_no_script() {
+        let g = Graded {
+            assessed: Assessed {
+                submission: Submission {
+                    student_name: Some("<img src=x onerror=alert(1)>".into()),
+                    student_id: Some("s&1".into()),
+                    section: "Sec <b>".into(),
+                    ..Submission::default()
+                },
+                flags: vec![(Flag::RangeInverted, "onset <125> above".into())],
+                ..Assessed::default()
+            },
+            score: Score {
+                feedback: "Recovery: <script>".into(),
+                ..Score::default()
+            },
+        };
+        let mut page = String::new();
+        write_page(&mut page, "CHEM <x>", &g);
+        assert!(!page.contains("<img") && !page.contains("<script") && !page.contains("<b>"));
+        assert!(page.contains("&lt;img src=x onerror=alert(1)&gt;"));
+        assert!(page.contains("s&amp;1") && page.contains("Recovery: &lt;script&gt;"));
+    }
+}
