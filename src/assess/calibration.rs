@@ -196,6 +196,13 @@ mod tests {
             assert_eq!(bench_key(written), "1", "{written}");
         }
         assert_eq!(bench_key("0"), "0");
+        assert_eq!(bench_key("1.0"), "1", "a number cell read back as text");
+        use crate::model::section_key;
+        for written in ["Sec 01", "Section 1", "01", "1", "S1", "sec-1", "1.0"] {
+            assert_eq!(section_key(written), "1", "{written}");
+        }
+        assert_ne!(section_key("Sec 01A"), section_key("Sec 01"));
+        assert_eq!(section_key("Monday"), "monday");
         assert_eq!(bench_key("10"), "10");
         assert_eq!(bench_key("B10"), "10");
     }

@@ -46,18 +46,66 @@ fn words(text: &str) -> Vec<String> {
         .collect()
 }
 
-/// The meaning of the first excusing word of `text`, unless negated ("not excused").
-fn excusing_word(text: &str, codes: bool) -> Option<(&'static str, String)> {
-    let w = words(text);
-    if codes && w.len() == 1 {
-        if let Some((_, meaning)) = CODES.iter().find(|(c, _)| *c == w[0]) {
-            return Some((meaning, w[0].clone()));
+/// Words that deny an excuse wherever they stand in the cell: "Unexcused absence", "Excused:
+/// no", "Excuse pending", "Withdrawal rejected", "Was absent, now present".
+const DENIALS: [&str; 16] = [
+    "not",
+    "no",
+    "non",
+    "never",
+    "n",
+    "un",
+    "unexcused",
+    "false",
+    "denied",
+    "rejected",
+    "refused",
+    "pending",
+    "requested",
+    "present",
+    "without",
+    "unapproved",
+];
+
+/// A cell's text without parenthetical remarks, dates and numbers: "W (medical)" is "w",
+/// "WD - 10/03" is "wd", "W/D" (letters alone) is "wd".
+fn code_of(text: &str) -> String {
+    let mut plain = String::new();
+    let mut depth = 0usize;
+    for c in text.chars() {
+        match c {
+            '(' | '[' => depth += 1,
+            ')' | ']' => depth = depth.saturating_sub(1),
+            _ if depth == 0 => plain.push(c),
+            _ => {}
         }
     }
-    w.iter().enumerate().find_map(|(i, word)| {
+    let w: Vec<String> = words(&plain)
+        .into_iter()
+        .filter(|w| !w.chars().all(|c| c.is_ascii_digit()))
+        .collect();
+    if w.iter().all(|x| x.chars().count() == 1) {
+        w.concat()
+    } else {
+        w.join(" ")
+    }
+}
+
+/// The meaning of the first excusing word of `text`, unless the cell denies it.
+fn excusing_word(text: &str, codes: bool) -> Option<(&'static str, String)> {
+    let w = words(text);
+    if w.iter().any(|x| DENIALS.contains(&x.as_str())) {
+        return None;
+    }
+    if codes {
+        let code = code_of(text);
+        if let Some((_, meaning)) = CODES.iter().find(|(c, _)| *c == code) {
+            return Some((meaning, code));
+        }
+    }
+    w.iter().find_map(|word| {
         let (_, meaning) = WORDS.iter().find(|(x, _)| x == word)?;
-        let negated = i > 0 && matches!(w[i - 1].as_str(), "not" | "no" | "never" | "un");
-        (!negated).then(|| (*meaning, word.clone()))
+        Some((*meaning, word.clone()))
     })
 }
 
@@ -100,6 +148,9 @@ mod tests {
     fn a_status_word_excuses_whatever_the_row_holds() {
         for (status, said) in [
             ("W", "status \"W\": withdrawn"),
+            ("W (medical)", "status \"W (medical)\": withdrawn"),
+            ("WD - 10/03", "status \"WD - 10/03\": withdrawn"),
+            ("W/D", "status \"W/D\": withdrawn"),
             ("wd", "status \"wd\": withdrawn"),
             ("Withdrew 10/14", "status \"Withdrew 10/14\": withdrawn"),
             ("EXCUSED (medical)", "status \"EXCUSED (medical)\""),
@@ -126,6 +177,18 @@ mod tests {
             "wet",
             "Wk 3",
             "unexcused",
+            "Unexcused absence",
+            "Absent - unexcused",
+            "absent (no excuse)",
+            "Non-excused",
+            "Excused: no",
+            "excused: false",
+            "Excused = N",
+            "Excuse pending",
+            "Excuse requested",
+            "Withdrawal rejected",
+            "Exemption denied",
+            "Was absent, now present",
         ] {
             let why = reason(&row(Some(status), None, false));
             assert!(why.is_none(), "{status}: {why:?}");
@@ -144,5 +207,6 @@ mod tests {
         );
         // single letters in notes never excuse
         assert_eq!(reason(&row(None, Some("W"), false)), None);
+        assert_eq!(reason(&row(None, Some("excused? no"), false)), None);
     }
 }

@@ -10,7 +10,7 @@
 //!   `ceiling_margin_pct` (more mass than could have crystallised: solvent or insoluble matter);
 //! - `likely-impure` when off but not wet: a broad or depressed range at a normal mass.
 
-use super::{celsius, grams, measures, Assessed, Flag};
+use super::{celsius, grams, Assessed, Flag};
 use crate::fields::Field;
 use crate::ingest::Submission;
 use crate::rubric::Tolerances;
@@ -114,8 +114,8 @@ pub(super) fn impossible(a: &Assessed, t: &Tolerances, out: &mut Vec<(Flag, Stri
 
 fn mismatch(a: &Assessed, t: &Tolerances) -> Option<String> {
     let s = &a.submission;
-    let (reported, rec) = (s.reported_recovery_pct?, a.recovery_pct?);
-    let (as_pct, _) = measures::reported_as_percent(reported, rec, t.recovery_mismatch_pct);
+    // read once, before any flag (a fraction that fits the masses is already a percentage)
+    let (as_pct, rec) = (s.reported_recovery_pct?, a.recovery_pct?);
     ((as_pct - rec).abs() > t.recovery_mismatch_pct).then(|| {
         let m = |v: Option<f64>| grams(v.unwrap_or(0.0)).trim_end_matches(" g").to_string();
         format!(

@@ -126,6 +126,8 @@ pub struct Assessor<'a> {
     apparatus_seen: std::collections::BTreeSet<String>,
     compounds: HashMap<String, Resolved<'a>>,
     default: Resolved<'a>,
+    /// Each section's label as first seen, by `section_key`: "01" and "Sec 01" are one section.
+    sections: HashMap<String, String>,
 }
 
 /// Readings after calibration, and what was done to them.
@@ -146,6 +148,7 @@ impl<'a> Assessor<'a> {
             apparatus_seen: std::collections::BTreeSet::default(),
             compounds: HashMap::new(),
             default,
+            sections: HashMap::new(),
         }
     }
 
@@ -298,7 +301,17 @@ impl<'a> Assessor<'a> {
     }
 
     /// Assesses the next submission of the batch.
+    /// The section's label as first seen in the batch.
+    fn section(&mut self, label: &str) -> String {
+        let key = crate::model::section_key(label);
+        self.sections
+            .entry(key)
+            .or_insert_with(|| label.to_string())
+            .clone()
+    }
+
     pub fn assess(&mut self, mut sub: Submission) -> Assessed {
+        sub.section = self.section(&sub.section);
         let resolved = self.resolve(sub.compound.as_deref());
         let t = self.ctx.tolerances;
         let readings = self.calibrate(&sub);
@@ -347,6 +360,9 @@ impl<'a> Assessor<'a> {
 /// format: it is read as one here, once, so that flags, scoring and statistics all use the
 /// same value.
 fn read_reported_as_percent(sub: &mut Submission, recovery_pct: Option<f64>, t: &Tolerances) {
+    if sub.reported_marked {
+        return;
+    }
     if let (Some(reported), Some(rec)) = (sub.reported_recovery_pct, recovery_pct) {
         if measures::reported_as_percent(reported, rec, t.recovery_mismatch_pct).1 {
             let pct = crate::ingest::cells::percent_of_fraction(reported);

@@ -120,6 +120,9 @@ pub fn layouts(sheets: &[SheetReport], style: Style) -> String {
         if let Some(r) = s.layout.units_row {
             let _ = writeln!(out, "    units row {r} (not a submission)");
         }
+        if let Some(m) = crate::ingest::unnamed_message(&s.unnamed) {
+            let _ = writeln!(out, "    {m}");
+        }
         for c in &s.layout.columns {
             let target = match (c.field, &c.note) {
                 (Some(f), _) => {

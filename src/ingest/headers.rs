@@ -209,8 +209,8 @@ const CRUDE_WORDS: [&str; 6] = ["crude", "impure", "starting", "initial", "befor
 /// compound, the solvent, the masses, then the student's id and name.
 pub fn classify(h: &ParsedHeader) -> HeaderMeaning {
     let w = Words(&h.words);
-    remarks(&w)
-        .or_else(|| not_own(&w))
+    not_own(&w)
+        .or_else(|| remarks(&w))
         .or_else(|| place_or_person(&w))
         .or_else(|| melting(&w, h))
         .or_else(|| substance(&w, h))
@@ -246,6 +246,9 @@ fn remarks(w: &Words) -> Option<HeaderMeaning> {
         "standing",
         "enrolment",
         "enrollment",
+        "excused",
+        "withdrawn",
+        "exempt",
     ]) {
         Field::Status
     } else {
@@ -262,9 +265,32 @@ fn not_own(w: &Words) -> Option<HeaderMeaning> {
             "about another person (a partner), not the student",
         ));
     }
+    if w.any(&[
+        "mean",
+        "average",
+        "avg",
+        "median",
+        "sum",
+        "std",
+        "stdev",
+        "sd",
+        "deviation",
+    ]) {
+        return Some(HeaderMeaning::NotOwn(
+            "a summary of several students, not one student's value",
+        ));
+    }
+    // "Pure mp": the melting point of the pure compound, a reference
+    if w.any(&["pure", "authentic"]) && w.any(&MP_WORDS) {
+        return Some(HeaderMeaning::NotOwn(
+            "a reference or expected value, not the student's measurement",
+        ));
+    }
     let reference = [
         "literature",
         "lit",
+        "crc",
+        "theor",
         "expected",
         "reference",
         "ref",
@@ -337,7 +363,9 @@ fn melting(w: &Words, h: &ParsedHeader) -> Option<HeaderMeaning> {
 
 /// The reported recovery, the compound, the solvent volume or the solvent.
 fn substance(w: &Words, h: &ParsedHeader) -> Option<HeaderMeaning> {
-    let f = if percent(w, h) && w.any(&["recovery", "recovered", "yield"]) {
+    // "Recovery" or "Yield" alone is the percentage; "Recovered" alone the mass
+    let bare = h.unit.is_none() && (w.only(&["recovery"]) || w.only(&["yield"]));
+    let f = if (percent(w, h) && w.any(&["recovery", "recovered", "yield"])) || bare {
         Field::ReportedRecovery
     } else if w.any(&["compound", "substance", "chemical", "material", "unknown"])
         || w.only(&["sample"])
@@ -347,7 +375,7 @@ fn substance(w: &Words, h: &ParsedHeader) -> Option<HeaderMeaning> {
         && !is_mass(w, h)
     {
         Field::SolventVolume
-    } else if w.has("solvent") && !is_mass(w, h) {
+    } else if w.has("solvent") && !is_mass(w, h) && h.unit.is_none() {
         Field::Solvent
     } else {
         return None;
@@ -400,10 +428,16 @@ fn student(w: &Words) -> Option<HeaderMeaning> {
     {
         return Some(HeaderMeaning::Field(Field::StudentId));
     }
-    let family =
-        w.any(&["surname", "family", "lastname", "familyname"]) || w.has("name") && w.has("last");
+    let family = w.any(&["surname", "family", "lastname", "familyname"])
+        || w.has("name") && w.has("last")
+        || w.only(&["last"]);
     let given = w.any(&["forename", "forenames", "given", "firstname", "givenname"])
-        || w.has("name") && w.has("first");
+        || w.has("name") && w.has("first")
+        || w.only(&["first"]);
+    // "Last, First" and "Student (last, first)" hold the whole name
+    if w.has("last") && w.has("first") {
+        return Some(HeaderMeaning::Field(Field::StudentName));
+    }
     match (family, given) {
         (true, false) => return Some(HeaderMeaning::Field(Field::LastName)),
         (false, true) => return Some(HeaderMeaning::Field(Field::FirstName)),
@@ -455,7 +489,11 @@ impl Scope {
             .file_name()
             .map(|n| n.to_string_lossy().into_owned())
             .unwrap_or_default();
-        self.file.as_ref().is_none_or(|f| f == &name || f == file)
+        // "class.xlsx", "data/class.xlsx" and "./data/class.xlsx" name the same file
+        let given = std::path::Path::new(file);
+        self.file
+            .as_ref()
+            .is_none_or(|f| f == &name || f == file || given.ends_with(std::path::Path::new(f)))
             && self
                 .sheet
                 .as_ref()
@@ -483,6 +521,18 @@ fn letter_key(key: &str) -> Option<String> {
         .then_some(letters)
 }
 
+/// "column 3", "col D", "Column: C": meant as a column by position, but not written as one.
+fn looks_like_a_letter_key(key: &str) -> bool {
+    let k = key.trim().to_lowercase();
+    let rest = k
+        .strip_prefix("column")
+        .or_else(|| k.strip_prefix("col"))
+        .map(|r| r.trim_start_matches(['.', ':', ' ']));
+    rest.is_some_and(|r| {
+        !r.is_empty() && r.len() <= 3 && r.chars().all(|c| c.is_ascii_alphanumeric())
+    })
+}
+
 fn field_for(header: &str, key: &str) -> Result<Option<Field>, String> {
     if key == "ignore" {
         return Ok(None);
@@ -507,6 +557,11 @@ impl ColumnOverrides {
             let field = field_for(header, key)?;
             match letter_key(header) {
                 Some(l) => out.letters.insert(l, field),
+                None if looks_like_a_letter_key(header) => {
+                    return Err(format!(
+                        "\"{header}\" names no column: write a column by its letters, as in \"column C\" or \"column AB\""
+                    ))
+                }
                 None => out.map.insert(canonical(header), field),
             };
         }

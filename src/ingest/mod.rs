@@ -15,6 +15,7 @@ pub mod table;
 pub mod values;
 pub mod workbook;
 
+use std::fmt::Write as _;
 use std::path::Path;
 
 use serde::Serialize;
@@ -52,6 +53,8 @@ pub struct SheetReport {
     pub sheet: Option<String>,
     pub layout: Layout,
     pub students: usize,
+    /// 1-based rows passed over because they name no student (template or summary rows).
+    pub unnamed: Vec<u32>,
     pub decimal_comma: bool,
     pub encoding: Option<String>,
 }
@@ -198,6 +201,14 @@ impl Collector {
                             fatal: true,
                         });
                     }
+                    if let Some(message) = unnamed_message(&report.unnamed) {
+                        self.problems.push(Problem {
+                            file: report.source.clone(),
+                            sheet: report.sheet.clone(),
+                            message,
+                            fatal: false,
+                        });
+                    }
                     if report.students == 0 {
                         // read correctly, but worth a word: often the wrong tab or an unsaved file
                         self.problems.push(Problem {
@@ -229,6 +240,23 @@ impl Collector {
             }
         }
     }
+}
+
+/// The note for rows passed over because they name no student.
+pub fn unnamed_message(rows: &[u32]) -> Option<String> {
+    let (first, rest) = rows.split_first()?;
+    let mut list = first.to_string();
+    for r in rest.iter().take(9) {
+        list.push_str(", ");
+        list.push_str(&r.to_string());
+    }
+    if rest.len() > 9 {
+        let _ = write!(list, " and {} more", rest.len() - 9);
+    }
+    let noun = if rows.len() == 1 { "row" } else { "rows" };
+    Some(format!(
+        "{noun} {list} name no student (no id or name): not graded, taken for template or summary rows"
+    ))
 }
 
 /// Most title rows above a header a graded workbook copies.
@@ -315,7 +343,7 @@ pub fn tabulate(
         decimal: data.decimal,
         headers: std::sync::Arc::new(sheet_head(sheet, &layout)),
     };
-    let rows = table::student_rows(sheet, &layout);
+    let (rows, unnamed) = table::rows_and_unnamed(sheet, &layout);
     let students = rows.len();
     for r in rows {
         on_row(row::read_row(r, &layout, &origin));
@@ -325,6 +353,7 @@ pub fn tabulate(
         sheet: sheet.name.clone(),
         layout,
         students,
+        unnamed,
         decimal_comma: data.decimal == Decimal::Comma,
         encoding: data.encoding.clone(),
     })

@@ -16,7 +16,7 @@ use std::path::Path;
 use quick_xml::events::{BytesStart, Event};
 
 use super::cells::{Cell, RawSheet};
-use super::workbook::is_percent_format;
+use super::workbook::percent_decimals;
 
 /// A block of percent-formatted cells: rows `row..row + rows`, columns `col..col + cols`.
 #[derive(Clone, Copy, Debug, PartialEq, Eq)]
@@ -25,6 +25,8 @@ pub struct Block {
     pub rows: u32,
     pub col: u32,
     pub cols: u32,
+    /// The decimals the format shows, where known (the cells are then read as shown).
+    pub decimals: Option<u8>,
 }
 
 /// Percent blocks by sheet name.
@@ -46,7 +48,10 @@ pub fn mark(sheet: &mut RawSheet, blocks: &[Block]) {
                     break;
                 }
                 if let Cell::Number(v) = *cell {
-                    *cell = Cell::Percent(v);
+                    *cell = Cell::Percent(match b.decimals {
+                        Some(d) => super::workbook::as_shown(v, d),
+                        None => v,
+                    });
                 }
             }
         }
@@ -86,6 +91,7 @@ impl OdsCursor {
                 rows: self.row_repeats,
                 col: self.col,
                 cols,
+                decimals: None,
             };
             match self.blocks.last_mut() {
                 // the same block continued in the next row
@@ -247,23 +253,29 @@ fn globals(stream: &[u8], biff8: bool) -> Globals {
     g
 }
 
-/// Built-in number formats 9 ("0%") and 10 ("0.00%") show percentages.
-fn format_is_percent(g: &Globals, id: u16) -> bool {
+/// The decimals a number format shows if it is a percentage: built-in formats 9 ("0%") and 10
+/// ("0.00%"), else the format's own code.
+fn format_percent(g: &Globals, id: u16) -> Option<u8> {
     match g.formats.get(&id) {
-        Some(code) => is_percent_format(code),
-        None => matches!(id, 9 | 10),
+        Some(code) => percent_decimals(code),
+        None => match id {
+            9 => Some(0),
+            10 => Some(2),
+            _ => None,
+        },
     }
 }
 
 /// The cells of one sheet substream whose XF shows a percentage.
-fn sheet_blocks(stream: &[u8], offset: usize, percent_xf: &[bool]) -> Vec<Block> {
-    let is_percent =
-        |xf: Option<u16>| xf.is_some_and(|x| percent_xf.get(usize::from(x)) == Some(&true));
-    let one = |row: u16, col: u16| Block {
+fn sheet_blocks(stream: &[u8], offset: usize, percent_xf: &[Option<u8>]) -> Vec<Block> {
+    let decimals =
+        |xf: Option<u16>| xf.and_then(|x| percent_xf.get(usize::from(x)).copied().flatten());
+    let one = |row: u16, col: u16, d: u8| Block {
         row: u32::from(row),
         rows: 1,
         col: u32::from(col),
         cols: 1,
+        decimals: Some(d),
     };
     let mut blocks = Vec::new();
     for (kind, b) in records(stream, offset).skip(1) {
@@ -274,19 +286,17 @@ fn sheet_blocks(stream: &[u8], offset: usize, percent_xf: &[bool]) -> Vec<Block>
             continue;
         };
         match kind {
-            record::NUMBER | record::RK | record::FORMULA if is_percent(u16_at(b, 4)) => {
-                blocks.push(one(row, col));
+            record::NUMBER | record::RK | record::FORMULA => {
+                if let Some(d) = decimals(u16_at(b, 4)) {
+                    blocks.push(one(row, col, d));
+                }
             }
             record::MULRK => {
                 // (xf, rk) pairs of six bytes from byte 4, then the last column
-                for (i, pair) in b
-                    .get(4..b.len().saturating_sub(2))
-                    .unwrap_or_default()
-                    .chunks_exact(6)
-                    .enumerate()
-                {
-                    if is_percent(u16_at(pair, 0)) {
-                        blocks.push(one(row, col.saturating_add(i as u16)));
+                let pairs = b.get(4..b.len().saturating_sub(2)).unwrap_or_default();
+                for (i, pair) in pairs.chunks_exact(6).enumerate() {
+                    if let Some(d) = decimals(u16_at(pair, 0)) {
+                        blocks.push(one(row, col.saturating_add(i as u16), d));
                     }
                 }
             }
@@ -310,10 +320,10 @@ pub fn xls(path: &Path) -> Result<PercentCells, String> {
         .and_then(|mut s| s.read_to_end(&mut stream))
         .map_err(|e| e.to_string())?;
     let g = globals(&stream, biff8);
-    let percent_xf: Vec<bool> = g
+    let percent_xf: Vec<Option<u8>> = g
         .xf_formats
         .iter()
-        .map(|&id| format_is_percent(&g, id))
+        .map(|&id| format_percent(&g, id))
         .collect();
     let mut found = PercentCells::new();
     for (name, offset) in &g.sheets {
@@ -349,6 +359,7 @@ mod tests {
                 rows: 3,
                 col: 0,
                 cols: 1,
+                decimals: None,
             }],
         );
         let at = |r: usize, c: u32| sheet.rows[r].get(c).clone();
@@ -399,13 +410,15 @@ mod tests {
                     row: 1,
                     rows: 2,
                     col: 2,
-                    cols: 1
+                    cols: 1,
+                    decimals: None,
                 },
                 Block {
                     row: 3,
                     rows: 1,
                     col: 1,
-                    cols: 2
+                    cols: 2,
+                    decimals: None,
                 },
             ])
         );

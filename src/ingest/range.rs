@@ -15,6 +15,8 @@ pub struct RawRange {
     pub unit: Option<TempUnit>,
     /// Only one value was written.
     pub single: bool,
+    /// The clear point was written by its last digits and completed ("121-2").
+    pub completed: bool,
 }
 
 /// Separators between onset and clear point, tried in this order.
@@ -88,11 +90,43 @@ fn plain_range(text: &str) -> Option<RawRange> {
         clear,
         unit: None,
         single: false,
+        completed: false,
     })
 }
 
 /// Reads a melting range; `None` when the text is not one.
 pub fn parse_range(text: &str, decimal: Decimal) -> Option<RawRange> {
+    parse_written(text, decimal).map(complete_shorthand)
+}
+
+/// Completes a clear point written by its last digits ("121-2" is 121-122, "120.5-1.5" is
+/// 120.5-121.5, "119-21" is 119-121): a clear point below the onset with fewer whole-number
+/// digits takes the onset's leading digits, where that gives a range of at most 10 degrees.
+fn complete_shorthand(r: RawRange) -> RawRange {
+    if r.single || r.clear >= r.onset || r.clear < 0.0 || r.onset < 10.0 {
+        return r;
+    }
+    let digits = |v: f64| v.trunc().abs().to_string().len() as i32;
+    let (k, n) = (digits(r.clear), digits(r.onset));
+    if k >= n {
+        return r;
+    }
+    let scale = 10f64.powi(k);
+    let mut clear = (r.onset / scale).trunc() * scale + r.clear;
+    if clear < r.onset {
+        clear += scale;
+    }
+    if clear - r.onset > 10.0 {
+        return r;
+    }
+    RawRange {
+        clear,
+        completed: true,
+        ..r
+    }
+}
+
+fn parse_written(text: &str, decimal: Decimal) -> Option<RawRange> {
     if let Some(r) = plain_range(text) {
         return Some(r);
     }
@@ -112,6 +146,7 @@ pub fn parse_range(text: &str, decimal: Decimal) -> Option<RawRange> {
             clear,
             unit: u2.or(u1),
             single: false,
+            completed: false,
         })
     } else {
         let (v, unit) = temperature(t, decimal)?;
@@ -120,6 +155,7 @@ pub fn parse_range(text: &str, decimal: Decimal) -> Option<RawRange> {
             clear: v,
             unit,
             single: true,
+            completed: false,
         })
     }
 }
@@ -156,6 +192,18 @@ mod tests {
     }
 
     #[test]
+    fn a_clear_point_written_by_its_last_digits_is_completed() {
+        // common practice in lab notebooks: "121-2" for 121-122 °C
+        assert_eq!(r("121-2"), Some((121.0, 122.0, false)));
+        assert_eq!(r("120.5-1.5"), Some((120.5, 121.5, false)));
+        assert_eq!(r("119-21"), Some((119.0, 121.0, false)));
+        assert_eq!(r("129-1"), Some((129.0, 131.0, false)));
+        // a truly inverted range stays as written
+        assert_eq!(r("124.5-123.5"), Some((124.5, 123.5, false)));
+        assert_eq!(r("121-19"), Some((121.0, 19.0, false)));
+    }
+
+    #[test]
     fn inverted_ranges_are_kept_as_written() {
         assert_eq!(r("122-119"), Some((122.0, 119.0, false)));
     }
@@ -184,7 +232,10 @@ mod tests {
             let units = ["", " °C", "°C"];
             let text = format!("{}{}{}{}{}", if approx { "~" } else { "" }, onset, seps[sep], clear, units[unit]);
             let got = parse_range(&text, Decimal::Point).unwrap();
-            prop_assert_eq!((got.onset, got.clear, got.single), (onset, clear, false));
+            // a clear point with fewer digits than the onset is shorthand, completed (tested above)
+            prop_assert_eq!((got.onset, got.single), (onset, false));
+            prop_assert!(got.clear == clear || got.completed, "{} -> {}", text, got.clear);
+            prop_assert!(!got.completed || (got.clear > onset && got.clear - onset <= 10.0));
         }
 
         #[test]
@@ -199,7 +250,8 @@ mod tests {
             let (onset, clear) = (f64::from(a) / 10.0, f64::from(b) / 10.0);
             let text = format!("{onset}-{clear}").replace('.', ",");
             let got = parse_range(&text, Decimal::Comma).unwrap();
-            prop_assert_eq!((got.onset, got.clear), (onset, clear));
+            prop_assert_eq!(got.onset, onset);
+            prop_assert!(got.clear == clear || got.completed);
         }
 
         #[test]

@@ -79,7 +79,14 @@ fn read_number(cell: &Cell, column: &Column, decimal: Decimal) -> Result<Option<
         Cell::Empty => return Ok(None),
         // a cell shown as a percentage is one, in every use: 0.728 shown as 72.8 % is 72.8
         Cell::Percent(v) if matches!(k, Kind::Percent) => return Ok(Some(percent_of_fraction(*v))),
-        Cell::Number(v) | Cell::Percent(v) => (*v, header_unit),
+        Cell::Percent(_) => {
+            return Err(format!(
+                "{} where {} belongs",
+                found_instead(cell),
+                describe_kind(k)
+            ))
+        }
+        Cell::Number(v) => (*v, header_unit),
         Cell::Text(t) if is_blank_marker(t) => return Ok(None),
         Cell::Text(t) => match parse_quantity(t, decimal) {
             Some(q) => (q.value, q.unit.or(header_unit)),
@@ -109,7 +116,7 @@ fn read_range(
     cell: &Cell,
     column: &Column,
     decimal: Decimal,
-) -> Result<Option<(f64, f64, bool)>, String> {
+) -> Result<Option<(f64, f64, bool, bool)>, String> {
     let header_scale = match column.unit {
         Some(Unit::Temperature(t)) => t,
         None => TempUnit::Celsius,
@@ -124,7 +131,7 @@ fn read_range(
         Cell::Empty => Ok(None),
         Cell::Number(v) => {
             let c = physical(Kind::Temperature, header_scale.to_celsius(*v))?;
-            Ok(Some((c, c, true)))
+            Ok(Some((c, c, true, false)))
         }
         Cell::Text(t) if is_blank_marker(t) => Ok(None),
         Cell::Text(t) => match parse_range(t, decimal) {
@@ -132,7 +139,7 @@ fn read_range(
                 let scale = r.unit.unwrap_or(header_scale);
                 let onset = physical(Kind::Temperature, scale.to_celsius(r.onset))?;
                 let clear = physical(Kind::Temperature, scale.to_celsius(r.clear))?;
-                Ok(Some((onset, clear, r.single)))
+                Ok(Some((onset, clear, r.single, r.completed)))
             }
             None => Err(found_instead(cell)),
         },
@@ -159,6 +166,21 @@ fn set_text(sub: &mut Submission, field: Field, text: Option<String>) {
         _ => return,
     };
     *slot = text;
+}
+
+/// A status cell as a word: under a yes/no header ("Excused?", "Withdrawn"), "yes" is the
+/// header's word and "no" nothing.
+fn status_text(header: &str, text: Option<String>) -> Option<String> {
+    let t = text?;
+    let answer = t.trim().trim_end_matches('.').to_lowercase();
+    let asks = ["excused", "withdrawn", "exempt", "absent", "dropped"]
+        .into_iter()
+        .find(|w| header.to_lowercase().contains(w));
+    match (asks, answer.as_str()) {
+        (Some(w), "yes" | "y" | "true" | "x" | "✓" | "✔" | "1") => Some(w.to_string()),
+        (Some(_), "no" | "n" | "false" | "0" | "-") => None,
+        _ => Some(t),
+    }
 }
 
 /// One name from name parts: "Last, First", or whichever part there is; a whole-name column
@@ -201,7 +223,7 @@ pub fn read_row(row: &RawRow, layout: &Layout, origin: &Origin) -> Submission {
         original_headers: Some(origin.headers.clone()),
         ..Submission::default()
     };
-    sub.no_column.clone_from(&layout.missing);
+    sub.no_column.clone_from(&layout.absent);
     let (mut last, mut first) = (None, None);
     for column in &layout.columns {
         let Some(field) = column.field else { continue };
@@ -210,6 +232,14 @@ pub fn read_row(row: &RawRow, layout: &Layout, origin: &Origin) -> Submission {
         let read = if field == Field::MpRange {
             read_range_into(&mut sub, cell, column, origin.decimal, &at)
         } else if field.is_numeric() {
+            if field == Field::ReportedRecovery {
+                // a value shown with its percent sign is a percentage as it stands
+                sub.reported_marked = match cell {
+                    Cell::Percent(_) => true,
+                    Cell::Text(t) => t.contains('%'),
+                    _ => false,
+                };
+            }
             read_number(cell, column, origin.decimal).map(|v| set_number(&mut sub, field, v))
         } else if let Cell::Error(_) = cell {
             Err(found_instead(cell))
@@ -224,6 +254,7 @@ pub fn read_row(row: &RawRow, layout: &Layout, origin: &Origin) -> Submission {
             match field {
                 Field::LastName => last = text,
                 Field::FirstName => first = text,
+                Field::Status => sub.status = status_text(&column.header, text),
                 _ => set_text(&mut sub, field, text),
             }
             Ok(())
@@ -237,7 +268,27 @@ pub fn read_row(row: &RawRow, layout: &Layout, origin: &Origin) -> Submission {
         }
     }
     join_name(&mut sub, last, first);
+    one_reading_of_two(&mut sub, layout);
     sub
+}
+
+/// Separate onset and clear-point columns with only one of them filled: one temperature, as a
+/// single value in a range column is (the clear point, flagged `single-reading`), not a
+/// missing value.
+fn one_reading_of_two(sub: &mut Submission, layout: &Layout) {
+    let two = layout.column(Field::MpOnset).is_some() && layout.column(Field::MpClear).is_some();
+    let unread = sub.is_unreadable(Field::MpOnset) || sub.is_unreadable(Field::MpClear);
+    if !two || unread {
+        return;
+    }
+    if let (Some(t), None) | (None, Some(t)) = (sub.mp_onset_c, sub.mp_clear_c) {
+        sub.mp_onset_c = Some(t);
+        sub.mp_clear_c = Some(t);
+        sub.single_reading = true;
+        sub.notes.push(format!(
+            "one melting temperature ({t:.1} °C) given of onset and clear point; taken as both"
+        ));
+    }
 }
 
 /// Reads a melting-range cell into the submission's onset and clear point.
@@ -248,9 +299,16 @@ fn read_range_into(
     decimal: Decimal,
     at: &dyn Fn() -> String,
 ) -> Result<(), String> {
-    if let Some((onset, clear, single)) = read_range(cell, column, decimal)? {
+    if let Some((onset, clear, single, completed)) = read_range(cell, column, decimal)? {
         sub.mp_onset_c = Some(onset);
         sub.mp_clear_c = Some(clear);
+        if completed {
+            sub.notes.push(format!(
+                "{}: \"{}\" read as {onset:.1}-{clear:.1} °C (the clear point written by its last digits)",
+                at(),
+                cell.as_text().unwrap_or_default()
+            ));
+        }
         if single {
             sub.single_reading = true;
             sub.notes.push(format!(

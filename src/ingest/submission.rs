@@ -57,6 +57,10 @@ pub struct Submission {
     pub status: Option<String>,
     /// The row's notes cell, as written, if the sheet has a notes column.
     pub remarks: Option<String>,
+    /// The reported recovery carried its percent sign (a percent-formatted cell, or "72.8%"):
+    /// it is never read again as a fraction.
+    #[serde(skip)]
+    pub reported_marked: bool,
     /// The melting entry was one temperature, taken as both onset and clear point.
     pub single_reading: bool,
     /// Fields the sheet has no column for (their absence is the sheet's, not the student's).

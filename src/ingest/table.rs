@@ -53,6 +53,10 @@ pub struct Layout {
     pub columns: Vec<Column>,
     /// Fields grading needs that no column holds.
     pub missing: Vec<Field>,
+    /// Every field no column holds (the missing ones, and optional ones such as the reported
+    /// recovery), so that a blank cell and a sheet without the column can be told apart.
+    #[serde(skip)]
+    pub absent: Vec<Field>,
 }
 
 impl Layout {
@@ -190,6 +194,7 @@ pub fn locate(sheet: &RawSheet, overrides: &ColumnOverrides) -> Result<Layout, L
         units_row,
         columns,
         missing: Vec::new(),
+        absent: Vec::new(),
     };
     layout.missing = Field::ALL
         .into_iter()
@@ -198,6 +203,10 @@ pub fn locate(sheet: &RawSheet, overrides: &ColumnOverrides) -> Result<Layout, L
     if !layout.has_melting() {
         layout.missing.push(Field::MpRange);
     }
+    layout.absent = Field::ALL
+        .into_iter()
+        .filter(|f| layout.column(*f).is_none())
+        .collect();
     Ok(layout)
 }
 
@@ -212,41 +221,68 @@ fn unit_cell(cell: &super::cells::Cell) -> Option<Unit> {
     super::values::parse_unit(inner)
 }
 
-/// A row directly under the header whose every non-empty cell is a unit gives those columns
-/// their unit (where the header names none) and is not a submission (common practice in lab
-/// sheets: the units on a line of their own). Returns its 1-based row.
+/// Text a units row holds over a column without a unit: a dash, "n/a", or a label ("Units").
+fn unit_placeholder(cell: &super::cells::Cell) -> bool {
+    let t = cell.as_text().unwrap_or_default().to_lowercase();
+    matches!(
+        t.trim().trim_matches(['(', ')', '[', ']']),
+        "" | "-" | "–" | "—" | "n/a" | "na" | "units" | "unit" | "units:" | "unit:"
+    )
+}
+
+/// A row directly under the header (a blank row between is allowed) whose every non-empty cell
+/// is a unit, or a dash or "units" label over a column without one, gives those columns their
+/// unit and is not a submission (common practice in lab sheets: the units on a line of their
+/// own). The unit can settle what a header alone does not ("Solvent" over "mL" is a volume,
+/// "Recovery" over "g" a mass); a header that names another unit keeps its own, with a note.
+/// Returns its 1-based row.
 fn units_row(sheet: &RawSheet, header_pos: usize, columns: &mut [Column]) -> Option<u32> {
     let header = &sheet.rows[header_pos];
     let row = sheet.rows.get(header_pos + 1)?;
-    if row.index != header.index + 1 {
+    if row.index > header.index + 2 {
         return None;
     }
-    let units: Vec<(u32, Unit)> = row
-        .non_empty()
-        .map(|(c, cell)| unit_cell(cell).map(|u| (c, u)))
-        .collect::<Option<_>>()?;
+    let mut units: Vec<(u32, Unit)> = Vec::new();
+    for (c, cell) in row.non_empty() {
+        match unit_cell(cell) {
+            Some(u) => units.push((c, u)),
+            None if unit_placeholder(cell) => {}
+            None => return None,
+        }
+    }
     if units.is_empty() {
         return None;
     }
     for (c, u) in units {
-        let Some(col) = columns.iter_mut().find(|x| x.index == c) else {
-            continue;
-        };
-        if col.unit.is_some() {
-            continue;
-        }
-        col.unit = Some(u);
-        col.unit_source = Some(UnitSource::UnitsRow);
-        // the unit can tell what a header alone does not ("Water used" over "mL")
-        if col.field.is_none() && col.note.is_none() && !col.explicit {
-            let mut h = parse_header(&col.header);
-            h.unit = Some(u);
-            if let HeaderMeaning::Field(f) = super::headers::classify(&h) {
-                col.field = Some(f);
-            }
+        if let Some(col) = columns.iter_mut().find(|x| x.index == c) {
+            take_unit(col, u);
         }
     }
     Some(row.index + 1)
+}
+
+/// Gives a column the unit its units-row cell names.
+fn take_unit(col: &mut Column, u: Unit) {
+    if let Some(own) = col.unit {
+        if own != u {
+            col.note = Some(format!(
+                "the header says {} and the units row {}; the header's unit is used",
+                own.symbol(),
+                u.symbol()
+            ));
+        }
+        return;
+    }
+    col.unit = Some(u);
+    col.unit_source = Some(UnitSource::UnitsRow);
+    if col.explicit || col.note.is_some() {
+        return;
+    }
+    let mut h = parse_header(&col.header);
+    h.unit = Some(u);
+    if let HeaderMeaning::Field(f) = super::headers::classify(&h) {
+        col.field = Some(f);
+    }
 }
 
 /// Settles conflicts: explicit beats recognised; a header that could mean two things, or two
@@ -321,48 +357,73 @@ fn settle_claims(columns: &mut [Column], field: Field) {
     }
 }
 
-/// Text in a row's first cell that marks the end of the student rows.
+/// Text in a row's first cell (or where a name belongs) that marks the end of the student
+/// rows: a label made of summary words ("Average", "Class mean", "Std dev", "Grand total",
+/// "Mean ± SD", "Σ"), or a notes heading ("Notes:").
 fn is_summary_label(text: &str) -> bool {
-    const EXACT: [&str; 20] = [
+    // words that say a row summarises others
+    const STAT: [&str; 28] = [
         "total",
         "totals",
         "sum",
         "mean",
+        "means",
         "average",
+        "averages",
         "avg",
+        "ave",
         "median",
         "std",
         "sd",
         "stdev",
-        "standard deviation",
-        "class average",
-        "section average",
-        "notes",
-        "note",
-        "comments",
+        "stddev",
+        "deviation",
         "count",
         "n",
         "summary",
         "statistics",
+        "stats",
+        "min",
+        "max",
+        "minimum",
+        "maximum",
+        "range",
+        "σ",
+        "Σ",
+        "variance",
     ];
-    const PREFIX: [&str; 8] = [
-        "total:",
-        "average:",
-        "mean:",
-        "notes:",
-        "note:",
-        "comments:",
-        "n =",
-        "n=",
+    // words that may come with them
+    const WITH: [&str; 10] = [
+        "class", "section", "group", "grand", "overall", "cohort", "standard", "dev", "all",
+        "students",
     ];
+    const PREFIX: [&str; 6] = ["notes:", "note:", "comments:", "n =", "n=", "average:"];
     let t = text.trim();
-    let bare = t.trim_end_matches(':').trim_end();
-    let starts = |p: &str| t.get(..p.len()).is_some_and(|h| h.eq_ignore_ascii_case(p));
-    EXACT.iter().any(|w| bare.eq_ignore_ascii_case(w)) || PREFIX.iter().any(|p| starts(p))
+    let lower = t.to_lowercase();
+    if PREFIX.iter().any(|p| lower.starts_with(p))
+        || ["notes", "note", "comments"].contains(&lower.trim_end_matches(':'))
+    {
+        return true;
+    }
+    let words: Vec<&str> = lower
+        .split(|c: char| !c.is_alphanumeric())
+        .filter(|w| !w.is_empty())
+        .collect();
+    !words.is_empty()
+        && words.len() <= 4
+        && words.iter().any(|w| STAT.contains(w))
+        && words.iter().all(|w| STAT.contains(w) || WITH.contains(w))
 }
 
 /// The rows below the header that are student rows, in order.
 pub fn student_rows<'a>(sheet: &'a RawSheet, layout: &Layout) -> Vec<&'a RawRow> {
+    rows_and_unnamed(sheet, layout).0
+}
+
+/// The student rows, and the 1-based rows passed over because they name no one in a sheet that
+/// has an id or name column (a template row holding only a bench number or a formula's result,
+/// an unlabelled average): they cannot be anyone's grade.
+pub fn rows_and_unnamed<'a>(sheet: &'a RawSheet, layout: &Layout) -> (Vec<&'a RawRow>, Vec<u32>) {
     let mapped: Vec<u32> = layout
         .columns
         .iter()
@@ -378,8 +439,10 @@ pub fn student_rows<'a>(sheet: &'a RawSheet, layout: &Layout) -> Vec<&'a RawRow>
     .iter()
     .filter_map(|f| layout.column(*f).map(|c| c.index))
     .collect();
+    let id = layout.column(Field::StudentId).map(|c| c.index);
     let header = &sheet.rows[layout.header_pos];
     let mut out = Vec::new();
+    let mut unnamed = Vec::new();
     let mut prev = header.index;
     let first = layout.header_pos + 1 + usize::from(layout.units_row.is_some());
     if let Some(units) = sheet
@@ -392,11 +455,8 @@ pub fn student_rows<'a>(sheet: &'a RawSheet, layout: &Layout) -> Vec<&'a RawRow>
     for row in sheet.rows.iter().skip(first) {
         let gap = row.index > prev + 1;
         prev = row.index;
-        let first = row.non_empty().next().map(|(_, c)| c);
-        if let Some(super::cells::Cell::Text(t)) = first {
-            if is_summary_label(t) {
-                break;
-            }
+        if ends_the_table(row, id, &who) {
+            break;
         }
         let filled = mapped.iter().filter(|&&c| !row.get(c).is_empty()).count();
         let names_someone = who.iter().any(|&c| !row.get(c).is_empty());
@@ -406,9 +466,33 @@ pub fn student_rows<'a>(sheet: &'a RawSheet, layout: &Layout) -> Vec<&'a RawRow>
         if gap && (filled == 1 || !names_someone) {
             break;
         }
+        if !who.is_empty() && !names_someone {
+            unnamed.push(row.index + 1);
+            continue;
+        }
         out.push(row);
     }
-    out
+    (out, unnamed)
+}
+
+/// A row labelled as a summary ("Average", "Class mean") in its first cell or where a name
+/// belongs ends the student rows; a row with a student id is a student, whatever its name cell
+/// says ("Max").
+fn ends_the_table(row: &RawRow, id: Option<u32>, who: &[u32]) -> bool {
+    let has_id = id.is_some_and(|c| {
+        let cell = row.get(c);
+        !cell.is_empty() && !cell.as_text().is_some_and(|t| is_summary_label(&t))
+    });
+    let mut labels = row
+        .non_empty()
+        .take(1)
+        .map(|(c, _)| c)
+        .chain(who.iter().copied())
+        .filter_map(|c| match row.get(c) {
+            super::cells::Cell::Text(t) => Some(t.as_str()),
+            _ => None,
+        });
+    !has_id && labels.any(is_summary_label)
 }
 
 fn is_repeated_header(row: &RawRow, header: &RawRow) -> bool {

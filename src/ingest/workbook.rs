@@ -218,24 +218,49 @@ pub fn is_percent_format(code: &str) -> bool {
     false
 }
 
+/// The decimals a percent format shows ("0.0%" shows 1, "0%" none); `None` for a format that
+/// is not a percentage.
+pub fn percent_decimals(code: &str) -> Option<u8> {
+    if !is_percent_format(code) {
+        return None;
+    }
+    let first = code.split(';').next().unwrap_or(code);
+    let before = &first[..first.find('%').unwrap_or(first.len())];
+    let digits = before.rsplit_once('.').map_or(0, |(_, d)| {
+        d.chars().filter(|c| matches!(c, '0' | '#' | '?')).count()
+    });
+    Some(digits.min(10) as u8)
+}
+
+/// A percentage as its format shows it: 0.7251 shown "0%" is 0.73, what the student saw.
+pub fn as_shown(fraction: f64, decimals: u8) -> f64 {
+    let scale = 10f64.powi(i32::from(decimals) + 2);
+    let shown = (fraction * scale).round() / scale;
+    if shown.is_finite() {
+        shown
+    } else {
+        fraction
+    }
+}
+
 fn stream_xlsx(wb: &mut Xlsx<BufReader<File>>, name: &str) -> Result<RawSheet, String> {
     let mut reader = wb.worksheet_cells_reader(name).map_err(describe)?;
-    // which styles show a percentage, by style id
-    let percent: Vec<bool> = reader
+    // which styles show a percentage, and to how many decimals, by style id
+    let percent: Vec<Option<u8>> = reader
         .styles()
         .iter()
         .map(|s| {
             s.number_format
                 .as_ref()
-                .is_some_and(|f| is_percent_format(&f.format_code))
+                .and_then(|f| percent_decimals(&f.format_code))
         })
         .collect();
     collect_cells(name, || {
         let next = reader.next_cell_with_style_id()?;
         Ok::<_, calamine::XlsxError>(next.map(|(c, style)| {
-            let cell = match from_data_ref(c.get_value().clone()) {
-                Cell::Number(v) if percent.get(style).copied().unwrap_or(false) => Cell::Percent(v),
-                other => other,
+            let cell = match (from_data_ref(c.get_value().clone()), percent.get(style)) {
+                (Cell::Number(v), Some(Some(d))) => Cell::Percent(as_shown(v, *d)),
+                (other, _) => other,
             };
             (c.get_position(), cell)
         }))
@@ -462,5 +487,20 @@ mod tests {
                 assert_eq!(texts, &want);
             }
         }
+    }
+
+    #[test]
+    fn percent_formats_and_the_value_they_show() {
+        // ECMA-376 part 1, 18.8.31: built-in 9 is "0%", 10 is "0.00%"; digits after the point
+        // before the percent sign are the decimals shown
+        assert_eq!(percent_decimals("0%"), Some(0));
+        assert_eq!(percent_decimals("0.0%"), Some(1));
+        assert_eq!(percent_decimals("#,##0.00%;[Red]-0.00%"), Some(2));
+        assert_eq!(percent_decimals("0.0\\%"), None);
+        assert_eq!(percent_decimals("0.000"), None);
+        // 0.7251 shown "0%" is 73 %, as the screen and a CSV saved as shown have it
+        assert_eq!(as_shown(0.7251, 0), 0.73);
+        assert_eq!(as_shown(0.728, 1), 0.728);
+        assert_eq!(as_shown(0.0072, 1), 0.007);
     }
 }

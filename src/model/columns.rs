@@ -294,7 +294,7 @@ registry! {
         get: |r| Value::Number(a(r).reference_mp_c), }
     DEPRESSION_C = { name: "depression_c", label: "Depression", unit: Some("°C"),
         kind: Kind::Number, outputs: EVERYWHERE,
-        shaded_by: &[Flag::LikelyImpure, Flag::AboveReference],
+        shaded_by: &[Flag::LikelyImpure, Flag::AboveReference, Flag::RangeInverted],
         measure: Some(MeasureRole::compared(sentences::depression, "no clear point and reference to compare")),
         get: |r| Value::Number(a(r).depression_c), }
     FLAGS = { name: "flags", label: "Flags", kind: Kind::List { sep: ";" },
@@ -312,7 +312,8 @@ registry! {
         personal: Some(Personal::Quotes),
         get: |r| Value::Items(Items::Texts(&a(r).submission.notes)), }
     PURITY_MOL_PCT = { name: "purity_mol_pct", label: "Purity", unit: Some("mol %"),
-        kind: Kind::Number, outputs: EVERYWHERE, shaded_by: &[Flag::AboveReference],
+        kind: Kind::Number, outputs: EVERYWHERE,
+        shaded_by: &[Flag::AboveReference, Flag::RangeInverted],
         measure: Some(MeasureRole::compared(sentences::purity, "no purity estimate could be made")),
         get: |r| Value::Number(a(r).purity_mol_pct), }
     PURITY_NOTE = { name: "purity_note", label: "Purity note",

@@ -75,6 +75,7 @@ impl Measure {
     pub const PURITY: Measure = Measure(&columns::PURITY_MOL_PCT);
     pub const CLEAR: Measure = Measure(&columns::MP_CLEAR_C);
     pub const SCORE: Measure = Measure(&columns::SCORE);
+    pub const REPORT_ERROR: Measure = Measure(&columns::RECOVERY_REPORT_ERROR_PCT);
 
     /// Every measure, in registry order.
     pub fn all() -> impl Iterator<Item = Measure> {

@@ -136,6 +136,12 @@ pub struct Row<'a> {
 /// lower case, letters and digits only, a leading "bench", "station", "apparatus" or "b" before
 /// a number dropped, and the number's leading zeros too ("Bench 7", "B07", "07" and "7" match).
 pub fn bench_key(text: &str) -> String {
+    // a number cell read back as text: bench 1.0 is bench 1, not bench 10
+    if let Ok(v) = text.trim().parse::<f64>() {
+        if v.is_finite() && v >= 0.0 && v.fract() == 0.0 && v < 1e9 {
+            return format!("{}", v as u64);
+        }
+    }
     let k: String = text
         .to_lowercase()
         .chars()
@@ -161,6 +167,29 @@ pub fn bench_key(text: &str) -> String {
         return keep.to_string();
     }
     rest.to_string()
+}
+
+/// Matching key for a section label, the way benches are matched: "Sec 01", "Section 1", "01",
+/// "1" and "S1" are one section; "Sec 01A" and "Monday" are themselves.
+pub fn section_key(text: &str) -> String {
+    if text.trim().parse::<f64>().is_ok() {
+        return bench_key(text);
+    }
+    let k: String = text
+        .to_lowercase()
+        .chars()
+        .filter(|c| c.is_alphanumeric())
+        .collect();
+    let mut rest = k.as_str();
+    for prefix in ["section", "sect", "sec", "lab", "group", "s"] {
+        if let Some(r) = k.strip_prefix(prefix) {
+            if r.starts_with(|c: char| c.is_ascii_digit()) {
+                rest = r;
+                break;
+            }
+        }
+    }
+    bench_key(rest)
 }
 
 /// A sentence about a row with every piece of the row's own cell text taken out, for exports

@@ -271,7 +271,10 @@ impl Overrides {
         let mut found = Vec::new();
         for &i in idx {
             let o = &self.list[i];
-            if o.section.as_deref().is_none_or(|s| s == section) {
+            let same = |s: &str| {
+                s == section || crate::model::section_key(s) == crate::model::section_key(section)
+            };
+            if o.section.as_deref().is_none_or(same) {
                 self.used[i] = true;
                 found.push(o.clone());
             }

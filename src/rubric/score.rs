@@ -281,6 +281,12 @@ fn criterion_points(rubric: &Rubric, c: &Criterion, a: &Assessed) -> (f64, Strin
             m.sentence(&mut words, x, a);
             (rubric.grading.round(rule_points(c, x)), words, None)
         }
+        // the sheet asks for the reported recovery and the student left it blank: nothing to
+        // check, and no points for it (if_missing is for sheets without the column)
+        (Some(m), None) if m == Measure::REPORT_ERROR && left_blank(a) => {
+            words.push_str("no reported recovery was given");
+            (0.0, words, None)
+        }
         (Some(m), None) => {
             words.push_str(&m.why_missing(a));
             (c.if_missing, words, None)
@@ -290,6 +296,16 @@ fn criterion_points(rubric: &Rubric, c: &Criterion, a: &Assessed) -> (f64, Strin
             (0.0, words, None)
         }
     }
+}
+
+/// Whether the student left the reported recovery blank on a sheet that has a column for it.
+fn left_blank(a: &Assessed) -> bool {
+    let s = &a.submission;
+    s.reported_recovery_pct.is_none()
+        && !s
+            .no_column
+            .contains(&crate::fields::Field::ReportedRecovery)
+        && !s.is_unreadable(crate::fields::Field::ReportedRecovery)
 }
 
 /// The grade of an excused student: no points, no letter, the reason in the feedback; an

@@ -486,3 +486,65 @@ fn the_outputs_say_which_rubric_calibration_and_course_were_used() {
     let html = std::fs::read_to_string(f.path("out2/cohort-report.html")).unwrap();
     assert!(html.contains("<h1>Organic lab, week 12</h1>"));
 }
+
+/// What assistants type, read as a grader reads it (each case one a trial by a grader found
+/// misread): a bare "Recovery" column shown as percentages, template and summary rows, denied
+/// excuses, partners' columns, shorthand ranges, "Last"/"First", a solvent column in mL, bench
+/// "1.0", section labels written three ways, and a blank reported recovery.
+#[test]
+fn what_assistants_type_is_read_as_a_grader_reads_it() {
+    let f = Fixture::new();
+    f.write(
+        "sec.csv",
+        "Student ID,Last,First,Section,Bench,Status,Partner status,Crude mass (g),Recovered mass (g),Solvent,MP range,Recovery\n\
+         ,,,,,,,,,mL,,%\n\
+         s1,Ames,Bo,01,1.0,Unexcused absence,,2.500,1.800,50,121-2,72.0\n\
+         s2,Bell,Cy,Sec 01,1,present,Withdrawn,2.500,1.800,50,120.5-1.5,\n\
+         s3,Cole,Di,Section 1,2,W (medical),,,,,,\n\
+         s1,Ames,Bo,1,1,,,2.500,1.500,50,121-122,60.0\n\
+         ,,,,3,,,,,,,\n\
+         Class mean,,,,,,,2.500,1.700,50,,68.0\n",
+    );
+    let rows = grade(&f, &f.path("sec.csv"), "out", &[]);
+    assert_eq!(rows.len(), 4, "template and summary rows are not students");
+    assert!(
+        rows.iter().all(|r| r["section"] == "01"),
+        "one section, as first written"
+    );
+    let first = &rows[0];
+    assert_eq!(first["student_name"], "Ames, Bo");
+    assert_eq!(
+        first["status"], "graded",
+        "an unexcused absence is not an excuse"
+    );
+    assert_eq!(num(first, "mp_clear_c"), Some(122.0), "121-2 is 121-122");
+    assert_eq!(
+        num(first, "solvent_volume_ml"),
+        Some(50.0),
+        "Solvent over mL is a volume"
+    );
+    assert_eq!(num(first, "reported_recovery_pct"), Some(72.0));
+    assert!(first["calibration"].is_empty() && first["bench"] == "1.0");
+    let second = &rows[1];
+    assert_eq!(
+        second["status"], "graded",
+        "the partner's status is not the student's"
+    );
+    assert_eq!(
+        num(second, "mp_clear_c"),
+        Some(121.5),
+        "120.5-1.5 is 120.5-121.5"
+    );
+    assert!(
+        second["feedback"].contains("no reported recovery was given, 0 of"),
+        "{}",
+        second["feedback"]
+    );
+    assert_eq!(rows[2]["status"], "excused", "W (medical) is a withdrawal");
+    assert!(
+        flags(&rows[3]).contains(&"duplicate-student"),
+        "s1 again in the same section, written \"1\""
+    );
+    let run = f.run(&["check", "sec.csv"]);
+    assert!(run.stdout.contains("name no student"), "{}", run.stdout);
+}

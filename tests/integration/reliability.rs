@@ -190,7 +190,8 @@ fn awkward_sections_long_cells_wide_sheets_and_long_names_still_get_their_workbo
     let mut tricky: calamine::Xlsx<_> =
         calamine::open_workbook(f.path("out/tricky-graded.xlsx")).unwrap();
     let names = tricky.sheet_names();
-    assert_eq!(names.len(), sections.len() + 2, "{names:?}");
+    // "ÉCOLE" and "école" are one section (labels match as benches do), so one sheet for both
+    assert_eq!(names.len(), sections.len() + 1, "{names:?}");
     let lower: std::collections::BTreeSet<String> =
         names.iter().map(|n| n.to_lowercase()).collect();
     assert_eq!(lower.len(), names.len(), "distinct in any case: {names:?}");
