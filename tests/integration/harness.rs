@@ -256,20 +256,27 @@ pub fn run_env(dir: &Path, args: &[&str], env: &[(&str, &str)]) -> Run {
 
 /// Every visible file of an output folder with its SHA-256 (hidden bookkeeping left out).
 pub fn folder_state(dir: &Path) -> std::collections::BTreeMap<String, String> {
-    std::fs::read_dir(dir)
-        .map(|entries| {
-            entries
-                .filter_map(Result::ok)
-                .map(|e| e.file_name().to_string_lossy().into_owned())
-                .filter(|n| !n.starts_with('.'))
-                .map(|n| {
-                    let hash = benchgrade::export::provenance::sha256_file(&dir.join(&n))
-                        .unwrap_or_default();
-                    (n, hash)
-                })
-                .collect()
-        })
-        .unwrap_or_default()
+    let mut state = std::collections::BTreeMap::new();
+    let Ok(entries) = std::fs::read_dir(dir) else {
+        return state;
+    };
+    for e in entries.filter_map(Result::ok) {
+        let name = e.file_name().to_string_lossy().into_owned();
+        if name.starts_with('.') {
+            continue;
+        }
+        let path = dir.join(&name);
+        if path.is_dir() {
+            // one level of subfolders (the handouts), their files named "folder/file"
+            for (inner, hash) in folder_state(&path) {
+                state.insert(format!("{name}/{inner}"), hash);
+            }
+        } else {
+            let hash = benchgrade::export::provenance::sha256_file(&path).unwrap_or_default();
+            state.insert(name, hash);
+        }
+    }
+    state
 }
 
 /// A class of `rows` students over `sections` sections, as CSV text.
