@@ -30,7 +30,19 @@ pub fn fmt(v: f64, places: usize) -> String {
     }
 }
 
-/// A table of typed cells: text escaped, numbers to each column's decimals.
+/// A p-value as a reader wants it: four decimals, "< 0.0001" below that, a dash for none.
+pub fn p_value(p: f64) -> String {
+    if !p.is_finite() {
+        "–".into()
+    } else if p < 0.0001 {
+        "< 0.0001".into()
+    } else {
+        format!("{p:.4}")
+    }
+}
+
+/// A table of typed cells: text escaped, numbers to each column's decimals (p-values as
+/// `p_value` writes them).
 pub fn table(t: &Table) -> String {
     let mut s = String::from("<table><thead><tr>");
     for c in &t.columns {
@@ -43,6 +55,7 @@ pub fn table(t: &Table) -> String {
             let text = match cell {
                 Cell::Text(x) => escape(x),
                 Cell::Count(n) => n.to_string(),
+                Cell::Number(v) if c.code.starts_with("p_") => p_value(*v),
                 Cell::Number(v) => fmt(*v, c.decimals),
             };
             let _ = write!(s, "<td>{text}</td>");
@@ -56,6 +69,14 @@ pub fn table(t: &Table) -> String {
 #[cfg(test)]
 mod tests {
     use super::*;
+
+    #[test]
+    fn p_values_read_as_a_reader_wants_them() {
+        assert_eq!(p_value(8.699e-5), "< 0.0001");
+        assert_eq!(p_value(0.0001), "0.0001");
+        assert_eq!(p_value(0.04567), "0.0457");
+        assert_eq!(p_value(f64::NAN), "–");
+    }
 
     #[test]
     fn text_is_escaped() {

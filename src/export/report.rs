@@ -5,6 +5,7 @@
 
 use super::baseline::BaselineRow;
 use crate::stats::cohort::{BenchBias, Cohort, Comparison, Outlier};
+use crate::stats::quality::{GroupQuality, Quality};
 use crate::stats::sections::SectionStats;
 
 /// Everything the report shows.
@@ -23,6 +24,8 @@ pub struct Report<'a> {
     pub letters: &'a [(String, usize)],
     /// Against an earlier term, if one was given.
     pub baseline: &'a [BaselineRow],
+    /// Data quality by section and by assistant.
+    pub quality: &'a Quality,
 }
 
 /// One cell of a report table.
@@ -60,6 +63,40 @@ pub struct Table {
 
 fn text(s: &str) -> Cell {
     Cell::Text(s.to_string())
+}
+
+/// Students, scores and data-quality rates of each group (sections, or assistants).
+pub fn quality_table(
+    groups: &std::collections::BTreeMap<String, GroupQuality>,
+    what: &'static str,
+) -> Table {
+    Table {
+        columns: vec![
+            col(what, what, 0),
+            col("students graded", "students", 0),
+            col("excused", "excused", 0),
+            col("mean score", "mean_score", 1),
+            col("median score", "median_score", 1),
+            col("impossible entries (%)", "impossible_pct", 1),
+            col("suspicious only (%)", "suspicious_pct", 1),
+            col("missing data (%)", "missing_pct", 1),
+        ],
+        rows: groups
+            .iter()
+            .map(|(name, q)| {
+                vec![
+                    text(name),
+                    Cell::Count(q.students),
+                    Cell::Count(q.excused),
+                    Cell::Number(q.mean_score()),
+                    Cell::Number(q.median_score()),
+                    Cell::Number(q.share(q.impossible)),
+                    Cell::Number(q.share(q.suspicious)),
+                    Cell::Number(q.share(q.missing)),
+                ]
+            })
+            .collect(),
+    }
 }
 
 /// Each bench against the rest of the cohort.
@@ -204,7 +241,7 @@ pub fn sections_table(stats: &SectionStats) -> Table {
                 let x = row.summary?;
                 Some(vec![
                     text(row.section),
-                    text(row.measure.key()),
+                    text(&row.measure.column().header()),
                     Cell::Count(x.n),
                     Cell::Number(x.mean),
                     Cell::Number(x.sd),

@@ -10,17 +10,18 @@ use std::path::Path;
 use super::atomic::{write_atomic, Stage};
 use super::html::{escape, table};
 use super::report::{self, Report};
-use super::svg::{bar_chart, box_plot};
+use super::svg::{box_plot, count_bars, shift_bars, Hue, Shift};
 use crate::error::WriteError;
 use crate::model::Measure;
-use crate::stats::QUANTILE_DEFINITION;
+use crate::stats::{histogram, QUANTILE_DEFINITION};
 
 const STYLE: &str = "body{font-family:Georgia,'DejaVu Serif',serif;max-width:60rem;margin:2rem auto;padding:0 1rem;color:#222}\
 h1{font-size:1.6rem}h2{font-size:1.2rem;margin-top:2rem;border-bottom:1px solid #bbb}\
 table{border-collapse:collapse;font-size:.85rem;margin:.5rem 0}th,td{border:1px solid #ccc;padding:.2rem .45rem;text-align:right}\
 th{background:#eef2f5}td:first-child,th:first-child{text-align:left}.label,.tick{font:11px sans-serif;fill:#333}\
+.ctitle{font:bold 13px sans-serif;fill:#222}\
 figure{margin:1rem 0}figcaption{font-size:.8rem;color:#555}.finding{background:#fff7e0;border-left:4px solid #c2673a;padding:.3rem .6rem;margin:.3rem 0}\
-@media print{body{margin:0}h2{break-after:avoid}figure,table{break-inside:avoid}}";
+@media print{body{margin:0;max-width:none}h2{break-after:avoid}figure,tr{break-inside:avoid}thead{display:table-header-group}svg{max-width:100%;height:auto}}";
 
 /// The page's HTML.
 pub fn render(r: &Report) -> String {
@@ -28,6 +29,7 @@ pub fn render(r: &Report) -> String {
     head(&mut s, r);
     sections(&mut s, r);
     grades(&mut s, r);
+    quality(&mut s, r);
     benches(&mut s, r);
     statistics(&mut s, r);
     comparisons(&mut s, r);
@@ -47,48 +49,97 @@ fn head(s: &mut String, r: &Report) {
     }
 }
 
-/// Box plots of recovery and score by section.
+/// Box plots of recovery and score by section, and the cohort's recovery histogram.
 fn sections(s: &mut String, r: &Report) {
     s.push_str("<h2>Recovery and score by section</h2>");
     s.push_str(&box_plot(
         "Percent recovery by section",
         "%",
         &r.cohort.by_section(Measure::RECOVERY),
+        Hue::Section,
     ));
     s.push_str(&box_plot(
         "Score by section",
         "points",
         &r.cohort.by_section(Measure::SCORE),
+        Hue::Section,
     ));
+    let all: Vec<f64> = r
+        .cohort
+        .by_section(Measure::RECOVERY)
+        .into_iter()
+        .flat_map(|(_, v)| v)
+        .collect();
+    let bins: Vec<(String, usize)> = histogram(&all, 0.0, 10.0, 10)
+        .into_iter()
+        .map(|(lo, hi, n)| (format!("{lo:.0}-{hi:.0}"), n))
+        .collect();
+    s.push_str(&count_bars(
+        &format!("Percent recovery, the whole cohort (n = {})", all.len()),
+        &bins,
+        "recovery bin (%)",
+        Hue::Section,
+    ));
+    s.push_str("<p>Plots leave out the rows whose entries for the measure are impossible, and excused students.</p>");
 }
 
 fn grades(s: &mut String, r: &Report) {
     s.push_str("<h2>Grade distribution</h2>");
-    let bars: Vec<(String, f64)> = r
-        .letters
-        .iter()
-        .map(|(l, n)| (l.clone(), *n as f64))
-        .collect();
     let n: usize = r.letters.iter().map(|(_, n)| n).sum();
-    s.push_str(&bar_chart(
-        &format!("Students by letter grade (n = {n} graded)"),
-        &bars,
-        "students",
+    s.push_str(&count_bars(
+        &format!("Students by letter grade (n = {n})"),
+        r.letters,
+        "letter grade",
+        Hue::Grade,
     ));
+}
+
+/// Students, scores and data-quality rates by section and by teaching assistant.
+fn quality(s: &mut String, r: &Report) {
+    s.push_str("<h2>Data quality</h2>");
+    s.push_str(&table(&report::quality_table(
+        &r.quality.sections,
+        "section",
+    )));
+    if !r.quality.assistants.is_empty() {
+        s.push_str("<h3>By teaching assistant</h3>");
+        s.push_str(&table(&report::quality_table(
+            &r.quality.assistants,
+            "assistant",
+        )));
+    }
+    s.push_str("<p>Rates are shares of the students graded (excused students and repeated submissions left out); missing data counts rows with a value missing or unreadable.</p>");
 }
 
 fn benches(s: &mut String, r: &Report) {
     s.push_str("<h2>Benches</h2>");
-    let bars: Vec<(String, f64)> = r
+    let bars: Vec<Shift> = r
         .bias
         .iter()
-        .map(|b| (b.bench.clone(), b.median_shift_c))
+        .map(|b| Shift {
+            name: format!("bench {}", b.bench),
+            value: b.median_shift_c,
+            finding: !b.finding.is_empty(),
+        })
         .collect();
-    s.push_str(&bar_chart(
-        "Median shift of each bench's clear points from the rest of the cohort",
+    s.push_str(&shift_bars(
+        "How far each bench's clear points sit from the rest of the cohort",
         &bars,
-        "°C; positive reads high",
+        "median shift, °C",
     ));
+    let by_bench: Vec<(String, Vec<f64>)> = r
+        .cohort
+        .by_bench(Measure::DEPRESSION)
+        .into_iter()
+        .map(|(b, v)| (format!("bench {b}"), v))
+        .collect();
+    s.push_str(&box_plot(
+        "Depression below the literature value by bench, every reading",
+        "°C below the reference; negative: above it",
+        &by_bench,
+        Hue::Bench,
+    ));
+    s.push_str("<p>Every clear point is drawn here, those above the reference included: they are how a bench that reads high shows.</p>");
     s.push_str(&table(&report::bias_table(r.bias)));
 }
 

@@ -28,6 +28,7 @@ use crate::ingest::Problem;
 use crate::model::Flag;
 use crate::model::Graded;
 use crate::stats::cohort::{BiasRule, Cohort};
+use crate::stats::quality::Quality;
 use crate::stats::sections::SectionStats;
 
 use super::RunError;
@@ -160,6 +161,7 @@ pub(super) struct Tallies {
     pub(super) plan: Option<BookPlan>,
     pub(super) stats: SectionStats,
     cohort: Cohort,
+    quality: Quality,
     parquet: ParquetRows,
     letters: BTreeMap<String, usize>,
 }
@@ -171,6 +173,7 @@ impl Tallies {
                 .then(|| BookPlan::new(&config.out_dir, config.split_sections)),
             stats: SectionStats::default(),
             cohort: Cohort::default(),
+            quality: Quality::default(),
             parquet: ParquetRows::create(
                 &config.out_dir.join("results.parquet"),
                 config.pseudonyms.clone(),
@@ -184,6 +187,7 @@ impl Tallies {
     pub(super) fn add(&mut self, g: &Graded) -> Result<(), WriteError> {
         self.stats.add(g);
         self.cohort.add(g);
+        self.quality.add(g);
         self.parquet.add(g)?;
         // each graded student once: a repeat that does not count has no grade of its own
         if let (false, Some(l)) = (g.assessed.has(Flag::DuplicateStudent), &g.score.letter) {
@@ -223,6 +227,7 @@ impl Tallies {
         let letters = letter_counts(config, &self.letters);
         let cohort = Summaries {
             cohort: &self.cohort,
+            quality: &self.quality,
             stats,
             letters: &letters,
             baseline: &baseline,
@@ -263,6 +268,7 @@ fn write_baseline(path: &Path, rows: &[BaselineRow], stage: &Stage) -> Result<()
 /// What the cohort report is drawn from, kept through the run.
 struct Summaries<'a> {
     cohort: &'a Cohort,
+    quality: &'a Quality,
     stats: &'a SectionStats,
     letters: &'a [(String, usize)],
     baseline: &'a [BaselineRow],
@@ -299,6 +305,7 @@ fn write_cohort(
         outliers: &outliers,
         letters: s.letters,
         baseline: s.baseline,
+        quality: s.quality,
     };
     let xlsx = dir.join("cohort-report.xlsx");
     cohort_workbook::write(&xlsx, &report, config.timestamp, stage)?;

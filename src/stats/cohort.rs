@@ -242,6 +242,27 @@ impl Cohort {
         }
     }
 
+    /// Values of a measure by bench or apparatus, benches in natural order ("2" before "10"),
+    /// for plots: every row with a value, impossible ones included (a clear point above the
+    /// reference is the evidence of a bench that reads high), as bench bias counts them.
+    pub fn by_bench(&self, m: Measure) -> Vec<(String, Vec<f64>)> {
+        let Some(slot) = self.slot(m) else {
+            return Vec::new();
+        };
+        let mut by: BTreeMap<String, Vec<f64>> = BTreeMap::new();
+        for (i, r) in self.rows.iter().enumerate() {
+            let v = self.value(i, slot);
+            if let (Some(b), true) = (r.bench, v.is_finite()) {
+                by.entry(self.benches.get(b).to_string())
+                    .or_default()
+                    .push(v);
+            }
+        }
+        let mut groups: Vec<(String, Vec<f64>)> = by.into_iter().collect();
+        groups.sort_by(|a, b| natural_cmp(&a.0, &b.0));
+        groups
+    }
+
     /// Omnibus and pairwise tests of every compared measure across sections (and assistants).
     pub fn comparisons(&self) -> Vec<Comparison> {
         let mut out = Vec::new();

@@ -8,6 +8,7 @@
 pub mod cohort;
 pub mod inference;
 pub mod outlier;
+pub mod quality;
 pub mod sections;
 
 use statrs::distribution::{ContinuousCDF, StudentsT};

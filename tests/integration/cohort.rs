@@ -83,6 +83,7 @@ fn bench_seven_is_found_reading_high() {
         vec![
             "Overview",
             "Sections",
+            "Data quality",
             "Comparisons",
             "Benches",
             "Grades",

@@ -1,0 +1,137 @@
+//! Data quality by section and by teaching assistant, for the coordinator: how many students
+//! were graded and excused, their mean and median score, and how often their rows carry an
+//! impossible entry, a suspicious one, or missing data. Gathered as the batch streams past.
+
+use std::collections::BTreeMap;
+
+use super::{mean, quantile_sorted};
+use crate::model::{Flag, Graded, Measure, Severity};
+
+/// One group's counts and scores.
+#[derive(Clone, Debug, Default)]
+pub struct GroupQuality {
+    /// Students graded (repeats that do not count left out).
+    pub students: usize,
+    pub excused: usize,
+    /// Graded students with an impossible entry, with only suspicious ones, and with a value
+    /// missing or unreadable.
+    pub impossible: usize,
+    pub suspicious: usize,
+    pub missing: usize,
+    scores: Vec<f64>,
+}
+
+impl GroupQuality {
+    fn add(&mut self, g: &Graded) {
+        let a = &g.assessed;
+        if a.excused.is_some() {
+            self.excused += 1;
+            return;
+        }
+        self.students += 1;
+        if a.is_impossible() {
+            self.impossible += 1;
+        } else if a
+            .flags
+            .iter()
+            .any(|(f, _)| f.severity() == Severity::Suspicious)
+        {
+            self.suspicious += 1;
+        }
+        if a.has(Flag::MissingValue) || a.has(Flag::UnreadableValue) {
+            self.missing += 1;
+        }
+        self.scores.extend(Measure::SCORE.value(g.row()));
+    }
+
+    pub fn mean_score(&self) -> f64 {
+        if self.scores.is_empty() {
+            f64::NAN
+        } else {
+            mean(&self.scores)
+        }
+    }
+
+    pub fn median_score(&self) -> f64 {
+        let mut v = self.scores.clone();
+        v.sort_by(f64::total_cmp);
+        quantile_sorted(&v, 0.5)
+    }
+
+    /// A count as a percentage of the students graded.
+    pub fn share(&self, n: usize) -> f64 {
+        if self.students == 0 {
+            f64::NAN
+        } else {
+            100.0 * n as f64 / self.students as f64
+        }
+    }
+}
+
+/// Data quality by section and by assistant, in name order.
+#[derive(Clone, Debug, Default)]
+pub struct Quality {
+    pub sections: BTreeMap<String, GroupQuality>,
+    pub assistants: BTreeMap<String, GroupQuality>,
+}
+
+impl Quality {
+    pub fn add(&mut self, g: &Graded) {
+        let a = &g.assessed;
+        if a.has(Flag::DuplicateStudent) {
+            return;
+        }
+        let s = &a.submission;
+        self.sections.entry(s.section.clone()).or_default().add(g);
+        if let Some(ta) = s
+            .assistant
+            .as_deref()
+            .map(str::trim)
+            .filter(|t| !t.is_empty())
+        {
+            self.assistants.entry(ta.to_string()).or_default().add(g);
+        }
+    }
+}
+
+#[cfg(test)]
+mod tests {
+    use super::*;
+    use crate::model::{Assessed, Score};
+
+    fn graded(total: f64, flags: &[Flag], excused: bool) -> Graded {
+        Graded {
+            assessed: Assessed {
+                flags: flags.iter().map(|f| (*f, String::new())).collect(),
+                excused: excused.then(|| "status \"W\"".to_string()),
+                ..Assessed::default()
+            },
+            score: Score {
+                total,
+                excused,
+                ..Score::default()
+            },
+        }
+    }
+
+    #[test]
+    fn rates_are_over_the_graded_students() {
+        let mut q = Quality::default();
+        for g in [
+            graded(90.0, &[], false),
+            graded(40.0, &[Flag::MissingValue], false),
+            graded(70.0, &[Flag::LowRecovery], false),
+            graded(80.0, &[Flag::SolventBelowMinimum], false),
+            graded(0.0, &[], true),
+            graded(10.0, &[Flag::DuplicateStudent], false),
+        ] {
+            q.add(&g);
+        }
+        let s = &q.sections[""];
+        assert_eq!((s.students, s.excused), (4, 1));
+        assert_eq!((s.impossible, s.suspicious, s.missing), (1, 2, 1));
+        // (90 + 40 + 70 + 80) / 4 = 70; median of 40, 70, 80, 90 = 75 (hand-worked)
+        assert_eq!((s.mean_score(), s.median_score()), (70.0, 75.0));
+        assert_eq!(s.share(s.suspicious), 50.0);
+    }
+}
