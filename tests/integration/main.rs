@@ -17,6 +17,7 @@ mod ingest_messy;
 mod layers;
 mod nist;
 mod physchem;
+mod printouts;
 mod real_files;
 mod reference_data;
 mod registry;
