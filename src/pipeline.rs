@@ -265,6 +265,20 @@ fn stream(
     });
     batch.sheets = collector.sheets;
     batch.problems.extend(collector.problems);
+    let read = batch
+        .sheets
+        .iter()
+        .map(|s| (s.source.as_str(), s.sheet.as_deref()));
+    for table in config.columns.unmatched_tables(read) {
+        batch.problems.push(Problem {
+            file: table.clone(),
+            sheet: None,
+            message: format!(
+                "the [columns.\"{table}\"] table matched no file and sheet read; name a file as given (or its name alone), a sheet as \"file [sheet]\""
+            ),
+            fatal: false,
+        });
+    }
     if let Some(cal) = &calibration {
         let seen = grader.assessor.apparatus_seen();
         batch.problems.extend(unused_calibration(cal, seen));

@@ -463,6 +463,8 @@ pub enum MappingValue {
 struct Scope {
     file: Option<String>,
     sheet: Option<String>,
+    /// The table's name as written, for messages.
+    key: String,
 }
 
 impl Scope {
@@ -475,11 +477,13 @@ impl Scope {
                 Scope {
                     file: (!file.is_empty()).then(|| file.to_string()),
                     sheet: Some(key[i + 1..key.len() - 1].trim().to_string()),
+                    key: key.to_string(),
                 }
             }
             None => Scope {
                 file: Some(key.to_string()),
                 sheet: None,
+                key: key.to_string(),
             },
         }
     }
@@ -600,6 +604,19 @@ impl ColumnOverrides {
     }
 
     /// The mappings that apply to one sheet of one file: its scoped ones over the general ones.
+    /// The tables for one file or sheet that matched none of `sheets` (file, sheet name), by
+    /// their names as written: a mapping that silently did nothing is worth a word.
+    pub fn unmatched_tables<'a>(
+        &self,
+        sheets: impl Iterator<Item = (&'a str, Option<&'a str>)> + Clone,
+    ) -> Vec<String> {
+        self.scoped
+            .iter()
+            .filter(|(scope, _)| !sheets.clone().any(|(f, s)| scope.matches(f, s)))
+            .map(|(scope, _)| scope.key.clone())
+            .collect()
+    }
+
     pub fn for_sheet(&self, file: &str, sheet: Option<&str>) -> ColumnOverrides {
         let mut out = ColumnOverrides {
             map: self.map.clone(),

@@ -79,10 +79,12 @@ impl Layout {
         }
         let wanted: Vec<&str> = self.missing.iter().map(|f| f.label()).collect();
         let unused: Vec<&Column> = self.columns.iter().filter(|c| c.field.is_none()).collect();
-        let mut m = format!(
-            "no column for the {}; every row is graded as missing it",
-            wanted.join(" or the ")
-        );
+        let (list, them) = match wanted.as_slice() {
+            [one] => ((*one).to_string(), "it"),
+            [rest @ .., last] => (format!("{} and the {last}", rest.join(", the ")), "them"),
+            [] => (String::new(), "it"),
+        };
+        let mut m = format!("no column for the {list}; every row is graded as missing {them}");
         if unused.is_empty() {
             return Some(m);
         }

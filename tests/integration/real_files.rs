@@ -184,6 +184,39 @@ fn two_columns_with_one_header_are_told_apart_by_letter() {
         "[columns.\"two-mass-columns.xlsx [Sheet1]\"]\n\"column C\" = \"crude_mass\"\n\"column D\" = \"recovered_mass\"\n",
     );
     let rows = grade(&f, &file, "out", &["--columns", "cols.toml"]);
+    // the same file named by another path still matches; a table that matches nothing is said
+    let dotted = format!("./{}", file.strip_prefix(project_root()).unwrap().display());
+    let run = crate::harness::run_in(
+        &project_root(),
+        &[
+            "check",
+            &dotted,
+            "--columns",
+            f.path("cols.toml").to_str().unwrap(),
+        ],
+    );
+    assert!(
+        !run.stdout.contains("not used: columns C and D"),
+        "{}",
+        run.stdout
+    );
+    f.write(
+        "typo.toml",
+        "[columns.\"two-mass-columns.xlsx [Sheet 9]\"]\n\"column C\" = \"crude_mass\"\n",
+    );
+    let run = f.run(&["check", file.to_str().unwrap(), "--columns", "typo.toml"]);
+    assert!(
+        run.stdout.contains("matched no file and sheet"),
+        "{}",
+        run.stdout
+    );
+    f.write("pos.toml", "[columns]\n\"column 3\" = \"crude_mass\"\n");
+    let run = f.run(&["check", file.to_str().unwrap(), "--columns", "pos.toml"]);
+    assert_eq!(
+        run.code, 2,
+        "a position that is not a column letter is refused"
+    );
+    assert!(run.stderr.contains("\"column C\""), "{}", run.stderr);
     // hand-worked in the fixture README: 1.904 / 2.512 = 75.80 %
     let r = by_id(&rows, "T-01");
     assert!((num(r, "recovery_pct").unwrap() - 100.0 * 1.904 / 2.512).abs() < 1e-9);
