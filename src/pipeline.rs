@@ -265,20 +265,7 @@ fn stream(
     });
     batch.sheets = collector.sheets;
     batch.problems.extend(collector.problems);
-    let read = batch
-        .sheets
-        .iter()
-        .map(|s| (s.source.as_str(), s.sheet.as_deref()));
-    for table in config.columns.unmatched_tables(read) {
-        batch.problems.push(Problem {
-            file: table.clone(),
-            sheet: None,
-            message: format!(
-                "the [columns.\"{table}\"] table matched no file and sheet read; name a file as given (or its name alone), a sheet as \"file [sheet]\""
-            ),
-            fatal: false,
-        });
-    }
+    batch.problems.extend(unmatched_tables(config, &batch.sheets));
     if let Some(cal) = &calibration {
         let seen = grader.assessor.apparatus_seen();
         batch.problems.extend(unused_calibration(cal, seen));
@@ -291,6 +278,24 @@ fn stream(
         return Err(ConfigError::Invalid(unmatched.join("\n")).into());
     }
     Ok(())
+}
+
+/// A note for each `[columns."file [sheet]"]` table that matched no sheet read.
+fn unmatched_tables(config: &Config, sheets: &[ingest::SheetReport]) -> Vec<Problem> {
+    let read = sheets.iter().map(|s| (s.source.as_str(), s.sheet.as_deref()));
+    config
+        .columns
+        .unmatched_tables(read)
+        .into_iter()
+        .map(|table| Problem {
+            message: format!(
+                "the [columns.\"{table}\"] table matched no file and sheet read; name a file as given (or its name alone), a sheet as \"file [sheet]\""
+            ),
+            file: table,
+            sheet: None,
+            fatal: false,
+        })
+        .collect()
 }
 
 /// The first pass: every section's median and MAD of recovery and depression, so that the
