@@ -265,7 +265,9 @@ fn stream(
     });
     batch.sheets = collector.sheets;
     batch.problems.extend(collector.problems);
-    batch.problems.extend(unmatched_tables(config, &batch.sheets));
+    batch
+        .problems
+        .extend(unmatched_tables(config, &batch.sheets));
     if let Some(cal) = &calibration {
         let seen = grader.assessor.apparatus_seen();
         batch.problems.extend(unused_calibration(cal, seen));
@@ -282,7 +284,9 @@ fn stream(
 
 /// A note for each `[columns."file [sheet]"]` table that matched no sheet read.
 fn unmatched_tables(config: &Config, sheets: &[ingest::SheetReport]) -> Vec<Problem> {
-    let read = sheets.iter().map(|s| (s.source.as_str(), s.sheet.as_deref()));
+    let read = sheets
+        .iter()
+        .map(|s| (s.source.as_str(), s.sheet.as_deref()));
     config
         .columns
         .unmatched_tables(read)

@@ -11,8 +11,8 @@
 use std::path::Path;
 
 use rust_xlsxwriter::{
-    Chart, ChartFont, ChartFormat, ChartSolidFill, ChartType, DocProperties, ExcelDateTime, Format,
-    FormatAlign, Workbook, Worksheet, XlsxError,
+    Chart, ChartAxisLabelPosition, ChartFont, ChartFormat, ChartSolidFill, ChartType,
+    DocProperties, ExcelDateTime, Format, FormatAlign, Workbook, Worksheet, XlsxError,
 };
 
 use super::atomic::Stage;
@@ -267,8 +267,13 @@ fn benches(wb: &mut Workbook, r: &Report, f: &Formats) -> Result<(), XlsxError> 
             .set_categories(("Benches", 2, 0, last, 0))
             .set_values(("Benches", 2, 2, last, 2));
         chart.legend().set_hidden();
-        chart.x_axis().set_name("bench");
-        chart.y_axis().set_name("°C; positive: reads high");
+        // drawn across: the values run along the bottom, the benches down the side, their
+        // labels at the left edge rather than on the zero line among the bars
+        chart.x_axis().set_name("°C; positive: reads high");
+        chart
+            .y_axis()
+            .set_name("bench")
+            .set_label_position(ChartAxisLabelPosition::Low);
         titled(
             &mut chart,
             "Median shift of each bench's clear points from the rest",
