@@ -17,6 +17,7 @@ pub mod numtext;
 pub mod pipeline;
 pub mod reference;
 pub mod rubric;
+pub mod serve;
 pub mod stats;
 
 pub use config::{Config, Options};
