@@ -23,8 +23,25 @@ struct Received {
     bytes: Vec<u8>,
 }
 
+/// Whether the upload failed because it passed the size limit: axum says so itself for its own
+/// limit, tower-http's shows as a `LengthLimitError` somewhere down the chain.
+fn too_large(e: &MultipartError) -> bool {
+    let mut cause: Option<&(dyn std::error::Error + 'static)> = Some(e);
+    while let Some(c) = cause {
+        if c.is::<http_body_util::LengthLimitError>() {
+            return true;
+        }
+        cause = c.source();
+    }
+    e.status() == StatusCode::PAYLOAD_TOO_LARGE
+}
+
 fn refused(e: &MultipartError, limit: usize) -> ApiError {
-    let status = e.status();
+    let status = if too_large(e) {
+        StatusCode::PAYLOAD_TOO_LARGE
+    } else {
+        e.status()
+    };
     let message = if status == StatusCode::PAYLOAD_TOO_LARGE {
         format!(
             "the upload is larger than the limit of {} MB; nothing was stored",

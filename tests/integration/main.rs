@@ -10,6 +10,7 @@
 
 mod bad_corpus;
 mod bad_input;
+mod browser;
 mod cohort;
 mod grading;
 mod harness;
@@ -21,4 +22,5 @@ mod reference_data;
 mod registry;
 mod reliability;
 mod sample_data;
+mod serve;
 mod workbooks;
