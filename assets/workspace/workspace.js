@@ -23,7 +23,7 @@ function el(tag, attrs, ...kids) {
     else if (k.startsWith('on')) e.addEventListener(k.slice(2), v);
     else e.setAttribute(k, v === true ? '' : String(v));
   }
-  for (const k of kids.flat()) {
+  for (const k of kids.flat(Infinity)) {
     if (k === null || k === undefined || k === false) continue;
     e.append(typeof k === 'string' || typeof k === 'number' ? document.createTextNode(String(k)) : k);
   }
@@ -279,7 +279,7 @@ function sheetBlock(sheet, n) {
       el('td', { class: 'letter' }, c.letter),
       el('th', { scope: 'row' }, el('label', { for: id }, '“' + c.header + '”')),
       el('td', {}, fieldSelect(sheet, c, id)),
-      el('td', { class: 'quiet' }, how, c.note ? el('span', { class: 'note' }, (how ? ' – ' : '') + c.note) : null),
+      el('td', { class: 'quiet' }, how, c.note ? el('span', { class: 'note' }, (how ? ' – ' : '') + pageWords(c.note)) : null),
       el('td', {}, mine ? el('button', { type: 'button', class: 'quiet-button', onclick: () => setMapping(sheet, c.letter, null) }, 'Undo') : null));
   });
   const title = sheet.file + (sheet.sheet ? ` · sheet “${sheet.sheet}”` : '');
@@ -290,6 +290,12 @@ function sheetBlock(sheet, n) {
       el('thead', {}, el('tr', {}, el('th', { scope: 'col' }, 'Column'), el('th', { scope: 'col' }, 'Header as written'),
         el('th', { scope: 'col' }, 'Read as'), el('th', { scope: 'col' }, 'How'), el('th', { scope: 'col' }, el('span', { class: 'visually-hidden' }, 'Undo')))),
       el('tbody', {}, rows)));
+}
+
+// The run's notes name the command line's way to map a column; on the page it is the list.
+function pageWords(note) {
+  return note.replace(/; say which in a --columns file: .*$/, '; choose which in the list')
+    .replace(/; say which holds it in a --columns file.*$/, '; choose in the list which one holds it');
 }
 
 function fieldLabel(k) {
@@ -388,9 +394,11 @@ function studentRow(r) {
   const kind = standing(r);
   const selected = page.selected === key(r);
   const notes = (r.flag_notes || []).map((n, i) => {
-    const code = (r.flags || [])[i];
+    const code = (r.flags || [])[i] || '';
     const k = IMPOSSIBLE.has(code) ? 'impossible' : 'suspicious';
-    return el('li', {}, el('span', { class: 'mark small ' + k, 'aria-hidden': 'true', text: MARK[k] }), ' ', n);
+    const why = n.startsWith(code + ': ') ? n.slice(code.length) : ': ' + n;
+    return el('li', {}, el('span', { class: 'mark small ' + k, 'aria-hidden': 'true', text: MARK[k] }), ' ',
+      el('span', { class: 'code' }, code), el('span', { class: 'reason' }, why));
   });
   return el('tr', { class: kind + (selected ? ' selected' : ''), 'data-key': key(r) },
     el('td', { class: 'markcell' }, marker(kind)),

@@ -164,7 +164,11 @@ pub async fn list_files(State(app): State<Arc<App>>) -> Reply {
     let listed: Vec<Value> = files
         .iter()
         .map(|f| {
-            let problems: Vec<_> = outcome.problems.iter().filter(|p| p.file == f.name).collect();
+            let problems: Vec<_> = outcome
+                .problems
+                .iter()
+                .filter(|p| p.file == f.name)
+                .collect();
             let sheets: Vec<Value> = outcome
                 .sheets
                 .iter()
@@ -195,7 +199,11 @@ pub async fn delete_file(State(app): State<Arc<App>>, UrlPath(name): UrlPath<Str
             ApiError::new(StatusCode::NOT_FOUND, "name", "no such file in inputs/")
         })?;
         std::fs::remove_file(path).map_err(|e| {
-            ApiError::new(StatusCode::INTERNAL_SERVER_ERROR, "name", format!("cannot remove it: {e}"))
+            ApiError::new(
+                StatusCode::INTERNAL_SERVER_ERROR,
+                "name",
+                format!("cannot remove it: {e}"),
+            )
         })
     })
     .await?;
@@ -249,18 +257,23 @@ pub async fn put_columns(State(app): State<Arc<App>>, body: Bytes) -> Reply {
         ApiError::new(
             StatusCode::UNPROCESSABLE_ENTITY,
             "columns",
-            format!("expected {{\"columns\": {{\"header or column letter\": \"field\", ...}}}}: {e}"),
+            format!(
+                "expected {{\"columns\": {{\"header or column letter\": \"field\", ...}}}}: {e}"
+            ),
         )
     })?;
     ColumnOverrides::from_table(&doc.columns)
         .map_err(|m| ApiError::new(StatusCode::UNPROCESSABLE_ENTITY, "columns", m))?;
-    let text = toml::to_string(&doc).map_err(|e| {
-        ApiError::new(StatusCode::UNPROCESSABLE_ENTITY, "columns", e.to_string())
-    })?;
+    let text = toml::to_string(&doc)
+        .map_err(|e| ApiError::new(StatusCode::UNPROCESSABLE_ENTITY, "columns", e.to_string()))?;
     let text = format!("# Column mappings for the sheets in inputs/, as for `benchgrade grade --columns`.\n# Written by the workspace page; edits made by hand are picked up.\n{text}");
     let ((), revision) = edit(&app, move || {
         write_atomically(std::path::Path::new(COLUMNS), text.as_bytes()).map_err(|e| {
-            ApiError::new(StatusCode::INTERNAL_SERVER_ERROR, "columns", format!("cannot write {COLUMNS}: {e}"))
+            ApiError::new(
+                StatusCode::INTERNAL_SERVER_ERROR,
+                "columns",
+                format!("cannot write {COLUMNS}: {e}"),
+            )
         })
     })
     .await?;
@@ -323,17 +336,30 @@ fn known_student(records: &[Value], id: &str, section: Option<&str>) -> Result<(
     if found {
         return Ok(());
     }
-    let where_ = section.map(|s| format!(" in section {s}")).unwrap_or_default();
+    let where_ = section
+        .map(|s| format!(" in section {s}"))
+        .unwrap_or_default();
     Err(Invalid {
-        field: if section.is_some() { "section" } else { "student_id" },
+        field: if section.is_some() {
+            "section"
+        } else {
+            "student_id"
+        },
         message: format!("no graded submission has this student id{where_}; check the id"),
     })
 }
 
 /// `POST /api/overrides`: checks an override as `--overrides` would and adds it to the file.
-pub async fn post_override(State(app): State<Arc<App>>, body: Bytes) -> Result<(StatusCode, Json<Value>), ApiError> {
+pub async fn post_override(
+    State(app): State<Arc<App>>,
+    body: Bytes,
+) -> Result<(StatusCode, Json<Value>), ApiError> {
     let form: OverrideForm = serde_json::from_slice(&body).map_err(|e| {
-        ApiError::new(StatusCode::UNPROCESSABLE_ENTITY, "body", format!("expected an override as JSON: {e}"))
+        ApiError::new(
+            StatusCode::UNPROCESSABLE_ENTITY,
+            "body",
+            format!("expected an override as JSON: {e}"),
+        )
     })?;
     // the student is looked for in a run that has read every change made so far
     let current = app.grader.state().revision;
@@ -357,7 +383,10 @@ pub async fn post_override(State(app): State<Arc<App>>, body: Bytes) -> Result<(
         overrides_file::add(&typed, &criteria).map_err(ApiError::invalid)
     })
     .await?;
-    Ok((StatusCode::CREATED, Json(json!({"line": line, "revision": revision}))))
+    Ok((
+        StatusCode::CREATED,
+        Json(json!({"line": line, "revision": revision})),
+    ))
 }
 
 /// `DELETE /api/overrides/{line}`: takes out the override on that line of overrides.csv.
@@ -368,7 +397,11 @@ pub async fn delete_override(State(app): State<Arc<App>>, UrlPath(line): UrlPath
     })
     .await?;
     if !removed {
-        return Err(ApiError::new(StatusCode::NOT_FOUND, "line", format!("no override on line {line} of overrides.csv")));
+        return Err(ApiError::new(
+            StatusCode::NOT_FOUND,
+            "line",
+            format!("no override on line {line} of overrides.csv"),
+        ));
     }
     Ok(Json(json!({"revision": revision})))
 }

@@ -233,7 +233,8 @@ fn settle(out: &mut Outcome, result: std::thread::Result<Result<Batch, RunError>
             out.records = read_records().unwrap_or_default();
         }
         Err(_) => {
-            out.error = Some("internal error while grading (a bug); the previous outputs are kept".into());
+            out.error =
+                Some("internal error while grading (a bug); the previous outputs are kept".into());
             out.records = read_records().unwrap_or_default();
         }
     }
@@ -265,9 +266,10 @@ fn criteria(rubric: &Rubric) -> Vec<CriterionInfo> {
 
 /// A file as `GET /api/files` names it: relative to inputs/.
 pub fn input_name(source: &str) -> String {
-    Path::new(source)
-        .strip_prefix(INPUTS)
-        .map_or_else(|_| source.to_string(), |p| p.to_string_lossy().replace('\\', "/"))
+    Path::new(source).strip_prefix(INPUTS).map_or_else(
+        |_| source.to_string(),
+        |p| p.to_string_lossy().replace('\\', "/"),
+    )
 }
 
 fn file_problem(p: &Problem) -> FileProblem {

@@ -6,6 +6,7 @@
 //! given, compared in constant time. Responses forbid framing, sniffing, caching and every
 //! network source but the server itself (Content-Security-Policy).
 
+use std::fmt::Write as _;
 use std::sync::Arc;
 
 use axum::extract::{Request, State};
@@ -30,7 +31,11 @@ impl Token {
     pub fn new() -> Result<Token, getrandom::Error> {
         let mut bytes = [0u8; 32];
         getrandom::fill(&mut bytes)?;
-        Ok(Token(bytes.iter().map(|b| format!("{b:02x}")).collect()))
+        let hex = bytes.iter().fold(String::with_capacity(64), |mut s, b| {
+            let _ = write!(s, "{b:02x}");
+            s
+        });
+        Ok(Token(hex))
     }
 
     pub fn as_str(&self) -> &str {
@@ -178,7 +183,10 @@ mod tests {
             HeaderValue::from_static("a=1; benchgrade-session=abc; b=2"),
         );
         assert_eq!(cookie(&h), Some("abc"));
-        h.insert(header::COOKIE, HeaderValue::from_static("xbenchgrade-session=abc"));
+        h.insert(
+            header::COOKIE,
+            HeaderValue::from_static("xbenchgrade-session=abc"),
+        );
         assert_eq!(cookie(&h), None);
     }
 }

@@ -47,7 +47,13 @@ fn kind(name: &str) -> (&'static str, bool) {
 fn disposition(how: &str, name: &str) -> String {
     let plain: String = name
         .chars()
-        .map(|c| if c.is_ascii_alphanumeric() || ".-_".contains(c) { c } else { '_' })
+        .map(|c| {
+            if c.is_ascii_alphanumeric() || ".-_".contains(c) {
+                c
+            } else {
+                '_'
+            }
+        })
         .collect();
     let encoded: String = name
         .bytes()
@@ -70,11 +76,15 @@ pub async fn get(
 ) -> Result<Response, ApiError> {
     let ws = app.ws.clone();
     let wanted = name.clone();
-    let bytes = blocking(move || ws.output_path(&wanted).map(|p| std::fs::read(p)))
+    let bytes = blocking(move || ws.output_path(&wanted).map(std::fs::read))
         .await?
         .ok_or_else(|| ApiError::new(StatusCode::NOT_FOUND, "name", "no such output in graded/"))?
         .map_err(|e| {
-            ApiError::new(StatusCode::INTERNAL_SERVER_ERROR, "name", format!("cannot read it: {e}"))
+            ApiError::new(
+                StatusCode::INTERNAL_SERVER_ERROR,
+                "name",
+                format!("cannot read it: {e}"),
+            )
         })?;
     let (content_type, viewable) = kind(&name);
     let view = viewable && q.view.is_some();

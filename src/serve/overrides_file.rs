@@ -119,7 +119,8 @@ impl Lines {
         for (_, r) in &self.records {
             w.write_record(r).map_err(fail)?;
         }
-        w.into_inner().map_err(|e| format!("cannot write {OVERRIDES}: {e}"))
+        w.into_inner()
+            .map_err(|e| format!("cannot write {OVERRIDES}: {e}"))
     }
 }
 
@@ -190,7 +191,10 @@ pub fn remove(line: usize, criteria: &[String]) -> Result<bool, Invalid> {
     // a line without a student is a blank or a note, never an override
     let id = position(&lines.header, COLUMNS[0].1);
     lines.records.retain(|(l, r)| {
-        *l != line || id.and_then(|c| r.get(c)).is_none_or(|s| s.trim().is_empty())
+        *l != line
+            || id
+                .and_then(|c| r.get(c))
+                .is_none_or(|s| s.trim().is_empty())
     });
     if lines.records.len() == before {
         return Ok(false);

@@ -48,7 +48,10 @@ fn refused(e: &MultipartError, limit: usize) -> ApiError {
             limit / (1024 * 1024)
         )
     } else {
-        format!("the upload could not be read ({}); nothing was stored", e.body_text())
+        format!(
+            "the upload could not be read ({}); nothing was stored",
+            e.body_text()
+        )
     };
     ApiError::new(status, "file", message)
 }
@@ -56,7 +59,11 @@ fn refused(e: &MultipartError, limit: usize) -> ApiError {
 /// Every `file` field of the request, checked; other fields are passed over.
 async fn receive(multipart: &mut Multipart, limit: usize) -> Result<Vec<Received>, ApiError> {
     let mut files: Vec<Received> = Vec::new();
-    while let Some(field) = multipart.next_field().await.map_err(|e| refused(&e, limit))? {
+    while let Some(field) = multipart
+        .next_field()
+        .await
+        .map_err(|e| refused(&e, limit))?
+    {
         if field.name() != Some("file") {
             continue;
         }

@@ -15,7 +15,7 @@ use serde_json::{json, Value};
 use crate::harness::{outside_program, project_root, read_results, Fixture};
 use crate::serve::Server;
 
-const ELEMENT: &str = "element-6066-11e4-a52e-4f735466cecc";
+const ELEMENT: &str = "element-6066-11e4-a52e-4f735466cecf";
 
 fn found(program: &str) -> bool {
     Command::new(program)
@@ -26,7 +26,9 @@ fn found(program: &str) -> bool {
 
 /// Chromium and its driver, if both are installed.
 fn browser() -> Option<(&'static str, &'static str)> {
-    let chromium = ["chromium", "chromium-browser"].into_iter().find(|c| found(c));
+    let chromium = ["chromium", "chromium-browser"]
+        .into_iter()
+        .find(|c| found(c));
     let driver = ["chromedriver"].into_iter().find(|c| found(c));
     outside_program(
         chromium.zip(driver),
@@ -74,7 +76,10 @@ impl Driver {
             agent,
             shots: std::env::var_os("BENCHGRADE_SCREENSHOTS").map(PathBuf::from),
         };
-        let ready = until(30, || d.raw("GET", "/status", None).is_some_and(|v| v["ready"] == true));
+        let ready = until(30, || {
+            d.raw("GET", "/status", None)
+                .is_some_and(|v| v["ready"] == true)
+        });
         assert!(ready, "chromedriver did not start");
         let binary = which(chromium);
         let caps = json!({"capabilities": {"alwaysMatch": {
@@ -86,7 +91,10 @@ impl Driver {
             }
         }}});
         let v = d.raw("POST", "/session", Some(caps)).expect("a session");
-        d.session = v["sessionId"].as_str().unwrap_or_else(|| panic!("{v}")).to_string();
+        d.session = v["sessionId"]
+            .as_str()
+            .unwrap_or_else(|| panic!("{v}"))
+            .to_string();
         let _ = d.raw(
             "POST",
             &format!("/session/{}/goog/cdp/execute", d.session),
@@ -111,7 +119,11 @@ impl Driver {
 
     fn cmd(&self, method: &str, path: &str, body: Value) -> Value {
         let v = self
-            .raw(method, &format!("/session/{}{path}", self.session), Some(body))
+            .raw(
+                method,
+                &format!("/session/{}{path}", self.session),
+                Some(body),
+            )
             .expect("chromedriver answers");
         assert!(v.get("error").is_none(), "{method} {path}: {v}");
         v
@@ -122,8 +134,15 @@ impl Driver {
     }
 
     fn find(&self, css: &str) -> String {
-        let v = self.cmd("POST", "/element", json!({"using": "css selector", "value": css}));
-        v[ELEMENT].as_str().unwrap().to_string()
+        let v = self.cmd(
+            "POST",
+            "/element",
+            json!({"using": "css selector", "value": css}),
+        );
+        v[ELEMENT]
+            .as_str()
+            .unwrap_or_else(|| panic!("{css}: {v}"))
+            .to_string()
     }
 
     fn click(&self, css: &str) {
@@ -133,7 +152,11 @@ impl Driver {
 
     fn type_into(&self, css: &str, text: &str) {
         let e = self.find(css);
-        self.cmd("POST", &format!("/element/{e}/value"), json!({"text": text}));
+        self.cmd(
+            "POST",
+            &format!("/element/{e}/value"),
+            json!({"text": text}),
+        );
     }
 
     fn script(&self, js: &str) -> Value {
@@ -148,7 +171,11 @@ impl Driver {
     fn screenshot(&self, name: &str) {
         let Some(dir) = &self.shots else { return };
         let v = self
-            .raw("GET", &format!("/session/{}/screenshot", self.session), None)
+            .raw(
+                "GET",
+                &format!("/session/{}/screenshot", self.session),
+                None,
+            )
             .unwrap();
         let png = base64::engine::general_purpose::STANDARD
             .decode(v.as_str().unwrap())
@@ -204,7 +231,11 @@ fn the_workspace_page_grades_a_class_in_chromium() {
     let d = Driver::start(chromium, driver, &downloads);
     d.go(&server.url);
     assert!(d.wait(30, "return document.getElementById('run-state').textContent.length > 0 && !!document.getElementById('file-input')"));
-    assert_eq!(d.script("return location.search"), "", "the token leaves the address bar");
+    assert_eq!(
+        d.script("return location.search"),
+        "",
+        "the token leaves the address bar"
+    );
     d.screenshot("1-empty");
 
     // 1. the sample class, and a student with a hostile name, through the file input
@@ -229,14 +260,20 @@ fn the_workspace_page_grades_a_class_in_chromium() {
     let stored = std::fs::read_dir(ws.join("inputs")).unwrap().count();
     assert_eq!(stored, paths.len(), "every file uploaded");
     let names = d.script("return Array.from(document.querySelectorAll('#student-rows td.name')).map(td => td.textContent)");
-    assert!(names.as_array().unwrap().iter().any(|n| n == HOSTILE), "the name shows as text: {names}");
+    assert!(
+        names.as_array().unwrap().iter().any(|n| n == HOSTILE),
+        "the name shows as text: {names}"
+    );
     let made = d.script("return document.querySelectorAll('img, [onerror]').length");
     assert_eq!(made, 0, "no element was made of the name");
     // every flagged row carries a marker, not only a colour
     let unmarked = d.script("return Array.from(document.querySelectorAll('#student-rows tr.impossible, #student-rows tr.suspicious')).filter(tr => !/[!?]/.test(tr.querySelector('.mark') ? tr.querySelector('.mark').textContent : '')).length");
     assert_eq!(unmarked, 0);
     // readable at 1280x800: nothing wider than the window
-    assert_eq!(d.script("return document.documentElement.scrollWidth <= window.innerWidth"), true);
+    assert_eq!(
+        d.script("return document.documentElement.scrollWidth <= window.innerWidth"),
+        true
+    );
     // every control has a name a screen reader can say
     let nameless = d.script("return Array.from(document.querySelectorAll('input, select, textarea, button')).filter(e => !(e.labels && e.labels.length) && !e.getAttribute('aria-label') && !e.textContent.trim()).map(e => e.outerHTML)");
     assert_eq!(nameless, json!([]), "controls without a label");
@@ -246,27 +283,49 @@ fn the_workspace_page_grades_a_class_in_chromium() {
     assert!(d.wait(10, "return !document.getElementById('detail').hidden"));
     let heading = d.script("return document.getElementById('detail-h').textContent");
     assert!(heading.as_str().unwrap().contains(HOSTILE), "{heading}");
-    assert_eq!(d.script("return document.querySelectorAll('img, [onerror]').length"), 0);
+    assert_eq!(
+        d.script("return document.querySelectorAll('img, [onerror]').length"),
+        0
+    );
     d.click("#detail-close");
 
     // 3. an override through the form, on a flagged student
     let id = d.script("const tr = Array.from(document.querySelectorAll('#student-rows tr.impossible')).find(tr => !tr.textContent.includes('duplicate') && !tr.textContent.includes('X90')); return tr.querySelector('th button').textContent");
     let id = id.as_str().unwrap().to_string();
     d.click(&format!("#student-rows button[aria-label='Open {id}']"));
-    assert!(d.wait(10, "return document.activeElement && document.activeElement.id === 'detail-h'"), "focus moves to the student");
+    assert!(
+        d.wait(
+            10,
+            "return document.activeElement && document.activeElement.id === 'detail-h'"
+        ),
+        "focus moves to the student"
+    );
     d.screenshot("3-student");
     d.click("#o-criterion option[value='total']");
     d.click("input[name='mode'][value='points']");
     d.type_into("#o-value", "88");
     d.type_into("#o-reason", "mass re-weighed with the assistant present");
     d.click("#override-form button[type='submit']");
-    assert!(d.wait(10, "return document.getElementById('o-grader-error').textContent.length > 0"), "the grader's name is asked for");
-    assert_eq!(d.script("return document.activeElement.id"), "o-grader", "focus goes to the field at fault");
+    assert!(
+        d.wait(
+            10,
+            "return document.getElementById('o-grader-error').textContent.length > 0"
+        ),
+        "the grader's name is asked for"
+    );
+    assert_eq!(
+        d.script("return document.activeElement.id"),
+        "o-grader",
+        "focus goes to the field at fault"
+    );
     d.screenshot("4-override-refused");
     d.type_into("#o-grader", "K. Demir");
     d.click("#override-form button[type='submit']");
     assert!(
-        d.wait(60, "return document.getElementById('override-message').textContent.includes('applied')"),
+        d.wait(
+            60,
+            "return document.getElementById('override-message').textContent.includes('applied')"
+        ),
         "the override is saved and graded"
     );
     let total = d.script("return document.querySelector('#detail-body tr.total td').textContent");
@@ -276,7 +335,11 @@ fn the_workspace_page_grades_a_class_in_chromium() {
     // 4. the gradebook, downloaded through its link, holds the override
     d.click("#output-list a[download='gradebook.csv']");
     let file = downloads.join("gradebook.csv");
-    assert!(until(30, || file.is_file() && std::fs::read(&file).is_ok_and(|b| !b.is_empty())), "gradebook.csv downloaded");
+    assert!(
+        until(30, || file.is_file()
+            && std::fs::read(&file).is_ok_and(|b| !b.is_empty())),
+        "gradebook.csv downloaded"
+    );
     let rows = read_results(&file);
     let row = rows.iter().find(|r| r["student_id"] == id).unwrap();
     assert_eq!(row["score"], "88");

@@ -93,7 +93,11 @@ impl Server {
         let auth = format!("Bearer {}", self.token);
         let resp = match (method, body) {
             ("GET", _) => self.agent.get(&url).header("Authorization", &auth).call(),
-            ("DELETE", _) => self.agent.delete(&url).header("Authorization", &auth).call(),
+            ("DELETE", _) => self
+                .agent
+                .delete(&url)
+                .header("Authorization", &auth)
+                .call(),
             ("POST", None) => self
                 .agent
                 .post(&url)
@@ -244,27 +248,72 @@ fn serve_opens_only_with_the_token() {
         .build()
         .into();
     let base = server.base();
-    let status = |r: Result<ureq::http::Response<ureq::Body>, ureq::Error>| r.unwrap().status().as_u16();
+    let status =
+        |r: Result<ureq::http::Response<ureq::Body>, ureq::Error>| r.unwrap().status().as_u16();
     assert_eq!(status(agent.get(format!("{base}/api/files")).call()), 401);
     let wrong = format!("Bearer {}", "0".repeat(64));
-    assert_eq!(status(agent.get(format!("{base}/api/files")).header("Authorization", &wrong).call()), 401);
+    assert_eq!(
+        status(
+            agent
+                .get(format!("{base}/api/files"))
+                .header("Authorization", &wrong)
+                .call()
+        ),
+        401
+    );
     let short = format!("Bearer {}", &server.token[..32]);
-    assert_eq!(status(agent.get(format!("{base}/api/files")).header("Authorization", &short).call()), 401);
-    assert_eq!(status(agent.post(format!("{base}/api/grade")).send_empty()), 401);
-    assert_eq!(status(agent.get(format!("{base}/")).call()), 401, "the page itself is locked");
+    assert_eq!(
+        status(
+            agent
+                .get(format!("{base}/api/files"))
+                .header("Authorization", &short)
+                .call()
+        ),
+        401
+    );
+    assert_eq!(
+        status(agent.post(format!("{base}/api/grade")).send_empty()),
+        401
+    );
+    assert_eq!(
+        status(agent.get(format!("{base}/")).call()),
+        401,
+        "the page itself is locked"
+    );
     assert_eq!(server.call("GET", "/api/files", None).0, 200);
     // the page's address exchanges the token for a cookie and sends the browser on
     let r = agent.get(&server.url).call().unwrap();
     assert_eq!(r.status().as_u16(), 303);
     assert_eq!(r.headers()["location"], "/");
     let cookie = r.headers()["set-cookie"].to_str().unwrap().to_string();
-    assert!(cookie.contains("HttpOnly") && cookie.contains("SameSite=Strict"), "{cookie}");
+    assert!(
+        cookie.contains("HttpOnly") && cookie.contains("SameSite=Strict"),
+        "{cookie}"
+    );
     let pair = cookie.split(';').next().unwrap().to_string();
-    let page = agent.get(format!("{base}/")).header("Cookie", &pair).call().unwrap();
+    let page = agent
+        .get(format!("{base}/"))
+        .header("Cookie", &pair)
+        .call()
+        .unwrap();
     assert_eq!(page.status().as_u16(), 200);
-    let policy = page.headers()["content-security-policy"].to_str().unwrap().to_string();
-    assert!(policy.contains("default-src 'none'") && policy.contains("script-src 'self'"), "{policy}");
-    assert_eq!(status(agent.get(format!("{base}/api/files")).header("Cookie", &pair).call()), 200);
+    let policy = page.headers()["content-security-policy"]
+        .to_str()
+        .unwrap()
+        .to_string();
+    assert!(
+        policy.contains("default-src 'none'") && policy.contains("script-src 'self'"),
+        "{policy}"
+    );
+    assert_eq!(
+        status(
+            agent
+                .get(format!("{base}/api/files"))
+                .header("Cookie", &pair)
+                .call()
+        ),
+        200
+    );
     let bad = agent.get(format!("{base}/?token=nope")).call().unwrap();
     assert_eq!(bad.status().as_u16(), 401);
     assert!(bad.headers().get("set-cookie").is_none());
@@ -289,7 +338,13 @@ fn serve_answers_only_its_own_host_and_origin() {
         raw(p, &format!("POST /api/grade HTTP/1.1\r\nHost: 127.0.0.1:{p}\r\nAuthorization: Bearer {t}\r\n{extra}Content-Length: 0\r\nConnection: close\r\n\r\n"), b"").0
     };
     assert_eq!(post("Origin: http://elsewhere.example\r\n"), 403);
-    assert_eq!(post(&format!("Origin: http://127.0.0.1:{}\r\n", p.wrapping_add(1))), 403);
+    assert_eq!(
+        post(&format!(
+            "Origin: http://127.0.0.1:{}\r\n",
+            p.wrapping_add(1)
+        )),
+        403
+    );
     assert_eq!(post("Origin: null\r\n"), 403);
     assert_eq!(post("Sec-Fetch-Site: cross-site\r\n"), 403);
     assert_eq!(post(&format!("Origin: http://127.0.0.1:{p}\r\n")), 200);
@@ -325,7 +380,11 @@ fn uploads_past_the_limit_are_refused_and_change_nothing() {
     let (code, text) = raw(server.port, &format!("POST /api/files HTTP/1.1\r\nHost: 127.0.0.1:{}\r\nAuthorization: Bearer {}\r\nContent-Type: {content_type}\r\nTransfer-Encoding: chunked\r\nConnection: close\r\n\r\n", server.port, server.token), &chunked);
     assert_eq!(code, 413, "{text}");
     assert!(text.contains("nothing was stored"), "{text}");
-    assert_eq!(tree(&ws), before, "a refused upload leaves the workspace as it was");
+    assert_eq!(
+        tree(&ws),
+        before,
+        "a refused upload leaves the workspace as it was"
+    );
 }
 
 #[test]
@@ -336,24 +395,44 @@ fn names_stay_inside_inputs_and_only_spreadsheets_are_taken() {
     let csv = crate::harness::class_csv(6, 1);
     let before = tree(&ws);
     // one bad file refuses the whole upload
-    let (status, body) = server.upload(&[("good.csv", csv.as_bytes()), ("run-me.sh", b"echo hi\n")]);
+    let (status, body) =
+        server.upload(&[("good.csv", csv.as_bytes()), ("run-me.sh", b"echo hi\n")]);
     assert_eq!(status, 415, "{body}");
     assert_eq!(body["field"], "file");
-    assert!(body["error"].as_str().unwrap().contains("run-me.sh"), "{body}");
+    assert!(
+        body["error"].as_str().unwrap().contains("run-me.sh"),
+        "{body}"
+    );
     let (status, _) = server.upload(&[("empty.csv", b"")]);
     assert_eq!(status, 422);
     assert_eq!(tree(&ws), before);
-    let (status, body) = server.upload(&[("../../x.csv", csv.as_bytes()), ("..\\..\\y.tsv", b"a\tb\n")]);
+    let (status, body) = server.upload(&[
+        ("../../x.csv", csv.as_bytes()),
+        ("..\\..\\y.tsv", b"a\tb\n"),
+    ]);
     assert_eq!(status, 201, "{body}");
     assert_eq!(body["stored"], json!(["x.csv", "y.tsv"]));
     assert!(ws.join("inputs/x.csv").is_file() && ws.join("inputs/y.tsv").is_file());
     assert!(!f.path("x.csv").exists() && !ws.join("x.csv").exists());
     let listed = server.get("/api/files");
-    let names: Vec<&str> = listed["files"].as_array().unwrap().iter().map(|f| f["name"].as_str().unwrap()).collect();
+    let names: Vec<&str> = listed["files"]
+        .as_array()
+        .unwrap()
+        .iter()
+        .map(|f| f["name"].as_str().unwrap())
+        .collect();
     assert_eq!(names, ["x.csv", "y.tsv"]);
     // deleting names only files in inputs/
-    assert_eq!(server.call("DELETE", "/api/files/..%2Fcolumns.toml", None).0, 404);
-    assert_eq!(server.call("DELETE", "/api/files/../columns.toml", None).0, 404);
+    assert_eq!(
+        server
+            .call("DELETE", "/api/files/..%2Fcolumns.toml", None)
+            .0,
+        404
+    );
+    assert_eq!(
+        server.call("DELETE", "/api/files/../columns.toml", None).0,
+        404
+    );
     assert!(ws.join("columns.toml").is_file());
     assert_eq!(server.call("DELETE", "/api/files/y.tsv", None).0, 200);
     assert!(!ws.join("inputs/y.tsv").exists());
@@ -369,7 +448,19 @@ fn upload_grade_and_results_are_the_command_lines() {
     assert_eq!(status, 200, "{run}");
     assert!(run["error"].is_null(), "{run}");
     // the same command run by hand in the workspace writes the same records
-    let cli = run_in(&ws, &["grade", "inputs", "--columns", "columns.toml", "--overrides", "overrides.csv", "--out", "by-hand"]);
+    let cli = run_in(
+        &ws,
+        &[
+            "grade",
+            "inputs",
+            "--columns",
+            "columns.toml",
+            "--overrides",
+            "overrides.csv",
+            "--out",
+            "by-hand",
+        ],
+    );
     assert!(cli.code <= 1, "{}", cli.stderr);
     for name in ["results.csv", "gradebook.csv", "section-stats.csv"] {
         assert_eq!(
@@ -379,23 +470,49 @@ fn upload_grade_and_results_are_the_command_lines() {
         );
     }
     let by_hand = read_results(&ws.join("by-hand/results.csv"));
-    assert_eq!(run["summary"]["submissions"].as_u64().unwrap() as usize, by_hand.len());
+    assert_eq!(
+        run["summary"]["submissions"].as_u64().unwrap() as usize,
+        by_hand.len()
+    );
     let results = server.get("/api/results");
     let records = results["records"].as_array().unwrap();
     assert_eq!(records.len(), by_hand.len());
-    let json: Value = serde_json::from_slice(&std::fs::read(ws.join("graded/results.json")).unwrap()).unwrap();
-    assert_eq!(&json["records"], &results["records"], "results.json's records, field for field");
+    let json: Value =
+        serde_json::from_slice(&std::fs::read(ws.join("graded/results.json")).unwrap()).unwrap();
+    assert_eq!(
+        &json["records"], &results["records"],
+        "results.json's records, field for field"
+    );
     // each problem the run reported stands beside its file, in words
     let files = server.get("/api/files");
     for p in run["problems"].as_array().unwrap() {
-        let file = files["files"].as_array().unwrap().iter().find(|f| f["name"] == p["file"]).unwrap_or_else(|| panic!("{p} beside no file"));
+        let file = files["files"]
+            .as_array()
+            .unwrap()
+            .iter()
+            .find(|f| f["name"] == p["file"])
+            .unwrap_or_else(|| panic!("{p} beside no file"));
         assert!(file["problems"].as_array().unwrap().contains(p));
         assert!(p["message"].as_str().unwrap().contains(' '));
     }
-    assert!(!run["problems"].as_array().unwrap().is_empty(), "the sample's Instructions sheet is a note");
+    assert!(
+        !run["problems"].as_array().unwrap().is_empty(),
+        "the sample's Instructions sheet is a note"
+    );
     let outputs = server.get("/api/outputs");
-    let names: Vec<&str> = outputs["outputs"].as_array().unwrap().iter().map(|o| o["name"].as_str().unwrap()).collect();
-    for want in ["gradebook.csv", "results.csv", "results.json", "cohort-report.html", "section-01-graded.xlsx"] {
+    let names: Vec<&str> = outputs["outputs"]
+        .as_array()
+        .unwrap()
+        .iter()
+        .map(|o| o["name"].as_str().unwrap())
+        .collect();
+    for want in [
+        "gradebook.csv",
+        "results.csv",
+        "results.json",
+        "cohort-report.html",
+        "section-01-graded.xlsx",
+    ] {
         assert!(names.contains(&want), "{want} in {names:?}");
     }
     for name in &names {
@@ -403,9 +520,19 @@ fn upload_grade_and_results_are_the_command_lines() {
         assert_eq!(status, 200, "{name}");
     }
     let agent = ureq::agent();
-    let mut r = agent.get(format!("{}/api/outputs/gradebook.csv", server.base())).header("Authorization", format!("Bearer {}", server.token)).call().unwrap();
-    assert!(r.headers()["content-disposition"].to_str().unwrap().starts_with("attachment"));
-    assert_eq!(r.body_mut().read_to_vec().unwrap(), std::fs::read(ws.join("graded/gradebook.csv")).unwrap());
+    let mut r = agent
+        .get(format!("{}/api/outputs/gradebook.csv", server.base()))
+        .header("Authorization", format!("Bearer {}", server.token))
+        .call()
+        .unwrap();
+    assert!(r.headers()["content-disposition"]
+        .to_str()
+        .unwrap()
+        .starts_with("attachment"));
+    assert_eq!(
+        r.body_mut().read_to_vec().unwrap(),
+        std::fs::read(ws.join("graded/gradebook.csv")).unwrap()
+    );
 }
 
 #[test]
@@ -438,18 +565,45 @@ fn an_override_is_checked_as_the_command_line_checks_it_and_regraded() {
         assert_eq!(err["field"], field, "{err}");
         assert!(err["error"].as_str().unwrap().len() > 10);
     }
-    assert_eq!(std::fs::read_to_string(ws.join("overrides.csv")).unwrap(), "student_id,section,criterion,points,adjust,reason,grader\n", "a refused override writes nothing");
+    assert_eq!(
+        std::fs::read_to_string(ws.join("overrides.csv")).unwrap(),
+        "student_id,section,criterion,points,adjust,reason,grader\n",
+        "a refused override writes nothing"
+    );
     let (status, made) = post(base.clone());
     assert_eq!(status, 201, "{made}");
     let after = server.results_after(made["revision"].as_u64().unwrap());
     let changed = record(&after, "2026101");
-    assert_eq!(changed["score"].as_f64().unwrap(), 77.0, "the total set by the override");
-    assert!(changed["overrides"][0].as_str().unwrap().contains("K. Demir"), "{changed}");
+    assert_eq!(
+        changed["score"].as_f64().unwrap(),
+        77.0,
+        "the total set by the override"
+    );
+    assert!(
+        changed["overrides"][0]
+            .as_str()
+            .unwrap()
+            .contains("K. Demir"),
+        "{changed}"
+    );
     let gradebook = read_results(&ws.join("graded/gradebook.csv"));
-    let row = gradebook.iter().find(|r| r["student_id"] == "2026101").unwrap();
+    let row = gradebook
+        .iter()
+        .find(|r| r["student_id"] == "2026101")
+        .unwrap();
     assert_eq!(row["score"], "77");
     // the file is one the command line reads
-    let cli = run_in(&ws, &["check", "inputs", "--overrides", "overrides.csv", "--columns", "columns.toml"]);
+    let cli = run_in(
+        &ws,
+        &[
+            "check",
+            "inputs",
+            "--overrides",
+            "overrides.csv",
+            "--columns",
+            "columns.toml",
+        ],
+    );
     assert!(cli.code <= 1, "{}", cli.stderr);
     let listed = server.get("/api/overrides");
     let line = listed["overrides"][0]["line"].as_u64().unwrap();
@@ -458,7 +612,10 @@ fn an_override_is_checked_as_the_command_line_checks_it_and_regraded() {
     assert_eq!(status, 200);
     assert_eq!(server.call("DELETE", "/api/overrides/99", None).0, 404);
     let back = server.results_after(removed["revision"].as_u64().unwrap());
-    assert_eq!(record(&back, "2026101")["score"].as_f64().unwrap(), old_score);
+    assert_eq!(
+        record(&back, "2026101")["score"].as_f64().unwrap(),
+        old_score
+    );
 }
 
 #[test]
@@ -469,7 +626,11 @@ fn a_restart_on_the_same_workspace_brings_everything_back() {
     upload_sample(&first);
     let (status, made) = first.call("POST", "/api/overrides", Some(json!({"student_id": "2026101", "criterion": "total", "adjust": "+3", "reason": "late lab notebook accepted", "grader": "K. Demir"})));
     assert_eq!(status, 201, "{made}");
-    let (status, _) = first.call("PUT", "/api/columns", Some(json!({"columns": {"section-03.csv": {"column H": "ignore"}}})));
+    let (status, _) = first.call(
+        "PUT",
+        "/api/columns",
+        Some(json!({"columns": {"section-03.csv": {"column H": "ignore"}}})),
+    );
     assert_eq!(status, 200);
     let (_, run) = first.call("POST", "/api/grade", None);
     let before = first.get("/api/results");
@@ -483,8 +644,18 @@ fn a_restart_on_the_same_workspace_brings_everything_back() {
     assert_eq!(second.get("/api/overrides")["overrides"][0]["adjust"], 3.0);
     let columns = second.get("/api/columns");
     assert_eq!(columns["columns"]["section-03.csv"]["column H"], "ignore");
-    let sheet = columns["sheets"].as_array().unwrap().iter().find(|s| s["file"] == "section-03.csv").unwrap();
-    let h = sheet["layout"]["columns"].as_array().unwrap().iter().find(|c| c["letter"] == "H").unwrap();
+    let sheet = columns["sheets"]
+        .as_array()
+        .unwrap()
+        .iter()
+        .find(|s| s["file"] == "section-03.csv")
+        .unwrap();
+    let h = sheet["layout"]["columns"]
+        .as_array()
+        .unwrap()
+        .iter()
+        .find(|c| c["letter"] == "H")
+        .unwrap();
     assert!(h["field"].is_null() && h["explicit"] == true, "{h}");
 }
 
@@ -509,7 +680,11 @@ fn files_edited_by_hand_are_picked_up() {
     let before = server.results_after(revision);
     let n = before["records"].as_array().unwrap().len();
     std::fs::write(ws.join("inputs/extra.csv"), crate::harness::class_csv(5, 1)).unwrap();
-    std::fs::write(ws.join("overrides.csv"), "student_id,criterion,points,reason,grader\n2026101,total,64,entered by hand,K. Demir\n").unwrap();
+    std::fs::write(
+        ws.join("overrides.csv"),
+        "student_id,criterion,points,reason,grader\n2026101,total,64,entered by hand,K. Demir\n",
+    )
+    .unwrap();
     assert!(
         eventually(60, || {
             let r = server.get("/api/results");
@@ -520,8 +695,16 @@ fn files_edited_by_hand_are_picked_up() {
     );
     // a hand edit the command line would refuse is shown, and the outputs stay as they were
     std::fs::write(ws.join("columns.toml"), "[columns]\n\"Wt A\" = \"crud\"\n").unwrap();
-    assert!(eventually(60, || server.get("/api/results")["error"].as_str().is_some_and(|e| e.contains("crud"))));
-    assert_eq!(server.get("/api/results")["records"].as_array().unwrap().len(), n + 5);
+    assert!(eventually(60, || server.get("/api/results")["error"]
+        .as_str()
+        .is_some_and(|e| e.contains("crud"))));
+    assert_eq!(
+        server.get("/api/results")["records"]
+            .as_array()
+            .unwrap()
+            .len(),
+        n + 5
+    );
 }
 
 #[test]
@@ -538,10 +721,17 @@ fn a_change_during_a_run_is_graded_next_and_nothing_waits_for_the_run() {
     let small = crate::harness::class_csv(7, 1).replace("\ns", "\nt");
     let (status, second) = server.upload(&[("small.csv", small.as_bytes())]);
     assert_eq!(status, 201);
-    assert!(server.get("/api/files")["files"].as_array().unwrap().len() == 2, "answered while grading");
+    assert!(
+        server.get("/api/files")["files"].as_array().unwrap().len() == 2,
+        "answered while grading"
+    );
     let done = server.results_after(second["revision"].as_u64().unwrap());
     assert!(done["revision"].as_u64().unwrap() >= second["revision"].as_u64().unwrap());
-    assert_eq!(done["records"].as_array().unwrap().len(), 30_007, "both uploads in the run after the change");
+    assert_eq!(
+        done["records"].as_array().unwrap().len(),
+        30_007,
+        "both uploads in the run after the change"
+    );
 }
 
 #[test]
@@ -550,9 +740,20 @@ fn the_page_loads_nothing_from_the_network() {
     let server = Server::start(&f.path("ws"));
     let agent = ureq::agent();
     for asset in ["workspace.js", "workspace.css"] {
-        let mut r = agent.get(format!("{}/assets/{asset}", server.base())).call().unwrap();
+        let mut r = agent
+            .get(format!("{}/assets/{asset}", server.base()))
+            .call()
+            .unwrap();
         let text = r.body_mut().read_to_string().unwrap();
-        assert!(!text.contains("http://") && !text.contains("https://") && !text.contains("//cdn"), "{asset} names no other server");
-        assert!(!text.contains("innerHTML") && !text.contains("insertAdjacentHTML") && !text.contains("document.write"), "{asset} writes no markup");
+        assert!(
+            !text.contains("http://") && !text.contains("https://") && !text.contains("//cdn"),
+            "{asset} names no other server"
+        );
+        assert!(
+            !text.contains("innerHTML")
+                && !text.contains("insertAdjacentHTML")
+                && !text.contains("document.write"),
+            "{asset} writes no markup"
+        );
     }
 }
