@@ -32,6 +32,16 @@ function el(tag, attrs, ...kids) {
 
 function clear(node) { while (node.firstChild) node.removeChild(node.firstChild); return node; }
 
+// Empties `node` and fills it with `kids` (lists flattened; strings as text).
+function fill(node, ...kids) {
+  clear(node);
+  for (const k of kids.flat(Infinity)) {
+    if (k === null || k === undefined || k === false) continue;
+    node.append(typeof k === 'string' ? document.createTextNode(k) : k);
+  }
+  return node;
+}
+
 async function call(method, path, body) {
   const init = { method, credentials: 'same-origin', headers: {} };
   if (body instanceof FormData) init.body = body;
@@ -331,7 +341,7 @@ function renderFilter() {
   const before = page.filter;
   const codes = new Set();
   for (const r of records()) for (const f of r.flags || []) codes.add(f);
-  clear(select).append(
+  fill(select,
     el('option', { value: 'all' }, 'every student'),
     el('option', { value: 'impossible' }, 'with an impossible entry (!)'),
     el('option', { value: 'suspicious' }, 'suspicious only (?)'),
@@ -478,11 +488,11 @@ function renderDetail() {
   if (!r) return;
   $('detail-h').textContent = (r.student_id || '(no id)') + (r.student_name ? ' · ' + r.student_name : '');
   $('detail-where').textContent = `Section ${r.section} · ${r.source.replace(/^inputs\//, '')}` + (r.sheet ? `, sheet ${r.sheet}` : '') + `, row ${r.row}`;
-  clear($('detail-body')).append(...detailBody(r).flat().filter(Boolean));
+  fill($('detail-body'), detailBody(r));
   const select = $('o-criterion');
   const before = select.value;
   const crit = (page.results && page.results.criteria) || [];
-  clear(select).append(el('option', { value: 'total' }, 'Total'), crit.map((c) => el('option', { value: c.id }, `${c.label} (of ${points(c.max)})`)));
+  fill(select, el('option', { value: 'total' }, 'Total'), crit.map((c) => el('option', { value: c.id }, `${c.label} (of ${points(c.max)})`)));
   if (Array.from(select.options).some((o) => o.value === before)) select.value = before;
   $('override-form').hidden = standing(r) === 'excused' || !r.student_id;
 }

@@ -289,6 +289,41 @@ fn the_workspace_page_grades_a_class_in_chromium() {
     );
     d.click("#detail-close");
 
+    // the filter by flag shows only rows with that flag; a column button sorts
+    d.click("#filter option[value='flag:recovery-over-100']");
+    assert!(d.wait(10, "const rows = Array.from(document.querySelectorAll('#student-rows tr')); return rows.length > 0 && rows.every(tr => tr.querySelector('td.why').textContent.includes('recovery-over-100'))"));
+    let all_with: usize = server.get("/api/results")["records"]
+        .as_array()
+        .unwrap()
+        .iter()
+        .filter(|r| {
+            r["flags"]
+                .as_array()
+                .unwrap()
+                .iter()
+                .any(|f| f == "recovery-over-100")
+        })
+        .count();
+    assert_eq!(
+        d.script("return document.querySelectorAll('#student-rows tr').length"),
+        all_with
+    );
+    d.screenshot("3-filtered");
+    d.click("#filter option[value='all']");
+    d.click("#student-head th:nth-child(7) button");
+    let scores = d.script("return Array.from(document.querySelectorAll('#student-rows tr')).map(tr => parseFloat(tr.children[6].textContent)).filter(v => !isNaN(v))");
+    let scores: Vec<f64> = scores
+        .as_array()
+        .unwrap()
+        .iter()
+        .map(|v| v.as_f64().unwrap())
+        .collect();
+    assert!(
+        scores.len() > 10 && scores.windows(2).all(|w| w[0] <= w[1]),
+        "sorted by score: {scores:?}"
+    );
+    assert_eq!(d.script("return document.querySelector('#student-head th:nth-child(7)').getAttribute('aria-sort')"), "ascending");
+
     // 3. an override through the form, on a flagged student
     let id = d.script("const tr = Array.from(document.querySelectorAll('#student-rows tr.impossible')).find(tr => !tr.textContent.includes('duplicate') && !tr.textContent.includes('X90')); return tr.querySelector('th button').textContent");
     let id = id.as_str().unwrap().to_string();
@@ -300,7 +335,20 @@ fn the_workspace_page_grades_a_class_in_chromium() {
         ),
         "focus moves to the student"
     );
-    d.screenshot("3-student");
+    d.screenshot("4-student");
+    // the criteria are offered by their labels
+    let offered = d.script("return Array.from(document.querySelectorAll('#o-criterion option')).map(o => o.textContent)");
+    for c in server.get("/api/results")["criteria"].as_array().unwrap() {
+        let label = c["label"].as_str().unwrap();
+        assert!(
+            offered
+                .as_array()
+                .unwrap()
+                .iter()
+                .any(|o| o.as_str().unwrap().starts_with(label)),
+            "{label} in {offered}"
+        );
+    }
     d.click("#o-criterion option[value='total']");
     d.click("input[name='mode'][value='points']");
     d.type_into("#o-value", "88");
@@ -318,7 +366,7 @@ fn the_workspace_page_grades_a_class_in_chromium() {
         "o-grader",
         "focus goes to the field at fault"
     );
-    d.screenshot("4-override-refused");
+    d.screenshot("5-override-refused");
     d.type_into("#o-grader", "K. Demir");
     d.click("#override-form button[type='submit']");
     assert!(
@@ -330,7 +378,7 @@ fn the_workspace_page_grades_a_class_in_chromium() {
     );
     let total = d.script("return document.querySelector('#detail-body tr.total td').textContent");
     assert_eq!(total, "88");
-    d.screenshot("5-override-applied");
+    d.screenshot("6-override-applied");
 
     // 4. the gradebook, downloaded through its link, holds the override
     d.click("#output-list a[download='gradebook.csv']");
@@ -347,5 +395,5 @@ fn the_workspace_page_grades_a_class_in_chromium() {
     let hostile_row = rows.iter().find(|r| r["student_id"] == "X9001").unwrap();
     assert_eq!(hostile_row["student_name"], HOSTILE);
     d.script("document.getElementById('outputs').scrollIntoView()");
-    d.screenshot("6-outputs");
+    d.screenshot("7-outputs");
 }
