@@ -182,8 +182,8 @@ function renderRun() {
 function problemItem(p) {
   const where = p.sheet ? `sheet “${p.sheet}”: ` : '';
   return el('li', { class: p.fatal ? 'problem fatal' : 'problem' },
-    el('span', { class: 'visually-hidden', text: p.fatal ? 'Could not be read: ' : 'Note: ' }),
-    where + p.message);
+    el('span', { class: 'kind', text: p.fatal ? '! needs attention: ' : 'note: ' }),
+    where + pageWords(p.message));
 }
 
 function renderFiles() {
@@ -305,7 +305,8 @@ function sheetBlock(sheet, n) {
 // The run's notes name the command line's way to map a column; on the page it is the list.
 function pageWords(note) {
   return note.replace(/; say which in a --columns file: .*$/, '; choose which in the list')
-    .replace(/; say which holds it in a --columns file.*$/, '; choose in the list which one holds it');
+    .replace(/; say which holds it in a --columns file.*$/, '; choose in the list which one holds it')
+    .replace(/; if one holds it, map it in a --columns file.*$/, '; if one holds it, choose its field under “Columns as read”');
 }
 
 function fieldLabel(k) {
@@ -596,11 +597,13 @@ function wire() {
   drop.addEventListener('drop', (e) => { e.preventDefault(); drop.classList.remove('over'); upload(e.dataTransfer.files); });
   $('filter').addEventListener('change', (e) => { page.filter = e.target.value; renderStudents(); });
   $('search').addEventListener('input', (e) => { page.search = e.target.value; renderStudents(); });
-  $('detail-close').addEventListener('click', () => {
+  const closeDetail = () => {
     const k = page.selected; page.selected = null; renderStudents(); renderDetail();
     const row = Array.from($('student-rows').children).find((tr) => tr.dataset.key === k);
     if (row) row.querySelector('button').focus();
-  });
+  };
+  $('detail-close').addEventListener('click', closeDetail);
+  $('detail').addEventListener('keydown', (e) => { if (e.key === 'Escape') closeDetail(); });
   $('override-form').addEventListener('submit', saveOverride);
   for (const radio of document.querySelectorAll('input[name="mode"]')) {
     radio.addEventListener('change', () => { $('o-value').previousElementSibling.textContent = radio.value === 'points' ? 'Points' : 'Points to add (negative to take away)'; });

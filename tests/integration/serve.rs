@@ -320,6 +320,24 @@ fn serve_opens_only_with_the_token() {
 }
 
 #[test]
+fn serve_listens_on_one_named_address_only() {
+    let f = Fixture::new();
+    // an unspecified address would answer every network the computer is on
+    let run = run_in(
+        f.dir.path(),
+        &["serve", "ws", "--listen", "0.0.0.0", "--port", "0"],
+    );
+    assert_eq!(run.code, 2, "{}", run.stderr);
+    assert!(run.stderr.contains("--listen 0.0.0.0"), "{}", run.stderr);
+    let run = run_in(
+        f.dir.path(),
+        &["serve", "ws", "--upload-limit", "0", "--port", "0"],
+    );
+    assert_eq!(run.code, 2, "{}", run.stderr);
+    assert!(run.stdout.is_empty(), "no address printed: {}", run.stdout);
+}
+
+#[test]
 fn serve_answers_only_its_own_host_and_origin() {
     let f = Fixture::new();
     let server = Server::start(&f.path("ws"));
