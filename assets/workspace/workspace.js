@@ -149,7 +149,11 @@ async function watch() {
     const q = page.version === null ? '' : '?since=' + page.version;
     const s = await call('GET', '/api/status' + q);
     if (s.status === 401) { locked(); return; }
-    if (!s.ok) { await new Promise((r) => setTimeout(r, 3000)); continue; }
+    if (!s.ok) {
+      if (s.status === 0) say('run-state', s.data.error, true);
+      await new Promise((r) => setTimeout(r, 3000));
+      continue;
+    }
     page.version = s.data.version;
     page.grading = s.data.grading || s.data.revision > s.data.graded;
     if (s.data.graded !== page.shown) await loadAll(); else renderRun();
@@ -465,7 +469,7 @@ function detailBody(r) {
     return el('li', { class: k }, marker(k), ' ', n);
   });
   return [
-    flags.length ? el('ul', { class: 'flags big' }, flags) : el('p', { class: 'quiet' }, standing(r) === 'excused' ? 'Excused: ' + (r.status || '') : 'No flags.'),
+    flags.length ? el('ul', { class: 'flags big' }, flags) : el('p', { class: 'quiet' }, standing(r) === 'excused' ? 'Excused, not graded: no score, flags or letter.' : 'No flags.'),
     facts('As read', [['Crude mass', number(r.crude_mass_g, 3) + ' g'], ['Recovered mass', number(r.recovered_mass_g, 3) + ' g'],
       ['Solvent', r.solvent_volume_ml === null ? null : number(r.solvent_volume_ml, 1) + ' mL' + (r.solvent ? ' ' + r.solvent : '')],
       ['Melting range read', observed], ['Reported recovery', r.reported_recovery_pct === null ? null : number(r.reported_recovery_pct, 1) + ' %'],

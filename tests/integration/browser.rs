@@ -13,7 +13,7 @@ use base64::Engine as _;
 use serde_json::{json, Value};
 
 use crate::harness::{outside_program, project_root, read_results, Fixture};
-use crate::serve::Server;
+use crate::serve_client::Server;
 
 const ELEMENT: &str = "element-6066-11e4-a52e-4f735466cecf";
 

@@ -23,4 +23,5 @@ mod registry;
 mod reliability;
 mod sample_data;
 mod serve;
+mod serve_client;
 mod workbooks;
