@@ -109,7 +109,14 @@ function key(r) { return [r.source, r.sheet || '', r.row].join('\u0000'); }
 
 // ---- loading ----
 
-async function loadAll() {
+// One load at a time: a second call while one is on its way waits for it.
+let loading = null;
+function loadAll() {
+  if (!loading) loading = load().finally(() => { loading = null; });
+  return loading;
+}
+
+async function load() {
   const [files, results, columns, overrides, outputs] = await Promise.all([
     call('GET', '/api/files'), call('GET', '/api/results'), call('GET', '/api/columns'),
     call('GET', '/api/overrides'), call('GET', '/api/outputs')]);
@@ -117,6 +124,7 @@ async function loadAll() {
   page.files = files.data; page.results = results.data; page.columns = columns.data;
   page.overrides = overrides.data; page.outputs = outputs.data;
   page.shown = results.data.revision;
+  page.grading = !!results.data.grading || results.data.current > results.data.revision;
   render();
 }
 
@@ -140,7 +148,8 @@ async function afterChange(revision) {
   page.grading = true;
   renderRun();
   await call('GET', '/api/results?revision=' + encodeURIComponent(revision));
-  await loadAll();
+  if (loading) await loading;
+  if (page.shown < revision) await loadAll();
 }
 
 // A long poll on the run state: a run finished, or a file was changed by hand.
@@ -245,8 +254,10 @@ async function removeFile(name) {
 
 // ---- 2. columns ----
 
+// The [columns] table's key for one sheet: the file's name, or its path from the workspace
+// when it sits in a sub-folder of inputs/ (two sections' files may share a name).
 function scopeKey(sheet) {
-  const file = sheet.file.split('/').pop();
+  const file = sheet.file.includes('/') ? 'inputs/' + sheet.file : sheet.file;
   return sheet.sheet === null || sheet.sheet === undefined ? file : `${file} [${sheet.sheet}]`;
 }
 

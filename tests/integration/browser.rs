@@ -145,9 +145,23 @@ impl Driver {
             .to_string()
     }
 
+    /// Clicks the element; found again if the page redrew it between finding and clicking.
     fn click(&self, css: &str) {
-        let e = self.find(css);
-        self.cmd("POST", &format!("/element/{e}/click"), json!({}));
+        for _ in 0..5 {
+            let e = self.find(css);
+            let path = format!("/session/{}/element/{e}/click", self.session);
+            let v = self
+                .raw("POST", &path, Some(json!({})))
+                .expect("chromedriver answers");
+            match v.get("error").and_then(Value::as_str) {
+                None => return,
+                Some("stale element reference") => {
+                    std::thread::sleep(Duration::from_millis(200));
+                }
+                Some(_) => panic!("click {css}: {v}"),
+            }
+        }
+        panic!("click {css}: the element kept being redrawn");
     }
 
     fn type_into(&self, css: &str, text: &str) {
@@ -376,6 +390,8 @@ fn the_workspace_page_grades_a_class_in_chromium() {
         ),
         "the override is saved and graded"
     );
+    // with a student open, the table still fits beside the panel
+    assert_eq!(d.script("const w = document.querySelector('.table-wrap'); return w.scrollWidth <= w.clientWidth"), true);
     let total = d.script("return document.querySelector('#detail-body tr.total td').textContent");
     assert_eq!(total, "88");
     d.screenshot("6-override-applied");

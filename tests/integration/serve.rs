@@ -536,4 +536,25 @@ fn the_page_loads_nothing_from_the_network() {
             "{asset} writes no markup"
         );
     }
+    let page =
+        std::fs::read_to_string(crate::harness::project_root().join("assets/workspace/index.html"))
+            .unwrap();
+    assert!(
+        !page.contains("http://")
+            && !page.contains("https://")
+            && !page.contains("<script>")
+            && !page.contains(" style="),
+        "the page names no other server and holds no inline script or style"
+    );
+    for src in page
+        .split("src=\"")
+        .skip(1)
+        .chain(page.split("href=\"").skip(1))
+    {
+        let target = src.split('"').next().unwrap();
+        assert!(
+            target.starts_with("/assets/") || target.starts_with('#'),
+            "{target}"
+        );
+    }
 }
