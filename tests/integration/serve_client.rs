@@ -167,10 +167,17 @@ pub fn raw(port: u16, head: &str, body: &[u8]) -> (u16, String) {
     let mut s = TcpStream::connect(("127.0.0.1", port)).unwrap();
     s.set_read_timeout(Some(Duration::from_secs(60))).unwrap();
     s.write_all(head.as_bytes()).unwrap();
-    // the server may answer (and close) before the whole body is sent
-    let _ = s.write_all(body);
+    // the server may answer (and close) before the whole body is sent: the body goes from
+    // another thread while this one reads, so that the answer is read as soon as it comes
+    let mut writer = s.try_clone().unwrap();
+    let body = body.to_vec();
+    let sending = std::thread::spawn(move || {
+        let _ = writer.write_all(&body);
+    });
     let mut out = Vec::new();
     let _ = s.read_to_end(&mut out);
+    let _ = s.shutdown(std::net::Shutdown::Both);
+    let _ = sending.join();
     let text = String::from_utf8_lossy(&out).into_owned();
     let code = text
         .split_whitespace()
