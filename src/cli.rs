@@ -41,6 +41,10 @@ pub enum Command {
         #[command(subcommand)]
         action: RubricAction,
     },
+    /// Open a grading workspace in the browser: upload the section's spreadsheets, fix columns,
+    /// see the flagged students, add overrides and download the outputs. For one person on
+    /// this computer; Ctrl-C stops it
+    Serve(ServeArgs),
     /// List the reference library with the source of every value
     Compounds {
         /// Print JSON instead of a table
@@ -60,6 +64,28 @@ pub enum RubricAction {
         #[arg(value_name = "FILE")]
         file: PathBuf,
     },
+}
+
+/// What `serve` takes.
+#[derive(Args, Debug)]
+pub struct ServeArgs {
+    /// The workspace folder (created if needed): inputs/, columns.toml, overrides.csv, an
+    /// optional rubric.toml, and graded/, the outputs of `benchgrade grade` run on them
+    #[arg(value_name = "WORKSPACE", default_value = "benchgrade-workspace")]
+    pub workspace: PathBuf,
+    /// The port to listen on; 0 picks a free one
+    #[arg(long, value_name = "N", default_value_t = 7410)]
+    pub port: u16,
+    /// Open the page in the browser
+    #[arg(long)]
+    pub open: bool,
+    /// Listen on this address instead of 127.0.0.1 only (other computers may then reach the
+    /// page; a warning is printed)
+    #[arg(long, value_name = "ADDR", default_value = "127.0.0.1")]
+    pub listen: std::net::IpAddr,
+    /// The largest upload, in MB
+    #[arg(long, value_name = "MB", default_value_t = 50)]
+    pub upload_limit: u64,
 }
 
 /// What only `grade` takes.

@@ -18,6 +18,7 @@ pub mod pipeline;
 pub mod reference;
 pub mod rubric;
 pub mod sample;
+pub mod serve;
 pub mod stats;
 
 pub use config::{Config, Options};

@@ -15,7 +15,7 @@ use clap::Parser;
 use benchgrade::export::check_report::{self, Style};
 use benchgrade::reference::Library;
 use benchgrade::{Batch, Config, Options, RunError};
-use cli::{Cli, Command, GradeArgs, RubricAction, RunArgs};
+use cli::{Cli, Command, GradeArgs, RubricAction, RunArgs, ServeArgs};
 
 /// The sample class built into the binary, for a run given no inputs: written into a fresh
 /// folder that becomes the working directory, so that the files read show as `sample-data/...`
@@ -293,6 +293,21 @@ fn rubric_check(file: &std::path::Path) -> Result<ExitCode> {
     }
 }
 
+/// `serve`: the library runs the server until Ctrl-C.
+fn serve(s: ServeArgs) -> Result<ExitCode> {
+    let opts = benchgrade::serve::ServeOptions {
+        workspace: s.workspace,
+        listen: s.listen,
+        port: s.port,
+        open: s.open,
+        upload_limit_mb: s.upload_limit,
+    };
+    match benchgrade::serve::run(opts) {
+        Ok(()) => Ok(ExitCode::SUCCESS),
+        Err(e) => usage_error(&e),
+    }
+}
+
 // every command returns a Result, and a usage error is one of its outcomes
 #[allow(clippy::unnecessary_wraps)]
 fn usage_error(e: &dyn std::fmt::Display) -> Result<ExitCode> {
@@ -326,6 +341,7 @@ fn run() -> ExitCode {
             json,
             compounds: extra,
         } => compounds(json, extra),
+        Command::Serve(s) => serve(s),
     };
     match result {
         Ok(code) => code,

@@ -8,7 +8,7 @@ use std::path::Path;
 use crate::harness::project_root;
 
 /// From the bottom up: a module may use only those before it.
-const LAYERS: [&str; 14] = [
+const LAYERS: [&str; 15] = [
     "error",
     "fields",
     "numtext",
@@ -23,6 +23,7 @@ const LAYERS: [&str; 14] = [
     "export",
     "config",
     "pipeline",
+    "serve",
 ];
 
 /// The binary's own files, which sit above the library.

@@ -10,6 +10,7 @@
 
 mod bad_corpus;
 mod bad_input;
+mod browser;
 mod cohort;
 mod grading;
 mod harness;
@@ -23,4 +24,6 @@ mod reference_data;
 mod registry;
 mod reliability;
 mod sample_data;
+mod serve;
+mod serve_client;
 mod workbooks;

@@ -1,0 +1,316 @@
+//! The workspace folder the page works in, and the only files it writes: `inputs/` (uploaded
+//! spreadsheets, names sanitised), `columns.toml` and `overrides.csv`. `graded/` is written by
+//! the grading run alone, `rubric.toml` only by hand. The server runs inside the folder, so the
+//! run is exactly `benchgrade grade inputs --columns columns.toml --overrides overrides.csv
+//! --out graded` run there, and every file is named as that command names it.
+
+use std::io::Write as _;
+use std::path::{Component, Path, PathBuf};
+use std::sync::atomic::{AtomicU64, Ordering};
+use std::time::SystemTime;
+
+use crate::config::Options;
+use crate::ingest::discover::EXTENSIONS;
+
+pub const INPUTS: &str = "inputs";
+pub const COLUMNS: &str = "columns.toml";
+pub const OVERRIDES: &str = "overrides.csv";
+pub const RUBRIC: &str = "rubric.toml";
+pub const GRADED: &str = "graded";
+
+/// The header a new overrides file starts with: the columns the command line reads.
+pub const OVERRIDES_HEADER: &str = "student_id,section,criterion,points,adjust,reason,grader\n";
+
+const COLUMNS_START: &str = "# Column mappings for the sheets in inputs/, as for `benchgrade grade --columns`.\n# The workspace page writes this file; edits made by hand are picked up.\n[columns]\n";
+
+/// The workspace, with the server's working directory inside it.
+#[derive(Clone, Debug)]
+pub struct Workspace {
+    /// The folder as the user named it, for messages.
+    pub shown: PathBuf,
+}
+
+/// An input file: its name relative to `inputs/` (with `/` between folders) and size.
+#[derive(Clone, Debug, PartialEq, Eq, serde::Serialize)]
+pub struct InputFile {
+    pub name: String,
+    pub size: u64,
+}
+
+/// What the workspace's files look like now: changed when a file is added, removed or
+/// written, by the page or by hand.
+#[derive(Clone, Debug, Default, PartialEq, Eq)]
+pub struct Fingerprint(Vec<(String, u64, Option<SystemTime>)>);
+
+impl Workspace {
+    /// Creates the layout where it is missing; never replaces a file that is there.
+    pub fn create_layout(shown: &Path) -> std::io::Result<Workspace> {
+        std::fs::create_dir_all(INPUTS)?;
+        for (name, start) in [(COLUMNS, COLUMNS_START), (OVERRIDES, OVERRIDES_HEADER)] {
+            if std::fs::symlink_metadata(name).is_err() {
+                write_atomically(Path::new(name), start.as_bytes())?;
+            }
+        }
+        crate::files::sweep_stale_partials(Path::new(INPUTS));
+        crate::files::sweep_stale_partials(Path::new("."));
+        Ok(Workspace {
+            shown: shown.to_path_buf(),
+        })
+    }
+
+    /// The options of `benchgrade grade inputs --columns columns.toml --overrides
+    /// overrides.csv --out graded` (with `--rubric rubric.toml` when there is one).
+    pub fn options(&self) -> Options {
+        let present = |name: &str| Path::new(name).is_file().then(|| PathBuf::from(name));
+        Options {
+            inputs: vec![PathBuf::from(INPUTS)],
+            out: Some(PathBuf::from(GRADED)),
+            rubric: present(RUBRIC),
+            columns: present(COLUMNS),
+            overrides: present(OVERRIDES),
+            ..Options::default()
+        }
+    }
+
+    /// Every file under `inputs/` a run would look at, sorted; hidden files left out.
+    pub fn inputs(&self) -> Vec<InputFile> {
+        let mut out = Vec::new();
+        walk(Path::new(INPUTS), "", &mut out, 0);
+        out.sort_by(|a, b| a.name.cmp(&b.name));
+        out
+    }
+
+    pub fn fingerprint(&self) -> Fingerprint {
+        let mut seen: Vec<(String, u64, Option<SystemTime>)> = self
+            .inputs()
+            .into_iter()
+            .map(|f| {
+                let modified = modified(&Path::new(INPUTS).join(&f.name));
+                (f.name, f.size, modified)
+            })
+            .collect();
+        for name in [COLUMNS, OVERRIDES, RUBRIC] {
+            let meta = std::fs::metadata(name).ok();
+            let size = meta.as_ref().map_or(u64::MAX, std::fs::Metadata::len);
+            seen.push((name.to_string(), size, modified(Path::new(name))));
+        }
+        Fingerprint(seen)
+    }
+
+    /// The path of an input named as `inputs()` names it, if it is one: a relative path of
+    /// plain names (no `..`, nothing hidden) to a file.
+    pub fn input_path(&self, name: &str) -> Option<PathBuf> {
+        let rel = Path::new(name);
+        let plain = rel.components().all(|c| match c {
+            Component::Normal(n) => !n.to_string_lossy().starts_with('.'),
+            _ => false,
+        });
+        let path = Path::new(INPUTS).join(rel);
+        (plain && !name.is_empty() && std::fs::symlink_metadata(&path).is_ok_and(|m| !m.is_dir()))
+            .then_some(path)
+    }
+
+    /// The files of `graded/` a person may want, sorted: every visible file.
+    pub fn outputs(&self) -> Vec<InputFile> {
+        let mut out = visible_files(Path::new(GRADED), "");
+        // the handouts, one file a section, named "handouts/<section>.html"
+        let handouts = crate::export::handouts::FOLDER;
+        out.extend(visible_files(
+            &Path::new(GRADED).join(handouts),
+            &format!("{handouts}/"),
+        ));
+        out.sort_by(|a, b| a.name.cmp(&b.name));
+        out
+    }
+
+    /// The path of an output by its name, if `graded/` holds it.
+    pub fn output_path(&self, name: &str) -> Option<PathBuf> {
+        self.outputs()
+            .iter()
+            .any(|o| o.name == name)
+            .then(|| Path::new(GRADED).join(name))
+    }
+}
+
+/// The visible files of a folder (no hidden ones, no folders), named with `prefix`.
+fn visible_files(dir: &Path, prefix: &str) -> Vec<InputFile> {
+    let Ok(entries) = std::fs::read_dir(dir) else {
+        return Vec::new();
+    };
+    entries
+        .flatten()
+        .filter(|e| e.file_type().is_ok_and(|t| t.is_file()))
+        .filter_map(|e| {
+            let name = e.file_name().into_string().ok()?;
+            let size = e.metadata().ok()?.len();
+            (!name.starts_with('.')).then(|| InputFile {
+                name: format!("{prefix}{name}"),
+                size,
+            })
+        })
+        .collect()
+}
+
+fn modified(path: &Path) -> Option<SystemTime> {
+    std::fs::metadata(path).and_then(|m| m.modified()).ok()
+}
+
+/// Files below `dir` (a few folders deep, as a course's folder of sections is), named from
+/// `inputs/`.
+fn walk(dir: &Path, prefix: &str, out: &mut Vec<InputFile>, depth: usize) {
+    let Ok(entries) = std::fs::read_dir(dir) else {
+        return;
+    };
+    for e in entries.flatten() {
+        let Ok(name) = e.file_name().into_string() else {
+            continue;
+        };
+        if name.starts_with('.') || name.starts_with("~$") {
+            continue;
+        }
+        let rel = format!("{prefix}{name}");
+        match e.metadata() {
+            Ok(m) if m.is_dir() && depth < 4 => {
+                walk(&e.path(), &format!("{rel}/"), out, depth + 1);
+            }
+            Ok(m) if m.is_file() => out.push(InputFile {
+                name: rel,
+                size: m.len(),
+            }),
+            _ => {}
+        }
+    }
+}
+
+/// Why an uploaded file's name cannot be stored.
+#[derive(Clone, Debug, PartialEq, Eq)]
+pub enum BadName {
+    /// No name left once the folders and odd characters are taken out.
+    Empty,
+    /// Not a type the command line reads; the extension as given.
+    NotSpreadsheet(String),
+}
+
+impl std::fmt::Display for BadName {
+    fn fmt(&self, f: &mut std::fmt::Formatter<'_>) -> std::fmt::Result {
+        let types = EXTENSIONS.map(|e| format!(".{e}")).join(" ");
+        match self {
+            BadName::Empty => write!(f, "the file has no usable name"),
+            BadName::NotSpreadsheet(ext) if ext.is_empty() => {
+                write!(
+                    f,
+                    "not a spreadsheet: the name has no extension; benchgrade reads {types}"
+                )
+            }
+            BadName::NotSpreadsheet(ext) => write!(
+                f,
+                "not a spreadsheet benchgrade reads (.{ext}); it reads {types}"
+            ),
+        }
+    }
+}
+
+/// The name an upload is stored under in `inputs/`: its last part only (a name such as
+/// `../../x.csv` or `C:\class\x.csv` becomes `x.csv`), characters other than letters, digits,
+/// spaces and `. - _ ( ) [ ] , + #` replaced by `_`, no leading dot, at most 120 characters,
+/// and one of the extensions the command line reads.
+pub fn sanitise_name(given: &str) -> Result<String, BadName> {
+    let last = given.rsplit(['/', '\\']).next().unwrap_or("");
+    let cleaned: String = last
+        .chars()
+        .map(|c| {
+            let kept = c.is_alphanumeric() || " .-_()[],+#".contains(c);
+            if kept && !c.is_control() {
+                c
+            } else {
+                '_'
+            }
+        })
+        .collect();
+    let trimmed = cleaned
+        .trim()
+        .trim_start_matches(['.', ' '])
+        .trim_end_matches(['.', ' ']);
+    let name: String = if trimmed.chars().count() > 120 {
+        let (stem, ext) = trimmed.rsplit_once('.').unwrap_or((trimmed, ""));
+        let keep = 119usize.saturating_sub(ext.chars().count());
+        format!("{}.{ext}", stem.chars().take(keep).collect::<String>())
+    } else {
+        trimmed.to_string()
+    };
+    let Some((stem, ext)) = name.rsplit_once('.') else {
+        return Err(if name.is_empty() {
+            BadName::Empty
+        } else {
+            BadName::NotSpreadsheet(String::new())
+        });
+    };
+    if !EXTENSIONS.contains(&ext.to_ascii_lowercase().as_str()) {
+        return Err(BadName::NotSpreadsheet(ext.to_string()));
+    }
+    if stem.trim_matches(['_', ' ']).is_empty() {
+        return Err(BadName::Empty);
+    }
+    Ok(name)
+}
+
+static TEMPORARY: AtomicU64 = AtomicU64::new(0);
+
+/// A new temporary file's path in `dir`: hidden (no run reads it) and named
+/// `.NAME.N.PID.partial`, so that a dead server's leftovers are swept.
+pub fn temporary_path(dir: &Path, name: &str) -> PathBuf {
+    let n = TEMPORARY.fetch_add(1, Ordering::Relaxed);
+    dir.join(format!(".{name}.{n}.{}.partial", std::process::id()))
+}
+
+/// Writes `path` whole or not at all: a temporary file beside it, flushed to disk, renamed.
+pub fn write_atomically(path: &Path, bytes: &[u8]) -> std::io::Result<()> {
+    let dir = path
+        .parent()
+        .filter(|p| !p.as_os_str().is_empty())
+        .unwrap_or(Path::new("."));
+    let name = path.file_name().and_then(|n| n.to_str()).unwrap_or("file");
+    let tmp = temporary_path(dir, name);
+    let result = (|| {
+        let mut f = crate::files::create_new(&tmp)?;
+        f.write_all(bytes)?;
+        f.sync_all()?;
+        std::fs::rename(&tmp, path)
+    })();
+    if result.is_err() {
+        let _ = std::fs::remove_file(&tmp);
+    }
+    result
+}
+
+#[cfg(test)]
+mod tests {
+    use super::*;
+
+    #[test]
+    fn names_are_kept_inside_inputs() {
+        assert_eq!(sanitise_name("../../x.csv").unwrap(), "x.csv");
+        assert_eq!(
+            sanitise_name("C:\\class\\Sec 01.xlsx").unwrap(),
+            "Sec 01.xlsx"
+        );
+        assert_eq!(sanitise_name("../").unwrap_err(), BadName::Empty);
+        assert_eq!(sanitise_name("<>.csv").unwrap_err(), BadName::Empty);
+        assert_eq!(sanitise_name(".hidden.ods").unwrap(), "hidden.ods");
+        assert_eq!(sanitise_name("a\u{1b}[2Jb.TSV").unwrap(), "a_[2Jb.TSV");
+        assert_eq!(
+            sanitise_name("report.pdf").unwrap_err(),
+            BadName::NotSpreadsheet("pdf".into())
+        );
+        assert_eq!(
+            sanitise_name("notes").unwrap_err(),
+            BadName::NotSpreadsheet(String::new())
+        );
+        let long = format!("{}.xlsx", "a".repeat(300));
+        let kept = sanitise_name(&long).unwrap();
+        assert!(
+            kept.rsplit_once('.').is_some_and(|(_, e)| e == "xlsx") && kept.chars().count() == 120,
+            "{kept}"
+        );
+    }
+}
