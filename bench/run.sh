@@ -3,6 +3,7 @@
 # On an invented class workbook (examples/make_class.rs) it times, alternately:
 #   grade      benchgrade grade, every output
 #   nowb       benchgrade grade --skip-workbooks (the graded workbooks' share is grade - nowb)
+#   nohand     benchgrade grade --skip-handouts (the handouts' share is grade - nohand)
 #   floor      examples/io_floor: calamine reads every cell, rust_xlsxwriter writes them back
 #   write      examples/bare_write: rust_xlsxwriter writes the cells a graded workbook holds
 #   read       examples/bare_read: calamine reads every cell
@@ -34,6 +35,7 @@ for _ in $(seq "$repeats"); do
   measure grade "$bin/benchgrade" grade "$work/class.xlsx" --out "$work/out" --quiet
   measure floor "$bin/examples/io_floor" "$work/class.xlsx" "$work/floor.xlsx"
   measure nowb "$bin/benchgrade" grade "$work/class.xlsx" --out "$work/out-nowb" --quiet --skip-workbooks
+  measure nohand "$bin/benchgrade" grade "$work/class.xlsx" --out "$work/out-nohand" --quiet --skip-handouts
   measure write "$bin/examples/bare_write" "$work/w.xlsx" "$rows" "$sections"
   measure read "$bin/examples/bare_read" "$work/class.xlsx"
   [ "$peer" = 1 ] && measure pandas python3 bench/pandas_peer.py "$work/class.xlsx" "$work/out-pandas"
@@ -43,18 +45,20 @@ col() { cut -d' ' -f"$2" "$work/$1" | median; }
 show() { printf '%-52s %7s s wall %7s s cpu %6s MiB\n' "$2" "$(col "$1" 1)" "$(col "$1" 2)" "$(($(col "$1" 3) / 1024))"; }
 show grade "benchgrade grade, every output"
 show nowb "benchgrade grade --skip-workbooks"
+show nohand "benchgrade grade --skip-handouts"
 show floor "I/O floor: calamine read + rust_xlsxwriter write-back"
 show write "bare rust_xlsxwriter write of a graded workbook's cells"
 show read "bare calamine read"
 [ "$peer" = 1 ] && show pandas "pandas peer"
 awk -v g="$(col grade 1)" -v gc="$(col grade 2)" -v gm="$(col grade 3)" \
-    -v n="$(col nowb 1)" -v nc="$(col nowb 2)" \
+    -v n="$(col nowb 1)" -v nc="$(col nowb 2)" -v h="$(col nohand 1)" \
     -v f="$(col floor 1)" -v fm="$(col floor 3)" \
     -v w="$(col write 1)" -v wc="$(col write 2)" \
     -v p="$([ "$peer" = 1 ] && col pandas 1 || echo 0)" 'BEGIN {
   printf "end to end / I/O floor:           time %.2fx (target 1.3x), peak memory %.2fx (target 1.5x)\n", g/f, gm/fm
   if (p > 0) printf "pandas peer / end to end:         %.1fx faster (target 8x)\n", p/g
   printf "graded workbooks / bare write:    wall %.2fx, cpu %.2fx (target 1.3x)\n", (g-n)/w, (gc-nc)/wc
+  printf "handouts added to a full run:     %+.1f %% of the time (target at most 10 %%)\n", 100*(g-h)/h
 }'
 echo "(medians of $repeats alternating runs; results rows: $(($(wc -l < "$work/out/results.csv") - 1)))"
 if [ "${SCALE:-1}" != 0 ]; then

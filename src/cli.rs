@@ -104,6 +104,9 @@ pub struct GradeArgs {
     /// large batches)
     #[arg(long)]
     pub skip_workbooks: bool,
+    /// Write no handouts (DIR/handouts/); on very large batches they are the largest output
+    #[arg(long)]
+    pub skip_handouts: bool,
     /// Also write DIR/results-pseudonymized.csv (ids as keyed hashes, no names) for anything
     /// that leaves the course; the key comes from --pseudonym-key or BENCHGRADE_PSEUDONYM_KEY
     #[arg(long)]

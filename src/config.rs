@@ -32,6 +32,8 @@ pub struct Options {
     pub split_sections: bool,
     /// No graded workbooks.
     pub skip_workbooks: bool,
+    /// No handouts.
+    pub skip_handouts: bool,
     /// Also write a pseudonymised results file with this key.
     pub pseudonym_key: Option<Vec<u8>>,
     /// An earlier term's output folder, to compare this term with.
@@ -64,6 +66,7 @@ pub struct Config {
     pub rubric_text: String,
     pub split_sections: bool,
     pub skip_workbooks: bool,
+    pub skip_handouts: bool,
     /// Writes DIR/results-pseudonymized.csv when set (and pseudonymises results.parquet).
     pub pseudonyms: Option<Pseudonymizer>,
     /// The earlier term's results.parquet.
@@ -119,6 +122,7 @@ impl Config {
             rubric_text,
             split_sections: opts.split_sections,
             skip_workbooks: opts.skip_workbooks,
+            skip_handouts: opts.skip_handouts,
             baseline: baseline_file(opts.baseline.as_deref())?,
             pseudonyms: match &opts.pseudonym_key {
                 Some(k) => Some(Pseudonymizer::new(k).map_err(ConfigError::Invalid)?),

@@ -87,6 +87,7 @@ fn options(run: RunArgs, out: Option<PathBuf>) -> Options {
         overrides: run.overrides,
         split_sections: false,
         skip_workbooks: false,
+        skip_handouts: false,
         pseudonym_key: None,
         baseline: None,
         timestamp: std::env::var("SOURCE_DATE_EPOCH")
@@ -185,6 +186,7 @@ fn grade(mut run: RunArgs, mut g: GradeArgs) -> Result<ExitCode> {
     let mut opts = options(run, Some(g.out));
     opts.split_sections = g.split_sections;
     opts.skip_workbooks = g.skip_workbooks;
+    opts.skip_handouts = g.skip_handouts;
     opts.baseline = g.baseline;
     opts.pseudonym_key = key;
     opts.timestamp = g.timestamp.or(opts.timestamp);

@@ -15,10 +15,10 @@ use std::io::Write as _;
 use std::path::{Path, PathBuf};
 
 use super::atomic::{AtomicFile, Stage};
-use super::html::escape;
+use super::html::{escape, escape_into};
 use super::workbook::file_stem;
 use crate::error::WriteError;
-use crate::model::columns::{self, Column};
+use crate::model::columns;
 use crate::model::{Flag, Graded, Severity};
 
 /// The folder under the output folder that holds the handouts.
@@ -44,6 +44,8 @@ ul{margin:0;padding-left:5mm}li{margin:0.5mm 0}\
 pub struct Handouts {
     dir: PathBuf,
     title: String,
+    /// The title, escaped once for every page.
+    title_html: String,
     stage: Stage,
     files: BTreeMap<String, AtomicFile>,
     stems: BTreeMap<String, String>,
@@ -52,56 +54,55 @@ pub struct Handouts {
     page: String,
 }
 
-/// The values a handout shows: (label with unit, what the student reported, what was used).
-fn values(g: &Graded) -> Vec<(String, Option<f64>, Option<f64>, u8)> {
+/// The labels of the values a handout shows, escaped once.
+fn value_labels() -> &'static [String; 11] {
+    static LABELS: std::sync::OnceLock<[String; 11]> = std::sync::OnceLock::new();
+    LABELS.get_or_init(|| {
+        [
+            columns::CRUDE_MASS_G.header(),
+            columns::RECOVERED_MASS_G.header(),
+            columns::SOLVENT_VOLUME_ML.header(),
+            "Melting onset (°C)".into(),
+            "Clear point (°C)".into(),
+            "Recovery (%)".into(),
+            columns::RANGE_WIDTH_C.header(),
+            columns::REFERENCE_MP_C.header(),
+            columns::DEPRESSION_C.header(),
+            columns::PURITY_MOL_PCT.header(),
+            columns::MAX_RECOVERY_PCT.header(),
+        ]
+        .map(|l| escape(&l))
+    })
+}
+
+/// The values a handout shows, in `value_labels` order: (what the student reported, what was
+/// used or recomputed, decimals).
+fn values(g: &Graded) -> [(Option<f64>, Option<f64>, u8); 11] {
     let a = &g.assessed;
     let s = &a.submission;
-    let row = g.row();
-    let n = |c: &Column| c.number(row).filter(|v| v.is_finite());
-    vec![
-        (columns::CRUDE_MASS_G.header(), s.crude_mass_g, None, 3),
-        (
-            columns::RECOVERED_MASS_G.header(),
-            s.recovered_mass_g,
-            None,
-            3,
-        ),
-        (
-            columns::SOLVENT_VOLUME_ML.header(),
-            s.solvent_volume_ml,
-            None,
-            1,
-        ),
-        ("Melting onset (°C)".into(), s.mp_onset_c, a.mp_onset_c, 1),
-        ("Clear point (°C)".into(), s.mp_clear_c, a.mp_clear_c, 1),
-        (
-            "Recovery (%)".into(),
-            s.reported_recovery_pct,
-            a.recovery_pct,
-            1,
-        ),
-        (
-            columns::RANGE_WIDTH_C.header(),
-            None,
-            n(&columns::RANGE_WIDTH_C),
-            1,
-        ),
-        (columns::REFERENCE_MP_C.header(), None, a.reference_mp_c, 1),
-        (columns::DEPRESSION_C.header(), None, a.depression_c, 1),
-        (columns::PURITY_MOL_PCT.header(), None, a.purity_mol_pct, 1),
-        (
-            columns::MAX_RECOVERY_PCT.header(),
-            None,
-            a.max_recovery_pct,
-            1,
-        ),
+    let width = columns::RANGE_WIDTH_C
+        .number(g.row())
+        .filter(|v| v.is_finite());
+    [
+        (s.crude_mass_g, None, 3),
+        (s.recovered_mass_g, None, 3),
+        (s.solvent_volume_ml, None, 1),
+        (s.mp_onset_c, a.mp_onset_c, 1),
+        (s.mp_clear_c, a.mp_clear_c, 1),
+        (s.reported_recovery_pct, a.recovery_pct, 1),
+        (None, width, 1),
+        (None, a.reference_mp_c, 1),
+        (None, a.depression_c, 1),
+        (None, a.purity_mol_pct, 1),
+        (None, a.max_recovery_pct, 1),
     ]
 }
 
-fn cell(v: Option<f64>, decimals: u8) -> String {
-    v.filter(|v| v.is_finite())
-        .map(|v| format!("{v:.*}", usize::from(decimals)))
-        .unwrap_or_default()
+/// Appends a value to `decimals` places; nothing where there is none.
+fn push_cell(out: &mut String, v: Option<f64>, decimals: u8) {
+    if let Some(v) = v.filter(|v| v.is_finite()) {
+        let _ = write!(out, "{v:.*}", usize::from(decimals));
+    }
 }
 
 impl Handouts {
@@ -109,6 +110,7 @@ impl Handouts {
         Handouts {
             dir: out_dir.join(FOLDER),
             title: title.to_string(),
+            title_html: escape(title),
             stage: stage.clone(),
             files: BTreeMap::new(),
             stems: BTreeMap::new(),
@@ -171,7 +173,7 @@ impl Handouts {
         }
         let mut page = std::mem::take(&mut self.page);
         page.clear();
-        write_page(&mut page, &self.title, g);
+        write_page(&mut page, &self.title_html, g);
         let section = g.assessed.submission.section.clone();
         if let Some(f) = self.file(&section)? {
             f.write_all(page.as_bytes()).map_err(|e| f.error(e))?;
@@ -190,37 +192,34 @@ impl Handouts {
     }
 }
 
-/// One student's printed page.
-fn write_page(out: &mut String, title: &str, g: &Graded) {
+/// One student's printed page, under the title (already escaped).
+fn write_page(out: &mut String, title_html: &str, g: &Graded) {
     let a = &g.assessed;
     let s = &a.submission;
-    let name = s.student_name.as_deref().unwrap_or("(no name)");
-    let id = s.student_id.as_deref().unwrap_or("(no id)");
-    let _ = write!(
-        out,
-        "<section class=\"student\"><p class=\"course\">{} · section {}</p><h1>{}</h1><p class=\"id\">Student id {}</p>",
-        escape(title),
-        escape(&s.section),
-        escape(name),
-        escape(id)
-    );
+    out.push_str("<section class=\"student\"><p class=\"course\">");
+    out.push_str(title_html);
+    out.push_str(" · section ");
+    escape_into(out, &s.section);
+    out.push_str("</p><h1>");
+    escape_into(out, s.student_name.as_deref().unwrap_or("(no name)"));
+    out.push_str("</h1><p class=\"id\">Student id ");
+    escape_into(out, s.student_id.as_deref().unwrap_or("(no id)"));
+    out.push_str("</p>");
     if let Some(why) = &a.excused {
-        let _ = write!(
-            out,
-            "<p class=\"total\">Excused: not graded</p><p>{}</p></section>",
-            escape(why)
-        );
+        out.push_str("<p class=\"total\">Excused: not graded</p><p>");
+        escape_into(out, why);
+        out.push_str("</p></section>");
         return;
     }
     out.push_str("<div class=\"pair\"><div><h2>Your values</h2><table><thead><tr><th>Quantity</th><th>Reported</th><th>Used or recomputed</th></tr></thead><tbody>");
-    for (label, reported, used, d) in values(g) {
-        let _ = write!(
-            out,
-            "<tr><td>{}</td><td class=\"n\">{}</td><td class=\"n\">{}</td></tr>",
-            escape(&label),
-            cell(reported, d),
-            cell(used, d)
-        );
+    for (label, (reported, used, d)) in value_labels().iter().zip(values(g)) {
+        out.push_str("<tr><td>");
+        out.push_str(label);
+        out.push_str("</td><td class=\"n\">");
+        push_cell(out, reported, d);
+        out.push_str("</td><td class=\"n\">");
+        push_cell(out, used, d);
+        out.push_str("</td></tr>");
     }
     out.push_str("</tbody></table></div><div>");
     points(out, g);
@@ -234,28 +233,31 @@ fn write_page(out: &mut String, title: &str, g: &Graded) {
         .split("; ")
         .filter(|x| !x.starts_with("Total "))
     {
-        let _ = write!(out, "<li>{}</li>", escape(sentence));
+        out.push_str("<li>");
+        escape_into(out, sentence);
+        out.push_str("</li>");
     }
     let _ = write!(
         out,
-        "</ul><p class=\"total\">Total {} of {}{}</p></section>",
+        "</ul><p class=\"total\">Total {} of {}",
         crate::numtext::points(g.score.total),
-        crate::numtext::points(g.score.max),
-        g.score
-            .letter
-            .as_deref()
-            .map(|l| format!(" — {}", escape(l)))
-            .unwrap_or_default()
+        crate::numtext::points(g.score.max)
     );
+    if let Some(l) = g.score.letter.as_deref() {
+        out.push_str(" — ");
+        escape_into(out, l);
+    }
+    out.push_str("</p></section>");
 }
 
 fn points(out: &mut String, g: &Graded) {
     out.push_str("<h2>Points</h2><table><thead><tr><th>Criterion</th><th>Points</th><th>Of</th></tr></thead><tbody>");
     for c in &g.score.criteria {
+        out.push_str("<tr><td>");
+        escape_into(out, &c.label);
         let _ = write!(
             out,
-            "<tr><td>{}</td><td class=\"n\">{}</td><td class=\"n\">{}</td></tr>",
-            escape(&c.label),
+            "</td><td class=\"n\">{}</td><td class=\"n\">{}</td></tr>",
             crate::numtext::points(c.points),
             crate::numtext::points(c.max)
         );
@@ -267,26 +269,24 @@ fn flags_and_overrides(out: &mut String, g: &Graded) {
     let a = &g.assessed;
     if !a.flags.is_empty() {
         out.push_str("<h2>What was flagged</h2><ul>");
-        for (f, reason) in &a.flags {
+        // the reason, with what the flag did to the points, is in the feedback below
+        for (f, _) in &a.flags {
             let kind = match f.severity() {
                 Severity::Impossible => "! cannot be right",
                 Severity::Suspicious => "? looks wrong",
             };
-            // the reason, with what the flag did to the points, is in the feedback below
-            let _ = reason;
-            let _ = write!(
-                out,
-                "<li><span class=\"mark\">{kind}</span>: {} <span class=\"code\">({})</span></li>",
-                escape(f.meaning()),
-                f.code()
-            );
+            let _ = write!(out, "<li><span class=\"mark\">{kind}</span>: ");
+            escape_into(out, f.meaning());
+            let _ = write!(out, " <span class=\"code\">({})</span></li>", f.code());
         }
         out.push_str("</ul>");
     }
     if !g.score.overrides.is_empty() {
         out.push_str("<h2>Changed by a grader</h2><ul>");
         for o in &g.score.overrides {
-            let _ = write!(out, "<li>{}</li>", escape(o));
+            out.push_str("<li>");
+            escape_into(out, o);
+            out.push_str("</li>");
         }
         out.push_str("</ul>");
     }
@@ -317,9 +317,10 @@ mod tests {
             },
         };
         let mut page = String::new();
-        write_page(&mut page, "CHEM <x>", &g);
+        write_page(&mut page, &escape("CHEM <x>"), &g);
         assert!(!page.contains("<img") && !page.contains("<script") && !page.contains("<b>"));
         assert!(page.contains("&lt;img src=x onerror=alert(1)&gt;"));
         assert!(page.contains("s&amp;1") && page.contains("Recovery: &lt;script&gt;"));
+        assert!(page.contains("CHEM &lt;x&gt;") && page.contains("Sec &lt;b&gt;"));
     }
 }

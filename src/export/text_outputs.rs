@@ -17,7 +17,8 @@ pub struct TextOutputs {
     pub pseudonymized: Option<ResultsCsv>,
     pub json: ResultsJson,
     pub gradebook: Gradebook,
-    pub handouts: Handouts,
+    /// `None` with `--skip-handouts`.
+    pub handouts: Option<Handouts>,
 }
 
 impl RowSink for TextOutputs {
@@ -34,7 +35,9 @@ impl RowSink for TextOutputs {
             }
             self.json.row(g)?;
             self.gradebook.row(g)?;
-            self.handouts.row(g)?;
+            if let Some(h) = self.handouts.as_mut() {
+                h.row(g)?;
+            }
         }
         Ok(())
     }
@@ -46,7 +49,7 @@ impl RowSink for TextOutputs {
         }
         self.json.finish(&problems)?;
         self.gradebook.finish()?;
-        self.handouts.finish()
+        self.handouts.map_or(Ok(()), Handouts::finish)
     }
 }
 

@@ -150,7 +150,8 @@ fn open_text_outputs(
         pseudonymized,
         json: ResultsJson::create(&paths[1], stage)?,
         gradebook: Gradebook::create(&paths[2], stage)?,
-        handouts: Handouts::new(&config.out_dir, &config.title, stage),
+        handouts: (!config.skip_handouts)
+            .then(|| Handouts::new(&config.out_dir, &config.title, stage)),
     })
 }
 

@@ -196,6 +196,42 @@ fn a_handout_prints_one_student_a_page() {
     }
 }
 
+/// A handout page per graded student who counts, and `--skip-handouts` drops the folder on a
+/// re-run (the manifest's stale-output rule) while every other output stays byte for byte.
+#[test]
+fn skipping_handouts_leaves_every_other_output_alone() {
+    let f = Fixture::new();
+    let rows = graded(&f);
+    let counted = rows
+        .iter()
+        .filter(|r| !r["flags"].contains("duplicate-student"))
+        .count();
+    let handouts = f.path("out/handouts");
+    let pages: usize = std::fs::read_dir(&handouts)
+        .expect("handouts folder")
+        .map(|e| std::fs::read_to_string(e.unwrap().path()).unwrap())
+        .map(|html| html.matches("<section class=\"student\">").count())
+        .sum();
+    assert_eq!(pages, counted, "one page for every student who counts");
+    let before = |name: &str| std::fs::read(f.path(&format!("out/{name}"))).unwrap();
+    let kept = [
+        "results.csv",
+        "gradebook.csv",
+        "cohort-report.html",
+        "section-stats.csv",
+    ]
+    .map(|n| (n, before(n)));
+    let run = grade_sample(&f, "out", &["--timestamp", "1795000000", "--skip-handouts"]);
+    assert_eq!(run.code, 0, "{}", run.stderr);
+    assert!(
+        !handouts.exists(),
+        "the previous run's handouts are removed"
+    );
+    for (name, bytes) in kept {
+        assert!(before(name) == bytes, "{name} changed with --skip-handouts");
+    }
+}
+
 #[test]
 fn the_report_prints_on_a_few_pages_with_every_figure_whole() {
     let (Some(browser), Some(_)) = (chromium(), pdftotext()) else {
