@@ -218,9 +218,17 @@ fn grade(mut run: RunArgs, mut g: GradeArgs) -> Result<ExitCode> {
             "{}",
             check_report::summary(&batch.tally, &[], batch.files.len())
         )?;
+        let mut wrote = vec!["the results", "gradebook"];
+        if !config.skip_workbooks {
+            wrote.push("workbooks");
+        }
+        if !config.skip_handouts {
+            wrote.push("handouts");
+        }
         writeln!(
             out,
-            "wrote the results, gradebook, workbooks and cohort report into {}",
+            "wrote {} and cohort report into {}",
+            wrote.join(", "),
             config.out_dir.display()
         )?;
     }

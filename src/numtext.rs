@@ -115,6 +115,11 @@ pub fn push_points(out: &mut String, v: f64) {
 }
 
 /// `push_points` into a new string.
+/// A count with its noun, singular for one: "1 file", "3 files".
+pub fn count(n: usize, one: &str, many: &str) -> String {
+    format!("{n} {}", if n == 1 { one } else { many })
+}
+
 pub fn points(v: f64) -> String {
     let mut s = String::new();
     push_points(&mut s, v);

@@ -272,6 +272,9 @@ fn stream(
         let seen = grader.assessor.apparatus_seen();
         batch.problems.extend(unused_calibration(cal, seen));
     }
+    batch
+        .problems
+        .extend(merged_sections(grader.assessor.merged_sections()));
     if let Some(e) = failure {
         return Err(e.into());
     }
@@ -280,6 +283,22 @@ fn stream(
         return Err(ConfigError::Invalid(unmatched.join("\n")).into());
     }
     Ok(())
+}
+
+/// A note for each section label read as a section spelt otherwise earlier in the batch.
+fn merged_sections(merged: &[crate::assess::SectionMerge]) -> Vec<Problem> {
+    merged
+        .iter()
+        .map(|m| Problem {
+            file: m.source.clone(),
+            sheet: m.sheet.clone(),
+            message: format!(
+                "row {}: section \"{}\" is graded as section \"{}\" (labels that differ only in case, spacing, punctuation or a number's leading zeros name one section); if they are different sections, give them labels that differ in a letter or digit",
+                m.row, m.label, m.read_as
+            ),
+            fatal: false,
+        })
+        .collect()
 }
 
 /// A note for each `[columns."file [sheet]"]` table that matched no sheet read.
@@ -587,6 +606,7 @@ pub fn grade_with_progress(
             problems: batch.problems,
         });
     }
+    batch.problems.extend(tallies.handout_note(config));
     let stats = std::sync::Arc::new(std::mem::take(&mut tallies.stats));
     threads.start_finish(&provenance, &stats, &batch.problems);
     tallies.write_summaries(config, &stats, &provenance, &stage)?;

@@ -205,6 +205,16 @@ mod tests {
         assert_eq!(section_key("Monday"), "monday");
         assert_eq!(bench_key("10"), "10");
         assert_eq!(bench_key("B10"), "10");
+        // what parts two digits parts the labels (a trial: "2.1" and "21" were one section)
+        assert_ne!(section_key("2.1"), section_key("21"));
+        assert_ne!(section_key("Lab 1/2"), section_key("Lab 12"));
+        assert_ne!(bench_key("B1-2"), bench_key("B12"));
+        assert_eq!(bench_key("B1-2"), bench_key("1.2"));
+        assert_eq!(section_key("Sec 2.1"), section_key("2.1"));
+        assert_eq!(bench_key("0.5"), "0.5");
+        for written in ["Sec A", "sec a", "Sec-A", "SEC  A", "Sec A."] {
+            assert_eq!(section_key(written), "seca", "{written}");
+        }
     }
 
     fn reading(apparatus: &str, row: usize, observed: f64, certified: f64) -> Reading {

@@ -128,6 +128,21 @@ pub struct Assessor<'a> {
     default: Resolved<'a>,
     /// Each section's label as first seen, by `section_key`: "01" and "Sec 01" are one section.
     sections: HashMap<String, String>,
+    /// Every spelling met, with the section it was read as.
+    spellings: HashMap<String, String>,
+    /// The spellings read as a section first seen under another, in the order met.
+    merged: Vec<SectionMerge>,
+}
+
+/// A section label read as a section first seen under another spelling ("sec a" as "Sec A").
+#[derive(Clone, Debug)]
+pub struct SectionMerge {
+    pub label: String,
+    pub read_as: String,
+    /// Where the spelling was first met.
+    pub source: String,
+    pub sheet: Option<String>,
+    pub row: u32,
 }
 
 /// Readings after calibration, and what was done to them.
@@ -149,6 +164,8 @@ impl<'a> Assessor<'a> {
             compounds: HashMap::new(),
             default,
             sections: HashMap::new(),
+            spellings: HashMap::new(),
+            merged: Vec::new(),
         }
     }
 
@@ -300,18 +317,39 @@ impl<'a> Assessor<'a> {
         flags
     }
 
-    /// Assesses the next submission of the batch.
-    /// The section's label as first seen in the batch.
-    fn section(&mut self, label: &str) -> String {
-        let key = crate::model::section_key(label);
-        self.sections
-            .entry(key)
-            .or_insert_with(|| label.to_string())
-            .clone()
+    /// Section labels read as a section first seen under another spelling.
+    pub fn merged_sections(&self) -> &[SectionMerge] {
+        &self.merged
     }
 
+    /// The section's label as first seen in the batch; a new spelling of it is recorded.
+    fn section(&mut self, sub: &Submission) -> String {
+        if let Some(known) = self.spellings.get(&sub.section) {
+            return known.clone();
+        }
+        let label = &sub.section;
+        let key = crate::model::section_key(label);
+        let first = self
+            .sections
+            .entry(key)
+            .or_insert_with(|| label.clone())
+            .clone();
+        if first != *label {
+            self.merged.push(SectionMerge {
+                label: label.clone(),
+                read_as: first.clone(),
+                source: sub.source.clone(),
+                sheet: sub.sheet.clone(),
+                row: sub.row,
+            });
+        }
+        self.spellings.insert(label.clone(), first.clone());
+        first
+    }
+
+    /// Assesses the next submission of the batch.
     pub fn assess(&mut self, mut sub: Submission) -> Assessed {
-        sub.section = self.section(&sub.section);
+        sub.section = self.section(&sub);
         let resolved = self.resolve(sub.compound.as_deref());
         let t = self.ctx.tolerances;
         let readings = self.calibrate(&sub);

@@ -222,8 +222,12 @@ pub fn summary(tally: &Tally, problems: &[Problem], files: usize) -> String {
         n => format!(", {n} excused (-)"),
     };
     let mut out = format!(
-        "{} submissions from {} files: {} with impossible entries (!), {} suspicious only (?), {} clean{excused}\n",
-        tally.rows, files, tally.impossible, tally.suspicious, clean
+        "{} from {}: {} with impossible entries (!), {} suspicious only (?), {} clean{excused}\n",
+        crate::numtext::count(tally.rows, "submission", "submissions"),
+        crate::numtext::count(files, "file", "files"),
+        tally.impossible,
+        tally.suspicious,
+        clean
     );
     for p in problems {
         let kind = if p.fatal { "error:" } else { "note:" };

@@ -27,7 +27,7 @@ pub const FOLDER: &str = "handouts";
 /// Most sections that get a handout file (each is an open file while the batch streams).
 pub const MAX_SECTIONS: usize = 400;
 
-const STYLE: &str = "body{font:9.5pt/1.35 'DejaVu Sans',Arial,sans-serif;color:#111;margin:0}\
+const STYLE: &str = "body{font:9.5pt/1.35 'DejaVu Sans',Arial,sans-serif;color:#111;margin:0;overflow-wrap:anywhere}\
 .student{padding:0;max-width:185mm}\
 .student+.student{break-before:page;page-break-before:always}\
 h1{font-size:14pt;margin:0 0 1mm}h2{font-size:10.5pt;margin:3.5mm 0 1mm}\
@@ -201,7 +201,7 @@ fn write_page(out: &mut String, title_html: &str, g: &Graded) {
     out.push_str(" · section ");
     escape_into(out, &s.section);
     out.push_str("</p><h1>");
-    escape_into(out, s.student_name.as_deref().unwrap_or("(no name)"));
+    escape_into(out, &shown_name(s.student_name.as_deref()));
     out.push_str("</h1><p class=\"id\">Student id ");
     escape_into(out, s.student_id.as_deref().unwrap_or("(no id)"));
     out.push_str("</p>");
@@ -248,6 +248,19 @@ fn write_page(out: &mut String, title_html: &str, g: &Graded) {
         escape_into(out, l);
     }
     out.push_str("</p></section>");
+}
+
+/// The name as the page shows it: no name is said, and text far longer than any name is cut
+/// with a mark so that the student's page stays one page.
+fn shown_name(name: Option<&str>) -> std::borrow::Cow<'_, str> {
+    const LONGEST: usize = 120;
+    match name {
+        None => "(no name)".into(),
+        Some(n) if n.chars().count() > LONGEST => {
+            format!("{}…", n.chars().take(LONGEST).collect::<String>()).into()
+        }
+        Some(n) => n.into(),
+    }
 }
 
 fn points(out: &mut String, g: &Graded) {
@@ -322,5 +335,7 @@ mod tests {
         assert!(page.contains("&lt;img src=x onerror=alert(1)&gt;"));
         assert!(page.contains("s&amp;1") && page.contains("Recovery: &lt;script&gt;"));
         assert!(page.contains("CHEM &lt;x&gt;") && page.contains("Sec &lt;b&gt;"));
+        assert_eq!(shown_name(Some(&"é".repeat(500))).chars().count(), 121);
+        assert_eq!(shown_name(Some("Ana Lima")), "Ana Lima");
     }
 }

@@ -233,26 +233,36 @@ pub fn sections_table(stats: &SectionStats) -> Table {
             col("95 % CI high", "ci95_high", 2),
             col("excluded", "excluded", 0),
             col("excused", "excused", 0),
+            col("no value", "missing", 0),
         ],
         rows: stats
             .summaries()
             .into_iter()
-            .filter_map(|row| {
-                let x = row.summary?;
-                Some(vec![
-                    text(row.section),
-                    text(&row.measure.column().header()),
-                    Cell::Count(x.n),
-                    Cell::Number(x.mean),
-                    Cell::Number(x.sd),
-                    Cell::Number(x.median),
-                    Cell::Number(x.q1),
-                    Cell::Number(x.q3),
-                    Cell::Number(x.ci95_low),
-                    Cell::Number(x.ci95_high),
+            .filter(|row| row.summary.is_some() || row.excused + row.excluded + row.missing > 0)
+            .map(|row| {
+                let mut cells = vec![text(row.section), text(&row.measure.column().header())];
+                if let Some(x) = row.summary {
+                    cells.extend([
+                        Cell::Count(x.n),
+                        Cell::Number(x.mean),
+                        Cell::Number(x.sd),
+                        Cell::Number(x.median),
+                        Cell::Number(x.q1),
+                        Cell::Number(x.q3),
+                        Cell::Number(x.ci95_low),
+                        Cell::Number(x.ci95_high),
+                    ]);
+                } else {
+                    // every row excused, impossible or blank for the measure: the counts say which
+                    cells.push(Cell::Count(0));
+                    cells.extend(std::iter::repeat_n(Cell::Number(f64::NAN), 7));
+                }
+                cells.extend([
                     Cell::Count(row.excluded),
                     Cell::Count(row.excused),
-                ])
+                    Cell::Count(row.missing),
+                ]);
+                cells
             })
             .collect(),
     }
@@ -264,6 +274,18 @@ fn fmt(v: f64, places: usize) -> String {
 }
 
 /// The findings in plain language, most important first.
+/// The sentence about results far from their section's median, if there are any.
+fn outliers_finding(n: usize) -> Option<String> {
+    let (count, lie, its) = match n {
+        0 => return None,
+        1 => ("1 result".to_string(), "lies", "its"),
+        n => (format!("{n} results"), "lie", "their"),
+    };
+    Some(format!(
+        "{count} {lie} far from {its} section's median (robust z beyond 3.5); listed below"
+    ))
+}
+
 pub fn findings(r: &Report) -> Vec<String> {
     let mut out: Vec<String> = r
         .bias
@@ -317,9 +339,7 @@ pub fn findings(r: &Report) -> Vec<String> {
             first.note
         ));
     }
-    if !r.outliers.is_empty() {
-        out.push(format!("{} results lie far from their section's median (robust z beyond 3.5); they are listed below", r.outliers.len()));
-    }
+    out.extend(outliers_finding(r.outliers.len()));
     if out.is_empty() {
         out.push("No section, assistant or bench stands out at the thresholds used.".into());
     }

@@ -31,6 +31,7 @@ pub fn write(path: &Path, stats: &SectionStats, stage: &Stage) -> Result<(), Wri
             }
             rec.push(row.excluded.to_string());
             rec.push(row.excused.to_string());
+            rec.push(row.missing.to_string());
             csv.write_record(&rec)?;
         }
         csv.flush()

@@ -13,7 +13,7 @@ use crate::stats::sections::{SectionStats, SectionSummary};
 use crate::stats::{histogram, QUANTILE_DEFINITION};
 
 /// The statistics table's headers, for people; the columns of section-stats.csv in order.
-pub const STAT_LABELS: [&str; 15] = [
+pub const STAT_LABELS: [&str; 16] = [
     "Section",
     "Measure",
     "n",
@@ -29,6 +29,7 @@ pub const STAT_LABELS: [&str; 15] = [
     "95 % CI, high",
     "Left out (impossible)",
     "Excused",
+    "No value",
 ];
 
 /// Where the charts' own numbers are written: to the right of what is printed.
@@ -104,6 +105,7 @@ fn summary_row(ws: &mut Worksheet, r: u32, row: &SectionSummary<'_>) -> Result<(
     }
     ws.write_number(r, 13, row.excluded as f64)?;
     ws.write_number(r, 14, row.excused as f64)?;
+    ws.write_number(r, 15, row.missing as f64)?;
     Ok(())
 }
 

@@ -135,6 +135,8 @@ pub struct Row<'a> {
 /// Matching key for an apparatus or bench, the one way benches are told apart everywhere:
 /// lower case, letters and digits only, a leading "bench", "station", "apparatus" or "b" before
 /// a number dropped, and the number's leading zeros too ("Bench 7", "B07", "07" and "7" match).
+/// Whatever stands between two digits still parts them: "1-2", "1.2" and "1 2" are one label,
+/// "12" another.
 pub fn bench_key(text: &str) -> String {
     // a number cell read back as text: bench 1.0 is bench 1, not bench 10
     if let Ok(v) = text.trim().parse::<f64>() {
@@ -142,11 +144,7 @@ pub fn bench_key(text: &str) -> String {
             return format!("{}", v as u64);
         }
     }
-    let k: String = text
-        .to_lowercase()
-        .chars()
-        .filter(|c| c.is_alphanumeric())
-        .collect();
+    let k = letters_and_digits(text);
     let mut rest = k.as_str();
     for prefix in ["bench", "station", "apparatus", "b"] {
         if let Some(r) = k.strip_prefix(prefix) {
@@ -169,17 +167,32 @@ pub fn bench_key(text: &str) -> String {
     rest.to_string()
 }
 
+/// `text` in lower case, letters and digits only, with a "." where anything else stood between
+/// two digits.
+fn letters_and_digits(text: &str) -> String {
+    let mut k = String::with_capacity(text.len());
+    let mut gap = false;
+    for c in text.chars().flat_map(char::to_lowercase) {
+        if c.is_alphanumeric() {
+            if gap && c.is_ascii_digit() && k.ends_with(|d: char| d.is_ascii_digit()) {
+                k.push('.');
+            }
+            k.push(c);
+            gap = false;
+        } else {
+            gap = true;
+        }
+    }
+    k
+}
+
 /// Matching key for a section label, the way benches are matched: "Sec 01", "Section 1", "01",
-/// "1" and "S1" are one section; "Sec 01A" and "Monday" are themselves.
+/// "1" and "S1" are one section; "Sec 01A" and "Monday" are themselves; "2.1" is not "21".
 pub fn section_key(text: &str) -> String {
     if text.trim().parse::<f64>().is_ok() {
         return bench_key(text);
     }
-    let k: String = text
-        .to_lowercase()
-        .chars()
-        .filter(|c| c.is_alphanumeric())
-        .collect();
+    let k = letters_and_digits(text);
     let mut rest = k.as_str();
     for prefix in ["section", "sect", "sec", "lab", "group", "s"] {
         if let Some(r) = k.strip_prefix(prefix) {

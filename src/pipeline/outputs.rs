@@ -165,6 +165,10 @@ pub(super) struct Tallies {
     quality: Quality,
     parquet: ParquetRows,
     letters: BTreeMap<String, usize>,
+    /// The sections that get a handout file, in the order the handouts meet them.
+    handout_sections: std::collections::HashSet<String>,
+    /// Students (and their sections, first label met) past the handouts' section limit.
+    without_handout: (usize, std::collections::BTreeSet<String>, Option<String>),
 }
 
 impl Tallies {
@@ -182,6 +186,8 @@ impl Tallies {
                 stage,
             )?,
             letters: BTreeMap::new(),
+            handout_sections: std::collections::HashSet::new(),
+            without_handout: (0, std::collections::BTreeSet::new(), None),
         })
     }
 
@@ -198,7 +204,48 @@ impl Tallies {
             let s = &g.assessed.submission;
             plan.book(&s.source, &s.section);
         }
+        self.count_handout(g);
         Ok(())
+    }
+
+    /// Follows the handouts' section limit as the text thread meets it (same rows, same order).
+    fn count_handout(&mut self, g: &Graded) {
+        if g.assessed.has(Flag::DuplicateStudent) {
+            return;
+        }
+        let section = &g.assessed.submission.section;
+        if self.handout_sections.contains(section) {
+            return;
+        }
+        if self.handout_sections.len() < crate::export::handouts::MAX_SECTIONS {
+            self.handout_sections.insert(section.clone());
+            return;
+        }
+        let (students, sections, first) = &mut self.without_handout;
+        *students += 1;
+        sections.insert(section.clone());
+        first.get_or_insert_with(|| section.clone());
+    }
+
+    /// A note when sections past the handouts' limit got none (never with `--skip-handouts`).
+    pub(super) fn handout_note(&self, config: &Config) -> Option<Problem> {
+        let (students, sections, first) = &self.without_handout;
+        let first = first.as_ref().filter(|_| !config.skip_handouts)?;
+        Some(Problem {
+            file: config
+                .out_dir
+                .join(crate::export::handouts::FOLDER)
+                .display()
+                .to_string(),
+            sheet: None,
+            message: format!(
+                "handouts are written for the first {} sections of a batch; {} more sections ({} students, from section \"{first}\" on) have none: grade them in a batch of their own for their handouts",
+                crate::export::handouts::MAX_SECTIONS,
+                sections.len(),
+                students
+            ),
+            fatal: false,
+        })
     }
 
     /// section-stats.csv, the baseline comparison, results.parquet and the cohort report.

@@ -70,8 +70,9 @@ pub const SUMMARY_COLUMNS: [&str; 13] = [
 ];
 
 /// Columns appended after `SUMMARY_COLUMNS` in section-stats.csv and the Statistics sheets:
-/// rows left out of the measure for impossible entries, and excused students.
-pub const LEFT_OUT_COLUMNS: [&str; 2] = ["excluded", "excused"];
+/// rows left out of the measure for impossible entries, excused students, and rows that count
+/// but hold no value for it (n + excluded + excused + missing is every row of the section).
+pub const LEFT_OUT_COLUMNS: [&str; 3] = ["excluded", "excused", "missing"];
 
 /// Linear inclusive quantile of sorted data: h = (n - 1) p, interpolated between neighbours.
 pub fn quantile_sorted(sorted: &[f64], p: f64) -> f64 {

@@ -19,6 +19,8 @@ pub struct Group {
     values: Vec<Vec<f64>>,
     /// For each summarised measure, how many rows were left out of it.
     left_out: Vec<usize>,
+    /// For each summarised measure, how many rows that count for it hold no value for it.
+    missing: Vec<usize>,
     pub flags: BTreeMap<&'static str, usize>,
     /// Rows left out of some measure's statistics: where, which measures, and why.
     pub excluded: Vec<String>,
@@ -39,6 +41,9 @@ pub struct SectionSummary<'a> {
     pub excluded: usize,
     /// Excused students of the section.
     pub excused: usize,
+    /// Rows that count for the measure but hold no value for it (a blank mass, a missing
+    /// reading): with `n`, `excluded` and `excused`, every row of the section.
+    pub missing: usize,
 }
 
 /// Statistics for every section of the batch, in section-name order.
@@ -78,6 +83,7 @@ impl SectionStats {
         let group = self.groups.entry(s.section.clone()).or_default();
         group.values.resize_with(n, Vec::new);
         group.left_out.resize(n, 0);
+        group.missing.resize(n, 0);
         group.rows += 1;
         if a.excused.is_some() {
             group.excused += 1;
@@ -90,7 +96,10 @@ impl SectionStats {
         let mut left_out = Vec::new();
         for (i, m) in self.measures.iter().enumerate() {
             if a.counts_for(*m) {
-                group.values[i].extend(m.value(row));
+                match m.value(row) {
+                    Some(v) => group.values[i].push(v),
+                    None => group.missing[i] += 1,
+                }
             } else {
                 group.left_out[i] += 1;
                 left_out.push(m.noun());
@@ -146,6 +155,7 @@ impl SectionStats {
                     summary: summarize(values),
                     excluded: g.left_out.get(i).copied().unwrap_or(0),
                     excused: g.excused,
+                    missing: g.missing.get(i).copied().unwrap_or(0),
                 });
             }
         }

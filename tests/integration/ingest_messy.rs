@@ -252,3 +252,48 @@ fn reference_mp_option_and_unknown_compounds() {
     assert_eq!(flags(&rows[2]), vec!["unknown-compound"]);
     assert_eq!(rows[2]["reference_mp_c"], "");
 }
+
+/// Section labels that differ only in case or spacing are one section, said once per spelling;
+/// labels that differ in a digit or in what stands between two digits ("2.1", "21", "Lab 1/2",
+/// "Lab 12") are sections of their own.
+#[test]
+fn section_labels_merge_only_on_case_spacing_and_punctuation_and_say_so() {
+    let f = Fixture::new();
+    let mut csv =
+        String::from("Section,Student ID,Name,Crude (g),Recovered (g),MP onset,MP clear\n");
+    let labels = ["2.1", "21", "Lab 1/2", "Lab 12", "Sec A", "sec  a", "Sec A"];
+    for (i, s) in labels.iter().enumerate() {
+        csv.push_str(&format!(
+            "{s},{},Student {i},2.50,1.80,121.0,122.0\n",
+            9100 + i
+        ));
+    }
+    f.write("sections.csv", csv);
+    let run = f.run(&["grade", "sections.csv", "--out", "out"]);
+    assert_eq!(run.code, 0, "{}", run.stderr);
+    let rows = f.results("out");
+    let sections: Vec<&str> = rows.iter().map(|r| r["section"].as_str()).collect();
+    assert_eq!(
+        sections,
+        ["2.1", "21", "Lab 1/2", "Lab 12", "Sec A", "Sec A", "Sec A"]
+    );
+    assert!(rows
+        .iter()
+        .all(|r| !r["flags"].contains("duplicate-student")));
+    let notes: Vec<&str> = run
+        .stderr
+        .lines()
+        .filter(|l| l.contains("is graded as section"))
+        .collect();
+    assert_eq!(
+        notes.len(),
+        1,
+        "one note for the one other spelling: {notes:?}"
+    );
+    assert!(
+        notes[0].contains("row 7")
+            && notes[0].contains("\"sec  a\" is graded as section \"Sec A\"")
+    );
+    let handouts = std::fs::read_dir(f.path("out/handouts")).unwrap().count();
+    assert_eq!(handouts, 5, "a handout file per section");
+}

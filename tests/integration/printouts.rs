@@ -232,6 +232,42 @@ fn skipping_handouts_leaves_every_other_output_alone() {
     }
 }
 
+/// Past the handouts' section limit the sections left without one are said, not dropped
+/// silently (a trial: 405 one-student sections gave 400 files and no word).
+#[test]
+fn sections_past_the_handout_limit_are_named_in_a_note() {
+    let f = Fixture::new();
+    let limit = benchgrade::export::handouts::MAX_SECTIONS;
+    let mut csv = String::from("Section,Student ID,Crude (g),Recovered (g),MP onset,MP clear\n");
+    for i in 0..limit + 3 {
+        csv.push_str(&format!("Group {i}x,{},2.5,1.8,121,122\n", 5000 + i));
+    }
+    f.write("groups.csv", csv);
+    let run = f.run(&["grade", "groups.csv", "--out", "out", "--skip-workbooks"]);
+    assert_eq!(run.code, 0, "{}", run.stderr);
+    let files = std::fs::read_dir(f.path("out/handouts")).unwrap().count();
+    assert_eq!(files, limit);
+    let note = format!(
+        "handouts are written for the first {limit} sections of a batch; 3 more sections (3 students, from section \"Group {limit}x\" on)"
+    );
+    assert!(run.stderr.contains(&note), "{}", run.stderr);
+    let json = std::fs::read_to_string(f.path("out/results.json")).unwrap();
+    assert!(json.contains("handouts are written for the first"));
+    let quiet = f.run(&[
+        "grade",
+        "groups.csv",
+        "--out",
+        "out",
+        "--skip-workbooks",
+        "--skip-handouts",
+    ]);
+    assert!(
+        !quiet.stderr.contains("handouts are written"),
+        "{}",
+        quiet.stderr
+    );
+}
+
 #[test]
 fn the_report_prints_on_a_few_pages_with_every_figure_whole() {
     let (Some(browser), Some(_)) = (chromium(), pdftotext()) else {

@@ -459,6 +459,16 @@ fn score_statistics_count_every_graded_student() {
             s["section"]
         );
     }
+    // every row of a section is accounted for in every measure (a trial: a blank mass was in
+    // neither n nor excluded)
+    for s in &stats {
+        let rows_of = rows.iter().filter(|r| r["section"] == s["section"]).count();
+        let parts: usize = ["n", "excluded", "excused", "missing"]
+            .iter()
+            .map(|c| s[*c].parse::<usize>().unwrap())
+            .sum();
+        assert_eq!(parts, rows_of, "{} {}", s["section"], s["measure"]);
+    }
 }
 
 #[test]
