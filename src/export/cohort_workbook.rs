@@ -150,7 +150,7 @@ fn sections(wb: &mut Workbook, r: &Report, f: &Formats) -> Result<(), XlsxError>
     ws.write_string(
         row + 1,
         0,
-        format!("Each measure leaves out the rows whose entries for it are impossible, and excused students; {QUANTILE_DEFINITION}."),
+        format!("Each measure leaves out the rows whose entries for it are impossible, and excused students; n, left out, excused and no value add up to the section's rows; {QUANTILE_DEFINITION}."),
     )?;
     ws.set_freeze_panes(1, 0)?;
     let at = row + 3;

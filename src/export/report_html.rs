@@ -148,7 +148,7 @@ fn statistics(s: &mut String, r: &Report) {
     s.push_str(&table(&report::sections_table(r.stats)));
     let _ = write!(
         s,
-        "<p>Each measure leaves out the rows whose entries for it are impossible (excluded) and excused students; the score counts every graded student; {}.</p>",
+        "<p>Each measure leaves out the rows whose entries for it are impossible (excluded) and excused students, and cannot count rows that hold no value for it (no value): n, excluded, excused and no value add up to the section's rows. The score counts every graded student; {}.</p>",
         escape(QUANTILE_DEFINITION)
     );
 }

@@ -123,7 +123,7 @@ pub(super) fn statistics_sheet(
     ws.write_string_with_format(0, 0, "Statistics by section", &f.title)?;
     let last_printed = STAT_LABELS.len() as u16 - 1;
     ws.set_row_height(1, 30)?;
-    ws.merge_range(1, 0, 1, last_printed, &format!("Each measure leaves out the rows whose entries for it are impossible and every excused student; the score counts every graded student. Quartiles: {QUANTILE_DEFINITION}; SD and the 95 % CI use n - 1."), &f.wrap)?;
+    ws.merge_range(1, 0, 1, last_printed, &format!("Each measure leaves out the rows whose entries for it are impossible and every excused student (n, left out, excused and no value add up to the section's rows); the score counts every graded student. Quartiles: {QUANTILE_DEFINITION}; SD and the 95 % CI use n - 1."), &f.wrap)?;
     let mut r = summary_table(ws, 3, stats, |s| sections.iter().any(|x| x == s), &f.header)?;
     r = flag_counts(ws, r + 1, &sections, stats, f)?;
     r = left_out_rows(ws, r + 1, &sections, stats, f)?;
