@@ -27,7 +27,7 @@ pub const FOLDER: &str = "handouts";
 /// Most sections that get a handout file (each is an open file while the batch streams).
 pub const MAX_SECTIONS: usize = 400;
 
-const STYLE: &str = "body{font:9.5pt/1.35 'DejaVu Sans',Arial,sans-serif;color:#111;margin:0;overflow-wrap:anywhere}\
+const STYLE: &str = "body{font:9pt/1.3 'DejaVu Sans',Arial,sans-serif;color:#111;margin:0}h1,p,li{overflow-wrap:anywhere}td{overflow-wrap:break-word}\
 .student{padding:0;max-width:185mm}\
 .student+.student{break-before:page;page-break-before:always}\
 h1{font-size:14pt;margin:0 0 1mm}h2{font-size:10.5pt;margin:3.5mm 0 1mm}\
@@ -38,7 +38,7 @@ th{background:#e8edf1}td.n{text-align:right;font-variant-numeric:tabular-nums}\
 ul{margin:0;padding-left:5mm}li{margin:0.5mm 0}\
 .total{font-size:12pt;font-weight:bold;margin-top:3mm}\
 .mark{font-weight:bold}.code{color:#555}\
-@page{margin:14mm}@media screen{.student{padding:8mm;border-bottom:2px solid #ccc}}";
+@page{margin:12mm}@media screen{.student{padding:8mm;border-bottom:2px solid #ccc}}";
 
 /// The handouts of a batch: one open file a section.
 pub struct Handouts {
@@ -222,9 +222,10 @@ fn write_page(out: &mut String, title_html: &str, g: &Graded) {
         out.push_str("</td></tr>");
     }
     out.push_str("</tbody></table></div><div>");
+    // the points, then the flags and changes beside the values table, where the page has room
     points(out, g);
-    out.push_str("</div></div>");
     flags_and_overrides(out, g);
+    out.push_str("</div></div>");
     out.push_str("<h2>Feedback</h2><ul>");
     // the total closes the page in large type
     for sentence in g
@@ -253,7 +254,7 @@ fn write_page(out: &mut String, title_html: &str, g: &Graded) {
 /// The name as the page shows it: no name is said, and text far longer than any name is cut
 /// with a mark so that the student's page stays one page.
 fn shown_name(name: Option<&str>) -> std::borrow::Cow<'_, str> {
-    const LONGEST: usize = 120;
+    const LONGEST: usize = 80;
     match name {
         None => "(no name)".into(),
         Some(n) if n.chars().count() > LONGEST => {
@@ -335,7 +336,7 @@ mod tests {
         assert!(page.contains("&lt;img src=x onerror=alert(1)&gt;"));
         assert!(page.contains("s&amp;1") && page.contains("Recovery: &lt;script&gt;"));
         assert!(page.contains("CHEM &lt;x&gt;") && page.contains("Sec &lt;b&gt;"));
-        assert_eq!(shown_name(Some(&"é".repeat(500))).chars().count(), 121);
+        assert_eq!(shown_name(Some(&"é".repeat(500))).chars().count(), 81);
         assert_eq!(shown_name(Some("Ana Lima")), "Ana Lima");
     }
 }
