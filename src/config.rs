@@ -130,7 +130,7 @@ impl Config {
             },
             timestamp: timestamp(opts.timestamp)?,
             overrides: match &opts.overrides {
-                Some(p) => Overrides::load(p, &rubric.criterion_ids())?,
+                Some(p) => Overrides::load(p, &rubric.override_limits())?,
                 None => Overrides::default(),
             },
             reference,

@@ -7,6 +7,8 @@ const page = {
   files: null, results: null, columns: null, overrides: null, outputs: null,
   selected: null, sort: { key: 'row', up: true }, filter: 'all', search: '',
   shown: -1, version: null, grading: false,
+  // each sheet panel's open state as the assistant left it, by file and sheet
+  openSheets: new Map(),
 };
 
 // ---- small helpers ----
@@ -123,9 +125,19 @@ async function load() {
   if (files.status === 401) { locked(); return; }
   page.files = files.data; page.results = results.data; page.columns = columns.data;
   page.overrides = overrides.data; page.outputs = outputs.data;
+  rememberGrader();
   page.shown = results.data.revision;
   page.grading = !!results.data.grading || results.data.current > results.data.revision;
   render();
+}
+
+// The grader's name: kept by the browser, else the last name in overrides.csv (a browser keeps
+// names per address, and `--port 0` gives a new address each start).
+function rememberGrader() {
+  const field = $('o-grader');
+  if (field.value.trim()) return;
+  const list = (page.overrides && page.overrides.overrides) || [];
+  if (list.length) field.value = list[list.length - 1].grader || '';
 }
 
 function locked() {
@@ -206,7 +218,7 @@ function renderFiles() {
   $('no-files').hidden = data.files.length > 0;
   $('file-table').hidden = data.files.length === 0;
   for (const f of data.files) {
-    const sheets = f.sheets.map((s) => (s.sheet ? s.sheet + ': ' : '') + s.students + ' students').join('; ');
+    const sheets = f.sheets.map((s) => (s.sheet ? s.sheet + ': ' : '') + s.students + (s.students === 1 ? ' student' : ' students')).join('; ');
     const calibration = /calibration/i.test(f.name.replace(/\.[^.]*$/, ''));
     const found = f.problems.length
       ? el('ul', { class: 'problems' }, f.problems.map(problemItem))
@@ -308,13 +320,18 @@ function sheetBlock(sheet, n) {
       el('td', {}, mine ? el('button', { type: 'button', class: 'quiet-button', onclick: () => setMapping(sheet, c.letter, null) }, 'Undo') : null));
   });
   const title = sheet.file + (sheet.sheet ? ` · sheet “${sheet.sheet}”` : '');
-  const facts = `header row ${layout.header_row}, ${sheet.students} students` + (missing.length ? ` – no column holds: ${missing.join(', ')}` : '');
-  return el('details', { class: troubled ? 'sheet troubled' : 'sheet', open: troubled || undefined },
+  const facts = `header row ${layout.header_row}, ${sheet.students} ${sheet.students === 1 ? 'student' : 'students'}` + (missing.length ? ` – no column holds: ${missing.join(', ')}` : '');
+  // a panel the assistant opened (or closed) stays so when the page redraws after a regrade
+  const key = sheet.file + '\u0000' + (sheet.sheet || '');
+  const open = page.openSheets.has(key) ? page.openSheets.get(key) : troubled;
+  const block = el('details', { class: troubled ? 'sheet troubled' : 'sheet', open: open || undefined },
     el('summary', {}, troubled ? marker('suspicious') : null, el('strong', {}, title), ' ', el('span', { class: 'quiet' }, facts)),
     el('table', { class: 'grid compact' },
       el('thead', {}, el('tr', {}, el('th', { scope: 'col' }, 'Column'), el('th', { scope: 'col' }, 'Header as written'),
         el('th', { scope: 'col' }, 'Read as'), el('th', { scope: 'col' }, 'How'), el('th', { scope: 'col' }, el('span', { class: 'visually-hidden' }, 'Undo')))),
       el('tbody', {}, rows)));
+  block.addEventListener('toggle', () => page.openSheets.set(key, block.open));
+  return block;
 }
 
 // The run's notes name the command line's way to map a column; on the page it is the list.

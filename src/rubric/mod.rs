@@ -173,6 +173,17 @@ impl Rubric {
     }
 
     /// The criterion ids, in order.
+    /// What an override may change: each criterion's id and most points.
+    pub fn override_limits(&self) -> overrides::Limits {
+        overrides::Limits {
+            criteria: self
+                .criteria
+                .iter()
+                .map(|c| (c.id.get_ref().clone(), *c.max.get_ref()))
+                .collect(),
+        }
+    }
+
     pub fn criterion_ids(&self) -> Vec<String> {
         self.criteria
             .iter()

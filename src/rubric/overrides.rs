@@ -82,6 +82,31 @@ fn number(text: &str) -> Option<f64> {
         .filter(|v| v.is_finite())
 }
 
+/// What an override may change: each criterion's id with its most points, in the rubric's order.
+#[derive(Clone, Debug, Default, PartialEq)]
+pub struct Limits {
+    pub criteria: Vec<(String, f64)>,
+}
+
+impl Limits {
+    /// The criterion ids.
+    pub fn ids(&self) -> Vec<&str> {
+        self.criteria.iter().map(|(id, _)| id.as_str()).collect()
+    }
+
+    /// The most points of a criterion, or of the total (`None`).
+    fn most(&self, criterion: Option<&str>) -> f64 {
+        match criterion {
+            Some(c) => self
+                .criteria
+                .iter()
+                .find(|(id, _)| id == c)
+                .map_or(0.0, |(_, m)| *m),
+            None => self.criteria.iter().map(|(_, m)| m).sum(),
+        }
+    }
+}
+
 /// The parts of one override as typed (a line of the file, or a form), each trimmed and `None`
 /// when empty.
 #[derive(Clone, Copy, Debug, Default)]
@@ -111,9 +136,9 @@ fn invalid(field: &'static str, message: impl Into<String>) -> Invalid {
 }
 
 impl Typed<'_> {
-    /// Checks an override as typed; `criteria` are the rubric's criterion ids, `line` where it
-    /// stands in its file.
-    pub fn check(&self, criteria: &[String], line: usize) -> Result<Override, Invalid> {
+    /// Checks an override as typed against the rubric's criteria and their points; `line` is
+    /// where it stands in its file.
+    pub fn check(&self, limits: &Limits, line: usize) -> Result<Override, Invalid> {
         let student_id = self
             .student_id
             .ok_or_else(|| invalid("student_id", "no student id given"))?;
@@ -122,14 +147,14 @@ impl Typed<'_> {
             .ok_or_else(|| invalid("criterion", "no criterion given (a criterion id, or total)"))?;
         let criterion = if crit.eq_ignore_ascii_case("total") {
             None
-        } else if criteria.iter().any(|c| c == crit) {
+        } else if limits.ids().contains(&crit) {
             Some(crit.to_string())
         } else {
             return Err(invalid(
                 "criterion",
                 format!(
                     "unknown criterion \"{crit}\"; the rubric's criteria are {}, or total",
-                    criteria.join(", ")
+                    limits.ids().join(", ")
                 ),
             ));
         };
@@ -142,22 +167,45 @@ impl Typed<'_> {
         Ok(Override {
             student_id: student_id.to_string(),
             section: self.section.map(str::to_string),
+            change: self.change(limits, criterion.as_deref())?,
             criterion,
-            change: self.change()?,
             reason: reason.to_string(),
             grader: grader.to_string(),
             line,
         })
     }
 
-    fn change(&self) -> Result<Change, Invalid> {
+    /// The change, within what the criterion (or the total) can hold: points from 0 to its
+    /// most, an adjustment of at most that much either way.
+    fn change(&self, limits: &Limits, criterion: Option<&str>) -> Result<Change, Invalid> {
+        let most = limits.most(criterion);
+        let what = criterion.unwrap_or("the total");
         match (self.points, self.adjust) {
-            (Some(p), None) => number(p)
-                .map(Change::Set)
-                .ok_or_else(|| invalid("points", format!("points \"{p}\" is not a number"))),
-            (None, Some(a)) => number(a)
-                .map(Change::Adjust)
-                .ok_or_else(|| invalid("adjust", format!("adjust \"{a}\" is not a number"))),
+            (Some(p), None) => {
+                let v = number(p)
+                    .ok_or_else(|| invalid("points", format!("points \"{p}\" is not a number")))?;
+                if !(0.0..=most).contains(&v) {
+                    return Err(invalid(
+                        "points",
+                        format!("points {p} are outside 0 to {} for {what}", points(most)),
+                    ));
+                }
+                Ok(Change::Set(v))
+            }
+            (None, Some(a)) => {
+                let d = number(a)
+                    .ok_or_else(|| invalid("adjust", format!("adjust \"{a}\" is not a number")))?;
+                if d.abs() > most {
+                    return Err(invalid(
+                        "adjust",
+                        format!(
+                            "adjust {a} is more than {what} holds ({} points); an adjustment goes at most that far either way",
+                            points(most)
+                        ),
+                    ));
+                }
+                Ok(Change::Adjust(d))
+            }
             _ => Err(invalid(
                 "points",
                 "give either points (the new value) or adjust (a change), not both or neither",
@@ -212,8 +260,8 @@ impl FileColumns {
 }
 
 impl Overrides {
-    /// Reads an overrides file; `criteria` are the rubric's criterion ids.
-    pub fn load(path: &Path, criteria: &[String]) -> Result<Overrides, ConfigError> {
+    /// Reads an overrides file, each line checked against the rubric's `limits`.
+    pub fn load(path: &Path, limits: &Limits) -> Result<Overrides, ConfigError> {
         let source = path.display().to_string();
         let bytes = crate::files::read(path)
             .map_err(|e| ConfigError::Invalid(format!("cannot read overrides {source}: {e}")))?;
@@ -238,7 +286,7 @@ impl Overrides {
                 continue;
             }
             let o = typed
-                .check(criteria, line)
+                .check(limits, line)
                 .map_err(|e| err(line, e.message))?;
             out.push(o);
         }
@@ -312,7 +360,13 @@ mod tests {
         let dir = tempfile::tempdir().unwrap();
         let p = dir.path().join("o.csv");
         std::fs::write(&p, text).unwrap();
-        Overrides::load(&p, &["recovery".to_string(), "range".to_string()])
+        Overrides::load(&p, &limits())
+    }
+
+    fn limits() -> Limits {
+        Limits {
+            criteria: vec![("recovery".into(), 40.0), ("range".into(), 25.0)],
+        }
     }
 
     #[test]
@@ -346,5 +400,44 @@ mod tests {
             .unwrap_err()
             .to_string();
         assert!(e.contains("reason"), "{e}");
+    }
+
+    /// An override holds what its criterion can: 0 to its points, an adjustment at most that far
+    /// (a trial: 55 of a 40-point criterion was taken and capped without a word).
+    #[test]
+    fn points_beyond_the_criterion_are_refused_with_the_field() {
+        let typed = |criterion, points, adjust| Typed {
+            student_id: Some("s1"),
+            criterion: Some(criterion),
+            points,
+            adjust,
+            reason: Some("re-weighed"),
+            grader: Some("RO"),
+            ..Typed::default()
+        };
+        let l = limits();
+        for (t, field) in [
+            (typed("recovery", Some("55"), None), "points"),
+            (typed("recovery", Some("-1"), None), "points"),
+            (typed("range", None, Some("+26")), "adjust"),
+            (typed("total", Some("66"), None), "points"),
+            (typed("total", None, Some("-500")), "adjust"),
+        ] {
+            let e = t.check(&l, 2).unwrap_err();
+            assert_eq!(e.field, field, "{}", e.message);
+        }
+        assert!(typed("recovery", Some("55"), None)
+            .check(&l, 2)
+            .unwrap_err()
+            .message
+            .contains("0 to 40"));
+        for t in [
+            typed("recovery", Some("40"), None),
+            typed("recovery", Some("0"), None),
+            typed("range", None, Some("-25")),
+            typed("total", Some("65"), None),
+        ] {
+            assert!(t.check(&l, 2).is_ok());
+        }
     }
 }

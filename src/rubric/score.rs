@@ -113,14 +113,22 @@ impl<'a> Scoring<'a> {
         Some(effect)
     }
 
-    /// The flag rules: criteria zeroed, points deducted, the total capped.
-    fn apply_flags(&mut self, a: &Assessed) {
+    /// The flag rules: criteria zeroed, points deducted, the total capped. A criterion that an
+    /// override then sets says so, so that the flag's sentence and the criterion's agree.
+    fn apply_flags(&mut self, a: &Assessed, overrides: &[&Override]) {
         let rubric = self.rubric;
         for (flag, reason) in &a.flags {
             let mut effects = Vec::new();
             for rule in rubric.flag_rules.iter().filter(|r| r.applies_to(*flag)) {
                 for id in rule.zeroed() {
-                    effects.extend(self.zero(id, *flag));
+                    let overridden = overrides.iter().any(|o| o.criterion.as_ref() == Some(id));
+                    effects.extend(self.zero(id, *flag).map(|e| {
+                        if overridden {
+                            format!("{e} before the grader's override")
+                        } else {
+                            e
+                        }
+                    }));
                 }
                 if rule.deduct > 0.0 {
                     self.deductions.push((flag.code(), rule.deduct));
@@ -387,7 +395,7 @@ pub fn score(rubric: &Rubric, a: &Assessed, overrides: &[&Override]) -> Score {
         return excused(rubric, why, overrides);
     }
     let mut s = Scoring::measure(rubric, a);
-    s.apply_flags(a);
+    s.apply_flags(a, overrides);
     s.apply_criterion_overrides(overrides);
     s.finish(overrides)
 }
@@ -556,6 +564,25 @@ mod tests {
             s.feedback
         );
         assert!(s.feedback.contains("Flag recovery-over-100: recovered 2.6 g exceeds crude 2.5 g (Recovery 40 -> 0 points, the total may be at most 50)"), "{}", s.feedback);
+        // a grader who sets the zeroed criterion again: the flag's sentence says it came first
+        // (a trial: "Recovery 40 -> 0 points" beside "40 of 40 points ... override")
+        let set = Override {
+            student_id: "s".into(),
+            section: None,
+            criterion: Some("recovery".into()),
+            change: crate::rubric::overrides::Change::Set(40.0),
+            reason: "re-weighed dry".into(),
+            grader: "RO".into(),
+            line: 2,
+        };
+        let o = score(&r, &a, &[&set]);
+        assert!(
+            o.feedback
+                .contains("(Recovery 40 -> 0 points before the grader's override, the total"),
+            "{}",
+            o.feedback
+        );
+        assert_eq!(audit_feedback(&o.feedback, &labels(&r)), Ok(o.total));
         assert!(
             s.feedback
                 .contains("Cap for recovery-over-100: the total is held at 50, -10 points"),

@@ -18,7 +18,7 @@ use serde_json::{json, Value};
 
 use crate::fields::Field;
 use crate::ingest::headers::{ColumnOverrides, MappingValue};
-use crate::rubric::overrides::{Invalid, Typed};
+use crate::rubric::overrides::{Invalid, Limits, Typed};
 
 use super::grader::{Outcome, State as RunState};
 use super::overrides_file;
@@ -280,7 +280,7 @@ pub async fn put_columns(State(app): State<Arc<App>>, body: Bytes) -> Reply {
     Ok(Json(json!({"revision": revision})))
 }
 
-fn criterion_ids() -> Result<Vec<String>, ApiError> {
+fn criterion_limits() -> Result<Limits, ApiError> {
     let path = std::path::Path::new(super::workspace::RUBRIC);
     let rubric = if path.is_file() {
         crate::rubric::Rubric::load(path)
@@ -288,13 +288,13 @@ fn criterion_ids() -> Result<Vec<String>, ApiError> {
         crate::rubric::Rubric::builtin()
     };
     rubric
-        .map(|r| r.criterion_ids())
+        .map(|r| r.override_limits())
         .map_err(|e| ApiError::new(StatusCode::UNPROCESSABLE_ENTITY, "rubric", e.to_string()))
 }
 
 /// `GET /api/overrides`: the overrides in overrides.csv, each with its line.
 pub async fn get_overrides() -> Reply {
-    let listed = blocking(|| criterion_ids().map(|c| overrides_file::list(&c))).await??;
+    let listed = blocking(|| criterion_limits().map(|c| overrides_file::list(&c))).await??;
     Ok(Json(match listed {
         Ok(list) => json!({"overrides": list, "error": null}),
         Err(e) => json!({"overrides": [], "error": e}),
@@ -329,12 +329,25 @@ fn given(s: Option<&String>) -> Option<&str> {
 
 /// The student of an override must have a graded submission, as the command line requires.
 fn known_student(records: &[Value], id: &str, section: Option<&str>) -> Result<(), Invalid> {
-    let found = records.iter().any(|r| {
-        r["student_id"].as_str().map(str::trim) == Some(id)
-            && section.is_none_or(|s| r["section"].as_str() == Some(s))
-    });
-    if found {
+    let theirs: Vec<&Value> = records
+        .iter()
+        .filter(|r| {
+            r["student_id"].as_str().map(str::trim) == Some(id)
+                && section.is_none_or(|s| r["section"].as_str() == Some(s))
+        })
+        .collect();
+    if theirs
+        .iter()
+        .any(|r| r["status"].as_str() != Some("excused"))
+    {
         return Ok(());
+    }
+    if !theirs.is_empty() {
+        // the command line would take it and say "not applied": the page says so at once
+        return Err(Invalid {
+            field: "student_id",
+            message: "this student is excused and has no score to change; a change of status belongs in the class file".into(),
+        });
     }
     let where_ = section
         .map(|s| format!(" in section {s}"))
@@ -365,7 +378,7 @@ pub async fn post_override(
     let current = app.grader.state().revision;
     let records = app.grader.graded(current).await;
     let (line, revision) = edit(&app, move || {
-        let criteria = criterion_ids()?;
+        let criteria = criterion_limits()?;
         let (points, adjust) = (text_of(form.points.as_ref()), text_of(form.adjust.as_ref()));
         let typed = Typed {
             student_id: given(form.student_id.as_ref()),
@@ -392,7 +405,7 @@ pub async fn post_override(
 /// `DELETE /api/overrides/{line}`: takes out the override on that line of overrides.csv.
 pub async fn delete_override(State(app): State<Arc<App>>, UrlPath(line): UrlPath<usize>) -> Reply {
     let (removed, revision) = edit(&app, move || {
-        let criteria = criterion_ids()?;
+        let criteria = criterion_limits()?;
         overrides_file::remove(line, &criteria).map_err(ApiError::invalid)
     })
     .await?;
@@ -404,4 +417,33 @@ pub async fn delete_override(State(app): State<Arc<App>>, UrlPath(line): UrlPath
         ));
     }
     Ok(Json(json!({"revision": revision})))
+}
+
+#[cfg(test)]
+mod tests {
+    use super::*;
+
+    /// An excused student has no score for an override to change (a trial: the page took one
+    /// and the run then said "not applied").
+    #[test]
+    fn an_override_needs_a_graded_submission() {
+        let records = vec![
+            json!({"student_id": "3004", "section": "A", "status": "excused"}),
+            json!({"student_id": "3005", "section": "A", "status": "graded"}),
+            json!({"student_id": "3006", "section": "A", "status": "excused"}),
+            json!({"student_id": "3006", "section": "B", "status": "graded"}),
+        ];
+        let e = known_student(&records, "3004", None).unwrap_err();
+        assert_eq!(e.field, "student_id");
+        assert!(e.message.contains("excused"), "{}", e.message);
+        assert!(known_student(&records, "3005", Some("A")).is_ok());
+        assert!(known_student(&records, "3006", None).is_ok());
+        assert!(known_student(&records, "3006", Some("A")).is_err());
+        assert_eq!(
+            known_student(&records, "9999", Some("A"))
+                .unwrap_err()
+                .field,
+            "section"
+        );
+    }
 }

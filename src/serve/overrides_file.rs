@@ -6,7 +6,7 @@
 use std::path::Path;
 
 use crate::ingest::delimited;
-use crate::rubric::overrides::{Change, Invalid, Overrides, Typed};
+use crate::rubric::overrides::{Change, Invalid, Limits, Overrides, Typed};
 
 use super::workspace::{temporary_path, write_atomically, OVERRIDES, OVERRIDES_HEADER};
 
@@ -26,11 +26,11 @@ pub struct Entry {
 }
 
 /// The overrides in the file, as `--overrides` reads them, or why it cannot be read.
-pub fn list(criteria: &[String]) -> Result<Vec<Entry>, String> {
+pub fn list(limits: &Limits) -> Result<Vec<Entry>, String> {
     if !Path::new(OVERRIDES).exists() {
         return Ok(Vec::new());
     }
-    let loaded = Overrides::load(Path::new(OVERRIDES), criteria).map_err(|e| e.to_string())?;
+    let loaded = Overrides::load(Path::new(OVERRIDES), limits).map_err(|e| e.to_string())?;
     Ok(loaded
         .list()
         .iter()
@@ -125,7 +125,7 @@ impl Lines {
 }
 
 /// Checks `text` as `--overrides` would, then makes it the overrides file; the overrides read.
-fn replace_checked(text: &[u8], criteria: &[String]) -> Result<Overrides, Invalid> {
+fn replace_checked(text: &[u8], limits: &Limits) -> Result<Overrides, Invalid> {
     let file_error = |message: String| Invalid {
         field: "file",
         message,
@@ -134,7 +134,7 @@ fn replace_checked(text: &[u8], criteria: &[String]) -> Result<Overrides, Invali
     let checked = write_atomically(&tmp, text)
         .map_err(|e| file_error(format!("cannot write {OVERRIDES}: {e}")))
         .and_then(|()| {
-            Overrides::load(&tmp, criteria).map_err(|e| {
+            Overrides::load(&tmp, limits).map_err(|e| {
                 let shown = tmp.display().to_string();
                 file_error(e.to_string().replace(&shown, OVERRIDES))
             })
@@ -151,8 +151,8 @@ fn replace_checked(text: &[u8], criteria: &[String]) -> Result<Overrides, Invali
 }
 
 /// Adds an override (already checked with `Typed::check`) at the end of the file; its line.
-pub fn add(typed: &Typed, criteria: &[String]) -> Result<usize, Invalid> {
-    typed.check(criteria, 0)?;
+pub fn add(typed: &Typed, limits: &Limits) -> Result<usize, Invalid> {
+    typed.check(limits, 0)?;
     let mut lines = read_lines().map_err(|message| Invalid {
         field: "file",
         message,
@@ -177,12 +177,12 @@ pub fn add(typed: &Typed, criteria: &[String]) -> Result<usize, Invalid> {
         field: "file",
         message,
     })?;
-    let loaded = replace_checked(&text, criteria)?;
+    let loaded = replace_checked(&text, limits)?;
     Ok(loaded.list().last().map_or(line, |o| o.line))
 }
 
 /// Takes out the override that starts on `line`; false if no override starts there.
-pub fn remove(line: usize, criteria: &[String]) -> Result<bool, Invalid> {
+pub fn remove(line: usize, limits: &Limits) -> Result<bool, Invalid> {
     let mut lines = read_lines().map_err(|message| Invalid {
         field: "file",
         message,
@@ -203,6 +203,6 @@ pub fn remove(line: usize, criteria: &[String]) -> Result<bool, Invalid> {
         field: "file",
         message,
     })?;
-    replace_checked(&text, criteria)?;
+    replace_checked(&text, limits)?;
     Ok(true)
 }

@@ -351,6 +351,7 @@ fn an_override_is_checked_as_the_command_line_checks_it_and_regraded() {
         (with("reason", json!("  ")), "reason"),
         (with("grader", Value::Null), "grader"),
         (with("points", json!("many")), "points"),
+        (with("points", json!("101")), "points"),
         (with("adjust", json!(2)), "points"),
         (with("student_id", json!("1999999")), "student_id"),
         (with("section", json!("Sec 99")), "section"),
