@@ -4,7 +4,9 @@
 //! format. calamine hands back the number but not the format for these two formats, so a
 //! reported recovery typed with a percent sign would be read as 0.728. This module finds the
 //! formatted cells itself: in OpenDocument the cell's `office:value-type="percentage"`, in the
-//! legacy binary format the number format of the cell's extended format (XF) record. Only a cell
+//! legacy binary format the number format of the cell's extended format (XF) record. An
+//! OpenDocument cell's decimals are read from the text it shows ("74.0%"), so that it is read as
+//! shown, as the .xlsx and .xls formats read it. Only a cell
 //! calamine read as a plain number is re-typed, so a position this scan gets wrong changes
 //! nothing; the grade still cannot hinge on it, since scoring reads a fraction that fits the
 //! masses as a percentage in every format (see `assess`).
@@ -80,10 +82,33 @@ struct OdsCursor {
     row_repeats: u32,
     col: u32,
     blocks: Vec<Block>,
+    /// A percentage cell whose shown text is still to come.
+    open: Option<Block>,
+}
+
+/// The decimals a percentage's shown text has: "74.0%" 1, "74 %" 0, "74,25 %" 2.
+fn shown_decimals(text: &str) -> Option<u8> {
+    let number = text.split('%').next()?.trim_end();
+    if !text.contains('%') || !number.ends_with(|c: char| c.is_ascii_digit()) {
+        return None;
+    }
+    let digits = number
+        .chars()
+        .rev()
+        .take_while(char::is_ascii_digit)
+        .count();
+    let before = number[..number.len() - digits].chars().next_back();
+    let decimals = if matches!(before, Some('.' | ',')) {
+        digits
+    } else {
+        0
+    };
+    u8::try_from(decimals).ok().filter(|d| *d <= 15)
 }
 
 impl OdsCursor {
-    fn cell(&mut self, e: &BytesStart<'_>) {
+    /// A cell; a percentage cell with content (`empty` false) waits for its shown text.
+    fn cell(&mut self, e: &BytesStart<'_>, empty: bool) {
         let cols = repeats(e, "table:number-columns-repeated");
         if attr(e, "office:value-type").as_deref() == Some("percentage") {
             let b = Block {
@@ -93,19 +118,43 @@ impl OdsCursor {
                 cols,
                 decimals: None,
             };
-            match self.blocks.last_mut() {
-                // the same block continued in the next row
-                Some(last)
-                    if last.col == b.col
-                        && last.cols == b.cols
-                        && last.row + last.rows == b.row =>
-                {
-                    last.rows += b.rows;
-                }
-                _ => self.blocks.push(b),
+            if empty {
+                self.close(b);
+            } else {
+                self.open = Some(b);
             }
         }
         self.col = self.col.saturating_add(cols);
+    }
+
+    /// The first text inside an open percentage cell gives its decimals.
+    fn text(&mut self, text: &str) {
+        if let Some(b) = self.open.as_mut() {
+            if b.decimals.is_none() {
+                b.decimals = shown_decimals(text);
+            }
+        }
+    }
+
+    fn end_cell(&mut self) {
+        if let Some(b) = self.open.take() {
+            self.close(b);
+        }
+    }
+
+    fn close(&mut self, b: Block) {
+        match self.blocks.last_mut() {
+            // the same block continued in the next row
+            Some(last)
+                if last.col == b.col
+                    && last.cols == b.cols
+                    && last.decimals == b.decimals
+                    && last.row + last.rows == b.row =>
+            {
+                last.rows += b.rows;
+            }
+            _ => self.blocks.push(b),
+        }
     }
 }
 
@@ -137,10 +186,16 @@ pub fn ods(path: &Path) -> Result<PercentCells, String> {
                         at.row = at.row.saturating_add(at.row_repeats);
                     }
                 }
-                "table:table-cell" | "table:covered-table-cell" => at.cell(e),
+                "table:table-cell" | "table:covered-table-cell" => {
+                    at.cell(e, matches!(event, Event::Empty(_)));
+                }
                 _ => {}
             },
+            Event::Text(t) if at.open.is_some() => {
+                at.text(&t[..]);
+            }
             Event::End(e) => match e.name().as_ref() {
+                "table:table-cell" | "table:covered-table-cell" => at.end_cell(),
                 "table:table-row" => at.row = at.row.saturating_add(at.row_repeats),
                 "table:table" => {
                     let done = std::mem::take(&mut at);
@@ -378,6 +433,22 @@ mod tests {
         assert_eq!(got, vec![0x0203]);
     }
 
+    #[test]
+    fn a_percentage_s_decimals_are_read_from_the_text_it_shows() {
+        // OpenDocument 1.2 part 1, 19.385: the cell's text:p is the value as displayed
+        for (text, want) in [
+            ("74.0%", Some(1)),
+            ("74%", Some(0)),
+            ("74,25 %", Some(2)),
+            ("-3.5 %", Some(1)),
+            ("74.0", None),
+            ("", None),
+            ("%", None),
+        ] {
+            assert_eq!(shown_decimals(text), want, "{text}");
+        }
+    }
+
     fn ods_with(content: &str) -> tempfile::TempDir {
         let dir = tempfile::tempdir().unwrap();
         let f = std::fs::File::create(dir.path().join("t.ods")).unwrap();
@@ -398,6 +469,7 @@ mod tests {
 <table:table-row><table:table-cell office:value-type="string"><text:p>id</text:p></table:table-cell></table:table-row>
 <table:table-row table:number-rows-repeated="2"><table:table-cell table:number-columns-repeated="2"/><table:table-cell office:value-type="percentage" office:value="0.73"/></table:table-row>
 <table:table-row><table:table-cell office:value-type="float" office:value="3"/><table:table-cell office:value-type="percentage" office:value="0.5" table:number-columns-repeated="2"/></table:table-row>
+<table:table-row><table:table-cell office:value-type="percentage" office:value="0.73995"><text:p>74.0%</text:p></table:table-cell></table:table-row>
 </table:table>
 <table:table table:name="Other"><table:table-row><table:table-cell office:value-type="float" office:value="1"/></table:table-row></table:table>
 </office:spreadsheet></office:body></office:document-content>"#;
@@ -419,6 +491,14 @@ mod tests {
                     col: 1,
                     cols: 2,
                     decimals: None,
+                },
+                // the decimals it shows, so that it reads as shown
+                Block {
+                    row: 4,
+                    rows: 1,
+                    col: 0,
+                    cols: 1,
+                    decimals: Some(1),
                 },
             ])
         );

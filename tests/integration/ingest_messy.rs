@@ -297,3 +297,37 @@ fn section_labels_merge_only_on_case_spacing_and_punctuation_and_say_so() {
     let handouts = std::fs::read_dir(f.path("out/handouts")).unwrap().count();
     assert_eq!(handouts, 5, "a handout file per section");
 }
+
+/// A percentage is read as its cell shows it in every format (a trial: .ods read the formula's
+/// 73.995 % where .xlsx and .xls read the 74.0 % shown, and only .ods flagged a mismatch).
+#[test]
+fn a_percentage_reads_as_shown_in_ods_as_in_xlsx_and_xls() {
+    let f = Fixture::new();
+    let dir = crate::harness::project_root().join("tests/data/real-files");
+    let mut graded = Vec::new();
+    for ext in ["ods", "xlsx", "xls"] {
+        let file = dir.join(format!("shown-percent.{ext}"));
+        let out = format!("out-{ext}");
+        let run = f.run(&["grade", file.to_str().unwrap(), "--out", &out]);
+        assert_eq!(run.code, 0, "{ext}: {}", run.stderr);
+        let rows: Vec<(String, String, String)> = f
+            .results(&out)
+            .iter()
+            .map(|r| {
+                (
+                    r["reported_recovery_pct"].clone(),
+                    r["score"].clone(),
+                    r["flags"].clone(),
+                )
+            })
+            .collect();
+        assert_eq!(rows.len(), 3, "{ext}");
+        graded.push(rows);
+    }
+    assert!(
+        graded.iter().flatten().all(|(p, _, _)| p == "74"),
+        "{graded:?}"
+    );
+    assert_eq!(graded[0], graded[1], "ods as xlsx");
+    assert_eq!(graded[1], graded[2], "xlsx as xls");
+}
