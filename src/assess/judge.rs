@@ -20,7 +20,8 @@ use crate::rubric::Tolerances;
 fn sheet_lacks(sub: &Submission, field: Field) -> bool {
     let melting = [Field::MpRange, Field::MpOnset, Field::MpClear];
     if melting.contains(&field) {
-        melting.iter().any(|f| sub.no_column.contains(f))
+        // a sheet with onset and clear columns has no range column, and needs none
+        melting.iter().all(|f| sub.no_column.contains(f))
     } else {
         sub.no_column.contains(&field)
     }

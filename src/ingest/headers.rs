@@ -114,7 +114,8 @@ pub fn parse_header(text: &str) -> ParsedHeader {
         .replace("wt.", " wt ")
         .replace("vol.", " vol ")
         .replace("no.", " number ")
-        .replace('#', " number ");
+        .replace('#', " number ")
+        .replace('+', " plus ");
     let (rest, bracket_unit) = take_bracketed_unit(&lower);
     let (rest, trailing_unit) = take_trailing_unit(rest.trim());
     let mut unit = bracket_unit.or(trailing_unit);
@@ -210,6 +211,7 @@ const CRUDE_WORDS: [&str; 6] = ["crude", "impure", "starting", "initial", "befor
 pub fn classify(h: &ParsedHeader) -> HeaderMeaning {
     let w = Words(&h.words);
     not_own(&w)
+        .or_else(|| container(&w))
         .or_else(|| remarks(&w))
         .or_else(|| place_or_person(&w))
         .or_else(|| melting(&w, h))
@@ -307,6 +309,36 @@ fn not_own(w: &Words) -> Option<HeaderMeaning> {
     w.any(&reference).then_some(HeaderMeaning::NotOwn(
         "a reference or expected value, not the student's measurement",
     ))
+}
+
+/// A weighing of the container, empty (a tare) or with the product in it (a gross mass): the
+/// product's mass is their difference, so neither is the crude or the recovered mass.
+fn container(w: &Words) -> Option<HeaderMeaning> {
+    const CONTAINERS: [&str; 12] = [
+        "vial",
+        "flask",
+        "beaker",
+        "dish",
+        "watchglass",
+        "glass",
+        "paper",
+        "container",
+        "jar",
+        "tube",
+        "boat",
+        "filter",
+    ];
+    if w.any(&["tare", "tared", "empty"]) {
+        return Some(HeaderMeaning::NotOwn(
+            "the empty container's mass (a tare), not the product's",
+        ));
+    }
+    if w.has("gross") || w.any(&CONTAINERS) && w.any(&["plus", "and", "with"]) {
+        return Some(HeaderMeaning::NotOwn(
+            "the container with the product in it (a gross mass), not the product's mass alone",
+        ));
+    }
+    None
 }
 
 /// The apparatus, bench, section or teaching assistant.
@@ -774,6 +806,12 @@ mod tests {
             "Expected mass (g)",
             "Theoretical yield (g)",
             "Reference melting point",
+            // weighings by difference (common practice): the container, and it with the product
+            "Vial + crystals (g)",
+            "Empty vial (g)",
+            "Tare (g)",
+            "Watch glass and product (g)",
+            "Gross mass (g)",
         ] {
             assert!(
                 matches!(field(text), HeaderMeaning::NotOwn(_)),

@@ -93,18 +93,48 @@ impl Layout {
             .map(|c| format!("{} \"{}\"", c.letter, c.header))
             .collect();
         let _ = write!(m, "; columns not used: {}", heads.join(", "));
-        let lines: Vec<String> = unused
-            .iter()
-            .zip(&self.missing)
-            .map(|(c, f)| mapping_line(&c.letter, Some(*f)))
+        let lines: Vec<String> = example_columns(&unused, &self.missing)
+            .into_iter()
+            .map(|(c, f)| mapping_line(&c.letter, Some(f)))
             .collect();
-        let _ = write!(
-            m,
-            "; if one holds it, map it in a --columns file's [columns] table, for example: {}",
-            lines.join(" and ")
-        );
+        if lines.is_empty() {
+            let _ = write!(
+                m,
+                "; if one holds it, map it in a --columns file's [columns] table (\"column X\" = \"{}\")",
+                self.missing[0].key()
+            );
+        } else {
+            let _ = write!(
+                m,
+                "; if one holds it, map it in a --columns file's [columns] table, for example: {}",
+                lines.join(" and ")
+            );
+        }
         Some(m)
     }
+}
+
+/// For each missing field, the unused column most likely to hold it: one whose note names the
+/// field (an ambiguity), then one not understood at all, never one set aside for a reason (a
+/// partner's, a reference value, a tare). A field with no such column gets no example.
+fn example_columns<'c>(unused: &[&'c Column], missing: &[Field]) -> Vec<(&'c Column, Field)> {
+    let mut taken: Vec<u32> = Vec::new();
+    let mut out = Vec::new();
+    for f in missing {
+        let names_it = |c: &&&Column| c.note.as_deref().is_some_and(|n| n.contains(f.label()));
+        let unknown = |c: &&&Column| c.note.is_none();
+        let free = |c: &&&Column| !taken.contains(&c.index);
+        let pick = unused
+            .iter()
+            .filter(free)
+            .find(names_it)
+            .or_else(|| unused.iter().filter(free).find(unknown));
+        if let Some(c) = pick {
+            taken.push(c.index);
+            out.push((*c, *f));
+        }
+    }
+    out
 }
 
 /// Why a sheet's table could not be used.

@@ -331,3 +331,76 @@ fn a_percentage_reads_as_shown_in_ods_as_in_xlsx_and_xls() {
     assert_eq!(graded[0], graded[1], "ods as xlsx");
     assert_eq!(graded[1], graded[2], "xlsx as xls");
 }
+
+/// Weighing by difference (common practice): the vial empty and with the crystals are not the
+/// recovered mass; the column that says so is, and an example mapping never names a column set
+/// aside for a reason (a trial: "Vial + crystals" took the recovered mass from "Recovered", and
+/// the fix offered named the lab partner's column).
+#[test]
+fn a_tare_and_a_gross_mass_are_not_the_product_s_mass() {
+    let f = Fixture::new();
+    let head = "Student ID,Lab partner,Vial + crystals (g),Empty vial (g),Crude (g),Recovered (g),MP onset,MP clear\n";
+    f.write(
+        "by-difference.csv",
+        format!("{head}7101,Ana,13.95,12.15,2.40,1.80,121.0,122.0\n"),
+    );
+    let run = f.run(&["grade", "by-difference.csv", "--out", "out"]);
+    assert_eq!(run.code, 0, "{}", run.stderr);
+    let r = &f.results("out")[0];
+    assert_eq!(r["recovered_mass_g"], "1.8");
+    assert_eq!(r["recovery_pct"], "75");
+    // without the net column, the message offers no partner's or container's column
+    let head =
+        "Student ID,Lab partner,Vial + crystals (g),Empty vial (g),Crude (g),MP onset,MP clear\n";
+    f.write(
+        "no-net.csv",
+        format!("{head}7101,Ana,13.95,12.15,2.40,121.0,122.0\n"),
+    );
+    let run = f.run(&["check", "no-net.csv"]);
+    let message = run
+        .stderr
+        .lines()
+        .chain(run.stdout.lines())
+        .find(|l| l.contains("no column for the recovered mass"))
+        .unwrap_or_else(|| panic!("{}\n{}", run.stdout, run.stderr))
+        .to_string();
+    for letter in ["B", "C", "D"] {
+        assert!(
+            !message.contains(&format!("\"column {letter}\" = ")),
+            "{message}"
+        );
+    }
+}
+
+/// "the sheet has no column for it" only when it has none: blank cells under onset and clear
+/// columns are blank cells (a trial: the note said the sheet had no column).
+#[test]
+fn a_blank_melting_entry_is_not_a_missing_column() {
+    let f = Fixture::new();
+    for (name, head, cells) in [
+        (
+            "none.csv",
+            "Student ID,Crude (g),Recovered (g)",
+            "1,2.0,1.5",
+        ),
+        (
+            "split.csv",
+            "Student ID,Crude (g),Recovered (g),MP start,MP end",
+            "1,2.0,1.5,,",
+        ),
+        (
+            "range.csv",
+            "Student ID,Crude (g),Recovered (g),Melting range",
+            "1,2.0,1.5,",
+        ),
+    ] {
+        f.write(name, format!("{head}\n{cells}\n"));
+        let run = f.run(&["check", name]);
+        let says = run.stdout.contains("(the sheet has no column for it)");
+        assert_eq!(says, name == "none.csv", "{name}: {}", run.stdout);
+        assert!(
+            run.stdout.contains("missing-value: no melting onset"),
+            "{name}"
+        );
+    }
+}
