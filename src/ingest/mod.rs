@@ -159,7 +159,7 @@ fn read_workbook_file(path: &Path, format: Format, source: &str, emit: &mut dyn 
             file: source.to_string(),
             sheet: Some(s.name),
             message,
-            fatal: true,
+            fatal: s.fatal,
         })),
     };
     if let Err(message) = workbook::read_workbook(path, format, &mut on_sheet) {

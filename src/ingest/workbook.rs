@@ -33,6 +33,28 @@ const MAX_COLS: u32 = 1 << 14;
 pub struct SheetRead {
     pub name: String,
     pub result: Result<RawSheet, String>,
+    /// Whether an `Err` means data could not be read (rather than a sheet passed over on purpose).
+    pub fatal: bool,
+}
+
+/// Why a hidden sheet is passed over.
+const HIDDEN: &str = "skipped: the workbook hides this sheet (most often a template or an old copy); unhide it in the spreadsheet program to grade it";
+
+/// The sheets the workbook hides, each as a note, and the names of the others in order.
+fn hidden_first<R: Reader<BufReader<File>>>(wb: &R) -> (Vec<SheetRead>, Vec<String>) {
+    let (hidden, shown): (Vec<_>, Vec<_>) = wb
+        .sheets_metadata()
+        .iter()
+        .partition(|s| s.visible != calamine::SheetVisible::Visible);
+    let notes = hidden
+        .into_iter()
+        .map(|s| SheetRead {
+            name: s.name.clone(),
+            result: Err(HIDDEN.into()),
+            fatal: false,
+        })
+        .collect();
+    (notes, shown.into_iter().map(|s| s.name.clone()).collect())
 }
 
 fn from_data(d: &Data) -> Cell {
@@ -340,9 +362,15 @@ where
     if is_own_output(&mut wb) {
         return Err(OWN_OUTPUT.into());
     }
-    for name in wb.sheet_names() {
+    let (hidden, names) = hidden_first(&wb);
+    hidden.into_iter().for_each(&mut *on_sheet);
+    for name in names {
         let result = read(&mut wb, &name);
-        on_sheet(SheetRead { name, result });
+        on_sheet(SheetRead {
+            name,
+            result,
+            fatal: true,
+        });
     }
     Ok(())
 }
@@ -362,7 +390,7 @@ where
     F: Fn(&mut R, &str) -> Result<RawSheet, String> + Sync,
 {
     let mut wb = open()?;
-    let names = wb.sheet_names();
+    let (hidden, names) = hidden_first(&wb);
     if names.len() < 2 || std::thread::available_parallelism().map_or(1, std::num::NonZero::get) < 2
     {
         return read_all(wb, read, on_sheet);
@@ -370,6 +398,7 @@ where
     if is_own_output(&mut wb) {
         return Err(OWN_OUTPUT.into());
     }
+    hidden.into_iter().for_each(&mut *on_sheet);
     std::thread::scope(|scope| {
         let (tx, rx) = std::sync::mpsc::sync_channel::<SheetRead>(0);
         let (names, open, read) = (&names, &open, &read);
@@ -381,6 +410,7 @@ where
                     .send(SheetRead {
                         name: name.clone(),
                         result,
+                        fatal: true,
                     })
                     .is_err()
                 {
@@ -393,6 +423,7 @@ where
             let sheet = from_helper.unwrap_or_else(|| SheetRead {
                 name: name.clone(),
                 result: read(&mut wb, name),
+                fatal: true,
             });
             on_sheet(sheet);
         }

@@ -404,3 +404,43 @@ fn a_blank_melting_entry_is_not_a_missing_column() {
         );
     }
 }
+
+/// A sheet the workbook hides (a template with an example student, an old copy) is not graded
+/// and is said (a trial: "Example, Student" got an A and a section of its own).
+#[test]
+fn a_hidden_sheet_is_passed_over_with_a_note() {
+    let f = Fixture::new();
+    f.xlsx("sec-8.xlsx", |wb| {
+        for (name, id, hidden) in [("Sec 08", "8101", false), ("Template", "0000", true)] {
+            let ws = wb.add_worksheet().set_name(name).unwrap();
+            for (c, h) in [
+                "Student ID",
+                "Crude (g)",
+                "Recovered (g)",
+                "MP onset",
+                "MP clear",
+            ]
+            .iter()
+            .enumerate()
+            {
+                ws.write_string(0, c as u16, *h).unwrap();
+            }
+            ws.write_string(1, 0, id).unwrap();
+            for (c, v) in [2.4, 1.8, 121.0, 122.0].iter().enumerate() {
+                ws.write_number(1, c as u16 + 1, *v).unwrap();
+            }
+            ws.set_hidden(hidden);
+        }
+    });
+    let run = f.run(&["grade", "sec-8.xlsx", "--out", "out"]);
+    assert_eq!(run.code, 0, "{}", run.stderr);
+    let rows = f.results("out");
+    assert_eq!(rows.len(), 1);
+    assert_eq!(rows[0]["student_id"], "8101");
+    assert!(
+        run.stderr
+            .contains("[sheet \"Template\"]: skipped: the workbook hides this sheet"),
+        "{}",
+        run.stderr
+    );
+}
