@@ -126,11 +126,68 @@ fn complete_shorthand(r: RawRange) -> RawRange {
     }
 }
 
+/// The range without the words written around it: a leading label ("mp", "m.p.:", "melting
+/// point"), a closing remark in brackets ("(sharp)") and a last word about how it melted
+/// ("sharp", "broad", "dec").
+fn without_words(text: &str) -> &str {
+    const LABELS: [&str; 10] = [
+        "melting point",
+        "melting range",
+        "mp range",
+        "melted at",
+        "melts at",
+        "m. p.",
+        "m.p.",
+        "mpt",
+        "mp",
+        "range",
+    ];
+    const MANNER: [&str; 7] = [
+        "sharp",
+        "broad",
+        "dec",
+        "decomp",
+        "decomposes",
+        "decomposed",
+        "d",
+    ];
+    let mut t = text.trim();
+    for label in LABELS {
+        let head = t.get(..label.len());
+        if head.is_some_and(|h| h.eq_ignore_ascii_case(label)) {
+            let rest = t[label.len()..].trim_start();
+            let rest = rest.strip_prefix([':', '=']).unwrap_or(rest).trim_start();
+            // "mp" must be a word of its own: "mpa" is not a label
+            if rest.len() < t.len() - label.len() || rest.starts_with(|c: char| !c.is_alphabetic())
+            {
+                t = rest;
+            }
+            break;
+        }
+    }
+    if let (Some(open), true) = (t.find('('), t.ends_with(')')) {
+        if t[..open].contains(|c: char| c.is_ascii_digit()) {
+            t = t[..open].trim_end();
+        }
+    }
+    for _ in 0..2 {
+        let Some((head, last)) = t.rsplit_once(' ') else {
+            break;
+        };
+        let word = last.trim_end_matches(['.', ',']).to_ascii_lowercase();
+        if !MANNER.contains(&word.as_str()) {
+            break;
+        }
+        t = head.trim_end().trim_end_matches(',');
+    }
+    t
+}
+
 fn parse_written(text: &str, decimal: Decimal) -> Option<RawRange> {
     if let Some(r) = plain_range(text) {
         return Some(r);
     }
-    let (t, _) = strip_approximate(text.trim());
+    let (t, _) = strip_approximate(without_words(text));
     let t = t.trim();
     if t.is_empty() {
         return None;
@@ -179,6 +236,25 @@ mod tests {
         assert_eq!(r("122"), Some((122.0, 122.0, true)));
         assert_eq!(r("121 °C - 122 °C"), Some((121.0, 122.0, false)));
         assert_eq!(r("ca. 120—121"), Some((120.0, 121.0, false)));
+    }
+
+    #[test]
+    fn words_around_a_range_are_read_past() {
+        // from a trial: "121-122.5 (sharp)" and "mp 120.5-122" were unreadable
+        assert_eq!(r("121-122.5 (sharp)"), Some((121.0, 122.5, false)));
+        assert_eq!(r("mp 120.5-122"), Some((120.5, 122.0, false)));
+        assert_eq!(r("m.p.: 121-122 °C"), Some((121.0, 122.0, false)));
+        assert_eq!(
+            r("Melting point = 121.5 to 122.5"),
+            Some((121.5, 122.5, false))
+        );
+        assert_eq!(r("121-122 sharp"), Some((121.0, 122.0, false)));
+        assert_eq!(r("121-123 °C, broad"), Some((121.0, 123.0, false)));
+        assert_eq!(r("mp ~121-122 (dec.)"), Some((121.0, 122.0, false)));
+        // words that are not about the range still make it unreadable
+        assert_eq!(r("mpa 121-122"), None);
+        assert_eq!(r("121-122 melted"), None);
+        assert_eq!(r("(sharp)"), None);
     }
 
     #[test]

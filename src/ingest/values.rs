@@ -263,6 +263,9 @@ pub struct Quantity {
 /// Returns `None` when the text is not a number optionally followed by a known unit.
 pub fn parse_quantity(text: &str, decimal: Decimal) -> Option<Quantity> {
     let (t, _) = strip_approximate(text.trim());
+    if let Some(q) = grouped_by_spaces(t, decimal) {
+        return Some(q);
+    }
     let (num, rest) = split_numeric_prefix(t);
     if num.is_empty() {
         return None;
@@ -275,6 +278,43 @@ pub fn parse_quantity(text: &str, decimal: Decimal) -> Option<Quantity> {
         Some(parse_unit(rest)?)
     };
     Some(Quantity { value, unit })
+}
+
+/// A mass or volume written with its thousands in groups apart ("2 450 mg", "1 250,5 mg", with a
+/// space, a no-break or a narrow no-break space, as SI and many locales write them). Only with
+/// its unit: a bare "121 122" stays unreadable rather than becoming one number.
+fn grouped_by_spaces(t: &str, decimal: Decimal) -> Option<Quantity> {
+    let is_gap = |c: char| matches!(c, ' ' | '\u{a0}' | '\u{202f}');
+    let mut parts = t.split(is_gap).filter(|p| !p.is_empty());
+    let first = parts.next()?;
+    if !(1..=3).contains(&first.len()) || !first.bytes().all(|b| b.is_ascii_digit()) {
+        return None;
+    }
+    let mut joined = first.to_string();
+    let mut groups = 0;
+    let mut tail = String::new();
+    for p in parts.by_ref() {
+        let digits = p.bytes().take_while(u8::is_ascii_digit).count();
+        if tail.is_empty() && digits == 3 {
+            joined.push_str(&p[..3]);
+            groups += 1;
+            if p.len() > 3 {
+                // "450,5mg" or "450mg": the rest of the number and the unit
+                tail.push_str(&p[3..]);
+            }
+            continue;
+        }
+        tail.push(' ');
+        tail.push_str(p);
+    }
+    if groups == 0 {
+        return None;
+    }
+    let q = parse_quantity(
+        &format!("{joined}{}", tail.trim_start_matches(' ')),
+        decimal,
+    )?;
+    matches!(q.unit, Some(Unit::Mass(_) | Unit::Volume(_))).then_some(q)
 }
 
 /// Text that means "nothing entered" rather than a value that cannot be read.
@@ -292,6 +332,20 @@ mod tests {
 
     fn q(text: &str) -> Option<(f64, Option<Unit>)> {
         parse_quantity(text, Decimal::Point).map(|q| (q.value, q.unit))
+    }
+
+    #[test]
+    fn thousands_in_spaced_groups_are_one_number_with_a_mass_or_volume_unit() {
+        // SI and many locales group digits by spaces (a trial: "2 450 mg" was unreadable)
+        let c = |t: &str| parse_quantity(t, Decimal::Comma).map(|q| q.value);
+        assert_eq!(c("2 450 mg"), Some(2450.0));
+        assert_eq!(c("1\u{202f}250,5 mg"), Some(1250.5));
+        assert_eq!(c("2\u{a0}450mg"), Some(2450.0));
+        assert_eq!(q("12 345.5 mL").map(|x| x.0), Some(12345.5));
+        // not grouping: a bare pair of numbers, a temperature, groups not of three
+        assert_eq!(c("121 122"), None);
+        assert_eq!(c("121 122 °C"), None);
+        assert_eq!(c("2 45 mg"), None);
     }
 
     #[test]
