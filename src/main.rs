@@ -357,8 +357,24 @@ fn run() -> ExitCode {
         Ok(code) => code,
         Err(e) if fail::is_broken_pipe(&e) => ExitCode::SUCCESS,
         Err(e) => {
-            fail::say(&format!("benchgrade: {e:#}"));
+            fail::say(&format!("benchgrade: {}", message(&e)));
             ExitCode::from(2)
         }
     }
+}
+
+/// The error and its causes, each said once: a library error that already names its cause in
+/// its own text is not followed by that cause again.
+fn message(e: &anyhow::Error) -> String {
+    let mut out = String::new();
+    for part in e.chain().map(ToString::to_string) {
+        if out.ends_with(&part) {
+            continue;
+        }
+        if !out.is_empty() {
+            out.push_str(": ");
+        }
+        out.push_str(&part);
+    }
+    out
 }

@@ -293,7 +293,7 @@ fn merged_sections(merged: &[crate::assess::SectionMerge]) -> Vec<Problem> {
             file: m.source.clone(),
             sheet: m.sheet.clone(),
             message: format!(
-                "row {}: section \"{}\" is graded as section \"{}\" (labels that differ only in case, spacing, punctuation or a number's leading zeros name one section); if they are different sections, give them labels that differ in a letter or digit",
+                "row {}: section \"{}\" is graded as section \"{}\" (labels that differ only in case, spacing, punctuation, a prefix such as Sec or Section, or a number's leading zeros name one section); if they are different sections, give them labels that differ in a letter or digit",
                 m.row, m.label, m.read_as
             ),
             fatal: false,

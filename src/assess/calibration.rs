@@ -210,8 +210,15 @@ mod tests {
         assert_ne!(section_key("Lab 1/2"), section_key("Lab 12"));
         assert_ne!(bench_key("B1-2"), bench_key("B12"));
         assert_eq!(bench_key("B1-2"), bench_key("1.2"));
+        // a written thousand is not one, and labels without letters or digits stay apart
+        // (an adversarial trial: "1,000", "Lab 1" and "1" were one section, "🔥" was "🧪")
+        assert_ne!(section_key("1,000"), section_key("1"));
+        assert_ne!(section_key("Lab 1"), section_key("1 000"));
+        assert_ne!(section_key("🔥"), section_key("🧪"));
+        assert_ne!(section_key("🧪"), section_key("🧪🧪"));
+        assert_eq!(section_key("🧪"), section_key(" 🧪 "));
         assert_eq!(section_key("Sec 2.1"), section_key("2.1"));
-        assert_eq!(bench_key("0.5"), "0.5");
+        assert_eq!(bench_key("0.5"), "0-5");
         for written in ["Sec A", "sec a", "Sec-A", "SEC  A", "Sec A."] {
             assert_eq!(section_key(written), "seca", "{written}");
         }

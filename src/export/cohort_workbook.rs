@@ -18,6 +18,7 @@ use rust_xlsxwriter::{
 use super::atomic::Stage;
 use super::report::{self, Cell, Report, Table};
 use super::ticks;
+use super::workbook::fit_cell;
 use crate::error::WriteError;
 use crate::model::Measure;
 use crate::stats::QUANTILE_DEFINITION;
@@ -82,7 +83,7 @@ fn write_table(ws: &mut Worksheet, top: u32, t: &Table, f: &Formats) -> Result<u
             let col = i as u16;
             let shown = match cell {
                 Cell::Text(s) => {
-                    ws.write_string(row, col, s)?;
+                    ws.write_string(row, col, fit_cell(s))?;
                     s.chars().count()
                 }
                 Cell::Count(n) => {
@@ -124,7 +125,7 @@ fn overview(wb: &mut Workbook, r: &Report, f: &Formats) -> Result<(), XlsxError>
     let ws = wb.add_worksheet().set_name("Overview")?;
     ws.set_column_width(0, 120)?;
     let wrap = Format::new().set_text_wrap();
-    ws.write_string_with_format(0, 0, r.title, &title)?;
+    ws.write_string_with_format(0, 0, fit_cell(r.title), &title)?;
     ws.write_string(
         1,
         0,
@@ -133,10 +134,10 @@ fn overview(wb: &mut Workbook, r: &Report, f: &Formats) -> Result<(), XlsxError>
             r.generated
         ),
     )?;
-    ws.write_string_with_format(2, 0, r.used, &wrap)?;
+    ws.write_string_with_format(2, 0, fit_cell(r.used), &wrap)?;
     ws.write_string_with_format(4, 0, "Findings", &f.bold)?;
     for (row, finding) in (5..).zip(report::findings(r)) {
-        ws.write_string_with_format(row, 0, finding, &wrap)?;
+        ws.write_string_with_format(row, 0, fit_cell(&finding), &wrap)?;
     }
     print_setup(ws);
     Ok(())
@@ -196,7 +197,7 @@ fn box_view(
     }
     for (i, (section, q1, med, q3)) in rows.iter().enumerate() {
         let row = r + 1 + i as u32;
-        ws.write_string(row, col, section)?;
+        ws.write_string(row, col, fit_cell(section))?;
         ws.write_number(row, col + 1, *q1)?;
         ws.write_number(row, col + 2, med - q1)?;
         ws.write_number(row, col + 3, q3 - med)?;
@@ -292,7 +293,7 @@ fn grades(wb: &mut Workbook, r: &Report, f: &Formats) -> Result<(), XlsxError> {
         ws.write_string_with_format(0, c as u16, *h, &f.label)?;
     }
     for (i, (l, n)) in r.letters.iter().enumerate() {
-        ws.write_string(1 + i as u32, 0, l)?;
+        ws.write_string(1 + i as u32, 0, fit_cell(l))?;
         ws.write_number(1 + i as u32, 1, *n as f64)?;
     }
     if !r.letters.is_empty() {

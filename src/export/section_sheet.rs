@@ -65,7 +65,12 @@ pub(super) struct SectionSheet {
     /// The widest text seen in each column, in characters.
     widths: Vec<usize>,
     pub(super) notes: usize,
+    /// Students past the last row a sheet holds, left to results.csv.
+    pub(super) past_last_row: usize,
 }
+
+/// The last row a worksheet holds (0-based): 1,048,576 rows.
+const LAST_ROW: u32 = 1_048_575;
 
 impl SectionSheet {
     /// How many original columns the sheet shows.
@@ -172,6 +177,7 @@ pub(super) fn start(
         next_row: r + 1,
         widths,
         notes: 0,
+        past_last_row: 0,
     };
     print_setup(ws, &sheet)?;
     Ok(sheet)
@@ -287,6 +293,10 @@ pub(super) fn write_row(
     f: &Formats,
 ) -> Result<(), XlsxError> {
     let r = sheet.next_row;
+    if r > LAST_ROW {
+        sheet.past_last_row += 1;
+        return Ok(());
+    }
     sheet.next_row += 1;
     let s = &g.assessed.submission;
     let lines = row_lines(sheet, g);

@@ -410,6 +410,12 @@ impl GradedWorkbooks {
                     .worksheet_from_index(section.index)
                     .map_err(e)?;
                 sheet::finish(ws, section).map_err(e)?;
+                if section.past_last_row > 0 {
+                    book.notes.push(format!(
+                        "Sheet \"{}\": {} more students than a sheet holds are left out of it; results.csv holds them all.",
+                        section.name, section.past_last_row
+                    ));
+                }
             }
             super::workbook_summary::statistics_sheet(
                 &mut book,

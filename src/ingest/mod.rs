@@ -226,13 +226,24 @@ impl Collector {
             Event::FileDone(source) => {
                 let failed = self.problems.iter().any(|p| p.file == source && p.fatal);
                 if self.tables_in_file == 0 && !failed {
+                    let (mut hidden, mut other) = (0, 0);
                     for p in self.problems.iter_mut().filter(|p| p.file == source) {
                         p.fatal = true;
+                        if p.message == workbook::HIDDEN {
+                            hidden += 1;
+                        } else {
+                            other += 1;
+                        }
                     }
+                    let message = if hidden > 0 && other == 0 {
+                        "every sheet that could hold submissions is hidden in the workbook; unhide the section's sheet to grade it"
+                    } else {
+                        "no sheet holds a recognisable table of submissions (a header row naming a mass or melting-point column and at least two other fields)"
+                    };
                     self.problems.push(Problem {
                         file: source,
                         sheet: None,
-                        message: "no sheet holds a recognisable table of submissions (a header row naming a mass or melting-point column and at least two other fields)".into(),
+                        message: message.into(),
                         fatal: true,
                     });
                 }

@@ -74,6 +74,19 @@ fn repeats(e: &BytesStart<'_>, name: &str) -> u32 {
         .max(1)
 }
 
+/// Most copies of one row holding data that an OpenDocument sheet may ask for: a class file
+/// repeats empty rows (formatting down the sheet), never a student's row thousands of times.
+const MOST_REPEATED_DATA_ROWS: u32 = 5_000;
+
+/// Why the scan refuses an OpenDocument file, or why it could not look (then the file is left to
+/// the reader).
+#[derive(Debug)]
+pub enum OdsScan {
+    /// The file holds what no class file holds; the message names where.
+    Refused(String),
+    Unreadable(String),
+}
+
 /// Where the scan of one OpenDocument table stands.
 #[derive(Default)]
 struct OdsCursor {
@@ -84,6 +97,8 @@ struct OdsCursor {
     blocks: Vec<Block>,
     /// A percentage cell whose shown text is still to come.
     open: Option<Block>,
+    /// The first thing found that refuses the file.
+    refused: Option<String>,
 }
 
 /// The decimals a percentage's shown text has: "74.0%" 1, "74 %" 0, "74,25 %" 2.
@@ -110,7 +125,11 @@ impl OdsCursor {
     /// A cell; a percentage cell with content (`empty` false) waits for its shown text.
     fn cell(&mut self, e: &BytesStart<'_>, empty: bool) {
         let cols = repeats(e, "table:number-columns-repeated");
-        if attr(e, "office:value-type").as_deref() == Some("percentage") {
+        let kind = attr(e, "office:value-type");
+        if kind.is_some() && self.refused.is_none() {
+            self.check(e, kind.as_deref());
+        }
+        if kind.as_deref() == Some("percentage") {
             let b = Block {
                 row: self.row,
                 rows: self.row_repeats,
@@ -125,6 +144,35 @@ impl OdsCursor {
             }
         }
         self.col = self.col.saturating_add(cols);
+    }
+
+    /// A cell holding data in a row repeated past reason, or a number that is not one: either
+    /// would cost the reader the whole file (memory, or a parse error that names no cell).
+    fn check(&mut self, e: &BytesStart<'_>, kind: Option<&str>) {
+        let at = || {
+            format!(
+                "sheet \"{}\" cell {}{}",
+                self.sheet.as_deref().unwrap_or(""),
+                super::cells::column_letters(self.col),
+                self.row + 1
+            )
+        };
+        if self.row_repeats > MOST_REPEATED_DATA_ROWS {
+            self.refused = Some(format!(
+                "{}: a row holding data is repeated {} times (table:number-rows-repeated); a class file does not hold that many copies of one row; re-save it from the spreadsheet program or delete the copies",
+                at(),
+                self.row_repeats
+            ));
+        } else if matches!(kind, Some("float" | "percentage" | "currency")) {
+            let value = attr(e, "office:value");
+            if value.is_some_and(|v| !v.trim().parse::<f64>().is_ok_and(f64::is_finite)) {
+                self.refused = Some(format!(
+                    "{}: office:value \"{}\" is not a number, and the file cannot be read past it; re-save it from the spreadsheet program",
+                    at(),
+                    attr(e, "office:value").unwrap_or_default().chars().take(40).collect::<String>()
+                ));
+            }
+        }
     }
 
     /// The first text inside an open percentage cell gives its decimals.
@@ -158,19 +206,19 @@ impl OdsCursor {
     }
 }
 
-/// The percentage cells of every table in an OpenDocument spreadsheet's content.xml.
-pub fn ods(path: &Path) -> Result<PercentCells, String> {
-    let file = std::fs::File::open(path).map_err(|e| e.to_string())?;
-    let mut archive = zip::ZipArchive::new(BufReader::new(file)).map_err(|e| e.to_string())?;
-    let content = archive.by_name("content.xml").map_err(|e| e.to_string())?;
+/// The percentage cells of every table in an OpenDocument spreadsheet's content.xml, read
+/// before the spreadsheet reader opens the file.
+pub fn ods(path: &Path) -> Result<PercentCells, OdsScan> {
+    let other = |e: &dyn std::fmt::Display| OdsScan::Unreadable(e.to_string());
+    let file = std::fs::File::open(path).map_err(|e| other(&e))?;
+    let mut archive = zip::ZipArchive::new(BufReader::new(file)).map_err(|e| other(&e))?;
+    let content = archive.by_name("content.xml").map_err(|e| other(&e))?;
     let mut reader = quick_xml::Reader::from_reader(BufReader::new(content));
     let mut found = PercentCells::new();
     let mut at = OdsCursor::default();
     let mut buf = Vec::new();
     loop {
-        let event = reader
-            .read_event_into(&mut buf)
-            .map_err(|e| e.to_string())?;
+        let event = reader.read_event_into(&mut buf).map_err(|e| other(&e))?;
         match &event {
             Event::Start(e) | Event::Empty(e) => match e.name().as_ref() {
                 "table:table" if at.sheet.is_none() => {
@@ -198,6 +246,9 @@ pub fn ods(path: &Path) -> Result<PercentCells, String> {
                 "table:table-cell" | "table:covered-table-cell" => at.end_cell(),
                 "table:table-row" => at.row = at.row.saturating_add(at.row_repeats),
                 "table:table" => {
+                    if let Some(why) = at.refused.take() {
+                        return Err(OdsScan::Refused(why));
+                    }
                     let done = std::mem::take(&mut at);
                     if let Some(name) = done.sheet {
                         if !done.blocks.is_empty() {

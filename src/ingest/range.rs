@@ -83,8 +83,12 @@ fn plain_range(text: &str) -> Option<RawRange> {
     if !plain(a) || !plain(rest) {
         return None;
     }
-    let onset = text[..dash].parse().ok()?;
-    let clear = text[dash + 1..].parse().ok()?;
+    // a number too long for a double is not a temperature
+    let onset = text[..dash].parse().ok().filter(|v: &f64| v.is_finite())?;
+    let clear = text[dash + 1..]
+        .parse()
+        .ok()
+        .filter(|v: &f64| v.is_finite())?;
     Some(RawRange {
         onset,
         clear,
@@ -255,6 +259,8 @@ mod tests {
         assert_eq!(r("mpa 121-122"), None);
         assert_eq!(r("121-122 melted"), None);
         assert_eq!(r("(sharp)"), None);
+        // too long for a double (an adversarial trial: read as infinity, then "inverted")
+        assert_eq!(r(&format!("{}-122", "9".repeat(400))), None);
     }
 
     #[test]

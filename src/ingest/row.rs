@@ -63,6 +63,9 @@ fn found_instead(cell: &Cell) -> String {
         Cell::Error(e) => format!("the error {e}"),
         Cell::Date(_) => "a date".into(),
         Cell::Bool(b) => format!("the value {}", if *b { "TRUE" } else { "FALSE" }),
+        Cell::Percent(v) if !percent_of_fraction(*v).is_finite() => {
+            format!("the fraction {v:e} shown as a percentage")
+        }
         Cell::Percent(v) => format!("the percentage {}", format_number(percent_of_fraction(*v))),
         Cell::Text(t) => format!("the text \"{}\"", t.trim()),
         Cell::Number(v) => format!("the number {v}"),
@@ -70,8 +73,23 @@ fn found_instead(cell: &Cell) -> String {
     }
 }
 
-/// Reads a numeric cell. `Ok(None)` for an empty cell.
+/// Reads a numeric cell. `Ok(None)` for an empty cell; a value no double holds (1e308 shown as
+/// a percentage, a mass in kg past the largest double) is unreadable, never infinity.
 fn read_number(cell: &Cell, column: &Column, decimal: Decimal) -> Result<Option<f64>, String> {
+    match read_number_as_is(cell, column, decimal)? {
+        Some(v) if !v.is_finite() => Err(format!(
+            "{}, too large to be a measurement",
+            found_instead(cell)
+        )),
+        v => Ok(v),
+    }
+}
+
+fn read_number_as_is(
+    cell: &Cell,
+    column: &Column,
+    decimal: Decimal,
+) -> Result<Option<f64>, String> {
     let field = column.field.unwrap_or(Field::ReportedRecovery);
     let k = kind(field);
     let header_unit = column.unit;

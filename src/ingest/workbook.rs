@@ -38,7 +38,7 @@ pub struct SheetRead {
 }
 
 /// Why a hidden sheet is passed over.
-const HIDDEN: &str = "skipped: the workbook hides this sheet (most often a template or an old copy); unhide it in the spreadsheet program to grade it";
+pub(crate) const HIDDEN: &str = "skipped: the workbook hides this sheet (most often a template or an old copy); unhide it in the spreadsheet program to grade it";
 
 /// The sheets the workbook hides, each as a note, and the names of the others in order.
 fn hidden_first<R: Reader<BufReader<File>>>(wb: &R) -> (Vec<SheetRead>, Vec<String>) {
@@ -467,8 +467,13 @@ pub fn read_workbook(
             read_all(wb, dense, &mut |s| on_sheet(marked(s, &percent)))?;
         }
         Format::Ods => {
+            // scanned first: the scan refuses what would cost the reader the whole file
+            let percent = match percent_cells::ods(path) {
+                Ok(p) => p,
+                Err(percent_cells::OdsScan::Refused(why)) => return Err(why),
+                Err(percent_cells::OdsScan::Unreadable(_)) => Default::default(),
+            };
             let wb = open_workbook::<Ods<_>, _>(path).map_err(describe)?;
-            let percent = percent_cells::ods(path).unwrap_or_default();
             read_all(wb, dense, &mut |s| on_sheet(marked(s, &percent)))?;
         }
     }

@@ -167,21 +167,26 @@ pub fn bench_key(text: &str) -> String {
     rest.to_string()
 }
 
-/// `text` in lower case, letters and digits only, with a "." where anything else stood between
-/// two digits.
+/// `text` in lower case, letters and digits only, with a "-" where anything else stood between
+/// two digits (never a "." that would read back as a decimal point). A label with no letter or
+/// digit at all ("🧪", "..") is its own key: only the same text matches it.
 fn letters_and_digits(text: &str) -> String {
     let mut k = String::with_capacity(text.len());
     let mut gap = false;
     for c in text.chars().flat_map(char::to_lowercase) {
         if c.is_alphanumeric() {
             if gap && c.is_ascii_digit() && k.ends_with(|d: char| d.is_ascii_digit()) {
-                k.push('.');
+                k.push('-');
             }
             k.push(c);
             gap = false;
         } else {
             gap = true;
         }
+    }
+    if k.is_empty() {
+        // kept apart from every key made of letters and digits
+        return format!("\u{1}{}", text.trim().to_lowercase());
     }
     k
 }

@@ -190,7 +190,8 @@ impl Typed<'_> {
                         format!("points {p} are outside 0 to {} for {what}", points(most)),
                     ));
                 }
-                Ok(Change::Set(v))
+                // "-0" is 0 (adding 0.0 turns -0.0 into 0.0)
+                Ok(Change::Set(v + 0.0))
             }
             (None, Some(a)) => {
                 let d = number(a)
@@ -204,7 +205,7 @@ impl Typed<'_> {
                         ),
                     ));
                 }
-                Ok(Change::Adjust(d))
+                Ok(Change::Adjust(d + 0.0))
             }
             _ => Err(invalid(
                 "points",

@@ -482,6 +482,15 @@ fn welch_left_out(left: &[(usize, LeftOut)], groups: &[(String, Vec<f64>)]) -> S
             format!("{} ({why})", groups[*i].0)
         })
         .collect();
+    // a note names a few groups and counts the rest, so that it reads (and fits a cell)
+    const NAMED: usize = 10;
+    if named.len() > NAMED {
+        return format!(
+            "left out {} and {} more groups (one value or every value the same)",
+            named[..NAMED].join(", "),
+            named.len() - NAMED
+        );
+    }
     format!("left out {}", named.join(", "))
 }
 

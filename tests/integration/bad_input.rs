@@ -395,3 +395,59 @@ fn a_run_killed_mid_write_leaves_the_previous_outputs() {
     let leftovers = partials(&f.path("out"));
     assert!(leftovers.is_empty(), "{leftovers:?}");
 }
+
+/// An .ods that repeats a row of data a million times (a few hundred bytes that a reader
+/// expands into a million students) or holds a number that is not one is refused with the cell
+/// named, before the reader opens it; the other file is graded (an adversarial trial: 1.7 GB
+/// and no output, and "Parse float error" naming no cell).
+#[test]
+fn an_ods_that_would_cost_the_reader_the_file_is_refused_with_its_cell() {
+    let f = Fixture::new();
+    let ods = |name: &str, rows: &str| {
+        let content = format!(
+            r#"<?xml version="1.0" encoding="UTF-8"?><office:document-content xmlns:office="urn:oasis:names:tc:opendocument:xmlns:office:1.0" xmlns:table="urn:oasis:names:tc:opendocument:xmlns:table:1.0" xmlns:text="urn:oasis:names:tc:opendocument:xmlns:text:1.0" office:version="1.2"><office:body><office:spreadsheet><table:table table:name="Sec 1"><table:table-row><table:table-cell office:value-type="string"><text:p>ID</text:p></table:table-cell><table:table-cell office:value-type="string"><text:p>Crude (g)</text:p></table:table-cell><table:table-cell office:value-type="string"><text:p>Recovered (g)</text:p></table:table-cell><table:table-cell office:value-type="string"><text:p>MP</text:p></table:table-cell></table:table-row>{rows}</table:table></office:spreadsheet></office:body></office:document-content>"#
+        );
+        zip_of(
+            &f,
+            name,
+            &[
+                (
+                    "mimetype",
+                    b"application/vnd.oasis.opendocument.spreadsheet",
+                ),
+                ("content.xml", content.as_bytes()),
+            ],
+        );
+    };
+    let row = |value: &str| {
+        format!(
+            r#"<table:table-cell office:value-type="string"><text:p>s9</text:p></table:table-cell><table:table-cell office:value-type="float" office:value="{value}"><text:p>3</text:p></table:table-cell><table:table-cell office:value-type="float" office:value="2.1"><text:p>2.1</text:p></table:table-cell><table:table-cell office:value-type="string"><text:p>121-122</text:p></table:table-cell>"#
+        )
+    };
+    ods(
+        "copies.ods",
+        &format!(
+            r#"<table:table-row table:number-rows-repeated="1048575">{}</table:table-row>"#,
+            row("3")
+        ),
+    );
+    ods(
+        "not-a-number.ods",
+        &format!("<table:table-row>{}</table:table-row>", row("abc")),
+    );
+    for (file, says) in [
+        (
+            "copies.ods",
+            "cell A2: a row holding data is repeated 1048575 times",
+        ),
+        (
+            "not-a-number.ods",
+            "cell B2: office:value \"abc\" is not a number",
+        ),
+    ] {
+        let (code, stderr, rows) = grade_with(&f, file);
+        assert_eq!(code, 1, "{stderr}");
+        assert!(stderr.contains(says), "{stderr}");
+        assert_eq!(rows, 1, "the good file is graded");
+    }
+}
