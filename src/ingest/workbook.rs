@@ -471,7 +471,9 @@ pub fn read_workbook(
             let percent = match percent_cells::ods(path) {
                 Ok(p) => p,
                 Err(percent_cells::OdsScan::Refused(why)) => return Err(why),
-                Err(percent_cells::OdsScan::Unreadable(_)) => Default::default(),
+                Err(percent_cells::OdsScan::Unreadable(_)) => {
+                    percent_cells::PercentCells::default()
+                }
             };
             let wb = open_workbook::<Ods<_>, _>(path).map_err(describe)?;
             read_all(wb, dense, &mut |s| on_sheet(marked(s, &percent)))?;

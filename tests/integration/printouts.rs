@@ -308,3 +308,32 @@ fn the_report_prints_on_a_few_pages_with_every_figure_whole() {
         assert!(both, "\"{t}\" is cut across pages {on:?}");
     }
 }
+
+/// Hundreds of sections whose comparison notes list many groups still give every output (an
+/// adversarial trial: a Welch note past a cell's 32,767 characters failed the cohort workbook).
+#[test]
+fn a_thousand_sections_give_every_output() {
+    let f = Fixture::new();
+    let mut csv = String::from("Section,Student ID,Crude (g),Recovered (g),MP onset,MP clear\n");
+    for i in 0..1200 {
+        let label =
+            format!("Section {i:04} of the long-named teaching laboratory course, Tuesday evening");
+        csv.push_str(&format!("{label},{},2.5,1.8,121,122\n", 5000 + i));
+    }
+    f.write("many.csv", csv);
+    let run = f.run(&[
+        "grade",
+        "many.csv",
+        "--out",
+        "out",
+        "--skip-workbooks",
+        "--skip-handouts",
+    ]);
+    assert_eq!(run.code, 0, "{}", run.stderr);
+    assert!(f.path("out/cohort-report.xlsx").exists());
+    let comparisons = std::fs::read_to_string(f.path("out/section-comparison.csv")).unwrap();
+    assert!(
+        comparisons.contains("more groups"),
+        "the note counts what it does not name"
+    );
+}
