@@ -69,6 +69,9 @@ pub(super) struct SectionSheet {
     pub(super) past_last_row: usize,
 }
 
+/// Students a sheet sizes the rows of for their wrapped text (far more than a printout holds).
+const SIZED_ROWS: u32 = 5_000;
+
 /// The last row a worksheet holds (0-based): 1,048,576 rows.
 const LAST_ROW: u32 = 1_048_575;
 
@@ -299,9 +302,13 @@ pub(super) fn write_row(
     }
     sheet.next_row += 1;
     let s = &g.assessed.submission;
-    let lines = row_lines(sheet, g);
-    if lines > 1 {
-        ws.set_row_height(r, LINE_POINTS * lines as f64 + 2.0)?;
+    // rust_xlsxwriter keeps every row's height in memory even in constant-memory mode: past
+    // the rows anyone prints, rows keep the default height so that memory stays bounded
+    if r - sheet.header_row <= SIZED_ROWS {
+        let lines = row_lines(sheet, g);
+        if lines > 1 {
+            ws.set_row_height(r, LINE_POINTS * lines as f64 + 2.0)?;
+        }
     }
     for c in 0..sheet.order.len() {
         if let Some(cell) = s.original.get(sheet.order[c]) {

@@ -34,6 +34,9 @@ pub const STAT_LABELS: [&str; 16] = [
 
 /// Where the charts' own numbers are written: to the right of what is printed.
 const DATA_COLUMN: u16 = 20;
+/// Most points a section puts in the scatter plot.
+const MOST_POINTS: usize = 100_000;
+
 /// Rows a band of charts takes, one band a printed page.
 const BAND_ROWS: u32 = 24;
 
@@ -343,7 +346,7 @@ fn scatter(
     chart.x_axis().set_name("Range width (°C)");
     chart.y_axis().set_name("Recovery (%)");
     chart.set_width(760).set_height(330);
-    let (mut n, mut left_out) = (0, 0);
+    let (mut n, mut left_out, mut shown_all) = (0, 0, true);
     let mut col = DATA_COLUMN + 80;
     for section in sections {
         let Some(g) = stats.groups.get(section) else {
@@ -353,13 +356,16 @@ fn scatter(
         if g.width_recovery.is_empty() {
             continue;
         }
-        n += g.width_recovery.len();
+        // a sheet holds about a million rows, and a plot of more points shows nothing more
+        let points = &g.width_recovery[..g.width_recovery.len().min(MOST_POINTS)];
+        n += points.len();
+        shown_all &= points.len() == g.width_recovery.len();
         ws.write_string(r, col, fit_cell(section))?;
-        for (i, (w, rec)) in g.width_recovery.iter().enumerate() {
+        for (i, (w, rec)) in points.iter().enumerate() {
             write_opt(ws, r + 1 + i as u32, col, *w)?;
             write_opt(ws, r + 1 + i as u32, col + 1, *rec)?;
         }
-        let last = r + g.width_recovery.len() as u32;
+        let last = r + points.len() as u32;
         chart
             .add_series()
             .set_name(fit_cell(section).as_ref())
@@ -370,7 +376,12 @@ fn scatter(
     chart
         .title()
         .set_name(&format!(
-            "Recovery against range width: n = {n}; left out: {left_out} impossible"
+            "Recovery against range width: n = {n}{}; left out: {left_out} impossible",
+            if shown_all {
+                String::new()
+            } else {
+                format!(" (the first {MOST_POINTS} of each section)")
+            }
         ))
         .set_font(ChartFont::new().set_size(11).set_bold());
     Ok((n > 0).then_some(chart))
