@@ -122,12 +122,8 @@ fn a_sheet_with_16384_columns_and_a_header_only_sheet() {
     let f = Fixture::new();
     f.xlsx("wide.xlsx", |wb: &mut Workbook| {
         let ws = wb.add_worksheet().set_name("Wide").unwrap();
-        for (c, h) in ["ID", "Crude mass (g)", "Recovered mass (g)", "MP"]
-            .iter()
-            .enumerate()
-        {
-            ws.write_string(0, c as u16, *h).unwrap();
-        }
+        ws.write_row(0, 0, ["ID", "Crude mass (g)", "Recovered mass (g)", "MP"])
+            .unwrap();
         for c in 4..16_384u16 {
             ws.write_number(0, c, f64::from(c)).unwrap();
         }
@@ -136,12 +132,8 @@ fn a_sheet_with_16384_columns_and_a_header_only_sheet() {
         ws.write_number(1, 2, 2.0).unwrap();
         ws.write_string(1, 3, "121-122").unwrap();
         let h = wb.add_worksheet().set_name("Header only").unwrap();
-        for (c, t) in ["ID", "Crude mass (g)", "Recovered mass (g)", "MP"]
-            .iter()
-            .enumerate()
-        {
-            h.write_string(0, c as u16, *t).unwrap();
-        }
+        h.write_row(0, 0, ["ID", "Crude mass (g)", "Recovered mass (g)", "MP"])
+            .unwrap();
     });
     let (code, err, rows) = grade_with(&f, "wide.xlsx");
     assert_eq!(code, 0, "{err}");
@@ -154,19 +146,19 @@ fn illegal_sheet_names_and_formula_text_stay_inside_the_output_folder() {
     f.xlsx("names.xlsx", |wb: &mut Workbook| {
         // legal in a sheet name, not in a file name; and a section that tries to climb out
         let ws = wb.add_worksheet().set_name("A<b>|\"c\"").unwrap();
-        for (c, h) in [
-            "ID",
-            "Name",
-            "Section",
-            "Crude mass (g)",
-            "Recovered mass (g)",
-            "MP",
-        ]
-        .iter()
-        .enumerate()
-        {
-            ws.write_string(0, c as u16, *h).unwrap();
-        }
+        ws.write_row(
+            0,
+            0,
+            [
+                "ID",
+                "Name",
+                "Section",
+                "Crude mass (g)",
+                "Recovered mass (g)",
+                "MP",
+            ],
+        )
+        .unwrap();
         ws.write_string(1, 0, "=1+1").unwrap();
         ws.write_string(1, 1, "@SUM(A1:A9)").unwrap();
         ws.write_string(1, 2, "../../x").unwrap();

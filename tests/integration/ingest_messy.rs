@@ -413,22 +413,20 @@ fn a_hidden_sheet_is_passed_over_with_a_note() {
     f.xlsx("sec-8.xlsx", |wb| {
         for (name, id, hidden) in [("Sec 08", "8101", false), ("Template", "0000", true)] {
             let ws = wb.add_worksheet().set_name(name).unwrap();
-            for (c, h) in [
-                "Student ID",
-                "Crude (g)",
-                "Recovered (g)",
-                "MP onset",
-                "MP clear",
-            ]
-            .iter()
-            .enumerate()
-            {
-                ws.write_string(0, c as u16, *h).unwrap();
-            }
+            ws.write_row(
+                0,
+                0,
+                [
+                    "Student ID",
+                    "Crude (g)",
+                    "Recovered (g)",
+                    "MP onset",
+                    "MP clear",
+                ],
+            )
+            .unwrap();
             ws.write_string(1, 0, id).unwrap();
-            for (c, v) in [2.4, 1.8, 121.0, 122.0].iter().enumerate() {
-                ws.write_number(1, c as u16 + 1, *v).unwrap();
-            }
+            ws.write_row(1, 1, [2.4, 1.8, 121.0, 122.0]).unwrap();
             ws.set_hidden(hidden);
         }
     });

@@ -547,18 +547,18 @@ fn formula_text_in_file_and_sheet_names_is_guarded_and_escapes_are_shown_not_sen
     let f = Fixture::new();
     f.xlsx("=2+2.xlsx", |wb| {
         let ws = wb.add_worksheet().set_name("=1+1").unwrap();
-        for (c, h) in [
-            "ID",
-            "Section",
-            "Crude mass (g)",
-            "Recovered mass (g)",
-            "MP",
-        ]
-        .iter()
-        .enumerate()
-        {
-            ws.write_string(0, c as u16, *h).unwrap();
-        }
+        ws.write_row(
+            0,
+            0,
+            [
+                "ID",
+                "Section",
+                "Crude mass (g)",
+                "Recovered mass (g)",
+                "MP",
+            ],
+        )
+        .unwrap();
         ws.write_string(1, 0, "s\u{1b}[2J1").unwrap();
         ws.write_string(1, 1, "A\u{1b}]0;owned\u{7}").unwrap();
         ws.write_number(1, 2, 3.0).unwrap();
