@@ -177,9 +177,10 @@ pub fn flagged(rows: &[Graded], style: Style) -> String {
                 let _ = writeln!(out, "      {who} - excused, not graded: {}", printable(why));
             }
             for (i, (flag, note)) in a.flags.iter().enumerate() {
-                let (mark, code) = match flag.severity() {
-                    Severity::Impossible => ("!", style.impossible(flag.code())),
-                    Severity::Suspicious => ("?", style.suspicious(flag.code())),
+                let mark = flag.severity().marker();
+                let code = match flag.severity() {
+                    Severity::Impossible => style.impossible(flag.code()),
+                    Severity::Suspicious => style.suspicious(flag.code()),
                 };
                 let who = if i == 0 {
                     format!("row {:<5} {:<12}", a.submission.row, id)
@@ -205,11 +206,15 @@ pub fn legend(rows: &[Graded], style: Style) -> String {
         let _ = writeln!(out, "  none");
     }
     for f in raised {
-        let mark = match f.severity() {
-            Severity::Impossible => "! impossible",
-            Severity::Suspicious => "? suspicious",
-        };
-        let _ = writeln!(out, "  {:<24} {mark}: {}", f.code(), f.meaning());
+        let s = f.severity();
+        let _ = writeln!(
+            out,
+            "  {:<24} {} {}: {}",
+            f.code(),
+            s.marker(),
+            s.word(),
+            f.meaning()
+        );
     }
     out
 }

@@ -49,8 +49,6 @@ pub struct Handouts {
     stage: Stage,
     files: BTreeMap<String, AtomicFile>,
     stems: BTreeMap<String, String>,
-    /// Sections past `MAX_SECTIONS`, which get no handouts.
-    pub skipped: usize,
     page: String,
 }
 
@@ -114,7 +112,6 @@ impl Handouts {
             stage: stage.clone(),
             files: BTreeMap::new(),
             stems: BTreeMap::new(),
-            skipped: 0,
             page: String::with_capacity(8 << 10),
         }
     }
@@ -123,7 +120,6 @@ impl Handouts {
     fn file(&mut self, section: &str) -> Result<Option<&mut AtomicFile>, WriteError> {
         if !self.files.contains_key(section) {
             if self.files.len() >= MAX_SECTIONS {
-                self.skipped += 1;
                 return Ok(None);
             }
             let mut stem = file_stem(section);

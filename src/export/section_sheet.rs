@@ -423,13 +423,7 @@ fn write_flags(
     let marked: Vec<String> = a
         .flags
         .iter()
-        .map(|(fl, _)| {
-            let mark = match fl.severity() {
-                Severity::Impossible => "!",
-                Severity::Suspicious => "?",
-            };
-            format!("{mark} {}", fl.code())
-        })
+        .map(|(fl, _)| format!("{} {}", fl.severity().marker(), fl.code()))
         .collect();
     let flags = marked.join("; ");
     sheet.widen(usize::from(col), flags.chars().count().min(30));

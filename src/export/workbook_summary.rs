@@ -160,10 +160,7 @@ fn flag_counts(
         };
         for flag in Flag::ALL {
             if let Some(n) = g.flags.get(flag.code()) {
-                let kind = match flag.severity() {
-                    crate::model::Severity::Impossible => "impossible",
-                    crate::model::Severity::Suspicious => "suspicious",
-                };
+                let kind = flag.severity().word();
                 ws.write_string(r, 0, fit_cell(section))?;
                 ws.write_number(r, 1, *n as f64)?;
                 // the words run on over the empty cells to the right

@@ -30,6 +30,24 @@ pub enum Severity {
     Suspicious,
 }
 
+impl Severity {
+    /// The marker shown beside a flag wherever colour may be lost: "!" or "?".
+    pub fn marker(self) -> &'static str {
+        match self {
+            Severity::Impossible => "!",
+            Severity::Suspicious => "?",
+        }
+    }
+
+    /// The kind in a word: "impossible" or "suspicious".
+    pub fn word(self) -> &'static str {
+        match self {
+            Severity::Impossible => "impossible",
+            Severity::Suspicious => "suspicious",
+        }
+    }
+}
+
 impl Flag {
     pub const ALL: [Flag; 16] = [
         Flag::RecoveryOver100,

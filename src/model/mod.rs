@@ -169,7 +169,8 @@ pub fn bench_key(text: &str) -> String {
 
 /// `text` in lower case, letters and digits only, with a "-" where anything else stood between
 /// two digits (never a "." that would read back as a decimal point). A label with no letter or
-/// digit at all ("🧪", "..") is its own key: only the same text matches it.
+/// digit at all ("🧪", "..") is its own key, its trimmed lower-case text: only the same text
+/// matches it, and no key of letters and digits can (every such key holds one).
 fn letters_and_digits(text: &str) -> String {
     let mut k = String::with_capacity(text.len());
     let mut gap = false;
@@ -185,8 +186,7 @@ fn letters_and_digits(text: &str) -> String {
         }
     }
     if k.is_empty() {
-        // kept apart from every key made of letters and digits
-        return format!("\u{1}{}", text.trim().to_lowercase());
+        return text.trim().to_lowercase();
     }
     k
 }

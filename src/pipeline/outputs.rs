@@ -167,8 +167,15 @@ pub(super) struct Tallies {
     letters: BTreeMap<String, usize>,
     /// The sections that get a handout file, in the order the handouts meet them.
     handout_sections: std::collections::HashSet<String>,
-    /// Students (and their sections, first label met) past the handouts' section limit.
-    without_handout: (usize, std::collections::BTreeSet<String>, Option<String>),
+    without_handout: WithoutHandout,
+}
+
+/// The students past the handouts' section limit: how many, their sections, the first met.
+#[derive(Default)]
+struct WithoutHandout {
+    students: usize,
+    sections: std::collections::BTreeSet<String>,
+    first: Option<String>,
 }
 
 impl Tallies {
@@ -187,7 +194,7 @@ impl Tallies {
             )?,
             letters: BTreeMap::new(),
             handout_sections: std::collections::HashSet::new(),
-            without_handout: (0, std::collections::BTreeSet::new(), None),
+            without_handout: WithoutHandout::default(),
         })
     }
 
@@ -221,16 +228,16 @@ impl Tallies {
             self.handout_sections.insert(section.clone());
             return;
         }
-        let (students, sections, first) = &mut self.without_handout;
-        *students += 1;
-        sections.insert(section.clone());
-        first.get_or_insert_with(|| section.clone());
+        let w = &mut self.without_handout;
+        w.students += 1;
+        w.sections.insert(section.clone());
+        w.first.get_or_insert_with(|| section.clone());
     }
 
     /// A note when sections past the handouts' limit got none (never with `--skip-handouts`).
     pub(super) fn handout_note(&self, config: &Config) -> Option<Problem> {
-        let (students, sections, first) = &self.without_handout;
-        let first = first.as_ref().filter(|_| !config.skip_handouts)?;
+        let w = &self.without_handout;
+        let first = w.first.as_ref().filter(|_| !config.skip_handouts)?;
         Some(Problem {
             file: config
                 .out_dir
@@ -241,8 +248,8 @@ impl Tallies {
             message: format!(
                 "handouts are written for the first {} sections of a batch; {} more sections ({} students, from section \"{first}\" on) have none: grade them in a batch of their own for their handouts",
                 crate::export::handouts::MAX_SECTIONS,
-                sections.len(),
-                students
+                w.sections.len(),
+                w.students
             ),
             fatal: false,
         })
