@@ -291,13 +291,13 @@ fn grouped_by_spaces(t: &str, decimal: Decimal) -> Option<Quantity> {
         return None;
     }
     let mut joined = first.to_string();
-    let mut groups = 0;
+    let mut grouped = false;
     let mut tail = String::new();
-    for p in parts.by_ref() {
+    for p in parts {
         let digits = p.bytes().take_while(u8::is_ascii_digit).count();
         if tail.is_empty() && digits == 3 {
             joined.push_str(&p[..3]);
-            groups += 1;
+            grouped = true;
             if p.len() > 3 {
                 // "450,5mg" or "450mg": the rest of the number and the unit
                 tail.push_str(&p[3..]);
@@ -307,13 +307,11 @@ fn grouped_by_spaces(t: &str, decimal: Decimal) -> Option<Quantity> {
         tail.push(' ');
         tail.push_str(p);
     }
-    if groups == 0 {
+    if !grouped {
         return None;
     }
-    let q = parse_quantity(
-        &format!("{joined}{}", tail.trim_start_matches(' ')),
-        decimal,
-    )?;
+    // the tail keeps its space: "2 450 5 mg" stays "2450 5 mg", which is no quantity
+    let q = parse_quantity(&format!("{joined}{tail}"), decimal)?;
     matches!(q.unit, Some(Unit::Mass(_) | Unit::Volume(_))).then_some(q)
 }
 
@@ -346,6 +344,7 @@ mod tests {
         assert_eq!(c("121 122"), None);
         assert_eq!(c("121 122 °C"), None);
         assert_eq!(c("2 45 mg"), None);
+        assert_eq!(c("2 450 5 mg"), None);
     }
 
     #[test]
