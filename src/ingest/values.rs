@@ -334,7 +334,9 @@ mod tests {
 
     #[test]
     fn thousands_in_spaced_groups_are_one_number_with_a_mass_or_volume_unit() {
-        // SI and many locales group digits by spaces (a trial: "2 450 mg" was unreadable)
+        // digits in groups of three set apart by a space: the SI Brochure (BIPM, 9th ed., 5.4.4,
+        // from memory);
+        // many locales write it so (a trial: "2 450 mg" was unreadable)
         let c = |t: &str| parse_quantity(t, Decimal::Comma).map(|q| q.value);
         assert_eq!(c("2 450 mg"), Some(2450.0));
         assert_eq!(c("1\u{202f}250,5 mg"), Some(1250.5));

@@ -348,6 +348,7 @@ fn a_tare_and_a_gross_mass_are_not_the_product_s_mass() {
     assert_eq!(run.code, 0, "{}", run.stderr);
     let r = &f.results("out")[0];
     assert_eq!(r["recovered_mass_g"], "1.8");
+    // hand-worked: 100 x 1.80 / 2.40
     assert_eq!(r["recovery_pct"], "75");
     // without the net column, the message offers no partner's or container's column
     let head =
