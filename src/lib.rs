@@ -6,6 +6,7 @@
 //! together. Nothing here parses command lines or exits the process.
 
 pub mod assess;
+pub mod compare;
 pub mod config;
 pub mod error;
 pub mod export;

@@ -11,6 +11,7 @@
 //! - `likely-impure` when off but not wet: a broad or depressed range at a normal mass.
 
 use super::{celsius, grams, Assessed, Flag};
+use crate::compare::{above, at_least, below, differ_by_more_than};
 use crate::fields::Field;
 use crate::ingest::Submission;
 use crate::rubric::Tolerances;
@@ -86,7 +87,7 @@ pub(super) fn impossible(a: &Assessed, t: &Tolerances, out: &mut Vec<(Flag, Stri
         }
     }
     if let (Some(o), Some(c)) = (a.mp_onset_c, a.mp_clear_c) {
-        if o > c {
+        if above(o, c) {
             out.push((
                 Flag::RangeInverted,
                 format!(
@@ -98,7 +99,7 @@ pub(super) fn impossible(a: &Assessed, t: &Tolerances, out: &mut Vec<(Flag, Stri
         }
     }
     if let (Some(r), Some(c)) = (a.reference_mp_c, a.mp_clear_c) {
-        if c > r + t.above_reference_c {
+        if above(c - r, t.above_reference_c) {
             out.push((
                 Flag::AboveReference,
                 format!(
@@ -117,7 +118,7 @@ fn mismatch(a: &Assessed, t: &Tolerances) -> Option<String> {
     let s = &a.submission;
     // read once, before any flag (a fraction that fits the masses is already a percentage)
     let (as_pct, rec) = (s.reported_recovery_pct?, a.recovery_pct?);
-    ((as_pct - rec).abs() > t.recovery_mismatch_pct).then(|| {
+    differ_by_more_than(as_pct, rec, t.recovery_mismatch_pct).then(|| {
         let m = |v: Option<f64>| grams(v.unwrap_or(0.0)).trim_end_matches(" g").to_string();
         format!(
             "reported {as_pct:.1} % but 100 x {} / {} = {rec:.1} %",
@@ -130,13 +131,13 @@ fn mismatch(a: &Assessed, t: &Tolerances) -> Option<String> {
 /// Why the range looks off, in words, or nothing.
 fn off_reasons(a: &Assessed, t: &Tolerances) -> Vec<String> {
     let mut why = Vec::new();
-    if let Some(w) = a.range_width_c.filter(|w| *w > t.impure_width_c) {
+    if let Some(w) = a.range_width_c.filter(|w| above(*w, t.impure_width_c)) {
         why.push(format!(
             "the range is {w:.1} °C wide (limit {:.1})",
             t.impure_width_c
         ));
     }
-    if let Some(d) = a.depression_c.filter(|d| *d > t.impure_depression_c) {
+    if let Some(d) = a.depression_c.filter(|d| above(*d, t.impure_depression_c)) {
         why.push(format!(
             "the clear point is {d:.1} °C below the reference (limit {:.1})",
             t.impure_depression_c
@@ -157,11 +158,11 @@ fn wet_or_impure(a: &Assessed, t: &Tolerances, out: &mut Vec<(Flag, String)>) {
         return;
     };
     let ceiling = a.max_recovery_pct;
-    let over_ceiling = ceiling.filter(|c| rec > c + t.ceiling_margin_pct);
-    let heavy = rec > 100.0
+    let over_ceiling = ceiling.filter(|c| above(rec - c, t.ceiling_margin_pct));
+    let heavy = above(rec, 100.0)
         || match ceiling {
-            Some(c) => rec >= c - t.near_ceiling_pct,
-            None => rec >= t.wet_recovery_pct,
+            Some(c) => at_least(rec, c - t.near_ceiling_pct),
+            None => at_least(rec, t.wet_recovery_pct),
         };
     let mass = match ceiling {
         Some(c) => {
@@ -184,7 +185,7 @@ fn wet_or_impure(a: &Assessed, t: &Tolerances, out: &mut Vec<(Flag, String)>) {
             Flag::LikelyWet,
             format!(
                 "{mass}{} and {}: solvent likely left in the crystals (dry to constant mass)",
-                if ceiling.is_none() && rec <= 100.0 {
+                if ceiling.is_none() && !above(rec, 100.0) {
                     format!(" (at or above {:.0} %)", t.wet_recovery_pct)
                 } else {
                     String::new()
@@ -208,7 +209,7 @@ pub(super) fn suspicious(a: &Assessed, t: &Tolerances, out: &mut Vec<(Flag, Stri
     wet_or_impure(a, t, out);
     if let Some(r) = a
         .recovery_pct
-        .filter(|r| *r >= 0.0 && *r < t.low_recovery_pct)
+        .filter(|r| *r >= 0.0 && below(*r, t.low_recovery_pct))
     {
         out.push((
             Flag::LowRecovery,
@@ -216,7 +217,7 @@ pub(super) fn suspicious(a: &Assessed, t: &Tolerances, out: &mut Vec<(Flag, Stri
         ));
     }
     if let (Some(v), Some(min)) = (a.submission.solvent_volume_ml, a.min_solvent_ml) {
-        if v < min {
+        if below(v, min) {
             out.push((
                 Flag::SolventBelowMinimum,
                 format!("{v:.1} mL is less than the {min:.1} mL of boiling solvent needed to dissolve the crude (insoluble matter may have been filtered off hot)"),

@@ -120,7 +120,9 @@ fn complete_shorthand(r: RawRange) -> RawRange {
     if clear < r.onset {
         clear += scale;
     }
-    if clear - r.onset > 10.0 {
+    // "294.5-4.5" would complete to the onset itself: a zero-width range is never written as
+    // shorthand, so the entry is left as written (found by the property test below)
+    if clear == r.onset || clear - r.onset > 10.0 {
         return r;
     }
     RawRange {

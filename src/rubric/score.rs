@@ -4,14 +4,10 @@
 use super::criteria::Criterion;
 use super::overrides::Override;
 use super::Rubric;
+use crate::compare::settle;
 use crate::model::{Assessed, CriterionScore, Flag, Measure, Score};
 use crate::numtext::{points, push_points};
 
-/// Removes floating-point noise from a computed value (122.0 - 120.8 is 1.2000000000000028)
-/// so that a value on a band edge is judged as written.
-fn settle(x: f64) -> f64 {
-    (x * 1e9).round() / 1e9
-}
 
 /// Points a rule gives for a value, before rounding.
 pub fn rule_points(c: &Criterion, x: f64) -> f64 {

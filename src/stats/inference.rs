@@ -185,7 +185,11 @@ fn welch_statistic(stats: &[(f64, f64, f64)]) -> Test {
 }
 
 /// Average ranks (1-based) of the pooled values, and the sizes of the tied groups.
+///
+/// Values are ranked as written (`compare::settle`): 114.3 - 113.0 and 122.4 - 121.1 are one
+/// depression of 1.3 °C and share a rank, though they differ in the 13th digit.
 fn ranks(values: &[f64]) -> (Vec<f64>, Vec<usize>) {
+    let values: Vec<f64> = values.iter().map(|v| crate::compare::settle(*v)).collect();
     let mut idx: Vec<usize> = (0..values.len()).collect();
     idx.sort_by(|&a, &b| values[a].total_cmp(&values[b]));
     let mut r = vec![0.0; values.len()];
@@ -419,6 +423,24 @@ mod tests {
         let k = kruskal_wallis(&[&[1.0, 2.0, 2.0, 3.0], &[2.0, 3.0, 3.0, 4.0]]).unwrap();
         assert_abs_diff_eq!(k.statistic, 2.302_631_578_947_367_3, epsilon = 1e-12);
         assert_abs_diff_eq!(k.p, 0.129_155_013_990_066_85, epsilon = 1e-12);
+    }
+
+    #[test]
+    fn readings_equal_as_written_are_ties() {
+        // depressions as the tool computes them (reference minus clear point): 114.3 - 113.0
+        // and 122.4 - 121.1 differ in the 13th digit but are both 1.3 as written.
+        // SciPy 1.17.1 on the values as written: kruskal([1.3, 1.3, 0.9, 1.6],
+        // [1.3, 2.1, 1.8, 1.3, 2.4]) = H 2.356363636363633, p 0.1247727360437237;
+        // mannwhitneyu(same, alternative="two-sided") = U 4.0, p 0.15939040677403393
+        let a = [114.3 - 113.0, 122.4 - 121.1, 122.4 - 121.5, 122.4 - 120.8];
+        let b = [1.3, 122.4 - 120.3, 122.4 - 120.6, 114.3 - 113.0, 122.4 - 120.0];
+        assert_ne!(a[0], a[1]);
+        let k = kruskal_wallis(&[&a, &b]).unwrap();
+        assert_abs_diff_eq!(k.statistic, 2.356_363_636_363_633, epsilon = 1e-9);
+        assert_abs_diff_eq!(k.p, 0.124_772_736_043_723_7, epsilon = 1e-9);
+        let (u, p) = mann_whitney(&a, &b).unwrap();
+        assert_abs_diff_eq!(u, 4.0, epsilon = 1e-12);
+        assert_abs_diff_eq!(p, 0.159_390_406_774_033_93, epsilon = 1e-9);
     }
 
     #[test]

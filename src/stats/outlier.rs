@@ -11,6 +11,7 @@
 use std::collections::HashMap;
 
 use super::inference::{mad, mean_abs_deviation, median};
+use crate::compare::{resolution, settle};
 use crate::model::{Assessed, Measure, Row};
 
 /// The measures an outlier is judged on.
@@ -27,25 +28,47 @@ pub struct Centre {
     pub mad: f64,
     /// Mean absolute deviation from the median, used where the MAD is 0.
     pub mean_ad: f64,
+    /// The least MAD the values' resolution allows: half the step they are written in (a
+    /// reading is uncertain by half a step from rounding alone), 0 for continuous values.
+    pub floor: f64,
 }
 
 impl Centre {
     /// The centre of a group's values.
+    /// Values are settled first (`compare::settle`): readings equal as written are ties.
     pub fn of(values: &[f64]) -> Centre {
+        let v: Vec<f64> = values.iter().map(|x| settle(*x)).collect();
         Centre {
-            median: median(values),
-            mad: mad(values),
-            mean_ad: mean_abs_deviation(values),
+            median: median(&v),
+            mad: mad(&v),
+            mean_ad: mean_abs_deviation(&v),
+            floor: resolution(&v).map_or(0.0, |step| step / 2.0),
         }
     }
 
     /// The robust z-score of a value: 0.6745 (x - median) / MAD; where the MAD is 0,
     /// 0.7979 (x - median) / mean absolute deviation; 0 when every value is the median.
+    ///
+    /// The scale never falls below the values' resolution: the score is never larger than
+    /// 0.6745 (x - median) / `floor`, so that readings in 0.5 °C steps (MAD 0.15 from a few
+    /// equal readings) do not make a reading two steps away an outlier.
     pub fn z(&self, x: f64) -> f64 {
+        let d = settle(x) - self.median;
+        let z = self.z_unfloored(d);
+        if self.floor > 0.0 {
+            let by_step = 0.6745 * d / self.floor;
+            if by_step.abs() < z.abs() {
+                return by_step;
+            }
+        }
+        z
+    }
+
+    fn z_unfloored(&self, d: f64) -> f64 {
         if self.mad > 0.0 {
-            0.6745 * (x - self.median) / self.mad
+            0.6745 * d / self.mad
         } else if self.mean_ad > 0.0 {
-            0.7979 * (x - self.median) / self.mean_ad
+            0.7979 * d / self.mean_ad
         } else {
             0.0
         }
@@ -53,11 +76,19 @@ impl Centre {
 
     /// The spread the score was measured against, in words: "MAD 1.20", or the fallback.
     pub fn spread(&self) -> String {
-        if self.mad > 0.0 || self.mean_ad.is_nan() || self.mean_ad <= 0.0 {
+        let mut s = if self.mad > 0.0 || self.mean_ad.is_nan() || self.mean_ad <= 0.0 {
             format!("MAD {:.2}", self.mad)
         } else {
             format!("MAD 0, mean absolute deviation {:.2}", self.mean_ad)
+        };
+        if self.floor > self.mad {
+            s.push_str(&format!(
+                "; taken as at least {}, half the {} step the values are written in",
+                self.floor,
+                self.floor * 2.0
+            ));
         }
+        s
     }
 
     /// The robust z-score of a value beyond the threshold, or `None` for a value within it.
@@ -172,5 +203,25 @@ mod tests {
         assert!(c.outlier(75.0).is_none());
         assert!(c.spread().contains("mean absolute deviation 3.18"));
         assert_eq!(Centre::of(&[5.0, 5.0]).z(5.0), 0.0);
+    }
+
+    #[test]
+    fn coarse_readings_are_not_outliers_for_their_step() {
+        // depressions from readings in 0.5 °C steps (hand-worked): eleven at 1.0 or 1.5,
+        // median 1.0, MAD 0; the mean absolute deviation is 0.1364, which would put 2.0 °C at
+        // 0.7979 x 1.0 / 0.1364 = 5.85 robust z. Half the 0.5 step is the least scale a
+        // reading allows: 0.6745 x 1.0 / 0.25 = 2.70, within 3.5 (Iglewicz and Hoaglin's limit)
+        let mut v = vec![1.0; 9];
+        v.extend([1.5, 2.0]);
+        let c = Centre::of(&v);
+        assert_eq!((c.median, c.mad, c.floor), (1.0, 0.0, 0.25));
+        assert_abs_diff_eq!(c.z(2.0), 0.6745 * 1.0 / 0.25, epsilon = 1e-12);
+        assert!(c.outlier(2.0).is_none());
+        // five steps away is one: 0.6745 x 3.0 / 0.25 = 8.09
+        assert!(c.outlier(4.0).is_some());
+        assert!(c.spread().contains("half the 0.5 step"));
+        // depressions equal as written are one value: 114.3 - 113.0 and 122.4 - 121.1
+        let d = Centre::of(&[114.3 - 113.0, 122.4 - 121.1, 1.3]);
+        assert_eq!(d.mad, 0.0);
     }
 }
