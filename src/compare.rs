@@ -123,7 +123,10 @@ mod tests {
     #[test]
     fn the_step_values_are_written_in() {
         // hand-worked: readings in half degrees, offset by a reference of 122.4
-        let d: Vec<f64> = [121.5, 122.0, 120.5, 121.0].iter().map(|c| 122.4 - c).collect();
+        let d: Vec<f64> = [121.5, 122.0, 120.5, 121.0]
+            .iter()
+            .map(|c| 122.4 - c)
+            .collect();
         assert_eq!(resolution(&d), Some(0.5));
         assert_eq!(resolution(&[1.23, 1.25, 1.31]), Some(0.02));
         assert_eq!(resolution(&[2.0, 4.0, 8.0]), Some(2.0));

@@ -16,18 +16,6 @@ use crate::fields::Field;
 use crate::ingest::Submission;
 use crate::rubric::Tolerances;
 
-/// Whether the sheet itself has no column for `field` (for a melting reading: no melting
-/// column at all, which the layout records as a missing melting range).
-fn sheet_lacks(sub: &Submission, field: Field) -> bool {
-    let melting = [Field::MpRange, Field::MpOnset, Field::MpClear];
-    if melting.contains(&field) {
-        // a sheet with onset and clear columns has no range column, and needs none
-        melting.iter().all(|f| sub.no_column.contains(f))
-    } else {
-        sub.no_column.contains(&field)
-    }
-}
-
 fn missing_fields(sub: &Submission) -> Vec<String> {
     let mp_unreadable = sub.is_unreadable(Field::MpRange);
     let checks: [(bool, Field); 5] = [
@@ -41,7 +29,7 @@ fn missing_fields(sub: &Submission) -> Vec<String> {
         .iter()
         .filter(|(empty, f)| *empty && !sub.is_unreadable(*f))
         .map(|(_, f)| {
-            if sheet_lacks(sub, *f) {
+            if sub.lacks_column(*f) {
                 format!("{} (the sheet has no column for it)", f.label())
             } else {
                 f.label().to_string()

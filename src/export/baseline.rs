@@ -4,6 +4,8 @@
 
 use std::collections::BTreeMap;
 
+use crate::model::{Flag, Measure, Severity};
+
 /// Headline figures of one term, for the baseline comparison.
 #[derive(Clone, Debug, PartialEq)]
 pub struct Term {
@@ -46,11 +48,18 @@ pub struct TermTally {
 impl TermTally {
     /// One row: its recovery, its score as a percentage, its flag codes separated by ';'.
     /// An excused student (no percent) or a repeat that does not count adds nothing.
+    ///
+    /// Each mean counts the rows section-stats.csv counts for its measure
+    /// (`Assessed::counts_for`): a recovery is left out of the mean recovery when the row holds
+    /// an impossible flag that shades the recovery column (more recovered than crude, a mass
+    /// of zero, ...), in this term and in the baseline read back from its results.parquet alike.
     pub fn add(&mut self, recovery: Option<f64>, percent: Option<f64>, flags: &str) {
         if percent.is_none() || flags.split(';').any(|c| c == "duplicate-student") {
             return;
         }
         self.rows += 1;
+        let recovery = recovery.filter(|_| counts_for(Measure::RECOVERY, flags));
+        let percent = percent.filter(|_| counts_for(Measure::SCORE, flags));
         for (slot, v) in [(&mut self.recovery, recovery), (&mut self.percent, percent)] {
             if let Some(v) = v.filter(|v| v.is_finite()) {
                 slot.0 += v;
@@ -82,6 +91,17 @@ impl TermTally {
             rubric_sha256: None,
         }
     }
+}
+
+/// Whether a row with these flag codes counts for a measure's statistics: the rule of
+/// `Assessed::counts_for`, read from the codes a results file keeps.
+fn counts_for(m: Measure, flags: &str) -> bool {
+    let shaded = m.column().shaded_by;
+    !flags.split(';').any(|code| {
+        Flag::ALL
+            .iter()
+            .any(|f| f.code() == code && f.severity() == Severity::Impossible && shaded.contains(f))
+    })
 }
 
 /// One line of baseline-comparison.csv: a headline figure in both terms.
@@ -143,4 +163,32 @@ pub fn compare(baseline: &Term, current: &Term, same_rubric: bool) -> Vec<Baseli
         out.push(BaselineRow::new(format!("rows flagged {code} (%)"), b, c));
     }
     out
+}
+
+#[cfg(test)]
+mod tests {
+    use super::*;
+
+    #[test]
+    fn impossible_recoveries_are_left_out_of_the_mean_as_in_section_stats() {
+        // hand-worked: recoveries 70 and 80 count (mean 75); 2696.85 % carries
+        // recovery-over-100 and 50 % a nonpositive mass (both shade the recovery column), so
+        // neither moves the mean; a suspicious flag (low-recovery) does not exclude 40 %:
+        // (70 + 80 + 40) / 3 = 63.333...
+        let mut t = TermTally::default();
+        t.add(Some(70.0), Some(90.0), "");
+        t.add(Some(80.0), Some(80.0), "");
+        t.add(Some(2696.85), Some(10.0), "recovery-over-100");
+        t.add(Some(50.0), Some(20.0), "nonpositive-mass");
+        t.add(Some(40.0), Some(60.0), "low-recovery");
+        let term = t.term();
+        assert!((term.mean_recovery_pct - 190.0 / 3.0).abs() < 1e-12);
+        // every graded row counts for the score: (90 + 80 + 10 + 20 + 60) / 5 = 52
+        assert!((term.mean_score_pct - 52.0).abs() < 1e-12);
+        assert_eq!(term.rows, 5);
+        // an excused student and a repeat that does not count add nothing
+        t.add(Some(10.0), None, "");
+        t.add(Some(10.0), Some(0.0), "duplicate-student");
+        assert_eq!(t.term().rows, 5);
+    }
 }

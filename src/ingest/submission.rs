@@ -81,4 +81,56 @@ impl Submission {
     pub fn is_unreadable(&self, field: Field) -> bool {
         self.unreadable.iter().any(|u| u.field == field)
     }
+
+    /// Whether the sheet itself has no column for `field` (for a melting reading: no melting
+    /// column at all; a sheet with onset and clear columns needs no range column).
+    pub fn lacks_column(&self, field: Field) -> bool {
+        if MELTING.contains(&field) {
+            MELTING.iter().all(|f| self.no_column.contains(f))
+        } else {
+            self.no_column.contains(&field)
+        }
+    }
+
+    /// Why the student's entry for `field` is missing on a sheet that has a column for it:
+    /// "no crude mass was given" for a blank cell, "the crude mass could not be read" for an
+    /// error (#DIV/0!), a date or text. `None` when there is a value, or when the sheet has no
+    /// such column (that absence is the sheet's, not the student's). Blank, error and
+    /// unreadable cells are one case: the rubric's `if_blank` scores them alike.
+    pub fn missing_entry(&self, field: Field) -> Option<String> {
+        if self.lacks_column(field) {
+            return None;
+        }
+        let melting = MELTING.contains(&field);
+        if melting && self.single_reading {
+            return None;
+        }
+        // a melting entry is named as the sheet holds it: one range column, or onset and clear
+        let named = if melting && !self.no_column.contains(&Field::MpRange) {
+            Field::MpRange
+        } else {
+            field
+        };
+        let unreadable = if melting {
+            self.unreadable.iter().find(|u| MELTING.contains(&u.field))
+        } else {
+            self.unreadable.iter().find(|u| u.field == field)
+        };
+        if let Some(u) = unreadable {
+            return Some(format!("the {} could not be read", u.field.label()));
+        }
+        let given = match field {
+            Field::CrudeMass => self.crude_mass_g.is_some(),
+            Field::RecoveredMass => self.recovered_mass_g.is_some(),
+            Field::SolventVolume => self.solvent_volume_ml.is_some(),
+            Field::ReportedRecovery => self.reported_recovery_pct.is_some(),
+            Field::MpOnset => self.mp_onset_c.is_some(),
+            Field::MpClear | Field::MpRange => self.mp_clear_c.is_some(),
+            _ => true,
+        };
+        (!given).then(|| format!("no {} was given", named.label()))
+    }
 }
+
+/// The fields a melting reading can come from.
+const MELTING: [Field; 3] = [Field::MpRange, Field::MpOnset, Field::MpClear];

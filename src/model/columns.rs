@@ -12,6 +12,7 @@
 
 use super::measure::{sentences, MeasureRole};
 use super::{Assessed, CriterionScore, Flag, Row, Score};
+use crate::fields::Field;
 
 /// What a column holds, which decides how each output writes it.
 #[derive(Clone, Copy, Debug, PartialEq, Eq)]
@@ -275,19 +276,19 @@ registry! {
     MP_CLEAR_C = { name: "mp_clear_c", label: "Clear point used", unit: Some("°C"),
         kind: Kind::Number, outputs: EVERYWHERE,
         shaded_by: &[Flag::RangeInverted, Flag::OutsideCalibratedSpan, Flag::AboveReference],
-        measure: Some(MeasureRole::scored(sentences::clear, "no usable melting range was recorded")),
+        measure: Some(MeasureRole::scored(sentences::clear, "no usable melting range was recorded").reads(&[Field::MpClear])),
         get: |r| Value::Number(a(r).mp_clear_c), }
     REPORTED_RECOVERY_PCT = { name: "reported_recovery_pct", label: "Reported recovery",
         unit: Some("%"), kind: Kind::Number,
         get: |r| Value::Number(a(r).submission.reported_recovery_pct), }
     RECOVERY_PCT = { name: "recovery_pct", label: "Recovery", unit: Some("%"),
         kind: Kind::Number, outputs: EVERYWHERE, shaded_by: RECOVERED_FLAGS,
-        measure: Some(MeasureRole::compared(sentences::recovery, "no recovery could be computed from the masses")),
+        measure: Some(MeasureRole::compared(sentences::recovery, "no recovery could be computed from the masses").reads(&[Field::CrudeMass, Field::RecoveredMass])),
         get: |r| Value::Number(a(r).recovery_pct), }
     RANGE_WIDTH_C = { name: "range_width_c", label: "Range width", unit: Some("°C"),
         kind: Kind::Number, outputs: EVERYWHERE,
         shaded_by: &[Flag::RangeInverted, Flag::OutsideCalibratedSpan, Flag::LikelyImpure],
-        measure: Some(MeasureRole::summarised(sentences::width, "no usable melting range was recorded")),
+        measure: Some(MeasureRole::summarised(sentences::width, "no usable melting range was recorded").reads(&[Field::MpOnset, Field::MpClear])),
         get: |r| Value::Number(a(r).range_width_c), }
     REFERENCE_MP_C = { name: "reference_mp_c", label: "Reference mp", unit: Some("°C"),
         kind: Kind::Number, outputs: EVERYWHERE,
@@ -295,7 +296,7 @@ registry! {
     DEPRESSION_C = { name: "depression_c", label: "Depression", unit: Some("°C"),
         kind: Kind::Number, outputs: EVERYWHERE,
         shaded_by: &[Flag::LikelyImpure, Flag::AboveReference, Flag::RangeInverted],
-        measure: Some(MeasureRole::compared(sentences::depression, "no clear point and reference to compare")),
+        measure: Some(MeasureRole::compared(sentences::depression, "no clear point and reference to compare").reads(&[Field::MpClear])),
         get: |r| Value::Number(a(r).depression_c), }
     FLAGS = { name: "flags", label: "Flags", kind: Kind::List { sep: ";" },
         outputs: RESULTS_PARQUET, get: |r| Value::Items(Items::Codes(&a(r).flags)), }
@@ -314,7 +315,7 @@ registry! {
     PURITY_MOL_PCT = { name: "purity_mol_pct", label: "Purity", unit: Some("mol %"),
         kind: Kind::Number, outputs: EVERYWHERE,
         shaded_by: &[Flag::AboveReference, Flag::RangeInverted],
-        measure: Some(MeasureRole::compared(sentences::purity, "no purity estimate could be made")),
+        measure: Some(MeasureRole::compared(sentences::purity, "no purity estimate could be made").reads(&[Field::MpClear])),
         get: |r| Value::Number(a(r).purity_mol_pct), }
     PURITY_NOTE = { name: "purity_note", label: "Purity note",
         get: |r| Value::Text(Some(&a(r).purity_note)), }
@@ -350,7 +351,7 @@ registry! {
     /// Recovery as a percentage of the recovery ceiling (a measure for criteria only).
     RECOVERY_OF_CEILING_PCT = { name: "recovery_of_ceiling_pct", label: "Recovery of ceiling",
         unit: Some("%"), kind: Kind::Number, outputs: Outputs::NONE,
-        measure: Some(MeasureRole::scored(sentences::of_ceiling, "no recovery ceiling could be computed (masses, solvent volume or the cold solubility unknown)")),
+        measure: Some(MeasureRole::scored(sentences::of_ceiling, "no recovery ceiling could be computed (masses, solvent volume or the cold solubility unknown)").reads(&[Field::CrudeMass, Field::RecoveredMass, Field::SolventVolume])),
         get: |r| Value::Number(
             a(r).recovery_pct.zip(a(r).max_recovery_pct.filter(|c| *c > 0.0)).map(|(rec, c)| 100.0 * rec / c)
         ), }
@@ -358,7 +359,7 @@ registry! {
     RECOVERY_REPORT_ERROR_PCT = { name: "recovery_report_error_pct",
         label: "Reported recovery error", unit: Some("points"), kind: Kind::Number,
         outputs: Outputs::NONE,
-        measure: Some(MeasureRole::scored(sentences::report_error, "no reported recovery to check")),
+        measure: Some(MeasureRole::scored(sentences::report_error, "no reported recovery to check").reads(&[Field::ReportedRecovery])),
         get: |r| Value::Number(
             a(r).submission.reported_recovery_pct.zip(a(r).recovery_pct).map(|(rep, rec)| (rep - rec).abs())
         ), }

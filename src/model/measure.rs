@@ -6,6 +6,7 @@ use std::fmt::Write as _;
 
 use super::columns::{self, Column};
 use super::{Assessed, Row};
+use crate::fields::Field;
 use crate::numtext::Fast;
 
 /// Writes a measure's value as a student reads it ("recovery 64.0 %").
@@ -24,6 +25,9 @@ pub struct MeasureRole {
     pub sentence: Sentence,
     /// Why there is no value, for the feedback.
     pub missing: &'static str,
+    /// The entries the value is computed from: where the sheet has a column for each and the
+    /// student's cell of one is blank or unreadable, a criterion gives its `if_blank` points.
+    pub reads: &'static [Field],
 }
 
 impl MeasureRole {
@@ -35,7 +39,13 @@ impl MeasureRole {
             scorable: true,
             sentence,
             missing,
+            reads: &[],
         }
+    }
+
+    /// The same role, computed from these entries.
+    pub const fn reads(self, reads: &'static [Field]) -> MeasureRole {
+        MeasureRole { reads, ..self }
     }
 
     /// Scored and summarised per section.
@@ -61,6 +71,7 @@ impl MeasureRole {
         scorable: false,
         sentence: sentences::total,
         missing: "not graded",
+        reads: &[],
     };
 }
 
@@ -152,6 +163,18 @@ impl Measure {
             ),
             _ => self.role().missing.to_string(),
         }
+    }
+
+    /// Why the measure has no value because of the student's own entry: the first of the
+    /// entries it reads that was left blank or could not be read on a sheet that has a column
+    /// for it (`Submission::missing_entry`). `None` when the cause lies elsewhere (no column,
+    /// a zero mass, one temperature), which the criterion's `if_missing` scores.
+    pub fn missing_entry(self, a: &Assessed) -> Option<String> {
+        let reads = self.role().reads;
+        if reads.iter().any(|f| a.submission.lacks_column(*f)) {
+            return None;
+        }
+        reads.iter().find_map(|f| a.submission.missing_entry(*f))
     }
 
     /// Appends the feedback sentence for value `x`.

@@ -100,9 +100,15 @@ pub struct Criterion {
     pub linear: Option<Spanned<Linear>>,
     #[serde(default)]
     pub pass: Option<Spanned<Pass>>,
-    /// Points when the measure cannot be computed for a row (default 0).
+    /// Points when the measure cannot be computed for a row for a reason other than the
+    /// student's own entry: the sheet has no column for it, a zero mass, one temperature for a
+    /// width (default 0).
     #[serde(default)]
     pub if_missing: f64,
+    /// Points when an entry the measure is computed from was left blank, holds an error
+    /// (#DIV/0!) or cannot be read, on a sheet that has a column for it (default 0).
+    #[serde(default)]
+    pub if_blank: f64,
 }
 
 impl Criterion {
@@ -296,11 +302,13 @@ fn check_criterion(c: &Criterion, out: &mut Vec<Finding>) {
             ));
         }
     }
-    if c.if_missing < 0.0 || c.if_missing > max {
-        out.push(at(
-            &c.id,
-            format!("if_missing gives {} points, outside 0..{max}", c.if_missing),
-        ));
+    for (key, points) in [("if_missing", c.if_missing), ("if_blank", c.if_blank)] {
+        if !(0.0..=max).contains(&points) {
+            out.push(at(
+                &c.id,
+                format!("{key} gives {points} points, outside 0..{max}"),
+            ));
+        }
     }
 }
 

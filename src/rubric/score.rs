@@ -8,7 +8,6 @@ use crate::compare::settle;
 use crate::model::{Assessed, CriterionScore, Flag, Measure, Score};
 use crate::numtext::{points, push_points};
 
-
 /// Points a rule gives for a value, before rounding.
 pub fn rule_points(c: &Criterion, x: f64) -> f64 {
     let max = *c.max.get_ref();
@@ -285,31 +284,24 @@ fn criterion_points(rubric: &Rubric, c: &Criterion, a: &Assessed) -> (f64, Strin
             m.sentence(&mut words, x, a);
             (rubric.grading.round(rule_points(c, x)), words, None)
         }
-        // the sheet asks for the reported recovery and the student left it blank: nothing to
-        // check, and no points for it (if_missing is for sheets without the column)
-        (Some(m), None) if m == Measure::REPORT_ERROR && left_blank(a) => {
-            words.push_str("no reported recovery was given");
-            (0.0, words, None)
-        }
-        (Some(m), None) => {
-            words.push_str(&m.why_missing(a));
-            (c.if_missing, words, None)
-        }
+        // one rule for a missing entry: the sheet has the column and the student's cell is
+        // blank, an error or unreadable: `if_blank`; anything else (no column, a zero mass, one
+        // temperature for a width): `if_missing`
+        (Some(m), None) => match m.missing_entry(a) {
+            Some(why) => {
+                words.push_str(&why);
+                (c.if_blank, words, None)
+            }
+            None => {
+                words.push_str(&m.why_missing(a));
+                (c.if_missing, words, None)
+            }
+        },
         (None, _) => {
             words.push_str("not scored");
             (0.0, words, None)
         }
     }
-}
-
-/// Whether the student left the reported recovery blank on a sheet that has a column for it.
-fn left_blank(a: &Assessed) -> bool {
-    let s = &a.submission;
-    s.reported_recovery_pct.is_none()
-        && !s
-            .no_column
-            .contains(&crate::fields::Field::ReportedRecovery)
-        && !s.is_unreadable(crate::fields::Field::ReportedRecovery)
 }
 
 /// The grade of an excused student: no points, no letter, the reason in the feedback; an
@@ -518,6 +510,39 @@ mod tests {
             score(&r, &row(80.0, 0.5, 0.0, None), &[]).criteria[3].points,
             0.0
         );
+    }
+
+    #[test]
+    fn blank_error_and_unreadable_entries_score_alike() {
+        // the documented rule (rubrics/README.md): on a sheet with a reported-recovery column, a
+        // blank cell, an error (#DIV/0!) and text all earn if_blank; a sheet without the column
+        // earns if_missing (hand-worked: 4 and 10 of the report criterion's 10)
+        let r = rubric("if_missing = 10\nif_blank = 4\n");
+        let report = |a: &Assessed| score(&r, a, &[]).criteria[3].clone();
+        let blank = row(80.0, 0.5, 0.0, None);
+        let mut error = row(80.0, 0.5, 0.0, None);
+        error.submission.unreadable.push(crate::ingest::Unreadable {
+            field: crate::fields::Field::ReportedRecovery,
+            cell: "E4".into(),
+            found: "the error #DIV/0!".into(),
+        });
+        let mut no_column = row(80.0, 0.5, 0.0, None);
+        no_column
+            .submission
+            .no_column
+            .push(crate::fields::Field::ReportedRecovery);
+        assert_eq!(report(&blank).points, 4.0);
+        assert!(score(&r, &blank, &[])
+            .feedback
+            .contains("no reported recovery was given"));
+        assert_eq!(report(&error).points, 4.0);
+        assert!(score(&r, &error, &[])
+            .feedback
+            .contains("the reported recovery could not be read"));
+        assert_eq!(report(&no_column).points, 10.0);
+        // a rubric that says nothing gives a blank entry nothing (if_blank defaults to 0)
+        let plain = rubric("if_missing = 10\n");
+        assert_eq!(score(&plain, &error, &[]).criteria[3].points, 0.0);
     }
 
     #[test]
