@@ -79,7 +79,10 @@ pub fn resolution(values: &[f64]) -> Option<f64> {
             g = gcd(g, r as u64);
         }
         if whole {
-            let k = [5, 2, 1].into_iter().find(|k| g % k == 0).unwrap_or(1);
+            let k = [5, 2, 1]
+                .into_iter()
+                .find(|k| g.is_multiple_of(*k))
+                .unwrap_or(1);
             return (g > 0).then(|| k as f64 / scale);
         }
     }

@@ -287,16 +287,15 @@ fn criterion_points(rubric: &Rubric, c: &Criterion, a: &Assessed) -> (f64, Strin
         // one rule for a missing entry: the sheet has the column and the student's cell is
         // blank, an error or unreadable: `if_blank`; anything else (no column, a zero mass, one
         // temperature for a width): `if_missing`
-        (Some(m), None) => match m.missing_entry(a) {
-            Some(why) => {
+        (Some(m), None) => {
+            if let Some(why) = m.missing_entry(a) {
                 words.push_str(&why);
                 (c.if_blank, words, None)
-            }
-            None => {
+            } else {
                 words.push_str(&m.why_missing(a));
                 (c.if_missing, words, None)
             }
-        },
+        }
         (None, _) => {
             words.push_str("not scored");
             (0.0, words, None)
