@@ -82,11 +82,11 @@ impl Centre {
             format!("MAD 0, mean absolute deviation {:.2}", self.mean_ad)
         };
         if self.floor > self.mad {
-            s.push_str(&format!(
-                "; taken as at least {}, half the {} step the values are written in",
+            s = format!(
+                "{s}; taken as at least {}, half the {} step the values are written in",
                 self.floor,
                 self.floor * 2.0
-            ));
+            );
         }
         s
     }
