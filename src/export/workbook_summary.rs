@@ -313,17 +313,19 @@ fn histogram_chart(
             most = most.max(*count);
             ws.write_number(r + 1 + i as u32, col, *count as f64)?;
         }
-        series.push((section.clone(), col));
+        series.push(col);
     }
     let what = measure_label(h.measure);
     let title =
         format!("{what} by section: n = {n}; left out: {left_out} impossible, {excused} excused");
     let mut chart = count_chart(&title, &h.axis, most as f64);
     let last = r + bins as u32;
-    for (section, col) in series {
+    for col in series {
+        // the series is named by the cell holding the section, never by the text itself: a
+        // chart reads text such as `=x!A1` or `a!B2` as a range (a label can never stop a run)
         chart
             .add_series()
-            .set_name(fit_cell(&section).as_ref())
+            .set_name((name, r, col))
             .set_categories((name, r + 1, h.column, last, h.column))
             .set_values((name, r + 1, col, last, col));
     }
@@ -365,7 +367,7 @@ fn scatter(
         let last = r + points.len() as u32;
         chart
             .add_series()
-            .set_name(fit_cell(section).as_ref())
+            .set_name((name, r, col))
             .set_categories((name, r + 1, col, last, col))
             .set_values((name, r + 1, col + 1, last, col + 1));
         col += 2;

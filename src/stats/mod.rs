@@ -1,9 +1,9 @@
 //! Statistics: descriptive summaries of a section's measures, and per-section accumulation
 //! over a streaming batch.
 //!
-//! One quantile definition serves the whole project: the linear, inclusive one (Hyndman and Fan
-//! type 7; spreadsheets' QUARTILE.INC and PERCENTILE.INC, NumPy's default), stated in every
-//! output that shows a quantile.
+//! One quantile definition serves the whole project: the linear, inclusive one, named by its
+//! published name only (Hyndman and Fan, 1996, type 7; NumPy's default method "linear"),
+//! stated in every output that shows a quantile.
 
 pub mod cohort;
 pub mod inference;
@@ -14,7 +14,7 @@ pub mod sections;
 use statrs::distribution::{ContinuousCDF, StudentsT};
 
 /// The quantile definition, in words, for outputs.
-pub const QUANTILE_DEFINITION: &str = "quantiles by linear interpolation between order statistics (inclusive; Hyndman-Fan type 7, as QUARTILE.INC)";
+pub const QUANTILE_DEFINITION: &str = "quantiles by linear interpolation between order statistics (Hyndman and Fan, type 7)";
 
 /// A descriptive summary of one measure over one group.
 #[derive(Clone, Debug, PartialEq)]

@@ -244,3 +244,56 @@ fn a_spreadsheet_program_opens_the_workbook() {
     let pdf = std::fs::read(f.path("pdf/section-01-graded.pdf")).expect("a PDF was written");
     assert!(pdf.starts_with(b"%PDF") && pdf.len() > 2000);
 }
+
+#[test]
+fn no_section_label_can_stop_a_run() {
+    // a label of every character class a sheet name or a chart range treats specially: quotes,
+    // the range mark !, formula starts, the characters sheet names refuse, brackets, letters of
+    // other alphabets, an emoji, a very long label (common practice for injection tests)
+    let labels = [
+        "=cmd|' /C calc'!A0",
+        "a!B2",
+        "'quoted'",
+        "O'Neil's",
+        "[x]:*?/\\",
+        "+SUM(A1)",
+        "-2+3",
+        "@A1",
+        "Séction Ω 第三",
+        "🧪 lab",
+        &"L".repeat(80),
+    ];
+    let mut csv = String::from("Student ID,Name,Section,Crude mass (g),Recovered mass (g),Melting range (°C)\n");
+    for (k, label) in labels.iter().enumerate() {
+        let quoted = format!("\"{}\"", label.replace('"', "\"\""));
+        for j in 0..2 {
+            csv.push_str(&format!(
+                "{},Student {k}{j},{quoted},3.0{j},2.1{j},121-122\n",
+                1000 + 10 * k + j
+            ));
+        }
+    }
+    let f = Fixture::new();
+    f.write("odd.csv", csv);
+    let run = f.run(&["grade", "odd.csv", "--out", "out", "--split-sections"]);
+    assert_eq!(run.code, 0, "{}", run.stderr);
+    let rows = f.results("out");
+    assert_eq!(rows.len(), 2 * labels.len());
+    for label in labels {
+        // a label that begins like a formula is written guarded with ' (the README's rule)
+        let guarded = format!("'{label}");
+        assert!(
+            rows.iter()
+                .any(|r| r["section"] == label || r["section"] == guarded),
+            "{label}"
+        );
+    }
+    // every workbook written opens
+    for entry in std::fs::read_dir(f.path("out")).unwrap() {
+        let path = entry.unwrap().path();
+        if path.extension().is_some_and(|e| e == "xlsx") {
+            let wb: Xlsx<_> = open_workbook(&path).unwrap();
+            assert!(!wb.sheet_names().is_empty(), "{}", path.display());
+        }
+    }
+}
