@@ -302,12 +302,12 @@ impl<'a> Assessor<'a> {
                 flags.push((Flag::Outlier, why));
             }
         }
-        if let (true, Some(t)) = (a.submission.single_reading, a.mp_clear_c) {
+        if let (true, Some(_)) = (a.submission.single_reading, a.mp_clear_c) {
             flags.push((
                 Flag::SingleReading,
                 format!(
-                    "one temperature ({}) was recorded, not a range; it is used as the clear point",
-                    celsius(t)
+                    "{}, not a range: it is used as the clear point",
+                    crate::model::measure::one_temperature(a)
                 ),
             ));
         }

@@ -157,9 +157,9 @@ impl Measure {
             a.submission.single_reading,
             a.mp_clear_c,
         ) {
-            (true, true, Some(t)) => format!(
-                "one temperature ({:.1} °C) was recorded, not a range, so no width was measured",
-                Fast(t)
+            (true, true, Some(_)) => format!(
+                "{}, not a range, so no width was measured",
+                one_temperature(a)
             ),
             _ => self.role().missing.to_string(),
         }
@@ -180,6 +180,22 @@ impl Measure {
     /// Appends the feedback sentence for value `x`.
     pub fn sentence(self, out: &mut String, x: f64, a: &Assessed) {
         (self.role().sentence)(out, x, a);
+    }
+}
+
+/// "one temperature (121.5 °C) was recorded", or, where a calibration corrected it, "one
+/// temperature was recorded (121.5 °C as read, 121.3 °C calibrated)": the value a student wrote
+/// is never called recorded when it is the corrected one.
+pub fn one_temperature(a: &Assessed) -> String {
+    match (a.submission.mp_clear_c, a.mp_clear_c) {
+        (Some(read), Some(used)) if a.calibration.is_some() && read != used => format!(
+            "one temperature was recorded ({:.1} °C as read, {:.1} °C calibrated)",
+            Fast(read),
+            Fast(used)
+        ),
+        (_, Some(used)) => format!("one temperature ({:.1} °C) was recorded", Fast(used)),
+        (Some(read), None) => format!("one temperature ({:.1} °C) was recorded", Fast(read)),
+        (None, None) => "one temperature was recorded".to_string(),
     }
 }
 

@@ -139,8 +139,12 @@ impl<'a> Scoring<'a> {
             } else {
                 effects.join(", ")
             };
-            self.flags
-                .push(format!("Flag {}: {reason} ({effect})", flag.code()));
+            // a note's own "; " would read as two sentences (the feedback's separator)
+            self.flags.push(format!(
+                "Flag {}: {} ({effect})",
+                flag.code(),
+                reason.replace("; ", ", ")
+            ));
         }
     }
 
@@ -542,6 +546,36 @@ mod tests {
         // a rubric that says nothing gives a blank entry nothing (if_blank defaults to 0)
         let plain = rubric("if_missing = 10\n");
         assert_eq!(score(&plain, &error, &[]).criteria[3].points, 0.0);
+    }
+
+    #[test]
+    fn a_flag_note_with_a_semicolon_stays_one_sentence_and_a_calibrated_reading_is_not_recorded() {
+        let r = rubric("");
+        let mut a = row(80.0, 0.0, 0.0, Some(80.0));
+        a.flags.push((
+            Flag::OutsideCalibratedSpan,
+            "no calibration; readings uncorrected".into(),
+        ));
+        let s = score(&r, &a, &[]);
+        assert!(
+            s.feedback.contains("no calibration, readings uncorrected"),
+            "{}",
+            s.feedback
+        );
+        assert_eq!(audit_feedback(&s.feedback, &labels(&r)), Ok(s.total));
+        // a single reading of 121.6 °C corrected to 121.4 °C: the feedback says which is which
+        a.range_width_c = None;
+        a.submission.single_reading = true;
+        a.submission.mp_clear_c = Some(121.6);
+        a.mp_clear_c = Some(121.4);
+        a.calibration = Some("bench 1: T = -0.2 + 1.0 x reading".into());
+        let s = score(&r, &a, &[]);
+        assert!(
+            s.feedback
+                .contains("one temperature was recorded (121.6 °C as read, 121.4 °C calibrated)"),
+            "{}",
+            s.feedback
+        );
     }
 
     #[test]

@@ -14,7 +14,8 @@ pub mod sections;
 use statrs::distribution::{ContinuousCDF, StudentsT};
 
 /// The quantile definition, in words, for outputs.
-pub const QUANTILE_DEFINITION: &str = "quantiles by linear interpolation between order statistics (Hyndman and Fan, type 7)";
+pub const QUANTILE_DEFINITION: &str =
+    "quantiles by linear interpolation between order statistics (Hyndman and Fan, type 7)";
 
 /// A descriptive summary of one measure over one group.
 #[derive(Clone, Debug, PartialEq)]

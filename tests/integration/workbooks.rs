@@ -263,7 +263,9 @@ fn no_section_label_can_stop_a_run() {
         "🧪 lab",
         &"L".repeat(80),
     ];
-    let mut csv = String::from("Student ID,Name,Section,Crude mass (g),Recovered mass (g),Melting range (°C)\n");
+    let mut csv = String::from(
+        "Student ID,Name,Section,Crude mass (g),Recovered mass (g),Melting range (°C)\n",
+    );
     for (k, label) in labels.iter().enumerate() {
         let quoted = format!("\"{}\"", label.replace('"', "\"\""));
         for j in 0..2 {
