@@ -231,6 +231,14 @@ fn a_field_with_no_column_is_one_message_and_a_note_on_each_row() {
         "ID,Crude mass (g),Product weighed out (g),MP\ns1,3.0,2.1,121-122\ns2,3.1,2.2,120.5-122\n",
     );
     let run = f.run(&["grade", "sec.csv", "--out", "out"]);
+    // the README's exit codes: a sheet without a column grading needs exits 1 (every row is
+    // graded as missing it, which a script must notice), and its rows are still written
+    assert_eq!(run.code, 1, "{}", run.stderr);
+    f.write(
+        "whole.csv",
+        "ID,Crude mass (g),Recovered mass (g),MP\ns1,3.0,2.1,121-122\n",
+    );
+    assert_eq!(f.run(&["grade", "whole.csv", "--out", "out2"]).code, 0);
     let said = run
         .stderr
         .matches("no column for the recovered mass")
