@@ -62,6 +62,10 @@ pub struct Config {
     pub overrides: Overrides,
     /// The overrides file, for provenance.
     pub overrides_file: Option<PathBuf>,
+    /// The `--columns` mapping file, for provenance.
+    pub columns_file: Option<PathBuf>,
+    /// The `--compounds` library file, for provenance.
+    pub compounds_file: Option<PathBuf>,
     /// The rubric's text, for its SHA-256 in the provenance.
     pub rubric_text: String,
     pub split_sections: bool,
@@ -119,6 +123,8 @@ impl Config {
             inputs: inputs(&opts)?,
             out_dir,
             overrides_file: opts.overrides.clone(),
+            columns_file: opts.columns.clone(),
+            compounds_file: opts.compounds.clone(),
             rubric_text,
             split_sections: opts.split_sections,
             skip_workbooks: opts.skip_workbooks,

@@ -540,16 +540,27 @@ fn refuse_nothing(batch: &Batch, config: &Config) -> Result<(), RunError> {
 }
 
 /// What the run graded with and read: the rubric, the calibration, every input.
+///
+/// The files that changed grades without being class data (the compound library, the column
+/// mapping, the overrides) are named apart from the inputs, each with its SHA-256.
 fn provenance(config: &Config, files: &[PathBuf], calibration: Option<&Path>) -> Provenance {
     let mut read: Vec<&Path> = files.iter().map(PathBuf::as_path).collect();
     read.extend(calibration);
-    read.extend(config.overrides_file.as_deref());
+    let settings: Vec<(&str, &Path)> = [
+        ("compound library", config.compounds_file.as_deref()),
+        ("column mapping", config.columns_file.as_deref()),
+        ("overrides", config.overrides_file.as_deref()),
+    ]
+    .into_iter()
+    .filter_map(|(role, p)| Some((role, p?)))
+    .collect();
     let used = crate::export::provenance::Used {
         rubric: &config.rubric_source,
         rubric_text: &config.rubric_text,
         experiment: &config.rubric.experiment.name,
         title: &config.title,
         calibration,
+        settings,
     };
     Provenance::new(config.timestamp, &used, &read)
 }

@@ -23,8 +23,11 @@ pub struct Provenance {
     pub title: String,
     /// (file, SHA-256) of the calibration applied, if any.
     pub calibration: Option<(String, String)>,
-    /// (file, SHA-256) of every input, calibration and overrides file.
+    /// (file, SHA-256) of every input and the calibration file.
     pub inputs: Vec<(String, String)>,
+    /// (what it is, file, SHA-256) of every other file that changed grades: the compound
+    /// library, the column mapping, the overrides.
+    pub settings: Vec<(String, String, String)>,
     pub notes: Vec<String>,
 }
 
@@ -35,6 +38,8 @@ pub struct Used<'a> {
     pub experiment: &'a str,
     pub title: &'a str,
     pub calibration: Option<&'a Path>,
+    /// (what it is, file) of the other files that changed grades.
+    pub settings: Vec<(&'a str, &'a Path)>,
 }
 
 pub fn sha256_hex(bytes: &[u8]) -> String {
@@ -108,12 +113,16 @@ impl Provenance {
             Some((file, sha)) => format!("{file} (SHA-256 {}...)", short(sha)),
             None => "none".into(),
         };
-        format!(
+        let mut line = format!(
             "Rubric: {} ({}, SHA-256 {}...); calibration: {calibration}",
             self.experiment,
             self.rubric,
             short(&self.rubric_sha256)
-        )
+        );
+        for (role, file, sha) in &self.settings {
+            line = format!("{line}; {role}: {file} (SHA-256 {}...)", short(sha));
+        }
+        line
     }
 
     pub fn new(timestamp: i64, used: &Used<'_>, files: &[&Path]) -> Provenance {
@@ -133,6 +142,14 @@ impl Provenance {
             title: used.title.to_string(),
             calibration: used.calibration.map(file),
             inputs: files.iter().map(|p| file(p)).collect(),
+            settings: used
+                .settings
+                .iter()
+                .map(|(role, p)| {
+                    let (f, sha) = file(p);
+                    ((*role).to_string(), f, sha)
+                })
+                .collect(),
             notes: vec![
                 format!("Statistics: {QUANTILE_DEFINITION}."),
                 format!("Purity estimates: {PURITY_ASSUMPTIONS}."),

@@ -416,6 +416,13 @@ pub(super) fn provenance_sheet(
         ws.write_string_with_format(r, 1, &v, &f.wrap)?;
         r += 1;
     }
+    // the other files that changed grades, each with its SHA-256
+    for (role, file, sha) in &p.settings {
+        ws.write_string_with_format(r, 0, role, &f.bold)?;
+        ws.write_string_with_format(r, 1, fit_cell(file), &f.wrap)?;
+        ws.write_string(r, 2, sha)?;
+        r += 1;
+    }
     r += 1;
     ws.write_string_with_format(r, 0, "input", &f.bold)?;
     ws.write_string_with_format(r, 2, "SHA-256", &f.bold)?;

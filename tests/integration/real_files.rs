@@ -599,3 +599,91 @@ fn what_assistants_type_is_read_as_a_grader_reads_it() {
     let run = f.run(&["check", "sec.csv"]);
     assert!(run.stdout.contains("name no student"), "{}", run.stdout);
 }
+
+/// Every file that changed grades is named with its SHA-256 in the Provenance sheet and the
+/// report (the digests from coreutils' `sha256sum`, an outside implementation of FIPS 180-4);
+/// the overrides file is not listed among the inputs.
+#[test]
+fn provenance_names_the_mapping_library_and_overrides_with_their_digests() {
+    use calamine::{open_workbook, Data, Reader, Xlsx};
+    let f = Fixture::new();
+    let columns = f.write("columns.toml", "[columns]\n\"Signature\" = \"ignore\"\n");
+    let compounds = f.write(
+        "extra.toml",
+        "[[compound]]\nname = \"invented test solid\"\ncas = \"0-00-0\"\nformula = \"C1\"\n\
+         molar_mass = { value = 100.0, source = \"invented for a test\" }\naccepted_mp_c = 150.0\n\
+         melting_points = [{ value_c = 150.0, source = \"invented for a test\" }]\n",
+    );
+    let overrides = f.write(
+        "overrides.csv",
+        "student_id,criterion,points,adjust,reason,grader\n2026143,total,,+1,re-weighed dry,R. Okafor\n",
+    );
+    let path = |p: &std::path::Path| p.to_str().unwrap().to_string();
+    let run = crate::harness::grade_sample(
+        &f,
+        "out",
+        &[
+            "--columns",
+            &path(&columns),
+            "--compounds",
+            &path(&compounds),
+            "--overrides",
+            &path(&overrides),
+        ],
+    );
+    assert!(run.code == 0, "{}", run.stderr);
+    let digest = |p: &std::path::Path| -> Option<String> {
+        let out = std::process::Command::new("sha256sum")
+            .arg(p)
+            .output()
+            .ok()?;
+        String::from_utf8(out.stdout)
+            .ok()?
+            .split_whitespace()
+            .next()
+            .map(str::to_string)
+    };
+    let Some(columns_sha) = digest(&columns) else {
+        eprintln!("sha256sum not found; skipped");
+        return;
+    };
+    let mut wb: Xlsx<_> = open_workbook(f.path("out/section-01-graded.xlsx")).unwrap();
+    let sheet = wb.worksheet_range("Provenance").unwrap();
+    let row = |key: &str| -> Vec<String> {
+        sheet
+            .rows()
+            .find(|r| r.first() == Some(&Data::String(key.into())))
+            .map(|r| r.iter().map(ToString::to_string).collect())
+            .unwrap_or_default()
+    };
+    for (role, file) in [
+        ("column mapping", &columns),
+        ("compound library", &compounds),
+        ("overrides", &overrides),
+    ] {
+        let r = row(role);
+        assert!(
+            r.get(1)
+                .is_some_and(|v| v.ends_with(file.file_name().unwrap().to_str().unwrap())),
+            "{role}: {r:?}"
+        );
+        assert_eq!(r.get(2), digest(file).as_ref(), "{role}");
+    }
+    let inputs: Vec<String> = sheet
+        .rows()
+        .filter_map(|r| r.get(1).map(ToString::to_string))
+        .collect();
+    assert_eq!(
+        inputs
+            .iter()
+            .filter(|v| v.ends_with("overrides.csv"))
+            .count(),
+        1,
+        "the overrides file once, as a setting, not as an input"
+    );
+    let html = std::fs::read_to_string(f.path("out/cohort-report.html")).unwrap();
+    assert!(
+        html.contains(&columns_sha[..12]),
+        "the report names the mapping"
+    );
+}
