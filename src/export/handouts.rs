@@ -18,6 +18,7 @@ use super::atomic::{AtomicFile, Stage};
 use super::html::{escape, escape_into};
 use super::workbook::file_stem;
 use crate::error::WriteError;
+use crate::fields::Field;
 use crate::model::columns;
 use crate::model::{Flag, Graded, Severity};
 
@@ -117,15 +118,31 @@ impl Handouts {
     }
 
     /// The section's file, opened with the page's head on first use; `None` past the limit.
-    fn file(&mut self, section: &str) -> Result<Option<&mut AtomicFile>, WriteError> {
-        if !self.files.contains_key(section) {
+    /// Pages of students whose sheet could not be graded go to a file of their own
+    /// (`<section>-not-graded.html`), never among graded pages.
+    fn file(
+        &mut self,
+        section: &str,
+        ungraded: bool,
+    ) -> Result<Option<&mut AtomicFile>, WriteError> {
+        let key = if ungraded {
+            format!("{section}\u{0}not graded")
+        } else {
+            section.to_string()
+        };
+        if !self.files.contains_key(&key) {
             if self.files.len() >= MAX_SECTIONS {
                 return Ok(None);
             }
-            let mut stem = file_stem(section);
+            let base = if ungraded {
+                format!("{}-not-graded", file_stem(section))
+            } else {
+                file_stem(section)
+            };
+            let mut stem = base.clone();
             let mut k = 2;
             while self.stems.contains_key(&stem.to_lowercase()) {
-                stem = format!("{}-{k}", file_stem(section));
+                stem = format!("{base}-{k}");
                 k += 1;
             }
             self.stems.insert(stem.to_lowercase(), section.to_string());
@@ -138,9 +155,9 @@ impl Handouts {
                 escape(section)
             );
             f.write_all(head.as_bytes()).map_err(|e| f.error(e))?;
-            self.files.insert(section.to_string(), f);
+            self.files.insert(key.clone(), f);
         }
-        Ok(self.files.get_mut(section))
+        Ok(self.files.get_mut(&key))
     }
 
     /// The handouts folder: made if missing; a link or a file in its place is refused.
@@ -169,9 +186,14 @@ impl Handouts {
         }
         let mut page = std::mem::take(&mut self.page);
         page.clear();
-        write_page(&mut page, &self.title_html, g);
+        let lacks = g.assessed.submission.sheet_lacks();
+        if lacks.is_empty() {
+            write_page(&mut page, &self.title_html, g);
+        } else {
+            write_ungraded_page(&mut page, &self.title_html, g, &lacks);
+        }
         let section = g.assessed.submission.section.clone();
-        if let Some(f) = self.file(&section)? {
+        if let Some(f) = self.file(&section, !lacks.is_empty())? {
             f.write_all(page.as_bytes()).map_err(|e| f.error(e))?;
         }
         self.page = page;
@@ -186,6 +208,31 @@ impl Handouts {
         }
         Ok(())
     }
+}
+
+/// The page of a student whose sheet has no column for a field grading needs: no points, no
+/// flags, no feedback (each would blame the student for the sheet), but what was missing and
+/// what happens next.
+fn write_ungraded_page(out: &mut String, title_html: &str, g: &Graded, lacks: &[Field]) {
+    let s = &g.assessed.submission;
+    out.push_str("<section class=\"student\"><p class=\"course\">");
+    out.push_str(title_html);
+    out.push_str(" · section ");
+    escape_into(out, &s.section);
+    out.push_str("</p><h1>");
+    escape_into(out, &shown_name(s.student_name.as_deref()));
+    out.push_str("</h1><p class=\"id\">Student id ");
+    escape_into(out, s.student_id.as_deref().unwrap_or("(no id)"));
+    out.push_str("</p><p class=\"total\">Not graded</p><p>");
+    let what: Vec<&str> = lacks.iter().map(|f| f.label()).collect();
+    let _ = write!(
+        out,
+        "The sheet this report was read from has no column for the {}, so it could not be graded. \
+         This is not a mark against your work: your teaching assistant will add the missing \
+         column (or map it) and grade the sheet again.",
+        escape(&what.join(", the "))
+    );
+    out.push_str("</p></section>");
 }
 
 /// One student's printed page, under the title (already escaped).

@@ -92,6 +92,21 @@ impl Submission {
         }
     }
 
+    /// The fields grading needs that the row's sheet has no column for (the sheet's `missing`
+    /// fields): a sheet without one was not really graded, whatever the rows' scores say.
+    pub fn sheet_lacks(&self) -> Vec<Field> {
+        let mut out: Vec<Field> = self
+            .no_column
+            .iter()
+            .copied()
+            .filter(|f| f.is_required())
+            .collect();
+        if self.lacks_column(Field::MpRange) {
+            out.push(Field::MpRange);
+        }
+        out
+    }
+
     /// Why the student's entry for `field` is missing on a sheet that has a column for it:
     /// "no crude mass was given" for a blank cell, "the crude mass could not be read" for an
     /// error (#DIV/0!), a date or text. `None` when there is a value, or when the sheet has no

@@ -687,3 +687,28 @@ fn provenance_names_the_mapping_library_and_overrides_with_their_digests() {
         "the report names the mapping"
     );
 }
+
+/// A sheet the run calls ungradable (no column for a mass) gets handouts that say it was not
+/// graded and why, in a file of their own; the graded sheet's handouts hold no such page.
+#[test]
+fn an_ungradable_sheet_s_handouts_say_so_apart_from_graded_pages() {
+    let f = Fixture::new();
+    f.write(
+        "a.csv",
+        "ID,Name,Section,Crude mass (g),Weighed out (g),MP\ns1,Ana Pérez,S1,3.0,2.1,121-122\n",
+    );
+    f.write(
+        "b.csv",
+        "ID,Name,Section,Crude mass (g),Recovered mass (g),MP\ns2,Bo Lindqvist,S1,3.0,2.1,121-122\n",
+    );
+    let run = f.run(&["grade", "a.csv", "b.csv", "--out", "out"]);
+    assert_eq!(run.code, 1, "{}", run.stderr);
+    let ungraded = std::fs::read_to_string(f.path("out/handouts/S1-not-graded.html")).unwrap();
+    assert!(
+        ungraded.contains("Not graded") && ungraded.contains("no column for the recovered mass")
+    );
+    assert!(ungraded.contains("Ana Pérez") && !ungraded.contains("Bo Lindqvist"));
+    assert!(!ungraded.contains(" of 40") && !ungraded.contains("cannot be right"));
+    let graded = std::fs::read_to_string(f.path("out/handouts/S1.html")).unwrap();
+    assert!(graded.contains("Bo Lindqvist") && !graded.contains("Not graded"));
+}
