@@ -3,7 +3,10 @@
 //! language, and the tables as typed cells, each column with a label for people, a code (as the
 //! CSV files name it) and the decimals a person is shown.
 
+use std::fmt::Write as _;
+
 use super::baseline::BaselineRow;
+use crate::model::Measure;
 use crate::stats::cohort::{BenchBias, Cohort, Comparison, Outlier};
 use crate::stats::quality::{GroupQuality, Quality};
 use crate::stats::sections::SectionStats;
@@ -286,6 +289,62 @@ fn outliers_finding(n: usize) -> Option<String> {
     ))
 }
 
+/// Share of a group's graded students with missing or unreadable data, and with an impossible
+/// entry, at or above which a difference between groups is said to may come from the data.
+pub const POOR_MISSING_PCT: f64 = 25.0;
+pub const POOR_IMPOSSIBLE_PCT: f64 = 50.0;
+
+/// Appends to a finding of a difference between groups the groups whose data are poor (a high
+/// share of missing, unreadable or impossible entries), and for the score, the same test over
+/// the rows with nothing missing or unreadable.
+fn caution_poor_data(line: &mut String, r: &Report, c: &Comparison) {
+    let groups = if c.grouping == "section" {
+        &r.quality.sections
+    } else {
+        &r.quality.assistants
+    };
+    let poor: Vec<String> = groups
+        .iter()
+        .filter_map(|(name, q)| {
+            let (missing, impossible) = (q.share(q.missing), q.share(q.impossible));
+            (missing >= POOR_MISSING_PCT || impossible >= POOR_IMPOSSIBLE_PCT).then(|| {
+                format!(
+                    "{name} ({} % missing or unreadable, {} % impossible)",
+                    fmt(missing, 0),
+                    fmt(impossible, 0)
+                )
+            })
+        })
+        .collect();
+    if poor.is_empty() {
+        return;
+    }
+    let _ = write!(
+        line,
+        "; caution: {} {} a high share of poor data, so the difference may come from reading the sheets rather than from the work",
+        poor.join(", "),
+        if poor.len() == 1 { "has" } else { "have" }
+    );
+    if c.measure == Measure::SCORE {
+        if let Some((k, left)) = r.cohort.score_without_unreadable(c.grouping) {
+            if k.p_value.is_finite() {
+                let _ = write!(
+                    line,
+                    "; without the {left} rows with missing or unreadable data: H = {}, p = {}",
+                    fmt(k.statistic, 2),
+                    fmt(k.p_value, 4)
+                );
+            } else {
+                let _ = write!(
+                    line,
+                    "; without the {left} rows with missing or unreadable data the test cannot be made ({})",
+                    k.note
+                );
+            }
+        }
+    }
+}
+
 pub fn findings(r: &Report) -> Vec<String> {
     let mut out: Vec<String> = r
         .bias
@@ -298,13 +357,15 @@ pub fn findings(r: &Report) -> Vec<String> {
         .iter()
         .filter(|c| c.test == "Kruskal-Wallis" && c.p_value < 0.05)
     {
-        out.push(format!(
+        let mut line = format!(
             "{}s differ in {} (Kruskal-Wallis H = {}, p = {}); see the pairwise tests below",
             c.grouping,
             c.measure.key().replace('_', " "),
             fmt(c.statistic, 2),
             fmt(c.p_value, 4)
-        ));
+        );
+        caution_poor_data(&mut line, r, c);
+        out.push(line);
     }
     for b in r
         .baseline

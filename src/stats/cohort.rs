@@ -46,6 +46,9 @@ struct Row {
     /// Bit i set: the row's value in slot i enters comparisons (`Assessed::counts_for`).
     counts: u32,
     above_reference: bool,
+    /// The row misses an entry or holds one that could not be read (its zeros may be the
+    /// sheet's reading, not the student's work).
+    unreadable: bool,
     /// The spreadsheet row, and the "file [sheet]" it is in (in `Cohort::origins`).
     origin: u32,
     line: u32,
@@ -186,6 +189,7 @@ impl Cohort {
             impossible: a.is_impossible() || left_out,
             counts,
             above_reference: a.has(Flag::AboveReference),
+            unreadable: a.has(Flag::MissingValue) || a.has(Flag::UnreadableValue),
             origin,
             line: s.row,
         });
@@ -261,6 +265,29 @@ impl Cohort {
         let mut groups: Vec<(String, Vec<f64>)> = by.into_iter().collect();
         groups.sort_by(|a, b| natural_cmp(&a.0, &b.0));
         groups
+    }
+
+    /// Kruskal-Wallis of the score across sections or assistants (`grouping`) over the rows
+    /// with no missing or unreadable entry, and how many rows that leaves out: whether a
+    /// difference in score survives without the zeros a reading failure gives.
+    pub fn score_without_unreadable(&self, grouping: &str) -> Option<(Comparison, usize)> {
+        let slot = self.slot(Measure::SCORE)?;
+        let left = self.rows.iter().filter(|r| r.unreadable).count();
+        let clean = |r: &Row| !r.unreadable;
+        let groups = match grouping {
+            "section" => self.groups(slot, &self.sections, |r| clean(r).then_some(r.section)),
+            _ => self.groups(slot, &self.assistants, |r| r.assistant.filter(|_| clean(r))),
+        };
+        let grouping = if grouping == "section" {
+            "section"
+        } else {
+            "assistant"
+        };
+        let blank = Comparison::blank(Measure::SCORE, grouping);
+        let kw = omnibus(&blank, &groups)
+            .into_iter()
+            .find(|c| c.test == "Kruskal-Wallis")?;
+        Some((kw, left))
     }
 
     /// Omnibus and pairwise tests of every compared measure across sections (and assistants).

@@ -347,3 +347,36 @@ fn parquet_results_and_a_baseline_term() {
     );
     assert_eq!(missing.code, 2);
 }
+
+/// A difference in score that comes from one sheet whose masses could not be read is said to,
+/// beside the finding, with the test over the rows whose data were read (hand-made class: two
+/// sections of eight alike but for section B's unreadable recovered masses).
+#[test]
+fn a_reading_failure_is_not_presented_as_a_section_difference() {
+    let mut csv =
+        String::from("ID,Name,Section,Crude mass (g),Recovered mass (g),Melting range (°C)\n");
+    for k in 0..8 {
+        let rec = 2.00 + 0.05 * f64::from(k);
+        csv.push_str(&format!("a{k},Student A{k},A,3.00,{rec:.2},121.5-122.3\n"));
+        csv.push_str(&format!(
+            "b{k},Student B{k},B,3.00,see notebook,121.5-122.3\n"
+        ));
+    }
+    let f = Fixture::new();
+    f.write("class.csv", csv);
+    let run = f.run(&["grade", "class.csv", "--out", "out"]);
+    assert_eq!(run.code, 0, "{}", run.stderr);
+    let html = std::fs::read_to_string(f.path("out/cohort-report.html")).unwrap();
+    let at = html
+        .find("differ in score")
+        .expect("the score differs between the sections");
+    let finding = &html[at..at + html[at..].find('<').unwrap()];
+    assert!(
+        finding.contains("caution: B (100 % missing or unreadable"),
+        "{finding}"
+    );
+    assert!(
+        finding.contains("without the 8 rows with missing or unreadable data"),
+        "{finding}"
+    );
+}
