@@ -21,18 +21,21 @@ pub const NOTES_PER_SHEET: usize = 100;
 
 /// Column widths, in characters: the least and most a column is given.
 const NARROWEST: usize = 6;
-const WIDEST_ORIGINAL: usize = 28;
+const WIDEST_ORIGINAL: usize = 22;
+/// The widest a recomputed or points column is made.
+const WIDEST_ADDED: usize = 14;
 /// The flags, reasons and feedback columns, which wrap.
 const FLAGS_WIDTH: f64 = 22.0;
 const REASONS_WIDTH: f64 = 40.0;
 const FEEDBACK_WIDTH: f64 = 70.0;
 /// The height of one line of text, in points, and the most lines a header takes.
 const LINE_POINTS: f64 = 13.0;
-const HEADER_LINES: usize = 4;
+const HEADER_LINES: usize = 6;
 /// About how many characters of column width a landscape page holds at full size.
 const PAGE_CHARS: usize = 150;
-/// Most pages across a sheet is fitted to.
-const MAX_PAGES_ACROSS: usize = 3;
+/// Most pages across a sheet is fitted to: a 20-student section prints on at most two pages
+/// across and two down at a readable size.
+const MAX_PAGES_ACROSS: usize = 2;
 
 /// The recomputed columns after the original ones: the registry's workbook columns.
 pub(super) fn computed() -> impl Iterator<Item = &'static Column> {
@@ -149,7 +152,8 @@ pub(super) fn start(
     let lines = header
         .iter()
         .zip(&widths)
-        .map(|(h, w)| lines_in(h, *w as f64 + 1.0))
+        .enumerate()
+        .map(|(c, (h, w))| words_lines(h, shown_width(*w, c < order.len())))
         .max()
         .unwrap_or(1)
         .min(HEADER_LINES);
@@ -165,10 +169,19 @@ pub(super) fn start(
         ws.set_column_format(base + i as u16, f.number(c, None))?;
     }
     let total = base + (computed_count() + criteria.len()) as u16;
+    // the points top-aligned like every other value of the row
+    for c in base + computed_count() as u16..total {
+        ws.set_column_format(c, &f.top)?;
+    }
     ws.set_column_format(total, &f.bold)?;
+    ws.set_column_format(total + 1, &f.top)?;
+    ws.set_column_format(total + 2, &f.top)?;
+    // the flags wrap; the reasons and the feedback stay on one line (on screen the cell shows
+    // them whole when selected; on paper the handouts carry them), so no row grows tall
     let last = header.len() as u16 - 1;
-    for c in last - 2..=last {
-        ws.set_column_format(c, &f.wrap)?;
+    ws.set_column_format(last - 2, &f.wrap)?;
+    for c in last - 1..=last {
+        ws.set_column_format(c, &f.top)?;
     }
     ws.set_freeze_panes(r + 1, 0)?;
     let sheet = SectionSheet {
@@ -186,16 +199,48 @@ pub(super) fn start(
     Ok(sheet)
 }
 
-/// The width each header asks of its column: a header wraps onto two lines, but whole
-/// words fit.
+/// The width each header asks of its column: a header wraps onto three lines, but whole
+/// words fit (narrow columns keep a section's printout to two pages across).
 fn header_widths(header: &[String]) -> Vec<usize> {
     header
         .iter()
         .map(|h| {
             let longest = h.split(' ').map(|w| w.chars().count()).max().unwrap_or(0);
-            longest.max(h.chars().count().div_ceil(2) + 1)
+            longest.max(h.chars().count().div_ceil(3) + 1)
         })
         .collect()
+}
+
+/// The least width a column asking `wanted` characters is given when the sheet is finished
+/// (its cells can only widen it), by which its header is wrapped.
+fn shown_width(wanted: usize, original: bool) -> f64 {
+    let widest = if original {
+        WIDEST_ORIGINAL
+    } else {
+        WIDEST_ADDED
+    };
+    wanted.clamp(NARROWEST, widest) as f64 + 1.0
+}
+
+/// How many lines `text` takes wrapped at word boundaries in a column `width` characters wide,
+/// counting a bold header's characters as a little wider than the width unit (the width of a
+/// digit in the default font).
+fn words_lines(text: &str, width: f64) -> usize {
+    let per_line = ((width - 1.0) * 0.9).max(1.0) as usize;
+    let mut lines = 1;
+    let mut used = 0;
+    for word in text.split_whitespace() {
+        let n = word.chars().count();
+        if used == 0 {
+            used = n;
+        } else if used + 1 + n <= per_line {
+            used += 1 + n;
+        } else {
+            lines += 1 + (n.saturating_sub(1)) / per_line;
+            used = n % per_line.max(1);
+        }
+    }
+    lines
 }
 
 /// About how many lines `text` wraps onto in a column `width` characters wide.
@@ -239,14 +284,18 @@ pub(super) fn finish(ws: &mut Worksheet, sheet: &SectionSheet) -> Result<(), Xls
         } else if usize::from(c) < sheet.originals() {
             w.clamp(NARROWEST, WIDEST_ORIGINAL) as f64 + 1.0
         } else {
-            w.clamp(NARROWEST, 14) as f64 + 1.0
+            w.clamp(NARROWEST, WIDEST_ADDED) as f64 + 1.0
         };
         total += width;
         ws.set_column_width(c, width)?;
     }
     let last_row = sheet.next_row.saturating_sub(1).max(sheet.header_row + 1);
     ws.autofilter(sheet.header_row, 0, last_row, last)?;
-    let across = (total as usize)
+    // the printout stops at the flags: the reasons and the feedback are long text that would
+    // make every printed row tall; the handouts print them a student a page
+    ws.set_print_area(0, 0, last_row, last - 2)?;
+    let printed = total - FEEDBACK_WIDTH - REASONS_WIDTH;
+    let across = (printed as usize)
         .div_ceil(PAGE_CHARS)
         .clamp(1, MAX_PAGES_ACROSS);
     ws.set_print_fit_to_pages(across as u16, 0);
@@ -259,6 +308,17 @@ fn percent_format() -> &'static Format {
     PERCENT.get_or_init(|| Format::new().set_num_format("0.0#%"))
 }
 
+/// A number copied from a student's sheet as a sheet's General format shows it: at most ten
+/// significant digits (common practice: spreadsheet programs show about ten in General), so a
+/// formula's result such as 0.7289999999999999 is copied as the 0.729 the student saw.
+fn shown_digits(v: f64) -> f64 {
+    if !v.is_finite() {
+        return v;
+    }
+    let text = format!("{:.*e}", 9, v);
+    text.parse().unwrap_or(v)
+}
+
 /// Writes a cell as the student's sheet held it (long text wrapped); the characters it shows.
 fn write_cell(
     ws: &mut Worksheet,
@@ -268,7 +328,7 @@ fn write_cell(
 ) -> Result<usize, XlsxError> {
     match cell {
         Cell::Number(v) if v.is_finite() => {
-            ws.write_number(row, col, *v)?;
+            ws.write_number(row, col, shown_digits(*v))?;
         }
         Cell::Text(t) if t.chars().count() > WIDEST_ORIGINAL => {
             ws.write_string_with_format(row, col, fit_cell(t), &f.wrap)?;
@@ -328,11 +388,11 @@ pub(super) fn write_row(
     }
     ws.write_number(r, c + 1, g.score.max)?;
     let feedback = c + 5;
-    ws.write_string_with_format(r, feedback, fit_cell(&g.score.feedback), &f.wrap)?;
+    ws.write_string_with_format(r, feedback, fit_cell(&g.score.feedback), &f.top)?;
     if let Some(why) = &g.assessed.excused {
         // no score, no letter: the reason where the flags would be
         ws.write_string(r, c + 2, "excused")?;
-        ws.write_string_with_format(r, c + 4, fit_cell(&format!("excused: {why}")), &f.wrap)?;
+        ws.write_string_with_format(r, c + 4, fit_cell(&format!("excused: {why}")), &f.top)?;
         return Ok(());
     }
     ws.write_number(r, c, g.score.total)?; // bold by its column's format
@@ -342,16 +402,11 @@ pub(super) fn write_row(
     write_flags(ws, sheet, r, c + 3, g, f)
 }
 
-/// How many lines the row's wrapped text needs: the feedback, the reasons, the flags and any
-/// long original text (a spreadsheet program does not grow a row for wrapped text written by
+/// How many lines the row's wrapped text needs: the flags and any long original text (the
+/// reasons and the feedback stay on one line) (a spreadsheet program does not grow a row for wrapped text written by
 /// another program, so the height is set).
 fn row_lines(sheet: &SectionSheet, g: &Graded) -> usize {
     let a = &g.assessed;
-    let reasons: usize = a
-        .flags
-        .iter()
-        .map(|(f, n)| f.code().len() + n.len() + 4)
-        .sum();
     let flags: usize = a.flags.iter().map(|(f, _)| f.code().len() + 4).sum();
     let originals = sheet
         .order
@@ -362,15 +417,10 @@ fn row_lines(sheet: &SectionSheet, g: &Graded) -> usize {
         .max()
         .unwrap_or(1);
     let text = |n: usize, width: f64| n.div_ceil((width * 1.1) as usize).max(1);
-    [
-        lines_in(&g.score.feedback, FEEDBACK_WIDTH),
-        text(reasons, REASONS_WIDTH),
-        text(flags, FLAGS_WIDTH),
-        originals,
-    ]
-    .into_iter()
-    .max()
-    .unwrap_or(1)
+    [text(flags, FLAGS_WIDTH), originals]
+        .into_iter()
+        .max()
+        .unwrap_or(1)
 }
 
 /// The recomputed values from column `base` on, each shaded by the worst flag about it; an
@@ -434,7 +484,7 @@ fn write_flags(
         .iter()
         .map(|(fl, n)| format!("{}: {n}", fl.code()))
         .collect();
-    ws.write_string_with_format(r, col + 1, fit_cell(&text.join("; ")), &f.wrap)?;
+    ws.write_string_with_format(r, col + 1, fit_cell(&text.join("; ")), &f.top)?;
     if sheet.notes < NOTES_PER_SHEET {
         sheet.notes += 1;
         let note = Note::new(fit_cell(&text.join("\n"))).set_author("benchgrade");
@@ -446,4 +496,31 @@ fn write_flags(
 /// A wrapped, top-aligned text format.
 pub(super) fn wrap_format() -> Format {
     Format::new().set_text_wrap().set_align(FormatAlign::Top)
+}
+
+#[cfg(test)]
+mod tests {
+    use super::*;
+
+    #[test]
+    fn copied_numbers_keep_the_digits_a_sheet_shows() {
+        // hand-worked: a formula's 1.87 / 2.565 shown in General is 0.729044834 (ten digits);
+        // a result off by floating-point noise is copied as the number the student saw
+        assert_eq!(shown_digits(0.728_999_999_999_999_9), 0.729);
+        assert_eq!(shown_digits(2.31), 2.31);
+        assert_eq!(shown_digits(1.87 / 2.565), 0.729_044_834_3);
+        assert_eq!(shown_digits(-0.1 - 0.2), -0.3);
+        assert_eq!(shown_digits(0.0), 0.0);
+        assert_eq!(shown_digits(123_456.789_012_34), 123_456.789_0);
+    }
+
+    #[test]
+    fn headers_wrap_at_words() {
+        // hand-counted: "Agreement with the literature value pts (depression)" in a column
+        // 15 wide (12 characters a line): Agreement / with the / literature / value pts /
+        // (depression)
+        let h = "Agreement with the literature value pts (depression)";
+        assert_eq!(words_lines(h, 15.0), 5);
+        assert_eq!(words_lines("Total", 8.0), 1);
+    }
 }

@@ -118,11 +118,44 @@ fn every_printed_page_of_a_section_sheet_names_its_students() {
         let named = ids.iter().filter(|id| page.contains(*id)).count();
         assert!(named >= 1, "page {i} names no student:\n{page}");
     }
-    // every student is on the printout, with the feedback column
+    // every student is on the printout, up to the flags; the long reasons and feedback are
+    // left to the handouts so that no row grows tall
     for id in &ids {
         assert!(section.iter().any(|p| p.contains(id)), "{id}");
     }
-    assert!(section.iter().any(|p| p.contains("Feedback")));
+    assert!(section.iter().any(|p| p.contains("Flags")));
+    assert!(!section.iter().any(|p| p.contains("Feedback")));
+    // a section of about twenty students prints on at most two pages across and two down
+    assert!(
+        ids.len() >= 20,
+        "the sample section has {} students",
+        ids.len()
+    );
+    assert!(section.len() <= 4, "{} pages", section.len());
+    // at a readable size: the students' ids stand at least 7.5 pt tall on paper (an 11-pt
+    // cell's text box is about 11.7 pt at full size in LibreOffice's print, hand-measured with
+    // pdftotext -bbox; 7.5 pt is about 64 %, some 7 pt type)
+    let boxes = Command::new("pdftotext")
+        .args(["-bbox", "-f", "1", "-l", "1"])
+        .arg(&pdf)
+        .arg("-")
+        .output()
+        .expect("pdftotext runs");
+    let text = String::from_utf8_lossy(&boxes.stdout);
+    let heights: Vec<f64> = text
+        .lines()
+        .filter(|l| ids.iter().any(|id| l.contains(&format!(">{id}<"))))
+        .filter_map(|l| {
+            let num = |key: &str| -> Option<f64> {
+                let at = l.find(key)? + key.len();
+                l[at..].split('"').next()?.parse().ok()
+            };
+            Some(num("yMax=\"")? - num("yMin=\"")?)
+        })
+        .collect();
+    assert!(!heights.is_empty(), "ids found on the first page");
+    let least = heights.iter().copied().fold(f64::INFINITY, f64::min);
+    assert!(least >= 7.5, "ids printed {least:.2} pt tall");
 }
 
 #[test]
