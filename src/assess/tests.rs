@@ -529,3 +529,87 @@ fn outliers_by_robust_z_within_the_section() {
         .any(|(f, n)| *f == Flag::Outlier && n.contains("+12.1 robust z")));
     assert!(!out[1].has(Flag::Outlier));
 }
+
+fn run_with(sub: Submission, t: &Tolerances) -> Assessed {
+    let lib = Library::builtin().unwrap();
+    let e = experiment();
+    let ctx = Context {
+        library: &lib,
+        experiment: &e,
+        reference: ReferenceRule::Accepted,
+        tolerances: t,
+        calibration: None,
+        centres: None,
+        counted: crate::rubric::Counted::First,
+        repeats: None,
+    };
+    assess_all(vec![sub], ctx).remove(0)
+}
+
+/// Every documented threshold (README's flag table, rubrics/default.toml's [tolerances]) judged
+/// on the value as written: exactly at the limit is within it, a step past it is not. Each
+/// case is hand-worked; the floating-point results quoted were printed by Python 3 (IEEE 754
+/// doubles, as Rust's f64).
+#[test]
+fn every_documented_threshold_is_judged_as_written() {
+    let t = Tolerances::default();
+    let flagged = |sub: Submission, t: &Tolerances| codes(&run_with(sub, t));
+    // low-recovery below 50 %: 100 x 1.36 / 2.72 = 49.99999999999999 in doubles, 50 as written
+    let at = Submission {
+        crude_mass_g: Some(2.72),
+        recovered_mass_g: Some(1.36),
+        ..base()
+    };
+    assert!(!flagged(at.clone(), &t).contains(&"low-recovery"));
+    let past = Submission {
+        recovered_mass_g: Some(1.35),
+        ..at.clone()
+    };
+    assert!(flagged(past, &t).contains(&"low-recovery"));
+    // recovery-mismatch beyond 1.0 point: 51.0 reported against 49.99999999999999 differs by
+    // 1.00000000000001 in doubles, by 1.0 as written
+    let reported = |pct: f64| Submission {
+        reported_recovery_pct: Some(pct),
+        ..at.clone()
+    };
+    assert!(!flagged(reported(51.0), &t).contains(&"recovery-mismatch"));
+    assert!(flagged(reported(51.1), &t).contains(&"recovery-mismatch"));
+    // above-reference beyond 1.0 °C (benzoic acid 122.4): 123.4 is at the limit, 123.5 past it
+    let clear = |o: f64, c: f64| Submission {
+        mp_onset_c: Some(o),
+        mp_clear_c: Some(c),
+        ..base()
+    };
+    assert!(!flagged(clear(122.9, 123.4), &t).contains(&"above-reference"));
+    assert!(flagged(clear(122.9, 123.5), &t).contains(&"above-reference"));
+    // a tolerance of 1.1 °C for acetanilide (114.3): 115.4 - 114.3 = 1.1000000000000085 in
+    // doubles, 1.1 as written
+    let acetanilide = |c: f64| Submission {
+        compound: Some("acetanilide".into()),
+        mp_onset_c: Some(114.9),
+        mp_clear_c: Some(c),
+        ..base()
+    };
+    let loose = Tolerances {
+        above_reference_c: 1.1,
+        ..Tolerances::default()
+    };
+    assert!(!flagged(acetanilide(115.4), &loose).contains(&"above-reference"));
+    assert!(flagged(acetanilide(115.5), &loose).contains(&"above-reference"));
+    // likely-impure: wider than 2.0 °C, or depressed more than 2.0 °C
+    assert!(flagged(clear(120.1, 122.1), &t).is_empty());
+    assert!(flagged(clear(120.0, 122.1), &t).contains(&"likely-impure"));
+    assert!(flagged(clear(119.9, 120.4), &t).is_empty());
+    assert!(flagged(clear(119.8, 120.3), &t).contains(&"likely-impure"));
+    // likely-wet at or above 95 % with a broad range (no solvent volume, so no ceiling):
+    // 100 x 2.09 / 2.2 = 94.99999999999999 in doubles, 95 as written: heavy, so wet
+    let heavy = |r: f64| Submission {
+        crude_mass_g: Some(2.2),
+        recovered_mass_g: Some(r),
+        mp_onset_c: Some(117.0),
+        mp_clear_c: Some(120.0),
+        ..base()
+    };
+    assert_eq!(flagged(heavy(2.09), &t), vec!["likely-wet"]);
+    assert_eq!(flagged(heavy(2.08), &t), vec!["likely-impure"]);
+}
