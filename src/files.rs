@@ -13,7 +13,13 @@ use std::time::{Duration, Instant};
 /// Creates `path` as a new file. Whatever already stands at that name (a leftover, or a link
 /// planted there) is unlinked first, never followed: the new file is always our own.
 pub fn create_new(path: &Path) -> io::Result<File> {
-    let open = || OpenOptions::new().write(true).create_new(true).open(path);
+    let open = || {
+        OpenOptions::new()
+            .read(true)
+            .write(true)
+            .create_new(true)
+            .open(path)
+    };
     match open() {
         Err(e) if e.kind() == io::ErrorKind::AlreadyExists => {
             std::fs::remove_file(path)?;

@@ -10,9 +10,11 @@
 //! removed, and so are a failed run's completed ones.
 
 use std::fs::File;
-use std::io::{BufWriter, Write};
+use std::io::{BufWriter, Seek, Write};
 use std::path::{Path, PathBuf};
 use std::sync::{Arc, Mutex};
+
+use sha2::{Digest, Sha256};
 
 use crate::error::WriteError;
 use crate::files::dir::Dir;
@@ -37,14 +39,15 @@ fn write_error(path: &Path) -> impl Fn(std::io::Error) -> WriteError + '_ {
 /// Completed outputs waiting to be made current: (temporary file, destination).
 #[derive(Debug, Default)]
 struct Staged {
-    files: Vec<(PathBuf, PathBuf)>,
+    /// (temporary file, destination, SHA-256 of its content)
+    files: Vec<(PathBuf, PathBuf, String)>,
     published: bool,
 }
 
 impl Drop for Staged {
     fn drop(&mut self) {
         if !self.published {
-            for (tmp, _) in &self.files {
+            for (tmp, _, _) in &self.files {
                 let _ = std::fs::remove_file(tmp);
             }
         }
@@ -62,9 +65,9 @@ impl Stage {
         Stage::default()
     }
 
-    fn add(&self, tmp: PathBuf, path: PathBuf) {
+    fn add(&self, tmp: PathBuf, path: PathBuf, hash: String) {
         if let Ok(mut s) = self.staged.lock() {
-            s.files.push((tmp, path));
+            s.files.push((tmp, path, hash));
         }
     }
 
@@ -72,7 +75,7 @@ impl Stage {
     pub fn paths(&self) -> Vec<PathBuf> {
         self.staged
             .lock()
-            .map(|s| s.files.iter().map(|(_, p)| p.clone()).collect())
+            .map(|s| s.files.iter().map(|(_, p, _)| p.clone()).collect())
             .unwrap_or_default()
     }
 
@@ -87,10 +90,14 @@ impl Stage {
             .lock()
             .map_err(|_| err(std::io::Error::other("a writer thread failed")))?;
         staged.files.sort_by(|a, b| a.1.cmp(&b.1));
-        let names: Vec<(String, String)> = staged
+        let names: Vec<super::journal::Put> = staged
             .files
             .iter()
-            .map(|(t, p)| (relative(dir, t), relative(dir, p)))
+            .map(|(t, p, h)| super::journal::Put {
+                tmp: relative(dir, t),
+                name: relative(dir, p),
+                hash: h.clone(),
+            })
             .collect();
         let d = Dir::open(dir).map_err(&err)?;
         let inputs = super::journal::identities(inputs);
@@ -128,8 +135,26 @@ pub fn recover(dir: &Path) -> std::io::Result<bool> {
 pub struct AtomicFile {
     path: PathBuf,
     tmp: PathBuf,
-    writer: Option<BufWriter<File>>,
+    writer: Option<BufWriter<Hashing>>,
     stage: Stage,
+}
+
+/// A temporary file being written, with the SHA-256 of what went into it so far (for the
+/// manifest, without reading the file again).
+struct Hashing {
+    file: File,
+    hash: Sha256,
+}
+
+impl Write for Hashing {
+    fn write(&mut self, buf: &[u8]) -> std::io::Result<usize> {
+        let n = self.file.write(buf)?;
+        self.hash.update(&buf[..n]);
+        Ok(n)
+    }
+    fn flush(&mut self) -> std::io::Result<()> {
+        self.file.flush()
+    }
 }
 
 impl AtomicFile {
@@ -144,7 +169,13 @@ impl AtomicFile {
         Ok(AtomicFile {
             path: path.to_path_buf(),
             tmp,
-            writer: Some(BufWriter::with_capacity(1 << 16, file)),
+            writer: Some(BufWriter::with_capacity(
+                1 << 16,
+                Hashing {
+                    file,
+                    hash: Sha256::new(),
+                },
+            )),
             stage: stage.clone(),
         })
     }
@@ -153,7 +184,7 @@ impl AtomicFile {
         &self.path
     }
 
-    fn writer(&mut self) -> std::io::Result<&mut BufWriter<File>> {
+    fn writer(&mut self) -> std::io::Result<&mut BufWriter<Hashing>> {
         self.writer
             .as_mut()
             .ok_or_else(|| std::io::Error::other("the output was already committed"))
@@ -173,14 +204,15 @@ impl AtomicFile {
                 .writer
                 .take()
                 .ok_or_else(|| std::io::Error::other("already committed"))?;
-            let file = w
+            let h = w
                 .into_inner()
                 .map_err(std::io::IntoInnerError::into_error)?;
-            file.sync_all()
+            h.file.sync_all()?;
+            Ok(super::provenance::hex(&h.hash.finalize()))
         })();
         match result {
-            Ok(()) => {
-                self.stage.add(self.tmp.clone(), self.path.clone());
+            Ok(hash) => {
+                self.stage.add(self.tmp.clone(), self.path.clone(), hash);
                 Ok(())
             }
             Err(source) => {
@@ -222,14 +254,18 @@ pub fn save_workbook(
         let mut w = BufWriter::new(f);
         wb.save_to_writer(&mut w)
             .map_err(|e| WriteError::other(path, e))?;
-        let f = w
+        let mut f = w
             .into_inner()
             .map_err(|e| write_error(path)(e.into_error()))?;
-        f.sync_all().map_err(write_error(path))
+        f.sync_all().map_err(write_error(path))?;
+        // the workbook writer seeks back as it writes: hash what the file holds
+        f.seek(std::io::SeekFrom::Start(0))
+            .and_then(|_| super::journal::hash_reader(&mut f))
+            .map_err(write_error(path))
     });
     match result {
-        Ok(()) => {
-            stage.add(tmp, path.to_path_buf());
+        Ok(hash) => {
+            stage.add(tmp, path.to_path_buf(), hash);
             Ok(())
         }
         Err(e) => {

@@ -135,22 +135,30 @@ enum Content {
 /// The SHA-256 of a file's content, read through the folder's handle, as lowercase hex.
 fn content(d: &Dir, file: &str) -> io::Result<Content> {
     match d.kind(file)? {
-        None => return Ok(Content::Missing),
-        Some(Kind::File) => {}
-        Some(_) => return Ok(Content::NotAFile),
+        None => Ok(Content::Missing),
+        Some(Kind::File) => Ok(Content::Hash(hash_reader(&mut d.open_file(file)?)?)),
+        Some(_) => Ok(Content::NotAFile),
     }
-    let mut f = d.open_file(file)?;
+}
+
+/// The SHA-256 of everything `r` yields, as lowercase hex.
+pub fn hash_reader(r: &mut impl Read) -> io::Result<String> {
     let mut hash = Sha256::new();
-    let mut buf = vec![0u8; 1 << 20];
+    let mut buf = vec![0u8; 1 << 16];
     loop {
-        match f.read(&mut buf)? {
+        match r.read(&mut buf)? {
             0 => break,
             n => hash.update(&buf[..n]),
         }
     }
-    Ok(Content::Hash(
-        hash.finalize().iter().map(|b| format!("{b:02x}")).collect(),
-    ))
+    Ok(super::provenance::hex(&hash.finalize()))
+}
+
+/// A finished temporary file to make current: its name, its output's, its content's hash.
+pub struct Put {
+    pub tmp: String,
+    pub name: String,
+    pub hash: String,
 }
 
 /// The manifest: each output's name and (unless an earlier version wrote it) hash.
@@ -177,27 +185,18 @@ pub fn read_manifest(d: &Dir) -> io::Result<Manifest> {
     Ok(out)
 }
 
-/// Makes the temporary files `puts` ((temporary, output) names, temporaries in `d`) current
+/// Makes the temporary files `puts` (named as in `d`) current
 /// and removes the previous run's outputs this one did not write again; notes on what was set
 /// aside or left in place. An error once the journal is in place says the folder is partly
 /// replaced and that the next run completes it.
-pub fn publish(d: &Dir, puts: &[(String, String)], inputs: &Inputs) -> io::Result<Vec<String>> {
+pub fn publish(d: &Dir, puts: &[Put], inputs: &Inputs) -> io::Result<Vec<String>> {
     let old = read_manifest(d)?;
     let mut journal = String::from(JOURNAL_HEAD);
-    for (tmp, name) in puts {
-        let hash = match temporary(tmp).map(|t| content(d, t.file)).transpose()? {
-            Some(Content::Hash(h)) => h,
-            _ => {
-                return Err(io::Error::other(format!(
-                    "the finished output {tmp} is missing from {}",
-                    d.path().display()
-                )))
-            }
-        };
+    for Put { tmp, name, hash } in puts {
         let _ = writeln!(journal, "put\t{tmp}\t{name}\t{hash}");
     }
     for (name, hash) in &old {
-        if let (Some(h), false) = (hash, puts.iter().any(|(_, p)| p == name)) {
+        if let (Some(h), false) = (hash, puts.iter().any(|p| p.name == *name)) {
             let _ = writeln!(journal, "drop\t{name}\t{h}");
         }
     }
