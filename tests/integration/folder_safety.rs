@@ -244,3 +244,92 @@ fn a_first_run_killed_or_failed_early_leaves_no_empty_handouts_folder() {
     after.retain(|k, _| !k.starts_with("failed") && !k.starts_with("timing"));
     assert_eq!(after, outside_before);
 }
+
+#[test]
+fn the_workspace_removes_and_serves_nothing_through_a_link() {
+    use crate::serve_client::Server;
+    let f = Fixture::new();
+    let ws = f.path("ws");
+    f.write("shared/victim.csv", A);
+    f.write("shared/S1.html", "a page from elsewhere");
+    f.write("ws/inputs/a.csv", A);
+    f.write("ws/graded/results.csv", "id\n");
+    symlink(f.path("shared"), ws.join("inputs/linked")).unwrap();
+    symlink(f.path("shared"), ws.join("graded/handouts")).unwrap();
+    symlink(f.path("shared/S1.html"), ws.join("graded/S1.html")).unwrap();
+    let outside_before = outside(f.dir.path(), "ws");
+    let server = Server::start(&ws);
+    // the page lists a file through the linked folder (a run reads it) but never removes it
+    let (status, body) = server.call("DELETE", "/api/files/linked/victim.csv", None);
+    assert_eq!(status, 409, "{body}");
+    assert_eq!(body["field"], "name");
+    assert!(
+        body["error"].as_str().unwrap().contains("inputs/linked is a link"),
+        "{body}"
+    );
+    for name in ["handouts/S1.html", "S1.html"] {
+        let (status, body) = server.call("GET", &format!("/api/outputs/{name}"), None);
+        assert_eq!(status, 404, "{name}: {body}");
+    }
+    let listed = server.get("/api/outputs");
+    let names: Vec<&str> = listed["outputs"]
+        .as_array()
+        .unwrap()
+        .iter()
+        .map(|o| o["name"].as_str().unwrap())
+        .collect();
+    assert!(names.iter().all(|n| !n.contains("S1")), "{names:?}");
+    // a link at a file's own name in inputs/ is removed itself, not what it points to
+    symlink(f.path("shared/victim.csv"), ws.join("inputs/pointer.csv")).unwrap();
+    assert_eq!(server.call("DELETE", "/api/files/pointer.csv", None).0, 200);
+    assert!(std::fs::symlink_metadata(ws.join("inputs/pointer.csv")).is_err());
+    drop(server);
+    assert_eq!(outside(f.dir.path(), "ws"), outside_before);
+}
+
+/// The JSON body of a raw response.
+fn json_body(text: &str) -> serde_json::Value {
+    let body = text.split_once("\r\n\r\n").map_or("", |(_, b)| b);
+    serde_json::from_str(body).unwrap_or_else(|e| panic!("not JSON ({e}): {text}"))
+}
+
+#[test]
+fn long_names_and_the_framework_s_own_errors_come_back_as_the_api_s() {
+    use crate::serve_client::{raw, Server};
+    let f = Fixture::new();
+    let ws = f.path("ws");
+    let server = Server::start_with(&ws, &["--upload-limit", "1"]);
+    let outside_before = outside(f.dir.path(), "ws");
+    // 200 CJK characters: 600 bytes of UTF-8, past the 255 a file system allows a name
+    let long = format!("{}.csv", "実験報告".repeat(50));
+    let (status, body) = server.upload(&[(long.as_str(), A.as_bytes())]);
+    assert_eq!(status, 201, "{body}");
+    let stored = body["stored"][0].as_str().unwrap();
+    assert!(stored.len() <= 180 && stored.ends_with(".csv") && stored.starts_with("実験報告"));
+    assert_eq!(std::fs::read_to_string(ws.join("inputs").join(stored)).unwrap(), A);
+    let (p, t) = (server.port, &server.token);
+    let head = |line: &str, extra: &str| {
+        format!("{line} HTTP/1.1\r\nHost: 127.0.0.1:{p}\r\nAuthorization: Bearer {t}\r\n{extra}Connection: close\r\n\r\n")
+    };
+    // declared past the limit: refused by the body limit before any handler runs
+    let (code, text) = raw(p, &head("POST /api/files", "Content-Type: multipart/form-data; boundary=x\r\nContent-Length: 60000000\r\n"), b"");
+    assert_eq!(code, 413, "{text}");
+    let v = json_body(&text);
+    assert_eq!(v["field"], "file");
+    assert!(v["error"].as_str().unwrap().contains("limit of 1 MB"), "{v}");
+    // not multipart at all
+    let (code, text) = raw(p, &head("POST /api/files", "Content-Type: text/plain\r\nContent-Length: 2\r\n"), b"hi");
+    assert_eq!(code, 400, "{text}");
+    let v = json_body(&text);
+    assert_eq!(v["field"], "file");
+    assert!(v["error"].as_str().unwrap().contains("nothing was stored"), "{v}");
+    // a path that does not parse, and one that names nothing
+    let (code, text) = raw(p, &head("DELETE /api/overrides/first", "Content-Length: 0\r\n"), b"");
+    assert_eq!(code, 400, "{text}");
+    assert_eq!(json_body(&text)["field"], "path");
+    let (code, text) = raw(p, &head("GET /api/nothing-here", ""), b"");
+    assert_eq!(code, 404, "{text}");
+    assert!(json_body(&text)["error"].is_string());
+    drop(server);
+    assert_eq!(outside(f.dir.path(), "ws"), outside_before);
+}
