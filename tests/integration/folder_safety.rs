@@ -333,3 +333,52 @@ fn long_names_and_the_framework_s_own_errors_come_back_as_the_api_s() {
     drop(server);
     assert_eq!(outside(f.dir.path(), "ws"), outside_before);
 }
+
+#[test]
+fn a_publication_that_fails_half_way_says_so_and_the_next_run_completes_it() {
+    let f = Fixture::new();
+    f.write("small.csv", A);
+    f.write("big.csv", harness::class_csv(20_000, 6));
+    fn grade<'a>(input: &'a str, out: &'a str) -> Vec<&'a str> {
+        let ts = ["--timestamp", "1767225600", "--quiet"];
+        let mut args = vec!["grade", input, "--out", out];
+        args.extend(ts);
+        args
+    }
+    assert_eq!(f.run(&grade("big.csv", "reference")).code, 0);
+    assert_eq!(f.run(&grade("small.csv", "out")).code, 0);
+    let before = harness::folder_state(&f.path("out"));
+    std::fs::remove_dir_all(f.path("out/handouts")).unwrap();
+    let outside_before = outside(f.dir.path(), "out");
+    let child = std::process::Command::new(env!("CARGO_BIN_EXE_benchgrade"))
+        .args(grade("big.csv", "out"))
+        .current_dir(f.dir.path())
+        .stderr(std::process::Stdio::piped())
+        .spawn()
+        .unwrap();
+    // once the run is grading (its checks passed), a file takes the handouts folder's name: the
+    // publication renames the outputs before it (in name order) and then fails
+    let grading = || {
+        std::fs::read_dir(f.path("out"))
+            .unwrap()
+            .any(|e| e.unwrap().file_name().to_string_lossy().starts_with(".first-pass"))
+    };
+    assert!(crate::serve_client::eventually(60, grading));
+    std::fs::write(f.path("out/handouts"), "in the way").unwrap();
+    let out = child.wait_with_output().unwrap();
+    let stderr = String::from_utf8_lossy(&out.stderr);
+    assert_eq!(out.status.code(), Some(2), "{stderr}");
+    assert!(stderr.contains("out/handouts is not a folder"), "{stderr}");
+    assert!(stderr.contains("the outputs are partly replaced"), "{stderr}");
+    assert!(!stderr.contains("unchanged"), "{stderr}");
+    let mixed = harness::folder_state(&f.path("out"));
+    assert!(mixed != before, "partly replaced, as the message says");
+    // the next run completes the publication once the way is clear
+    std::fs::remove_file(f.path("out/handouts")).unwrap();
+    assert!(benchgrade::export::atomic::recover(&f.path("out")).unwrap());
+    assert_eq!(
+        harness::folder_state(&f.path("out")),
+        harness::folder_state(&f.path("reference"))
+    );
+    assert_eq!(outside(f.dir.path(), "out"), outside_before);
+}
