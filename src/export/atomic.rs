@@ -103,7 +103,8 @@ impl Stage {
         let inputs = super::journal::identities(inputs);
         let notes = super::journal::publish(&d, &names, &inputs);
         // once the journal is in place, its temporary files are the next run's to finish
-        staged.published = notes.is_ok() || d.kind(super::journal::JOURNAL).is_ok_and(|k| k.is_some());
+        staged.published =
+            notes.is_ok() || d.kind(super::journal::JOURNAL).is_ok_and(|k| k.is_some());
         notes.map_err(err)
     }
 }

@@ -248,9 +248,17 @@ fn apply(d: &Dir, journal: &str, old: &Manifest, inputs: &Inputs) -> io::Result<
     for line in journal.lines() {
         match line.split('\t').collect::<Vec<_>>().as_slice() {
             ["put", tmp, name, rest @ ..] => {
-                put(&mut folders, (tmp, name, rest.first()), old, inputs, &mut done)?;
+                put(
+                    &mut folders,
+                    (tmp, name, rest.first()),
+                    old,
+                    inputs,
+                    &mut done,
+                )?;
             }
-            ["drop", name, rest @ ..] => drop_stale(&mut folders, name, rest.first(), old, inputs, &mut done)?,
+            ["drop", name, rest @ ..] => {
+                drop_stale(&mut folders, name, rest.first(), old, inputs, &mut done)?;
+            }
             _ => {}
         }
     }
@@ -285,7 +293,9 @@ fn put(
         None => return record(folders, n, name, hash.copied(), done),
         Some(_) => return Ok(()),
     }
-    let dst = folders.get(n, true)?.ok_or_else(|| io::Error::other("no folder"))?;
+    let dst = folders
+        .get(n, true)?
+        .ok_or_else(|| io::Error::other("no folder"))?;
     if let Some(id) = dst.identity(n.file)? {
         if inputs.contains(&id) {
             let _ = src.remove_file(t.file);
@@ -304,7 +314,8 @@ fn put(
         if !ours {
             let marker = if recorded.is_some() { "edited" } else { "kept" };
             let aside = set_aside(dst, n.file, marker)?;
-            done.notes.push(aside_note(dst, n.file, &aside, recorded.is_some()));
+            done.notes
+                .push(aside_note(dst, n.file, &aside, recorded.is_some()));
         }
     }
     src.rename(t.file, dst, n.file)?;
@@ -312,10 +323,20 @@ fn put(
 }
 
 /// Adds an output to the new manifest, with its hash (computed now for an old journal's line).
-fn record(folders: &mut Folders, n: Place, name: &str, hash: Option<&str>, done: &mut Applied) -> io::Result<()> {
+fn record(
+    folders: &mut Folders,
+    n: Place,
+    name: &str,
+    hash: Option<&str>,
+    done: &mut Applied,
+) -> io::Result<()> {
     let hash = match hash {
         Some(h) => h.to_string(),
-        None => match folders.get(n, false)?.map(|f| content(f, n.file)).transpose()? {
+        None => match folders
+            .get(n, false)?
+            .map(|f| content(f, n.file))
+            .transpose()?
+        {
             Some(Content::Hash(h)) => h,
             _ => return Ok(()),
         },
@@ -351,7 +372,10 @@ fn drop_stale(
         }
         _ => return Ok(()),
     };
-    if folder.identity(n.file)?.is_some_and(|id| inputs.contains(&id)) {
+    if folder
+        .identity(n.file)?
+        .is_some_and(|id| inputs.contains(&id))
+    {
         return Ok(());
     }
     match content(folder, n.file)? {
@@ -391,7 +415,11 @@ fn set_aside(d: &Dir, file: &str, marker: &str) -> io::Result<String> {
         _ => (file, String::new()),
     };
     for k in 1..1000 {
-        let tag = if k == 1 { marker.to_string() } else { format!("{marker}-{k}") };
+        let tag = if k == 1 {
+            marker.to_string()
+        } else {
+            format!("{marker}-{k}")
+        };
         let aside = format!("{stem}.{tag}{ext}");
         match d.rename_no_replace(file, &aside) {
             Ok(()) => return Ok(aside),
@@ -413,4 +441,44 @@ fn write_small(d: &Dir, name: &str, text: &str) -> io::Result<()> {
     f.write_all(text.as_bytes())?;
     f.sync_all()?;
     d.rename(&tmp, d, name)
+}
+
+#[cfg(test)]
+mod tests {
+    use super::*;
+
+    #[test]
+    fn names_are_plain_and_inside_the_folder_or_its_handouts() {
+        assert!(output("results.csv").is_some());
+        assert!(output("handouts/S1.html").is_some_and(|p| p.in_handouts));
+        for bad in [
+            "../x.csv",
+            "sub/x.csv",
+            "handouts/../x",
+            "handouts/a/b",
+            "",
+            ".hidden",
+            "a\\b",
+        ] {
+            assert!(output(bad).is_none(), "{bad}");
+        }
+        assert!(temporary(".a.csv.7.partial").is_some());
+        assert!(temporary("a.csv").is_none());
+    }
+
+    #[test]
+    fn a_file_is_set_aside_under_a_free_name_and_never_over_another() {
+        let dir = tempfile::tempdir().unwrap();
+        let d = Dir::open(dir.path()).unwrap();
+        std::fs::write(dir.path().join("s1-graded.edited.xlsx"), b"first").unwrap();
+        std::fs::write(dir.path().join("s1-graded.xlsx"), b"second").unwrap();
+        assert_eq!(
+            set_aside(&d, "s1-graded.xlsx", "edited").unwrap(),
+            "s1-graded.edited-2.xlsx"
+        );
+        let read = |n: &str| std::fs::read(dir.path().join(n)).unwrap();
+        assert_eq!(read("s1-graded.edited.xlsx"), b"first");
+        assert_eq!(read("s1-graded.edited-2.xlsx"), b"second");
+        assert!(!dir.path().join("s1-graded.xlsx").exists());
+    }
 }

@@ -115,14 +115,14 @@ impl Dir {
 
     /// What stands at `name`, if anything; a link is not followed.
     pub fn kind(&self, name: impl AsRef<OsStr>) -> io::Result<Option<Kind>> {
-        Ok(self.stat(name.as_ref())?.map(|st| {
-            match st.st_mode & libc::S_IFMT {
+        Ok(self
+            .stat(name.as_ref())?
+            .map(|st| match st.st_mode & libc::S_IFMT {
                 libc::S_IFREG => Kind::File,
                 libc::S_IFDIR => Kind::Folder,
                 libc::S_IFLNK => Kind::Link,
                 _ => Kind::Other,
-            }
-        }))
+            }))
     }
 
     /// The (device, inode) of what stands at `name`, not following a link.
@@ -212,7 +212,12 @@ impl Dir {
 
     /// Renames `from` in this folder to `to` in `dest` (this folder or another handle),
     /// replacing what stands at `to`; a link at either name is moved or replaced, not followed.
-    pub fn rename(&self, from: impl AsRef<OsStr>, dest: &Dir, to: impl AsRef<OsStr>) -> io::Result<()> {
+    pub fn rename(
+        &self,
+        from: impl AsRef<OsStr>,
+        dest: &Dir,
+        to: impl AsRef<OsStr>,
+    ) -> io::Result<()> {
         let (f, t) = (c_name(from.as_ref())?, c_name(to.as_ref())?);
         // SAFETY: valid folder handles and NUL-terminated names.
         check(unsafe {
@@ -229,7 +234,11 @@ impl Dir {
     /// Renames `from` to `to` in this folder unless something stands at `to` (an
     /// `AlreadyExists` error then): a hard link to the new name, then the old name unlinked;
     /// where the file system has no hard links, a check then a rename (under the folder's lock).
-    pub fn rename_no_replace(&self, from: impl AsRef<OsStr>, to: impl AsRef<OsStr>) -> io::Result<()> {
+    pub fn rename_no_replace(
+        &self,
+        from: impl AsRef<OsStr>,
+        to: impl AsRef<OsStr>,
+    ) -> io::Result<()> {
         let (from, to) = (from.as_ref(), to.as_ref());
         let (f, t) = (c_name(from)?, c_name(to)?);
         let fd = self.fd.as_raw_fd();
@@ -325,13 +334,18 @@ mod tests {
         let d = Dir::open(&inside).unwrap();
         assert!(d.sub("linked").is_err(), "a linked folder is not opened");
         assert!(d.sub("real").is_ok());
-        assert!(d.open_file("keep.txt").unwrap_err().to_string().contains("a link"));
+        assert!(d
+            .open_file("keep.txt")
+            .unwrap_err()
+            .to_string()
+            .contains("a link"));
         assert_eq!(d.kind("keep.txt").unwrap(), Some(Kind::Link));
         assert!(d.remove_file("../out/keep.txt").is_err(), "one name only");
         d.remove_file("keep.txt").unwrap();
         d.create_new("new.txt").unwrap().write_all(b"x").unwrap();
         d.rename_no_replace("new.txt", "real").unwrap_err();
-        d.rename("new.txt", &d.sub("real").unwrap(), "moved.txt").unwrap();
+        d.rename("new.txt", &d.sub("real").unwrap(), "moved.txt")
+            .unwrap();
         assert_eq!(std::fs::read(inside.join("real/moved.txt")).unwrap(), b"x");
         assert_eq!(std::fs::read(outside.join("keep.txt")).unwrap(), b"keep");
         let mut names = d.names().unwrap();
@@ -349,8 +363,16 @@ mod tests {
         std::fs::create_dir(root.path().join("folder")).unwrap();
         let d = Dir::open(root.path()).unwrap();
         assert!(d.read("p", 10).unwrap_err().to_string().contains("a pipe"));
-        assert!(d.read("big", 99).unwrap_err().to_string().contains("larger"));
+        assert!(d
+            .read("big", 99)
+            .unwrap_err()
+            .to_string()
+            .contains("larger"));
         assert_eq!(d.read("big", 100).unwrap().len(), 100);
-        assert!(d.read("folder", 10).unwrap_err().to_string().contains("a folder"));
+        assert!(d
+            .read("folder", 10)
+            .unwrap_err()
+            .to_string()
+            .contains("a folder"));
     }
 }

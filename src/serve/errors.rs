@@ -61,9 +61,28 @@ mod tests {
 
     #[test]
     fn the_framework_s_words_are_kept_and_the_limit_is_named() {
-        let (field, m) = explain("/api/files", StatusCode::PAYLOAD_TOO_LARGE, "length limit exceeded", 5 << 20);
-        assert_eq!((field, m.as_str()), ("file", "the upload is larger than the limit of 5 MB; nothing was stored"));
-        let (field, m) = explain("/api/overrides/x", StatusCode::BAD_REQUEST, "Invalid URL: Cannot parse `x`", 1);
-        assert_eq!((field, m.as_str()), ("path", "Invalid URL: Cannot parse `x`"));
+        let (field, m) = explain(
+            "/api/files",
+            StatusCode::PAYLOAD_TOO_LARGE,
+            "length limit exceeded",
+            5 << 20,
+        );
+        assert_eq!(
+            (field, m.as_str()),
+            (
+                "file",
+                "the upload is larger than the limit of 5 MB; nothing was stored"
+            )
+        );
+        let (field, m) = explain(
+            "/api/overrides/x",
+            StatusCode::BAD_REQUEST,
+            "Invalid URL: Cannot parse `x`",
+            1,
+        );
+        assert_eq!(
+            (field, m.as_str()),
+            ("path", "Invalid URL: Cannot parse `x`")
+        );
     }
 }

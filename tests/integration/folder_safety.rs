@@ -24,7 +24,11 @@ pub fn outside(dir: &Path, out: &str) -> BTreeMap<String, String> {
 fn walk(root: &Path, dir: &Path, out: &str, state: &mut BTreeMap<String, String>) {
     for e in std::fs::read_dir(dir).unwrap().map(Result::unwrap) {
         let path = e.path();
-        let rel = path.strip_prefix(root).unwrap().to_string_lossy().into_owned();
+        let rel = path
+            .strip_prefix(root)
+            .unwrap()
+            .to_string_lossy()
+            .into_owned();
         if rel == out {
             continue;
         }
@@ -70,7 +74,8 @@ fn a_linked_handouts_folder_is_refused_before_anything_is_removed() {
     let run = f.run(&["grade", "a.csv", "--out", "out"]);
     assert_eq!(run.code, 2, "{}", run.stderr);
     assert!(
-        run.stderr.contains("out/handouts is a link") && run.stderr.contains("nothing in out was changed"),
+        run.stderr.contains("out/handouts is a link")
+            && run.stderr.contains("nothing in out was changed"),
         "{}",
         run.stderr
     );
@@ -114,14 +119,25 @@ fn a_planted_journal_reaches_neither_outside_nor_an_input_nor_a_user_file() {
     let run = f.run(&["grade", "out/a.csv", "--out", "out"]);
     assert_eq!(run.code, 0, "{}", run.stderr);
     assert_eq!(outside(f.dir.path(), "out"), outside_before);
-    assert_eq!(std::fs::read_to_string(dir.join("a.csv")).unwrap(), A, "the input stays");
+    assert_eq!(
+        std::fs::read_to_string(dir.join("a.csv")).unwrap(),
+        A,
+        "the input stays"
+    );
     // the grader's file was not overwritten: set aside under a name of its own
     assert_eq!(
         std::fs::read_to_string(dir.join("mine.kept.txt")).unwrap(),
         "a grader's own notes"
     );
-    assert!(run.stderr.contains("mine.txt was not written by benchgrade"), "{}", run.stderr);
-    assert!(std::fs::symlink_metadata(dir.join("sub")).unwrap().is_symlink());
+    assert!(
+        run.stderr
+            .contains("mine.txt was not written by benchgrade"),
+        "{}",
+        run.stderr
+    );
+    assert!(std::fs::symlink_metadata(dir.join("sub"))
+        .unwrap()
+        .is_symlink());
 }
 
 #[test]
@@ -133,12 +149,23 @@ fn state_files_that_are_pipes_devices_links_or_folders_are_named_not_read() {
     let before = harness::folder_state(&dir);
     let outside_before = outside(f.dir.path(), "out");
     let fifo = |p: &Path| {
-        let made = std::process::Command::new("mkfifo").arg(p).status().unwrap();
+        let made = std::process::Command::new("mkfifo")
+            .arg(p)
+            .status()
+            .unwrap();
         assert!(made.success());
     };
     for (state, what, expected) in [
-        (".benchgrade-journal", "pipe", "a pipe, a device or a socket"),
-        (".benchgrade-manifest", "pipe", "a pipe, a device or a socket"),
+        (
+            ".benchgrade-journal",
+            "pipe",
+            "a pipe, a device or a socket",
+        ),
+        (
+            ".benchgrade-manifest",
+            "pipe",
+            "a pipe, a device or a socket",
+        ),
         (".benchgrade-manifest", "zero", "a link"),
         (".benchgrade-journal", "zero", "a link"),
         (".benchgrade-journal", "folder", "a folder"),
@@ -173,7 +200,11 @@ fn state_files_that_are_pipes_devices_links_or_folders_are_named_not_read() {
             std::fs::write(&path, bytes).unwrap();
         }
     }
-    assert_eq!(f.run(&["grade", "a.csv", "--out", "out"]).code, 0, "fine once they are gone");
+    assert_eq!(
+        f.run(&["grade", "a.csv", "--out", "out"]).code,
+        0,
+        "fine once they are gone"
+    );
 }
 
 #[test]
@@ -196,13 +227,23 @@ fn a_workbook_edited_by_hand_is_set_aside_not_deleted() {
     let run = f.run(&["grade", "a.csv", "--out", "out"]);
     assert_eq!(run.code, 0, "{}", run.stderr);
     assert_eq!(outside(f.dir.path(), "out"), outside_before);
-    assert_eq!(std::fs::read(dir.join("b-graded.edited.xlsx")).unwrap(), edited);
-    assert_eq!(std::fs::read(dir.join("results.edited.csv")).unwrap(), results);
+    assert_eq!(
+        std::fs::read(dir.join("b-graded.edited.xlsx")).unwrap(),
+        edited
+    );
+    assert_eq!(
+        std::fs::read(dir.join("results.edited.csv")).unwrap(),
+        results
+    );
     assert!(!dir.join("b-graded.xlsx").exists());
-    assert!(!dir.join("handouts/S2.html").exists(), "an unchanged stale output goes");
+    assert!(
+        !dir.join("handouts/S2.html").exists(),
+        "an unchanged stale output goes"
+    );
     for name in ["b-graded.xlsx", "results.csv"] {
         assert!(
-            run.stderr.contains(&format!("out/{name} was changed after benchgrade wrote it")),
+            run.stderr
+                .contains(&format!("out/{name} was changed after benchgrade wrote it")),
             "{}",
             run.stderr
         );
@@ -211,7 +252,10 @@ fn a_workbook_edited_by_hand_is_set_aside_not_deleted() {
     let again = f.run(&["grade", "a.csv", "--out", "out"]);
     assert_eq!(again.code, 0);
     assert!(!again.stderr.contains("was changed"), "{}", again.stderr);
-    assert_eq!(std::fs::read(dir.join("b-graded.edited.xlsx")).unwrap(), edited);
+    assert_eq!(
+        std::fs::read(dir.join("b-graded.edited.xlsx")).unwrap(),
+        edited
+    );
 }
 
 #[test]
@@ -227,7 +271,11 @@ fn a_first_run_killed_or_failed_early_leaves_no_empty_handouts_folder() {
     assert_eq!(failed.code, 1, "{}", failed.stderr);
     assert!(!f.path("failed/handouts").exists());
     let started = std::time::Instant::now();
-    assert_eq!(f.run(&["grade", "big.csv", "--out", "timing", "--quiet"]).code, 0);
+    assert_eq!(
+        f.run(&["grade", "big.csv", "--out", "timing", "--quiet"])
+            .code,
+        0
+    );
     let full = started.elapsed();
     let mut child = std::process::Command::new(env!("CARGO_BIN_EXE_benchgrade"))
         .args(["grade", "big.csv", "--out", "out", "--quiet"])
@@ -264,7 +312,10 @@ fn the_workspace_removes_and_serves_nothing_through_a_link() {
     assert_eq!(status, 409, "{body}");
     assert_eq!(body["field"], "name");
     assert!(
-        body["error"].as_str().unwrap().contains("inputs/linked is a link"),
+        body["error"]
+            .as_str()
+            .unwrap()
+            .contains("inputs/linked is a link"),
         "{body}"
     );
     for name in ["handouts/S1.html", "S1.html"] {
@@ -306,25 +357,52 @@ fn long_names_and_the_framework_s_own_errors_come_back_as_the_api_s() {
     assert_eq!(status, 201, "{body}");
     let stored = body["stored"][0].as_str().unwrap();
     assert!(stored.len() <= 180 && stored.ends_with(".csv") && stored.starts_with("実験報告"));
-    assert_eq!(std::fs::read_to_string(ws.join("inputs").join(stored)).unwrap(), A);
+    assert_eq!(
+        std::fs::read_to_string(ws.join("inputs").join(stored)).unwrap(),
+        A
+    );
     let (p, t) = (server.port, &server.token);
     let head = |line: &str, extra: &str| {
         format!("{line} HTTP/1.1\r\nHost: 127.0.0.1:{p}\r\nAuthorization: Bearer {t}\r\n{extra}Connection: close\r\n\r\n")
     };
     // declared past the limit: refused by the body limit before any handler runs
-    let (code, text) = raw(p, &head("POST /api/files", "Content-Type: multipart/form-data; boundary=x\r\nContent-Length: 60000000\r\n"), b"");
+    let (code, text) = raw(
+        p,
+        &head(
+            "POST /api/files",
+            "Content-Type: multipart/form-data; boundary=x\r\nContent-Length: 60000000\r\n",
+        ),
+        b"",
+    );
     assert_eq!(code, 413, "{text}");
     let v = json_body(&text);
     assert_eq!(v["field"], "file");
-    assert!(v["error"].as_str().unwrap().contains("limit of 1 MB"), "{v}");
+    assert!(
+        v["error"].as_str().unwrap().contains("limit of 1 MB"),
+        "{v}"
+    );
     // not multipart at all
-    let (code, text) = raw(p, &head("POST /api/files", "Content-Type: text/plain\r\nContent-Length: 2\r\n"), b"hi");
+    let (code, text) = raw(
+        p,
+        &head(
+            "POST /api/files",
+            "Content-Type: text/plain\r\nContent-Length: 2\r\n",
+        ),
+        b"hi",
+    );
     assert_eq!(code, 400, "{text}");
     let v = json_body(&text);
     assert_eq!(v["field"], "file");
-    assert!(v["error"].as_str().unwrap().contains("nothing was stored"), "{v}");
+    assert!(
+        v["error"].as_str().unwrap().contains("nothing was stored"),
+        "{v}"
+    );
     // a path that does not parse, and one that names nothing
-    let (code, text) = raw(p, &head("DELETE /api/overrides/first", "Content-Length: 0\r\n"), b"");
+    let (code, text) = raw(
+        p,
+        &head("DELETE /api/overrides/first", "Content-Length: 0\r\n"),
+        b"",
+    );
     assert_eq!(code, 400, "{text}");
     assert_eq!(json_body(&text)["field"], "path");
     let (code, text) = raw(p, &head("GET /api/nothing-here", ""), b"");
@@ -359,9 +437,12 @@ fn a_publication_that_fails_half_way_says_so_and_the_next_run_completes_it() {
     // once the run is grading (its checks passed), a file takes the handouts folder's name: the
     // publication renames the outputs before it (in name order) and then fails
     let grading = || {
-        std::fs::read_dir(f.path("out"))
-            .unwrap()
-            .any(|e| e.unwrap().file_name().to_string_lossy().starts_with(".first-pass"))
+        std::fs::read_dir(f.path("out")).unwrap().any(|e| {
+            e.unwrap()
+                .file_name()
+                .to_string_lossy()
+                .starts_with(".first-pass")
+        })
     };
     assert!(crate::serve_client::eventually(60, grading));
     std::fs::write(f.path("out/handouts"), "in the way").unwrap();
@@ -369,7 +450,10 @@ fn a_publication_that_fails_half_way_says_so_and_the_next_run_completes_it() {
     let stderr = String::from_utf8_lossy(&out.stderr);
     assert_eq!(out.status.code(), Some(2), "{stderr}");
     assert!(stderr.contains("out/handouts is not a folder"), "{stderr}");
-    assert!(stderr.contains("the outputs are partly replaced"), "{stderr}");
+    assert!(
+        stderr.contains("the outputs are partly replaced"),
+        "{stderr}"
+    );
     assert!(!stderr.contains("unchanged"), "{stderr}");
     let mixed = harness::folder_state(&f.path("out"));
     assert!(mixed != before, "partly replaced, as the message says");
