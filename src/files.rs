@@ -1,6 +1,9 @@
 //! Files benchgrade creates beside its outputs: temporary files, created new (never opened
 //! through a link someone planted), whose names carry the writer's process id so that a later
 //! run can tell a dead writer's leftovers from a live one's; and the output folder's lock.
+//! `dir`: a folder held as a handle, for everything benchgrade renames or removes.
+
+pub mod dir;
 
 use std::fs::{File, OpenOptions};
 use std::io;
@@ -10,7 +13,13 @@ use std::time::{Duration, Instant};
 /// Creates `path` as a new file. Whatever already stands at that name (a leftover, or a link
 /// planted there) is unlinked first, never followed: the new file is always our own.
 pub fn create_new(path: &Path) -> io::Result<File> {
-    let open = || OpenOptions::new().write(true).create_new(true).open(path);
+    let open = || {
+        OpenOptions::new()
+            .read(true)
+            .write(true)
+            .create_new(true)
+            .open(path)
+    };
     match open() {
         Err(e) if e.kind() == io::ErrorKind::AlreadyExists => {
             std::fs::remove_file(path)?;
@@ -89,25 +98,32 @@ pub fn partial_path(dir: &Path, path: &Path) -> PathBuf {
     dir.join(format!(".{name}.{}.partial", std::process::id()))
 }
 
-/// Removes temporary files that a run killed mid-write left in `dir`: names of the form
-/// `.NAME.PID.partial` whose process is gone. Where there is no /proc to ask (not Linux),
-/// nothing is removed. The finished outputs are never touched.
-pub fn sweep_stale_partials(dir: &Path) {
+/// Removes temporary files that a run killed mid-write left in the folder at `path` (not
+/// followed if a link stands there): names of the form `.NAME.PID.partial` whose process is
+/// gone. Where there is no /proc to ask (not Linux), nothing is removed. The finished outputs
+/// are never touched.
+pub fn sweep_stale_partials(path: &Path) {
+    if let Ok(d) = dir::Dir::open_no_follow(path) {
+        sweep_in(&d);
+    }
+}
+
+/// `sweep_stale_partials` in a folder already open.
+pub fn sweep_in(d: &dir::Dir) {
     let proc = Path::new("/proc");
     if !proc.join("self").exists() {
         return;
     }
-    let Ok(entries) = std::fs::read_dir(dir) else {
+    let Ok(names) = d.names() else {
         return;
     };
-    for entry in entries.flatten() {
-        let name = entry.file_name();
+    for name in names {
         let Some(pid) = name.to_str().and_then(partial_pid) else {
             continue;
         };
-        // remove_file unlinks what stands at the name (a link too), never what it points to
+        // unlinkat removes what stands at the name (a link too), never what it points to
         if pid != std::process::id() && !proc.join(pid.to_string()).exists() {
-            let _ = std::fs::remove_file(entry.path());
+            let _ = d.remove_file(&name);
         }
     }
 }

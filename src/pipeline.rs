@@ -496,9 +496,16 @@ pub fn grade(config: &Config) -> Result<Batch, RunError> {
     grade_with_progress(config, &mut |_| {})
 }
 
-/// Creates the output folder and takes its lock; completes a publication a killed run left
-/// half done and sweeps dead runs' temporary files.
-fn open_output_folder(config: &Config) -> Result<FolderLock, RunError> {
+/// Creates the output folder and takes its lock; refuses a `handouts` there that is a link (or
+/// not a folder) and a state file that is not a regular file, before anything is removed;
+/// completes a publication a killed run left half done and sweeps dead runs' temporary files.
+/// Notes on outputs the completion set aside go to `problems`.
+fn open_output_folder(
+    config: &Config,
+    inputs: &[PathBuf],
+    problems: &mut Vec<Problem>,
+) -> Result<FolderLock, RunError> {
+    use crate::export::journal;
     let dir = &config.out_dir;
     let invalid = |what: &str, e: std::io::Error| {
         ConfigError::Invalid(format!("{what} the output folder {}: {e}", dir.display()))
@@ -512,11 +519,30 @@ fn open_output_folder(config: &Config) -> Result<FolderLock, RunError> {
                 dir.display()
             ))
         })?;
-    crate::export::atomic::recover(dir)
+    let d = crate::files::dir::Dir::open(dir).map_err(|e| invalid("cannot open", e))?;
+    let unchanged = |e: std::io::Error| {
+        ConfigError::Invalid(format!("{e}; nothing in {} was changed", dir.display()))
+    };
+    journal::handouts_kind(&d).map_err(unchanged)?;
+    journal::read_manifest(&d).map_err(unchanged)?;
+    let notes = journal::recover(&d, &journal::identities(inputs))
         .map_err(|e| invalid("cannot finish the last run's outputs in", e))?;
-    crate::files::sweep_stale_partials(dir);
-    crate::files::sweep_stale_partials(&dir.join(crate::export::handouts::FOLDER));
+    problems.extend(notes.into_iter().flatten().map(|n| folder_note(dir, n)));
+    crate::files::sweep_in(&d);
+    if let Ok(h) = d.sub(crate::export::handouts::FOLDER) {
+        crate::files::sweep_in(&h);
+    }
     Ok(lock)
+}
+
+/// A note about the output folder (an output set aside), for standard error.
+fn folder_note(dir: &Path, message: String) -> Problem {
+    Problem {
+        file: dir.display().to_string(),
+        sheet: None,
+        message,
+        fatal: false,
+    }
 }
 
 /// Refuses a batch with nothing to grade, before anything is written.
@@ -575,7 +601,7 @@ pub fn grade_with_progress(
     batch.problems.extend(baseline_note(config));
     let paths = output_paths(&config.out_dir);
     refuse_overwriting_inputs(&paths, &batch.files)?;
-    let _lock = open_output_folder(config)?;
+    let _lock = open_output_folder(config, &batch.files, &mut batch.problems)?;
     let stage = Stage::new();
     let mut threads = Writers::spawn(config, &paths, &stage)?;
     let mut tallies = Tallies::new(config, &stage)?;
@@ -622,6 +648,9 @@ pub fn grade_with_progress(
     threads.start_finish(&provenance, &stats, &batch.problems);
     tallies.write_summaries(config, &stats, &provenance, &stage)?;
     threads.wait()?;
-    stage.publish(&config.out_dir, &batch.files)?;
+    let notes = stage.publish(&config.out_dir, &batch.files)?;
+    batch
+        .problems
+        .extend(notes.into_iter().map(|n| folder_note(&config.out_dir, n)));
     Ok(batch)
 }

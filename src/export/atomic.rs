@@ -9,19 +9,18 @@
 //! it does anything else. An output dropped without being completed (an error, a panic) is
 //! removed, and so are a failed run's completed ones.
 
-use std::fmt::Write as _;
 use std::fs::File;
-use std::io::{BufWriter, Write};
+use std::io::{BufWriter, Seek, Write};
 use std::path::{Path, PathBuf};
 use std::sync::{Arc, Mutex};
 
+use sha2::{Digest, Sha256};
+
 use crate::error::WriteError;
+use crate::files::dir::Dir;
 use crate::files::{create_new, partial_path};
 
-/// The journal of a publication in progress.
-const JOURNAL: &str = ".benchgrade-journal";
-/// What the folder holds from the last run: one output file name a line.
-pub const MANIFEST: &str = ".benchgrade-manifest";
+pub use super::journal::MANIFEST;
 
 /// The folder of a temporary file: the destination's.
 fn folder(path: &Path) -> &Path {
@@ -40,21 +39,16 @@ fn write_error(path: &Path) -> impl Fn(std::io::Error) -> WriteError + '_ {
 /// Completed outputs waiting to be made current: (temporary file, destination).
 #[derive(Debug, Default)]
 struct Staged {
-    files: Vec<(PathBuf, PathBuf)>,
-    /// Subfolders this run made for its outputs.
-    folders: Vec<PathBuf>,
+    /// (temporary file, destination, SHA-256 of its content)
+    files: Vec<(PathBuf, PathBuf, String)>,
     published: bool,
 }
 
 impl Drop for Staged {
     fn drop(&mut self) {
         if !self.published {
-            for (tmp, _) in &self.files {
+            for (tmp, _, _) in &self.files {
                 let _ = std::fs::remove_file(tmp);
-            }
-            // a subfolder made for this run's outputs goes too, if nothing else is in it
-            for folder in &self.folders {
-                let _ = std::fs::remove_dir(folder);
             }
         }
     }
@@ -71,17 +65,9 @@ impl Stage {
         Stage::default()
     }
 
-    fn add(&self, tmp: PathBuf, path: PathBuf) {
+    fn add(&self, tmp: PathBuf, path: PathBuf, hash: String) {
         if let Ok(mut s) = self.staged.lock() {
-            s.files.push((tmp, path));
-        }
-    }
-
-    /// Takes note of a subfolder made for this run's outputs, removed (when empty) if the run
-    /// fails.
-    pub fn made_folder(&self, folder: &Path) {
-        if let Ok(mut s) = self.staged.lock() {
-            s.folders.push(folder.to_path_buf());
+            s.files.push((tmp, path, hash));
         }
     }
 
@@ -89,54 +75,38 @@ impl Stage {
     pub fn paths(&self) -> Vec<PathBuf> {
         self.staged
             .lock()
-            .map(|s| s.files.iter().map(|(_, p)| p.clone()).collect())
+            .map(|s| s.files.iter().map(|(_, p, _)| p.clone()).collect())
             .unwrap_or_default()
     }
 
     /// Makes every staged output in `dir` current together, and removes what the previous run
-    /// wrote there and this one did not (nothing else is ever touched, and never one of this
-    /// run's `inputs`).
-    pub fn publish(&self, dir: &Path, inputs: &[PathBuf]) -> Result<Vec<PathBuf>, WriteError> {
+    /// wrote there and this one did not, if it still holds what benchgrade wrote (nothing else
+    /// is ever touched, and never one of this run's `inputs`). Returns notes on outputs changed
+    /// by hand and set aside (`export::journal`).
+    pub fn publish(&self, dir: &Path, inputs: &[PathBuf]) -> Result<Vec<String>, WriteError> {
         let err = write_error(dir);
         let mut staged = self
             .staged
             .lock()
             .map_err(|_| err(std::io::Error::other("a writer thread failed")))?;
         staged.files.sort_by(|a, b| a.1.cmp(&b.1));
-        let names: Vec<(String, String)> = staged
+        let names: Vec<super::journal::Put> = staged
             .files
             .iter()
-            .map(|(t, p)| (relative(dir, t), relative(dir, p)))
+            .map(|(t, p, h)| super::journal::Put {
+                tmp: relative(dir, t),
+                name: relative(dir, p),
+                hash: h.clone(),
+            })
             .collect();
-        let current: Vec<&str> = names.iter().map(|(_, p)| p.as_str()).collect();
-        let is_input = |name: &str| {
-            let p = dir.join(name).canonicalize().ok();
-            inputs.iter().any(|i| i.canonicalize().ok() == p)
-        };
-        let stale: Vec<String> = read_manifest(dir)
-            .into_iter()
-            .filter(|n| !current.contains(&n.as_str()) && !is_input(n))
-            .collect();
-        let mut journal = String::from("benchgrade journal 1\n");
-        for (t, p) in &names {
-            let _ = writeln!(journal, "put\t{t}\t{p}");
-        }
-        for n in &stale {
-            let _ = writeln!(journal, "drop\t{n}");
-        }
-        journal.push_str("end\n");
-        write_small(dir, JOURNAL, &journal).map_err(&err)?;
-        sync_dir(dir);
-        staged.published = true;
-        apply(dir, &journal).map_err(&err)?;
-        Ok(staged.files.iter().map(|(_, p)| p.clone()).collect())
+        let d = Dir::open(dir).map_err(&err)?;
+        let inputs = super::journal::identities(inputs);
+        let notes = super::journal::publish(&d, &names, &inputs);
+        // once the journal is in place, its temporary files are the next run's to finish
+        staged.published =
+            notes.is_ok() || d.kind(super::journal::JOURNAL).is_ok_and(|k| k.is_some());
+        notes.map_err(err)
     }
-}
-
-fn file_name(p: &Path) -> String {
-    p.file_name()
-        .map(|n| n.to_string_lossy().into_owned())
-        .unwrap_or_default()
 }
 
 /// A path under `dir` as the journal and the manifest name it: "results.csv",
@@ -148,115 +118,65 @@ fn relative(dir: &Path, p: &Path) -> String {
             .map(|c| c.to_string_lossy())
             .collect::<Vec<_>>()
             .join("/"),
-        _ => file_name(p),
+        _ => p
+            .file_name()
+            .map(|n| n.to_string_lossy().into_owned())
+            .unwrap_or_default(),
     }
 }
 
-/// A plain file name (no folder, no parent, not hidden), or one inside a plain subfolder
-/// ("handouts/sec-01.html").
-fn plain(name: &str) -> bool {
-    let parts: Vec<&str> = name.split('/').collect();
-    let ok = |n: &str| !n.is_empty() && !n.starts_with('.') && !n.contains('\\') && n != "..";
-    match parts.as_slice() {
-        [file] => ok(file),
-        [folder, file] => ok(folder) && ok(file),
-        _ => false,
-    }
-}
-
-/// A temporary file's name as the journal gives it: hidden, in the folder or one subfolder.
-fn temporary(name: &str) -> bool {
-    let file = name.rsplit('/').next().unwrap_or(name);
-    file.starts_with('.')
-        && file.ends_with(".partial")
-        && name.split('/').count() <= 2
-        && !name.split('/').any(|p| p == "..")
-}
-
-fn read_manifest(dir: &Path) -> Vec<String> {
-    std::fs::read_to_string(dir.join(MANIFEST))
-        .map(|t| t.lines().filter(|n| plain(n)).map(str::to_string).collect())
-        .unwrap_or_default()
-}
-
-/// Writes a small file in `dir` through a temporary file, then renames it into place.
-fn write_small(dir: &Path, name: &str, text: &str) -> std::io::Result<()> {
-    let tmp = partial_path(dir, Path::new(name));
-    let mut f = create_new(&tmp)?;
-    f.write_all(text.as_bytes())?;
-    f.sync_all()?;
-    std::fs::rename(&tmp, dir.join(name))
-}
-
-fn sync_dir(dir: &Path) {
-    if let Ok(d) = File::open(dir) {
-        let _ = d.sync_all();
-    }
-}
-
-/// Carries out a complete journal: every temporary file still there renamed into place, every
-/// stale output removed, the manifest written, the journal removed.
-fn apply(dir: &Path, journal: &str) -> std::io::Result<()> {
-    let mut manifest = String::new();
-    for line in journal.lines() {
-        let parts: Vec<&str> = line.split('\t').collect();
-        match parts.as_slice() {
-            ["put", tmp, name] if plain(name) && temporary(tmp) => {
-                let from = dir.join(tmp);
-                if std::fs::symlink_metadata(&from).is_ok() {
-                    std::fs::rename(&from, dir.join(name))?;
-                }
-                manifest.push_str(name);
-                manifest.push('\n');
-            }
-            ["drop", name] if plain(name) => {
-                let _ = std::fs::remove_file(dir.join(name));
-                // a subfolder an earlier run made goes once it is empty
-                if let Some((folder, _)) = name.split_once('/') {
-                    let _ = std::fs::remove_dir(dir.join(folder));
-                }
-            }
-            _ => {}
-        }
-    }
-    write_small(dir, MANIFEST, &manifest)?;
-    std::fs::remove_file(dir.join(JOURNAL))?;
-    sync_dir(dir);
-    Ok(())
-}
-
-/// Completes a publication a killed run left half done: call before anything else touches the
-/// folder (and before stale temporary files are swept). A journal without its end line was
-/// never in place and is removed.
+/// Completes a publication a killed run left half done in `dir` (`journal::recover`, with no
+/// inputs to guard); whether there was a journal.
 pub fn recover(dir: &Path) -> std::io::Result<bool> {
-    let path = dir.join(JOURNAL);
-    let Ok(journal) = std::fs::read_to_string(&path) else {
-        return Ok(false);
-    };
-    if journal.starts_with("benchgrade journal 1\n") && journal.ends_with("end\n") {
-        apply(dir, &journal)?;
-    } else {
-        std::fs::remove_file(&path)?;
-    }
-    Ok(true)
+    let d = Dir::open(dir)?;
+    super::journal::recover(&d, &Vec::new()).map(|r| r.is_some())
 }
 
 /// An output being written to a temporary file beside its destination.
 pub struct AtomicFile {
     path: PathBuf,
     tmp: PathBuf,
-    writer: Option<BufWriter<File>>,
+    writer: Option<BufWriter<Hashing>>,
     stage: Stage,
+}
+
+/// A temporary file being written, with the SHA-256 of what went into it so far (for the
+/// manifest, without reading the file again).
+struct Hashing {
+    file: File,
+    hash: Sha256,
+}
+
+impl Write for Hashing {
+    fn write(&mut self, buf: &[u8]) -> std::io::Result<usize> {
+        let n = self.file.write(buf)?;
+        self.hash.update(&buf[..n]);
+        Ok(n)
+    }
+    fn flush(&mut self) -> std::io::Result<()> {
+        self.file.flush()
+    }
 }
 
 impl AtomicFile {
     pub fn create(path: &Path, stage: &Stage) -> Result<AtomicFile, WriteError> {
-        let tmp = partial_path(folder(path), path);
+        AtomicFile::create_at(path, partial_path(folder(path), path), stage)
+    }
+
+    /// An output whose temporary file is `tmp`, not beside it: the handouts' wait in the
+    /// output folder, their own folder being made only when they are published.
+    pub fn create_at(path: &Path, tmp: PathBuf, stage: &Stage) -> Result<AtomicFile, WriteError> {
         let file = create_new(&tmp).map_err(write_error(path))?;
         Ok(AtomicFile {
             path: path.to_path_buf(),
             tmp,
-            writer: Some(BufWriter::with_capacity(1 << 16, file)),
+            writer: Some(BufWriter::with_capacity(
+                1 << 16,
+                Hashing {
+                    file,
+                    hash: Sha256::new(),
+                },
+            )),
             stage: stage.clone(),
         })
     }
@@ -265,7 +185,7 @@ impl AtomicFile {
         &self.path
     }
 
-    fn writer(&mut self) -> std::io::Result<&mut BufWriter<File>> {
+    fn writer(&mut self) -> std::io::Result<&mut BufWriter<Hashing>> {
         self.writer
             .as_mut()
             .ok_or_else(|| std::io::Error::other("the output was already committed"))
@@ -285,14 +205,15 @@ impl AtomicFile {
                 .writer
                 .take()
                 .ok_or_else(|| std::io::Error::other("already committed"))?;
-            let file = w
+            let h = w
                 .into_inner()
                 .map_err(std::io::IntoInnerError::into_error)?;
-            file.sync_all()
+            h.file.sync_all()?;
+            Ok(super::provenance::hex(&h.hash.finalize()))
         })();
         match result {
-            Ok(()) => {
-                self.stage.add(self.tmp.clone(), self.path.clone());
+            Ok(hash) => {
+                self.stage.add(self.tmp.clone(), self.path.clone(), hash);
                 Ok(())
             }
             Err(source) => {
@@ -334,14 +255,18 @@ pub fn save_workbook(
         let mut w = BufWriter::new(f);
         wb.save_to_writer(&mut w)
             .map_err(|e| WriteError::other(path, e))?;
-        let f = w
+        let mut f = w
             .into_inner()
             .map_err(|e| write_error(path)(e.into_error()))?;
-        f.sync_all().map_err(write_error(path))
+        f.sync_all().map_err(write_error(path))?;
+        // the workbook writer seeks back as it writes: hash what the file holds
+        f.seek(std::io::SeekFrom::Start(0))
+            .and_then(|_| super::journal::hash_reader(&mut f))
+            .map_err(write_error(path))
     });
     match result {
-        Ok(()) => {
-            stage.add(tmp, path.to_path_buf());
+        Ok(hash) => {
+            stage.add(tmp, path.to_path_buf(), hash);
             Ok(())
         }
         Err(e) => {
@@ -384,6 +309,7 @@ where
 #[cfg(test)]
 mod tests {
     use super::*;
+    use crate::export::journal::JOURNAL;
 
     fn names(dir: &Path) -> Vec<String> {
         let mut v: Vec<String> = std::fs::read_dir(dir)
@@ -454,6 +380,9 @@ mod tests {
         let dir = tempfile::tempdir().unwrap();
         let d = dir.path();
         std::fs::write(d.join("a.csv"), b"old").unwrap();
+        // the last run wrote a.csv: its manifest carries the SHA-256 of "old" (computed with coreutils sha256sum)
+        let old = "benchgrade manifest 2\ncba06b5736faf67e54b07b561eae94395e774c517a7d910a54369e1263ccfbd4\ta.csv\n";
+        std::fs::write(d.join(MANIFEST), old).unwrap();
         std::fs::write(d.join(".a.csv.999999.partial"), b"new").unwrap();
         // killed after the journal and one rename of two: b.csv is already current
         std::fs::write(d.join("b.csv"), b"new").unwrap();

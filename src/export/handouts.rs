@@ -19,6 +19,7 @@ use super::html::{escape, escape_into};
 use super::workbook::file_stem;
 use crate::error::WriteError;
 use crate::fields::Field;
+use crate::files::partial_path;
 use crate::model::columns;
 use crate::model::{Flag, Graded, Severity};
 
@@ -43,6 +44,8 @@ ul{margin:0;padding-left:5mm}li{margin:0.5mm 0}\
 
 /// The handouts of a batch: one open file a section.
 pub struct Handouts {
+    /// The output folder, where the pages' temporary files wait.
+    out_dir: PathBuf,
     dir: PathBuf,
     title: String,
     /// The title, escaped once for every page.
@@ -107,6 +110,7 @@ fn push_cell(out: &mut String, v: Option<f64>, decimals: u8) {
 impl Handouts {
     pub fn new(out_dir: &Path, title: &str, stage: &Stage) -> Handouts {
         Handouts {
+            out_dir: out_dir.to_path_buf(),
             dir: out_dir.join(FOLDER),
             title: title.to_string(),
             title_html: escape(title),
@@ -146,9 +150,11 @@ impl Handouts {
                 k += 1;
             }
             self.stems.insert(stem.to_lowercase(), section.to_string());
-            self.make_folder()?;
             let path = self.dir.join(format!("{stem}.html"));
-            let mut f = AtomicFile::create(&path, &self.stage)?;
+            // the folder is made only when the pages are published: a run that fails or is
+            // killed leaves no empty handouts/ behind
+            let tmp = partial_path(&self.out_dir, Path::new(&format!("{FOLDER}-{stem}.html")));
+            let mut f = AtomicFile::create_at(&path, tmp, &self.stage)?;
             let head = format!(
                 "<!DOCTYPE html><html lang=\"en\"><head><meta charset=\"utf-8\"><meta http-equiv=\"Content-Security-Policy\" content=\"default-src 'none'; style-src 'unsafe-inline'\"><title>{} — {}</title><style>{STYLE}</style></head><body>",
                 escape(&self.title),
@@ -158,25 +164,6 @@ impl Handouts {
             self.files.insert(key.clone(), f);
         }
         Ok(self.files.get_mut(&key))
-    }
-
-    /// The handouts folder: made if missing; a link or a file in its place is refused.
-    fn make_folder(&self) -> Result<(), WriteError> {
-        let err = |source| WriteError {
-            path: self.dir.clone(),
-            source,
-        };
-        match std::fs::symlink_metadata(&self.dir) {
-            Ok(m) if m.is_dir() => Ok(()),
-            Ok(_) => Err(err(std::io::Error::other(
-                "is not a folder; move it away so that the handouts can be written",
-            ))),
-            Err(_) => {
-                std::fs::create_dir(&self.dir).map_err(err)?;
-                self.stage.made_folder(&self.dir);
-                Ok(())
-            }
-        }
     }
 
     /// Adds a student's page; a repeated submission that does not count gets none.

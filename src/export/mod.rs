@@ -9,6 +9,7 @@ pub mod cohort_workbook;
 pub mod gradebook;
 pub mod handouts;
 pub mod html;
+pub mod journal;
 #[cfg(feature = "parquet")]
 pub mod parquet;
 #[cfg(not(feature = "parquet"))]

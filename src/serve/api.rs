@@ -22,7 +22,7 @@ use crate::rubric::overrides::{Invalid, Limits, Typed};
 
 use super::grader::{Outcome, State as RunState};
 use super::overrides_file;
-use super::workspace::{write_atomically, COLUMNS};
+use super::workspace::{write_atomically, Refused, COLUMNS};
 use super::App;
 
 /// An error as the page shows it: a status, the field at fault and what to do.
@@ -195,15 +195,13 @@ pub async fn list_files(State(app): State<Arc<App>>) -> Reply {
 pub async fn delete_file(State(app): State<Arc<App>>, UrlPath(name): UrlPath<String>) -> Reply {
     let ws = app.ws.clone();
     let ((), revision) = edit(&app, move || {
-        let path = ws.input_path(&name).ok_or_else(|| {
-            ApiError::new(StatusCode::NOT_FOUND, "name", "no such file in inputs/")
-        })?;
-        std::fs::remove_file(path).map_err(|e| {
-            ApiError::new(
-                StatusCode::INTERNAL_SERVER_ERROR,
-                "name",
-                format!("cannot remove it: {e}"),
-            )
+        ws.remove_input(&name).map_err(|e| {
+            let status = match e {
+                Refused::Missing => StatusCode::NOT_FOUND,
+                Refused::Linked(_) => StatusCode::CONFLICT,
+                Refused::Io(_) => StatusCode::INTERNAL_SERVER_ERROR,
+            };
+            ApiError::new(status, "name", e.to_string())
         })
     })
     .await?;

@@ -123,9 +123,12 @@ pub async fn check(State(app): State<Arc<App>>, req: Request, next: Next) -> Res
     } else {
         None
     };
-    let mut response = match refused {
-        Some(e) => e.into_response(),
-        None => next.run(req).await,
+    let mut response = if let Some(e) = refused {
+        e.into_response()
+    } else {
+        let path = req.uri().path().to_string();
+        let response = next.run(req).await;
+        super::errors::as_json(&path, response, app.upload_limit).await
     };
     protect(response.headers_mut());
     response

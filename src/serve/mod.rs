@@ -5,9 +5,11 @@
 //! computer (`guard`).
 //!
 //! `api`: the JSON API; `upload`: spreadsheets in; `outputs`: graded files out; `page`: the
-//! page and its assets; `overrides_file`: overrides.csv as the page edits it.
+//! page and its assets; `overrides_file`: overrides.csv as the page edits it; `errors`: the
+//! framework's own error answers, as JSON.
 
 pub mod api;
+pub mod errors;
 pub mod grader;
 pub mod guard;
 pub mod outputs;

@@ -76,7 +76,7 @@ pub async fn get(
 ) -> Result<Response, ApiError> {
     let ws = app.ws.clone();
     let wanted = name.clone();
-    let bytes = blocking(move || ws.output_path(&wanted).map(std::fs::read))
+    let bytes = blocking(move || ws.read_output(&wanted))
         .await?
         .ok_or_else(|| ApiError::new(StatusCode::NOT_FOUND, "name", "no such output in graded/"))?
         .map_err(|e| {

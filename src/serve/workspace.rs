@@ -4,12 +4,13 @@
 //! run is exactly `benchgrade grade inputs --columns columns.toml --overrides overrides.csv
 //! --out graded` run there, and every file is named as that command names it.
 
-use std::io::Write as _;
-use std::path::{Component, Path, PathBuf};
+use std::io::{Read as _, Write as _};
+use std::path::{Path, PathBuf};
 use std::sync::atomic::{AtomicU64, Ordering};
 use std::time::SystemTime;
 
 use crate::config::Options;
+use crate::files::dir::{Dir, Kind};
 use crate::ingest::discover::EXTENSIONS;
 
 pub const INPUTS: &str = "inputs";
@@ -97,53 +98,115 @@ impl Workspace {
         Fingerprint(seen)
     }
 
-    /// The path of an input named as `inputs()` names it, if it is one: a relative path of
-    /// plain names (no `..`, nothing hidden) to a file.
-    pub fn input_path(&self, name: &str) -> Option<PathBuf> {
-        let rel = Path::new(name);
-        let plain = rel.components().all(|c| match c {
-            Component::Normal(n) => !n.to_string_lossy().starts_with('.'),
-            _ => false,
-        });
-        let path = Path::new(INPUTS).join(rel);
-        (plain && !name.is_empty() && std::fs::symlink_metadata(&path).is_ok_and(|m| !m.is_dir()))
-            .then_some(path)
+    /// Removes the input named as `inputs()` names it: a relative path of plain names (no
+    /// `..`, nothing hidden). Each folder of the name is opened without following a link, so a
+    /// linked folder inside inputs/ is refused rather than reached through, and the file is
+    /// unlinked through its folder's handle (a link standing there is removed itself, never
+    /// what it points to).
+    pub fn remove_input(&self, name: &str) -> Result<(), Refused> {
+        let parts: Vec<&str> = name.split('/').collect();
+        let plain = parts
+            .iter()
+            .all(|p| !p.is_empty() && !p.starts_with('.') && *p != "..");
+        let (Some((file, folders)), true) = (parts.split_last(), plain) else {
+            return Err(Refused::Missing);
+        };
+        let mut d = Dir::open_no_follow(Path::new(INPUTS)).map_err(|e| refused(INPUTS, e))?;
+        for (i, folder) in folders.iter().enumerate() {
+            let shown = parts[..=i].join("/");
+            if d.kind(folder).map_err(Refused::Io)? == Some(Kind::Link) {
+                return Err(Refused::Linked(format!("{INPUTS}/{shown}")));
+            }
+            d = d.sub(folder).map_err(|e| refused(&shown, e))?;
+        }
+        match d.kind(file).map_err(Refused::Io)? {
+            None | Some(Kind::Folder) => Err(Refused::Missing),
+            Some(_) => d.remove_file(file).map_err(Refused::Io),
+        }
     }
 
-    /// The files of `graded/` a person may want, sorted: every visible file.
+    /// The files of `graded/` a person may want, sorted: every visible regular file. The
+    /// folder and its handouts folder are opened without following a link: a linked
+    /// `graded/` or `graded/handouts` shows nothing.
     pub fn outputs(&self) -> Vec<InputFile> {
-        let mut out = visible_files(Path::new(GRADED), "");
+        let Ok(graded) = Dir::open_no_follow(Path::new(GRADED)) else {
+            return Vec::new();
+        };
+        let mut out = visible_files(&graded, "");
         // the handouts, one file a section, named "handouts/<section>.html"
         let handouts = crate::export::handouts::FOLDER;
-        out.extend(visible_files(
-            &Path::new(GRADED).join(handouts),
-            &format!("{handouts}/"),
-        ));
+        if let Ok(h) = graded.sub(handouts) {
+            out.extend(visible_files(&h, &format!("{handouts}/")));
+        }
         out.sort_by(|a, b| a.name.cmp(&b.name));
         out
     }
 
-    /// The path of an output by its name, if `graded/` holds it.
-    pub fn output_path(&self, name: &str) -> Option<PathBuf> {
-        self.outputs()
-            .iter()
-            .any(|o| o.name == name)
-            .then(|| Path::new(GRADED).join(name))
+    /// The bytes of an output by its name, if `graded/` holds it, read through the folders'
+    /// handles (no link followed).
+    pub fn read_output(&self, name: &str) -> Option<std::io::Result<Vec<u8>>> {
+        if !self.outputs().iter().any(|o| o.name == name) {
+            return None;
+        }
+        let read = || {
+            let graded = Dir::open_no_follow(Path::new(GRADED))?;
+            let (folder, file) = match name.split_once('/') {
+                Some((sub, file)) => (graded.sub(sub)?, file),
+                None => (graded, name),
+            };
+            let mut bytes = Vec::new();
+            folder.open_file(file)?.read_to_end(&mut bytes)?;
+            Ok(bytes)
+        };
+        Some(read())
     }
 }
 
-/// The visible files of a folder (no hidden ones, no folders), named with `prefix`.
-fn visible_files(dir: &Path, prefix: &str) -> Vec<InputFile> {
-    let Ok(entries) = std::fs::read_dir(dir) else {
+/// Why an input was not removed.
+#[derive(Debug)]
+pub enum Refused {
+    /// No such file in inputs/.
+    Missing,
+    /// A folder of its name is a link (named, from the workspace).
+    Linked(String),
+    Io(std::io::Error),
+}
+
+impl std::fmt::Display for Refused {
+    fn fmt(&self, f: &mut std::fmt::Formatter<'_>) -> std::fmt::Result {
+        match self {
+            Refused::Missing => write!(f, "no such file in inputs/"),
+            Refused::Linked(folder) => write!(
+                f,
+                "{folder} is a link to a folder elsewhere; the page removes only files inside the workspace (remove it there yourself)"
+            ),
+            Refused::Io(e) => write!(f, "cannot remove it: {e}"),
+        }
+    }
+}
+
+/// A folder of an input's name that could not be opened: missing, or a link.
+fn refused(shown: &str, e: std::io::Error) -> Refused {
+    match e.raw_os_error() {
+        Some(libc::ELOOP) => Refused::Linked(format!("{INPUTS}/{shown}")),
+        Some(libc::ENOENT | libc::ENOTDIR) => Refused::Missing,
+        _ => Refused::Io(e),
+    }
+}
+
+/// The visible regular files of a folder (no hidden ones, no folders, no links), named with
+/// `prefix`.
+fn visible_files(d: &Dir, prefix: &str) -> Vec<InputFile> {
+    let Ok(names) = d.names() else {
         return Vec::new();
     };
-    entries
-        .flatten()
-        .filter(|e| e.file_type().is_ok_and(|t| t.is_file()))
-        .filter_map(|e| {
-            let name = e.file_name().into_string().ok()?;
-            let size = e.metadata().ok()?.len();
-            (!name.starts_with('.')).then(|| InputFile {
+    names
+        .into_iter()
+        .filter_map(|n| n.into_string().ok())
+        .filter(|n| !n.starts_with('.') && d.kind(n).ok().flatten() == Some(Kind::File))
+        .filter_map(|name| {
+            let size = d.open_file(&name).ok()?.metadata().ok()?.len();
+            Some(InputFile {
                 name: format!("{prefix}{name}"),
                 size,
             })
@@ -212,8 +275,10 @@ impl std::fmt::Display for BadName {
 
 /// The name an upload is stored under in `inputs/`: its last part only (a name such as
 /// `../../x.csv` or `C:\class\x.csv` becomes `x.csv`), characters other than letters, digits,
-/// spaces and `. - _ ( ) [ ] , + #` replaced by `_`, no leading dot, at most 120 characters,
-/// and one of the extensions the command line reads.
+/// spaces and `. - _ ( ) [ ] , + #` replaced by `_`, no leading dot, at most 120 characters
+/// and `MAX_NAME_BYTES` bytes (cut on a character boundary, the extension kept: a file system
+/// holds 255 bytes a name, and a temporary file's name adds to it), and one of the extensions
+/// the command line reads.
 pub fn sanitise_name(given: &str) -> Result<String, BadName> {
     let last = given.rsplit(['/', '\\']).next().unwrap_or("");
     let cleaned: String = last
@@ -231,13 +296,7 @@ pub fn sanitise_name(given: &str) -> Result<String, BadName> {
         .trim()
         .trim_start_matches(['.', ' '])
         .trim_end_matches(['.', ' ']);
-    let name: String = if trimmed.chars().count() > 120 {
-        let (stem, ext) = trimmed.rsplit_once('.').unwrap_or((trimmed, ""));
-        let keep = 119usize.saturating_sub(ext.chars().count());
-        format!("{}.{ext}", stem.chars().take(keep).collect::<String>())
-    } else {
-        trimmed.to_string()
-    };
+    let name = capped(trimmed);
     let Some((stem, ext)) = name.rsplit_once('.') else {
         return Err(if name.is_empty() {
             BadName::Empty
@@ -252,6 +311,28 @@ pub fn sanitise_name(given: &str) -> Result<String, BadName> {
         return Err(BadName::Empty);
     }
     Ok(name)
+}
+
+/// The most bytes an upload's stored name may take.
+pub const MAX_NAME_BYTES: usize = 180;
+
+/// `name` cut to 120 characters and `MAX_NAME_BYTES` bytes, the stem cut on a character
+/// boundary and the extension kept.
+fn capped(name: &str) -> String {
+    if name.chars().count() <= 120 && name.len() <= MAX_NAME_BYTES {
+        return name.to_string();
+    }
+    let (stem, ext) = name.rsplit_once('.').unwrap_or((name, ""));
+    let keep_chars = 119usize.saturating_sub(ext.chars().count());
+    let keep_bytes = (MAX_NAME_BYTES - 1).saturating_sub(ext.len());
+    let mut end = 0;
+    for (n, (i, c)) in stem.char_indices().enumerate() {
+        if n >= keep_chars || i + c.len_utf8() > keep_bytes {
+            break;
+        }
+        end = i + c.len_utf8();
+    }
+    format!("{}.{ext}", &stem[..end])
 }
 
 static TEMPORARY: AtomicU64 = AtomicU64::new(0);
@@ -311,6 +392,19 @@ mod tests {
         assert!(
             kept.rsplit_once('.').is_some_and(|(_, e)| e == "xlsx") && kept.chars().count() == 120,
             "{kept}"
+        );
+        // 200 CJK characters are 600 bytes in UTF-8, past a file system's 255 a name
+        let cjk = format!("{}.csv", "実験報告".repeat(50));
+        let kept = sanitise_name(&cjk).unwrap();
+        assert!(
+            kept.len() <= MAX_NAME_BYTES && kept.rsplit_once('.').is_some_and(|(_, e)| e == "csv"),
+            "{kept}"
+        );
+        assert!(kept.starts_with("実験報告実験報告"), "{kept}");
+        assert_eq!(
+            kept.len(),
+            4 + 3 * 58,
+            "58 whole characters of 3 bytes fit before .csv"
         );
     }
 }
