@@ -153,4 +153,8 @@ pub struct RunArgs {
     /// applied after scoring
     #[arg(long, value_name = "FILE")]
     pub overrides: Option<PathBuf>,
+    /// The enrolled students (any spreadsheet or CSV with an id column, and names, sections and
+    /// assistants where it has them): every one gets a row, submitted or not
+    #[arg(long, value_name = "FILE")]
+    pub roster: Option<PathBuf>,
 }

@@ -25,6 +25,8 @@ pub struct Options {
     pub rubric: Option<PathBuf>,
     pub columns: Option<PathBuf>,
     pub compounds: Option<PathBuf>,
+    /// The enrolled students: `--roster FILE`.
+    pub roster: Option<PathBuf>,
     pub reference_mp_c: Option<f64>,
     pub calibration: Option<PathBuf>,
     pub overrides: Option<PathBuf>,
@@ -64,6 +66,10 @@ pub struct Config {
     pub overrides_file: Option<PathBuf>,
     /// The `--columns` mapping file, for provenance.
     pub columns_file: Option<PathBuf>,
+    /// The enrolled students (`--roster`), and the roster file's non-fatal problems.
+    pub roster: Option<crate::assess::roster::Roster>,
+    pub roster_file: Option<PathBuf>,
+    pub roster_problems: Vec<crate::ingest::Problem>,
     /// The `--compounds` library file, for provenance.
     pub compounds_file: Option<PathBuf>,
     /// The rubric's text, for its SHA-256 in the provenance.
@@ -112,6 +118,13 @@ impl Config {
             library.extend_from_file(p)?;
         }
         let reference = reference_rule(&rubric, &rubric_source, &library, opts.reference_mp_c)?;
+        let (roster, roster_problems) = match &opts.roster {
+            Some(p) => {
+                let (r, problems) = read_roster(p, &columns)?;
+                (Some(r), problems)
+            }
+            None => (None, Vec::new()),
+        };
         let out_dir = opts.out.clone().unwrap_or_else(|| PathBuf::from("graded"));
         if out_dir.is_file() {
             return Err(ConfigError::Invalid(format!(
@@ -124,6 +137,9 @@ impl Config {
             out_dir,
             overrides_file: opts.overrides.clone(),
             columns_file: opts.columns.clone(),
+            roster,
+            roster_file: opts.roster.clone(),
+            roster_problems,
             compounds_file: opts.compounds.clone(),
             rubric_text,
             split_sections: opts.split_sections,
@@ -148,6 +164,34 @@ impl Config {
             library,
         })
     }
+}
+
+/// Reads `--roster FILE` as a class sheet is read; a roster that cannot be read, or lists no
+/// student id, stops the run before anything is written.
+fn read_roster(
+    path: &Path,
+    columns: &ColumnOverrides,
+) -> Result<(crate::assess::roster::Roster, Vec<crate::ingest::Problem>), ConfigError> {
+    let read = crate::ingest::roster::read(path, columns);
+    let fatal: Vec<String> = read
+        .problems
+        .iter()
+        .filter(|p| p.fatal)
+        .map(|p| p.message.clone())
+        .collect();
+    if !fatal.is_empty() || read.students.is_empty() {
+        let why = if fatal.is_empty() {
+            "no row with a student id (the roster needs an id column, and names and sections where it has them)".to_string()
+        } else {
+            fatal.join("; ")
+        };
+        return Err(ConfigError::Invalid(format!(
+            "--roster {}: {why}",
+            path.display()
+        )));
+    }
+    let roster = crate::assess::roster::Roster::new(read.students, &path.display().to_string());
+    Ok((roster, read.problems))
 }
 
 /// `--title`, else the rubric's course, term and experiment name, joined by dashes.

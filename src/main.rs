@@ -82,6 +82,7 @@ fn options(run: RunArgs, out: Option<PathBuf>) -> Options {
         rubric: run.rubric,
         columns: run.columns,
         compounds: run.compounds,
+        roster: run.roster,
         reference_mp_c: run.reference_mp,
         calibration: run.calibration,
         overrides: run.overrides,

@@ -196,11 +196,28 @@ struct Grader<'a> {
     overrides: Overrides,
     /// Whether rows are scored: not in the first pass, which needs only the measures.
     scoring: bool,
+    /// The ids of the rows graded, for the roster's students with no row.
+    seen: std::collections::HashSet<String>,
+    /// Rostered ids a row not on the roster is likely to be, with that row's id.
+    likely: std::collections::HashMap<String, String>,
 }
 
 impl Grader<'_> {
     fn grade(&mut self, sub: ingest::Submission) -> Graded {
-        let a = self.assessor.assess(sub);
+        let mut a = self.assessor.assess(sub);
+        if let Some(roster) = &self.config.roster {
+            if let Some(id) = a.submission.student_id.as_deref() {
+                self.seen.insert(id.trim().to_string());
+            }
+            if a.excused.is_none() && !a.submission.no_submission {
+                a.flags.extend(roster.flags(&a.submission));
+                a.flags.sort_by_key(|(f, _)| f.code());
+            }
+            if let (Some(e), Some(typed)) = (roster.likely(&a.submission), &a.submission.student_id)
+            {
+                self.likely.insert(e.id.clone(), typed.trim().to_string());
+            }
+        }
         let score = if self.scoring {
             let s = &a.submission;
             // an override applies to the submission that counts, never to a repeat
@@ -235,6 +252,8 @@ fn stream(
         assessor: Assessor::new(context(config, calibration.as_ref(), inputs)),
         overrides: config.overrides.clone(),
         scoring: inputs.centres.is_some(),
+        seen: std::collections::HashSet::new(),
+        likely: std::collections::HashMap::new(),
     };
     let mut collector = Collector::default();
     let mut failure: Option<WriteError> = None;
@@ -263,6 +282,9 @@ fn stream(
             progress(done);
         }
     });
+    if grader.scoring && failure.is_none() {
+        failure = no_submissions(&mut grader, batch, on_row).err();
+    }
     batch.sheets = collector.sheets;
     batch.problems.extend(collector.problems);
     batch
@@ -281,6 +303,43 @@ fn stream(
     let unmatched = grader.overrides.unmatched();
     if !unmatched.is_empty() {
         return Err(ConfigError::Invalid(unmatched.join("\n")).into());
+    }
+    Ok(())
+}
+
+/// A row for each rostered student of whom no row was read, after every input: status
+/// `no-submission`, graded as the rubric's `no_submission` says, in the rostered section.
+fn no_submissions(
+    grader: &mut Grader,
+    batch: &mut Batch,
+    on_row: &mut dyn FnMut(Graded) -> Result<(), WriteError>,
+) -> Result<(), WriteError> {
+    let Some(roster) = &grader.config.roster else {
+        return Ok(());
+    };
+    let missing: Vec<ingest::Submission> = roster
+        .missing(&grader.seen)
+        .map(|e| ingest::Submission {
+            source: roster.source.clone(),
+            row: e
+                .place
+                .rsplit(' ')
+                .next()
+                .and_then(|n| n.parse().ok())
+                .unwrap_or(0),
+            section: e.section.clone().unwrap_or_default(),
+            student_id: Some(e.id.clone()),
+            student_name: e.name.clone(),
+            assistant: e.assistant.clone(),
+            no_submission: true,
+            likely_typed_as: grader.likely.get(&e.id).cloned(),
+            ..ingest::Submission::default()
+        })
+        .collect();
+    for sub in missing {
+        let g = grader.grade(sub);
+        batch.tally.add(&g.assessed);
+        on_row(g)?;
     }
     Ok(())
 }

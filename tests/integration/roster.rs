@@ -1,0 +1,205 @@
+//! The roster, as a coordinator uses it at the end of a term: 120 invented students in five
+//! sections, sheets kept by four assistants with six students missing, two ids mistyped (one
+//! transposition, one dropped digit) and one student graded in another section than their own.
+//! Every expected count is worked by hand from how the class below is built.
+
+use std::collections::HashMap;
+use std::process::Command;
+
+use crate::harness::{project_root, read_results, Fixture, Record};
+
+const FIRST: [&str; 12] = [
+    "Amara", "Bastian", "Corinne", "Dmitri", "Elif", "Farid", "Greta", "Hiro", "Ines", "Jonas",
+    "Keiko", "Lucan",
+];
+const LAST: [&str; 10] = [
+    "Ashdown", "Brannock", "Cealy", "Dunmore", "Elsworth", "Farrowby", "Gatwood", "Hollin",
+    "Iverley", "Jessop",
+];
+
+/// The rostered student `k` (0..120): id, "Last, First", section, assistant.
+fn student(k: usize) -> (String, String, String, String) {
+    let id = format!("27{:05}", 1000 + k * 7);
+    let name = format!("{}, {}", LAST[k % 10], FIRST[k / 10]);
+    let section = format!("S{}", k % 5 + 1);
+    let assistant = ["T. Marlowe", "P. Quist", "R. Vance", "D. Orsay"][(k % 5) % 4].to_string();
+    (id, name, section, assistant)
+}
+
+/// Missing: never submitted. Mistyped: (student, the id typed). Moved: submitted in S5.
+const MISSING: [usize; 6] = [3, 17, 44, 58, 91, 115];
+const MOVED: usize = 21;
+
+fn mistyped(k: usize) -> Option<String> {
+    let (id, ..) = student(k);
+    match k {
+        // two adjacent digits swapped: 2701070 -> 2700170
+        10 => {
+            let mut c: Vec<char> = id.chars().collect();
+            c.swap(3, 4);
+            Some(c.into_iter().collect())
+        }
+        // a digit dropped: 2701231 -> 270231
+        33 => Some(format!("{}{}", &id[..3], &id[4..])),
+        _ => None,
+    }
+}
+
+fn class(f: &Fixture) {
+    let mut roster = String::from("Student ID,Last name,First name,Section,TA\n");
+    let mut sheets: HashMap<String, String> = HashMap::new();
+    for k in 0..120 {
+        let (id, name, section, ta) = student(k);
+        let (last, first) = name.split_once(", ").unwrap();
+        roster.push_str(&format!("{id},{last},{first},{section},{ta}\n"));
+        if MISSING.contains(&k) {
+            continue;
+        }
+        let id = mistyped(k).unwrap_or(id);
+        let at = if k == MOVED {
+            "S5".to_string()
+        } else {
+            section
+        };
+        let sheet = sheets.entry(at.clone()).or_insert_with(|| {
+            format!("Section {at} (TA: {ta})\nStudent ID,Name,Section,Crude mass (g),Recovered mass (g),Melting range (°C)\n")
+        });
+        let crude = 2.5 + (k % 7) as f64 * 0.1;
+        sheet.push_str(&format!(
+            "{id},{first} {last},{at},{crude:.2},{:.2},121.2-122.1\n",
+            crude * 0.7
+        ));
+    }
+    f.write("roster.csv", roster);
+    for (section, text) in sheets {
+        f.write(&format!("class/{section}.csv"), text);
+    }
+}
+
+fn status_of<'a>(rows: &'a [Record], id: &str) -> Vec<&'a Record> {
+    rows.iter().filter(|r| r["student_id"] == id).collect()
+}
+
+#[test]
+fn every_enrolled_student_is_accounted_for() {
+    let f = Fixture::new();
+    class(&f);
+    let run = f.run(&["grade", "class", "--roster", "roster.csv", "--out", "out"]);
+    assert_eq!(run.code, 0, "{}", run.stderr);
+    // no id or name on standard error
+    assert!(!run.stderr.contains(&student(3).0), "{}", run.stderr);
+    let rows = f.results("out");
+    // 114 rows read (120 - 6 missing) and 8 made from the roster (the 6, and the two whose
+    // rows carry a mistyped id)
+    assert_eq!(rows.len(), 122);
+    let none: Vec<&Record> = rows
+        .iter()
+        .filter(|r| r["status"] == "no-submission")
+        .collect();
+    assert_eq!(none.len(), 8);
+    assert!(none
+        .iter()
+        .all(|r| r["flags"].is_empty() && r["score"].is_empty()));
+    // the gradebook: one row for each of the 120 enrolled, none for an id not on the roster
+    let book = read_results(&f.path("out/gradebook.csv"));
+    assert_eq!(book.len(), 120);
+    for (k, typed) in [(10, mistyped(10).unwrap()), (33, mistyped(33).unwrap())] {
+        let r = status_of(&rows, &typed);
+        assert_eq!(r.len(), 1, "{typed}");
+        assert!(r[0]["flags"].contains("not-on-roster"));
+        let want = format!("one typing slip from {}", student(k).0);
+        assert!(r[0]["flag_notes"].contains(&want), "{}", r[0]["flag_notes"]);
+        assert!(book.iter().all(|b| b["student_id"] != typed));
+        let real = status_of(&rows, &student(k).0);
+        assert_eq!(real[0]["status"], "no-submission");
+        assert!(
+            real[0]["feedback"].contains(&typed),
+            "{}",
+            real[0]["feedback"]
+        );
+    }
+    let moved = status_of(&rows, &student(MOVED).0);
+    assert_eq!(moved[0]["section"], "S5");
+    assert!(
+        moved[0]["flags"].contains("other-section"),
+        "{}",
+        moved[0]["flags"]
+    );
+    // names compared without order: "First Last" on the sheets, "Last, First" on the roster
+    assert!(rows.iter().all(|r| !r["flags"].contains("name-mismatch")));
+    // the report lists the six by section, the two apart
+    let html = std::fs::read_to_string(f.path("out/cohort-report.html")).unwrap();
+    let at = html.find("Students with no submission").unwrap();
+    let until = html[at..].find("Likely submitted").unwrap();
+    let listed = &html[at..at + until];
+    for k in MISSING {
+        assert!(listed.contains(&student(k).0), "{k}");
+    }
+    for k in [10, 33] {
+        assert!(!listed.contains(&student(k).0));
+        assert!(html[at + until..].contains(&student(k).0));
+    }
+    // section statistics count them apart, never as zeros: S4 lost students 3 and 58
+    // (k % 5 == 3) and student 33 (mistyped)
+    let stats = read_results(&f.path("out/section-stats.csv"));
+    let s4 = stats
+        .iter()
+        .find(|r| r["section"] == "S4" && r["measure"] == "score")
+        .unwrap();
+    assert_eq!(s4["no_submission"], "3");
+    let contract = Command::new("python3")
+        .arg(project_root().join("tests/data/check-results-contract.py"))
+        .arg(f.path("out/results.csv"))
+        .output();
+    if let Ok(out) = contract {
+        assert!(
+            out.status.success(),
+            "{}",
+            String::from_utf8_lossy(&out.stdout)
+        );
+    }
+}
+
+#[test]
+fn a_rubric_can_score_a_missing_report() {
+    let f = Fixture::new();
+    class(&f);
+    let rubric = std::fs::read_to_string(project_root().join("rubrics/default.toml")).unwrap();
+    f.write(
+        "r.toml",
+        rubric.replacen("[grading]\n", "[grading]\nno_submission = 0\n", 1),
+    );
+    let run = f.run(&[
+        "grade",
+        "class",
+        "--roster",
+        "roster.csv",
+        "--rubric",
+        "r.toml",
+        "--out",
+        "out",
+    ]);
+    assert_eq!(run.code, 0, "{}", run.stderr);
+    let rows = f.results("out");
+    let r = status_of(&rows, &student(3).0);
+    assert_eq!(
+        (r[0]["status"].as_str(), r[0]["score"].as_str()),
+        ("no-submission", "0")
+    );
+    let labels: Vec<String> = Vec::new();
+    let labels: Vec<&str> = labels.iter().map(String::as_str).collect();
+    assert_eq!(
+        benchgrade::rubric::score::audit_feedback(&r[0]["feedback"], &labels),
+        Ok(0.0)
+    );
+    // scored, a missing report counts in the score's statistics
+    let stats = read_results(&f.path("out/section-stats.csv"));
+    let s4 = stats
+        .iter()
+        .find(|r| r["section"] == "S4" && r["measure"] == "score")
+        .unwrap();
+    assert_eq!(s4["no_submission"], "0");
+    // 22 rows read in S4 (24 enrolled, 3 and 58 missing) and three scored 0 (3, 58, and 33,
+    // whose row carries a mistyped id)
+    assert_eq!(s4["n"], "25");
+}
