@@ -70,6 +70,8 @@ pub struct Config {
     pub roster: Option<crate::assess::roster::Roster>,
     pub roster_file: Option<PathBuf>,
     pub roster_problems: Vec<crate::ingest::Problem>,
+    /// How the roster's sheets were read, for `check`.
+    pub roster_sheets: Vec<crate::ingest::SheetReport>,
     /// The `--compounds` library file, for provenance.
     pub compounds_file: Option<PathBuf>,
     /// The rubric's text, for its SHA-256 in the provenance.
@@ -118,12 +120,12 @@ impl Config {
             library.extend_from_file(p)?;
         }
         let reference = reference_rule(&rubric, &rubric_source, &library, opts.reference_mp_c)?;
-        let (roster, roster_problems) = match &opts.roster {
+        let (roster, roster_problems, roster_sheets) = match &opts.roster {
             Some(p) => {
-                let (r, problems) = read_roster(p, &columns)?;
-                (Some(r), problems)
+                let (r, read) = read_roster(p, &columns)?;
+                (Some(r), read.problems, read.sheets)
             }
-            None => (None, Vec::new()),
+            None => (None, Vec::new(), Vec::new()),
         };
         let out_dir = opts.out.clone().unwrap_or_else(|| PathBuf::from("graded"));
         if out_dir.is_file() {
@@ -140,6 +142,7 @@ impl Config {
             roster,
             roster_file: opts.roster.clone(),
             roster_problems,
+            roster_sheets,
             compounds_file: opts.compounds.clone(),
             rubric_text,
             split_sections: opts.split_sections,
@@ -171,8 +174,14 @@ impl Config {
 fn read_roster(
     path: &Path,
     columns: &ColumnOverrides,
-) -> Result<(crate::assess::roster::Roster, Vec<crate::ingest::Problem>), ConfigError> {
-    let read = crate::ingest::roster::read(path, columns);
+) -> Result<
+    (
+        crate::assess::roster::Roster,
+        crate::ingest::roster::RosterRead,
+    ),
+    ConfigError,
+> {
+    let mut read = crate::ingest::roster::read(path, columns);
     let fatal: Vec<String> = read
         .problems
         .iter()
@@ -190,8 +199,9 @@ fn read_roster(
             path.display()
         )));
     }
-    let roster = crate::assess::roster::Roster::new(read.students, &path.display().to_string());
-    Ok((roster, read.problems))
+    let students = std::mem::take(&mut read.students);
+    let roster = crate::assess::roster::Roster::new(students, &path.display().to_string());
+    Ok((roster, read))
 }
 
 /// `--title`, else the rubric's course, term and experiment name, joined by dashes.

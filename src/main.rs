@@ -252,6 +252,19 @@ fn check(mut run: RunArgs, explain: bool) -> Result<ExitCode> {
     let mut out = std::io::stdout().lock();
     write!(out, "{}", check_report::layouts(&batch.sheets, style))?;
     writeln!(out)?;
+    if let Some(roster) = &config.roster {
+        writeln!(
+            out,
+            "Roster: {} enrolled students, read from",
+            roster.students().len()
+        )?;
+        write!(
+            out,
+            "{}",
+            check_report::layouts(&config.roster_sheets, style)
+        )?;
+        writeln!(out)?;
+    }
     write!(out, "{}", check_report::flagged(&batch.rows, style))?;
     writeln!(out)?;
     if explain {

@@ -499,6 +499,9 @@ fn discover_inputs(config: &Config) -> (Batch, Option<PathBuf>) {
 /// Reads, assesses and grades, writing nothing; every row is kept in `Batch::rows`.
 pub fn assess_batch(config: &Config) -> Result<Batch, RunError> {
     let (mut batch, calibration) = discover_inputs(config);
+    batch
+        .problems
+        .extend(config.roster_problems.iter().cloned());
     let files = std::mem::take(&mut batch.files);
     let first = section_centres(config, &files, calibration.as_deref(), None)?;
     let inputs = Inputs::second_pass(&files, calibration.as_deref(), &first);
@@ -631,6 +634,9 @@ pub fn grade_with_progress(
 ) -> Result<Batch, RunError> {
     let (mut batch, calibration) = discover_inputs(config);
     refuse_nothing(&batch, config)?;
+    batch
+        .problems
+        .extend(config.roster_problems.iter().cloned());
     batch.problems.extend(baseline_note(config));
     let paths = output_paths(&config.out_dir);
     refuse_overwriting_inputs(&paths, &batch.files)?;

@@ -27,6 +27,8 @@ pub struct Enrolled {
 pub struct RosterRead {
     pub students: Vec<Enrolled>,
     pub problems: Vec<Problem>,
+    /// How each sheet was read, for `check`.
+    pub sheets: Vec<super::SheetReport>,
 }
 
 /// Reads a roster file: every sheet's rows with an id, in order. A row without an id, and a
@@ -43,6 +45,7 @@ pub fn read(path: &Path, columns: &ColumnOverrides) -> RosterRead {
                 match tabulate_as(&data, columns, true, &mut |s| rows.push(s)) {
                     Ok(report) => {
                         let has_section = report.layout.column(Field::Section).is_some();
+                        out.sheets.push(report);
                         for s in rows {
                             let place = match &s.sheet {
                                 Some(sheet) => format!("{} [{sheet}] row {}", s.source, s.row),

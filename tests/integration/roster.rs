@@ -147,6 +147,14 @@ fn every_enrolled_student_is_accounted_for() {
         .find(|r| r["section"] == "S4" && r["measure"] == "score")
         .unwrap();
     assert_eq!(s4["no_submission"], "3");
+    // check shows how the roster was read
+    let check = f.run(&["check", "class", "--roster", "roster.csv"]);
+    assert!(
+        check.stdout.contains("Roster: 120 enrolled students"),
+        "{}",
+        check.stdout
+    );
+    assert!(check.stdout.contains("\"TA\"") && check.stdout.contains("-> teaching assistant"));
     let contract = Command::new("python3")
         .arg(project_root().join("tests/data/check-results-contract.py"))
         .arg(f.path("out/results.csv"))
