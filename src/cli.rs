@@ -157,4 +157,8 @@ pub struct RunArgs {
     /// assistants where it has them): every one gets a row, submitted or not
     #[arg(long, value_name = "FILE")]
     pub roster: Option<PathBuf>,
+    /// Corrections of typed values (CSV: student_id, section, field, value, reason, grader),
+    /// applied before anything is flagged or scored
+    #[arg(long, value_name = "FILE")]
+    pub corrections: Option<PathBuf>,
 }

@@ -27,6 +27,8 @@ pub struct Options {
     pub compounds: Option<PathBuf>,
     /// The enrolled students: `--roster FILE`.
     pub roster: Option<PathBuf>,
+    /// Graders' corrections of typed values: `--corrections FILE`.
+    pub corrections: Option<PathBuf>,
     pub reference_mp_c: Option<f64>,
     pub calibration: Option<PathBuf>,
     pub overrides: Option<PathBuf>,
@@ -66,6 +68,9 @@ pub struct Config {
     pub overrides_file: Option<PathBuf>,
     /// The `--columns` mapping file, for provenance.
     pub columns_file: Option<PathBuf>,
+    /// Graders' corrections of typed values, applied before anything is judged.
+    pub corrections: crate::rubric::corrections::Corrections,
+    pub corrections_file: Option<PathBuf>,
     /// The enrolled students (`--roster`), and the roster file's non-fatal problems.
     pub roster: Option<crate::assess::roster::Roster>,
     pub roster_file: Option<PathBuf>,
@@ -141,6 +146,11 @@ impl Config {
             columns_file: opts.columns.clone(),
             roster,
             roster_file: opts.roster.clone(),
+            corrections: match &opts.corrections {
+                Some(p) => crate::rubric::corrections::Corrections::load(p)?,
+                None => crate::rubric::corrections::Corrections::default(),
+            },
+            corrections_file: opts.corrections.clone(),
             roster_problems,
             roster_sheets,
             compounds_file: opts.compounds.clone(),

@@ -83,6 +83,7 @@ fn options(run: RunArgs, out: Option<PathBuf>) -> Options {
         columns: run.columns,
         compounds: run.compounds,
         roster: run.roster,
+        corrections: run.corrections,
         reference_mp_c: run.reference_mp,
         calibration: run.calibration,
         overrides: run.overrides,

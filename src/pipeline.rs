@@ -200,10 +200,43 @@ struct Grader<'a> {
     seen: std::collections::HashSet<String>,
     /// Rostered ids a row not on the roster is likely to be, with that row's id.
     likely: std::collections::HashMap<String, String>,
+    /// Which corrections found their row.
+    corrections_used: Vec<bool>,
 }
 
-impl Grader<'_> {
-    fn grade(&mut self, sub: ingest::Submission) -> Graded {
+impl<'a> Grader<'a> {
+    fn new(config: &'a Config, calibration: Option<&'a Calibration>, inputs: &Inputs<'a>) -> Self {
+        Grader {
+            config,
+            assessor: Assessor::new(context(config, calibration, inputs)),
+            overrides: config.overrides.clone(),
+            scoring: inputs.centres.is_some(),
+            seen: std::collections::HashSet::new(),
+            likely: std::collections::HashMap::new(),
+            corrections_used: vec![false; config.corrections.len()],
+        }
+    }
+
+    /// Refuses the run when an override or (in the grading pass) a correction found no row.
+    fn unmatched(&self) -> Result<(), RunError> {
+        let mut unmatched = self.overrides.unmatched();
+        if self.scoring {
+            unmatched.extend(self.config.corrections.unmatched(&self.corrections_used));
+        }
+        if unmatched.is_empty() {
+            Ok(())
+        } else {
+            Err(ConfigError::Invalid(unmatched.join("\n")).into())
+        }
+    }
+
+    fn grade(&mut self, mut sub: ingest::Submission) -> Graded {
+        if !self.config.corrections.is_empty() && !sub.no_submission {
+            sub.corrections = self
+                .config
+                .corrections
+                .apply(&mut sub, &mut self.corrections_used);
+        }
         let mut a = self.assessor.assess(sub);
         if let Some(roster) = &self.config.roster {
             if let Some(id) = a.submission.student_id.as_deref() {
@@ -247,14 +280,7 @@ fn stream(
     progress: &mut dyn FnMut(Progress),
 ) -> Result<(), RunError> {
     let calibration = load_calibration(inputs.calibration, &mut batch.problems);
-    let mut grader = Grader {
-        config,
-        assessor: Assessor::new(context(config, calibration.as_ref(), inputs)),
-        overrides: config.overrides.clone(),
-        scoring: inputs.centres.is_some(),
-        seen: std::collections::HashSet::new(),
-        likely: std::collections::HashMap::new(),
-    };
+    let mut grader = Grader::new(config, calibration.as_ref(), inputs);
     let mut collector = Collector::default();
     let mut failure: Option<WriteError> = None;
     let mut done = Progress {
@@ -300,11 +326,7 @@ fn stream(
     if let Some(e) = failure {
         return Err(e.into());
     }
-    let unmatched = grader.overrides.unmatched();
-    if !unmatched.is_empty() {
-        return Err(ConfigError::Invalid(unmatched.join("\n")).into());
-    }
-    Ok(())
+    grader.unmatched()
 }
 
 /// A row for each rostered student of whom no row was read, after every input: status
@@ -612,6 +634,8 @@ fn provenance(config: &Config, files: &[PathBuf], calibration: Option<&Path>) ->
         ("compound library", config.compounds_file.as_deref()),
         ("column mapping", config.columns_file.as_deref()),
         ("overrides", config.overrides_file.as_deref()),
+        ("corrections", config.corrections_file.as_deref()),
+        ("roster", config.roster_file.as_deref()),
     ]
     .into_iter()
     .filter_map(|(role, p)| Some((role, p?)))

@@ -69,6 +69,11 @@ pub struct Submission {
     /// For a row made from the roster: the id of a row not on the roster that is likely this
     /// student's (one typing slip away, the same name).
     pub likely_typed_as: Option<String>,
+    /// A grader's correction set the status: it alone decides whether the student is excused
+    /// (the notes no longer do).
+    pub status_corrected: bool,
+    /// What the grader's corrections changed, in words, for the feedback and results.
+    pub corrections: Vec<String>,
     /// Fields the sheet has no column for (their absence is the sheet's, not the student's).
     pub no_column: Vec<Field>,
     pub unreadable: Vec<Unreadable>,

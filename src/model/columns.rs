@@ -373,6 +373,9 @@ registry! {
         } else {
             "graded"
         })), }
+    /// What graders' corrections (`--corrections`) changed in the row, each with who and why.
+    CORRECTIONS = { name: "corrections", label: "Corrections", kind: Kind::List { sep: "; " },
+        get: |r| Value::Items(Items::Texts(a(r).submission.corrections.as_slice())), }
 }
 
 #[cfg(test)]

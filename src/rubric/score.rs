@@ -428,6 +428,21 @@ pub fn audit_feedback(feedback: &str, labels: &[&str]) -> Result<f64, String> {
 
 /// Grades one assessed row.
 pub fn score(rubric: &Rubric, a: &Assessed, overrides: &[&Override]) -> Score {
+    let mut s = score_row(rubric, a, overrides);
+    // graders' corrections of what was typed come first, each a sentence of its own
+    if !a.submission.corrections.is_empty() {
+        let mut said = String::new();
+        for c in &a.submission.corrections {
+            said.push_str("Correction: ");
+            said.push_str(&c.replace("; ", ", "));
+            said.push_str("; ");
+        }
+        s.feedback = said + &s.feedback;
+    }
+    s
+}
+
+fn score_row(rubric: &Rubric, a: &Assessed, overrides: &[&Override]) -> Score {
     if let Some(why) = &a.excused {
         return excused(rubric, why, overrides);
     }

@@ -211,3 +211,108 @@ fn a_rubric_can_score_a_missing_report() {
     // whose row carries a mistyped id)
     assert_eq!(s4["n"], "25");
 }
+
+#[test]
+fn corrections_confirm_mistyped_ids_and_fix_values_with_a_trail() {
+    let f = Fixture::new();
+    class(&f);
+    let (ten, thirty_three) = (student(10).0, student(33).0);
+    let crude_of_50 = student(50).0;
+    f.write(
+        "corrections.csv",
+        format!(
+            "student_id,section,field,value,reason,grader\n\
+             {},,student_id,{ten},digits swapped; confirmed with the student,T. Marlowe\n\
+             {},S4,student_id,{thirty_three},a digit dropped,D. Orsay\n\
+             {crude_of_50},,crude_mass,3.05 g,balance slip read back from the notebook,T. Marlowe\n",
+            mistyped(10).unwrap(),
+            mistyped(33).unwrap()
+        ),
+    );
+    let run = f.run(&[
+        "grade",
+        "class",
+        "--roster",
+        "roster.csv",
+        "--corrections",
+        "corrections.csv",
+        "--out",
+        "out",
+    ]);
+    assert_eq!(run.code, 0, "{}", run.stderr);
+    let rows = f.results("out");
+    // 114 rows read and 6 made from the roster: the two corrected ids are found
+    assert_eq!(rows.len(), 120);
+    assert!(rows.iter().all(|r| !r["flags"].contains("not-on-roster")));
+    let r = status_of(&rows, &ten);
+    assert_eq!(r.len(), 1);
+    assert_eq!(r[0]["status"], "graded");
+    let want = format!(
+        "student id corrected from {} to {ten} by T. Marlowe: digits swapped, confirmed with the student",
+        mistyped(10).unwrap()
+    );
+    assert!(
+        r[0]["corrections"].contains(&want),
+        "{}",
+        r[0]["corrections"]
+    );
+    assert!(
+        r[0]["feedback"].starts_with(&format!("Correction: {want}")),
+        "{}",
+        r[0]["feedback"]
+    );
+    // the mass is corrected before anything is computed: 100 x recovered / 3.05 (hand-worked
+    // from the class's own recovered mass)
+    let m = status_of(&rows, &crude_of_50);
+    let recovered: f64 = m[0]["recovered_mass_g"].parse().unwrap();
+    let recovery: f64 = m[0]["recovery_pct"].parse().unwrap();
+    assert!((recovery - 100.0 * recovered / 3.05).abs() < 1e-9);
+    let book = read_results(&f.path("out/gradebook.csv"));
+    assert_eq!(book.len(), 120);
+    assert!(book
+        .iter()
+        .any(|b| b["student_id"] == ten && !b["score"].is_empty()));
+    // the file is named with its SHA-256 among what changed grades
+    let html = std::fs::read_to_string(f.path("out/cohort-report.html")).unwrap();
+    assert!(
+        html.contains("corrections: corrections.csv"),
+        "provenance line"
+    );
+    // a correction that finds no row stops the run, naming its line
+    f.write(
+        "bad.csv",
+        "student_id,section,field,value,reason,grader\n9999999,,crude_mass,2.0,x,y\n2701000,,crude_mass,two grams,x,y\n",
+    );
+    let bad = f.run(&[
+        "grade",
+        "class",
+        "--corrections",
+        "bad.csv",
+        "--out",
+        "out2",
+    ]);
+    assert_eq!(bad.code, 2, "{}", bad.stderr);
+    assert!(
+        bad.stderr.contains("bad.csv:3") && bad.stderr.contains("\"two grams\" is not a mass"),
+        "{}",
+        bad.stderr
+    );
+    f.write(
+        "stray.csv",
+        "student_id,section,field,value,reason,grader\n9999999,,crude_mass,2.0,x,y\n",
+    );
+    let stray = f.run(&[
+        "grade",
+        "class",
+        "--corrections",
+        "stray.csv",
+        "--out",
+        "out3",
+    ]);
+    assert_eq!(stray.code, 2, "{}", stray.stderr);
+    assert!(
+        stray.stderr.contains("stray.csv:2") && stray.stderr.contains("matches no student row"),
+        "{}",
+        stray.stderr
+    );
+}
