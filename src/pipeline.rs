@@ -651,6 +651,31 @@ fn provenance(config: &Config, files: &[PathBuf], calibration: Option<&Path>) ->
     Provenance::new(config.timestamp, &used, &read)
 }
 
+/// `benchgrade template`: the entry workbooks of the configured roster, written into the
+/// output folder under its lock, published together; the paths written.
+pub fn write_templates(config: &Config, one_workbook: bool) -> Result<Vec<PathBuf>, RunError> {
+    let Some(roster) = &config.roster else {
+        return Err(ConfigError::Invalid("template needs --roster FILE".into()).into());
+    };
+    let inputs: Vec<PathBuf> = config.roster_file.iter().cloned().collect();
+    let planned: Vec<PathBuf> = vec![config.out_dir.join("entry-sheets.xlsx")];
+    refuse_overwriting_inputs(&planned, &inputs)?;
+    let _lock = open_output_folder(config)?;
+    let stage = Stage::new();
+    let o = crate::export::template::TemplateOptions {
+        roster: roster.students(),
+        rubric: &config.rubric,
+        title: &config.title,
+        out_dir: &config.out_dir,
+        one_workbook,
+        timestamp: config.timestamp,
+    };
+    let written = crate::export::template::write(&o, &stage)?;
+    refuse_overwriting_inputs(&written, &inputs)?;
+    stage.publish(&config.out_dir, &inputs)?;
+    Ok(written)
+}
+
 /// `grade`, telling `progress` after each sheet and file.
 pub fn grade_with_progress(
     config: &Config,

@@ -316,3 +316,168 @@ fn corrections_confirm_mistyped_ids_and_fix_values_with_a_trail() {
         stray.stderr
     );
 }
+
+/// The entry sheet of one section, filled in as an assistant would: every cell of the template
+/// copied (calamine reads it, rust_xlsxwriter writes it back, as a spreadsheet program saves
+/// what was opened) and each student's entries typed into the entry columns.
+fn fill(template: &std::path::Path, sheet: &str, out: &std::path::Path) -> Vec<(String, String)> {
+    use calamine::{open_workbook, Data, DataType, Reader, Xlsx};
+    let mut wb: Xlsx<_> = open_workbook(template).unwrap();
+    let range = wb.worksheet_range(sheet).unwrap();
+    let header = range
+        .rows()
+        .position(|r| r.first() == Some(&Data::String("Student ID".into())))
+        .expect("the header row");
+    let heads: Vec<String> = range
+        .rows()
+        .nth(header)
+        .unwrap()
+        .iter()
+        .map(ToString::to_string)
+        .collect();
+    let mut book = rust_xlsxwriter::Workbook::new();
+    let ws = book.add_worksheet();
+    ws.set_name(sheet).unwrap();
+    let mut students = Vec::new();
+    for (r, row) in range.rows().enumerate() {
+        for (c, cell) in row.iter().enumerate() {
+            if let Data::String(s) = cell {
+                ws.write_string(r as u32, c as u16, s).unwrap();
+            }
+        }
+        if r <= header + 1 || row.first().is_none_or(DataType::is_empty) {
+            continue;
+        }
+        students.push((row[0].to_string(), row[1].to_string()));
+        let k = students.len() as f64;
+        for (c, h) in heads.iter().enumerate() {
+            let v = match h.as_str() {
+                "Crude mass" => Some(2.5 + 0.01 * k),
+                "Recovered mass" => Some(1.8 + 0.01 * k),
+                "Solvent volume" => Some(60.0),
+                "Melting onset" => Some(121.4),
+                "Clear point" => Some(122.2),
+                "Reported recovery" => Some(100.0 * (1.8 + 0.01 * k) / (2.5 + 0.01 * k)),
+                _ => None,
+            };
+            if let Some(v) = v {
+                ws.write_number(r as u32, c as u16, v).unwrap();
+            }
+        }
+    }
+    book.save(out).unwrap();
+    students
+}
+
+#[test]
+fn entry_workbooks_from_the_roster_grade_clean_once_filled_in() {
+    let f = Fixture::new();
+    class(&f);
+    let run = f.run(&["template", "--roster", "roster.csv", "--out", "entry"]);
+    assert_eq!(run.code, 0, "{}", run.stderr);
+    for s in 1..=5 {
+        assert!(f.path(&format!("entry/S{s}-entry.xlsx")).is_file(), "S{s}");
+    }
+    let one = f.run(&[
+        "template",
+        "--roster",
+        "roster.csv",
+        "--out",
+        "one",
+        "--one-workbook",
+    ]);
+    assert_eq!(one.code, 0, "{}", one.stderr);
+    // the roster in the template is the roster: S2's ids and names, in roster order
+    std::fs::create_dir_all(f.path("filled")).unwrap();
+    let typed = fill(
+        &f.path("entry/S2-entry.xlsx"),
+        "S2",
+        &f.path("filled/S2.xlsx"),
+    );
+    let want: Vec<(String, String)> = (0..120)
+        .map(student)
+        .filter(|s| s.2 == "S2")
+        .map(|(id, name, ..)| (id, name))
+        .collect();
+    assert_eq!(typed, want);
+    // filled in, it grades with no mapping file: every student graded, no flag, no note
+    let graded = f.run(&["grade", "filled", "--out", "out"]);
+    assert_eq!(graded.code, 0, "{}", graded.stderr);
+    assert!(!graded.stderr.contains("note"), "{}", graded.stderr);
+    let rows = f.results("out");
+    assert_eq!(rows.len(), want.len());
+    for r in &rows {
+        assert_eq!(r["status"], "graded");
+        assert!(
+            r["flags"].is_empty(),
+            "{}: {}",
+            r["student_id"],
+            r["flag_notes"]
+        );
+        assert_eq!(r["section"], "S2");
+    }
+    // the same sheet saved by LibreOffice grades the same
+    if let Some(office) = crate::harness::soffice() {
+        let ods = crate::harness::convert(office, f.dir.path(), &f.path("filled/S2.xlsx"), "ods");
+        std::fs::create_dir_all(f.path("lo")).unwrap();
+        std::fs::rename(&ods, f.path("lo/S2.ods")).unwrap();
+        let again = f.run(&["grade", "lo", "--out", "out-lo"]);
+        assert_eq!(again.code, 0, "{}", again.stderr);
+        let lo = f.results("out-lo");
+        let scores = |rows: &[Record]| rows.iter().map(|r| r["score"].clone()).collect::<Vec<_>>();
+        assert_eq!(scores(&lo), scores(&rows));
+    }
+}
+
+/// The rules the template's cells carry, read back from the saved file (its sheet XML) and
+/// checked as a person checks them: a recovered mass above the crude mass and a letter in a
+/// mass are refused, with a message in words.
+#[test]
+fn the_entry_cells_refuse_what_cannot_be_right() {
+    use std::io::Read;
+    let f = Fixture::new();
+    class(&f);
+    let run = f.run(&["template", "--roster", "roster.csv", "--out", "entry"]);
+    assert_eq!(run.code, 0, "{}", run.stderr);
+    let file = std::fs::File::open(f.path("entry/S1-entry.xlsx")).unwrap();
+    let mut zip = zip::ZipArchive::new(file).unwrap();
+    let mut xml = String::new();
+    zip.by_name("xl/worksheets/sheet2.xml")
+        .unwrap()
+        .read_to_string(&mut xml)
+        .unwrap();
+    let rules: Vec<&str> = xml.split("<dataValidation ").skip(1).collect();
+    let rule = |title: &str| {
+        *rules
+            .iter()
+            .find(|r| r.contains(&format!("promptTitle=\"{title}\"")))
+            .unwrap_or_else(|| panic!("a rule for {title}"))
+    };
+    // crude mass in column C: a decimal number (a letter is refused) between 0.0001 and 100 g
+    let crude = rule("Crude mass");
+    assert!(
+        crude.contains("type=\"decimal\"")
+            && crude.contains("<formula1>0.0001</formula1><formula2>100</formula2>"),
+        "{crude}"
+    );
+    assert!(crude.contains("sqref=\"C7:C30\""), "{crude}");
+    // recovered mass in D: a number, above 0, at most the crude mass beside it
+    let recovered = rule("Recovered mass");
+    assert!(
+        recovered.contains("ISNUMBER(D7)") && recovered.contains("D7&lt;=C7"),
+        "{recovered}"
+    );
+    assert!(recovered.contains("errorTitle=\"Recovered more than crude\""));
+    // onset (F) and clear point (G): within the apparatus's span, onset at most the clear point
+    let onset = rule("Melting onset");
+    assert!(
+        onset.contains("F7&gt;=20") && onset.contains("F7&lt;=G7"),
+        "{onset}"
+    );
+    // the status: a drop-down list
+    assert!(rule("Status").contains("type=\"list\""));
+    // protected without a password; the entry cells unlocked
+    assert!(xml.contains("<sheetProtection sheet=\"1\"") && !xml.contains("password"));
+    // rows missing an entry are shaded
+    assert!(xml.contains("<conditionalFormatting"));
+}
