@@ -45,6 +45,23 @@ pub enum Command {
     /// see the flagged students, add overrides and download the outputs. For one person on
     /// this computer; Ctrl-C stops it
     Serve(ServeArgs),
+    /// Write entry workbooks from the roster, one per section (or one with a sheet per
+    /// section), ready for assistants to type into: ids and names filled in and locked, every
+    /// entry cell checked as it is typed, an instructions sheet with the safety cautions
+    Template {
+        /// The roster (any spreadsheet or CSV with an id column, names, sections, assistants)
+        #[arg(long, value_name = "FILE")]
+        roster: PathBuf,
+        /// Rubric file (TOML); default: rubrics/default.toml, built in
+        #[arg(long, value_name = "FILE")]
+        rubric: Option<PathBuf>,
+        /// Output folder
+        #[arg(long, value_name = "DIR")]
+        out: PathBuf,
+        /// One workbook with a sheet per section instead of one workbook per section
+        #[arg(long)]
+        one_workbook: bool,
+    },
     /// List the reference library with the source of every value
     Compounds {
         /// Print JSON instead of a table
@@ -153,4 +170,12 @@ pub struct RunArgs {
     /// applied after scoring
     #[arg(long, value_name = "FILE")]
     pub overrides: Option<PathBuf>,
+    /// The enrolled students (any spreadsheet or CSV with an id column, and names, sections and
+    /// assistants where it has them): every one gets a row, submitted or not
+    #[arg(long, value_name = "FILE")]
+    pub roster: Option<PathBuf>,
+    /// Corrections of typed values (CSV: student_id, section, field, value, reason, grader),
+    /// applied before anything is flagged or scored
+    #[arg(long, value_name = "FILE")]
+    pub corrections: Option<PathBuf>,
 }

@@ -25,6 +25,10 @@ pub struct Options {
     pub rubric: Option<PathBuf>,
     pub columns: Option<PathBuf>,
     pub compounds: Option<PathBuf>,
+    /// The enrolled students: `--roster FILE`.
+    pub roster: Option<PathBuf>,
+    /// Graders' corrections of typed values: `--corrections FILE`.
+    pub corrections: Option<PathBuf>,
     pub reference_mp_c: Option<f64>,
     pub calibration: Option<PathBuf>,
     pub overrides: Option<PathBuf>,
@@ -64,6 +68,15 @@ pub struct Config {
     pub overrides_file: Option<PathBuf>,
     /// The `--columns` mapping file, for provenance.
     pub columns_file: Option<PathBuf>,
+    /// Graders' corrections of typed values, applied before anything is judged.
+    pub corrections: crate::rubric::corrections::Corrections,
+    pub corrections_file: Option<PathBuf>,
+    /// The enrolled students (`--roster`), and the roster file's non-fatal problems.
+    pub roster: Option<crate::assess::roster::Roster>,
+    pub roster_file: Option<PathBuf>,
+    pub roster_problems: Vec<crate::ingest::Problem>,
+    /// How the roster's sheets were read, for `check`.
+    pub roster_sheets: Vec<crate::ingest::SheetReport>,
     /// The `--compounds` library file, for provenance.
     pub compounds_file: Option<PathBuf>,
     /// The rubric's text, for its SHA-256 in the provenance.
@@ -112,6 +125,13 @@ impl Config {
             library.extend_from_file(p)?;
         }
         let reference = reference_rule(&rubric, &rubric_source, &library, opts.reference_mp_c)?;
+        let (roster, roster_problems, roster_sheets) = match &opts.roster {
+            Some(p) => {
+                let (r, read) = read_roster(p, &columns)?;
+                (Some(r), read.problems, read.sheets)
+            }
+            None => (None, Vec::new(), Vec::new()),
+        };
         let out_dir = opts.out.clone().unwrap_or_else(|| PathBuf::from("graded"));
         if out_dir.is_file() {
             return Err(ConfigError::Invalid(format!(
@@ -124,6 +144,15 @@ impl Config {
             out_dir,
             overrides_file: opts.overrides.clone(),
             columns_file: opts.columns.clone(),
+            roster,
+            roster_file: opts.roster.clone(),
+            corrections: match &opts.corrections {
+                Some(p) => crate::rubric::corrections::Corrections::load(p)?,
+                None => crate::rubric::corrections::Corrections::default(),
+            },
+            corrections_file: opts.corrections.clone(),
+            roster_problems,
+            roster_sheets,
             compounds_file: opts.compounds.clone(),
             rubric_text,
             split_sections: opts.split_sections,
@@ -148,6 +177,41 @@ impl Config {
             library,
         })
     }
+}
+
+/// Reads `--roster FILE` as a class sheet is read; a roster that cannot be read, or lists no
+/// student id, stops the run before anything is written.
+fn read_roster(
+    path: &Path,
+    columns: &ColumnOverrides,
+) -> Result<
+    (
+        crate::assess::roster::Roster,
+        crate::ingest::roster::RosterRead,
+    ),
+    ConfigError,
+> {
+    let mut read = crate::ingest::roster::read(path, columns);
+    let fatal: Vec<String> = read
+        .problems
+        .iter()
+        .filter(|p| p.fatal)
+        .map(|p| p.message.clone())
+        .collect();
+    if !fatal.is_empty() || read.students.is_empty() {
+        let why = if fatal.is_empty() {
+            "no row with a student id (the roster needs an id column, and names and sections where it has them)".to_string()
+        } else {
+            fatal.join("; ")
+        };
+        return Err(ConfigError::Invalid(format!(
+            "--roster {}: {why}",
+            path.display()
+        )));
+    }
+    let students = std::mem::take(&mut read.students);
+    let roster = crate::assess::roster::Roster::new(students, &path.display().to_string());
+    Ok((roster, read))
 }
 
 /// `--title`, else the rubric's course, term and experiment name, joined by dashes.

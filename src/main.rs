@@ -82,6 +82,8 @@ fn options(run: RunArgs, out: Option<PathBuf>) -> Options {
         rubric: run.rubric,
         columns: run.columns,
         compounds: run.compounds,
+        roster: run.roster,
+        corrections: run.corrections,
         reference_mp_c: run.reference_mp,
         calibration: run.calibration,
         overrides: run.overrides,
@@ -251,6 +253,19 @@ fn check(mut run: RunArgs, explain: bool) -> Result<ExitCode> {
     let mut out = std::io::stdout().lock();
     write!(out, "{}", check_report::layouts(&batch.sheets, style))?;
     writeln!(out)?;
+    if let Some(roster) = &config.roster {
+        writeln!(
+            out,
+            "Roster: {} enrolled students, read from",
+            roster.students().len()
+        )?;
+        write!(
+            out,
+            "{}",
+            check_report::layouts(&config.roster_sheets, style)
+        )?;
+        writeln!(out)?;
+    }
     write!(out, "{}", check_report::flagged(&batch.rows, style))?;
     writeln!(out)?;
     if explain {
@@ -263,6 +278,40 @@ fn check(mut run: RunArgs, explain: bool) -> Result<ExitCode> {
         check_report::summary(&batch.tally, &batch.problems, batch.files.len())
     )?;
     Ok(exit_for(&batch))
+}
+
+fn template(
+    roster: PathBuf,
+    rubric: Option<PathBuf>,
+    out: PathBuf,
+    one_workbook: bool,
+) -> Result<ExitCode> {
+    let opts = Options {
+        inputs: vec![roster.clone()],
+        out: Some(out),
+        rubric,
+        roster: Some(roster),
+        timestamp: std::env::var("SOURCE_DATE_EPOCH")
+            .ok()
+            .and_then(|v| v.trim().parse().ok()),
+        ..Options::default()
+    };
+    let config = match Config::build(opts) {
+        Ok(c) => c,
+        Err(e) => return usage_error(&e),
+    };
+    fail::doing("writing the entry workbooks".into());
+    match benchgrade::pipeline::write_templates(&config, one_workbook) {
+        Ok(paths) => {
+            let mut out = std::io::stdout().lock();
+            for p in paths {
+                writeln!(out, "wrote {}", p.display())?;
+            }
+            Ok(ExitCode::SUCCESS)
+        }
+        Err(RunError::Internal(_)) => Ok(fail::internal_error()),
+        Err(e) => usage_error(&e),
+    }
 }
 
 fn compounds(json: bool, extra: Option<PathBuf>) -> Result<ExitCode> {
@@ -351,6 +400,12 @@ fn run() -> ExitCode {
             json,
             compounds: extra,
         } => compounds(json, extra),
+        Command::Template {
+            roster,
+            rubric,
+            out,
+            one_workbook,
+        } => template(roster, rubric, out, one_workbook),
         Command::Serve(s) => serve(s),
     };
     match result {

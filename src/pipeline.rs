@@ -196,11 +196,61 @@ struct Grader<'a> {
     overrides: Overrides,
     /// Whether rows are scored: not in the first pass, which needs only the measures.
     scoring: bool,
+    /// The ids of the rows graded, for the roster's students with no row.
+    seen: std::collections::HashSet<String>,
+    /// Rostered ids a row not on the roster is likely to be, with that row's id.
+    likely: std::collections::HashMap<String, String>,
+    /// Which corrections found their row.
+    corrections_used: Vec<bool>,
 }
 
-impl Grader<'_> {
-    fn grade(&mut self, sub: ingest::Submission) -> Graded {
-        let a = self.assessor.assess(sub);
+impl<'a> Grader<'a> {
+    fn new(config: &'a Config, calibration: Option<&'a Calibration>, inputs: &Inputs<'a>) -> Self {
+        Grader {
+            config,
+            assessor: Assessor::new(context(config, calibration, inputs)),
+            overrides: config.overrides.clone(),
+            scoring: inputs.centres.is_some(),
+            seen: std::collections::HashSet::new(),
+            likely: std::collections::HashMap::new(),
+            corrections_used: vec![false; config.corrections.len()],
+        }
+    }
+
+    /// Refuses the run when an override or (in the grading pass) a correction found no row.
+    fn unmatched(&self) -> Result<(), RunError> {
+        let mut unmatched = self.overrides.unmatched();
+        if self.scoring {
+            unmatched.extend(self.config.corrections.unmatched(&self.corrections_used));
+        }
+        if unmatched.is_empty() {
+            Ok(())
+        } else {
+            Err(ConfigError::Invalid(unmatched.join("\n")).into())
+        }
+    }
+
+    fn grade(&mut self, mut sub: ingest::Submission) -> Graded {
+        if !self.config.corrections.is_empty() && !sub.no_submission {
+            sub.corrections = self
+                .config
+                .corrections
+                .apply(&mut sub, &mut self.corrections_used);
+        }
+        let mut a = self.assessor.assess(sub);
+        if let Some(roster) = &self.config.roster {
+            if let Some(id) = a.submission.student_id.as_deref() {
+                self.seen.insert(id.trim().to_string());
+            }
+            if a.excused.is_none() && !a.submission.no_submission {
+                a.flags.extend(roster.flags(&a.submission));
+                a.flags.sort_by_key(|(f, _)| f.code());
+            }
+            if let (Some(e), Some(typed)) = (roster.likely(&a.submission), &a.submission.student_id)
+            {
+                self.likely.insert(e.id.clone(), typed.trim().to_string());
+            }
+        }
         let score = if self.scoring {
             let s = &a.submission;
             // an override applies to the submission that counts, never to a repeat
@@ -230,12 +280,7 @@ fn stream(
     progress: &mut dyn FnMut(Progress),
 ) -> Result<(), RunError> {
     let calibration = load_calibration(inputs.calibration, &mut batch.problems);
-    let mut grader = Grader {
-        config,
-        assessor: Assessor::new(context(config, calibration.as_ref(), inputs)),
-        overrides: config.overrides.clone(),
-        scoring: inputs.centres.is_some(),
-    };
+    let mut grader = Grader::new(config, calibration.as_ref(), inputs);
     let mut collector = Collector::default();
     let mut failure: Option<WriteError> = None;
     let mut done = Progress {
@@ -263,6 +308,9 @@ fn stream(
             progress(done);
         }
     });
+    if grader.scoring && failure.is_none() {
+        failure = no_submissions(&mut grader, batch, on_row).err();
+    }
     batch.sheets = collector.sheets;
     batch.problems.extend(collector.problems);
     batch
@@ -278,9 +326,42 @@ fn stream(
     if let Some(e) = failure {
         return Err(e.into());
     }
-    let unmatched = grader.overrides.unmatched();
-    if !unmatched.is_empty() {
-        return Err(ConfigError::Invalid(unmatched.join("\n")).into());
+    grader.unmatched()
+}
+
+/// A row for each rostered student of whom no row was read, after every input: status
+/// `no-submission`, graded as the rubric's `no_submission` says, in the rostered section.
+fn no_submissions(
+    grader: &mut Grader,
+    batch: &mut Batch,
+    on_row: &mut dyn FnMut(Graded) -> Result<(), WriteError>,
+) -> Result<(), WriteError> {
+    let Some(roster) = &grader.config.roster else {
+        return Ok(());
+    };
+    let missing: Vec<ingest::Submission> = roster
+        .missing(&grader.seen)
+        .map(|e| ingest::Submission {
+            source: roster.source.clone(),
+            row: e
+                .place
+                .rsplit(' ')
+                .next()
+                .and_then(|n| n.parse().ok())
+                .unwrap_or(0),
+            section: e.section.clone().unwrap_or_default(),
+            student_id: Some(e.id.clone()),
+            student_name: e.name.clone(),
+            assistant: e.assistant.clone(),
+            no_submission: true,
+            likely_typed_as: grader.likely.get(&e.id).cloned(),
+            ..ingest::Submission::default()
+        })
+        .collect();
+    for sub in missing {
+        let g = grader.grade(sub);
+        batch.tally.add(&g.assessed);
+        on_row(g)?;
     }
     Ok(())
 }
@@ -440,6 +521,9 @@ fn discover_inputs(config: &Config) -> (Batch, Option<PathBuf>) {
 /// Reads, assesses and grades, writing nothing; every row is kept in `Batch::rows`.
 pub fn assess_batch(config: &Config) -> Result<Batch, RunError> {
     let (mut batch, calibration) = discover_inputs(config);
+    batch
+        .problems
+        .extend(config.roster_problems.iter().cloned());
     let files = std::mem::take(&mut batch.files);
     let first = section_centres(config, &files, calibration.as_deref(), None)?;
     let inputs = Inputs::second_pass(&files, calibration.as_deref(), &first);
@@ -576,6 +660,8 @@ fn provenance(config: &Config, files: &[PathBuf], calibration: Option<&Path>) ->
         ("compound library", config.compounds_file.as_deref()),
         ("column mapping", config.columns_file.as_deref()),
         ("overrides", config.overrides_file.as_deref()),
+        ("corrections", config.corrections_file.as_deref()),
+        ("roster", config.roster_file.as_deref()),
     ]
     .into_iter()
     .filter_map(|(role, p)| Some((role, p?)))
@@ -591,6 +677,31 @@ fn provenance(config: &Config, files: &[PathBuf], calibration: Option<&Path>) ->
     Provenance::new(config.timestamp, &used, &read)
 }
 
+/// `benchgrade template`: the entry workbooks of the configured roster, written into the
+/// output folder under its lock, published together; the paths written.
+pub fn write_templates(config: &Config, one_workbook: bool) -> Result<Vec<PathBuf>, RunError> {
+    let Some(roster) = &config.roster else {
+        return Err(ConfigError::Invalid("template needs --roster FILE".into()).into());
+    };
+    let inputs: Vec<PathBuf> = config.roster_file.iter().cloned().collect();
+    let planned: Vec<PathBuf> = vec![config.out_dir.join("entry-sheets.xlsx")];
+    refuse_overwriting_inputs(&planned, &inputs)?;
+    let _lock = open_output_folder(config)?;
+    let stage = Stage::new();
+    let o = crate::export::template::TemplateOptions {
+        roster: roster.students(),
+        rubric: &config.rubric,
+        title: &config.title,
+        out_dir: &config.out_dir,
+        one_workbook,
+        timestamp: config.timestamp,
+    };
+    let written = crate::export::template::write(&o, &stage)?;
+    refuse_overwriting_inputs(&written, &inputs)?;
+    stage.publish(&config.out_dir, &inputs)?;
+    Ok(written)
+}
+
 /// `grade`, telling `progress` after each sheet and file.
 pub fn grade_with_progress(
     config: &Config,
@@ -598,6 +709,9 @@ pub fn grade_with_progress(
 ) -> Result<Batch, RunError> {
     let (mut batch, calibration) = discover_inputs(config);
     refuse_nothing(&batch, config)?;
+    batch
+        .problems
+        .extend(config.roster_problems.iter().cloned());
     batch.problems.extend(baseline_note(config));
     let paths = output_paths(&config.out_dir);
     refuse_overwriting_inputs(&paths, &batch.files)?;

@@ -121,6 +121,9 @@ pub fn reason(s: &Submission) -> Option<String> {
             });
         }
     }
+    if s.status_corrected {
+        return None;
+    }
     let lacks = s.recovered_mass_g.is_none() || (s.mp_onset_c.is_none() && s.mp_clear_c.is_none());
     let notes = s.remarks.as_deref().filter(|_| lacks)?;
     let (_, word) = excusing_word(notes, false)?;

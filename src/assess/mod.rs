@@ -9,6 +9,7 @@ pub mod excused;
 mod judge;
 pub mod measures;
 pub mod physchem;
+pub mod roster;
 
 use std::collections::HashMap;
 
@@ -311,7 +312,9 @@ impl<'a> Assessor<'a> {
                 ),
             ));
         }
-        if a.excused.is_some() {
+        // nothing about the row is held against an excused student, and a row made from the
+        // roster for a student who submitted nothing has nothing to judge
+        if a.excused.is_some() || a.submission.no_submission {
             flags.clear();
         }
         flags

@@ -237,13 +237,28 @@ fn quality(wb: &mut Workbook, r: &Report, f: &Formats) -> Result<(), XlsxError> 
     let next = write_table(
         ws,
         0,
-        &report::quality_table(&r.quality.sections, "section"),
+        &report::quality_table(&r.quality.sections, "section", r.quality.with_roster),
         f,
     )?;
     if !r.quality.assistants.is_empty() {
-        let t = report::quality_table(&r.quality.assistants, "assistant");
+        let t = report::quality_table(&r.quality.assistants, "assistant", r.quality.with_roster);
         write_table(ws, next + 1, &t, f)?;
         ws.set_freeze_panes(0, 0)?;
+    }
+    print_setup(ws);
+    Ok(())
+}
+
+/// With a roster: the enrolled students of whom no row was read, by section.
+fn no_submission(wb: &mut Workbook, r: &Report, f: &Formats) -> Result<(), XlsxError> {
+    if !r.quality.with_roster {
+        return Ok(());
+    }
+    let ws = wb.add_worksheet().set_name("No submission")?;
+    let next = write_table(ws, 0, &report::no_submission_table(r.quality, false), f)?;
+    let likely = report::no_submission_table(r.quality, true);
+    if !likely.rows.is_empty() {
+        write_table(ws, next + 1, &likely, f)?;
     }
     print_setup(ws);
     Ok(())
@@ -333,6 +348,7 @@ fn build(r: &Report, timestamp: i64) -> Result<Workbook, XlsxError> {
     overview(&mut wb, r, &f)?;
     sections(&mut wb, r, &f)?;
     quality(&mut wb, r, &f)?;
+    no_submission(&mut wb, r, &f)?;
     comparisons(&mut wb, r, &f)?;
     benches(&mut wb, r, &f)?;
     grades(&mut wb, r, &f)?;

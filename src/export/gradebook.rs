@@ -4,7 +4,10 @@
 //! `grading.duplicates` says whether the first or the last counts) is left out, and results.csv
 //! lists both. An excused student keeps the row with score, percent and letter empty (common
 //! practice: a generic LMS import leaves a blank grade blank, where 0 would be a failing grade).
-//! Text from student input is guarded against formula injection.
+//! With a roster, every enrolled student has a row (one with no submission: status
+//! `no-submission`, the rubric's score for it), and a row whose id is not on the roster is left
+//! out until a grader confirms the id. Text from student input is guarded against formula
+//! injection.
 
 use std::path::{Path, PathBuf};
 
@@ -46,7 +49,9 @@ impl Gradebook {
 
     pub fn row(&mut self, g: &Graded) -> Result<(), WriteError> {
         let a = &g.assessed;
-        if a.has(Flag::DuplicateStudent) {
+        // an id not on the roster reaches the gradebook only once a grader confirms the id
+        // (a correction): an import would otherwise make a stranger of a typing slip
+        if a.has(Flag::DuplicateStudent) || a.has(Flag::NotOnRoster) {
             return Ok(());
         }
         let s = &a.submission;

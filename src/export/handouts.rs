@@ -168,7 +168,7 @@ impl Handouts {
 
     /// Adds a student's page; a repeated submission that does not count gets none.
     pub fn row(&mut self, g: &Graded) -> Result<(), WriteError> {
-        if g.assessed.has(Flag::DuplicateStudent) {
+        if g.assessed.has(Flag::DuplicateStudent) || g.assessed.submission.no_submission {
             return Ok(());
         }
         let mut page = std::mem::take(&mut self.page);

@@ -25,6 +25,7 @@ pub mod row_thread;
 pub mod section_sheet;
 pub mod section_stats;
 pub mod svg;
+pub mod template;
 pub mod text_outputs;
 pub mod ticks;
 pub mod workbook;

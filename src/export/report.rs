@@ -72,8 +72,9 @@ fn text(s: &str) -> Cell {
 pub fn quality_table(
     groups: &std::collections::BTreeMap<String, GroupQuality>,
     what: &'static str,
+    with_roster: bool,
 ) -> Table {
-    Table {
+    let mut t = Table {
         columns: vec![
             col(what, what, 0),
             col("students graded", "students", 0),
@@ -97,6 +98,54 @@ pub fn quality_table(
                     Cell::Number(q.share(q.suspicious)),
                     Cell::Number(q.share(q.missing)),
                 ]
+            })
+            .collect(),
+    };
+    if with_roster {
+        t.columns.extend([
+            col("enrolled", "enrolled", 0),
+            col("submitted", "submitted", 0),
+            col("no submission", "no_submission", 0),
+            col("not on roster", "not_on_roster", 0),
+        ]);
+        for (row, q) in t.rows.iter_mut().zip(groups.values()) {
+            row.extend([
+                Cell::Count(q.enrolled),
+                Cell::Count(q.students + q.excused),
+                Cell::Count(q.no_submission),
+                Cell::Count(q.not_on_roster),
+            ]);
+        }
+    }
+    t
+}
+
+/// The rostered students of whom no row was read, by section: section, id, name, and the id
+/// of a row not on the roster that is likely theirs. `likely`: only those with such a row
+/// (likely submitted under a mistyped id), else only those without.
+pub fn no_submission_table(q: &Quality, likely: bool) -> Table {
+    let mut rows: Vec<&crate::stats::quality::Missing> = q
+        .no_submission
+        .iter()
+        .filter(|m| m.likely_typed_as.is_some() == likely)
+        .collect();
+    rows.sort_by(|a, b| crate::stats::cohort::natural_cmp(&a.section, &b.section));
+    let mut columns = vec![
+        col("section", "section", 0),
+        col("student id", "student_id", 0),
+        col("name", "student_name", 0),
+    ];
+    if likely {
+        columns.push(col("likely submitted as", "likely_typed_as", 0));
+    }
+    Table {
+        columns,
+        rows: rows
+            .into_iter()
+            .map(|m| {
+                let mut row = vec![text(&m.section), text(&m.id), text(&m.name)];
+                row.extend(m.likely_typed_as.as_deref().map(text));
+                row
             })
             .collect(),
     }

@@ -100,15 +100,32 @@ fn quality(s: &mut String, r: &Report) {
     s.push_str(&table(&report::quality_table(
         &r.quality.sections,
         "section",
+        r.quality.with_roster,
     )));
     if !r.quality.assistants.is_empty() {
         s.push_str("<h3>By teaching assistant</h3>");
         s.push_str(&table(&report::quality_table(
             &r.quality.assistants,
             "assistant",
+            r.quality.with_roster,
         )));
     }
     s.push_str("<p>Rates are shares of the students graded (excused students and repeated submissions left out); missing data counts rows with a value missing or unreadable.</p>");
+    if r.quality.with_roster {
+        s.push_str("<p>Enrolled: rostered students graded, excused or missing in the section (a student who submitted in another section than their own counts there, flagged other-section); submitted: rows read for them; not on roster: rows whose id the roster does not list (left out of gradebook.csv until a grader confirms the id).</p>");
+        s.push_str("<h3>Students with no submission</h3>");
+        let missing = report::no_submission_table(r.quality, false);
+        if missing.rows.is_empty() {
+            s.push_str("<p>Every rostered student submitted.</p>");
+        } else {
+            s.push_str(&table(&missing));
+        }
+        let likely = report::no_submission_table(r.quality, true);
+        if !likely.rows.is_empty() {
+            s.push_str("<h3>Likely submitted under a mistyped id</h3><p>A row whose id is not on the roster is one typing slip from each of these students' ids and carries the same name; confirm the id with a correction.</p>");
+            s.push_str(&table(&likely));
+        }
+    }
 }
 
 fn benches(s: &mut String, r: &Report) {

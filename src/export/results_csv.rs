@@ -1,6 +1,8 @@
 //! DIR/results.csv: one row per submission, the registry's columns in the contract's order
-//! (`model::columns`; later columns are only ever appended), then one `points_<criterion id>`
-//! column per criterion. Written row by row as the batch streams past.
+//! (`model::columns`) up to `status`, then one `points_<criterion id>` column per criterion, then
+//! the registry's columns appended since (later columns are only ever appended, after the
+//! points, so that no column a reader knows moves). Written row by row as the batch streams
+//! past.
 
 use std::path::{Path, PathBuf};
 
@@ -12,16 +14,30 @@ use crate::model::columns::{self, Column, Kind, Outputs, Personal, Value};
 use crate::model::{without_cell_text, Graded};
 use crate::numtext::push_u64;
 
-/// The columns results.csv writes before the points, in order.
+/// The columns results.csv writes before the points (through `status`, the last column of the
+/// contract before the points), in order.
 fn columns() -> impl Iterator<Item = &'static Column> {
-    columns::carried_by(Outputs::CSV).filter(|c| c.kind != Kind::Points)
+    let mut before = true;
+    columns::carried_by(Outputs::CSV)
+        .filter(|c| c.kind != Kind::Points)
+        .take_while(move |c| std::mem::replace(&mut before, c.name != columns::STATUS.name))
 }
 
-/// results.csv's header: the registry's columns, then `points_<id>` per criterion.
+/// The columns appended since the points, in order.
+fn appended() -> impl Iterator<Item = &'static Column> {
+    let before = columns().count();
+    columns::carried_by(Outputs::CSV)
+        .filter(|c| c.kind != Kind::Points)
+        .skip(before)
+}
+
+/// results.csv's header: the registry's columns through `status`, `points_<id>` per
+/// criterion, then the columns appended since.
 pub fn header(criteria: &[String]) -> Vec<String> {
     columns()
         .map(|c| c.name.to_string())
         .chain(criteria.iter().map(|id| format!("points_{id}")))
+        .chain(appended().map(|c| c.name.to_string()))
         .collect()
 }
 
@@ -103,17 +119,20 @@ impl ResultsCsv {
         }
     }
 
+    fn column_field(&mut self, column: &Column, g: &Graded) -> csv::Result<()> {
+        self.fill(column, column.value(g.row()));
+        if self.pseudonyms.is_some() && column.personal == Some(Personal::Quotes) {
+            self.buf = without_cell_text(&self.buf, &g.assessed);
+        }
+        match column.kind {
+            Kind::Text | Kind::List { .. } => self.text_field(),
+            _ => self.csv.write_field(self.buf.as_bytes()),
+        }
+    }
+
     fn fields(&mut self, g: &Graded) -> csv::Result<()> {
-        let row = g.row();
         for column in columns() {
-            self.fill(column, column.value(row));
-            if self.pseudonyms.is_some() && column.personal == Some(Personal::Quotes) {
-                self.buf = without_cell_text(&self.buf, &g.assessed);
-            }
-            match column.kind {
-                Kind::Text | Kind::List { .. } => self.text_field()?,
-                _ => self.csv.write_field(self.buf.as_bytes())?,
-            }
+            self.column_field(column, g)?;
         }
         // one field per criterion of the rubric, empty where the row has no points (excused)
         for (i, id) in self.criteria.iter().enumerate() {
@@ -129,6 +148,9 @@ impl ResultsCsv {
             self.buf.clear();
             push_number(&mut self.buf, points);
             self.csv.write_field(self.buf.as_bytes())?;
+        }
+        for column in appended() {
+            self.column_field(column, g)?;
         }
         self.csv.write_record(None::<&[u8]>)
     }
@@ -175,6 +197,9 @@ mod tests {
         ];
         let h = header(&["recovery".into()]);
         assert_eq!(&h[..contract.len()], contract);
-        assert_eq!(h.last().map(String::as_str), Some("points_recovery"));
+        // the points follow status, and the columns appended since follow the points
+        let status = h.iter().position(|c| c == "status").unwrap();
+        assert_eq!(h[status + 1], "points_recovery");
+        assert_eq!(h.last().map(String::as_str), Some("corrections"));
     }
 }

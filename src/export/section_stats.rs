@@ -32,6 +32,7 @@ pub fn write(path: &Path, stats: &SectionStats, stage: &Stage) -> Result<(), Wri
             rec.push(row.excluded.to_string());
             rec.push(row.excused.to_string());
             rec.push(row.missing.to_string());
+            rec.push(row.no_submission.to_string());
             csv.write_record(&rec)?;
         }
         csv.flush()

@@ -8,6 +8,7 @@ pub mod discover;
 pub mod headers;
 pub mod percent_cells;
 pub mod range;
+pub mod roster;
 pub mod row;
 pub mod spill;
 pub mod submission;
@@ -316,6 +317,17 @@ pub fn tabulate(
     columns: &ColumnOverrides,
     on_row: &mut dyn FnMut(Submission),
 ) -> Result<SheetReport, Problem> {
+    tabulate_as(data, columns, false, on_row)
+}
+
+/// `tabulate`, for a class sheet or (`roster`) a roster, whose table needs only an id column
+/// beside two other fields.
+pub fn tabulate_as(
+    data: &SheetData,
+    columns: &ColumnOverrides,
+    roster: bool,
+    on_row: &mut dyn FnMut(Submission),
+) -> Result<SheetReport, Problem> {
     let sheet = &data.sheet;
     if sheet
         .name
@@ -338,7 +350,12 @@ pub fn tabulate(
         fatal,
     };
     let columns = columns.for_sheet(&data.source, sheet.name.as_deref());
-    let layout = match table::locate(sheet, &columns) {
+    let locate = if roster {
+        table::locate_roster
+    } else {
+        table::locate
+    };
+    let layout = match locate(sheet, &columns) {
         Ok(l) => l,
         Err(LayoutError::NoTable) => {
             return Err(problem(

@@ -63,6 +63,17 @@ pub struct Submission {
     pub reported_marked: bool,
     /// The melting entry was one temperature, taken as both onset and clear point.
     pub single_reading: bool,
+    /// A rostered student of whom no row was read: a row benchgrade made from the roster
+    /// (`--roster`), with status `no-submission`.
+    pub no_submission: bool,
+    /// For a row made from the roster: the id of a row not on the roster that is likely this
+    /// student's (one typing slip away, the same name).
+    pub likely_typed_as: Option<String>,
+    /// A grader's correction set the status: it alone decides whether the student is excused
+    /// (the notes no longer do).
+    pub status_corrected: bool,
+    /// What the grader's corrections changed, in words, for the feedback and results.
+    pub corrections: Vec<String>,
     /// Fields the sheet has no column for (their absence is the sheet's, not the student's).
     pub no_column: Vec<Field>,
     pub unreadable: Vec<Unreadable>,

@@ -182,7 +182,7 @@ fn header_columns(row: &RawRow, overrides: &ColumnOverrides) -> Vec<(Column, Hea
         .collect()
 }
 
-fn score(cols: &[(Column, HeaderMeaning)]) -> (usize, bool) {
+fn score(cols: &[(Column, HeaderMeaning)], is_core: fn(Field) -> bool) -> (usize, bool) {
     let mut fields: Vec<Field> = Vec::new();
     let mut core = false;
     for (_, m) in cols {
@@ -203,6 +203,20 @@ fn score(cols: &[(Column, HeaderMeaning)]) -> (usize, bool) {
 
 /// Finds the header row and resolves each column, or says why not.
 pub fn locate(sheet: &RawSheet, overrides: &ColumnOverrides) -> Result<Layout, LayoutError> {
+    locate_by(sheet, overrides, is_core)
+}
+
+/// Finds a roster's header row: one naming the student id and at least two other fields.
+pub fn locate_roster(sheet: &RawSheet, overrides: &ColumnOverrides) -> Result<Layout, LayoutError> {
+    locate_by(sheet, overrides, |f| f == Field::StudentId)
+}
+
+/// Finds the header row whose fields include one `is_core` accepts.
+fn locate_by(
+    sheet: &RawSheet,
+    overrides: &ColumnOverrides,
+    is_core: fn(Field) -> bool,
+) -> Result<Layout, LayoutError> {
     // (position, columns, distinct fields) of the best header row so far
     type Candidate = (usize, Vec<(Column, HeaderMeaning)>, usize);
     let mut best: Option<Candidate> = None;
@@ -212,7 +226,7 @@ pub fn locate(sheet: &RawSheet, overrides: &ColumnOverrides) -> Result<Layout, L
             break;
         }
         let cols = header_columns(row, overrides);
-        let (n, core) = score(&cols);
+        let (n, core) = score(&cols, is_core);
         if n >= MIN_HEADER_FIELDS && core && best.as_ref().is_none_or(|b| n > b.2) {
             best = Some((pos, cols, n));
         }

@@ -363,9 +363,19 @@ registry! {
         get: |r| Value::Number(
             a(r).submission.reported_recovery_pct.zip(a(r).recovery_pct).map(|(rep, rec)| (rep - rec).abs())
         ), }
-    /// `graded`, or `excused` for a student who withdrew or was excused (no score given).
+    /// `graded`, `excused` for a student who withdrew or was excused (no score given), or
+    /// `no-submission` for a rostered student of whom no row was read.
     STATUS = { name: "status", label: "Status", outputs: RESULTS_PARQUET,
-        get: |r| Value::Text(Some(if a(r).excused.is_some() { "excused" } else { "graded" })), }
+        get: |r| Value::Text(Some(if a(r).submission.no_submission {
+            "no-submission"
+        } else if a(r).excused.is_some() {
+            "excused"
+        } else {
+            "graded"
+        })), }
+    /// What graders' corrections (`--corrections`) changed in the row, each with who and why.
+    CORRECTIONS = { name: "corrections", label: "Corrections", kind: Kind::List { sep: "; " },
+        get: |r| Value::Items(Items::Texts(a(r).submission.corrections.as_slice())), }
 }
 
 #[cfg(test)]

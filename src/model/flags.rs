@@ -21,6 +21,9 @@ pub enum Flag {
     OutsideCalibratedSpan,
     Outlier,
     SingleReading,
+    NotOnRoster,
+    NameMismatch,
+    OtherSection,
 }
 
 /// Whether a flag marks an entry that cannot be true or one that only looks wrong.
@@ -49,7 +52,7 @@ impl Severity {
 }
 
 impl Flag {
-    pub const ALL: [Flag; 16] = [
+    pub const ALL: [Flag; 19] = [
         Flag::RecoveryOver100,
         Flag::RangeInverted,
         Flag::AboveReference,
@@ -66,6 +69,9 @@ impl Flag {
         Flag::OutsideCalibratedSpan,
         Flag::Outlier,
         Flag::SingleReading,
+        Flag::NotOnRoster,
+        Flag::NameMismatch,
+        Flag::OtherSection,
     ];
 
     pub fn code(self) -> &'static str {
@@ -86,6 +92,9 @@ impl Flag {
             Flag::OutsideCalibratedSpan => "outside-calibrated-span",
             Flag::Outlier => "outlier",
             Flag::SingleReading => "single-reading",
+            Flag::NotOnRoster => "not-on-roster",
+            Flag::NameMismatch => "name-mismatch",
+            Flag::OtherSection => "other-section",
         }
     }
 
@@ -98,7 +107,9 @@ impl Flag {
             | Flag::SolventBelowMinimum
             | Flag::OutsideCalibratedSpan
             | Flag::Outlier
-            | Flag::SingleReading => Severity::Suspicious,
+            | Flag::SingleReading
+            | Flag::NameMismatch
+            | Flag::OtherSection => Severity::Suspicious,
             _ => Severity::Impossible,
         }
     }
@@ -123,6 +134,9 @@ impl Flag {
             Flag::OutsideCalibratedSpan => "a reading beyond the temperatures of the apparatus's calibration standards",
             Flag::Outlier => "recovery or depression far from the section's median (robust z-score beyond 3.5, in a section of at least outlier_min_n rows)",
             Flag::SingleReading => "the melting entry is one temperature, not a range: its width was not measured",
+            Flag::NotOnRoster => "the student id is not on the roster (--roster): most often a typing slip; the likely enrolled id is named when one is a slip away and its name agrees",
+            Flag::NameMismatch => "the name on the sheet is not the roster's for this id (compared without case, accents, punctuation or order)",
+            Flag::OtherSection => "the student is enrolled in another section than the one the row was submitted in; graded where submitted",
         }
     }
 
@@ -146,6 +160,9 @@ impl Flag {
             Flag::OutsideCalibratedSpan => "a reading outside the calibrated span",
             Flag::Outlier => "far from the rest of the section",
             Flag::SingleReading => "one temperature is not a range",
+            Flag::NotOnRoster => "the id is not on the roster",
+            Flag::NameMismatch => "the name is not the roster's",
+            Flag::OtherSection => "submitted in another section",
         }
     }
 }

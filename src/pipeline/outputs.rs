@@ -185,7 +185,10 @@ impl Tallies {
                 .then(|| BookPlan::new(&config.out_dir, config.split_sections)),
             stats: SectionStats::default(),
             cohort: Cohort::default(),
-            quality: Quality::default(),
+            quality: Quality {
+                with_roster: config.roster.is_some(),
+                ..Quality::default()
+            },
             parquet: ParquetRows::create(
                 &config.out_dir.join("results.parquet"),
                 config.pseudonyms.clone(),
@@ -207,7 +210,8 @@ impl Tallies {
         if let (false, Some(l)) = (g.assessed.has(Flag::DuplicateStudent), &g.score.letter) {
             *self.letters.entry(l.clone()).or_default() += 1;
         }
-        if let Some(plan) = self.plan.as_mut() {
+        // a row made from the roster has no sheet to write back into
+        if let (Some(plan), false) = (self.plan.as_mut(), g.assessed.submission.no_submission) {
             let s = &g.assessed.submission;
             plan.book(&s.source, &s.section);
         }
@@ -217,7 +221,7 @@ impl Tallies {
 
     /// Follows the handouts' section limit as the text thread meets it (same rows, same order).
     fn count_handout(&mut self, g: &Graded) {
-        if g.assessed.has(Flag::DuplicateStudent) {
+        if g.assessed.has(Flag::DuplicateStudent) || g.assessed.submission.no_submission {
             return;
         }
         let section = &g.assessed.submission.section;

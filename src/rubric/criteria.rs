@@ -166,6 +166,42 @@ pub struct Grading {
     /// Which of a student's repeated submissions in a section counts: "first" or "last".
     #[serde(default)]
     pub duplicates: Counted,
+    /// The score of a rostered student with no submission (`--roster`): "blank" (the default:
+    /// no score, and left out of the score's statistics) or a number of points.
+    #[serde(default)]
+    pub no_submission: NoSubmission,
+}
+
+/// What a rostered student who submitted nothing scores.
+#[derive(Clone, Copy, Debug, Default, PartialEq, Serialize, Deserialize)]
+#[serde(untagged)]
+pub enum NoSubmission {
+    /// "blank": no score.
+    #[default]
+    #[serde(with = "blank")]
+    Blank,
+    /// A number of points.
+    Points(f64),
+}
+
+/// The word "blank" as the unit variant `NoSubmission::Blank`.
+mod blank {
+    use serde::{de::Error, Deserialize, Deserializer, Serializer};
+
+    pub fn serialize<S: Serializer>(s: S) -> Result<S::Ok, S::Error> {
+        s.serialize_str("blank")
+    }
+
+    pub fn deserialize<'de, D: Deserializer<'de>>(d: D) -> Result<(), D::Error> {
+        let word = String::deserialize(d)?;
+        if word == "blank" {
+            Ok(())
+        } else {
+            Err(D::Error::custom(format!(
+                "no_submission is \"blank\" or a number of points, not \"{word}\""
+            )))
+        }
+    }
 }
 
 /// Which of a student's repeated submissions in a section counts.

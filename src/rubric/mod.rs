@@ -7,6 +7,7 @@ use std::path::Path;
 
 use serde::{Deserialize, Serialize};
 
+pub mod corrections;
 pub mod criteria;
 pub mod overrides;
 pub mod score;

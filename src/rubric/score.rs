@@ -2,6 +2,7 @@
 //! then any overrides, and a sentence for every point given or taken.
 
 use super::criteria::Criterion;
+use super::criteria::NoSubmission;
 use super::overrides::Override;
 use super::Rubric;
 use crate::compare::settle;
@@ -332,6 +333,47 @@ fn excused(rubric: &Rubric, why: &str, overrides: &[&Override]) -> Score {
     }
 }
 
+/// The grade of a rostered student of whom no row was read: the rubric's `no_submission`,
+/// blank (no score, as an excused student's) or a number of points.
+fn no_submission(rubric: &Rubric, likely_typed_as: Option<&str>) -> Score {
+    let max: f64 = rubric.criteria.iter().map(|c| *c.max.get_ref()).sum();
+    let likely = likely_typed_as.map_or(String::new(), |id| {
+        format!("; A row with id {id}, which is not on the roster, is one typing slip from this student's id and has the same name: it is likely this student's (confirm the id with a correction)")
+    });
+    match rubric.grading.no_submission {
+        NoSubmission::Blank => Score {
+            max,
+            feedback: format!(
+                "No submission: no report was received under this student's id{likely}; not graded."
+            ),
+            excused: true,
+            ..Score::default()
+        },
+        NoSubmission::Points(p) => {
+            let percent = if max > 0.0 { 100.0 * p / max } else { 0.0 };
+            let letter = rubric.grading.letter(percent);
+            let mut feedback = format!(
+                "No submission: {} points (the rubric's score for a report never received){likely}; Total {} of {}",
+                points(p),
+                points(p),
+                points(max)
+            );
+            if let Some(l) = &letter {
+                feedback = format!("{feedback} ({l})");
+            }
+            feedback.push('.');
+            Score {
+                total: p,
+                max,
+                percent,
+                letter,
+                feedback,
+                ..Score::default()
+            }
+        }
+    }
+}
+
 /// Reads a feedback text back and checks that the points it names add up to the total it
 /// states: each criterion's "P of M points", each deduction, floor, cap and rounding step's
 /// signed points, each total override's change. `labels` are the rubric's criterion labels.
@@ -366,6 +408,10 @@ pub fn audit_feedback(feedback: &str, labels: &[&str]) -> Result<f64, String> {
                 .ok_or_else(|| format!("no change in \"{s}\""))?;
             let after = after.split(' ').next().and_then(num);
             sum += after.zip(num(before)).map_or(f64::NAN, |(a, b)| a - b);
+        } else if let Some(rest) = s.strip_prefix("No submission: ") {
+            if let Some((p, _)) = rest.split_once(" points") {
+                sum += num(p).ok_or_else(|| format!("no points in \"{s}\""))?;
+            }
         } else if let Some(rest) = s.strip_prefix("Total ") {
             stated = rest.split(' ').next().and_then(num);
         }
@@ -382,8 +428,26 @@ pub fn audit_feedback(feedback: &str, labels: &[&str]) -> Result<f64, String> {
 
 /// Grades one assessed row.
 pub fn score(rubric: &Rubric, a: &Assessed, overrides: &[&Override]) -> Score {
+    let mut s = score_row(rubric, a, overrides);
+    // graders' corrections of what was typed come first, each a sentence of its own
+    if !a.submission.corrections.is_empty() {
+        let mut said = String::new();
+        for c in &a.submission.corrections {
+            said.push_str("Correction: ");
+            said.push_str(&c.replace("; ", ", "));
+            said.push_str("; ");
+        }
+        s.feedback = said + &s.feedback;
+    }
+    s
+}
+
+fn score_row(rubric: &Rubric, a: &Assessed, overrides: &[&Override]) -> Score {
     if let Some(why) = &a.excused {
         return excused(rubric, why, overrides);
+    }
+    if a.submission.no_submission {
+        return no_submission(rubric, a.submission.likely_typed_as.as_deref());
     }
     let mut s = Scoring::measure(rubric, a);
     s.apply_flags(a, overrides);

@@ -73,7 +73,7 @@ pub const SUMMARY_COLUMNS: [&str; 13] = [
 /// Columns appended after `SUMMARY_COLUMNS` in section-stats.csv and the Statistics sheets:
 /// rows left out of the measure for impossible entries, excused students, and rows that count
 /// but hold no value for it (n + excluded + excused + missing is every row of the section).
-pub const LEFT_OUT_COLUMNS: [&str; 3] = ["excluded", "excused", "missing"];
+pub const LEFT_OUT_COLUMNS: [&str; 4] = ["excluded", "excused", "missing", "no_submission"];
 
 /// Linear inclusive quantile of sorted data: h = (n - 1) p, interpolated between neighbours.
 pub fn quantile_sorted(sorted: &[f64], p: f64) -> f64 {

@@ -18,12 +18,29 @@ pub struct GroupQuality {
     pub impossible: usize,
     pub suspicious: usize,
     pub missing: usize,
+    /// With a roster: rostered students graded or missing here (a student who submitted in
+    /// another section than their own counts where they submitted, flagged other-section).
+    pub enrolled: usize,
+    /// With a roster: rostered students of whom no row was read.
+    pub no_submission: usize,
+    /// With a roster: graded rows whose id is not on it.
+    pub not_on_roster: usize,
     scores: Vec<f64>,
 }
 
 impl GroupQuality {
     fn add(&mut self, g: &Graded) {
         let a = &g.assessed;
+        if a.submission.no_submission {
+            self.no_submission += 1;
+            self.enrolled += 1;
+            return;
+        }
+        if a.has(Flag::NotOnRoster) {
+            self.not_on_roster += 1;
+        } else {
+            self.enrolled += 1;
+        }
         if a.excused.is_some() {
             self.excused += 1;
             return;
@@ -68,11 +85,25 @@ impl GroupQuality {
     }
 }
 
+/// A rostered student of whom no row was read.
+#[derive(Clone, Debug, PartialEq)]
+pub struct Missing {
+    pub section: String,
+    pub id: String,
+    pub name: String,
+    /// The id of a row not on the roster that is likely this student's.
+    pub likely_typed_as: Option<String>,
+}
+
 /// Data quality by section and by assistant, in name order.
 #[derive(Clone, Debug, Default)]
 pub struct Quality {
     pub sections: BTreeMap<String, GroupQuality>,
     pub assistants: BTreeMap<String, GroupQuality>,
+    /// A roster was given: the tables show enrolment.
+    pub with_roster: bool,
+    /// The rostered students of whom no row was read, in roster order.
+    pub no_submission: Vec<Missing>,
 }
 
 impl Quality {
@@ -82,6 +113,14 @@ impl Quality {
             return;
         }
         let s = &a.submission;
+        if s.no_submission {
+            self.no_submission.push(Missing {
+                section: s.section.clone(),
+                id: s.student_id.clone().unwrap_or_default(),
+                name: s.student_name.clone().unwrap_or_default(),
+                likely_typed_as: s.likely_typed_as.clone(),
+            });
+        }
         self.sections.entry(s.section.clone()).or_default().add(g);
         if let Some(ta) = s
             .assistant

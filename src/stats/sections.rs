@@ -15,6 +15,11 @@ pub struct Group {
     pub rows: usize,
     /// Students excused (withdrawn, absent, exempt): left out of every statistic.
     pub excused: usize,
+    /// Rostered students with no submission: left out of every statistic but the score, and of
+    /// that unless the rubric scores them (`grading.no_submission`).
+    pub no_submission: usize,
+    /// Of those, the ones the rubric gave a score (counted in the score's statistics).
+    no_submission_scored: usize,
     /// The values of each summarised measure, in the order of `SectionStats::measures`.
     values: Vec<Vec<f64>>,
     /// For each summarised measure, how many rows were left out of it.
@@ -42,8 +47,10 @@ pub struct SectionSummary<'a> {
     /// Excused students of the section.
     pub excused: usize,
     /// Rows that count for the measure but hold no value for it (a blank mass, a missing
-    /// reading): with `n`, `excluded` and `excused`, every row of the section.
+    /// reading): with `n`, `excluded`, `excused` and `no_submission`, every row of the section.
     pub missing: usize,
+    /// Rostered students of the section with no submission.
+    pub no_submission: usize,
 }
 
 /// Statistics for every section of the batch, in section-name order.
@@ -64,6 +71,16 @@ impl Default for SectionStats {
 }
 
 impl Group {
+    /// A rostered student with no submission: counted apart; a score the rubric gives a
+    /// missing report counts (at `score`, the score's place among the measures), nothing else.
+    fn add_no_submission(&mut self, score: Option<usize>, g: &Graded) {
+        self.no_submission += 1;
+        if let (Some(i), Some(v)) = (score, Measure::SCORE.value(g.row())) {
+            self.values[i].push(v);
+            self.no_submission_scored += 1;
+        }
+    }
+
     /// The values of a summarised measure; `None` for a measure that is not summarised.
     pub fn values(&self, stats: &SectionStats, m: Measure) -> Option<&[f64]> {
         let i = stats.measures.iter().position(|x| *x == m)?;
@@ -87,6 +104,11 @@ impl SectionStats {
         group.rows += 1;
         if a.excused.is_some() {
             group.excused += 1;
+            return;
+        }
+        if s.no_submission {
+            let score = self.measures.iter().position(|m| *m == Measure::SCORE);
+            group.add_no_submission(score, g);
             return;
         }
         for (f, _) in &a.flags {
@@ -156,6 +178,11 @@ impl SectionStats {
                     excluded: g.left_out.get(i).copied().unwrap_or(0),
                     excused: g.excused,
                     missing: g.missing.get(i).copied().unwrap_or(0),
+                    no_submission: if *m == Measure::SCORE {
+                        g.no_submission - g.no_submission_scored
+                    } else {
+                        g.no_submission
+                    },
                 });
             }
         }

@@ -24,6 +24,7 @@ mod real_files;
 mod reference_data;
 mod registry;
 mod reliability;
+mod roster;
 mod sample_data;
 mod serve;
 mod serve_client;

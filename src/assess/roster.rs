@@ -1,0 +1,260 @@
+//! Submissions against the roster: a row whose id is not enrolled (with the enrolled id it was
+//! most likely meant to be), a name that is not the enrolled student's, a student graded in a
+//! section other than their own, and the enrolled students of whom no row was read.
+//!
+//! Typed ids go wrong in two ways above all (common practice in data entry): one character
+//! wrong, left out or added, and two adjacent characters swapped. An id within one such slip
+//! of an enrolled id whose name agrees is offered as the likely one; the grader confirms it.
+
+use std::collections::{HashMap, HashSet};
+
+use crate::ingest::roster::Enrolled;
+use crate::ingest::Submission;
+use crate::model::Flag;
+
+/// The enrolled students, by id.
+#[derive(Clone, Debug, Default)]
+pub struct Roster {
+    students: Vec<Enrolled>,
+    by_id: HashMap<String, usize>,
+    /// The file it was read from, for the rows it adds.
+    pub source: String,
+}
+
+impl Roster {
+    pub fn new(students: Vec<Enrolled>, source: &str) -> Roster {
+        let by_id = students
+            .iter()
+            .enumerate()
+            .map(|(i, s)| (s.id.trim().to_string(), i))
+            .collect();
+        Roster {
+            students,
+            by_id,
+            source: source.to_string(),
+        }
+    }
+
+    pub fn students(&self) -> &[Enrolled] {
+        &self.students
+    }
+
+    pub fn get(&self, id: &str) -> Option<&Enrolled> {
+        self.by_id.get(id.trim()).map(|&i| &self.students[i])
+    }
+
+    /// The roster's flags for a submission: `not-on-roster` (with the likely enrolled id),
+    /// `name-mismatch`, `other-section`.
+    pub fn flags(&self, s: &Submission) -> Vec<(Flag, String)> {
+        let Some(id) = s.student_id.as_deref().map(str::trim) else {
+            return Vec::new();
+        };
+        let Some(enrolled) = self.get(id) else {
+            return vec![(Flag::NotOnRoster, self.not_on_roster(id, s))];
+        };
+        let mut out = Vec::new();
+        if let (Some(given), Some(listed)) = (s.student_name.as_deref(), enrolled.name.as_deref()) {
+            if !same_person(given, listed) {
+                out.push((
+                    Flag::NameMismatch,
+                    format!("the roster lists this id as \"{listed}\", the sheet as \"{given}\""),
+                ));
+            }
+        }
+        if let Some(section) = &enrolled.section {
+            if crate::model::section_key(section) != crate::model::section_key(&s.section) {
+                out.push((
+                    Flag::OtherSection,
+                    format!(
+                        "enrolled in section {section}, submitted in section {}; graded where it was submitted",
+                        s.section
+                    ),
+                ));
+            }
+        }
+        out
+    }
+
+    /// The one enrolled student a row not on the roster is likely to be: an id one typing
+    /// slip away whose name agrees; `None` when there is none, or more than one.
+    pub fn likely(&self, s: &Submission) -> Option<&Enrolled> {
+        let id = s.student_id.as_deref()?.trim();
+        if self.get(id).is_some() {
+            return None;
+        }
+        let near: Vec<&Enrolled> = self
+            .students
+            .iter()
+            .filter(|e| one_slip(id, &e.id))
+            .filter(|e| match (s.student_name.as_deref(), e.name.as_deref()) {
+                (Some(a), Some(b)) => same_person(a, b),
+                _ => false,
+            })
+            .collect();
+        match near.as_slice() {
+            [one] => Some(one),
+            _ => None,
+        }
+    }
+
+    fn not_on_roster(&self, id: &str, s: &Submission) -> String {
+        match self.likely(s) {
+            Some(one) => format!(
+                "id {id} is not on the roster; it is one typing slip from {} ({}), whose name agrees: confirm with a correction",
+                one.id,
+                one.name.as_deref().unwrap_or("")
+            ),
+            None => format!("id {id} is not on the roster; no enrolled id within one typing slip has this name"),
+        }
+    }
+
+    /// The enrolled students none of whose ids is in `seen` (trimmed ids), in roster order.
+    pub fn missing<'a>(&'a self, seen: &'a HashSet<String>) -> impl Iterator<Item = &'a Enrolled> {
+        self.students.iter().filter(|e| !seen.contains(e.id.trim()))
+    }
+}
+
+/// Whether two ids differ by one typing slip: one character changed, left out or added, or two
+/// adjacent characters swapped (the optimal string alignment distance is 1).
+pub fn one_slip(a: &str, b: &str) -> bool {
+    let (a, b): (Vec<char>, Vec<char>) = (a.trim().chars().collect(), b.trim().chars().collect());
+    if a == b {
+        return false;
+    }
+    match a.len() as i64 - b.len() as i64 {
+        0 => {
+            let diff: Vec<usize> = (0..a.len()).filter(|&i| a[i] != b[i]).collect();
+            match diff.as_slice() {
+                [_] => true,
+                [i, j] => *j == i + 1 && a[*i] == b[*j] && a[*j] == b[*i],
+                _ => false,
+            }
+        }
+        1 => dropped_one(&a, &b),
+        -1 => dropped_one(&b, &a),
+        _ => false,
+    }
+}
+
+/// Whether `short` is `long` with one character left out.
+fn dropped_one(long: &[char], short: &[char]) -> bool {
+    let first = (0..short.len())
+        .find(|&i| long[i] != short[i])
+        .unwrap_or(short.len());
+    long[first + 1..] == short[first..]
+}
+
+/// Whether two names are one person's: compared without case, accents or punctuation, and in
+/// any order of their parts ("Pérez, Ana" is "ana perez").
+pub fn same_person(a: &str, b: &str) -> bool {
+    let parts = |s: &str| {
+        let mut p: Vec<String> = fold(s)
+            .split(|c: char| !c.is_alphanumeric())
+            .filter(|w| !w.is_empty())
+            .map(str::to_string)
+            .collect();
+        p.sort();
+        p
+    };
+    let (pa, pb) = (parts(a), parts(b));
+    !pa.is_empty() && pa == pb
+}
+
+/// Lower case without accents (the Latin letters of the languages benchgrade's sheets come in).
+pub fn fold(s: &str) -> String {
+    s.chars()
+        .flat_map(char::to_lowercase)
+        .map(|c| match c {
+            'à' | 'á' | 'â' | 'ã' | 'ä' | 'å' | 'ā' | 'ă' | 'ą' => 'a',
+            'ç' | 'ć' | 'č' => 'c',
+            'ď' | 'đ' => 'd',
+            'è' | 'é' | 'ê' | 'ë' | 'ē' | 'ė' | 'ę' | 'ě' => 'e',
+            'ì' | 'í' | 'î' | 'ï' | 'ī' | 'į' => 'i',
+            'ñ' | 'ń' | 'ň' => 'n',
+            'ò' | 'ó' | 'ô' | 'õ' | 'ö' | 'ø' | 'ō' | 'ő' => 'o',
+            'ù' | 'ú' | 'û' | 'ü' | 'ū' | 'ů' | 'ű' => 'u',
+            'ý' | 'ÿ' => 'y',
+            'ś' | 'š' | 'ş' => 's',
+            'ź' | 'ż' | 'ž' => 'z',
+            'ł' => 'l',
+            'ř' => 'r',
+            'ť' | 'ţ' => 't',
+            'ğ' => 'g',
+            other => other,
+        })
+        .collect()
+}
+
+#[cfg(test)]
+mod tests {
+    use super::*;
+
+    fn enrolled(id: &str, name: &str, section: &str) -> Enrolled {
+        Enrolled {
+            id: id.into(),
+            name: Some(name.into()),
+            section: Some(section.into()),
+            assistant: None,
+            place: String::new(),
+        }
+    }
+
+    #[test]
+    fn typing_slips_are_one_edit_or_one_swap() {
+        // common practice (Damerau's single errors): a transposition, a dropped, added or
+        // changed character
+        assert!(one_slip("2026143", "2026134"));
+        assert!(one_slip("202614", "2026143"));
+        assert!(one_slip("20261433", "2026143"));
+        assert!(one_slip("2026153", "2026143"));
+        assert!(!one_slip("2026143", "2026143"));
+        assert!(!one_slip("2026143", "2061243"));
+        assert!(!one_slip("2026143", "2026314"));
+        assert!(!one_slip("20261", "2026143"));
+    }
+
+    #[test]
+    fn names_agree_without_case_accents_punctuation_or_order() {
+        assert!(same_person("Pérez, Ana", "ana perez"));
+        assert!(same_person("O'Neil Bo", "bo o neil"));
+        assert!(!same_person("Ana Perez", "Ana Pereira"));
+        assert!(!same_person("", ""));
+    }
+
+    #[test]
+    fn flags_name_the_likely_id_the_name_and_the_section() {
+        let r = Roster::new(
+            vec![
+                enrolled("2026143", "Quinn Marchetti", "01"),
+                enrolled("2026150", "Yusuf Galloway", "02"),
+            ],
+            "roster.csv",
+        );
+        let sub = |id: &str, name: &str, section: &str| Submission {
+            student_id: Some(id.into()),
+            student_name: Some(name.into()),
+            section: section.into(),
+            ..Submission::default()
+        };
+        let f = r.flags(&sub("2026134", "Marchetti, Quinn", "Sec 01"));
+        assert_eq!(f.len(), 1);
+        assert_eq!(f[0].0, Flag::NotOnRoster);
+        assert!(
+            f[0].1.contains("one typing slip from 2026143"),
+            "{}",
+            f[0].1
+        );
+        // a near id whose name disagrees is not offered
+        let f = r.flags(&sub("2026134", "Someone Else", "01"));
+        assert!(f[0].1.contains("no enrolled id"), "{}", f[0].1);
+        assert!(r
+            .flags(&sub("2026143", "Quinn Marchetti", "Section 1"))
+            .is_empty());
+        let f = r.flags(&sub("2026143", "Quinn Marcetti", "02"));
+        let codes: Vec<Flag> = f.iter().map(|x| x.0).collect();
+        assert_eq!(codes, vec![Flag::NameMismatch, Flag::OtherSection]);
+        let seen: HashSet<String> = ["2026143".to_string()].into();
+        let missing: Vec<&str> = r.missing(&seen).map(|e| e.id.as_str()).collect();
+        assert_eq!(missing, vec!["2026150"]);
+    }
+}

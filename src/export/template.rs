@@ -1,0 +1,407 @@
+//! Entry workbooks made from the roster (`benchgrade template`): one workbook per section (or
+//! one with a sheet per section) for assistants to type into, so that the entries benchgrade
+//! would flag are refused at the moment they are typed. Each sheet has a title block, a header
+//! in benchgrade's own words for the fields the rubric grades, a units row, the rostered ids and
+//! names filled in and locked, and every entry cell unlocked with a data-validation rule that
+//! explains itself; rows still missing an entry are shaded; an instructions sheet carries the
+//! usual safety cautions. The sheets read back with no mapping file.
+
+use std::path::{Path, PathBuf};
+
+use rust_xlsxwriter::{
+    Color, ConditionalFormatFormula, DataValidation, DataValidationErrorStyle, DataValidationRule,
+    DocProperties, ExcelDateTime, Format, FormatAlign, FormatBorder, Formula, Workbook, Worksheet,
+    XlsxError,
+};
+
+use super::atomic::{save_workbook, Stage};
+use super::workbook::{file_stem, sheet_name};
+use crate::error::WriteError;
+use crate::ingest::roster::Enrolled;
+use crate::model::Measure;
+use crate::rubric::Rubric;
+
+/// The heaviest mass a template accepts, in grams: far above any teaching-scale product, so
+/// that only a slip (a milligram figure typed as grams) is refused.
+pub const MAX_MASS_G: f64 = 100.0;
+/// The span of temperatures a melting-point apparatus reads, in °C (common practice: the
+/// usual oil-bath and block instruments read from room temperature to about 300-400 °C).
+pub const SPAN_C: (f64, f64) = (20.0, 400.0);
+/// Status words the drop-down offers (an empty cell: the student is graded).
+pub const STATUS_WORDS: [&str; 4] = ["W", "excused", "absent", "exempt"];
+
+/// What a template asks for.
+#[derive(Clone, Copy, Debug, PartialEq, Eq)]
+enum Entry {
+    CrudeMass,
+    RecoveredMass,
+    Solvent,
+    Onset,
+    Clear,
+    Reported,
+    Status,
+    Notes,
+}
+
+impl Entry {
+    /// Header and unit, in words benchgrade reads without a mapping.
+    fn header(self) -> (&'static str, &'static str) {
+        match self {
+            Entry::CrudeMass => ("Crude mass", "g"),
+            Entry::RecoveredMass => ("Recovered mass", "g"),
+            Entry::Solvent => ("Solvent volume", "mL"),
+            Entry::Onset => ("Melting onset", "°C"),
+            Entry::Clear => ("Clear point", "°C"),
+            Entry::Reported => ("Reported recovery", "%"),
+            Entry::Status => ("Status", ""),
+            Entry::Notes => ("Notes", ""),
+        }
+    }
+
+    /// Whether a row is unfinished while the cell is empty.
+    fn required(self) -> bool {
+        matches!(
+            self,
+            Entry::CrudeMass | Entry::RecoveredMass | Entry::Onset | Entry::Clear
+        )
+    }
+}
+
+/// The entries for the rubric: masses and the melting range always, the solvent volume, the
+/// reported recovery where a criterion scores it, a status and notes.
+fn entries(rubric: &Rubric) -> Vec<Entry> {
+    let scores = |m: Measure| rubric.criteria.iter().any(|c| c.measure() == Some(m));
+    let mut e = vec![
+        Entry::CrudeMass,
+        Entry::RecoveredMass,
+        Entry::Solvent,
+        Entry::Onset,
+        Entry::Clear,
+    ];
+    if scores(Measure::REPORT_ERROR) {
+        e.push(Entry::Reported);
+    }
+    e.extend([Entry::Status, Entry::Notes]);
+    e
+}
+
+/// Options of `benchgrade template`.
+pub struct TemplateOptions<'a> {
+    pub roster: &'a [Enrolled],
+    pub rubric: &'a Rubric,
+    /// The title block's first line: course, term, experiment.
+    pub title: &'a str,
+    pub out_dir: &'a Path,
+    pub one_workbook: bool,
+    pub timestamp: i64,
+}
+
+/// A section and its students, in roster order.
+type Section<'a> = (String, Vec<&'a Enrolled>);
+
+/// The sections of the roster in natural order, each with its students in roster order.
+fn sections(roster: &[Enrolled]) -> Vec<Section<'_>> {
+    let mut out: Vec<Section<'_>> = Vec::new();
+    for e in roster {
+        let s = e.section.clone().unwrap_or_else(|| "all".into());
+        match out.iter_mut().find(|(name, _)| *name == s) {
+            Some((_, v)) => v.push(e),
+            None => out.push((s, vec![e])),
+        }
+    }
+    out.sort_by(|a, b| crate::stats::cohort::natural_cmp(&a.0, &b.0));
+    out
+}
+
+/// Writes the entry workbooks into `out_dir`; the paths written.
+pub fn write(o: &TemplateOptions, stage: &Stage) -> Result<Vec<PathBuf>, WriteError> {
+    let entries = entries(o.rubric);
+    let groups = sections(o.roster);
+    let mut written = Vec::new();
+    let books: Vec<(PathBuf, Vec<&Section>)> = if o.one_workbook {
+        vec![(o.out_dir.join("entry-sheets.xlsx"), groups.iter().collect())]
+    } else {
+        groups
+            .iter()
+            .map(|g| {
+                let path = o.out_dir.join(format!("{}-entry.xlsx", file_stem(&g.0)));
+                (path, vec![g])
+            })
+            .collect()
+    };
+    for (path, sheets) in books {
+        let mut wb = build(o, &entries, &sheets).map_err(|e| WriteError::other(&path, e))?;
+        save_workbook(&mut wb, &path, stage)?;
+        written.push(path);
+    }
+    Ok(written)
+}
+
+fn build(
+    o: &TemplateOptions,
+    entries: &[Entry],
+    sheets: &[&Section],
+) -> Result<Workbook, XlsxError> {
+    let mut wb = Workbook::new();
+    let mut names: Vec<String> = vec!["Instructions".into()];
+    instructions(wb.add_worksheet(), o, entries)?;
+    for (section, students) in sheets.iter().map(|g| (&g.0, &g.1)) {
+        let name = sheet_name(section, &names);
+        names.push(name.clone());
+        let ws = wb.add_worksheet();
+        ws.set_name(&name)?;
+        entry_sheet(ws, o, entries, section, students)?;
+    }
+    let when = ExcelDateTime::from_timestamp(o.timestamp)?;
+    wb.set_properties(
+        &DocProperties::new()
+            .set_creation_datetime(&when)
+            .set_title("Entry sheet"),
+    );
+    Ok(wb)
+}
+
+/// Column letters of a 0-based column (A..Z, AA..).
+fn letter(col: u16) -> String {
+    let mut n = u32::from(col) + 1;
+    let mut s = String::new();
+    while n > 0 {
+        let r = (n - 1) % 26;
+        s.insert(0, char::from(b'A' + r as u8));
+        n = (n - 1) / 26;
+    }
+    s
+}
+
+/// The first rows: title, section, assistant; the header row follows a blank.
+const HEADER_ROW: u32 = 4;
+const FIRST_ENTRY_COL: u16 = 2;
+
+fn entry_sheet(
+    ws: &mut Worksheet,
+    o: &TemplateOptions,
+    entries: &[Entry],
+    section: &str,
+    students: &[&Enrolled],
+) -> Result<(), XlsxError> {
+    let bold = Format::new().set_bold();
+    let head = Format::new()
+        .set_bold()
+        .set_text_wrap()
+        .set_align(FormatAlign::Top)
+        .set_background_color(Color::RGB(0x00D9_E4EC))
+        .set_border(FormatBorder::Thin);
+    let locked = Format::new().set_border(FormatBorder::Thin);
+    let open = Format::new()
+        .set_unlocked()
+        .set_border(FormatBorder::Thin)
+        .set_background_color(Color::RGB(0x00FF_FFFF));
+    ws.write_string_with_format(0, 0, o.title, &Format::new().set_bold().set_font_size(13))?;
+    ws.write_string(1, 0, format!("Section: {section}"))?;
+    let assistant = students.iter().find_map(|s| s.assistant.as_deref());
+    ws.write_string(2, 0, format!("TA: {}", assistant.unwrap_or("")))?;
+    ws.set_row_height(HEADER_ROW, 32.0)?;
+    ws.write_string_with_format(HEADER_ROW, 0, "Student ID", &head)?;
+    ws.write_string_with_format(HEADER_ROW, 1, "Name", &head)?;
+    ws.write_string_with_format(HEADER_ROW + 1, 0, "", &bold)?;
+    for (i, e) in entries.iter().enumerate() {
+        let (h, unit) = e.header();
+        let c = FIRST_ENTRY_COL + i as u16;
+        ws.write_string_with_format(HEADER_ROW, c, h, &head)?;
+        ws.write_string(HEADER_ROW + 1, c, unit)?;
+        ws.set_column_width(c, if *e == Entry::Notes { 30 } else { 12 })?;
+    }
+    ws.set_column_width(0, 12)?;
+    ws.set_column_width(1, 26)?;
+    let first = HEADER_ROW + 2;
+    for (k, s) in students.iter().enumerate() {
+        let r = first + k as u32;
+        ws.write_string_with_format(r, 0, &s.id, &locked)?;
+        ws.write_string_with_format(r, 1, s.name.as_deref().unwrap_or(""), &locked)?;
+        for i in 0..entries.len() {
+            ws.write_blank(r, FIRST_ENTRY_COL + i as u16, &open)?;
+        }
+    }
+    if !students.is_empty() {
+        let last = first + students.len() as u32 - 1;
+        validations(ws, entries, first, last)?;
+        missing_shade(ws, entries, first, last)?;
+    }
+    ws.set_freeze_panes(first, FIRST_ENTRY_COL)?;
+    ws.protect();
+    ws.set_landscape();
+    ws.set_print_fit_to_pages(1, 0);
+    ws.set_repeat_rows(HEADER_ROW, HEADER_ROW + 1)?;
+    Ok(())
+}
+
+/// Where each entry is, by column letter.
+fn column_of(entries: &[Entry], e: Entry) -> Option<String> {
+    entries
+        .iter()
+        .position(|x| *x == e)
+        .map(|i| letter(FIRST_ENTRY_COL + i as u16))
+}
+
+fn rule(
+    input: (&str, &str),
+    error: (&str, &str),
+    v: DataValidation,
+) -> Result<DataValidation, XlsxError> {
+    v.set_input_title(input.0)?
+        .set_input_message(input.1)?
+        .set_error_title(error.0)?
+        .set_error_message(error.1)
+        .map(|v| v.set_error_style(DataValidationErrorStyle::Stop))
+}
+
+/// A data-validation rule with its messages on every entry cell.
+fn validations(
+    ws: &mut Worksheet,
+    entries: &[Entry],
+    first: u32,
+    last: u32,
+) -> Result<(), XlsxError> {
+    let at = |e: Entry| column_of(entries, e).map(|c| format!("{c}{}", first + 1));
+    for (i, e) in entries.iter().enumerate() {
+        let col = FIRST_ENTRY_COL + i as u16;
+        let v = match e {
+            Entry::CrudeMass => rule(
+                ("Crude mass", "The crude product's mass in grams, as weighed (for example 2.84)."),
+                ("Not a mass in grams", "Type the crude mass in grams: a number above 0 and below 100 (a figure in milligrams divided by 1000)."),
+                DataValidation::new().allow_decimal_number(DataValidationRule::Between(0.0001, MAX_MASS_G)),
+            )?,
+            Entry::RecoveredMass => {
+                let me = at(Entry::RecoveredMass).unwrap_or_default();
+                let crude = at(Entry::CrudeMass).unwrap_or_default();
+                rule(
+                    ("Recovered mass", "The dry recrystallized product's mass in grams; at most the crude mass."),
+                    ("Recovered more than crude", "The recovered mass must be a number in grams above 0 and at most the crude mass beside it: check the weighing and that the product was dry."),
+                    DataValidation::new().allow_custom(Formula::new(format!(
+                        "=AND(ISNUMBER({me}),{me}>0,{me}<={MAX_MASS_G},OR({crude}=\"\",{me}<={crude}))"
+                    ))),
+                )?
+            }
+            Entry::Solvent => rule(
+                ("Solvent volume", "The volume of solvent used, in millilitres."),
+                ("Not a volume in mL", "Type the solvent volume in millilitres: a number above 0 and below 1000."),
+                DataValidation::new().allow_decimal_number(DataValidationRule::Between(0.0, 1000.0)),
+            )?,
+            Entry::Onset | Entry::Clear => {
+                let onset = at(Entry::Onset).unwrap_or_default();
+                let clear = at(Entry::Clear).unwrap_or_default();
+                let me = if *e == Entry::Onset { &onset } else { &clear };
+                let (lo, hi) = SPAN_C;
+                rule(
+                    if *e == Entry::Onset {
+                        ("Melting onset", "The temperature in °C at which the first drop of liquid appeared.")
+                    } else {
+                        ("Clear point", "The temperature in °C at which the last crystal melted; at least the onset.")
+                    },
+                    ("Not a melting temperature", "Type a temperature in °C within the apparatus's span (20 to 400 °C); the onset may not be above the clear point."),
+                    DataValidation::new().allow_custom(Formula::new(format!(
+                        "=AND(ISNUMBER({me}),{me}>={lo},{me}<={hi},OR({onset}=\"\",{clear}=\"\",{onset}<={clear}))"
+                    ))),
+                )?
+            }
+            Entry::Reported => rule(
+                ("Reported recovery", "The percent recovery the student reported (for example 72.4)."),
+                ("Not a percentage", "Type the reported recovery as a number of percent, from 0 to 100."),
+                DataValidation::new().allow_decimal_number(DataValidationRule::Between(0.0, 100.0)),
+            )?,
+            Entry::Status => rule(
+                ("Status", "Leave empty for a student to be graded; choose W, excused, absent or exempt otherwise."),
+                ("Not a status", "Choose a status from the list, or leave the cell empty."),
+                DataValidation::new().allow_list_strings(&STATUS_WORDS)?,
+            )?,
+            Entry::Notes => continue,
+        };
+        ws.add_data_validation(first, col, last, col, &v)?;
+    }
+    Ok(())
+}
+
+/// Shades a row while an entry grading needs is empty (and no status excuses it).
+fn missing_shade(
+    ws: &mut Worksheet,
+    entries: &[Entry],
+    first: u32,
+    last: u32,
+) -> Result<(), XlsxError> {
+    let r = first + 1;
+    let empty: Vec<String> = entries
+        .iter()
+        .filter(|e| e.required())
+        .filter_map(|e| column_of(entries, *e))
+        .map(|c| format!("${c}{r}=\"\""))
+        .collect();
+    let status =
+        column_of(entries, Entry::Status).map_or(String::new(), |c| format!(",${c}{r}=\"\""));
+    let shade = ConditionalFormatFormula::new()
+        .set_rule(format!("=AND(OR({}){status})", empty.join(",")).as_str())
+        .set_format(Format::new().set_background_color(Color::RGB(0x00FF_F2CC)));
+    let last_col = FIRST_ENTRY_COL + entries.len() as u16 - 1;
+    ws.add_conditional_format(first, 0, last, last_col, &shade)?;
+    Ok(())
+}
+
+/// The instructions sheet: how to fill in the entry sheets, and the safety cautions.
+fn instructions(
+    ws: &mut Worksheet,
+    o: &TemplateOptions,
+    entries: &[Entry],
+) -> Result<(), XlsxError> {
+    ws.set_name("Instructions")?;
+    let wrap = Format::new().set_text_wrap().set_align(FormatAlign::Top);
+    let bold = Format::new().set_bold().set_font_size(13);
+    let head = Format::new().set_bold();
+    ws.set_column_width(0, 78)?;
+    let asked: Vec<String> = entries
+        .iter()
+        .map(|e| {
+            let (h, u) = e.header();
+            if u.is_empty() {
+                h.to_lowercase()
+            } else {
+                format!("{} ({u})", h.to_lowercase())
+            }
+        })
+        .collect();
+    let lines: Vec<(&Format, String)> = vec![
+        (&bold, o.title.to_string()),
+        (&head, "How to fill in the entry sheets".into()),
+        (&wrap, "Each section has a sheet of its own. The students' ids and names come from the roster and are locked; type only in the white cells.".into()),
+        (&wrap, format!("For each student enter: {}.", asked.join(", "))),
+        (&wrap, "Masses in grams as weighed (weigh by difference and type the net mass); temperatures in °C as read, the onset where the first drop of liquid appears and the clear point where the last crystal melts.".into()),
+        (&wrap, "A cell refuses a value that cannot be right (a recovered mass above the crude mass, a letter in a mass, an onset above the clear point) and says why. A row stays shaded until every entry grading needs is typed, or a status (W, excused, absent, exempt) is chosen.".into()),
+        (&wrap, "The sheet protection has no password: it only guards against slips. Keep the header and units rows as they are, so that the sheet is read back without a mapping file.".into()),
+        (&head, "Safety".into()),
+        (&wrap, "Hot plates and heating blocks stay hot long after they are switched off: never leave one on unattended, and keep paper, solvent bottles and cords away from it.".into()),
+        (&wrap, "Organic solvents used for recrystallization are flammable: heat them on a hot plate or steam bath, never over a flame, and in a fume hood.".into()),
+        (&wrap, "Inspect vacuum glassware (filter flasks) for cracks and star fractures before use, clamp it, and use a trap.".into()),
+        (&wrap, "Wear safety glasses and a lab coat; follow your institution's rules and its chemical hygiene plan, which come before anything written here.".into()),
+    ];
+    for (r, (f, text)) in lines.iter().enumerate() {
+        ws.write_string_with_format(r as u32, 0, text, f)?;
+        // a spreadsheet program does not grow a row for text another program wrapped: about
+        // 72 characters a line in a column 78 wide
+        let lines = text.chars().count().div_ceil(72).max(1);
+        ws.set_row_height(r as u32, 15.0 * lines as f64 + 3.0)?;
+    }
+    ws.set_print_fit_to_pages(1, 1);
+    Ok(())
+}
+
+#[cfg(test)]
+mod tests {
+    use super::*;
+
+    #[test]
+    fn column_letters() {
+        // hand-worked: the 1st, 26th, 27th and 703rd columns
+        assert_eq!(letter(0), "A");
+        assert_eq!(letter(25), "Z");
+        assert_eq!(letter(26), "AA");
+        assert_eq!(letter(702), "AAA");
+    }
+}

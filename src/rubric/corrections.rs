@@ -1,0 +1,376 @@
+//! Corrections of what was typed (`--corrections FILE`): a grader fixes a value without
+//! editing the class file, which benchgrade never modifies. Each correction names the student
+//! (by the id as it stands in the sheet, and optionally the section), the field, the value as it
+//! should have been typed, a reason and the grader; it is applied after reading and before
+//! anything is flagged or scored, and shown in the feedback, results and provenance.
+//!
+//! ```text
+//! student_id,section,field,value,reason,grader
+//! 2026143,,crude_mass,0.745,typed with a decimal comma,R. Okafor
+//! 270231,S4,student_id,2701231,a digit dropped; confirmed with the student,R. Okafor
+//! 2026157,,mp_range,120.5-121.6,read from the lab notebook,R. Okafor
+//! 2026164,,status,excused,medical note received,R. Okafor
+//! ```
+
+use std::collections::HashMap;
+use std::path::Path;
+
+use crate::error::ConfigError;
+use crate::fields::Field;
+use crate::ingest::range::parse_range;
+use crate::ingest::values::{parse_quantity, Decimal, Unit};
+use crate::ingest::{delimited, Submission};
+
+/// The value a correction sets, parsed as its field is.
+#[derive(Clone, Debug, PartialEq)]
+pub enum Value {
+    Text(String),
+    /// Grams, millilitres, degrees Celsius or a percentage, as the field holds it.
+    Number(f64),
+    Range(f64, f64),
+}
+
+/// One line of a corrections file.
+#[derive(Clone, Debug, PartialEq)]
+pub struct Correction {
+    pub student_id: String,
+    pub section: Option<String>,
+    pub field: Field,
+    pub value: Value,
+    /// The value as written in the file, for the feedback.
+    pub written: String,
+    pub reason: String,
+    pub grader: String,
+    pub line: usize,
+}
+
+/// The fields a correction may set.
+const CORRECTABLE: [Field; 13] = [
+    Field::StudentId,
+    Field::StudentName,
+    Field::Section,
+    Field::Bench,
+    Field::Compound,
+    Field::CrudeMass,
+    Field::RecoveredMass,
+    Field::SolventVolume,
+    Field::MpRange,
+    Field::MpOnset,
+    Field::MpClear,
+    Field::ReportedRecovery,
+    Field::Status,
+];
+
+/// Parses a value as `field` holds it; the message says what was expected.
+pub fn parse_value(field: Field, text: &str) -> Result<Value, String> {
+    let t = text.trim();
+    let number = |want: &str, convert: &dyn Fn(Unit, f64) -> Option<f64>| {
+        let q = parse_quantity(t, Decimal::Point)
+            .or_else(|| parse_quantity(t, Decimal::Comma))
+            .ok_or_else(|| format!("\"{t}\" is not {want}"))?;
+        match q.unit {
+            None => Ok(Value::Number(q.value)),
+            Some(u) => convert(u, q.value)
+                .map(Value::Number)
+                .ok_or_else(|| format!("\"{t}\" is not {want}")),
+        }
+    };
+    match field {
+        Field::CrudeMass | Field::RecoveredMass => number("a mass (g or mg)", &|u, v| match u {
+            Unit::Mass(f) => Some(v * f),
+            _ => None,
+        }),
+        Field::SolventVolume => number("a volume (mL or L)", &|u, v| match u {
+            Unit::Volume(f) => Some(v * f),
+            _ => None,
+        }),
+        Field::MpOnset | Field::MpClear => number("a temperature", &|u, v| match u {
+            Unit::Temperature(s) => Some(s.to_celsius(v)),
+            _ => None,
+        }),
+        Field::ReportedRecovery => number("a percentage", &|u, v| {
+            matches!(u, Unit::Percent).then_some(v)
+        }),
+        Field::MpRange => {
+            let r = parse_range(t, Decimal::Point)
+                .or_else(|| parse_range(t, Decimal::Comma))
+                .ok_or_else(|| format!("\"{t}\" is not a melting range such as 120.5-121.6"))?;
+            let c = |v: f64| r.unit.map_or(v, |u| u.to_celsius(v));
+            Ok(Value::Range(c(r.onset), c(r.clear)))
+        }
+        _ if t.is_empty() => Err("no value given".into()),
+        _ => Ok(Value::Text(t.to_string())),
+    }
+}
+
+/// The corrections of a run, by the student id they name.
+#[derive(Clone, Debug, Default)]
+pub struct Corrections {
+    pub source: String,
+    list: Vec<Correction>,
+    by_id: HashMap<String, Vec<usize>>,
+}
+
+impl Corrections {
+    /// Reads a corrections file; every line is checked, and every fault named with its line.
+    pub fn load(path: &Path) -> Result<Corrections, ConfigError> {
+        let file = path.display().to_string();
+        let bytes = crate::files::read(path)
+            .map_err(|e| ConfigError::Invalid(format!("cannot read {file}: {e}")))?;
+        let (text, _) = delimited::decode(&bytes);
+        let mut reader = csv::ReaderBuilder::new()
+            .flexible(true)
+            .from_reader(text.as_bytes());
+        let headers = reader
+            .headers()
+            .map_err(|e| ConfigError::Invalid(format!("{file}: {e}")))?
+            .clone();
+        let col = |name: &str| {
+            headers
+                .iter()
+                .position(|h| h.trim().to_lowercase().replace(' ', "_") == name)
+        };
+        let need = ["student_id", "field", "value", "reason", "grader"];
+        let missing: Vec<&str> = need.iter().copied().filter(|n| col(n).is_none()).collect();
+        if !missing.is_empty() {
+            return Err(ConfigError::Invalid(format!(
+                "{file}: no column {} (a corrections file has student_id, section, field, value, reason, grader)",
+                missing.join(", ")
+            )));
+        }
+        let mut out = Corrections {
+            source: file.clone(),
+            ..Corrections::default()
+        };
+        let mut faults = Vec::new();
+        for (i, record) in reader.records().enumerate() {
+            let line = i + 2;
+            let Ok(record) = record else {
+                faults.push(format!("{file}:{line}: not a CSV line"));
+                continue;
+            };
+            let get = |name: &str| {
+                col(name)
+                    .and_then(|c| record.get(c))
+                    .map(|v| unguard(v.trim()).to_string())
+                    .filter(|v| !v.is_empty())
+            };
+            match check_line(&get, line) {
+                Ok(c) => out.push(c),
+                Err(why) => faults.push(format!("{file}:{line}: {why}")),
+            }
+        }
+        if faults.is_empty() {
+            Ok(out)
+        } else {
+            Err(ConfigError::Invalid(faults.join("\n")))
+        }
+    }
+
+    fn push(&mut self, c: Correction) {
+        self.by_id
+            .entry(c.student_id.clone())
+            .or_default()
+            .push(self.list.len());
+        self.list.push(c);
+    }
+
+    pub fn is_empty(&self) -> bool {
+        self.list.is_empty()
+    }
+
+    /// Applies every correction naming this row (its id as read, and its section if the
+    /// correction gives one), in file order, and returns what each did in words.
+    pub fn apply(&self, sub: &mut Submission, used: &mut [bool]) -> Vec<String> {
+        let Some(id) = sub.student_id.as_deref().map(str::trim) else {
+            return Vec::new();
+        };
+        let Some(lines) = self.by_id.get(id) else {
+            return Vec::new();
+        };
+        let lines = lines.clone();
+        let mut said = Vec::new();
+        for i in lines {
+            let c = &self.list[i];
+            let here = c.section.as_deref().is_none_or(|s| {
+                crate::model::section_key(s) == crate::model::section_key(&sub.section)
+            });
+            if here {
+                used[i] = true;
+                said.push(apply_one(c, sub));
+            }
+        }
+        said
+    }
+
+    pub fn len(&self) -> usize {
+        self.list.len()
+    }
+
+    /// The corrections that found no row, for the message that stops the run.
+    pub fn unmatched(&self, used: &[bool]) -> Vec<String> {
+        self.list
+            .iter()
+            .zip(used)
+            .filter(|(_, u)| !**u)
+            .map(|(c, _)| {
+                format!(
+                    "{}:{}: the correction of {} matches no student row (check the id as the sheet has it{})",
+                    self.source,
+                    c.line,
+                    c.field.key(),
+                    if c.section.is_some() { " and the section" } else { "" }
+                )
+            })
+            .collect()
+    }
+}
+
+/// A value without the `'` that guards a formula-like text in benchgrade's CSV files.
+fn unguard(v: &str) -> &str {
+    match v.strip_prefix('\'') {
+        Some(rest) if rest.starts_with(['=', '+', '-', '@', '\t', '\r']) => rest,
+        _ => v,
+    }
+}
+
+fn check_line(get: &dyn Fn(&str) -> Option<String>, line: usize) -> Result<Correction, String> {
+    let student_id = get("student_id").ok_or("no student id given")?;
+    let key = get("field").ok_or("no field given")?;
+    let field = Field::from_key(&key)
+        .filter(|f| CORRECTABLE.contains(f))
+        .ok_or_else(|| {
+            let keys: Vec<&str> = CORRECTABLE.iter().map(|f| f.key()).collect();
+            format!(
+                "unknown field \"{key}\"; a correction may set {}",
+                keys.join(", ")
+            )
+        })?;
+    let written = get("value").ok_or("no value given")?;
+    let value = parse_value(field, &written)?;
+    Ok(Correction {
+        student_id,
+        section: get("section"),
+        field,
+        value,
+        written,
+        reason: get("reason").ok_or("every correction needs a reason")?,
+        grader: get("grader").ok_or("every correction needs the grader's name")?,
+        line,
+    })
+}
+
+/// A value as a sentence shows it.
+fn shown(v: Option<f64>, unit: &str) -> String {
+    v.map_or("blank".to_string(), |v| format!("{v} {unit}"))
+}
+
+/// Applies one correction; what it did, in words.
+fn apply_one(c: &Correction, sub: &mut Submission) -> String {
+    let by = format!("by {}: {}", c.grader, c.reason.replace(';', ","));
+    let label = c.field.label();
+    let number = |slot: &mut Option<f64>, unit: &str, v: f64| {
+        let before = shown(*slot, unit);
+        *slot = Some(v);
+        format!("{label} corrected from {before} to {v} {unit} {by}")
+    };
+    // a corrected cell is no longer unreadable
+    sub.unreadable.retain(|u| {
+        u.field != c.field
+            && !(c.field == Field::MpRange && matches!(u.field, Field::MpOnset | Field::MpClear))
+    });
+    match (&c.value, c.field) {
+        (Value::Number(v), Field::CrudeMass) => number(&mut sub.crude_mass_g, "g", *v),
+        (Value::Number(v), Field::RecoveredMass) => number(&mut sub.recovered_mass_g, "g", *v),
+        (Value::Number(v), Field::SolventVolume) => number(&mut sub.solvent_volume_ml, "mL", *v),
+        (Value::Number(v), Field::ReportedRecovery) => {
+            sub.reported_marked = true;
+            number(&mut sub.reported_recovery_pct, "%", *v)
+        }
+        (Value::Number(v), Field::MpOnset) => number(&mut sub.mp_onset_c, "°C", *v),
+        (Value::Number(v), Field::MpClear) => number(&mut sub.mp_clear_c, "°C", *v),
+        (Value::Range(o, cl), _) => {
+            let before = match (sub.mp_onset_c, sub.mp_clear_c) {
+                (Some(a), Some(b)) => format!("{a}-{b} °C"),
+                _ => "blank".to_string(),
+            };
+            sub.mp_onset_c = Some(*o);
+            sub.mp_clear_c = Some(*cl);
+            sub.single_reading = o == cl;
+            format!("{label} corrected from {before} to {o}-{cl} °C {by}")
+        }
+        (Value::Text(t), f) => {
+            let slot = match f {
+                Field::StudentId => &mut sub.student_id,
+                Field::StudentName => &mut sub.student_name,
+                Field::Bench => &mut sub.bench,
+                Field::Compound => &mut sub.compound,
+                Field::Status => &mut sub.status,
+                _ => {
+                    let before = std::mem::replace(&mut sub.section, t.clone());
+                    return format!("{label} corrected from {before} to {t} {by}");
+                }
+            };
+            let before = slot.replace(t.clone()).unwrap_or_else(|| "blank".into());
+            if f == Field::Status {
+                // the status the grader gives decides; the notes no longer excuse
+                sub.status_corrected = true;
+            }
+            format!("{label} corrected from {before} to {t} {by}")
+        }
+        (Value::Number(_), _) => format!("{label}: {} {by}", c.written),
+    }
+}
+
+#[cfg(test)]
+mod tests {
+    use super::*;
+
+    #[test]
+    fn values_parse_as_their_field() {
+        // hand-worked conversions: 745 mg is 0.745 g; "0,745" is a decimal comma
+        assert_eq!(
+            parse_value(Field::CrudeMass, "745 mg"),
+            Ok(Value::Number(0.745))
+        );
+        assert_eq!(
+            parse_value(Field::CrudeMass, "0,745"),
+            Ok(Value::Number(0.745))
+        );
+        assert_eq!(
+            parse_value(Field::MpRange, "120.5-121.6"),
+            Ok(Value::Range(120.5, 121.6))
+        );
+        assert!(parse_value(Field::CrudeMass, "12 mL").is_err());
+        assert!(parse_value(Field::RecoveredMass, "lots").is_err());
+        assert_eq!(
+            parse_value(Field::StudentId, " 2701231 "),
+            Ok(Value::Text("2701231".into()))
+        );
+    }
+
+    #[test]
+    fn a_correction_applies_before_grading_and_says_so() {
+        let c = Correction {
+            student_id: "s1".into(),
+            section: None,
+            field: Field::CrudeMass,
+            value: Value::Number(0.745),
+            written: "0.745".into(),
+            reason: "typed with a comma".into(),
+            grader: "R. Okafor".into(),
+            line: 2,
+        };
+        let mut sub = Submission {
+            student_id: Some("s1".into()),
+            crude_mass_g: Some(745.0),
+            ..Submission::default()
+        };
+        let said = apply_one(&c, &mut sub);
+        assert_eq!(sub.crude_mass_g, Some(0.745));
+        assert_eq!(
+            said,
+            "crude mass corrected from 745 g to 0.745 g by R. Okafor: typed with a comma"
+        );
+    }
+}

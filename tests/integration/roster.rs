@@ -1,0 +1,483 @@
+//! The roster, as a coordinator uses it at the end of a term: 120 invented students in five
+//! sections, sheets kept by four assistants with six students missing, two ids mistyped (one
+//! transposition, one dropped digit) and one student graded in another section than their own.
+//! Every expected count is worked by hand from how the class below is built.
+
+use std::collections::HashMap;
+use std::process::Command;
+
+use crate::harness::{project_root, read_results, Fixture, Record};
+
+const FIRST: [&str; 12] = [
+    "Amara", "Bastian", "Corinne", "Dmitri", "Elif", "Farid", "Greta", "Hiro", "Ines", "Jonas",
+    "Keiko", "Lucan",
+];
+const LAST: [&str; 10] = [
+    "Ashdown", "Brannock", "Cealy", "Dunmore", "Elsworth", "Farrowby", "Gatwood", "Hollin",
+    "Iverley", "Jessop",
+];
+
+/// The rostered student `k` (0..120): id, "Last, First", section, assistant.
+fn student(k: usize) -> (String, String, String, String) {
+    let id = format!("27{:05}", 1000 + k * 7);
+    let name = format!("{}, {}", LAST[k % 10], FIRST[k / 10]);
+    let section = format!("S{}", k % 5 + 1);
+    let assistant = ["T. Marlowe", "P. Quist", "R. Vance", "D. Orsay"][(k % 5) % 4].to_string();
+    (id, name, section, assistant)
+}
+
+/// Missing: never submitted. Mistyped: (student, the id typed). Moved: submitted in S5.
+const MISSING: [usize; 6] = [3, 17, 44, 58, 91, 115];
+const MOVED: usize = 21;
+
+fn mistyped(k: usize) -> Option<String> {
+    let (id, ..) = student(k);
+    match k {
+        // two adjacent digits swapped: 2701070 -> 2700170
+        10 => {
+            let mut c: Vec<char> = id.chars().collect();
+            c.swap(3, 4);
+            Some(c.into_iter().collect())
+        }
+        // a digit dropped: 2701231 -> 270231
+        33 => Some(format!("{}{}", &id[..3], &id[4..])),
+        _ => None,
+    }
+}
+
+fn class(f: &Fixture) {
+    let mut roster = String::from("Student ID,Last name,First name,Section,TA\n");
+    let mut sheets: HashMap<String, String> = HashMap::new();
+    for k in 0..120 {
+        let (id, name, section, ta) = student(k);
+        let (last, first) = name.split_once(", ").unwrap();
+        roster.push_str(&format!("{id},{last},{first},{section},{ta}\n"));
+        if MISSING.contains(&k) {
+            continue;
+        }
+        let id = mistyped(k).unwrap_or(id);
+        let at = if k == MOVED {
+            "S5".to_string()
+        } else {
+            section
+        };
+        let sheet = sheets.entry(at.clone()).or_insert_with(|| {
+            format!("Section {at} (TA: {ta})\nStudent ID,Name,Section,Crude mass (g),Recovered mass (g),Melting range (°C)\n")
+        });
+        let crude = 2.5 + (k % 7) as f64 * 0.1;
+        sheet.push_str(&format!(
+            "{id},{first} {last},{at},{crude:.2},{:.2},121.2-122.1\n",
+            crude * 0.7
+        ));
+    }
+    f.write("roster.csv", roster);
+    for (section, text) in sheets {
+        f.write(&format!("class/{section}.csv"), text);
+    }
+}
+
+fn status_of<'a>(rows: &'a [Record], id: &str) -> Vec<&'a Record> {
+    rows.iter().filter(|r| r["student_id"] == id).collect()
+}
+
+#[test]
+fn every_enrolled_student_is_accounted_for() {
+    let f = Fixture::new();
+    class(&f);
+    let run = f.run(&["grade", "class", "--roster", "roster.csv", "--out", "out"]);
+    assert_eq!(run.code, 0, "{}", run.stderr);
+    // no id or name on standard error
+    assert!(!run.stderr.contains(&student(3).0), "{}", run.stderr);
+    let rows = f.results("out");
+    // 114 rows read (120 - 6 missing) and 8 made from the roster (the 6, and the two whose
+    // rows carry a mistyped id)
+    assert_eq!(rows.len(), 122);
+    let none: Vec<&Record> = rows
+        .iter()
+        .filter(|r| r["status"] == "no-submission")
+        .collect();
+    assert_eq!(none.len(), 8);
+    assert!(none
+        .iter()
+        .all(|r| r["flags"].is_empty() && r["score"].is_empty()));
+    // the gradebook: one row for each of the 120 enrolled, none for an id not on the roster
+    let book = read_results(&f.path("out/gradebook.csv"));
+    assert_eq!(book.len(), 120);
+    for (k, typed) in [(10, mistyped(10).unwrap()), (33, mistyped(33).unwrap())] {
+        let r = status_of(&rows, &typed);
+        assert_eq!(r.len(), 1, "{typed}");
+        assert!(r[0]["flags"].contains("not-on-roster"));
+        let want = format!("one typing slip from {}", student(k).0);
+        assert!(r[0]["flag_notes"].contains(&want), "{}", r[0]["flag_notes"]);
+        assert!(book.iter().all(|b| b["student_id"] != typed));
+        let real = status_of(&rows, &student(k).0);
+        assert_eq!(real[0]["status"], "no-submission");
+        assert!(
+            real[0]["feedback"].contains(&typed),
+            "{}",
+            real[0]["feedback"]
+        );
+    }
+    let moved = status_of(&rows, &student(MOVED).0);
+    assert_eq!(moved[0]["section"], "S5");
+    assert!(
+        moved[0]["flags"].contains("other-section"),
+        "{}",
+        moved[0]["flags"]
+    );
+    // names compared without order: "First Last" on the sheets, "Last, First" on the roster
+    assert!(rows.iter().all(|r| !r["flags"].contains("name-mismatch")));
+    // the report lists the six by section, the two apart
+    let html = std::fs::read_to_string(f.path("out/cohort-report.html")).unwrap();
+    let at = html.find("Students with no submission").unwrap();
+    let until = html[at..].find("Likely submitted").unwrap();
+    let listed = &html[at..at + until];
+    for k in MISSING {
+        assert!(listed.contains(&student(k).0), "{k}");
+    }
+    for k in [10, 33] {
+        assert!(!listed.contains(&student(k).0));
+        assert!(html[at + until..].contains(&student(k).0));
+    }
+    // section statistics count them apart, never as zeros: S4 lost students 3 and 58
+    // (k % 5 == 3) and student 33 (mistyped)
+    let stats = read_results(&f.path("out/section-stats.csv"));
+    let s4 = stats
+        .iter()
+        .find(|r| r["section"] == "S4" && r["measure"] == "score")
+        .unwrap();
+    assert_eq!(s4["no_submission"], "3");
+    // check shows how the roster was read
+    let check = f.run(&["check", "class", "--roster", "roster.csv"]);
+    assert!(
+        check.stdout.contains("Roster: 120 enrolled students"),
+        "{}",
+        check.stdout
+    );
+    assert!(check.stdout.contains("\"TA\"") && check.stdout.contains("-> teaching assistant"));
+    let contract = Command::new("python3")
+        .arg(project_root().join("tests/data/check-results-contract.py"))
+        .arg(f.path("out/results.csv"))
+        .output();
+    if let Ok(out) = contract {
+        assert!(
+            out.status.success(),
+            "{}",
+            String::from_utf8_lossy(&out.stdout)
+        );
+    }
+}
+
+#[test]
+fn a_rubric_can_score_a_missing_report() {
+    let f = Fixture::new();
+    class(&f);
+    let rubric = std::fs::read_to_string(project_root().join("rubrics/default.toml")).unwrap();
+    f.write(
+        "r.toml",
+        rubric.replacen("[grading]\n", "[grading]\nno_submission = 0\n", 1),
+    );
+    let run = f.run(&[
+        "grade",
+        "class",
+        "--roster",
+        "roster.csv",
+        "--rubric",
+        "r.toml",
+        "--out",
+        "out",
+    ]);
+    assert_eq!(run.code, 0, "{}", run.stderr);
+    let rows = f.results("out");
+    let r = status_of(&rows, &student(3).0);
+    assert_eq!(
+        (r[0]["status"].as_str(), r[0]["score"].as_str()),
+        ("no-submission", "0")
+    );
+    let labels: Vec<String> = Vec::new();
+    let labels: Vec<&str> = labels.iter().map(String::as_str).collect();
+    assert_eq!(
+        benchgrade::rubric::score::audit_feedback(&r[0]["feedback"], &labels),
+        Ok(0.0)
+    );
+    // scored, a missing report counts in the score's statistics
+    let stats = read_results(&f.path("out/section-stats.csv"));
+    let s4 = stats
+        .iter()
+        .find(|r| r["section"] == "S4" && r["measure"] == "score")
+        .unwrap();
+    assert_eq!(s4["no_submission"], "0");
+    // 22 rows read in S4 (24 enrolled, 3 and 58 missing) and three scored 0 (3, 58, and 33,
+    // whose row carries a mistyped id)
+    assert_eq!(s4["n"], "25");
+}
+
+#[test]
+fn corrections_confirm_mistyped_ids_and_fix_values_with_a_trail() {
+    let f = Fixture::new();
+    class(&f);
+    let (ten, thirty_three) = (student(10).0, student(33).0);
+    let crude_of_50 = student(50).0;
+    f.write(
+        "corrections.csv",
+        format!(
+            "student_id,section,field,value,reason,grader\n\
+             {},,student_id,{ten},digits swapped; confirmed with the student,T. Marlowe\n\
+             {},S4,student_id,{thirty_three},a digit dropped,D. Orsay\n\
+             {crude_of_50},,crude_mass,3.05 g,balance slip read back from the notebook,T. Marlowe\n",
+            mistyped(10).unwrap(),
+            mistyped(33).unwrap()
+        ),
+    );
+    let run = f.run(&[
+        "grade",
+        "class",
+        "--roster",
+        "roster.csv",
+        "--corrections",
+        "corrections.csv",
+        "--out",
+        "out",
+    ]);
+    assert_eq!(run.code, 0, "{}", run.stderr);
+    let rows = f.results("out");
+    // 114 rows read and 6 made from the roster: the two corrected ids are found
+    assert_eq!(rows.len(), 120);
+    assert!(rows.iter().all(|r| !r["flags"].contains("not-on-roster")));
+    let r = status_of(&rows, &ten);
+    assert_eq!(r.len(), 1);
+    assert_eq!(r[0]["status"], "graded");
+    let want = format!(
+        "student id corrected from {} to {ten} by T. Marlowe: digits swapped, confirmed with the student",
+        mistyped(10).unwrap()
+    );
+    assert!(
+        r[0]["corrections"].contains(&want),
+        "{}",
+        r[0]["corrections"]
+    );
+    assert!(
+        r[0]["feedback"].starts_with(&format!("Correction: {want}")),
+        "{}",
+        r[0]["feedback"]
+    );
+    // the mass is corrected before anything is computed: 100 x recovered / 3.05 (hand-worked
+    // from the class's own recovered mass)
+    let m = status_of(&rows, &crude_of_50);
+    let recovered: f64 = m[0]["recovered_mass_g"].parse().unwrap();
+    let recovery: f64 = m[0]["recovery_pct"].parse().unwrap();
+    assert!((recovery - 100.0 * recovered / 3.05).abs() < 1e-9);
+    let book = read_results(&f.path("out/gradebook.csv"));
+    assert_eq!(book.len(), 120);
+    assert!(book
+        .iter()
+        .any(|b| b["student_id"] == ten && !b["score"].is_empty()));
+    // the file is named with its SHA-256 among what changed grades
+    let html = std::fs::read_to_string(f.path("out/cohort-report.html")).unwrap();
+    assert!(
+        html.contains("corrections: corrections.csv"),
+        "provenance line"
+    );
+    // a correction that finds no row stops the run, naming its line
+    f.write(
+        "bad.csv",
+        "student_id,section,field,value,reason,grader\n9999999,,crude_mass,2.0,x,y\n2701000,,crude_mass,two grams,x,y\n",
+    );
+    let bad = f.run(&[
+        "grade",
+        "class",
+        "--corrections",
+        "bad.csv",
+        "--out",
+        "out2",
+    ]);
+    assert_eq!(bad.code, 2, "{}", bad.stderr);
+    assert!(
+        bad.stderr.contains("bad.csv:3") && bad.stderr.contains("\"two grams\" is not a mass"),
+        "{}",
+        bad.stderr
+    );
+    f.write(
+        "stray.csv",
+        "student_id,section,field,value,reason,grader\n9999999,,crude_mass,2.0,x,y\n",
+    );
+    let stray = f.run(&[
+        "grade",
+        "class",
+        "--corrections",
+        "stray.csv",
+        "--out",
+        "out3",
+    ]);
+    assert_eq!(stray.code, 2, "{}", stray.stderr);
+    assert!(
+        stray.stderr.contains("stray.csv:2") && stray.stderr.contains("matches no student row"),
+        "{}",
+        stray.stderr
+    );
+}
+
+/// The entry sheet of one section, filled in as an assistant would: every cell of the template
+/// copied (calamine reads it, rust_xlsxwriter writes it back, as a spreadsheet program saves
+/// what was opened) and each student's entries typed into the entry columns.
+fn fill(template: &std::path::Path, sheet: &str, out: &std::path::Path) -> Vec<(String, String)> {
+    use calamine::{open_workbook, Data, DataType, Reader, Xlsx};
+    let mut wb: Xlsx<_> = open_workbook(template).unwrap();
+    let range = wb.worksheet_range(sheet).unwrap();
+    let header = range
+        .rows()
+        .position(|r| r.first() == Some(&Data::String("Student ID".into())))
+        .expect("the header row");
+    let heads: Vec<String> = range
+        .rows()
+        .nth(header)
+        .unwrap()
+        .iter()
+        .map(ToString::to_string)
+        .collect();
+    let mut book = rust_xlsxwriter::Workbook::new();
+    let ws = book.add_worksheet();
+    ws.set_name(sheet).unwrap();
+    let mut students = Vec::new();
+    for (r, row) in range.rows().enumerate() {
+        for (c, cell) in row.iter().enumerate() {
+            if let Data::String(s) = cell {
+                ws.write_string(r as u32, c as u16, s).unwrap();
+            }
+        }
+        if r <= header + 1 || row.first().is_none_or(DataType::is_empty) {
+            continue;
+        }
+        students.push((row[0].to_string(), row[1].to_string()));
+        let k = students.len() as f64;
+        for (c, h) in heads.iter().enumerate() {
+            let v = match h.as_str() {
+                "Crude mass" => Some(2.5 + 0.01 * k),
+                "Recovered mass" => Some(1.8 + 0.01 * k),
+                "Solvent volume" => Some(60.0),
+                "Melting onset" => Some(121.4),
+                "Clear point" => Some(122.2),
+                "Reported recovery" => Some(100.0 * (1.8 + 0.01 * k) / (2.5 + 0.01 * k)),
+                _ => None,
+            };
+            if let Some(v) = v {
+                ws.write_number(r as u32, c as u16, v).unwrap();
+            }
+        }
+    }
+    book.save(out).unwrap();
+    students
+}
+
+#[test]
+fn entry_workbooks_from_the_roster_grade_clean_once_filled_in() {
+    let f = Fixture::new();
+    class(&f);
+    let run = f.run(&["template", "--roster", "roster.csv", "--out", "entry"]);
+    assert_eq!(run.code, 0, "{}", run.stderr);
+    for s in 1..=5 {
+        assert!(f.path(&format!("entry/S{s}-entry.xlsx")).is_file(), "S{s}");
+    }
+    let one = f.run(&[
+        "template",
+        "--roster",
+        "roster.csv",
+        "--out",
+        "one",
+        "--one-workbook",
+    ]);
+    assert_eq!(one.code, 0, "{}", one.stderr);
+    // the roster in the template is the roster: S2's ids and names, in roster order
+    std::fs::create_dir_all(f.path("filled")).unwrap();
+    let typed = fill(
+        &f.path("entry/S2-entry.xlsx"),
+        "S2",
+        &f.path("filled/S2.xlsx"),
+    );
+    let want: Vec<(String, String)> = (0..120)
+        .map(student)
+        .filter(|s| s.2 == "S2")
+        .map(|(id, name, ..)| (id, name))
+        .collect();
+    assert_eq!(typed, want);
+    // filled in, it grades with no mapping file: every student graded, no flag, no note
+    let graded = f.run(&["grade", "filled", "--out", "out"]);
+    assert_eq!(graded.code, 0, "{}", graded.stderr);
+    assert!(!graded.stderr.contains("note"), "{}", graded.stderr);
+    let rows = f.results("out");
+    assert_eq!(rows.len(), want.len());
+    for r in &rows {
+        assert_eq!(r["status"], "graded");
+        assert!(
+            r["flags"].is_empty(),
+            "{}: {}",
+            r["student_id"],
+            r["flag_notes"]
+        );
+        assert_eq!(r["section"], "S2");
+    }
+    // the same sheet saved by LibreOffice grades the same
+    if let Some(office) = crate::harness::soffice() {
+        let ods = crate::harness::convert(office, f.dir.path(), &f.path("filled/S2.xlsx"), "ods");
+        std::fs::create_dir_all(f.path("lo")).unwrap();
+        std::fs::rename(&ods, f.path("lo/S2.ods")).unwrap();
+        let again = f.run(&["grade", "lo", "--out", "out-lo"]);
+        assert_eq!(again.code, 0, "{}", again.stderr);
+        let lo = f.results("out-lo");
+        let scores = |rows: &[Record]| rows.iter().map(|r| r["score"].clone()).collect::<Vec<_>>();
+        assert_eq!(scores(&lo), scores(&rows));
+    }
+}
+
+/// The rules the template's cells carry, read back from the saved file (its sheet XML) and
+/// checked as a person checks them: a recovered mass above the crude mass and a letter in a
+/// mass are refused, with a message in words.
+#[test]
+fn the_entry_cells_refuse_what_cannot_be_right() {
+    use std::io::Read;
+    let f = Fixture::new();
+    class(&f);
+    let run = f.run(&["template", "--roster", "roster.csv", "--out", "entry"]);
+    assert_eq!(run.code, 0, "{}", run.stderr);
+    let file = std::fs::File::open(f.path("entry/S1-entry.xlsx")).unwrap();
+    let mut zip = zip::ZipArchive::new(file).unwrap();
+    let mut xml = String::new();
+    zip.by_name("xl/worksheets/sheet2.xml")
+        .unwrap()
+        .read_to_string(&mut xml)
+        .unwrap();
+    let rules: Vec<&str> = xml.split("<dataValidation ").skip(1).collect();
+    let rule = |title: &str| {
+        *rules
+            .iter()
+            .find(|r| r.contains(&format!("promptTitle=\"{title}\"")))
+            .unwrap_or_else(|| panic!("a rule for {title}"))
+    };
+    // crude mass in column C: a decimal number (a letter is refused) between 0.0001 and 100 g
+    let crude = rule("Crude mass");
+    assert!(
+        crude.contains("type=\"decimal\"")
+            && crude.contains("<formula1>0.0001</formula1><formula2>100</formula2>"),
+        "{crude}"
+    );
+    assert!(crude.contains("sqref=\"C7:C30\""), "{crude}");
+    // recovered mass in D: a number, above 0, at most the crude mass beside it
+    let recovered = rule("Recovered mass");
+    assert!(
+        recovered.contains("ISNUMBER(D7)") && recovered.contains("D7&lt;=C7"),
+        "{recovered}"
+    );
+    assert!(recovered.contains("errorTitle=\"Recovered more than crude\""));
+    // onset (F) and clear point (G): within the apparatus's span, onset at most the clear point
+    let onset = rule("Melting onset");
+    assert!(
+        onset.contains("F7&gt;=20") && onset.contains("F7&lt;=G7"),
+        "{onset}"
+    );
+    // the status: a drop-down list
+    assert!(rule("Status").contains("type=\"list\""));
+    // protected without a password; the entry cells unlocked
+    assert!(xml.contains("<sheetProtection sheet=\"1\"") && !xml.contains("password"));
+    // rows missing an entry are shaded
+    assert!(xml.contains("<conditionalFormatting"));
+}
