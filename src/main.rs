@@ -302,7 +302,8 @@ fn template(
     };
     fail::doing("writing the entry workbooks".into());
     match benchgrade::pipeline::write_templates(&config, one_workbook) {
-        Ok(paths) => {
+        Ok((paths, notes)) => {
+            report_problems(&notes);
             let mut out = std::io::stdout().lock();
             for p in paths {
                 writeln!(out, "wrote {}", p.display())?;

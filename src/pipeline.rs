@@ -678,15 +678,20 @@ fn provenance(config: &Config, files: &[PathBuf], calibration: Option<&Path>) ->
 }
 
 /// `benchgrade template`: the entry workbooks of the configured roster, written into the
-/// output folder under its lock, published together; the paths written.
-pub fn write_templates(config: &Config, one_workbook: bool) -> Result<Vec<PathBuf>, RunError> {
+/// output folder under its lock, published together; the paths written, and notes on outputs
+/// of an earlier run that were set aside.
+pub fn write_templates(
+    config: &Config,
+    one_workbook: bool,
+) -> Result<(Vec<PathBuf>, Vec<Problem>), RunError> {
     let Some(roster) = &config.roster else {
         return Err(ConfigError::Invalid("template needs --roster FILE".into()).into());
     };
     let inputs: Vec<PathBuf> = config.roster_file.iter().cloned().collect();
     let planned: Vec<PathBuf> = vec![config.out_dir.join("entry-sheets.xlsx")];
     refuse_overwriting_inputs(&planned, &inputs)?;
-    let _lock = open_output_folder(config)?;
+    let mut notes = Vec::new();
+    let _lock = open_output_folder(config, &inputs, &mut notes)?;
     let stage = Stage::new();
     let o = crate::export::template::TemplateOptions {
         roster: roster.students(),
@@ -699,7 +704,7 @@ pub fn write_templates(config: &Config, one_workbook: bool) -> Result<Vec<PathBu
     let written = crate::export::template::write(&o, &stage)?;
     refuse_overwriting_inputs(&written, &inputs)?;
     stage.publish(&config.out_dir, &inputs)?;
-    Ok(written)
+    Ok((written, notes))
 }
 
 /// `grade`, telling `progress` after each sheet and file.
