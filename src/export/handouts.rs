@@ -201,16 +201,8 @@ impl Handouts {
 /// flags, no feedback (each would blame the student for the sheet), but what was missing and
 /// what happens next.
 fn write_ungraded_page(out: &mut String, title_html: &str, g: &Graded, lacks: &[Field]) {
-    let s = &g.assessed.submission;
-    out.push_str("<section class=\"student\"><p class=\"course\">");
-    out.push_str(title_html);
-    out.push_str(" · section ");
-    escape_into(out, &s.section);
-    out.push_str("</p><h1>");
-    escape_into(out, &shown_name(s.student_name.as_deref()));
-    out.push_str("</h1><p class=\"id\">Student id ");
-    escape_into(out, s.student_id.as_deref().unwrap_or("(no id)"));
-    out.push_str("</p><p class=\"total\">Not graded</p><p>");
+    page_head(out, title_html, g);
+    out.push_str("<p class=\"total\">Not graded</p><p>");
     let what: Vec<&str> = lacks.iter().map(|f| f.label()).collect();
     let _ = write!(
         out,
@@ -223,9 +215,9 @@ fn write_ungraded_page(out: &mut String, title_html: &str, g: &Graded, lacks: &[
 }
 
 /// One student's printed page, under the title (already escaped).
-fn write_page(out: &mut String, title_html: &str, g: &Graded) {
-    let a = &g.assessed;
-    let s = &a.submission;
+/// A page's opening: the course and section, the student's name and id.
+fn page_head(out: &mut String, title_html: &str, g: &Graded) {
+    let s = &g.assessed.submission;
     out.push_str("<section class=\"student\"><p class=\"course\">");
     out.push_str(title_html);
     out.push_str(" · section ");
@@ -235,6 +227,12 @@ fn write_page(out: &mut String, title_html: &str, g: &Graded) {
     out.push_str("</h1><p class=\"id\">Student id ");
     escape_into(out, s.student_id.as_deref().unwrap_or("(no id)"));
     out.push_str("</p>");
+}
+
+fn write_page(out: &mut String, title_html: &str, g: &Graded) {
+    let a = &g.assessed;
+    let s = &a.submission;
+    page_head(out, title_html, g);
     if let Some(why) = &a.excused {
         out.push_str("<p class=\"total\">Excused: not graded</p><p>");
         escape_into(out, why);

@@ -64,10 +64,9 @@ const CORRECTABLE: [Field; 13] = [
 /// Parses a value as `field` holds it; the message says what was expected.
 pub fn parse_value(field: Field, text: &str) -> Result<Value, String> {
     let t = text.trim();
+    let decimal = comma_reading(t);
     let number = |want: &str, convert: &dyn Fn(Unit, f64) -> Option<f64>| {
-        let q = parse_quantity(t, Decimal::Point)
-            .or_else(|| parse_quantity(t, Decimal::Comma))
-            .ok_or_else(|| format!("\"{t}\" is not {want}"))?;
+        let q = parse_quantity(t, decimal).ok_or_else(|| format!("\"{t}\" is not {want}"))?;
         match q.unit {
             None => Ok(Value::Number(q.value)),
             Some(u) => convert(u, q.value)
@@ -92,14 +91,34 @@ pub fn parse_value(field: Field, text: &str) -> Result<Value, String> {
             matches!(u, Unit::Percent).then_some(v)
         }),
         Field::MpRange => {
-            let r = parse_range(t, Decimal::Point)
-                .or_else(|| parse_range(t, Decimal::Comma))
+            let r = parse_range(t, decimal)
                 .ok_or_else(|| format!("\"{t}\" is not a melting range such as 120.5-121.6"))?;
             let c = |v: f64| r.unit.map_or(v, |u| u.to_celsius(v));
             Ok(Value::Range(c(r.onset), c(r.clear)))
         }
         _ if t.is_empty() => Err("no value given".into()),
         _ => Ok(Value::Text(t.to_string())),
+    }
+}
+
+/// How a value's comma is meant: a decimal comma where there is no point and the comma is not
+/// followed by exactly three digits ("0,745" and "1,5" are decimal commas, "1,800" is
+/// thousands; common practice, as class sheets are read).
+fn comma_reading(t: &str) -> Decimal {
+    let number: String = t
+        .chars()
+        .take_while(|c| c.is_ascii_digit() || matches!(c, ',' | '.' | '-' | '+'))
+        .collect();
+    match number.rsplit_once(',') {
+        Some((whole, frac)) if !number.contains('.') => {
+            let digits = frac.chars().filter(char::is_ascii_digit).count();
+            if digits != 3 || whole.trim_start_matches(['-', '+']) == "0" {
+                Decimal::Comma
+            } else {
+                Decimal::Point
+            }
+        }
+        _ => Decimal::Point,
     }
 }
 
@@ -339,6 +358,15 @@ mod tests {
         );
         assert_eq!(
             parse_value(Field::MpRange, "120.5-121.6"),
+            Ok(Value::Range(120.5, 121.6))
+        );
+        assert_eq!(parse_value(Field::CrudeMass, "1,5"), Ok(Value::Number(1.5)));
+        assert_eq!(
+            parse_value(Field::CrudeMass, "1,800 mg"),
+            Ok(Value::Number(1.8))
+        );
+        assert_eq!(
+            parse_value(Field::MpRange, "120,5-121,6"),
             Ok(Value::Range(120.5, 121.6))
         );
         assert!(parse_value(Field::CrudeMass, "12 mL").is_err());
