@@ -109,11 +109,17 @@ pub fn layouts(sheets: &[SheetReport], style: Style) -> String {
         if let Some(enc) = &s.encoding {
             let _ = write!(extra, ", {enc}");
         }
+        let rows = match s.layout.sub_header_row {
+            Some(sub) => format!(
+                "header rows {}-{sub} (group names over sub-headers)",
+                s.layout.header_row
+            ),
+            None => format!("header row {}", s.layout.header_row),
+        };
         let _ = writeln!(
             out,
-            "  {}: header row {}, {} student rows{}",
+            "  {}: {rows}, {} student rows{}",
             sheet_title(&s.source, s.sheet.as_ref()),
-            s.layout.header_row,
             s.students,
             extra
         );

@@ -669,15 +669,23 @@ impl ColumnOverrides {
 /// The meaning of a header cell in column `letter`, explicit mapping first (by letter, then
 /// by header text).
 pub fn meaning(text: &str, letter: &str, overrides: &ColumnOverrides) -> (HeaderMeaning, bool) {
+    explicit(text, letter, overrides).unwrap_or_else(|| (classify(&parse_header(text)), false))
+}
+
+/// The explicit mapping of a header cell in column `letter` (by letter, then by header text).
+pub fn explicit(
+    text: &str,
+    letter: &str,
+    overrides: &ColumnOverrides,
+) -> Option<(HeaderMeaning, bool)> {
     let explicit = overrides
         .letters
         .get(letter)
-        .or_else(|| overrides.map.get(&canonical(text)));
-    match explicit {
-        Some(Some(f)) => (HeaderMeaning::Field(*f), true),
-        Some(None) => (HeaderMeaning::Ignored, true),
-        None => (classify(&parse_header(text)), false),
-    }
+        .or_else(|| overrides.map.get(&canonical(text)))?;
+    Some(match explicit {
+        Some(f) => (HeaderMeaning::Field(*f), true),
+        None => (HeaderMeaning::Ignored, true),
+    })
 }
 
 /// The line to paste into a `--columns` file's `[columns]` table to map a column to a field.

@@ -5,6 +5,7 @@ pub mod calibration;
 pub mod cells;
 pub mod delimited;
 pub mod discover;
+pub mod grouped;
 pub mod headers;
 pub mod percent_cells;
 pub mod range;

@@ -5,7 +5,10 @@ use serde::Serialize;
 use std::fmt::Write as _;
 
 use super::cells::{column_letters, RawRow, RawSheet};
-use super::headers::{mapping_line, meaning, parse_header, ColumnOverrides, HeaderMeaning};
+use super::grouped::{combine, GroupedColumn};
+use super::headers::{
+    classify, explicit, mapping_line, meaning, parse_header, ColumnOverrides, HeaderMeaning,
+};
 use super::values::Unit;
 use crate::fields::Field;
 
@@ -48,8 +51,15 @@ pub struct Layout {
     pub header_pos: usize,
     /// 1-based header row.
     pub header_row: u32,
+    /// 1-based row of sub-headers under a two-row (grouped) header, if the header is one.
+    #[serde(skip_serializing_if = "Option::is_none")]
+    pub sub_header_row: Option<u32>,
     /// 1-based row of units directly under the header, if there is one.
     pub units_row: Option<u32>,
+    /// Position within `RawSheet::rows` of the first row below the header (and its sub-header
+    /// and units rows).
+    #[serde(skip)]
+    pub body_pos: usize,
     pub columns: Vec<Column>,
     /// Fields grading needs that no column holds.
     pub missing: Vec<Field>,
@@ -161,25 +171,59 @@ fn header_columns(row: &RawRow, overrides: &ColumnOverrides) -> Vec<(Column, Hea
             let letter = column_letters(col);
             let (m, explicit) = meaning(&text, &letter, overrides);
             let unit = parse_header(&text).unit;
-            let column = Column {
-                index: col,
-                letter,
-                unit,
-                unit_source: unit.map(|_| UnitSource::Header),
-                field: match m {
-                    HeaderMeaning::Field(f) => Some(f),
-                    _ => None,
-                },
-                explicit,
-                note: match m {
-                    HeaderMeaning::NotOwn(why) => Some(format!("not used: {why}")),
-                    _ => None,
-                },
-                header: text,
-            };
-            (column, m)
+            column(col, letter, text, m, explicit, unit)
         })
         .collect()
+}
+
+/// The columns of a two-row header: each read from its group name's words and its own, or
+/// from its own alone (with the group's unit) where the two together name nothing.
+fn grouped_columns(
+    cols: &[GroupedColumn],
+    overrides: &ColumnOverrides,
+) -> Vec<(Column, HeaderMeaning)> {
+    cols.iter()
+        .map(|g| {
+            let text = g.text();
+            let letter = column_letters(g.index);
+            let parsed = g.parsed();
+            let (m, explicit) = explicit(&text, &letter, overrides).unwrap_or_else(|| {
+                let m = match (classify(&parsed), g.child_alone()) {
+                    (HeaderMeaning::Unknown, Some(alone)) => classify(&alone),
+                    (m, _) => m,
+                };
+                (m, false)
+            });
+            column(g.index, letter, text, m, explicit, parsed.unit)
+        })
+        .collect()
+}
+
+fn column(
+    index: u32,
+    letter: String,
+    header: String,
+    m: HeaderMeaning,
+    explicit: bool,
+    unit: Option<Unit>,
+) -> (Column, HeaderMeaning) {
+    let column = Column {
+        index,
+        letter,
+        unit,
+        unit_source: unit.map(|_| UnitSource::Header),
+        field: match m {
+            HeaderMeaning::Field(f) => Some(f),
+            _ => None,
+        },
+        explicit,
+        note: match m {
+            HeaderMeaning::NotOwn(why) => Some(format!("not used: {why}")),
+            _ => None,
+        },
+        header,
+    };
+    (column, m)
 }
 
 fn score(cols: &[(Column, HeaderMeaning)]) -> (usize, bool) {
@@ -201,29 +245,60 @@ fn score(cols: &[(Column, HeaderMeaning)]) -> (usize, bool) {
     (fields.len(), core)
 }
 
+/// The best header starting at `pos`: the row alone, or it and the row under it read as a
+/// two-row header where that names more fields than either row alone. Returns the columns,
+/// their distinct fields, whether a core field is among them, and whether two rows were read.
+fn header_at(
+    sheet: &RawSheet,
+    pos: usize,
+    overrides: &ColumnOverrides,
+) -> (Vec<(Column, HeaderMeaning)>, usize, bool, bool) {
+    let row = &sheet.rows[pos];
+    let cols = header_columns(row, overrides);
+    let (n, core) = score(&cols);
+    let grouped = sheet
+        .rows
+        .get(pos + 1)
+        .and_then(|next| Some((next, combine(row, next)?)))
+        .map(|(next, g)| {
+            let below = score(&header_columns(next, overrides)).0;
+            let cols = grouped_columns(&g, overrides);
+            (cols, below)
+        });
+    if let Some((gcols, below)) = grouped {
+        let (gn, gcore) = score(&gcols);
+        if gn > n && gn > below && gcore {
+            return (gcols, gn, gcore, true);
+        }
+    }
+    (cols, n, core, false)
+}
+
 /// Finds the header row and resolves each column, or says why not.
 pub fn locate(sheet: &RawSheet, overrides: &ColumnOverrides) -> Result<Layout, LayoutError> {
-    // (position, columns, distinct fields) of the best header row so far
-    type Candidate = (usize, Vec<(Column, HeaderMeaning)>, usize);
+    // (position, columns, distinct fields, two rows) of the best header row so far
+    type Candidate = (usize, Vec<(Column, HeaderMeaning)>, usize, bool);
     let mut best: Option<Candidate> = None;
-    for (pos, row) in sheet.rows.iter().take(HEADER_SEARCH_ROWS).enumerate() {
+    for pos in 0..sheet.rows.len().min(HEADER_SEARCH_ROWS) {
         // a header is found near the top; once one is, a few more rows settle it
         if best.as_ref().is_some_and(|b| pos > b.0 + 10) {
             break;
         }
-        let cols = header_columns(row, overrides);
-        let (n, core) = score(&cols);
+        let (cols, n, core, two) = header_at(sheet, pos, overrides);
         if n >= MIN_HEADER_FIELDS && core && best.as_ref().is_none_or(|b| n > b.2) {
-            best = Some((pos, cols, n));
+            best = Some((pos, cols, n, two));
         }
     }
-    let (pos, cols, _) = best.ok_or(LayoutError::NoTable)?;
+    let (pos, cols, _, two) = best.ok_or(LayoutError::NoTable)?;
     let mut columns = resolve(cols);
-    let units_row = units_row(sheet, pos, &mut columns);
+    let last = pos + usize::from(two);
+    let units_row = units_row(sheet, last, &mut columns);
     let mut layout = Layout {
         header_pos: pos,
         header_row: sheet.rows[pos].index + 1,
+        sub_header_row: two.then(|| sheet.rows[last].index + 1),
         units_row,
+        body_pos: last + 1 + usize::from(units_row.is_some()),
         columns,
         missing: Vec::new(),
         absent: Vec::new(),
@@ -475,15 +550,8 @@ pub fn rows_and_unnamed<'a>(sheet: &'a RawSheet, layout: &Layout) -> (Vec<&'a Ra
     let header = &sheet.rows[layout.header_pos];
     let mut out = Vec::new();
     let mut unnamed = Vec::new();
-    let mut prev = header.index;
-    let first = layout.header_pos + 1 + usize::from(layout.units_row.is_some());
-    if let Some(units) = sheet
-        .rows
-        .get(first - 1)
-        .filter(|_| layout.units_row.is_some())
-    {
-        prev = units.index;
-    }
+    let first = layout.body_pos;
+    let mut prev = sheet.rows[first - 1].index;
     for row in sheet.rows.iter().skip(first) {
         let gap = row.index > prev + 1;
         prev = row.index;
@@ -673,5 +741,61 @@ mod tests {
         let layout = locate(&s, &ColumnOverrides::default()).unwrap();
         assert_eq!(layout.units_row, None);
         assert_eq!(student_rows(&s, &layout).len(), 1);
+    }
+
+    /// A two-row header as class sheets keep it (common practice: merged group names over
+    /// sub-headers); the sub-header row is not a student.
+    #[test]
+    fn a_two_row_header_is_read_as_one_header_a_column() {
+        let s = sheet(&[
+            &["Recrystallization, section 3"],
+            &[
+                "Student ID",
+                "Mass (g)",
+                "",
+                "Melting range (°C)",
+                "",
+                "Comments",
+            ],
+            &["", "Crude", "Recovered", "Start", "End"],
+            &["s1", "3.0", "2.0", "120.5", "121.5", "dropped course"],
+        ]);
+        let layout = locate(&s, &ColumnOverrides::default()).unwrap();
+        assert_eq!((layout.header_row, layout.sub_header_row), (2, Some(3)));
+        let fields: Vec<Option<Field>> = layout.columns.iter().map(|c| c.field).collect();
+        assert_eq!(
+            fields,
+            [
+                Some(Field::StudentId),
+                Some(Field::CrudeMass),
+                Some(Field::RecoveredMass),
+                Some(Field::MpOnset),
+                Some(Field::MpClear),
+                Some(Field::Notes)
+            ]
+        );
+        assert_eq!(layout.columns[3].header, "Melting range (°C) / Start");
+        assert_eq!(layout.columns[5].header, "Comments");
+        assert_eq!(layout.columns[1].unit, Some(Unit::Mass(1.0)));
+        let rows = student_rows(&s, &layout);
+        assert_eq!(rows.iter().map(|r| r.index + 1).collect::<Vec<_>>(), [4]);
+    }
+
+    #[test]
+    fn a_group_name_that_adds_nothing_leaves_the_sub_header_its_meaning() {
+        let s = sheet(&[
+            &["ID", "Crude mass (g)", "Recovered mass (g)", "Trial 1", ""],
+            &["", "", "", "Onset", "Clear"],
+            &["s1", "3.0", "2.0", "120.5", "121.5"],
+        ]);
+        let layout = locate(&s, &ColumnOverrides::default()).unwrap();
+        assert_eq!(
+            layout.column(Field::MpOnset).unwrap().header,
+            "Trial 1 / Onset"
+        );
+        assert_eq!(
+            layout.column(Field::MpClear).unwrap().header,
+            "Trial 1 / Clear"
+        );
     }
 }
