@@ -7,13 +7,15 @@ use std::path::{Path, PathBuf};
 use serde::Deserialize;
 
 use crate::assess::{accepted, ReferenceRule};
-use crate::error::{parse_toml, ConfigError};
+use crate::error::{parse_toml, ConfigError, Located};
 use crate::export::parquet::Term;
 use crate::export::pseudonym::Pseudonymizer;
 use crate::ingest::headers::{ColumnOverrides, MappingValue};
+use crate::ingest::vocabulary::{Table as VocabularyTable, Vocabulary};
 use crate::reference::Library;
 use crate::rubric::overrides::Overrides;
 use crate::rubric::Rubric;
+use std::sync::Arc;
 
 /// Options as typed, already checked for form by the command-line parser.
 #[derive(Clone, Debug, Default)]
@@ -24,6 +26,8 @@ pub struct Options {
     pub out: Option<PathBuf>,
     pub rubric: Option<PathBuf>,
     pub columns: Option<PathBuf>,
+    /// Words added to the built-in vocabulary.
+    pub vocabulary: Option<PathBuf>,
     pub compounds: Option<PathBuf>,
     pub reference_mp_c: Option<f64>,
     pub calibration: Option<PathBuf>,
@@ -53,6 +57,9 @@ pub struct Config {
     /// Where the rubric came from, for messages and provenance.
     pub rubric_source: String,
     pub columns: ColumnOverrides,
+    /// The words headers, units, statuses and summary rows are read by: the built-in
+    /// vocabulary with the rubric's and a `--vocabulary` file's additions.
+    pub vocabulary: Arc<Vocabulary>,
     pub library: Library,
     /// How the experiment compound's reference is chosen.
     pub reference: ReferenceRule,
@@ -103,6 +110,12 @@ impl Config {
     pub fn build(opts: Options) -> Result<Config, ConfigError> {
         let (rubric, rubric_source, rubric_text) = load_rubric(opts.rubric.as_deref())?;
         let columns = column_map(&rubric, &rubric_source, opts.columns.as_deref())?;
+        let vocabulary = vocabulary(
+            &rubric,
+            &rubric_source,
+            &rubric_text,
+            opts.vocabulary.as_deref(),
+        )?;
         let mut library = Library::builtin()?;
         if let Some(p) = &opts.compounds {
             library.extend_from_file(p)?;
@@ -139,6 +152,7 @@ impl Config {
             rubric,
             rubric_source,
             columns,
+            vocabulary,
             library,
         })
     }
@@ -177,6 +191,47 @@ fn load_rubric(path: Option<&Path>) -> Result<(Rubric, String, String), ConfigEr
         .map_err(|e| ConfigError::Invalid(format!("cannot read rubric {}: {e}", p.display())))?;
     let source = p.display().to_string();
     Ok((Rubric::parse(&text, &source)?, source, text))
+}
+
+/// The built-in vocabulary with the rubric's `[vocabulary]` words and a `--vocabulary` file's
+/// added; a class that does not exist is an error located in its file.
+fn vocabulary(
+    rubric: &Rubric,
+    rubric_source: &str,
+    rubric_text: &str,
+    file: Option<&Path>,
+) -> Result<Arc<Vocabulary>, ConfigError> {
+    let located = |file: &str, text: &str, errors: Vec<(std::ops::Range<usize>, String)>| {
+        let errors = errors
+            .into_iter()
+            .map(|(span, message)| {
+                let (line, column) = crate::error::toml_location(text, Some(span.clone()));
+                let snippet = text.get(span).unwrap_or("").lines().next().unwrap_or("");
+                Located {
+                    line,
+                    column,
+                    text: snippet.trim().to_string(),
+                    message,
+                }
+            })
+            .collect();
+        ConfigError::Located {
+            file: file.to_string(),
+            errors,
+        }
+    };
+    let mut v = Vocabulary::builtin()
+        .with(&rubric.vocabulary)
+        .map_err(|e| located(rubric_source, rubric_text, e))?;
+    if let Some(p) = file {
+        let name = p.display().to_string();
+        let text = crate::files::read_to_string(p).map_err(|e| {
+            ConfigError::Invalid(format!("cannot read vocabulary file {name}: {e}"))
+        })?;
+        let table: VocabularyTable = parse_toml(&text, &name)?;
+        v = v.with(&table).map_err(|e| located(&name, &text, e))?;
+    }
+    Ok(Arc::new(v))
 }
 
 /// The rubric's column mapping, with a `--columns` file's over it.

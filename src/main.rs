@@ -81,6 +81,7 @@ fn options(run: RunArgs, out: Option<PathBuf>) -> Options {
         out,
         rubric: run.rubric,
         columns: run.columns,
+        vocabulary: run.vocabulary,
         compounds: run.compounds,
         reference_mp_c: run.reference_mp,
         calibration: run.calibration,

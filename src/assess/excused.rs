@@ -8,64 +8,16 @@
 //! a notes cell only when the row lacks what grading needs (a recovered mass or a melting
 //! entry), since notes mention absences in passing ("absent on Monday, made it up Tuesday").
 
+use crate::ingest::vocabulary::{self, Vocabulary};
 use crate::ingest::Submission;
 
-/// Words that excuse a row wherever they stand in the cell, and what each means.
-const WORDS: [(&str, &str); 14] = [
-    ("withdrew", "withdrawn"),
-    ("withdrawn", "withdrawn"),
-    ("withdraw", "withdrawn"),
-    ("withdrawal", "withdrawn"),
-    ("excused", "excused"),
-    ("excuse", "excused"),
-    ("exempt", "exempt"),
-    ("exempted", "exempt"),
-    ("exemption", "exempt"),
-    ("absent", "absent"),
-    ("absence", "absent"),
-    ("dropped", "dropped the course"),
-    ("drop", "dropped the course"),
-    ("deferred", "deferred"),
-];
-
-/// Registrar-style codes that excuse a row only as the whole of a status cell.
-const CODES: [(&str, &str); 6] = [
-    ("w", "withdrawn"),
-    ("wd", "withdrawn"),
-    ("wdr", "withdrawn"),
-    ("ex", "excused"),
-    ("exc", "excused"),
-    ("abs", "absent"),
-];
-
 fn words(text: &str) -> Vec<String> {
-    text.to_lowercase()
+    vocabulary::fold(text)
         .split(|c: char| !c.is_alphanumeric())
         .filter(|w| !w.is_empty())
         .map(str::to_string)
         .collect()
 }
-
-/// Words that deny an excuse wherever they stand in the cell: "Unexcused absence", "Excused:
-/// no", "Excuse pending", "Withdrawal rejected", "Was absent, now present".
-const DENIALS: [&str; 16] = [
-    "not",
-    "no",
-    "non",
-    "never",
-    "n",
-    "un",
-    "unexcused",
-    "false",
-    "denied",
-    "rejected",
-    "refused",
-    "pending",
-    "requested",
-    "present",
-    "without",
-    "unapproved",
-];
 
 /// A cell's text without parenthetical remarks, dates and numbers: "W (medical)" is "w",
 /// "WD - 10/03" is "wd", "W/D" (letters alone) is "wd".
@@ -91,28 +43,29 @@ fn code_of(text: &str) -> String {
     }
 }
 
-/// The meaning of the first excusing word of `text`, unless the cell denies it.
-fn excusing_word(text: &str, codes: bool) -> Option<(&'static str, String)> {
+/// The meaning of the first excusing word of `text` (the vocabulary's `[status.*]`), or of the
+/// whole cell as a registrar code (`[status_code.*]`), unless a word of the cell denies it
+/// (`[status_denial]`: "Unexcused absence", "Excused: no", "Excuse pending").
+fn excusing_word(v: &Vocabulary, text: &str, codes: bool) -> Option<(String, String)> {
     let w = words(text);
-    if w.iter().any(|x| DENIALS.contains(&x.as_str())) {
+    if w.iter().any(|x| v.has("status_denial.words", x)) {
         return None;
     }
     if codes {
         let code = code_of(text);
-        if let Some((_, meaning)) = CODES.iter().find(|(c, _)| *c == code) {
-            return Some((meaning, code));
+        if let Some(meaning) = v.code(&code) {
+            return Some((meaning.to_string(), code));
         }
     }
-    w.iter().find_map(|word| {
-        let (_, meaning) = WORDS.iter().find(|(x, _)| x == word)?;
-        Some((*meaning, word.clone()))
-    })
+    w.iter()
+        .find_map(|word| Some((v.status(word)?.to_string(), word.clone())))
 }
 
 /// Why the row is excused, in words for its feedback, or `None`.
 pub fn reason(s: &Submission) -> Option<String> {
+    let v = vocabulary::current();
     if let Some(status) = s.status.as_deref() {
-        if let Some((meaning, word)) = excusing_word(status, true) {
+        if let Some((meaning, word)) = excusing_word(&v, status, true) {
             let shown: String = status.trim().chars().take(40).collect();
             return Some(if word == meaning {
                 format!("status \"{shown}\"")
@@ -123,7 +76,7 @@ pub fn reason(s: &Submission) -> Option<String> {
     }
     let lacks = s.recovered_mass_g.is_none() || (s.mp_onset_c.is_none() && s.mp_clear_c.is_none());
     let notes = s.remarks.as_deref().filter(|_| lacks)?;
-    let (_, word) = excusing_word(notes, false)?;
+    let (_, word) = excusing_word(&v, notes, false)?;
     Some(format!(
         "the notes say \"{word}\" and the row has nothing to grade"
     ))

@@ -14,6 +14,7 @@ pub mod spill;
 pub mod submission;
 pub mod table;
 pub mod values;
+pub mod vocabulary;
 pub mod workbook;
 
 use std::fmt::Write as _;

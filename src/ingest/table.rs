@@ -466,49 +466,18 @@ fn settle_claims(columns: &mut [Column], field: Field) {
 
 /// Text in a row's first cell (or where a name belongs) that marks the end of the student
 /// rows: a label made of summary words ("Average", "Class mean", "Std dev", "Grand total",
-/// "Mean ± SD", "Σ"), or a notes heading ("Notes:").
+/// "Mean ± SD", "Σ", "Mittelwert"), or a notes heading ("Notes:", "Bemerkungen"). The words
+/// are the vocabulary's `[summary.*]`.
 fn is_summary_label(text: &str) -> bool {
-    // words that say a row summarises others
-    const STAT: [&str; 28] = [
-        "total",
-        "totals",
-        "sum",
-        "mean",
-        "means",
-        "average",
-        "averages",
-        "avg",
-        "ave",
-        "median",
-        "std",
-        "sd",
-        "stdev",
-        "stddev",
-        "deviation",
-        "count",
-        "n",
-        "summary",
-        "statistics",
-        "stats",
-        "min",
-        "max",
-        "minimum",
-        "maximum",
-        "range",
-        "σ",
-        "Σ",
-        "variance",
-    ];
-    // words that may come with them
-    const WITH: [&str; 10] = [
-        "class", "section", "group", "grand", "overall", "cohort", "standard", "dev", "all",
-        "students",
-    ];
-    const PREFIX: [&str; 6] = ["notes:", "note:", "comments:", "n =", "n=", "average:"];
-    let t = text.trim();
-    let lower = t.to_lowercase();
-    if PREFIX.iter().any(|p| lower.starts_with(p))
-        || ["notes", "note", "comments"].contains(&lower.trim_end_matches(':'))
+    let v = super::vocabulary::current();
+    let lower = super::vocabulary::fold(text.trim());
+    let heading = lower
+        .split_once(':')
+        .is_some_and(|(head, _)| v.has("summary.heading", head));
+    if heading
+        || lower.starts_with("n =")
+        || lower.starts_with("n=")
+        || v.has("summary.notes", lower.trim_end_matches(':'))
     {
         return true;
     }
@@ -518,8 +487,10 @@ fn is_summary_label(text: &str) -> bool {
         .collect();
     !words.is_empty()
         && words.len() <= 4
-        && words.iter().any(|w| STAT.contains(w))
-        && words.iter().all(|w| STAT.contains(w) || WITH.contains(w))
+        && words.iter().any(|w| v.has("summary.stat", w))
+        && words
+            .iter()
+            .all(|w| v.has("summary.stat", w) || v.has("summary.with", w))
 }
 
 /// The rows below the header that are student rows, in order.

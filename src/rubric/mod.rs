@@ -124,6 +124,9 @@ pub struct Rubric {
     pub columns: BTreeMap<String, crate::ingest::headers::MappingValue>,
     #[serde(default)]
     pub grading: Grading,
+    /// Words added to the built-in vocabulary (`[vocabulary.field.crude_mass] nl = ["ruw"]`).
+    #[serde(default)]
+    pub vocabulary: crate::ingest::vocabulary::Table,
     #[serde(default, rename = "criterion")]
     pub criteria: Vec<Criterion>,
     #[serde(default, rename = "flag_rule")]
