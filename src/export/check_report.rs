@@ -133,7 +133,14 @@ pub fn layouts(sheets: &[SheetReport], style: Style) -> String {
             let target = match (c.field, &c.note) {
                 (Some(f), _) => {
                     let mapped = if c.explicit { " (mapped)" } else { "" };
-                    format!("{}{mapped}{}", f.label(), unit_note(c))
+                    let commas = if c.decimal == Some(crate::ingest::values::Decimal::Comma)
+                        && !s.decimal_comma
+                    {
+                        ", decimal commas (as its cells show)"
+                    } else {
+                        ""
+                    };
+                    format!("{}{mapped}{}{commas}", f.label(), unit_note(c))
                 }
                 (None, Some(note)) => style.dim(&printable(note)),
                 (None, None) => style.dim("not used"),
@@ -146,8 +153,29 @@ pub fn layouts(sheets: &[SheetReport], style: Style) -> String {
                 target
             );
         }
+        text_values(&mut out, s);
     }
     out
+}
+
+/// The values read from text that is not a plain number, each beside its text.
+fn text_values(out: &mut String, s: &SheetReport) {
+    if s.text_values.is_empty() {
+        return;
+    }
+    let _ = writeln!(out, "    values read from text:");
+    for v in &s.text_values {
+        let _ = writeln!(
+            out,
+            "      {:<10} \"{}\" -> {}",
+            printable(&v.cell),
+            printable(&v.text),
+            v.read
+        );
+    }
+    if s.text_values_more > 0 {
+        let _ = writeln!(out, "      and {} more", s.text_values_more);
+    }
 }
 
 /// Flagged and excused rows grouped by file, then section, in input order.

@@ -3,6 +3,7 @@
 
 pub mod calibration;
 pub mod cells;
+pub mod commas;
 pub mod delimited;
 pub mod discover;
 pub mod grouped;
@@ -59,6 +60,95 @@ pub struct SheetReport {
     pub unnamed: Vec<u32>,
     pub decimal_comma: bool,
     pub encoding: Option<String>,
+    /// Values read from text that is not a plain number, with the text beside them, for
+    /// `check` (at most `TEXT_VALUES_SHOWN`; `text_values_more` counts the rest).
+    #[serde(skip_serializing_if = "Vec::is_empty")]
+    pub text_values: Vec<TextValue>,
+    #[serde(skip_serializing_if = "is_zero")]
+    pub text_values_more: usize,
+}
+
+fn is_zero(n: &usize) -> bool {
+    *n == 0
+}
+
+/// A value read from text: the cell, the text as typed and what it was read as.
+#[derive(Clone, Debug, PartialEq, Serialize)]
+pub struct TextValue {
+    pub cell: String,
+    pub text: String,
+    pub read: String,
+}
+
+/// Most values read from text `check` lists for one sheet.
+const TEXT_VALUES_SHOWN: usize = 20;
+
+/// Decides each numeric column's comma reading from its cells in the student rows.
+fn decide_commas(layout: &mut Layout, rows: &[&cells::RawRow], file: Decimal) {
+    for c in &mut layout.columns {
+        if c.field
+            .is_some_and(|f| f.is_numeric() || f == crate::fields::Field::MpRange)
+        {
+            c.decimal = Some(commas::column_decimal(
+                rows.iter().map(|r| r.get(c.index)),
+                file,
+            ));
+        }
+    }
+}
+
+/// The values of numeric columns read from text that is not a plain number, with the text.
+fn text_values(
+    layout: &Layout,
+    rows: &[&cells::RawRow],
+    sheet: Option<&str>,
+    file: Decimal,
+) -> (Vec<TextValue>, usize) {
+    let mut out = Vec::new();
+    let mut more = 0;
+    for r in rows {
+        for c in &layout.columns {
+            let (Some(field), Some(decimal)) = (c.field, c.decimal) else {
+                continue;
+            };
+            let cells::Cell::Text(t) = r.get(c.index) else {
+                continue;
+            };
+            if values::is_blank_marker(t) || !commas::worth_showing(t, file) {
+                continue;
+            }
+            let read = if field == crate::fields::Field::MpRange {
+                range::parse_range(t, decimal).map(|x| {
+                    let unit = x.unit.map(|u| values::Unit::Temperature(u).symbol());
+                    format!(
+                        "{}-{}{}",
+                        cells::format_number(x.onset),
+                        cells::format_number(x.clear),
+                        unit.map(|u| format!(" {u}")).unwrap_or_default()
+                    )
+                })
+            } else {
+                values::parse_quantity(t, decimal).map(|q| {
+                    let unit = q
+                        .unit
+                        .map(|u| format!(" {}", u.symbol()))
+                        .unwrap_or_default();
+                    format!("{}{unit}", cells::format_number(q.value))
+                })
+            };
+            let Some(read) = read else { continue };
+            if out.len() < TEXT_VALUES_SHOWN {
+                out.push(TextValue {
+                    cell: cells::cell_ref(sheet, r.index, c.index),
+                    text: t.trim().to_string(),
+                    read,
+                });
+            } else {
+                more += 1;
+            }
+        }
+    }
+    (out, more)
 }
 
 /// A sheet as read from a file, ready to be tabulated.
@@ -340,7 +430,7 @@ pub fn tabulate(
         fatal,
     };
     let columns = columns.for_sheet(&data.source, sheet.name.as_deref());
-    let layout = match table::locate(sheet, &columns) {
+    let mut layout = match table::locate(sheet, &columns) {
         Ok(l) => l,
         Err(LayoutError::NoTable) => {
             return Err(problem(
@@ -349,6 +439,10 @@ pub fn tabulate(
             ))
         }
     };
+    let (rows, unnamed) = table::rows_and_unnamed(sheet, &layout);
+    decide_commas(&mut layout, &rows, data.decimal);
+    let (text_values, text_values_more) =
+        text_values(&layout, &rows, sheet.name.as_deref(), data.decimal);
     let origin = row::Origin {
         source: &data.source,
         sheet: sheet.name.as_deref(),
@@ -356,7 +450,6 @@ pub fn tabulate(
         decimal: data.decimal,
         headers: std::sync::Arc::new(sheet_head(sheet, &layout)),
     };
-    let (rows, unnamed) = table::rows_and_unnamed(sheet, &layout);
     let students = rows.len();
     for r in rows {
         on_row(row::read_row(r, &layout, &origin));
@@ -369,5 +462,7 @@ pub fn tabulate(
         unnamed,
         decimal_comma: data.decimal == Decimal::Comma,
         encoding: data.encoding.clone(),
+        text_values,
+        text_values_more,
     })
 }

@@ -247,8 +247,9 @@ pub fn read_row(row: &RawRow, layout: &Layout, origin: &Origin) -> Submission {
         let Some(field) = column.field else { continue };
         let cell = row.get(column.index);
         let at = || cell_ref(origin.sheet, row.index, column.index);
+        let decimal = column.decimal.unwrap_or(origin.decimal);
         let read = if field == Field::MpRange {
-            read_range_into(&mut sub, cell, column, origin.decimal, &at)
+            read_range_into(&mut sub, cell, column, decimal, &at)
         } else if field.is_numeric() {
             if field == Field::ReportedRecovery {
                 // a value shown with its percent sign is a percentage as it stands
@@ -258,7 +259,7 @@ pub fn read_row(row: &RawRow, layout: &Layout, origin: &Origin) -> Submission {
                     _ => false,
                 };
             }
-            read_number(cell, column, origin.decimal).map(|v| set_number(&mut sub, field, v))
+            read_number(cell, column, decimal).map(|v| set_number(&mut sub, field, v))
         } else if let Cell::Error(_) = cell {
             Err(found_instead(cell))
         } else {

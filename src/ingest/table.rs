@@ -41,6 +41,10 @@ pub struct Column {
     pub unit_source: Option<UnitSource>,
     /// Why the column is not used, when it is not.
     pub note: Option<String>,
+    /// How its text cells' commas read, decided from all its cells (`commas.rs`); `None` until
+    /// the student rows are known, then as the file reads numbers unless the cells say so.
+    #[serde(skip)]
+    pub decimal: Option<super::values::Decimal>,
 }
 
 /// The located table: where its header is and what each column means.
@@ -222,6 +226,7 @@ fn column(
             _ => None,
         },
         header,
+        decimal: None,
     };
     (column, m)
 }
