@@ -58,9 +58,7 @@ pub fn column_decimal<'a>(cells: impl Iterator<Item = &'a Cell>, file: Decimal) 
 /// number or range ("121.5-122", "121.5–122").
 pub fn worth_showing(text: &str, file: Decimal) -> bool {
     text.chars().any(|c| {
-        c.is_alphabetic()
-            || matches!(c, '~' | '≈' | '°')
-            || c == ',' && file == Decimal::Point
+        c.is_alphabetic() || matches!(c, '~' | '≈' | '°') || c == ',' && file == Decimal::Point
     })
 }
 
