@@ -129,6 +129,7 @@ pub fn layouts(sheets: &[SheetReport], style: Style) -> String {
         if let Some(m) = crate::ingest::unnamed_message(&s.unnamed) {
             let _ = writeln!(out, "    {m}");
         }
+        below_the_block(&mut out, s);
         for c in &s.layout.columns {
             let target = match (c.field, &c.note) {
                 (Some(f), _) => {
@@ -156,6 +157,37 @@ pub fn layouts(sheets: &[SheetReport], style: Style) -> String {
         text_values(&mut out, s);
     }
     out
+}
+
+/// The rows below the notes or summary block: late entries read as students, and the rest
+/// passed over, by row.
+fn below_the_block(out: &mut String, s: &SheetReport) {
+    let Some(block) = s.block else { return };
+    if !s.late.is_empty() {
+        let _ = writeln!(
+            out,
+            "    {} {} stand{} below the notes or summary block at row {block} and {} like {} (an id or name, and a mass or melting entry): read as {}, with a note",
+            if s.late.len() == 1 { "row" } else { "rows" },
+            crate::ingest::row_list(&s.late),
+            if s.late.len() == 1 { "s" } else { "" },
+            if s.late.len() == 1 { "looks" } else { "look" },
+            if s.late.len() == 1 { "a student" } else { "students" },
+            if s.late.len() == 1 { "one" } else { "students" },
+        );
+    }
+    if !s.passed.is_empty() {
+        let _ = writeln!(
+            out,
+            "    {} {} below the notes or summary block at row {block}: passed over, not {}",
+            if s.passed.len() == 1 { "row" } else { "rows" },
+            crate::ingest::row_list(&s.passed),
+            if s.passed.len() == 1 {
+                "a student"
+            } else {
+                "students"
+            }
+        );
+    }
 }
 
 /// The values read from text that is not a plain number, each beside its text.

@@ -1,6 +1,7 @@
 //! Ingest: files in, `Submission`s out, with a report of every sheet's layout and every file
 //! or sheet that could not be used. Nothing here stops the batch: a bad file is a `Problem`.
 
+pub mod body;
 pub mod calibration;
 pub mod cells;
 pub mod commas;
@@ -66,6 +67,42 @@ pub struct SheetReport {
     pub text_values: Vec<TextValue>,
     #[serde(skip_serializing_if = "is_zero")]
     pub text_values_more: usize,
+    /// The 1-based row of the notes or summary block that ends the student rows, when rows
+    /// stand below it.
+    #[serde(skip_serializing_if = "Option::is_none")]
+    pub block: Option<u32>,
+    /// 1-based rows below the block read as students (late entries).
+    #[serde(skip_serializing_if = "Vec::is_empty")]
+    pub late: Vec<u32>,
+    /// 1-based rows below the block passed over: not students.
+    #[serde(skip_serializing_if = "Vec::is_empty")]
+    pub passed: Vec<u32>,
+}
+
+/// The rows as a short list: "4, 7-9, 12", the first ten runs and a count of the rest.
+pub fn row_list(rows: &[u32]) -> String {
+    let mut runs: Vec<(u32, u32)> = Vec::new();
+    for &r in rows {
+        match runs.last_mut() {
+            Some(last) if last.1 + 1 == r => last.1 = r,
+            _ => runs.push((r, r)),
+        }
+    }
+    let mut parts: Vec<String> = runs
+        .iter()
+        .take(10)
+        .map(|(a, b)| {
+            if a == b {
+                a.to_string()
+            } else {
+                format!("{a}-{b}")
+            }
+        })
+        .collect();
+    if runs.len() > 10 {
+        parts.push(format!("and {} more", runs.len() - 10));
+    }
+    parts.join(", ")
 }
 
 fn is_zero(n: &usize) -> bool {
@@ -439,7 +476,13 @@ pub fn tabulate(
             ))
         }
     };
-    let (rows, unnamed) = table::rows_and_unnamed(sheet, &layout);
+    let body::Body {
+        rows,
+        unnamed,
+        block,
+        late,
+        passed,
+    } = body::body(sheet, &layout);
     decide_commas(&mut layout, &rows, data.decimal);
     let (text_values, text_values_more) =
         text_values(&layout, &rows, sheet.name.as_deref(), data.decimal);
@@ -452,7 +495,14 @@ pub fn tabulate(
     };
     let students = rows.len();
     for r in rows {
-        on_row(row::read_row(r, &layout, &origin));
+        let mut sub = row::read_row(r, &layout, &origin);
+        if let Some(block) = block.filter(|_| late.contains(&sub.row)) {
+            sub.notes.push(format!(
+                "row {} stands below the notes or summary block that begins at row {block}; read as a student",
+                sub.row
+            ));
+        }
+        on_row(sub);
     }
     Ok(SheetReport {
         source: data.source.clone(),
@@ -464,5 +514,8 @@ pub fn tabulate(
         encoding: data.encoding.clone(),
         text_values,
         text_values_more,
+        block: block.filter(|_| !late.is_empty() || !passed.is_empty()),
+        late,
+        passed,
     })
 }

@@ -4,6 +4,7 @@
 use serde::Serialize;
 use std::fmt::Write as _;
 
+pub use super::body::{rows_and_unnamed, student_rows};
 use super::cells::{column_letters, RawRow, RawSheet};
 use super::grouped::{combine, GroupedColumn};
 use super::headers::{
@@ -467,113 +468,6 @@ fn settle_claims(columns: &mut [Column], field: Field) {
             ),
         });
     }
-}
-
-/// Text in a row's first cell (or where a name belongs) that marks the end of the student
-/// rows: a label made of summary words ("Average", "Class mean", "Std dev", "Grand total",
-/// "Mean ± SD", "Σ", "Mittelwert"), or a notes heading ("Notes:", "Bemerkungen"). The words
-/// are the vocabulary's `[summary.*]`.
-fn is_summary_label(text: &str) -> bool {
-    let v = super::vocabulary::current();
-    let lower = super::vocabulary::fold(text.trim());
-    let heading = lower
-        .split_once(':')
-        .is_some_and(|(head, _)| v.has("summary.heading", head));
-    if heading
-        || lower.starts_with("n =")
-        || lower.starts_with("n=")
-        || v.has("summary.notes", lower.trim_end_matches(':'))
-    {
-        return true;
-    }
-    let words: Vec<&str> = lower
-        .split(|c: char| !c.is_alphanumeric())
-        .filter(|w| !w.is_empty())
-        .collect();
-    !words.is_empty()
-        && words.len() <= 4
-        && words.iter().any(|w| v.has("summary.stat", w))
-        && words
-            .iter()
-            .all(|w| v.has("summary.stat", w) || v.has("summary.with", w))
-}
-
-/// The rows below the header that are student rows, in order.
-pub fn student_rows<'a>(sheet: &'a RawSheet, layout: &Layout) -> Vec<&'a RawRow> {
-    rows_and_unnamed(sheet, layout).0
-}
-
-/// The student rows, and the 1-based rows passed over because they name no one in a sheet that
-/// has an id or name column (a template row holding only a bench number or a formula's result,
-/// an unlabelled average): they cannot be anyone's grade.
-pub fn rows_and_unnamed<'a>(sheet: &'a RawSheet, layout: &Layout) -> (Vec<&'a RawRow>, Vec<u32>) {
-    let mapped: Vec<u32> = layout
-        .columns
-        .iter()
-        .filter(|c| c.field.is_some())
-        .map(|c| c.index)
-        .collect();
-    let who: Vec<u32> = [
-        Field::StudentId,
-        Field::StudentName,
-        Field::LastName,
-        Field::FirstName,
-    ]
-    .iter()
-    .filter_map(|f| layout.column(*f).map(|c| c.index))
-    .collect();
-    let id = layout.column(Field::StudentId).map(|c| c.index);
-    let header = &sheet.rows[layout.header_pos];
-    let mut out = Vec::new();
-    let mut unnamed = Vec::new();
-    let first = layout.body_pos;
-    let mut prev = sheet.rows[first - 1].index;
-    for row in sheet.rows.iter().skip(first) {
-        let gap = row.index > prev + 1;
-        prev = row.index;
-        if ends_the_table(row, id, &who) {
-            break;
-        }
-        let filled = mapped.iter().filter(|&&c| !row.get(c).is_empty()).count();
-        let names_someone = who.iter().any(|&c| !row.get(c).is_empty());
-        if filled == 0 || is_repeated_header(row, header) {
-            continue;
-        }
-        if gap && (filled == 1 || !names_someone) {
-            break;
-        }
-        if !who.is_empty() && !names_someone {
-            unnamed.push(row.index + 1);
-            continue;
-        }
-        out.push(row);
-    }
-    (out, unnamed)
-}
-
-/// A row labelled as a summary ("Average", "Class mean") in its first cell or where a name
-/// belongs ends the student rows; a row with a student id is a student, whatever its name cell
-/// says ("Max").
-fn ends_the_table(row: &RawRow, id: Option<u32>, who: &[u32]) -> bool {
-    let has_id = id.is_some_and(|c| {
-        let cell = row.get(c);
-        !cell.is_empty() && !cell.as_text().is_some_and(|t| is_summary_label(&t))
-    });
-    let mut labels = row
-        .non_empty()
-        .take(1)
-        .map(|(c, _)| c)
-        .chain(who.iter().copied())
-        .filter_map(|c| match row.get(c) {
-            super::cells::Cell::Text(t) => Some(t.as_str()),
-            _ => None,
-        });
-    !has_id && labels.any(is_summary_label)
-}
-
-fn is_repeated_header(row: &RawRow, header: &RawRow) -> bool {
-    row.cells.len() == header.cells.len()
-        && row.cells.iter().zip(&header.cells).all(|(a, b)| a == b)
 }
 
 #[cfg(test)]
