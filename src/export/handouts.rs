@@ -50,6 +50,8 @@ pub struct Handouts {
     files: BTreeMap<String, AtomicFile>,
     stems: BTreeMap<String, String>,
     page: String,
+    /// Print the sheet's notes on each page.
+    sheet_notes: bool,
 }
 
 /// The labels of the values a handout shows, escaped once.
@@ -113,7 +115,14 @@ impl Handouts {
             files: BTreeMap::new(),
             stems: BTreeMap::new(),
             page: String::with_capacity(8 << 10),
+            sheet_notes: false,
         }
+    }
+
+    /// Prints the sheet's notes on each student's page (`[grading] notes_to_students`).
+    pub fn with_sheet_notes(mut self, yes: bool) -> Handouts {
+        self.sheet_notes = yes;
+        self
     }
 
     /// The section's file, opened with the page's head on first use; `None` past the limit.
@@ -170,6 +179,9 @@ impl Handouts {
         let mut page = std::mem::take(&mut self.page);
         page.clear();
         write_page(&mut page, &self.title_html, g);
+        if self.sheet_notes {
+            sheet_notes(&mut page, g);
+        }
         let section = g.assessed.submission.section.clone();
         if let Some(f) = self.file(&section)? {
             f.write_all(page.as_bytes()).map_err(|e| f.error(e))?;
@@ -186,6 +198,20 @@ impl Handouts {
         }
         Ok(())
     }
+}
+
+/// The sheet's notes about the student, inside the page's section (before its end tag).
+fn sheet_notes(page: &mut String, g: &Graded) {
+    let Some(notes) = g.assessed.submission.remarks.as_deref() else {
+        return;
+    };
+    let Some(end) = page.rfind("</section>") else {
+        return;
+    };
+    let mut block = String::from("<h2>Notes from your assistant</h2><p>");
+    escape_into(&mut block, notes);
+    block.push_str("</p>");
+    page.insert_str(end, &block);
 }
 
 /// One student's printed page, under the title (already escaped).

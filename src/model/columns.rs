@@ -365,6 +365,11 @@ registry! {
     /// `graded`, or `excused` for a student who withdrew or was excused (no score given).
     STATUS = { name: "status", label: "Status", outputs: RESULTS_PARQUET,
         get: |r| Value::Text(Some(if a(r).excused.is_some() { "excused" } else { "graded" })), }
+    /// The text of the sheet's own notes or comments column, as the assistant wrote it
+    /// (`notes` holds benchgrade's reading notes). Free text about a person: left out of
+    /// anything pseudonymised.
+    SHEET_NOTES = { name: "sheet_notes", label: "Sheet notes", personal: Some(Personal::Name),
+        get: |r| Value::Text(a(r).submission.remarks.as_deref()), }
 }
 
 #[cfg(test)]

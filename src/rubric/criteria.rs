@@ -160,6 +160,10 @@ pub struct Grading {
     /// Which of a student's repeated submissions in a section counts: "first" or "last".
     #[serde(default)]
     pub duplicates: Counted,
+    /// Whether the sheet's notes column is printed on the students' handouts (it is written
+    /// for the assistants; off unless the rubric says so).
+    #[serde(default)]
+    pub notes_to_students: bool,
 }
 
 /// Which of a student's repeated submissions in a section counts.
