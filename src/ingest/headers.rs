@@ -412,6 +412,8 @@ pub struct ColumnOverrides {
     pub map: BTreeMap<String, Option<Field>>,
     /// By column letter ("C").
     pub letters: BTreeMap<String, Option<Field>>,
+    /// Values set for every row of a file or sheet: `section = "102"`, `assistant = "R. Okafor"`.
+    pub values: BTreeMap<Field, String>,
     scoped: Vec<(Scope, ColumnOverrides)>,
 }
 
@@ -436,6 +438,17 @@ fn looks_like_a_letter_key(key: &str) -> bool {
     })
 }
 
+/// `section = "102"` or `assistant = "R. Okafor"`: a value for every row, not a header mapped to
+/// a field (a value that is a field's name, or "ignore", maps a column headed "Section").
+fn value_key(header: &str, value: &str) -> Option<Field> {
+    let f = match canonical(header).as_str() {
+        "section" => Field::Section,
+        "assistant" => Field::Assistant,
+        _ => return None,
+    };
+    (value != "ignore" && Field::from_key(value).is_none()).then_some(f)
+}
+
 fn field_for(header: &str, key: &str) -> Result<Option<Field>, String> {
     if key == "ignore" {
         return Ok(None);
@@ -457,6 +470,10 @@ impl ColumnOverrides {
     ) -> Result<Self, String> {
         let mut out = ColumnOverrides::default();
         for (header, key) in pairs {
+            if let Some(f) = value_key(header, key) {
+                out.values.insert(f, key.trim().to_string());
+                continue;
+            }
             let field = field_for(header, key)?;
             match letter_key(header) {
                 Some(l) => out.letters.insert(l, field),
@@ -498,6 +515,9 @@ impl ColumnOverrides {
         for (k, v) in &base.letters {
             self.letters.entry(k.clone()).or_insert(*v);
         }
+        for (k, v) in &base.values {
+            self.values.entry(*k).or_insert_with(|| v.clone());
+        }
         self.scoped.extend(base.scoped.iter().cloned());
         self
     }
@@ -520,6 +540,7 @@ impl ColumnOverrides {
         let mut out = ColumnOverrides {
             map: self.map.clone(),
             letters: self.letters.clone(),
+            values: self.values.clone(),
             scoped: Vec::new(),
         };
         for (scope, m) in &self.scoped {
@@ -527,6 +548,8 @@ impl ColumnOverrides {
                 out.map.extend(m.map.iter().map(|(k, v)| (k.clone(), *v)));
                 out.letters
                     .extend(m.letters.iter().map(|(k, v)| (k.clone(), *v)));
+                out.values
+                    .extend(m.values.iter().map(|(k, v)| (*k, v.clone())));
             }
         }
         out
@@ -737,6 +760,64 @@ mod tests {
             mapping_line("D", Some(Field::RecoveredMass)),
             "\"column D\" = \"recovered_mass\""
         );
+    }
+
+    #[test]
+    fn a_file_table_sets_the_section_and_the_assistant() {
+        let table: BTreeMap<String, MappingValue> = toml::from_str(
+            "[\"exp3.xlsx\"]\nsection = \"102\"\nassistant = \"R. Okafor\"\n\"Section\" = \"section\"\n",
+        )
+        .unwrap();
+        let o = ColumnOverrides::from_table(&table).unwrap();
+        let here = o.for_sheet("data/exp3.xlsx", Some("Exp3"));
+        assert_eq!(
+            here.values.get(&Field::Section).map(String::as_str),
+            Some("102")
+        );
+        assert_eq!(
+            here.values.get(&Field::Assistant).map(String::as_str),
+            Some("R. Okafor")
+        );
+        // a field's name as the value maps a column headed "Section"
+        assert_eq!(
+            meaning("Section", "C", &here).0,
+            HeaderMeaning::Field(Field::Section)
+        );
+        assert!(o.for_sheet("other.xlsx", None).values.is_empty());
+    }
+
+    /// Headers in German, Spanish, French and Portuguese (invented sheets; the words from the
+    /// vocabulary), read as their English twins are.
+    #[test]
+    fn headers_in_other_languages_read_as_their_english_twins() {
+        use Field::*;
+        for (text, want) in [
+            ("Matrikelnummer", StudentId),
+            ("Rohprodukt (g)", CrudeMass),
+            ("Ausbeute (g)", RecoveredMass),
+            ("Ausbeute (%)", ReportedRecovery),
+            ("Schmelzbereich (°C)", MpRange),
+            ("Platz", Bench),
+            ("Matrícula", StudentId),
+            ("Matricula", StudentId),
+            ("Masa cruda (g)", CrudeMass),
+            ("Masa recuperada (g)", RecoveredMass),
+            ("% Recuperación", ReportedRecovery),
+            ("Punto de fusión", MpRange),
+            ("Numéro étudiant", StudentId),
+            ("Masse brute (g)", CrudeMass),
+            ("Masse purifiée (g)", RecoveredMass),
+            ("Rendement (%)", ReportedRecovery),
+            ("Point de fusion (°C)", MpRange),
+            ("Paillasse", Bench),
+            ("Massa bruta (g)", CrudeMass),
+            ("Massa recuperada (g)", RecoveredMass),
+            ("Ponto de fusão (°C)", MpRange),
+            ("Bancada", Bench),
+            ("Observações", Notes),
+        ] {
+            assert_eq!(field(text), HeaderMeaning::Field(want), "{text:?}");
+        }
     }
 
     proptest! {

@@ -15,6 +15,7 @@ pub mod row;
 pub mod spill;
 pub mod submission;
 pub mod table;
+pub mod title;
 pub mod values;
 pub mod vocabulary;
 pub mod workbook;
@@ -439,6 +440,57 @@ fn sheet_head(sheet: &RawSheet, layout: &table::Layout) -> submission::SheetHead
     }
 }
 
+/// The section and assistant of rows without a cell for them: a `section = ".."` or
+/// `assistant = ".."` in the sheet's or file's mapping; else, where the table has no such
+/// column, what the title rows name (a title's section only where it is not the sheet's or
+/// file's own: "Section 07" over a sheet "Sec 07" keeps "Sec 07"); else the sheet name or file
+/// stem, and no assistant.
+fn section_and_assistant(
+    columns: &ColumnOverrides,
+    layout: &Layout,
+    head: &SheetHead,
+    default: &str,
+) -> (String, Option<String>) {
+    use crate::fields::Field;
+    let named = title::named(&head.title, &vocabulary::current());
+    let section = columns.values.get(&Field::Section).cloned().or_else(|| {
+        let s = named
+            .section
+            .filter(|_| layout.column(Field::Section).is_none())?;
+        (!same_label(&s, default)).then_some(s)
+    });
+    let assistant = columns.values.get(&Field::Assistant).cloned().or_else(|| {
+        named
+            .assistant
+            .filter(|_| layout.column(Field::Assistant).is_none())
+    });
+    (section.unwrap_or_else(|| default.to_string()), assistant)
+}
+
+/// Whether a title's section ("Section 07") is the one a sheet name or file stem names ("Sec
+/// 07", "section-7"): the last words of both, leading zeros aside.
+fn same_label(title: &str, name: &str) -> bool {
+    let last = |t: &str| {
+        t.split(|c: char| !c.is_alphanumeric())
+            .rfind(|t| !t.is_empty())
+            .map(str::to_string)
+    };
+    let Some(label) = last(title) else {
+        return false;
+    };
+    let key = |t: &str| {
+        let t = t.trim_start_matches('0').to_lowercase();
+        if t.is_empty() {
+            "0".to_string()
+        } else {
+            t
+        }
+    };
+    name.split(|c: char| !c.is_alphanumeric())
+        .rfind(|t| !t.is_empty())
+        .is_some_and(|last| key(last) == key(&label))
+}
+
 /// Finds the table in a sheet and hands over each student row as a `Submission`.
 pub fn tabulate(
     data: &SheetData,
@@ -486,12 +538,16 @@ pub fn tabulate(
     decide_commas(&mut layout, &rows, data.decimal);
     let (text_values, text_values_more) =
         text_values(&layout, &rows, sheet.name.as_deref(), data.decimal);
+    let head = sheet_head(sheet, &layout);
+    let (section, assistant) =
+        section_and_assistant(&columns, &layout, &head, &data.default_section);
     let origin = row::Origin {
         source: &data.source,
         sheet: sheet.name.as_deref(),
-        default_section: &data.default_section,
+        default_section: &section,
+        default_assistant: assistant.as_deref(),
         decimal: data.decimal,
-        headers: std::sync::Arc::new(sheet_head(sheet, &layout)),
+        headers: std::sync::Arc::new(head),
     };
     let students = rows.len();
     for r in rows {

@@ -14,6 +14,8 @@ pub struct Origin<'a> {
     pub sheet: Option<&'a str>,
     /// Section used when the sheet has no section column: the sheet name or the file stem.
     pub default_section: &'a str,
+    /// Assistant used when the row has no assistant cell: from the mapping or the title rows.
+    pub default_assistant: Option<&'a str>,
     pub decimal: Decimal,
     /// The header texts and title rows of the sheet's table, kept with each row.
     pub headers: std::sync::Arc<super::submission::SheetHead>,
@@ -176,7 +178,11 @@ fn set_text(sub: &mut Submission, field: Field, text: Option<String>) {
         }
         Field::Bench => &mut sub.bench,
         Field::Apparatus => &mut sub.apparatus,
-        Field::Assistant => &mut sub.assistant,
+        Field::Assistant => {
+            return if let Some(t) = text {
+                sub.assistant = Some(t);
+            }
+        }
         Field::Compound => &mut sub.compound,
         Field::Solvent => &mut sub.solvent,
         Field::Status => &mut sub.status,
@@ -233,6 +239,7 @@ pub fn read_row(row: &RawRow, layout: &Layout, origin: &Origin) -> Submission {
         sheet: origin.sheet.map(str::to_string),
         row: row.index + 1,
         section: origin.default_section.to_string(),
+        assistant: origin.default_assistant.map(str::to_string),
         original: layout
             .columns
             .iter()
@@ -363,6 +370,7 @@ mod tests {
             source: "x.xlsx",
             sheet: Some("Sec 2"),
             default_section: "Sec 2",
+            default_assistant: None,
             decimal: Decimal::Point,
             headers: std::sync::Arc::new(super::super::submission::SheetHead {
                 headers: headers
