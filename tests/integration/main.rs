@@ -15,6 +15,7 @@ mod cohort;
 mod grading;
 mod harness;
 mod ingest_messy;
+mod languages;
 mod layers;
 mod nist;
 mod physchem;

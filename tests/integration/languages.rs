@@ -1,0 +1,373 @@
+//! One invented class kept four ways: in English with one-row headers, and in German, Spanish
+//! and French with two-row (grouped) headers, decimal commas, a withdrawal word of the language
+//! in the notes, a sentence about the work that excuses no one, a late entry typed below the
+//! notes block, and the section and assistant named in the title rows. Each translation must
+//! grade exactly as its English twin: every number, flag, score and status.
+//!
+//! The expectation is the English twin graded by the same binary; the English twin itself is
+//! checked against hand-worked values (recovery = 100 x recovered / crude).
+
+use approx::assert_relative_eq;
+use rust_xlsxwriter::{Workbook, Worksheet};
+
+use crate::harness::{by_id, flags, num, Fixture, Record};
+
+/// One student: id, name, bench, crude g, recovered g, reported %, onset, clear, notes.
+type Student = (
+    &'static str,
+    &'static str,
+    u32,
+    Option<f64>,
+    Option<f64>,
+    Option<f64>,
+    Option<f64>,
+    Option<f64>,
+    &'static str,
+);
+
+/// The class (invented). The notes column's words are replaced per language: "W" for the
+/// withdrawal word, "S" for the sentence about the work.
+const CLASS: [Student; 7] = [
+    (
+        "3101",
+        "Ada Brandt",
+        1,
+        Some(2.514),
+        Some(1.834),
+        Some(73.0),
+        Some(120.5),
+        Some(122.0),
+        "",
+    ),
+    (
+        "3102",
+        "Ben Okoro",
+        2,
+        Some(3.108),
+        Some(2.291),
+        Some(73.7),
+        Some(121.0),
+        Some(122.2),
+        "",
+    ),
+    (
+        "3103",
+        "Cleo Varga",
+        3,
+        Some(2.75),
+        Some(0.745),
+        Some(27.1),
+        Some(119.0),
+        Some(121.5),
+        "",
+    ),
+    (
+        "3104",
+        "Dev Marlow",
+        4,
+        Some(2.9),
+        Some(3.01),
+        Some(103.8),
+        Some(118.5),
+        Some(121.0),
+        "",
+    ),
+    (
+        "3105",
+        "Esi Lund",
+        5,
+        Some(2.6),
+        Some(1.9),
+        Some(73.1),
+        Some(122.5),
+        Some(121.9),
+        "",
+    ),
+    ("3106", "Finn Aalto", 6, None, None, None, None, None, "W"),
+    (
+        "3107",
+        "Gia Portas",
+        7,
+        Some(2.8),
+        Some(0.0),
+        None,
+        None,
+        None,
+        "S",
+    ),
+];
+
+/// The late entry, typed below the notes block.
+const LATE: Student = (
+    "3108",
+    "Hugo Sand",
+    8,
+    Some(2.45),
+    Some(1.8),
+    Some(73.5),
+    Some(120.8),
+    Some(122.0),
+    "",
+);
+
+/// How one language keeps the sheet.
+struct Lang {
+    file: &'static str,
+    title: &'static str,
+    /// Upper header row (group names; "" for none) and lower row (sub-headers; "" for none),
+    /// over: id, name, bench, crude, recovered, reported %, onset, clear, notes.
+    upper: [&'static str; 9],
+    lower: [&'static str; 9],
+    /// Group names to merge, as (first column, last column).
+    merges: &'static [(u16, u16)],
+    withdrawn: &'static str,
+    sentence: &'static str,
+    notes_heading: &'static str,
+    decimal_comma: bool,
+}
+
+const ENGLISH: Lang = Lang {
+    file: "en.xlsx",
+    title: "Recrystallization of benzoic acid, Section 3 (TA: K. Hahn)",
+    upper: [
+        "Student ID",
+        "Name",
+        "Bench",
+        "Crude mass (g)",
+        "Recovered mass (g)",
+        "% Recovery",
+        "MP onset (°C)",
+        "MP clear (°C)",
+        "Notes",
+    ],
+    lower: [""; 9],
+    merges: &[],
+    withdrawn: "withdrawn",
+    sentence: "dropped filter paper in sink",
+    notes_heading: "Notes:",
+    decimal_comma: false,
+};
+
+const LANGS: [Lang; 3] = [
+    Lang {
+        file: "de.xlsx",
+        title: "Umkristallisation von Benzoesäure, Sektion 3 (Betreuer: K. Hahn)",
+        upper: [
+            "Matrikelnummer",
+            "Name",
+            "Platz",
+            "Masse (g)",
+            "",
+            "Ausbeute (%)",
+            "Schmelzbereich (°C)",
+            "",
+            "Bemerkungen",
+        ],
+        lower: [
+            "",
+            "",
+            "",
+            "Rohprodukt",
+            "Ausbeute",
+            "",
+            "Beginn",
+            "Ende",
+            "",
+        ],
+        merges: &[(3, 4), (6, 7)],
+        withdrawn: "abgemeldet",
+        sentence: "Filterpapier ins Waschbecken fallen gelassen",
+        notes_heading: "Bemerkungen:",
+        decimal_comma: true,
+    },
+    Lang {
+        file: "es.xlsx",
+        title: "Recristalización del ácido benzoico, Sección 3 (Asistente: K. Hahn)",
+        upper: [
+            "Matrícula",
+            "Nombre",
+            "Mesa",
+            "Masa (g)",
+            "",
+            "% Recuperación",
+            "Punto de fusión (°C)",
+            "",
+            "Observaciones",
+        ],
+        lower: ["", "", "", "Cruda", "Recuperada", "", "Inicio", "Final", ""],
+        // the group names typed once, with blank cells to their right (no merge)
+        merges: &[],
+        withdrawn: "baja",
+        sentence: "se le cayó el papel de filtro al fregadero",
+        notes_heading: "Observaciones:",
+        decimal_comma: true,
+    },
+    Lang {
+        file: "fr.xlsx",
+        title: "Recristallisation de l'acide benzoïque, Section 3 (Encadrant : K. Hahn)",
+        upper: [
+            "Numéro étudiant",
+            "Nom",
+            "Paillasse",
+            "Masse (g)",
+            "",
+            "Rendement (%)",
+            "Point de fusion (°C)",
+            "",
+            "Remarques",
+        ],
+        lower: ["", "", "", "Brute", "Purifiée", "", "Début", "Fin", ""],
+        merges: &[(3, 4), (6, 7)],
+        withdrawn: "désinscrit",
+        sentence: "a renversé le papier filtre dans l'évier",
+        notes_heading: "Remarques :",
+        decimal_comma: false,
+    },
+];
+
+/// A number as the language writes it: with a decimal comma, as text, where it does.
+fn put_number(ws: &mut Worksheet, r: u32, c: u16, v: Option<f64>, comma: bool) {
+    let Some(v) = v else { return };
+    if comma {
+        ws.write_string(r, c, format!("{v}").replace('.', ","))
+            .unwrap();
+    } else {
+        ws.write_number(r, c, v).unwrap();
+    }
+}
+
+fn put_student(ws: &mut Worksheet, r: u32, s: &Student, lang: &Lang) {
+    ws.write_string(r, 0, s.0).unwrap();
+    ws.write_string(r, 1, s.1).unwrap();
+    ws.write_number(r, 2, f64::from(s.2)).unwrap();
+    let comma = lang.decimal_comma;
+    for (c, v) in [(3, s.3), (4, s.4), (5, s.5), (6, s.6), (7, s.7)] {
+        put_number(ws, r, c, v, comma);
+    }
+    let notes = match s.8 {
+        "W" => lang.withdrawn,
+        "S" => lang.sentence,
+        other => other,
+    };
+    if !notes.is_empty() {
+        ws.write_string(r, 8, notes).unwrap();
+    }
+}
+
+fn write_class(wb: &mut Workbook, lang: &Lang) {
+    let ws = wb.add_worksheet().set_name("Exp3").unwrap();
+    ws.write_string(0, 0, lang.title).unwrap();
+    let grouped = lang.lower.iter().any(|t| !t.is_empty());
+    for (c, text) in lang.upper.iter().enumerate() {
+        if !text.is_empty() {
+            ws.write_string(2, c as u16, *text).unwrap();
+        }
+    }
+    for (first, last) in lang.merges {
+        ws.merge_range(
+            2,
+            *first,
+            2,
+            *last,
+            lang.upper[*first as usize],
+            &rust_xlsxwriter::Format::new(),
+        )
+        .unwrap();
+    }
+    for (c, text) in lang.lower.iter().enumerate() {
+        if !text.is_empty() {
+            ws.write_string(3, c as u16, *text).unwrap();
+        }
+    }
+    let mut r = if grouped { 4 } else { 3 };
+    for s in &CLASS {
+        put_student(ws, r, s, lang);
+        r += 1;
+    }
+    ws.write_string(r + 1, 0, lang.notes_heading).unwrap();
+    ws.write_string(r + 2, 0, "Bench 4: thermometer replaced")
+        .unwrap();
+    put_student(ws, r + 3, &LATE, lang);
+}
+
+fn grade(f: &Fixture, lang: &Lang) -> (Vec<Record>, String) {
+    f.xlsx(lang.file, |wb| write_class(wb, lang));
+    let out = format!("out-{}", lang.file);
+    let run = f.run(&["grade", lang.file, "--out", &out]);
+    assert_eq!(run.code, 0, "{}: {}", lang.file, run.stderr);
+    let check = f.run(&["check", lang.file]);
+    (f.results(&out), check.stdout)
+}
+
+/// The columns that must agree: every number, flag, score and status benchgrade gives.
+const COMPARED: [&str; 19] = [
+    "student_name",
+    "bench",
+    "crude_mass_g",
+    "recovered_mass_g",
+    "mp_onset_c",
+    "mp_clear_c",
+    "reported_recovery_pct",
+    "recovery_pct",
+    "range_width_c",
+    "reference_mp_c",
+    "depression_c",
+    "purity_mol_pct",
+    "flags",
+    "score",
+    "max_score",
+    "percent",
+    "letter",
+    "status",
+    "assistant",
+];
+
+#[test]
+fn the_english_twin_reads_as_typed() {
+    let f = Fixture::new();
+    let (rows, _) = grade(&f, &ENGLISH);
+    assert_eq!(rows.len(), 8, "seven students and the late entry");
+    // 100 x 1.834 / 2.514 = 72.951... (hand-worked)
+    assert_relative_eq!(
+        num(by_id(&rows, "3101"), "recovery_pct").unwrap(),
+        72.951_471_758_154_34,
+        epsilon = 1e-9
+    );
+    assert_eq!(by_id(&rows, "3106")["status"], "excused");
+    // a sentence about the work excuses no one: the zero mass and the missing range are flagged
+    let dropped = by_id(&rows, "3107");
+    assert_eq!(dropped["status"], "graded");
+    assert!(flags(dropped).contains(&"nonpositive-mass"), "{dropped:?}");
+    assert_eq!(
+        dropped["sheet_notes"], "dropped filter paper in sink",
+        "the sheet's notes reach results.csv"
+    );
+    let late = by_id(&rows, "3108");
+    assert!(late["notes"].contains("below the notes"), "{late:?}");
+    assert!(rows.iter().all(|r| r["assistant"] == "K. Hahn"));
+    assert!(rows.iter().all(|r| r["section"] == "Section 3"));
+}
+
+#[test]
+fn grouped_headers_in_german_spanish_and_french_grade_as_the_english_twin() {
+    let f = Fixture::new();
+    let (english, _) = grade(&f, &ENGLISH);
+    for lang in &LANGS {
+        let (rows, check) = grade(&f, lang);
+        assert_eq!(rows.len(), english.len(), "{}", lang.file);
+        for e in &english {
+            let id = &e["student_id"];
+            let t = by_id(&rows, id);
+            for col in COMPARED {
+                assert_eq!(t[col], e[col], "{} student {id}: {col}", lang.file);
+            }
+        }
+        // check shows how each grouped header was read, and the header rows
+        let combined = format!("\"{} / {}\"", lang.upper[3], lang.lower[3]);
+        assert!(check.contains(&combined), "{}: {check}", lang.file);
+        assert!(check.contains("header rows 3-4"), "{}: {check}", lang.file);
+        // the withdrawal word of the language excuses; the sentence about the work does not
+        assert_eq!(by_id(&rows, "3106")["status"], "excused", "{}", lang.file);
+        assert_eq!(by_id(&rows, "3107")["sheet_notes"], lang.sentence);
+    }
+}
