@@ -371,3 +371,81 @@ fn grouped_headers_in_german_spanish_and_french_grade_as_the_english_twin() {
         assert_eq!(by_id(&rows, "3107")["sheet_notes"], lang.sentence);
     }
 }
+
+/// A language benchgrade does not ship (Dutch, invented sheet): words added in a
+/// `--vocabulary` file or the rubric's `[vocabulary]` table read it; an unknown class is an
+/// error located in its file, and nothing is graded.
+#[test]
+fn a_user_adds_a_language_in_a_vocabulary_file_or_the_rubric() {
+    let f = Fixture::new();
+    f.write(
+        "nl.csv",
+        "Studentnummer,Ruwe massa (g),Teruggewonnen massa (g),Smeltpunt (°C),Opmerkingen\n\
+         4101,2.514,1.834,120.5 tot 122.0,\n4102,2.6,,,uitgeschreven\n",
+    );
+    let words = "[field.student_id]\nnl = [\"studentnummer\"]\n[field.crude_mass]\nnl = [\"ruwe\"]\n\
+                 [field.recovered_mass]\nnl = [\"teruggewonnen\"]\n[field.mp_range]\nnl = [\"smeltpunt\"]\n\
+                 [field.notes]\nnl = [\"opmerkingen\"]\n[status.withdrawn]\nnl = [\"uitgeschreven\"]\n\
+                 [range.separator]\nnl = [\"tot\"]\n";
+    f.write("nl-words.toml", words);
+    let without = f.run(&["grade", "nl.csv", "--out", "plain"]);
+    assert_ne!(without.code, 0, "without the words the sheet has no table");
+    let run = f.run(&[
+        "grade",
+        "nl.csv",
+        "--vocabulary",
+        "nl-words.toml",
+        "--out",
+        "out",
+    ]);
+    assert_eq!(run.code, 0, "{}", run.stderr);
+    let rows = f.results("out");
+    let a = by_id(&rows, "4101");
+    // 100 x 1.834 / 2.514 = 72.951... (hand-worked)
+    assert_relative_eq!(
+        num(a, "recovery_pct").unwrap(),
+        72.951_471_758_154_34,
+        epsilon = 1e-9
+    );
+    assert_eq!(
+        (num(a, "mp_onset_c"), num(a, "mp_clear_c")),
+        (Some(120.5), Some(122.0))
+    );
+    assert_eq!(by_id(&rows, "4102")["status"], "excused");
+    // the same words in the rubric
+    let rubric =
+        std::fs::read_to_string(crate::harness::project_root().join("rubrics/default.toml"))
+            .unwrap();
+    let nested = words
+        .replace("[field.", "[vocabulary.field.")
+        .replace("[status.", "[vocabulary.status.")
+        .replace("[range.", "[vocabulary.range.");
+    f.write("rubric.toml", format!("{rubric}\n{nested}"));
+    let run = f.run(&[
+        "grade",
+        "nl.csv",
+        "--rubric",
+        "rubric.toml",
+        "--out",
+        "out2",
+    ]);
+    assert_eq!(run.code, 0, "{}", run.stderr);
+    assert_eq!(f.results("out2").len(), 2);
+    // a class that does not exist: exit code 2, the file, line and the classes to choose from
+    f.write(
+        "bad-words.toml",
+        "# Dutch\n[field.crud_mass]\nnl = [\"ruwe\"]\n",
+    );
+    let run = f.run(&[
+        "grade",
+        "nl.csv",
+        "--vocabulary",
+        "bad-words.toml",
+        "--out",
+        "out3",
+    ]);
+    assert_eq!(run.code, 2, "{}", run.stderr);
+    assert!(run.stderr.contains("bad-words.toml:2:"), "{}", run.stderr);
+    assert!(run.stderr.contains("field.crude_mass"), "{}", run.stderr);
+    assert!(!f.path("out3").join("results.csv").exists());
+}
