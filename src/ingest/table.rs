@@ -273,11 +273,26 @@ fn header_at(
         });
     if let Some((gcols, below)) = grouped {
         let (gn, gcore) = score(&gcols);
-        if gn > n && gn > below && gcore {
+        // more fields, or as many with fewer left ambiguous ("Mass (g)" alone could be either)
+        if (gn, definite(&gcols)) > (n, definite(&cols)) && gn > below && gcore {
             return (gcols, gn, gcore, true);
         }
     }
     (cols, n, core, false)
+}
+
+/// The distinct fields named for certain (not as one of two).
+fn definite(cols: &[(Column, HeaderMeaning)]) -> usize {
+    let mut fields: Vec<Field> = cols
+        .iter()
+        .filter_map(|(_, m)| match m {
+            HeaderMeaning::Field(f) => Some(*f),
+            _ => None,
+        })
+        .collect();
+    fields.sort_unstable();
+    fields.dedup();
+    fields.len()
 }
 
 /// Finds the header row and resolves each column, or says why not.
@@ -667,5 +682,21 @@ mod tests {
             layout.column(Field::MpClear).unwrap().header,
             "Trial 1 / Clear"
         );
+    }
+
+    /// From a trial: "Mass (g)" merged over "Crude" and "Recovered", the melting range one
+    /// column: as many fields as the upper row alone names with "Mass (g)" ambiguous, but the
+    /// two rows together name both masses for certain.
+    #[test]
+    fn a_grouped_header_that_settles_an_ambiguity_is_read() {
+        let s = sheet(&[
+            &["ID", "Name", "Mass (g)", "", "% Recovery", "MP range (°C)"],
+            &["", "", "Crude", "Recovered"],
+            &["s1", "Ann", "3.0", "2.0", "66.7", "120-121"],
+        ]);
+        let layout = locate(&s, &ColumnOverrides::default()).unwrap();
+        assert_eq!(layout.sub_header_row, Some(2));
+        assert_eq!(layout.column(Field::CrudeMass).unwrap().letter, "C");
+        assert_eq!(layout.column(Field::RecoveredMass).unwrap().letter, "D");
     }
 }

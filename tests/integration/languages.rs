@@ -449,3 +449,42 @@ fn a_user_adds_a_language_in_a_vocabulary_file_or_the_rubric() {
     assert!(run.stderr.contains("field.crude_mass"), "{}", run.stderr);
     assert!(!f.path("out3").join("results.csv").exists());
 }
+
+/// The same kind of class typed in LibreOffice Calc (tests/data/languages/make.py: a .fods each,
+/// converted by LibreOffice to .xlsx, .ods and .xls): German, Spanish and French sheets with
+/// "Mass (g)" merged over two sub-headers grade as the English twin, in every format.
+#[test]
+fn libreoffice_saved_classes_in_every_format_grade_as_the_english_twin() {
+    let data = crate::harness::project_root().join("tests/data/languages");
+    let f = Fixture::new();
+    let grade_file = |name: &str| {
+        let out = format!("out-{name}");
+        let run = f.run(&["grade", data.join(name).to_str().unwrap(), "--out", &out]);
+        assert_eq!(run.code, 0, "{name}: {}", run.stderr);
+        f.results(&out)
+    };
+    let english = grade_file("en.xlsx");
+    assert_eq!(english.len(), 8);
+    // 100 x 1.834 / 2.514 = 72.951... (hand-worked)
+    assert_relative_eq!(
+        num(by_id(&english, "5101"), "recovery_pct").unwrap(),
+        72.951_471_758_154_34,
+        epsilon = 1e-9
+    );
+    assert_eq!(by_id(&english, "5106")["status"], "excused");
+    assert_eq!(by_id(&english, "5107")["status"], "graded");
+    for lang in ["en", "de", "es", "fr"] {
+        for ext in ["xlsx", "ods", "xls"] {
+            let name = format!("{lang}.{ext}");
+            let rows = grade_file(&name);
+            assert_eq!(rows.len(), english.len(), "{name}");
+            for e in &english {
+                let id = &e["student_id"];
+                let t = by_id(&rows, id);
+                for col in COMPARED {
+                    assert_eq!(t[col], e[col], "{name} student {id}: {col}");
+                }
+            }
+        }
+    }
+}
