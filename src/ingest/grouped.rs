@@ -148,7 +148,11 @@ pub fn combine(upper: &RawRow, lower: &RawRow) -> Option<Vec<GroupedColumn>> {
 
 #[cfg(test)]
 mod tests {
+    use super::super::headers::ColumnOverrides;
+    use super::super::table::{locate, student_rows};
+    use super::super::values::Unit;
     use super::*;
+    use crate::fields::Field;
     use proptest::prelude::*;
 
     fn row(index: u32, cells: &[(u32, &str)]) -> RawRow {
@@ -211,6 +215,95 @@ mod tests {
             None,
             "a full header row spans nothing"
         );
+    }
+
+    fn sheet(rows: &[&[&str]]) -> super::super::cells::RawSheet {
+        let mut cells = Vec::new();
+        for (r, row) in rows.iter().enumerate() {
+            for (c, text) in row.iter().enumerate() {
+                let cell = match text.parse::<f64>() {
+                    Ok(v) => Cell::Number(v),
+                    Err(_) => Cell::Text((*text).to_string()),
+                };
+                cells.push((r as u32, c as u32, cell));
+            }
+        }
+        super::super::cells::RawSheet {
+            name: Some("S".into()),
+            rows: super::super::cells::rows_from_cells(cells),
+        }
+    }
+
+    /// A two-row header as class sheets keep it (common practice: merged group names over
+    /// sub-headers); the sub-header row is not a student.
+    #[test]
+    fn a_two_row_header_is_read_as_one_header_a_column() {
+        let s = sheet(&[
+            &["Recrystallization, section 3"],
+            &[
+                "Student ID",
+                "Mass (g)",
+                "",
+                "Melting range (°C)",
+                "",
+                "Comments",
+            ],
+            &["", "Crude", "Recovered", "Start", "End"],
+            &["s1", "3.0", "2.0", "120.5", "121.5", "dropped course"],
+        ]);
+        let layout = locate(&s, &ColumnOverrides::default()).unwrap();
+        assert_eq!((layout.header_row, layout.sub_header_row), (2, Some(3)));
+        let fields: Vec<Option<Field>> = layout.columns.iter().map(|c| c.field).collect();
+        assert_eq!(
+            fields,
+            [
+                Some(Field::StudentId),
+                Some(Field::CrudeMass),
+                Some(Field::RecoveredMass),
+                Some(Field::MpOnset),
+                Some(Field::MpClear),
+                Some(Field::Notes)
+            ]
+        );
+        assert_eq!(layout.columns[3].header, "Melting range (°C) / Start");
+        assert_eq!(layout.columns[5].header, "Comments");
+        assert_eq!(layout.columns[1].unit, Some(Unit::Mass(1.0)));
+        let rows = student_rows(&s, &layout);
+        assert_eq!(rows.iter().map(|r| r.index + 1).collect::<Vec<_>>(), [4]);
+    }
+
+    #[test]
+    fn a_group_name_that_adds_nothing_leaves_the_sub_header_its_meaning() {
+        let s = sheet(&[
+            &["ID", "Crude mass (g)", "Recovered mass (g)", "Trial 1", ""],
+            &["", "", "", "Onset", "Clear"],
+            &["s1", "3.0", "2.0", "120.5", "121.5"],
+        ]);
+        let layout = locate(&s, &ColumnOverrides::default()).unwrap();
+        assert_eq!(
+            layout.column(Field::MpOnset).unwrap().header,
+            "Trial 1 / Onset"
+        );
+        assert_eq!(
+            layout.column(Field::MpClear).unwrap().header,
+            "Trial 1 / Clear"
+        );
+    }
+
+    /// From a trial: "Mass (g)" merged over "Crude" and "Recovered", the melting range one
+    /// column: as many fields as the upper row alone names with "Mass (g)" ambiguous, but the
+    /// two rows together name both masses for certain.
+    #[test]
+    fn a_grouped_header_that_settles_an_ambiguity_is_read() {
+        let s = sheet(&[
+            &["ID", "Name", "Mass (g)", "", "% Recovery", "MP range (°C)"],
+            &["", "", "Crude", "Recovered"],
+            &["s1", "Ann", "3.0", "2.0", "66.7", "120-121"],
+        ]);
+        let layout = locate(&s, &ColumnOverrides::default()).unwrap();
+        assert_eq!(layout.sub_header_row, Some(2));
+        assert_eq!(layout.column(Field::CrudeMass).unwrap().letter, "C");
+        assert_eq!(layout.column(Field::RecoveredMass).unwrap().letter, "D");
     }
 
     proptest! {

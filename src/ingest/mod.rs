@@ -106,6 +106,8 @@ pub fn row_list(rows: &[u32]) -> String {
     parts.join(", ")
 }
 
+// serde's skip_serializing_if hands the field by reference
+#[allow(clippy::trivially_copy_pass_by_ref)]
 fn is_zero(n: &usize) -> bool {
     *n == 0
 }
@@ -491,6 +493,28 @@ fn same_label(title: &str, name: &str) -> bool {
         .is_some_and(|last| key(last) == key(&label))
 }
 
+/// The sheet's table, or the note that passes the sheet over (a calibration sheet, no table).
+fn layout_of(data: &SheetData, columns: &ColumnOverrides) -> Result<Layout, Problem> {
+    let sheet = &data.sheet;
+    let problem = |message: &str| Problem {
+        file: data.source.clone(),
+        sheet: sheet.name.clone(),
+        message: message.to_string(),
+        fatal: false,
+    };
+    let calibration = sheet
+        .name
+        .as_deref()
+        .is_some_and(|n| n.to_lowercase().contains("calibration"));
+    if calibration {
+        return Err(problem(
+            "not graded: a calibration sheet; apply it with --calibration FILE",
+        ));
+    }
+    table::locate(sheet, columns)
+        .map_err(|LayoutError::NoTable| problem("skipped: no recognisable table of submissions"))
+}
+
 /// Finds the table in a sheet and hands over each student row as a `Submission`.
 pub fn tabulate(
     data: &SheetData,
@@ -498,36 +522,8 @@ pub fn tabulate(
     on_row: &mut dyn FnMut(Submission),
 ) -> Result<SheetReport, Problem> {
     let sheet = &data.sheet;
-    if sheet
-        .name
-        .as_deref()
-        .is_some_and(|n| n.to_lowercase().contains("calibration"))
-    {
-        let message =
-            "not graded: a calibration sheet; apply it with --calibration FILE".to_string();
-        return Err(Problem {
-            file: data.source.clone(),
-            sheet: sheet.name.clone(),
-            message,
-            fatal: false,
-        });
-    }
-    let problem = |message: String, fatal: bool| Problem {
-        file: data.source.clone(),
-        sheet: sheet.name.clone(),
-        message,
-        fatal,
-    };
     let columns = columns.for_sheet(&data.source, sheet.name.as_deref());
-    let mut layout = match table::locate(sheet, &columns) {
-        Ok(l) => l,
-        Err(LayoutError::NoTable) => {
-            return Err(problem(
-                "skipped: no recognisable table of submissions".into(),
-                false,
-            ))
-        }
-    };
+    let mut layout = layout_of(data, &columns)?;
     let body::Body {
         rows,
         unnamed,

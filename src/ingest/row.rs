@@ -232,9 +232,10 @@ fn set_number(sub: &mut Submission, field: Field, value: Option<f64>) {
     *slot = value;
 }
 
-/// Reads one student row.
-pub fn read_row(row: &RawRow, layout: &Layout, origin: &Origin) -> Submission {
-    let mut sub = Submission {
+/// A row's submission before its cells are read: where it comes from, its defaults and its
+/// original cells.
+fn blank_submission(row: &RawRow, layout: &Layout, origin: &Origin) -> Submission {
+    Submission {
         source: origin.source.to_string(),
         sheet: origin.sheet.map(str::to_string),
         row: row.index + 1,
@@ -246,9 +247,14 @@ pub fn read_row(row: &RawRow, layout: &Layout, origin: &Origin) -> Submission {
             .map(|c| row.get(c.index).clone())
             .collect(),
         original_headers: Some(origin.headers.clone()),
+        no_column: layout.absent.clone(),
         ..Submission::default()
-    };
-    sub.no_column.clone_from(&layout.absent);
+    }
+}
+
+/// Reads one student row.
+pub fn read_row(row: &RawRow, layout: &Layout, origin: &Origin) -> Submission {
+    let mut sub = blank_submission(row, layout, origin);
     let (mut last, mut first) = (None, None);
     for column in &layout.columns {
         let Some(field) = column.field else { continue };
