@@ -488,3 +488,39 @@ fn libreoffice_saved_classes_in_every_format_grade_as_the_english_twin() {
         }
     }
 }
+
+/// The sheet's notes are the assistants': handouts print them only when the rubric says they
+/// are for the students.
+#[test]
+fn handouts_print_the_sheet_notes_only_when_the_rubric_says_so() {
+    let f = Fixture::new();
+    f.xlsx(ENGLISH.file, |wb| write_class(wb, &ENGLISH));
+    let rubric =
+        std::fs::read_to_string(crate::harness::project_root().join("rubrics/default.toml"))
+            .unwrap();
+    let to_students = rubric.replacen("[grading]\n", "[grading]\nnotes_to_students = true\n", 1);
+    assert_ne!(to_students, rubric);
+    f.write("to-students.toml", to_students);
+    let handout = |out: &str| -> String {
+        let dir = f.path(out).join("handouts");
+        std::fs::read_dir(&dir)
+            .unwrap()
+            .map(|e| std::fs::read_to_string(e.unwrap().path()).unwrap())
+            .collect()
+    };
+    let run = f.run(&["grade", ENGLISH.file, "--out", "kept"]);
+    assert_eq!(run.code, 0, "{}", run.stderr);
+    assert!(!handout("kept").contains("dropped filter paper in sink"));
+    let run = f.run(&[
+        "grade",
+        ENGLISH.file,
+        "--rubric",
+        "to-students.toml",
+        "--out",
+        "shown",
+    ]);
+    assert_eq!(run.code, 0, "{}", run.stderr);
+    let page = handout("shown");
+    assert!(page.contains("Notes from your assistant"), "{page}");
+    assert!(page.contains("dropped filter paper in sink"));
+}
