@@ -230,6 +230,7 @@ mod tests {
         RawSheet {
             name: Some("S".into()),
             rows: rows_from_cells(cells),
+            merges: Vec::new(),
         }
     }
 

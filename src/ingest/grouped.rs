@@ -10,7 +10,9 @@
 //! are read by one rule: a group name stands over the sub-headers under it and under the blank
 //! upper cells to its right, up to the next upper cell or a column with no sub-header.
 
-use super::cells::{Cell, RawRow};
+use std::collections::BTreeMap;
+
+use super::cells::{Cell, Merge, RawRow};
 use super::headers::{parse_header, ParsedHeader};
 use super::range::parse_range;
 use super::values::{is_blank_marker, parse_quantity, parse_unit, Decimal};
@@ -91,8 +93,10 @@ fn is_unit(t: &str) -> bool {
 /// The columns of `upper` and `lower` read as one two-row header, or `None` when `lower` is not
 /// a row of sub-headers under `upper`: it must follow directly, both must hold only text (no
 /// value, not only units), the upper row at least two cells, and at least one group name must
-/// stand over two or more sub-headers.
-pub fn combine(upper: &RawRow, lower: &RawRow) -> Option<Vec<GroupedColumn>> {
+/// stand over two or more sub-headers. Where the workbook says which cells of the upper row
+/// are merged (`merges`), a group name stands over exactly its merged columns; else over the
+/// sub-headers under it and under the blank cells to its right.
+pub fn combine(upper: &RawRow, lower: &RawRow, merges: &[Merge]) -> Option<Vec<GroupedColumn>> {
     if lower.index != upper.index + 1 {
         return None;
     }
@@ -107,43 +111,78 @@ pub fn combine(upper: &RawRow, lower: &RawRow) -> Option<Vec<GroupedColumn>> {
     let mut cols: Vec<u32> = up.iter().chain(&low).map(|(c, _)| *c).collect();
     cols.sort_unstable();
     cols.dedup();
-    let get = |v: &[(u32, String)], c: u32| v.iter().find(|(x, _)| *x == c).map(|(_, t)| t.clone());
-    let mut out = Vec::with_capacity(cols.len());
+    let merged: Vec<&Merge> = merges.iter().filter(|m| m.row == upper.index).collect();
+    let carried = if merged.is_empty() {
+        carried_right(&cols, &up, &low)
+    } else {
+        carried_by_merges(&merged, &up)
+    };
+    let mut spans = false;
+    let out = cols
+        .into_iter()
+        .map(|c| {
+            let (u, l) = (get(&up, c), get(&low, c));
+            let parent = u.or_else(|| {
+                let name = carried.get(&c).cloned();
+                spans |= name.is_some() && l.is_some();
+                name
+            });
+            let (parent, child) = match (parent, l) {
+                // a lower cell under no group name is a header of its own
+                (None, c) => (c, None),
+                pc => pc,
+            };
+            GroupedColumn {
+                index: c,
+                parent,
+                child,
+            }
+        })
+        .collect();
+    spans.then_some(out)
+}
+
+fn get(v: &[(u32, String)], c: u32) -> Option<String> {
+    v.iter().find(|(x, _)| *x == c).map(|(_, t)| t.clone())
+}
+
+/// The blank upper cells a group name stands over, by column: those to its right, as far as
+/// each has a sub-header, starting from a group name that has one itself.
+fn carried_right(
+    cols: &[u32],
+    up: &[(u32, String)],
+    low: &[(u32, String)],
+) -> BTreeMap<u32, String> {
+    let mut out = BTreeMap::new();
     // the group name carried right, and the last column it stands over
     let mut group: Option<(String, u32)> = None;
-    let mut spans = false;
-    for c in cols {
-        let (u, l) = (get(&up, c), get(&low, c));
-        let parent = match (&u, &l) {
-            (Some(u), Some(_)) => {
-                group = Some((u.clone(), c));
-                Some(u.clone())
-            }
-            (Some(u), None) => {
-                group = None;
-                Some(u.clone())
-            }
-            (None, _) => match group.take() {
-                Some((name, last)) if last + 1 == c => {
-                    spans = true;
-                    group = Some((name.clone(), c));
-                    Some(name)
+    for &c in cols {
+        match (get(up, c), get(low, c)) {
+            (Some(u), Some(_)) => group = Some((u, c)),
+            (Some(_), None) => group = None,
+            (None, l) => match group.take() {
+                Some((name, last)) if last + 1 == c && l.is_some() => {
+                    out.insert(c, name.clone());
+                    group = Some((name, c));
                 }
-                _ => None,
+                _ => {}
             },
-        };
-        let (parent, child) = match (parent, l) {
-            // a lower cell under no group name is a header of its own
-            (None, c) => (c, None),
-            pc => pc,
-        };
-        out.push(GroupedColumn {
-            index: c,
-            parent,
-            child,
-        });
+        }
     }
-    spans.then_some(out)
+    out
+}
+
+/// The upper cells a merged group name covers, by column.
+fn carried_by_merges(merged: &[&Merge], up: &[(u32, String)]) -> BTreeMap<u32, String> {
+    let mut out = BTreeMap::new();
+    for m in merged {
+        if let Some(name) = get(up, m.first) {
+            for c in m.first + 1..=m.last {
+                out.insert(c, name.clone());
+            }
+        }
+    }
+    out
 }
 
 #[cfg(test)]
@@ -180,7 +219,7 @@ mod tests {
             1,
             &[(1, "Crude"), (2, "Recovered"), (3, "Start"), (4, "End")],
         );
-        let cols = combine(&upper, &lower).unwrap();
+        let cols = combine(&upper, &lower, &[]).unwrap();
         let shown: Vec<String> = cols.iter().map(GroupedColumn::text).collect();
         assert_eq!(
             shown,
@@ -207,11 +246,11 @@ mod tests {
             row(1, &[(0, "(g)"), (1, "mg"), (2, "°C")]),
             row(2, &[(0, "Crude"), (1, "Recovered")]),
         ] {
-            assert_eq!(combine(&upper, &lower), None, "{lower:?}");
+            assert_eq!(combine(&upper, &lower, &[]), None, "{lower:?}");
         }
         let full = row(0, &[(0, "ID"), (1, "Crude (g)"), (2, "Recovered (g)")]);
         assert_eq!(
-            combine(&full, &row(1, &[(0, "s1"), (1, "Ann"), (2, "absent")])),
+            combine(&full, &row(1, &[(0, "s1"), (1, "Ann"), (2, "absent")]), &[]),
             None,
             "a full header row spans nothing"
         );
@@ -231,6 +270,7 @@ mod tests {
         super::super::cells::RawSheet {
             name: Some("S".into()),
             rows: super::super::cells::rows_from_cells(cells),
+            merges: Vec::new(),
         }
     }
 
@@ -306,6 +346,41 @@ mod tests {
         assert_eq!(layout.column(Field::RecoveredMass).unwrap().letter, "D");
     }
 
+    /// A merged group name stands over exactly its merged columns, a sub-header left blank
+    /// inside it too; without merges the blank breaks the group.
+    #[test]
+    fn merged_cells_say_how_far_a_group_name_stands() {
+        let upper = row(
+            0,
+            &[
+                (0, "ID"),
+                (1, "Name"),
+                (2, "Melting range (°C)"),
+                (5, "Notes"),
+            ],
+        );
+        let lower = row(1, &[(2, "Start"), (4, "End")]);
+        let merged = [Merge {
+            row: 0,
+            first: 2,
+            last: 4,
+        }];
+        let cols = combine(&upper, &lower, &merged).unwrap();
+        let shown: Vec<String> = cols.iter().map(GroupedColumn::text).collect();
+        assert_eq!(
+            shown,
+            [
+                "ID",
+                "Name",
+                "Melting range (°C) / Start",
+                "Melting range (°C) / End",
+                "Notes"
+            ]
+        );
+        // the same rows without the merge: "End" stands under no group name
+        assert_eq!(combine(&upper, &lower, &[]), None);
+    }
+
     proptest! {
         #[test]
         fn no_rows_panic(a in proptest::collection::vec((0u32..12, "\\PC{0,12}"), 0..8),
@@ -314,7 +389,7 @@ mod tests {
             let mut b = b; b.sort_by_key(|x| x.0); b.dedup_by_key(|x| x.0);
             let ra = RawRow { index: 0, cells: a.into_iter().map(|(c, t)| (c, Cell::Text(t))).collect() };
             let rb = RawRow { index: 1, cells: b.into_iter().map(|(c, t)| (c, Cell::Text(t))).collect() };
-            if let Some(cols) = combine(&ra, &rb) {
+            if let Some(cols) = combine(&ra, &rb, &[]) {
                 // every column of either row is one column of the header, in order
                 let idx: Vec<u32> = cols.iter().map(|c| c.index).collect();
                 let mut sorted = idx.clone(); sorted.sort_unstable(); sorted.dedup();

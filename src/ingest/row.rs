@@ -370,6 +370,7 @@ mod tests {
         let sheet = RawSheet {
             name: Some("Sec 2".into()),
             rows: rows_from_cells(all),
+            merges: Vec::new(),
         };
         let layout = locate(&sheet, &ColumnOverrides::default()).unwrap();
         let origin = Origin {

@@ -265,7 +265,7 @@ fn header_at(
     let grouped = sheet
         .rows
         .get(pos + 1)
-        .and_then(|next| Some((next, combine(row, next)?)))
+        .and_then(|next| Some((next, combine(row, next, &sheet.merges)?)))
         .map(|(next, g)| {
             let below = score(&header_columns(next, overrides)).0;
             let cols = grouped_columns(&g, overrides);
@@ -504,6 +504,7 @@ mod tests {
         RawSheet {
             name: Some("S".into()),
             rows: rows_from_cells(cells),
+            merges: Vec::new(),
         }
     }
 

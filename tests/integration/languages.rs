@@ -524,3 +524,55 @@ fn handouts_print_the_sheet_notes_only_when_the_rubric_says_so() {
     assert!(page.contains("Notes from your assistant"), "{page}");
     assert!(page.contains("dropped filter paper in sink"));
 }
+
+/// A merged group name over three columns, the middle one without a sub-header: the workbook's
+/// merged cells say "End" stands under "Melting range (°C)" too (an .xlsx keeps them; without
+/// them the blank would end the group).
+#[test]
+fn a_merged_group_name_stands_over_all_its_columns() {
+    let f = Fixture::new();
+    f.xlsx("merged.xlsx", |wb| {
+        let ws = wb.add_worksheet().set_name("Sec 9").unwrap();
+        for (c, h) in ["ID", "Crude mass (g)", "Recovered mass (g)"]
+            .iter()
+            .enumerate()
+        {
+            ws.write_string(0, c as u16, *h).unwrap();
+        }
+        ws.merge_range(
+            0,
+            3,
+            0,
+            5,
+            "Melting range (°C)",
+            &rust_xlsxwriter::Format::new(),
+        )
+        .unwrap();
+        ws.write_string(1, 3, "Start").unwrap();
+        ws.write_string(1, 5, "End").unwrap();
+        for (r, (id, crude, rec, on, cl)) in [
+            ("m1", 3.0, 2.1, 120.5, 122.0),
+            ("m2", 2.8, 2.0, 121.0, 122.1),
+        ]
+        .iter()
+        .enumerate()
+        {
+            let r = r as u32 + 2;
+            ws.write_string(r, 0, *id).unwrap();
+            ws.write_number(r, 1, *crude).unwrap();
+            ws.write_number(r, 2, *rec).unwrap();
+            ws.write_number(r, 3, *on).unwrap();
+            ws.write_number(r, 5, *cl).unwrap();
+        }
+    });
+    let run = f.run(&["grade", "merged.xlsx", "--out", "out"]);
+    assert_eq!(run.code, 0, "{}", run.stderr);
+    let rows = f.results("out");
+    assert_eq!(rows.len(), 2, "the sub-header row is not a student");
+    let m1 = by_id(&rows, "m1");
+    assert_eq!(
+        (num(m1, "mp_onset_c"), num(m1, "mp_clear_c")),
+        (Some(120.5), Some(122.0))
+    );
+    assert!(!flags(m1).contains(&"single-reading"), "{m1:?}");
+}
