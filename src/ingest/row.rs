@@ -192,17 +192,29 @@ fn set_text(sub: &mut Submission, field: Field, text: Option<String>) {
     *slot = text;
 }
 
-/// A status cell as a word: under a yes/no header ("Excused?", "Withdrawn"), "yes" is the
-/// header's word and "no" nothing.
+/// A status cell as a word: under a yes/no header ("Excused?", "Withdrawn", "Abgemeldet?"),
+/// "yes" ("ja", "sí", "oui", "sim") is the header's word and "no" nothing.
 fn status_text(header: &str, text: Option<String>) -> Option<String> {
     let t = text?;
-    let answer = t.trim().trim_end_matches('.').to_lowercase();
+    let answer = super::vocabulary::fold(t.trim().trim_end_matches('.'));
+    let lower = header.to_lowercase();
+    let v = super::vocabulary::current();
     let asks = ["excused", "withdrawn", "exempt", "absent", "dropped"]
         .into_iter()
-        .find(|w| header.to_lowercase().contains(w));
+        .find(|w| lower.contains(w))
+        .map(str::to_string)
+        .or_else(|| {
+            super::vocabulary::fold(header)
+                .split(|c: char| !c.is_alphanumeric())
+                .find(|w| v.status(w).is_some())
+                .map(str::to_string)
+        });
     match (asks, answer.as_str()) {
-        (Some(w), "yes" | "y" | "true" | "x" | "✓" | "✔" | "1") => Some(w.to_string()),
-        (Some(_), "no" | "n" | "false" | "0" | "-") => None,
+        (
+            Some(w),
+            "yes" | "y" | "true" | "x" | "✓" | "✔" | "1" | "ja" | "j" | "si" | "oui" | "sim",
+        ) => Some(w),
+        (Some(_), "no" | "n" | "false" | "0" | "-" | "nein" | "non" | "nao") => None,
         _ => Some(t),
     }
 }
@@ -514,5 +526,27 @@ mod tests {
         assert!(found[0].contains("below absolute zero"), "{found:?}");
         assert!(found[1].contains("negative volume"), "{found:?}");
         assert_eq!((s.mp_clear_c, s.solvent_volume_ml), (None, None));
+    }
+
+    #[test]
+    fn a_yes_under_a_status_header_is_the_headers_word_in_any_language() {
+        for (header, answer, want) in [
+            ("Excused?", "yes", Some("excused")),
+            ("Abgemeldet?", "ja", Some("abgemeldet")),
+            ("Abgemeldet?", "nein", None),
+            ("¿Baja?", "sí", Some("baja")),
+        ] {
+            let s = one_row(
+                &["ID", "Crude mass (g)", "Recovered mass (g)", "MP", header],
+                vec![
+                    Cell::Text("s1".into()),
+                    Cell::Number(3.0),
+                    Cell::Number(2.0),
+                    Cell::Text("121-122".into()),
+                    Cell::Text(answer.into()),
+                ],
+            );
+            assert_eq!(s.status.as_deref(), want, "{header} {answer}");
+        }
     }
 }

@@ -312,6 +312,7 @@ pub fn locate(sheet: &RawSheet, overrides: &ColumnOverrides) -> Result<Layout, L
     }
     let (pos, cols, _, two) = best.ok_or(LayoutError::NoTable)?;
     let mut columns = resolve(cols);
+    name_parts(&mut columns);
     let last = pos + usize::from(two);
     let units_row = units_row(sheet, last, &mut columns);
     let mut layout = Layout {
@@ -446,6 +447,24 @@ fn resolve(cols: Vec<(Column, HeaderMeaning)>) -> Vec<Column> {
         }
     }
     columns
+}
+
+/// A name column beside a column for one part of the name holds the other part: "Nom" beside
+/// "Prénom" is the family name, "Nombre" beside "Apellidos" the given name (common practice
+/// in French and Spanish class lists), so that the two make one name.
+fn name_parts(columns: &mut [Column]) {
+    let has = |f: Field| columns.iter().any(|c| c.field == Some(f));
+    let other = match (has(Field::LastName), has(Field::FirstName)) {
+        (true, false) => Field::FirstName,
+        (false, true) => Field::LastName,
+        _ => return,
+    };
+    let names: Vec<usize> = (0..columns.len())
+        .filter(|&i| columns[i].field == Some(Field::StudentName) && !columns[i].explicit)
+        .collect();
+    if let [i] = names[..] {
+        columns[i].field = Some(other);
+    }
 }
 
 /// Two or more columns that claim `field`: an explicit mapping wins; else none is used.
@@ -627,5 +646,48 @@ mod tests {
         let layout = locate(&s, &ColumnOverrides::default()).unwrap();
         assert_eq!(layout.units_row, None);
         assert_eq!(student_rows(&s, &layout).len(), 1);
+    }
+
+    /// "Nom" beside "Prénom", "Nombre" beside "Apellidos": the name column holds the other part.
+    #[test]
+    fn a_name_column_beside_one_part_of_the_name_is_the_other_part() {
+        for (headers, last, first) in [
+            (
+                [
+                    "Numéro étudiant",
+                    "Nom",
+                    "Prénom",
+                    "Masse brute (g)",
+                    "Point de fusion",
+                ],
+                "B",
+                "C",
+            ),
+            (
+                [
+                    "Matrícula",
+                    "Nombre",
+                    "Apellidos",
+                    "Masa cruda (g)",
+                    "Punto de fusión",
+                ],
+                "C",
+                "B",
+            ),
+        ] {
+            let s = sheet(&[&headers]);
+            let layout = locate(&s, &ColumnOverrides::default()).unwrap();
+            assert_eq!(
+                layout.column(Field::LastName).unwrap().letter,
+                last,
+                "{headers:?}"
+            );
+            assert_eq!(
+                layout.column(Field::FirstName).unwrap().letter,
+                first,
+                "{headers:?}"
+            );
+            assert!(layout.column(Field::StudentName).is_none());
+        }
     }
 }
