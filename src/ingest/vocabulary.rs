@@ -364,4 +364,14 @@ mod tests {
         // located on the line that names the class
         assert_eq!(text[..errors[0].0.start].matches('\n').count(), 0);
     }
+
+    proptest::proptest! {
+        /// Folding is lower case without accents, and folding twice changes nothing.
+        #[test]
+        fn folding_twice_changes_nothing(s in "\\PC{0,30}") {
+            let once = fold(&s);
+            proptest::prop_assert_eq!(fold(&once), once.clone());
+            proptest::prop_assert!(!once.chars().any(|c| "áéíóúàèäöüñçß".contains(c)));
+        }
+    }
 }

@@ -448,6 +448,14 @@ fn a_user_adds_a_language_in_a_vocabulary_file_or_the_rubric() {
     assert!(run.stderr.contains("bad-words.toml:2:"), "{}", run.stderr);
     assert!(run.stderr.contains("field.crude_mass"), "{}", run.stderr);
     assert!(!f.path("out3").join("results.csv").exists());
+    // the rubric's check says the same of its [vocabulary]
+    f.write(
+        "bad-rubric.toml",
+        format!("{rubric}\n[vocabulary.field.crud_mass]\nnl = [\"ruwe\"]\n"),
+    );
+    let run = f.run(&["rubric", "check", "bad-rubric.toml"]);
+    assert_eq!(run.code, 2, "{}", run.stderr);
+    assert!(run.stderr.contains("field.crude_mass"), "{}", run.stderr);
 }
 
 /// The same kind of class typed in LibreOffice Calc (tests/data/languages/make.py: a .fods each,
