@@ -281,6 +281,34 @@ fn header_at(
     (cols, n, core, false)
 }
 
+/// A column mapped by its letter ("column P" = "notes") whose header cell is blank is a column
+/// all the same, headed by nothing.
+fn headerless_mapped(cols: &mut Vec<(Column, HeaderMeaning)>, overrides: &ColumnOverrides) {
+    for (letter, field) in &overrides.letters {
+        let Some(index) = letter_index(letter) else {
+            continue;
+        };
+        if cols.iter().any(|(c, _)| c.index == index) {
+            continue;
+        }
+        let m = field.map_or(HeaderMeaning::Ignored, HeaderMeaning::Field);
+        cols.push(column(index, letter.clone(), String::new(), m, true, None));
+    }
+    cols.sort_by_key(|(c, _)| c.index);
+}
+
+/// The 0-based index of column letters ("A" is 0, "AA" 26), up to XFD.
+fn letter_index(letters: &str) -> Option<u32> {
+    let mut n: u32 = 0;
+    for b in letters.bytes() {
+        if !b.is_ascii_uppercase() {
+            return None;
+        }
+        n = n.checked_mul(26)?.checked_add(u32::from(b - b'A') + 1)?;
+    }
+    (1..=16_384).contains(&n).then(|| n - 1)
+}
+
 /// The distinct fields named for certain (not as one of two).
 fn definite(cols: &[(Column, HeaderMeaning)]) -> usize {
     let mut fields: Vec<Field> = cols
@@ -310,7 +338,8 @@ pub fn locate(sheet: &RawSheet, overrides: &ColumnOverrides) -> Result<Layout, L
             best = Some((pos, cols, n, two));
         }
     }
-    let (pos, cols, _, two) = best.ok_or(LayoutError::NoTable)?;
+    let (pos, mut cols, _, two) = best.ok_or(LayoutError::NoTable)?;
+    headerless_mapped(&mut cols, overrides);
     let mut columns = resolve(cols);
     name_parts(&mut columns);
     let last = pos + usize::from(two);
@@ -689,5 +718,23 @@ mod tests {
             );
             assert!(layout.column(Field::StudentName).is_none());
         }
+    }
+
+    /// From a trial: "column P" = "notes" did nothing when P had no header text.
+    #[test]
+    fn a_column_mapped_by_letter_needs_no_header_text() {
+        let s = sheet(&[
+            &["ID", "Crude mass (g)", "Recovered mass (g)", "MP range"],
+            &["s1", "3.0", "2.0", "120-121", "dropped course"],
+        ]);
+        let pairs = [("column E".to_string(), "notes".to_string())];
+        let o = ColumnOverrides::from_pairs(pairs.iter().map(|(a, b)| (a, b))).unwrap();
+        let layout = locate(&s, &o).unwrap();
+        let notes = layout.column(Field::Notes).unwrap();
+        assert_eq!((notes.letter.as_str(), notes.explicit), ("E", true));
+        assert_eq!(letter_index("A"), Some(0));
+        assert_eq!(letter_index("AA"), Some(26));
+        assert_eq!(letter_index("XFD"), Some(16_383));
+        assert_eq!(letter_index("XFE"), None);
     }
 }
