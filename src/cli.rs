@@ -156,6 +156,10 @@ pub struct RunArgs {
     /// TOML file with a [columns] table mapping header text to fields
     #[arg(long, value_name = "FILE")]
     pub columns: Option<PathBuf>,
+    /// TOML file of words added to the built-in vocabulary (header, unit, status and summary
+    /// words, range separators), in the tables of src/ingest/vocabulary.toml
+    #[arg(long, value_name = "FILE")]
+    pub vocabulary: Option<PathBuf>,
     /// A TOML file of extra compounds for the reference library
     #[arg(long, value_name = "FILE")]
     pub compounds: Option<PathBuf>,

@@ -7,13 +7,15 @@ use std::path::{Path, PathBuf};
 use serde::Deserialize;
 
 use crate::assess::{accepted, ReferenceRule};
-use crate::error::{parse_toml, ConfigError};
+use crate::error::{parse_toml, ConfigError, Located};
 use crate::export::parquet::Term;
 use crate::export::pseudonym::Pseudonymizer;
 use crate::ingest::headers::{ColumnOverrides, MappingValue};
+use crate::ingest::vocabulary::{Table as VocabularyTable, Vocabulary};
 use crate::reference::Library;
 use crate::rubric::overrides::Overrides;
 use crate::rubric::Rubric;
+use std::sync::Arc;
 
 /// Options as typed, already checked for form by the command-line parser.
 #[derive(Clone, Debug, Default)]
@@ -24,6 +26,8 @@ pub struct Options {
     pub out: Option<PathBuf>,
     pub rubric: Option<PathBuf>,
     pub columns: Option<PathBuf>,
+    /// Words added to the built-in vocabulary.
+    pub vocabulary: Option<PathBuf>,
     pub compounds: Option<PathBuf>,
     /// The enrolled students: `--roster FILE`.
     pub roster: Option<PathBuf>,
@@ -57,6 +61,9 @@ pub struct Config {
     /// Where the rubric came from, for messages and provenance.
     pub rubric_source: String,
     pub columns: ColumnOverrides,
+    /// The words headers, units, statuses and summary rows are read by: the built-in
+    /// vocabulary with the rubric's and a `--vocabulary` file's additions.
+    pub vocabulary: Arc<Vocabulary>,
     pub library: Library,
     /// How the experiment compound's reference is chosen.
     pub reference: ReferenceRule,
@@ -120,18 +127,19 @@ impl Config {
     pub fn build(opts: Options) -> Result<Config, ConfigError> {
         let (rubric, rubric_source, rubric_text) = load_rubric(opts.rubric.as_deref())?;
         let columns = column_map(&rubric, &rubric_source, opts.columns.as_deref())?;
+        let vocabulary = vocabulary(
+            &rubric,
+            &rubric_source,
+            &rubric_text,
+            opts.vocabulary.as_deref(),
+        )?;
         let mut library = Library::builtin()?;
         if let Some(p) = &opts.compounds {
             library.extend_from_file(p)?;
         }
         let reference = reference_rule(&rubric, &rubric_source, &library, opts.reference_mp_c)?;
-        let (roster, roster_problems, roster_sheets) = match &opts.roster {
-            Some(p) => {
-                let (r, read) = read_roster(p, &columns)?;
-                (Some(r), read.problems, read.sheets)
-            }
-            None => (None, Vec::new(), Vec::new()),
-        };
+        let (roster, roster_problems, roster_sheets) =
+            read_roster(opts.roster.as_deref(), &columns)?;
         let out_dir = opts.out.clone().unwrap_or_else(|| PathBuf::from("graded"));
         if out_dir.is_file() {
             return Err(ConfigError::Invalid(format!(
@@ -146,10 +154,9 @@ impl Config {
             columns_file: opts.columns.clone(),
             roster,
             roster_file: opts.roster.clone(),
-            corrections: match &opts.corrections {
-                Some(p) => crate::rubric::corrections::Corrections::load(p)?,
-                None => crate::rubric::corrections::Corrections::default(),
-            },
+            corrections: crate::rubric::corrections::Corrections::load_opt(
+                opts.corrections.as_deref(),
+            )?,
             corrections_file: opts.corrections.clone(),
             roster_problems,
             roster_sheets,
@@ -174,6 +181,7 @@ impl Config {
             rubric,
             rubric_source,
             columns,
+            vocabulary,
             library,
         })
     }
@@ -181,16 +189,17 @@ impl Config {
 
 /// Reads `--roster FILE` as a class sheet is read; a roster that cannot be read, or lists no
 /// student id, stops the run before anything is written.
-fn read_roster(
-    path: &Path,
-    columns: &ColumnOverrides,
-) -> Result<
-    (
-        crate::assess::roster::Roster,
-        crate::ingest::roster::RosterRead,
-    ),
-    ConfigError,
-> {
+/// (the roster, its notes, how its sheets were read); nothing without `--roster`.
+type RosterParts = (
+    Option<crate::assess::roster::Roster>,
+    Vec<crate::ingest::Problem>,
+    Vec<crate::ingest::SheetReport>,
+);
+
+fn read_roster(path: Option<&Path>, columns: &ColumnOverrides) -> Result<RosterParts, ConfigError> {
+    let Some(path) = path else {
+        return Ok((None, Vec::new(), Vec::new()));
+    };
     let mut read = crate::ingest::roster::read(path, columns);
     let fatal: Vec<String> = read
         .problems
@@ -211,7 +220,7 @@ fn read_roster(
     }
     let students = std::mem::take(&mut read.students);
     let roster = crate::assess::roster::Roster::new(students, &path.display().to_string());
-    Ok((roster, read))
+    Ok((Some(roster), read.problems, read.sheets))
 }
 
 /// `--title`, else the rubric's course, term and experiment name, joined by dashes.
@@ -247,6 +256,47 @@ fn load_rubric(path: Option<&Path>) -> Result<(Rubric, String, String), ConfigEr
         .map_err(|e| ConfigError::Invalid(format!("cannot read rubric {}: {e}", p.display())))?;
     let source = p.display().to_string();
     Ok((Rubric::parse(&text, &source)?, source, text))
+}
+
+/// The built-in vocabulary with the rubric's `[vocabulary]` words and a `--vocabulary` file's
+/// added; a class that does not exist is an error located in its file.
+fn vocabulary(
+    rubric: &Rubric,
+    rubric_source: &str,
+    rubric_text: &str,
+    file: Option<&Path>,
+) -> Result<Arc<Vocabulary>, ConfigError> {
+    let located = |file: &str, text: &str, errors: Vec<(std::ops::Range<usize>, String)>| {
+        let errors = errors
+            .into_iter()
+            .map(|(span, message)| {
+                let (line, column) = crate::error::toml_location(text, Some(span.clone()));
+                let snippet = text.get(span).unwrap_or("").lines().next().unwrap_or("");
+                Located {
+                    line,
+                    column,
+                    text: snippet.trim().to_string(),
+                    message,
+                }
+            })
+            .collect();
+        ConfigError::Located {
+            file: file.to_string(),
+            errors,
+        }
+    };
+    let mut v = Vocabulary::builtin()
+        .with(&rubric.vocabulary)
+        .map_err(|e| located(rubric_source, rubric_text, e))?;
+    if let Some(p) = file {
+        let name = p.display().to_string();
+        let text = crate::files::read_to_string(p).map_err(|e| {
+            ConfigError::Invalid(format!("cannot read vocabulary file {name}: {e}"))
+        })?;
+        let table: VocabularyTable = parse_toml(&text, &name)?;
+        v = v.with(&table).map_err(|e| located(&name, &text, e))?;
+    }
+    Ok(Arc::new(v))
 }
 
 /// The rubric's column mapping, with a `--columns` file's over it.

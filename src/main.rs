@@ -81,6 +81,7 @@ fn options(run: RunArgs, out: Option<PathBuf>) -> Options {
         out,
         rubric: run.rubric,
         columns: run.columns,
+        vocabulary: run.vocabulary,
         compounds: run.compounds,
         roster: run.roster,
         corrections: run.corrections,

@@ -468,8 +468,10 @@ fn is_calibration_file(path: &Path) -> bool {
 }
 
 /// The files to grade, and the calibration file to apply: the one named, else one found
-/// among the inputs by its name (it is then not graded as submissions).
+/// among the inputs by its name (it is then not graded as submissions). The run's vocabulary
+/// is installed first, so that every reader matches headers and cells with it.
 fn discover_inputs(config: &Config) -> (Batch, Option<PathBuf>) {
+    crate::ingest::vocabulary::install(config.vocabulary.clone());
     let (found, missing) =
         discover::discover(&config.inputs, std::slice::from_ref(&config.out_dir));
     let mut problems: Vec<Problem> = missing

@@ -509,6 +509,7 @@ function detailBody(r) {
       ['Least solvent', r.min_solvent_ml === null ? null : number(r.min_solvent_ml, 1) + ' mL'], ['Calibration', r.calibration]]),
     pointsTable(r),
     el('h4', {}, 'Feedback'), el('p', { class: 'feedback' }, r.feedback || '–'),
+    r.sheet_notes ? [el('h4', {}, 'Sheet notes'), el('p', { class: 'sheet-notes' }, r.sheet_notes)] : null,
     (r.overrides || []).length ? [el('h4', {}, 'Overrides applied'), el('ul', {}, r.overrides.map((o) => el('li', {}, o)))] : null,
   ];
 }

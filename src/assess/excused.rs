@@ -6,66 +6,20 @@
 //! no impossible flags, and statistics leave it out (common practice: a gradebook leaves an
 //! excused grade blank rather than zero). A status cell decides whatever else the row holds;
 //! a notes cell only when the row lacks what grading needs (a recovered mass or a melting
-//! entry), since notes mention absences in passing ("absent on Monday, made it up Tuesday").
+//! entry), and only when the cell is a status (a code such as "W", or a phrase of status words:
+//! "dropped course", "abgemeldet"), never a sentence about the work ("dropped filter paper in
+//! sink", "absent on Monday, made it up Tuesday"). The words are the vocabulary's.
 
+use crate::ingest::vocabulary::{self, Vocabulary};
 use crate::ingest::Submission;
 
-/// Words that excuse a row wherever they stand in the cell, and what each means.
-const WORDS: [(&str, &str); 14] = [
-    ("withdrew", "withdrawn"),
-    ("withdrawn", "withdrawn"),
-    ("withdraw", "withdrawn"),
-    ("withdrawal", "withdrawn"),
-    ("excused", "excused"),
-    ("excuse", "excused"),
-    ("exempt", "exempt"),
-    ("exempted", "exempt"),
-    ("exemption", "exempt"),
-    ("absent", "absent"),
-    ("absence", "absent"),
-    ("dropped", "dropped the course"),
-    ("drop", "dropped the course"),
-    ("deferred", "deferred"),
-];
-
-/// Registrar-style codes that excuse a row only as the whole of a status cell.
-const CODES: [(&str, &str); 6] = [
-    ("w", "withdrawn"),
-    ("wd", "withdrawn"),
-    ("wdr", "withdrawn"),
-    ("ex", "excused"),
-    ("exc", "excused"),
-    ("abs", "absent"),
-];
-
 fn words(text: &str) -> Vec<String> {
-    text.to_lowercase()
+    vocabulary::fold(text)
         .split(|c: char| !c.is_alphanumeric())
         .filter(|w| !w.is_empty())
         .map(str::to_string)
         .collect()
 }
-
-/// Words that deny an excuse wherever they stand in the cell: "Unexcused absence", "Excused:
-/// no", "Excuse pending", "Withdrawal rejected", "Was absent, now present".
-const DENIALS: [&str; 16] = [
-    "not",
-    "no",
-    "non",
-    "never",
-    "n",
-    "un",
-    "unexcused",
-    "false",
-    "denied",
-    "rejected",
-    "refused",
-    "pending",
-    "requested",
-    "present",
-    "without",
-    "unapproved",
-];
 
 /// A cell's text without parenthetical remarks, dates and numbers: "W (medical)" is "w",
 /// "WD - 10/03" is "wd", "W/D" (letters alone) is "wd".
@@ -91,28 +45,62 @@ fn code_of(text: &str) -> String {
     }
 }
 
-/// The meaning of the first excusing word of `text`, unless the cell denies it.
-fn excusing_word(text: &str, codes: bool) -> Option<(&'static str, String)> {
+/// The meaning of the first excusing word of `text` (the vocabulary's `[status.*]`), or of the
+/// whole cell as a registrar code (`[status_code.*]`), unless a word of the cell denies it
+/// (`[status_denial]`: "Unexcused absence", "Excused: no", "Excuse pending").
+fn excusing_word(v: &Vocabulary, text: &str) -> Option<(String, String)> {
     let w = words(text);
-    if w.iter().any(|x| DENIALS.contains(&x.as_str())) {
+    if w.iter().any(|x| v.has("status_denial.words", x)) {
         return None;
     }
-    if codes {
-        let code = code_of(text);
-        if let Some((_, meaning)) = CODES.iter().find(|(c, _)| *c == code) {
-            return Some((meaning, code));
-        }
+    let code = code_of(text);
+    if let Some(meaning) = v.code(&code) {
+        return Some((meaning.to_string(), code));
     }
-    w.iter().find_map(|word| {
-        let (_, meaning) = WORDS.iter().find(|(x, _)| x == word)?;
-        Some((*meaning, word.clone()))
-    })
+    w.iter()
+        .find_map(|word| Some((v.status(word)?.to_string(), word.clone())))
+}
+
+/// Most words a notes phrase holds and still reads as a status ("withdrew from the course for
+/// medical reasons").
+const STATUS_PHRASE_WORDS: usize = 7;
+
+/// A notes cell read as a status: the whole cell a registrar code ("W", "WD (medical)") or a
+/// status phrase, or one of its parts (between `;`, `,`, `.` or a line break) a status phrase:
+/// a status word with only the vocabulary's `[status_context]` words around it ("excused by
+/// instructor", "dropped course", "abgemeldet", "dado de baja"). A status word inside a
+/// sentence about the work ("dropped filter paper in sink") is not a status.
+fn notes_status(v: &Vocabulary, text: &str) -> Option<(String, String)> {
+    if words(text).iter().any(|x| v.has("status_denial.words", x)) {
+        return None;
+    }
+    let code = code_of(text);
+    if let Some(meaning) = v.code(&code) {
+        return Some((meaning.to_string(), code));
+    }
+    text.split([';', ',', '.', '\n', '!', '?'])
+        .find_map(|part| status_phrase(v, &code_of(part)))
+}
+
+/// The status word of a phrase made of status and context words only, with its meaning.
+fn status_phrase(v: &Vocabulary, plain: &str) -> Option<(String, String)> {
+    let ws: Vec<&str> = plain.split(' ').filter(|w| !w.is_empty()).collect();
+    if ws.is_empty() || ws.len() > STATUS_PHRASE_WORDS {
+        return None;
+    }
+    let fits = |w: &&str| v.status(w).is_some() || v.has("status_context.words", w);
+    if !ws.iter().all(fits) {
+        return None;
+    }
+    ws.iter()
+        .find_map(|w| Some((v.status(w)?.to_string(), (*w).to_string())))
 }
 
 /// Why the row is excused, in words for its feedback, or `None`.
 pub fn reason(s: &Submission) -> Option<String> {
+    let v = vocabulary::current();
     if let Some(status) = s.status.as_deref() {
-        if let Some((meaning, word)) = excusing_word(status, true) {
+        if let Some((meaning, word)) = excusing_word(&v, status) {
             let shown: String = status.trim().chars().take(40).collect();
             return Some(if word == meaning {
                 format!("status \"{shown}\"")
@@ -126,7 +114,7 @@ pub fn reason(s: &Submission) -> Option<String> {
     }
     let lacks = s.recovered_mass_g.is_none() || (s.mp_onset_c.is_none() && s.mp_clear_c.is_none());
     let notes = s.remarks.as_deref().filter(|_| lacks)?;
-    let (_, word) = excusing_word(notes, false)?;
+    let (_, word) = notes_status(&v, notes)?;
     Some(format!(
         "the notes say \"{word}\" and the row has nothing to grade"
     ))
@@ -208,8 +196,37 @@ mod tests {
             reason(&row(None, Some("absent Monday, made up Tuesday"), true)),
             None
         );
-        // single letters in notes never excuse
-        assert_eq!(reason(&row(None, Some("W"), false)), None);
         assert_eq!(reason(&row(None, Some("excused? no"), false)), None);
+    }
+
+    /// A status word in notes is a status only as a status: the whole cell or a phrase of
+    /// status words (from a trial: "dropped filter paper in sink" excused a student, and a
+    /// notes cell of just "W" did not).
+    #[test]
+    fn notes_are_read_as_a_status_never_as_a_sentence_about_the_work() {
+        for notes in [
+            "W",
+            "WD",
+            "W (medical)",
+            "dropped course",
+            "Withdrew from the course",
+            "absent - medical note",
+            "abgemeldet",
+            "dado de baja",
+            "Désinscrit",
+            "see email; excused by instructor",
+        ] {
+            assert!(reason(&row(None, Some(notes), false)).is_some(), "{notes}");
+        }
+        for notes in [
+            "dropped filter paper in sink",
+            "dropped the flask, redid it",
+            "absent Monday, made up Tuesday",
+            "w/ partner",
+            "was absent for the melting point, used partner's value",
+        ] {
+            let why = reason(&row(None, Some(notes), false));
+            assert!(why.is_none(), "{notes}: {why:?}");
+        }
     }
 }

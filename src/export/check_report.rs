@@ -109,11 +109,17 @@ pub fn layouts(sheets: &[SheetReport], style: Style) -> String {
         if let Some(enc) = &s.encoding {
             let _ = write!(extra, ", {enc}");
         }
+        let rows = match s.layout.sub_header_row {
+            Some(sub) => format!(
+                "header rows {}-{sub} (group names over sub-headers)",
+                s.layout.header_row
+            ),
+            None => format!("header row {}", s.layout.header_row),
+        };
         let _ = writeln!(
             out,
-            "  {}: header row {}, {} student rows{}",
+            "  {}: {rows}, {} student rows{}",
             sheet_title(&s.source, s.sheet.as_ref()),
-            s.layout.header_row,
             s.students,
             extra
         );
@@ -123,11 +129,19 @@ pub fn layouts(sheets: &[SheetReport], style: Style) -> String {
         if let Some(m) = crate::ingest::unnamed_message(&s.unnamed) {
             let _ = writeln!(out, "    {m}");
         }
+        below_the_block(&mut out, s);
         for c in &s.layout.columns {
             let target = match (c.field, &c.note) {
                 (Some(f), _) => {
                     let mapped = if c.explicit { " (mapped)" } else { "" };
-                    format!("{}{mapped}{}", f.label(), unit_note(c))
+                    let commas = if c.decimal == Some(crate::ingest::values::Decimal::Comma)
+                        && !s.decimal_comma
+                    {
+                        ", decimal commas (as its cells show)"
+                    } else {
+                        ""
+                    };
+                    format!("{}{mapped}{}{commas}", f.label(), unit_note(c))
                 }
                 (None, Some(note)) => style.dim(&printable(note)),
                 (None, None) => style.dim("not used"),
@@ -140,8 +154,60 @@ pub fn layouts(sheets: &[SheetReport], style: Style) -> String {
                 target
             );
         }
+        text_values(&mut out, s);
     }
     out
+}
+
+/// The rows below the notes or summary block: late entries read as students, and the rest
+/// passed over, by row.
+fn below_the_block(out: &mut String, s: &SheetReport) {
+    let Some(block) = s.block else { return };
+    if !s.late.is_empty() {
+        let _ = writeln!(
+            out,
+            "    {} {} stand{} below the notes or summary block at row {block} and {} like {} (an id or name, and a mass or melting entry): read as {}, with a note",
+            if s.late.len() == 1 { "row" } else { "rows" },
+            crate::ingest::row_list(&s.late),
+            if s.late.len() == 1 { "s" } else { "" },
+            if s.late.len() == 1 { "looks" } else { "look" },
+            if s.late.len() == 1 { "a student" } else { "students" },
+            if s.late.len() == 1 { "one" } else { "students" },
+        );
+    }
+    if !s.passed.is_empty() {
+        let _ = writeln!(
+            out,
+            "    {} {} below the notes or summary block at row {block}: passed over, not {}",
+            if s.passed.len() == 1 { "row" } else { "rows" },
+            crate::ingest::row_list(&s.passed),
+            if s.passed.len() == 1 {
+                "a student"
+            } else {
+                "students"
+            }
+        );
+    }
+}
+
+/// The values read from text that is not a plain number, each beside its text.
+fn text_values(out: &mut String, s: &SheetReport) {
+    if s.text_values.is_empty() {
+        return;
+    }
+    let _ = writeln!(out, "    values read from text:");
+    for v in &s.text_values {
+        let _ = writeln!(
+            out,
+            "      {:<10} \"{}\" -> {}",
+            printable(&v.cell),
+            printable(&v.text),
+            v.read
+        );
+    }
+    if s.text_values_more > 0 {
+        let _ = writeln!(out, "      and {} more", s.text_values_more);
+    }
 }
 
 /// Flagged and excused rows grouped by file, then section, in input order.

@@ -54,6 +54,8 @@ pub struct Handouts {
     files: BTreeMap<String, AtomicFile>,
     stems: BTreeMap<String, String>,
     page: String,
+    /// Print the sheet's notes on each page.
+    sheet_notes: bool,
 }
 
 /// The labels of the values a handout shows, escaped once.
@@ -118,7 +120,14 @@ impl Handouts {
             files: BTreeMap::new(),
             stems: BTreeMap::new(),
             page: String::with_capacity(8 << 10),
+            sheet_notes: false,
         }
+    }
+
+    /// Prints the sheet's notes on each student's page (`[grading] notes_to_students`).
+    pub fn with_sheet_notes(mut self, yes: bool) -> Handouts {
+        self.sheet_notes = yes;
+        self
     }
 
     /// The section's file, opened with the page's head on first use; `None` past the limit.
@@ -176,6 +185,9 @@ impl Handouts {
         let lacks = g.assessed.submission.sheet_lacks();
         if lacks.is_empty() {
             write_page(&mut page, &self.title_html, g);
+            if self.sheet_notes {
+                sheet_notes(&mut page, g);
+            }
         } else {
             write_ungraded_page(&mut page, &self.title_html, g, &lacks);
         }
@@ -214,7 +226,20 @@ fn write_ungraded_page(out: &mut String, title_html: &str, g: &Graded, lacks: &[
     out.push_str("</p></section>");
 }
 
-/// One student's printed page, under the title (already escaped).
+/// The sheet's notes about the student, inside the page's section (before its end tag).
+fn sheet_notes(page: &mut String, g: &Graded) {
+    let Some(notes) = g.assessed.submission.remarks.as_deref() else {
+        return;
+    };
+    let Some(end) = page.rfind("</section>") else {
+        return;
+    };
+    let mut block = String::from("<h2>Notes from your assistant</h2><p>");
+    escape_into(&mut block, notes);
+    block.push_str("</p>");
+    page.insert_str(end, &block);
+}
+
 /// A page's opening: the course and section, the student's name and id.
 fn page_head(out: &mut String, title_html: &str, g: &Graded) {
     let s = &g.assessed.submission;
@@ -229,9 +254,9 @@ fn page_head(out: &mut String, title_html: &str, g: &Graded) {
     out.push_str("</p>");
 }
 
+/// One student's printed page, under the title (already escaped).
 fn write_page(out: &mut String, title_html: &str, g: &Graded) {
     let a = &g.assessed;
-    let s = &a.submission;
     page_head(out, title_html, g);
     if let Some(why) = &a.excused {
         out.push_str("<p class=\"total\">Excused: not graded</p><p>");

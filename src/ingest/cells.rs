@@ -130,6 +130,18 @@ impl RawRow {
 pub struct RawSheet {
     pub name: Option<String>,
     pub rows: Vec<RawRow>,
+    /// Cells merged across columns near the top of the sheet, where a header may stand (read
+    /// from .xlsx and .xls; other formats give a merged cell only as a value with blanks to its
+    /// right).
+    pub merges: Vec<Merge>,
+}
+
+/// A cell merged across columns: its row and its first and last column (0-based).
+#[derive(Clone, Copy, Debug, PartialEq, Eq)]
+pub struct Merge {
+    pub row: u32,
+    pub first: u32,
+    pub last: u32,
 }
 
 /// Collects cells into sparse rows as a reader streams them, dropping empty cells. Cells

@@ -213,7 +213,10 @@ pub fn read_delimited(bytes: &[u8], is_tsv: bool) -> Result<Delimited, String> {
     }
     let decimal = sniff_decimal(&rows, delimiter);
     Ok(Delimited {
-        sheet: RawSheet { name: None, rows },
+        sheet: RawSheet {
+            rows,
+            ..RawSheet::default()
+        },
         decimal,
         delimiter,
         encoding,

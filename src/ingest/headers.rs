@@ -11,6 +11,7 @@
 use std::collections::BTreeMap;
 
 use super::values::{parse_unit, Unit};
+use super::vocabulary::{self, Vocabulary};
 use crate::fields::Field;
 
 /// A header taken apart.
@@ -105,9 +106,13 @@ fn take_trailing_unit(text: &str) -> (String, Option<Unit>) {
     (text.to_string(), None)
 }
 
-/// Splits a header into words and a unit.
+/// Splits a header into words and a unit. Words are lower-cased with accents folded.
 pub fn parse_header(text: &str) -> ParsedHeader {
-    let lower = text.to_lowercase();
+    parse_with(text, &vocabulary::current())
+}
+
+fn parse_with(text: &str, v: &Vocabulary) -> ParsedHeader {
+    let lower = vocabulary::fold(text);
     let lower = lower
         .replace("m.p.", " mp ")
         .replace("m. p.", " mp ")
@@ -126,90 +131,48 @@ pub fn parse_header(text: &str) -> ParsedHeader {
     let words = rest
         .split(|c: char| !c.is_alphanumeric())
         .filter(|w| !w.is_empty())
-        .filter(|w| {
-            !matches!(
-                *w,
-                "of" | "the"
-                    | "in"
-                    | "a"
-                    | "your"
-                    | "observed"
-                    | "measured"
-                    | "exp"
-                    | "experimental"
-                    | "obtained"
-                    | "enter"
-                    | "value"
-            )
-        })
+        .filter(|w| !v.has("header.ignored", w))
         .map(str::to_string)
         .collect();
     ParsedHeader { words, unit }
 }
 
-struct Words<'a>(&'a [String]);
-
-impl Words<'_> {
-    fn has(&self, w: &str) -> bool {
-        self.0.iter().any(|x| x == w)
-    }
-    fn any(&self, ws: &[&str]) -> bool {
-        ws.iter().any(|w| self.has(w))
-    }
-    fn only(&self, ws: &[&str]) -> bool {
-        !self.0.is_empty() && self.0.iter().all(|x| ws.contains(&x.as_str()))
-    }
+/// A header's words, asked about classes of the vocabulary.
+struct Words<'a> {
+    words: &'a [String],
+    v: &'a Vocabulary,
 }
 
-const MP_WORDS: [&str; 5] = ["mp", "melting", "melt", "fusion", "meltingpoint"];
-const ONSET_WORDS: [&str; 10] = [
-    "onset",
-    "start",
-    "begin",
-    "begins",
-    "beginning",
-    "initial",
-    "low",
-    "lower",
-    "from",
-    "first",
-];
-const CLEAR_WORDS: [&str; 11] = [
-    "clear",
-    "clearing",
-    "end",
-    "final",
-    "high",
-    "upper",
-    "to",
-    "last",
-    "complete",
-    "completion",
-    "meniscus",
-];
-const MASS_WORDS: [&str; 5] = ["mass", "weight", "wt", "grams", "masse"];
-const RECOVERED_WORDS: [&str; 12] = [
-    "recovered",
-    "recovery",
-    "pure",
-    "purified",
-    "recrystallized",
-    "recrystallised",
-    "final",
-    "dry",
-    "dried",
-    "after",
-    "yield",
-    "crystals",
-];
-const CRUDE_WORDS: [&str; 6] = ["crude", "impure", "starting", "initial", "before", "raw"];
+impl Words<'_> {
+    /// Some word is one of `class`'s.
+    fn any(&self, class: &str) -> bool {
+        self.words.iter().any(|x| self.v.has(class, x))
+    }
+    /// Every word is one of these classes' (and there is a word).
+    fn only(&self, classes: &[&str]) -> bool {
+        !self.words.is_empty()
+            && self
+                .words
+                .iter()
+                .all(|x| classes.iter().any(|c| self.v.has(c, x)))
+    }
+    /// One word of `class`, written one or more times, and nothing else.
+    fn just(&self, class: &str) -> bool {
+        self.only(&[class]) && self.words.iter().all(|x| *x == self.words[0])
+    }
+}
 
 /// The field a parsed header names, by rules over its words and unit, tried in order: comments
 /// and statuses, what is not the student's own (another person, a reference value), who or
 /// where (apparatus, bench, section, assistant), the melting point, the reported recovery, the
-/// compound, the solvent, the masses, then the student's id and name.
+/// compound, the solvent, the masses, then the student's id and name. The words of each class
+/// come from the vocabulary (`vocabulary.toml`).
 pub fn classify(h: &ParsedHeader) -> HeaderMeaning {
-    let w = Words(&h.words);
+    let v = vocabulary::current();
+    let w = Words {
+        words: &h.words,
+        v: &v,
+    };
     not_own(&w)
         .or_else(|| container(&w))
         .or_else(|| remarks(&w))
@@ -222,36 +185,18 @@ pub fn classify(h: &ParsedHeader) -> HeaderMeaning {
 }
 
 fn percent(w: &Words, h: &ParsedHeader) -> bool {
-    matches!(h.unit, Some(Unit::Percent)) || w.any(&["percent", "pct"])
+    matches!(h.unit, Some(Unit::Percent)) || w.any("header.percent")
 }
 
 fn is_mass(w: &Words, h: &ParsedHeader) -> bool {
-    w.any(&MASS_WORDS) || matches!(h.unit, Some(Unit::Mass(_)))
+    w.any("header.mass") || matches!(h.unit, Some(Unit::Mass(_)))
 }
 
 /// A notes or comments column (whoever wrote it: "TA notes" is not the assistant), or a status.
 fn remarks(w: &Words) -> Option<HeaderMeaning> {
-    let f = if w.any(&[
-        "notes",
-        "note",
-        "comment",
-        "comments",
-        "remark",
-        "remarks",
-        "observation",
-        "observations",
-    ]) {
+    let f = if w.any("field.notes") {
         Field::Notes
-    } else if w.any(&[
-        "status",
-        "attendance",
-        "standing",
-        "enrolment",
-        "enrollment",
-        "excused",
-        "withdrawn",
-        "exempt",
-    ]) {
+    } else if w.any("field.status") {
         Field::Status
     } else {
         return None;
@@ -262,51 +207,19 @@ fn remarks(w: &Words) -> Option<HeaderMeaning> {
 /// A column about another person, or a reference or expected value, rather than the student's
 /// own measurement.
 fn not_own(w: &Words) -> Option<HeaderMeaning> {
-    if w.any(&["partner", "partners", "neighbour", "neighbor"]) {
+    if w.any("header.partner") {
         return Some(HeaderMeaning::NotOwn(
             "about another person (a partner), not the student",
         ));
     }
-    if w.any(&[
-        "mean",
-        "average",
-        "avg",
-        "median",
-        "sum",
-        "std",
-        "stdev",
-        "sd",
-        "deviation",
-    ]) {
+    if w.any("header.summary") {
         return Some(HeaderMeaning::NotOwn(
             "a summary of several students, not one student's value",
         ));
     }
     // "Pure mp": the melting point of the pure compound, a reference
-    if w.any(&["pure", "authentic"]) && w.any(&MP_WORDS) {
-        return Some(HeaderMeaning::NotOwn(
-            "a reference or expected value, not the student's measurement",
-        ));
-    }
-    let reference = [
-        "literature",
-        "lit",
-        "crc",
-        "theor",
-        "expected",
-        "reference",
-        "ref",
-        "theoretical",
-        "theory",
-        "accepted",
-        "handbook",
-        "known",
-        "target",
-        "nominal",
-        "true",
-        "certified",
-    ];
-    w.any(&reference).then_some(HeaderMeaning::NotOwn(
+    let pure_mp = w.any("header.pure") && w.any("field.mp_range");
+    (pure_mp || w.any("header.reference")).then_some(HeaderMeaning::NotOwn(
         "a reference or expected value, not the student's measurement",
     ))
 }
@@ -314,26 +227,12 @@ fn not_own(w: &Words) -> Option<HeaderMeaning> {
 /// A weighing of the container, empty (a tare) or with the product in it (a gross mass): the
 /// product's mass is their difference, so neither is the crude or the recovered mass.
 fn container(w: &Words) -> Option<HeaderMeaning> {
-    const CONTAINERS: [&str; 12] = [
-        "vial",
-        "flask",
-        "beaker",
-        "dish",
-        "watchglass",
-        "glass",
-        "paper",
-        "container",
-        "jar",
-        "tube",
-        "boat",
-        "filter",
-    ];
-    if w.any(&["tare", "tared", "empty"]) {
+    if w.any("header.tare") {
         return Some(HeaderMeaning::NotOwn(
             "the empty container's mass (a tare), not the product's",
         ));
     }
-    if w.has("gross") || w.any(&CONTAINERS) && w.any(&["plus", "and", "with"]) {
+    if w.any("header.gross") || w.any("header.container") && w.any("header.container_with") {
         return Some(HeaderMeaning::NotOwn(
             "the container with the product in it (a gross mass), not the product's mass alone",
         ));
@@ -343,31 +242,15 @@ fn container(w: &Words) -> Option<HeaderMeaning> {
 
 /// The apparatus, bench, section or teaching assistant.
 fn place_or_person(w: &Words) -> Option<HeaderMeaning> {
-    let f = if w.any(&["apparatus", "instrument", "device", "thermometer"]) {
+    let f = if w.any("field.apparatus") {
         Field::Apparatus
-    } else if w.any(&[
-        "bench",
-        "station",
-        "workstation",
-        "hood",
-        "desk",
-        "drawer",
-        "locker",
-    ]) {
+    } else if w.any("field.bench") {
         Field::Bench
-    } else if w.any(&["section", "sec", "sect"])
-        || w.only(&["lab", "group", "number"]) && w.has("group")
+    } else if w.any("field.section")
+        || w.only(&["header.group", "header.group_with"]) && w.any("header.group")
     {
         Field::Section
-    } else if w.any(&[
-        "ta",
-        "gta",
-        "assistant",
-        "instructor",
-        "demonstrator",
-        "tutor",
-        "grader",
-    ]) {
+    } else if w.any("field.assistant") {
         Field::Assistant
     } else {
         return None;
@@ -378,17 +261,17 @@ fn place_or_person(w: &Words) -> Option<HeaderMeaning> {
 /// A melting range, onset or clear point (or a temperature that is none of them: unknown).
 fn melting(w: &Words, h: &ParsedHeader) -> Option<HeaderMeaning> {
     let temp = matches!(h.unit, Some(Unit::Temperature(_)));
-    let mp = w.any(&MP_WORDS) || (w.has("melting") && w.has("point"));
-    if !(mp || temp || w.any(&["onset", "clearing", "meniscus"]) || w.only(&["clear", "point"])) {
+    let mp = w.any("field.mp_range");
+    if !(mp || temp || w.any("header.melting_alone") || w.only(&["header.clear_point"])) {
         return None;
     }
-    let onset = w.any(&ONSET_WORDS);
-    let clear = w.any(&CLEAR_WORDS);
+    let onset = w.any("field.mp_onset");
+    let clear = w.any("field.mp_clear");
     Some(match (onset, clear) {
         (true, false) => HeaderMeaning::Field(Field::MpOnset),
         (false, true) => HeaderMeaning::Field(Field::MpClear),
         (true, true) => HeaderMeaning::Field(Field::MpRange),
-        (false, false) if mp || w.has("range") => HeaderMeaning::Field(Field::MpRange),
+        (false, false) if mp || w.any("header.range") => HeaderMeaning::Field(Field::MpRange),
         _ => HeaderMeaning::Unknown,
     })
 }
@@ -396,18 +279,16 @@ fn melting(w: &Words, h: &ParsedHeader) -> Option<HeaderMeaning> {
 /// The reported recovery, the compound, the solvent volume or the solvent.
 fn substance(w: &Words, h: &ParsedHeader) -> Option<HeaderMeaning> {
     // "Recovery" or "Yield" alone is the percentage; "Recovered" alone the mass
-    let bare = h.unit.is_none() && (w.only(&["recovery"]) || w.only(&["yield"]));
-    let f = if (percent(w, h) && w.any(&["recovery", "recovered", "yield"])) || bare {
+    let bare = h.unit.is_none() && w.just("header.recovery_alone");
+    let f = if (percent(w, h) && w.any("field.reported_recovery")) || bare {
         Field::ReportedRecovery
-    } else if w.any(&["compound", "substance", "chemical", "material", "unknown"])
-        || w.only(&["sample"])
-    {
+    } else if w.any("field.compound") || w.only(&["header.compound_alone"]) {
         Field::Compound
-    } else if (w.any(&["volume", "vol"]) || matches!(h.unit, Some(Unit::Volume(_))))
+    } else if (w.any("field.solvent_volume") || matches!(h.unit, Some(Unit::Volume(_))))
         && !is_mass(w, h)
     {
         Field::SolventVolume
-    } else if w.has("solvent") && !is_mass(w, h) && h.unit.is_none() {
+    } else if w.any("field.solvent") && !is_mass(w, h) && h.unit.is_none() {
         Field::Solvent
     } else {
         return None;
@@ -421,53 +302,39 @@ fn mass(w: &Words, h: &ParsedHeader) -> Option<HeaderMeaning> {
         return None;
     }
     let mass = is_mass(w, h);
-    let crude = w.any(&CRUDE_WORDS);
-    let recovered = w.any(&RECOVERED_WORDS);
+    let crude = w.any("field.crude_mass");
+    let recovered = w.any("field.recovered_mass");
     match (crude, recovered) {
         (true, false) => Some(HeaderMeaning::Field(Field::CrudeMass)),
-        (false, true)
-            if mass || w.only(&["recovered", "recovery", "yield", "pure", "crystals"]) =>
-        {
+        (false, true) if mass || w.only(&["header.recovered_alone"]) => {
             Some(HeaderMeaning::Field(Field::RecoveredMass))
         }
         (true, true) if mass => Some(HeaderMeaning::Ambiguous(
             Field::CrudeMass,
             Field::RecoveredMass,
         )),
-        (false, false) if mass && !w.any(&["molar", "molecular"]) => Some(
-            HeaderMeaning::Ambiguous(Field::CrudeMass, Field::RecoveredMass),
-        ),
+        (false, false) if mass && !w.any("header.molar") => Some(HeaderMeaning::Ambiguous(
+            Field::CrudeMass,
+            Field::RecoveredMass,
+        )),
         _ => None,
     }
 }
 
 /// The student's id or name.
 fn student(w: &Words) -> Option<HeaderMeaning> {
-    let id_words = ["id", "number", "num", "code"];
-    if w.has("student") && w.any(&id_words)
-        || w.has("id")
-        || w.any(&[
-            "sid",
-            "netid",
-            "matriculation",
-            "matric",
-            "matrikel",
-            "matrikelnummer",
-            "registration",
-            "username",
-            "login",
-        ])
-    {
+    if w.any("header.student") && w.any("header.id_part") || w.any("field.student_id") {
         return Some(HeaderMeaning::Field(Field::StudentId));
     }
-    let family = w.any(&["surname", "family", "lastname", "familyname"])
-        || w.has("name") && w.has("last")
-        || w.only(&["last"]);
-    let given = w.any(&["forename", "forenames", "given", "firstname", "givenname"])
-        || w.has("name") && w.has("first")
-        || w.only(&["first"]);
+    let (name, last, first) = (
+        w.any("header.name"),
+        w.any("header.last"),
+        w.any("header.first"),
+    );
+    let family = w.any("field.last_name") || name && last || w.only(&["header.last"]);
+    let given = w.any("field.first_name") || name && first || w.only(&["header.first"]);
     // "Last, First" and "Student (last, first)" hold the whole name
-    if w.has("last") && w.has("first") {
+    if last && first {
         return Some(HeaderMeaning::Field(Field::StudentName));
     }
     match (family, given) {
@@ -475,7 +342,7 @@ fn student(w: &Words) -> Option<HeaderMeaning> {
         (false, true) => return Some(HeaderMeaning::Field(Field::FirstName)),
         _ => {}
     }
-    if w.any(&["name", "fullname"]) || w.only(&["student"]) {
+    if w.any("field.student_name") || w.only(&["header.student"]) {
         return Some(HeaderMeaning::Field(Field::StudentName));
     }
     None
@@ -545,6 +412,8 @@ pub struct ColumnOverrides {
     pub map: BTreeMap<String, Option<Field>>,
     /// By column letter ("C").
     pub letters: BTreeMap<String, Option<Field>>,
+    /// Values set for every row of a file or sheet: `section = "102"`, `assistant = "R. Okafor"`.
+    pub values: BTreeMap<Field, String>,
     scoped: Vec<(Scope, ColumnOverrides)>,
 }
 
@@ -569,6 +438,17 @@ fn looks_like_a_letter_key(key: &str) -> bool {
     })
 }
 
+/// `section = "102"` or `assistant = "R. Okafor"`: a value for every row, not a header mapped to
+/// a field (a value that is a field's name, or "ignore", maps a column headed "Section").
+fn value_key(header: &str, value: &str) -> Option<Field> {
+    let f = match canonical(header).as_str() {
+        "section" => Field::Section,
+        "assistant" => Field::Assistant,
+        _ => return None,
+    };
+    (value != "ignore" && Field::from_key(value).is_none()).then_some(f)
+}
+
 fn field_for(header: &str, key: &str) -> Result<Option<Field>, String> {
     if key == "ignore" {
         return Ok(None);
@@ -590,6 +470,10 @@ impl ColumnOverrides {
     ) -> Result<Self, String> {
         let mut out = ColumnOverrides::default();
         for (header, key) in pairs {
+            if let Some(f) = value_key(header, key) {
+                out.values.insert(f, key.trim().to_string());
+                continue;
+            }
             let field = field_for(header, key)?;
             match letter_key(header) {
                 Some(l) => out.letters.insert(l, field),
@@ -631,6 +515,9 @@ impl ColumnOverrides {
         for (k, v) in &base.letters {
             self.letters.entry(k.clone()).or_insert(*v);
         }
+        for (k, v) in &base.values {
+            self.values.entry(*k).or_insert_with(|| v.clone());
+        }
         self.scoped.extend(base.scoped.iter().cloned());
         self
     }
@@ -653,6 +540,7 @@ impl ColumnOverrides {
         let mut out = ColumnOverrides {
             map: self.map.clone(),
             letters: self.letters.clone(),
+            values: self.values.clone(),
             scoped: Vec::new(),
         };
         for (scope, m) in &self.scoped {
@@ -660,6 +548,8 @@ impl ColumnOverrides {
                 out.map.extend(m.map.iter().map(|(k, v)| (k.clone(), *v)));
                 out.letters
                     .extend(m.letters.iter().map(|(k, v)| (k.clone(), *v)));
+                out.values
+                    .extend(m.values.iter().map(|(k, v)| (*k, v.clone())));
             }
         }
         out
@@ -669,15 +559,23 @@ impl ColumnOverrides {
 /// The meaning of a header cell in column `letter`, explicit mapping first (by letter, then
 /// by header text).
 pub fn meaning(text: &str, letter: &str, overrides: &ColumnOverrides) -> (HeaderMeaning, bool) {
+    explicit(text, letter, overrides).unwrap_or_else(|| (classify(&parse_header(text)), false))
+}
+
+/// The explicit mapping of a header cell in column `letter` (by letter, then by header text).
+pub fn explicit(
+    text: &str,
+    letter: &str,
+    overrides: &ColumnOverrides,
+) -> Option<(HeaderMeaning, bool)> {
     let explicit = overrides
         .letters
         .get(letter)
-        .or_else(|| overrides.map.get(&canonical(text)));
-    match explicit {
-        Some(Some(f)) => (HeaderMeaning::Field(*f), true),
-        Some(None) => (HeaderMeaning::Ignored, true),
-        None => (classify(&parse_header(text)), false),
-    }
+        .or_else(|| overrides.map.get(&canonical(text)))?;
+    Some(match explicit {
+        Some(f) => (HeaderMeaning::Field(*f), true),
+        None => (HeaderMeaning::Ignored, true),
+    })
 }
 
 /// The line to paste into a `--columns` file's `[columns]` table to map a column to a field.
@@ -689,185 +587,5 @@ pub fn mapping_line(letter: &str, field: Option<Field>) -> String {
 }
 
 #[cfg(test)]
-mod tests {
-    use super::*;
-    use proptest::prelude::*;
-
-    fn field(text: &str) -> HeaderMeaning {
-        classify(&parse_header(text))
-    }
-
-    #[test]
-    fn spellings_from_the_issue() {
-        use Field::*;
-        let cases = [
-            ("Crude product mass (g)", CrudeMass),
-            ("Mass recovered / g", RecoveredMass),
-            ("m.p. range (°C)", MpRange),
-            ("MP start", MpOnset),
-            ("MP end", MpClear),
-            ("Student #", StudentId),
-            ("Student ID", StudentId),
-            ("ID", StudentId),
-            ("Matrikel ID", StudentId),
-            ("Campus ID number", StudentId),
-            ("Name", StudentName),
-            ("Student", StudentName),
-            ("Lab section", Section),
-            ("Bench #", Bench),
-            ("Station", Bench),
-            ("TA", Assistant),
-            ("Teaching assistant", Assistant),
-            ("Compound", Compound),
-            ("Crude (mg)", CrudeMass),
-            ("Wt. crude", CrudeMass),
-            ("Recovered (g)", RecoveredMass),
-            ("Final mass, g", RecoveredMass),
-            ("Solvent volume (mL)", SolventVolume),
-            ("Vol. water (mL)", SolventVolume),
-            ("Solvent", Solvent),
-            ("Melting point onset (°F)", MpOnset),
-            ("Clear point", MpClear),
-            ("Onset", MpOnset),
-            ("Melting range", MpRange),
-            ("% recovery", ReportedRecovery),
-            ("Recovery (%)", ReportedRecovery),
-            ("Percent recovery", ReportedRecovery),
-            ("MP apparatus", Apparatus),
-            ("Mp low (K)", MpOnset),
-            ("Mp high (K)", MpClear),
-        ];
-        for (text, want) in cases {
-            assert_eq!(field(text), HeaderMeaning::Field(want), "{text:?}");
-        }
-    }
-
-    #[test]
-    fn units_are_taken_from_the_header() {
-        assert_eq!(
-            parse_header("Crude product mass (g)").unit,
-            Some(Unit::Mass(1.0))
-        );
-        assert_eq!(
-            parse_header("Mass recovered / mg").unit,
-            Some(Unit::Mass(0.001))
-        );
-        assert_eq!(
-            parse_header("Crude mass in kg").unit,
-            Some(Unit::Mass(1000.0))
-        );
-        assert_eq!(
-            parse_header("MP start [°F]").unit,
-            Some(Unit::Temperature(
-                super::super::values::TempUnit::Fahrenheit
-            ))
-        );
-    }
-
-    #[test]
-    fn a_bare_mass_is_ambiguous() {
-        assert_eq!(
-            field("Mass (g)"),
-            HeaderMeaning::Ambiguous(Field::CrudeMass, Field::RecoveredMass)
-        );
-    }
-
-    #[test]
-    fn unrelated_headers_are_unknown() {
-        for t in ["Date", "Signature", ""] {
-            assert_eq!(field(t), HeaderMeaning::Unknown, "{t:?}");
-        }
-    }
-
-    #[test]
-    fn headers_are_read_by_meaning() {
-        use Field::*;
-        for (text, want) in [
-            ("TA notes", Notes),
-            ("Comments", Notes),
-            ("Instructor remarks", Notes),
-            ("Status", Status),
-            ("Last name", LastName),
-            ("Family name", LastName),
-            ("Surname", LastName),
-            ("First name", FirstName),
-            ("Given name", FirstName),
-            ("Forename", FirstName),
-            ("TA", Assistant),
-            ("TA name", Assistant),
-        ] {
-            assert_eq!(field(text), HeaderMeaning::Field(want), "{text:?}");
-        }
-        for text in [
-            "Partner ID",
-            "Lab partner",
-            "Literature mp (°C)",
-            "Lit. m.p.",
-            "Expected mass (g)",
-            "Theoretical yield (g)",
-            "Reference melting point",
-            // weighings by difference (common practice): the container, and it with the product
-            "Vial + crystals (g)",
-            "Empty vial (g)",
-            "Tare (g)",
-            "Watch glass and product (g)",
-            "Gross mass (g)",
-        ] {
-            assert!(
-                matches!(field(text), HeaderMeaning::NotOwn(_)),
-                "{text:?}: {:?}",
-                field(text)
-            );
-        }
-    }
-
-    #[test]
-    fn explicit_mapping_wins() {
-        let pairs = [
-            ("Wt A".to_string(), "crude_mass".to_string()),
-            ("Mass (g)".to_string(), "ignore".to_string()),
-        ];
-        let o = ColumnOverrides::from_pairs(pairs.iter().map(|(a, b)| (a, b))).unwrap();
-        assert_eq!(
-            meaning("wt  a", "A", &o),
-            (HeaderMeaning::Field(Field::CrudeMass), true)
-        );
-        assert_eq!(meaning("Mass (g)", "B", &o), (HeaderMeaning::Ignored, true));
-        let bad = [("x".to_string(), "crude".to_string())];
-        assert!(ColumnOverrides::from_pairs(bad.iter().map(|(a, b)| (a, b))).is_err());
-    }
-
-    #[test]
-    fn columns_by_letter_for_one_file_or_sheet() {
-        let table: BTreeMap<String, MappingValue> = toml::from_str(
-            "\"column C\" = \"crude_mass\"\n[\"two.xlsx [Sheet1]\"]\n\"column D\" = \"recovered_mass\"\n",
-        )
-        .unwrap();
-        let o = ColumnOverrides::from_table(&table).unwrap();
-        let here = o.for_sheet("data/two.xlsx", Some("Sheet1"));
-        assert_eq!(
-            meaning("Mass (g)", "C", &here).0,
-            HeaderMeaning::Field(Field::CrudeMass)
-        );
-        assert_eq!(
-            meaning("Mass (g)", "D", &here).0,
-            HeaderMeaning::Field(Field::RecoveredMass)
-        );
-        let elsewhere = o.for_sheet("other.xlsx", Some("Sheet1"));
-        assert!(matches!(
-            meaning("Mass (g)", "D", &elsewhere).0,
-            HeaderMeaning::Ambiguous(..)
-        ));
-        assert_eq!(
-            mapping_line("D", Some(Field::RecoveredMass)),
-            "\"column D\" = \"recovered_mass\""
-        );
-    }
-
-    proptest! {
-        #[test]
-        fn no_header_panics(s in "\\PC{0,60}") {
-            let _ = classify(&parse_header(&s));
-        }
-    }
-}
+#[path = "headers_tests.rs"]
+mod tests;

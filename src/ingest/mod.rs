@@ -1,10 +1,13 @@
 //! Ingest: files in, `Submission`s out, with a report of every sheet's layout and every file
 //! or sheet that could not be used. Nothing here stops the batch: a bad file is a `Problem`.
 
+pub mod body;
 pub mod calibration;
 pub mod cells;
+pub mod commas;
 pub mod delimited;
 pub mod discover;
+pub mod grouped;
 pub mod headers;
 pub mod percent_cells;
 pub mod range;
@@ -13,7 +16,9 @@ pub mod row;
 pub mod spill;
 pub mod submission;
 pub mod table;
+pub mod title;
 pub mod values;
+pub mod vocabulary;
 pub mod workbook;
 
 use std::fmt::Write as _;
@@ -58,6 +63,133 @@ pub struct SheetReport {
     pub unnamed: Vec<u32>,
     pub decimal_comma: bool,
     pub encoding: Option<String>,
+    /// Values read from text that is not a plain number, with the text beside them, for
+    /// `check` (at most `TEXT_VALUES_SHOWN`; `text_values_more` counts the rest).
+    #[serde(skip_serializing_if = "Vec::is_empty")]
+    pub text_values: Vec<TextValue>,
+    #[serde(skip_serializing_if = "is_zero")]
+    pub text_values_more: usize,
+    /// The 1-based row of the notes or summary block that ends the student rows, when rows
+    /// stand below it.
+    #[serde(skip_serializing_if = "Option::is_none")]
+    pub block: Option<u32>,
+    /// 1-based rows below the block read as students (late entries).
+    #[serde(skip_serializing_if = "Vec::is_empty")]
+    pub late: Vec<u32>,
+    /// 1-based rows below the block passed over: not students.
+    #[serde(skip_serializing_if = "Vec::is_empty")]
+    pub passed: Vec<u32>,
+}
+
+/// The rows as a short list: "4, 7-9, 12", the first ten runs and a count of the rest.
+pub fn row_list(rows: &[u32]) -> String {
+    let mut runs: Vec<(u32, u32)> = Vec::new();
+    for &r in rows {
+        match runs.last_mut() {
+            Some(last) if last.1 + 1 == r => last.1 = r,
+            _ => runs.push((r, r)),
+        }
+    }
+    let mut parts: Vec<String> = runs
+        .iter()
+        .take(10)
+        .map(|(a, b)| {
+            if a == b {
+                a.to_string()
+            } else {
+                format!("{a}-{b}")
+            }
+        })
+        .collect();
+    if runs.len() > 10 {
+        parts.push(format!("and {} more", runs.len() - 10));
+    }
+    parts.join(", ")
+}
+
+// serde's skip_serializing_if hands the field by reference
+#[allow(clippy::trivially_copy_pass_by_ref)]
+fn is_zero(n: &usize) -> bool {
+    *n == 0
+}
+
+/// A value read from text: the cell, the text as typed and what it was read as.
+#[derive(Clone, Debug, PartialEq, Serialize)]
+pub struct TextValue {
+    pub cell: String,
+    pub text: String,
+    pub read: String,
+}
+
+/// Most values read from text `check` lists for one sheet.
+const TEXT_VALUES_SHOWN: usize = 20;
+
+/// Decides each numeric column's comma reading from its cells in the student rows.
+fn decide_commas(layout: &mut Layout, rows: &[&cells::RawRow], file: Decimal) {
+    for c in &mut layout.columns {
+        if c.field
+            .is_some_and(|f| f.is_numeric() || f == crate::fields::Field::MpRange)
+        {
+            c.decimal = Some(commas::column_decimal(
+                rows.iter().map(|r| r.get(c.index)),
+                file,
+            ));
+        }
+    }
+}
+
+/// The values of numeric columns read from text that is not a plain number, with the text.
+fn text_values(
+    layout: &Layout,
+    rows: &[&cells::RawRow],
+    sheet: Option<&str>,
+    file: Decimal,
+) -> (Vec<TextValue>, usize) {
+    let mut out = Vec::new();
+    let mut more = 0;
+    for r in rows {
+        for c in &layout.columns {
+            let (Some(field), Some(decimal)) = (c.field, c.decimal) else {
+                continue;
+            };
+            let cells::Cell::Text(t) = r.get(c.index) else {
+                continue;
+            };
+            if values::is_blank_marker(t) || !commas::worth_showing(t, file) {
+                continue;
+            }
+            let read = if field == crate::fields::Field::MpRange {
+                range::parse_range(t, decimal).map(|x| {
+                    let unit = x.unit.map(|u| values::Unit::Temperature(u).symbol());
+                    format!(
+                        "{}-{}{}",
+                        cells::format_number(x.onset),
+                        cells::format_number(x.clear),
+                        unit.map(|u| format!(" {u}")).unwrap_or_default()
+                    )
+                })
+            } else {
+                values::parse_quantity(t, decimal).map(|q| {
+                    let unit = q
+                        .unit
+                        .map(|u| format!(" {}", u.symbol()))
+                        .unwrap_or_default();
+                    format!("{}{unit}", cells::format_number(q.value))
+                })
+            };
+            let Some(read) = read else { continue };
+            if out.len() < TEXT_VALUES_SHOWN {
+                out.push(TextValue {
+                    cell: cells::cell_ref(sheet, r.index, c.index),
+                    text: t.trim().to_string(),
+                    read,
+                });
+            } else {
+                more += 1;
+            }
+        }
+    }
+    (out, more)
 }
 
 /// A sheet as read from a file, ready to be tabulated.
@@ -311,6 +443,84 @@ fn sheet_head(sheet: &RawSheet, layout: &table::Layout) -> submission::SheetHead
     }
 }
 
+/// The section and assistant of rows without a cell for them: a `section = ".."` or
+/// `assistant = ".."` in the sheet's or file's mapping; else, where the table has no such
+/// column, what the title rows name (a title's section only where it is not the sheet's or
+/// file's own: "Section 07" over a sheet "Sec 07" keeps "Sec 07"); else the sheet name or file
+/// stem, and no assistant.
+fn section_and_assistant(
+    columns: &ColumnOverrides,
+    layout: &Layout,
+    head: &SheetHead,
+    default: &str,
+) -> (String, Option<String>) {
+    use crate::fields::Field;
+    let named = title::named(&head.title, &vocabulary::current());
+    let section = columns.values.get(&Field::Section).cloned().or_else(|| {
+        let s = named
+            .section
+            .filter(|_| layout.column(Field::Section).is_none())?;
+        (!same_label(&s, default)).then_some(s)
+    });
+    let assistant = columns.values.get(&Field::Assistant).cloned().or_else(|| {
+        named
+            .assistant
+            .filter(|_| layout.column(Field::Assistant).is_none())
+    });
+    (section.unwrap_or_else(|| default.to_string()), assistant)
+}
+
+/// Whether a title's section ("Section 07") is the one a sheet name or file stem names ("Sec
+/// 07", "section-7"): the last words of both, leading zeros aside.
+fn same_label(title: &str, name: &str) -> bool {
+    let last = |t: &str| {
+        t.split(|c: char| !c.is_alphanumeric())
+            .rfind(|t| !t.is_empty())
+            .map(str::to_string)
+    };
+    let Some(label) = last(title) else {
+        return false;
+    };
+    let key = |t: &str| {
+        let t = t.trim_start_matches('0').to_lowercase();
+        if t.is_empty() {
+            "0".to_string()
+        } else {
+            t
+        }
+    };
+    name.split(|c: char| !c.is_alphanumeric())
+        .rfind(|t| !t.is_empty())
+        .is_some_and(|last| key(last) == key(&label))
+}
+
+/// The sheet's table, or the note that passes the sheet over (a calibration sheet, no table).
+fn layout_of(data: &SheetData, columns: &ColumnOverrides, roster: bool) -> Result<Layout, Problem> {
+    let sheet = &data.sheet;
+    let problem = |message: &str| Problem {
+        file: data.source.clone(),
+        sheet: sheet.name.clone(),
+        message: message.to_string(),
+        fatal: false,
+    };
+    let calibration = sheet
+        .name
+        .as_deref()
+        .is_some_and(|n| n.to_lowercase().contains("calibration"));
+    if calibration {
+        return Err(problem(
+            "not graded: a calibration sheet; apply it with --calibration FILE",
+        ));
+    }
+    let locate = if roster {
+        table::locate_roster
+    } else {
+        table::locate
+    };
+    locate(sheet, columns)
+        .map_err(|LayoutError::NoTable| problem("skipped: no recognisable table of submissions"))
+}
+
 /// Finds the table in a sheet and hands over each student row as a `Submission`.
 pub fn tabulate(
     data: &SheetData,
@@ -329,52 +539,39 @@ pub fn tabulate_as(
     on_row: &mut dyn FnMut(Submission),
 ) -> Result<SheetReport, Problem> {
     let sheet = &data.sheet;
-    if sheet
-        .name
-        .as_deref()
-        .is_some_and(|n| n.to_lowercase().contains("calibration"))
-    {
-        let message =
-            "not graded: a calibration sheet; apply it with --calibration FILE".to_string();
-        return Err(Problem {
-            file: data.source.clone(),
-            sheet: sheet.name.clone(),
-            message,
-            fatal: false,
-        });
-    }
-    let problem = |message: String, fatal: bool| Problem {
-        file: data.source.clone(),
-        sheet: sheet.name.clone(),
-        message,
-        fatal,
-    };
     let columns = columns.for_sheet(&data.source, sheet.name.as_deref());
-    let locate = if roster {
-        table::locate_roster
-    } else {
-        table::locate
-    };
-    let layout = match locate(sheet, &columns) {
-        Ok(l) => l,
-        Err(LayoutError::NoTable) => {
-            return Err(problem(
-                "skipped: no recognisable table of submissions".into(),
-                false,
-            ))
-        }
-    };
+    let mut layout = layout_of(data, &columns, roster)?;
+    let body::Body {
+        rows,
+        unnamed,
+        block,
+        late,
+        passed,
+    } = body::body(sheet, &layout);
+    decide_commas(&mut layout, &rows, data.decimal);
+    let (text_values, text_values_more) =
+        text_values(&layout, &rows, sheet.name.as_deref(), data.decimal);
+    let head = sheet_head(sheet, &layout);
+    let (section, assistant) =
+        section_and_assistant(&columns, &layout, &head, &data.default_section);
     let origin = row::Origin {
         source: &data.source,
         sheet: sheet.name.as_deref(),
-        default_section: &data.default_section,
+        default_section: &section,
+        default_assistant: assistant.as_deref(),
         decimal: data.decimal,
-        headers: std::sync::Arc::new(sheet_head(sheet, &layout)),
+        headers: std::sync::Arc::new(head),
     };
-    let (rows, unnamed) = table::rows_and_unnamed(sheet, &layout);
     let students = rows.len();
     for r in rows {
-        on_row(row::read_row(r, &layout, &origin));
+        let mut sub = row::read_row(r, &layout, &origin);
+        if let Some(block) = block.filter(|_| late.contains(&sub.row)) {
+            sub.notes.push(format!(
+                "row {} stands below the notes or summary block that begins at row {block}; read as a student",
+                sub.row
+            ));
+        }
+        on_row(sub);
     }
     Ok(SheetReport {
         source: data.source.clone(),
@@ -384,5 +581,10 @@ pub fn tabulate_as(
         unnamed,
         decimal_comma: data.decimal == Decimal::Comma,
         encoding: data.encoding.clone(),
+        text_values,
+        text_values_more,
+        block: block.filter(|_| !late.is_empty() || !passed.is_empty()),
+        late,
+        passed,
     })
 }

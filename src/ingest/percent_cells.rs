@@ -449,6 +449,7 @@ mod tests {
     #[test]
     fn only_plain_numbers_inside_a_block_become_percentages() {
         let mut sheet = RawSheet {
+            merges: Vec::new(),
             name: None,
             rows: rows_from_cells(vec![
                 (0, 0, Cell::Text("Recovery".into())),

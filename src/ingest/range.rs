@@ -19,8 +19,6 @@ pub struct RawRange {
     pub completed: bool,
 }
 
-/// Separators between onset and clear point, tried in this order.
-const WORD_SEPARATORS: [&str; 3] = [" to ", " bis ", " until "];
 const DASHES: [char; 5] = ['–', '—', '‒', '~', '/'];
 
 fn temperature(text: &str, decimal: Decimal) -> Option<(f64, Option<TempUnit>)> {
@@ -51,8 +49,10 @@ fn separating_hyphen(text: &str) -> Option<usize> {
 
 fn split_range(text: &str) -> Option<(&str, &str)> {
     let lower = text.to_lowercase();
-    for sep in WORD_SEPARATORS {
-        if let Some(p) = lower.find(sep) {
+    // the words between onset and clear point ("to", "bis", "a", "à"), from the vocabulary
+    for word in super::vocabulary::current().separators() {
+        let sep = format!(" {word} ");
+        if let Some(p) = lower.find(&sep) {
             // lowercase can change byte offsets only for non-ASCII; guard the boundary
             if text.is_char_boundary(p) && text.is_char_boundary(p + sep.len()) {
                 return Some((&text[..p], &text[p + sep.len()..]));
@@ -120,9 +120,8 @@ fn complete_shorthand(r: RawRange) -> RawRange {
     if clear < r.onset {
         clear += scale;
     }
-    // "294.5-4.5" would complete to the onset itself: a zero-width range is never written as
-    // shorthand, so the entry is left as written (found by the property test below)
-    if clear == r.onset || clear - r.onset > 10.0 {
+    // a completion that only repeats the onset ("223.9-3.9") is no range: kept as written
+    if clear - r.onset > 10.0 || clear == r.onset {
         return r;
     }
     RawRange {

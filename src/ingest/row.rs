@@ -14,6 +14,8 @@ pub struct Origin<'a> {
     pub sheet: Option<&'a str>,
     /// Section used when the sheet has no section column: the sheet name or the file stem.
     pub default_section: &'a str,
+    /// Assistant used when the row has no assistant cell: from the mapping or the title rows.
+    pub default_assistant: Option<&'a str>,
     pub decimal: Decimal,
     /// The header texts and title rows of the sheet's table, kept with each row.
     pub headers: std::sync::Arc<super::submission::SheetHead>,
@@ -176,7 +178,11 @@ fn set_text(sub: &mut Submission, field: Field, text: Option<String>) {
         }
         Field::Bench => &mut sub.bench,
         Field::Apparatus => &mut sub.apparatus,
-        Field::Assistant => &mut sub.assistant,
+        Field::Assistant => {
+            return if let Some(t) = text {
+                sub.assistant = Some(t);
+            }
+        }
         Field::Compound => &mut sub.compound,
         Field::Solvent => &mut sub.solvent,
         Field::Status => &mut sub.status,
@@ -186,17 +192,29 @@ fn set_text(sub: &mut Submission, field: Field, text: Option<String>) {
     *slot = text;
 }
 
-/// A status cell as a word: under a yes/no header ("Excused?", "Withdrawn"), "yes" is the
-/// header's word and "no" nothing.
+/// A status cell as a word: under a yes/no header ("Excused?", "Withdrawn", "Abgemeldet?"),
+/// "yes" ("ja", "sí", "oui", "sim") is the header's word and "no" nothing.
 fn status_text(header: &str, text: Option<String>) -> Option<String> {
     let t = text?;
-    let answer = t.trim().trim_end_matches('.').to_lowercase();
+    let answer = super::vocabulary::fold(t.trim().trim_end_matches('.'));
+    let lower = header.to_lowercase();
+    let v = super::vocabulary::current();
     let asks = ["excused", "withdrawn", "exempt", "absent", "dropped"]
         .into_iter()
-        .find(|w| header.to_lowercase().contains(w));
+        .find(|w| lower.contains(w))
+        .map(str::to_string)
+        .or_else(|| {
+            super::vocabulary::fold(header)
+                .split(|c: char| !c.is_alphanumeric())
+                .find(|w| v.status(w).is_some())
+                .map(str::to_string)
+        });
     match (asks, answer.as_str()) {
-        (Some(w), "yes" | "y" | "true" | "x" | "✓" | "✔" | "1") => Some(w.to_string()),
-        (Some(_), "no" | "n" | "false" | "0" | "-") => None,
+        (
+            Some(w),
+            "yes" | "y" | "true" | "x" | "✓" | "✔" | "1" | "ja" | "j" | "si" | "oui" | "sim",
+        ) => Some(w),
+        (Some(_), "no" | "n" | "false" | "0" | "-" | "nein" | "non" | "nao") => None,
         _ => Some(t),
     }
 }
@@ -226,29 +244,37 @@ fn set_number(sub: &mut Submission, field: Field, value: Option<f64>) {
     *slot = value;
 }
 
-/// Reads one student row.
-pub fn read_row(row: &RawRow, layout: &Layout, origin: &Origin) -> Submission {
-    let mut sub = Submission {
+/// A row's submission before its cells are read: where it comes from, its defaults and its
+/// original cells.
+fn blank_submission(row: &RawRow, layout: &Layout, origin: &Origin) -> Submission {
+    Submission {
         source: origin.source.to_string(),
         sheet: origin.sheet.map(str::to_string),
         row: row.index + 1,
         section: origin.default_section.to_string(),
+        assistant: origin.default_assistant.map(str::to_string),
         original: layout
             .columns
             .iter()
             .map(|c| row.get(c.index).clone())
             .collect(),
         original_headers: Some(origin.headers.clone()),
+        no_column: layout.absent.clone(),
         ..Submission::default()
-    };
-    sub.no_column.clone_from(&layout.absent);
+    }
+}
+
+/// Reads one student row.
+pub fn read_row(row: &RawRow, layout: &Layout, origin: &Origin) -> Submission {
+    let mut sub = blank_submission(row, layout, origin);
     let (mut last, mut first) = (None, None);
     for column in &layout.columns {
         let Some(field) = column.field else { continue };
         let cell = row.get(column.index);
         let at = || cell_ref(origin.sheet, row.index, column.index);
+        let decimal = column.decimal.unwrap_or(origin.decimal);
         let read = if field == Field::MpRange {
-            read_range_into(&mut sub, cell, column, origin.decimal, &at)
+            read_range_into(&mut sub, cell, column, decimal, &at)
         } else if field.is_numeric() {
             if field == Field::ReportedRecovery {
                 // a value shown with its percent sign is a percentage as it stands
@@ -258,7 +284,7 @@ pub fn read_row(row: &RawRow, layout: &Layout, origin: &Origin) -> Submission {
                     _ => false,
                 };
             }
-            read_number(cell, column, origin.decimal).map(|v| set_number(&mut sub, field, v))
+            read_number(cell, column, decimal).map(|v| set_number(&mut sub, field, v))
         } else if let Cell::Error(_) = cell {
             Err(found_instead(cell))
         } else {
@@ -356,12 +382,14 @@ mod tests {
         let sheet = RawSheet {
             name: Some("Sec 2".into()),
             rows: rows_from_cells(all),
+            merges: Vec::new(),
         };
         let layout = locate(&sheet, &ColumnOverrides::default()).unwrap();
         let origin = Origin {
             source: "x.xlsx",
             sheet: Some("Sec 2"),
             default_section: "Sec 2",
+            default_assistant: None,
             decimal: Decimal::Point,
             headers: std::sync::Arc::new(super::super::submission::SheetHead {
                 headers: headers
@@ -498,5 +526,27 @@ mod tests {
         assert!(found[0].contains("below absolute zero"), "{found:?}");
         assert!(found[1].contains("negative volume"), "{found:?}");
         assert_eq!((s.mp_clear_c, s.solvent_volume_ml), (None, None));
+    }
+
+    #[test]
+    fn a_yes_under_a_status_header_is_the_headers_word_in_any_language() {
+        for (header, answer, want) in [
+            ("Excused?", "yes", Some("excused")),
+            ("Abgemeldet?", "ja", Some("abgemeldet")),
+            ("Abgemeldet?", "nein", None),
+            ("¿Baja?", "sí", Some("baja")),
+        ] {
+            let s = one_row(
+                &["ID", "Crude mass (g)", "Recovered mass (g)", "MP", header],
+                vec![
+                    Cell::Text("s1".into()),
+                    Cell::Number(3.0),
+                    Cell::Number(2.0),
+                    Cell::Text("121-122".into()),
+                    Cell::Text(answer.into()),
+                ],
+            );
+            assert_eq!(s.status.as_deref(), want, "{header} {answer}");
+        }
     }
 }

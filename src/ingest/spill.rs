@@ -11,7 +11,7 @@ use std::fs::File;
 use std::io::{self, BufReader, BufWriter, Read, Write};
 use std::path::{Path, PathBuf};
 
-use super::cells::{Cell, RawRow, RawSheet};
+use super::cells::{Cell, Merge, RawRow, RawSheet};
 use super::values::Decimal;
 use super::{Event, Problem, SheetData};
 
@@ -179,6 +179,12 @@ fn encode(out: &mut impl Write, event: &Event) -> io::Result<()> {
                     put_cell(out, cell)?;
                 }
             }
+            put_len(out, d.sheet.merges.len() as u64)?;
+            for m in &d.sheet.merges {
+                for v in [m.row, m.first, m.last] {
+                    put_len(out, u64::from(v))?;
+                }
+            }
             Ok(())
         }
         Event::Problem(p) => {
@@ -284,9 +290,18 @@ fn get_sheet(input: &mut impl Read) -> io::Result<SheetData> {
         }
         rows.push(RawRow { index, cells });
     }
+    let m = get_len(input)?;
+    let mut merges = Vec::with_capacity(usize::try_from(m.min(1 << 10)).unwrap_or(0));
+    for _ in 0..m {
+        merges.push(Merge {
+            row: get_u32(input)?,
+            first: get_u32(input)?,
+            last: get_u32(input)?,
+        });
+    }
     Ok(SheetData {
         source,
-        sheet: RawSheet { name, rows },
+        sheet: RawSheet { name, rows, merges },
         default_section,
         decimal,
         encoding,
@@ -342,11 +357,19 @@ mod tests {
             any::<bool>(),
             prop::option::of(".*"),
             prop::collection::vec(row, 0..6),
+            prop::collection::vec((any::<u32>(), any::<u32>(), any::<u32>()), 0..3),
         )
             .prop_map(
-                |(source, name, default_section, comma, encoding, rows)| SheetData {
+                |(source, name, default_section, comma, encoding, rows, merges)| SheetData {
                     source,
-                    sheet: RawSheet { name, rows },
+                    sheet: RawSheet {
+                        name,
+                        rows,
+                        merges: merges
+                            .into_iter()
+                            .map(|(row, first, last)| Merge { row, first, last })
+                            .collect(),
+                    },
                     default_section,
                     decimal: if comma {
                         Decimal::Comma
@@ -373,6 +396,7 @@ mod tests {
                     && x.default_section == y.default_section
                     && x.decimal == y.decimal
                     && x.encoding == y.encoding
+                    && x.sheet.merges == y.sheet.merges
                     && x.sheet.rows.len() == y.sheet.rows.len()
                     && x.sheet.rows.iter().zip(&y.sheet.rows).all(|(r, s)| {
                         r.index == s.index

@@ -4,8 +4,12 @@
 use serde::Serialize;
 use std::fmt::Write as _;
 
+pub use super::body::{rows_and_unnamed, student_rows};
 use super::cells::{column_letters, RawRow, RawSheet};
-use super::headers::{mapping_line, meaning, parse_header, ColumnOverrides, HeaderMeaning};
+use super::grouped::{combine, GroupedColumn};
+use super::headers::{
+    classify, explicit, mapping_line, meaning, parse_header, ColumnOverrides, HeaderMeaning,
+};
 use super::values::Unit;
 use crate::fields::Field;
 
@@ -38,6 +42,10 @@ pub struct Column {
     pub unit_source: Option<UnitSource>,
     /// Why the column is not used, when it is not.
     pub note: Option<String>,
+    /// How its text cells' commas read, decided from all its cells (`commas.rs`); `None` until
+    /// the student rows are known, then as the file reads numbers unless the cells say so.
+    #[serde(skip)]
+    pub decimal: Option<super::values::Decimal>,
 }
 
 /// The located table: where its header is and what each column means.
@@ -48,8 +56,15 @@ pub struct Layout {
     pub header_pos: usize,
     /// 1-based header row.
     pub header_row: u32,
+    /// 1-based row of sub-headers under a two-row (grouped) header, if the header is one.
+    #[serde(skip_serializing_if = "Option::is_none")]
+    pub sub_header_row: Option<u32>,
     /// 1-based row of units directly under the header, if there is one.
     pub units_row: Option<u32>,
+    /// Position within `RawSheet::rows` of the first row below the header (and its sub-header
+    /// and units rows).
+    #[serde(skip)]
+    pub body_pos: usize,
     pub columns: Vec<Column>,
     /// Fields grading needs that no column holds.
     pub missing: Vec<Field>,
@@ -161,25 +176,60 @@ fn header_columns(row: &RawRow, overrides: &ColumnOverrides) -> Vec<(Column, Hea
             let letter = column_letters(col);
             let (m, explicit) = meaning(&text, &letter, overrides);
             let unit = parse_header(&text).unit;
-            let column = Column {
-                index: col,
-                letter,
-                unit,
-                unit_source: unit.map(|_| UnitSource::Header),
-                field: match m {
-                    HeaderMeaning::Field(f) => Some(f),
-                    _ => None,
-                },
-                explicit,
-                note: match m {
-                    HeaderMeaning::NotOwn(why) => Some(format!("not used: {why}")),
-                    _ => None,
-                },
-                header: text,
-            };
-            (column, m)
+            column(col, letter, text, m, explicit, unit)
         })
         .collect()
+}
+
+/// The columns of a two-row header: each read from its group name's words and its own, or
+/// from its own alone (with the group's unit) where the two together name nothing.
+fn grouped_columns(
+    cols: &[GroupedColumn],
+    overrides: &ColumnOverrides,
+) -> Vec<(Column, HeaderMeaning)> {
+    cols.iter()
+        .map(|g| {
+            let text = g.text();
+            let letter = column_letters(g.index);
+            let parsed = g.parsed();
+            let (m, explicit) = explicit(&text, &letter, overrides).unwrap_or_else(|| {
+                let m = match (classify(&parsed), g.child_alone()) {
+                    (HeaderMeaning::Unknown, Some(alone)) => classify(&alone),
+                    (m, _) => m,
+                };
+                (m, false)
+            });
+            column(g.index, letter, text, m, explicit, parsed.unit)
+        })
+        .collect()
+}
+
+fn column(
+    index: u32,
+    letter: String,
+    header: String,
+    m: HeaderMeaning,
+    explicit: bool,
+    unit: Option<Unit>,
+) -> (Column, HeaderMeaning) {
+    let column = Column {
+        index,
+        letter,
+        unit,
+        unit_source: unit.map(|_| UnitSource::Header),
+        field: match m {
+            HeaderMeaning::Field(f) => Some(f),
+            _ => None,
+        },
+        explicit,
+        note: match m {
+            HeaderMeaning::NotOwn(why) => Some(format!("not used: {why}")),
+            _ => None,
+        },
+        header,
+        decimal: None,
+    };
+    (column, m)
 }
 
 fn score(cols: &[(Column, HeaderMeaning)], is_core: fn(Field) -> bool) -> (usize, bool) {
@@ -201,6 +251,79 @@ fn score(cols: &[(Column, HeaderMeaning)], is_core: fn(Field) -> bool) -> (usize
     (fields.len(), core)
 }
 
+/// The best header starting at `pos`: the row alone, or it and the row under it read as a
+/// two-row header where that names more fields than either row alone. Returns the columns,
+/// their distinct fields, whether a core field is among them, and whether two rows were read.
+fn header_at(
+    sheet: &RawSheet,
+    pos: usize,
+    overrides: &ColumnOverrides,
+    is_core: fn(Field) -> bool,
+) -> (Vec<(Column, HeaderMeaning)>, usize, bool, bool) {
+    let row = &sheet.rows[pos];
+    let cols = header_columns(row, overrides);
+    let (n, core) = score(&cols, is_core);
+    let grouped = sheet
+        .rows
+        .get(pos + 1)
+        .and_then(|next| Some((next, combine(row, next, &sheet.merges)?)))
+        .map(|(next, g)| {
+            let below = score(&header_columns(next, overrides), is_core).0;
+            let cols = grouped_columns(&g, overrides);
+            (cols, below)
+        });
+    if let Some((gcols, below)) = grouped {
+        let (gn, gcore) = score(&gcols, is_core);
+        // more fields, or as many with fewer left ambiguous ("Mass (g)" alone could be either)
+        if (gn, definite(&gcols)) > (n, definite(&cols)) && gn > below && gcore {
+            return (gcols, gn, gcore, true);
+        }
+    }
+    (cols, n, core, false)
+}
+
+/// A column mapped by its letter ("column P" = "notes") whose header cell is blank is a column
+/// all the same, headed by nothing.
+fn headerless_mapped(cols: &mut Vec<(Column, HeaderMeaning)>, overrides: &ColumnOverrides) {
+    for (letter, field) in &overrides.letters {
+        let Some(index) = letter_index(letter) else {
+            continue;
+        };
+        if cols.iter().any(|(c, _)| c.index == index) {
+            continue;
+        }
+        let m = field.map_or(HeaderMeaning::Ignored, HeaderMeaning::Field);
+        cols.push(column(index, letter.clone(), String::new(), m, true, None));
+    }
+    cols.sort_by_key(|(c, _)| c.index);
+}
+
+/// The 0-based index of column letters ("A" is 0, "AA" 26), up to XFD.
+fn letter_index(letters: &str) -> Option<u32> {
+    let mut n: u32 = 0;
+    for b in letters.bytes() {
+        if !b.is_ascii_uppercase() {
+            return None;
+        }
+        n = n.checked_mul(26)?.checked_add(u32::from(b - b'A') + 1)?;
+    }
+    (1..=16_384).contains(&n).then(|| n - 1)
+}
+
+/// The distinct fields named for certain (not as one of two).
+fn definite(cols: &[(Column, HeaderMeaning)]) -> usize {
+    let mut fields: Vec<Field> = cols
+        .iter()
+        .filter_map(|(_, m)| match m {
+            HeaderMeaning::Field(f) => Some(*f),
+            _ => None,
+        })
+        .collect();
+    fields.sort_unstable();
+    fields.dedup();
+    fields.len()
+}
+
 /// Finds the header row and resolves each column, or says why not.
 pub fn locate(sheet: &RawSheet, overrides: &ColumnOverrides) -> Result<Layout, LayoutError> {
     locate_by(sheet, overrides, is_core)
@@ -217,27 +340,31 @@ fn locate_by(
     overrides: &ColumnOverrides,
     is_core: fn(Field) -> bool,
 ) -> Result<Layout, LayoutError> {
-    // (position, columns, distinct fields) of the best header row so far
-    type Candidate = (usize, Vec<(Column, HeaderMeaning)>, usize);
+    // (position, columns, distinct fields, two rows) of the best header row so far
+    type Candidate = (usize, Vec<(Column, HeaderMeaning)>, usize, bool);
     let mut best: Option<Candidate> = None;
-    for (pos, row) in sheet.rows.iter().take(HEADER_SEARCH_ROWS).enumerate() {
+    for pos in 0..sheet.rows.len().min(HEADER_SEARCH_ROWS) {
         // a header is found near the top; once one is, a few more rows settle it
         if best.as_ref().is_some_and(|b| pos > b.0 + 10) {
             break;
         }
-        let cols = header_columns(row, overrides);
-        let (n, core) = score(&cols, is_core);
+        let (cols, n, core, two) = header_at(sheet, pos, overrides, is_core);
         if n >= MIN_HEADER_FIELDS && core && best.as_ref().is_none_or(|b| n > b.2) {
-            best = Some((pos, cols, n));
+            best = Some((pos, cols, n, two));
         }
     }
-    let (pos, cols, _) = best.ok_or(LayoutError::NoTable)?;
+    let (pos, mut cols, _, two) = best.ok_or(LayoutError::NoTable)?;
+    headerless_mapped(&mut cols, overrides);
     let mut columns = resolve(cols);
-    let units_row = units_row(sheet, pos, &mut columns);
+    name_parts(&mut columns);
+    let last = pos + usize::from(two);
+    let units_row = units_row(sheet, last, &mut columns);
     let mut layout = Layout {
         header_pos: pos,
         header_row: sheet.rows[pos].index + 1,
+        sub_header_row: two.then(|| sheet.rows[last].index + 1),
         units_row,
+        body_pos: last + 1 + usize::from(units_row.is_some()),
         columns,
         missing: Vec::new(),
         absent: Vec::new(),
@@ -366,6 +493,24 @@ fn resolve(cols: Vec<(Column, HeaderMeaning)>) -> Vec<Column> {
     columns
 }
 
+/// A name column beside a column for one part of the name holds the other part: "Nom" beside
+/// "Prénom" is the family name, "Nombre" beside "Apellidos" the given name (common practice
+/// in French and Spanish class lists), so that the two make one name.
+fn name_parts(columns: &mut [Column]) {
+    let has = |f: Field| columns.iter().any(|c| c.field == Some(f));
+    let other = match (has(Field::LastName), has(Field::FirstName)) {
+        (true, false) => Field::FirstName,
+        (false, true) => Field::LastName,
+        _ => return,
+    };
+    let names: Vec<usize> = (0..columns.len())
+        .filter(|&i| columns[i].field == Some(Field::StudentName) && !columns[i].explicit)
+        .collect();
+    if let [i] = names[..] {
+        columns[i].field = Some(other);
+    }
+}
+
 /// Two or more columns that claim `field`: an explicit mapping wins; else none is used.
 fn settle_claims(columns: &mut [Column], field: Field) {
     let claims: Vec<usize> = (0..columns.len())
@@ -403,289 +548,6 @@ fn settle_claims(columns: &mut [Column], field: Field) {
     }
 }
 
-/// Text in a row's first cell (or where a name belongs) that marks the end of the student
-/// rows: a label made of summary words ("Average", "Class mean", "Std dev", "Grand total",
-/// "Mean ± SD", "Σ"), or a notes heading ("Notes:").
-fn is_summary_label(text: &str) -> bool {
-    // words that say a row summarises others
-    const STAT: [&str; 28] = [
-        "total",
-        "totals",
-        "sum",
-        "mean",
-        "means",
-        "average",
-        "averages",
-        "avg",
-        "ave",
-        "median",
-        "std",
-        "sd",
-        "stdev",
-        "stddev",
-        "deviation",
-        "count",
-        "n",
-        "summary",
-        "statistics",
-        "stats",
-        "min",
-        "max",
-        "minimum",
-        "maximum",
-        "range",
-        "σ",
-        "Σ",
-        "variance",
-    ];
-    // words that may come with them
-    const WITH: [&str; 10] = [
-        "class", "section", "group", "grand", "overall", "cohort", "standard", "dev", "all",
-        "students",
-    ];
-    const PREFIX: [&str; 6] = ["notes:", "note:", "comments:", "n =", "n=", "average:"];
-    let t = text.trim();
-    let lower = t.to_lowercase();
-    if PREFIX.iter().any(|p| lower.starts_with(p))
-        || ["notes", "note", "comments"].contains(&lower.trim_end_matches(':'))
-    {
-        return true;
-    }
-    let words: Vec<&str> = lower
-        .split(|c: char| !c.is_alphanumeric())
-        .filter(|w| !w.is_empty())
-        .collect();
-    !words.is_empty()
-        && words.len() <= 4
-        && words.iter().any(|w| STAT.contains(w))
-        && words.iter().all(|w| STAT.contains(w) || WITH.contains(w))
-}
-
-/// The rows below the header that are student rows, in order.
-pub fn student_rows<'a>(sheet: &'a RawSheet, layout: &Layout) -> Vec<&'a RawRow> {
-    rows_and_unnamed(sheet, layout).0
-}
-
-/// The student rows, and the 1-based rows passed over because they name no one in a sheet that
-/// has an id or name column (a template row holding only a bench number or a formula's result,
-/// an unlabelled average): they cannot be anyone's grade.
-pub fn rows_and_unnamed<'a>(sheet: &'a RawSheet, layout: &Layout) -> (Vec<&'a RawRow>, Vec<u32>) {
-    let mapped: Vec<u32> = layout
-        .columns
-        .iter()
-        .filter(|c| c.field.is_some())
-        .map(|c| c.index)
-        .collect();
-    let who: Vec<u32> = [
-        Field::StudentId,
-        Field::StudentName,
-        Field::LastName,
-        Field::FirstName,
-    ]
-    .iter()
-    .filter_map(|f| layout.column(*f).map(|c| c.index))
-    .collect();
-    let id = layout.column(Field::StudentId).map(|c| c.index);
-    let header = &sheet.rows[layout.header_pos];
-    let mut out = Vec::new();
-    let mut unnamed = Vec::new();
-    let mut prev = header.index;
-    let first = layout.header_pos + 1 + usize::from(layout.units_row.is_some());
-    if let Some(units) = sheet
-        .rows
-        .get(first - 1)
-        .filter(|_| layout.units_row.is_some())
-    {
-        prev = units.index;
-    }
-    for row in sheet.rows.iter().skip(first) {
-        let gap = row.index > prev + 1;
-        prev = row.index;
-        if ends_the_table(row, id, &who) {
-            break;
-        }
-        let filled = mapped.iter().filter(|&&c| !row.get(c).is_empty()).count();
-        let names_someone = who.iter().any(|&c| !row.get(c).is_empty());
-        if filled == 0 || is_repeated_header(row, header) {
-            continue;
-        }
-        if gap && (filled == 1 || !names_someone) {
-            break;
-        }
-        if !who.is_empty() && !names_someone {
-            unnamed.push(row.index + 1);
-            continue;
-        }
-        out.push(row);
-    }
-    (out, unnamed)
-}
-
-/// A row labelled as a summary ("Average", "Class mean") in its first cell or where a name
-/// belongs ends the student rows; a row with a student id is a student, whatever its name cell
-/// says ("Max").
-fn ends_the_table(row: &RawRow, id: Option<u32>, who: &[u32]) -> bool {
-    let has_id = id.is_some_and(|c| {
-        let cell = row.get(c);
-        !cell.is_empty() && !cell.as_text().is_some_and(|t| is_summary_label(&t))
-    });
-    let mut labels = row
-        .non_empty()
-        .take(1)
-        .map(|(c, _)| c)
-        .chain(who.iter().copied())
-        .filter_map(|c| match row.get(c) {
-            super::cells::Cell::Text(t) => Some(t.as_str()),
-            _ => None,
-        });
-    !has_id && labels.any(is_summary_label)
-}
-
-fn is_repeated_header(row: &RawRow, header: &RawRow) -> bool {
-    row.cells.len() == header.cells.len()
-        && row.cells.iter().zip(&header.cells).all(|(a, b)| a == b)
-}
-
 #[cfg(test)]
-mod tests {
-    use super::super::cells::{rows_from_cells, Cell};
-    use super::*;
-
-    fn sheet(rows: &[&[&str]]) -> RawSheet {
-        let mut cells = Vec::new();
-        for (r, row) in rows.iter().enumerate() {
-            for (c, text) in row.iter().enumerate() {
-                let cell = match text.parse::<f64>() {
-                    Ok(v) => Cell::Number(v),
-                    Err(_) => Cell::Text(text.to_string()),
-                };
-                cells.push((r as u32, c as u32, cell));
-            }
-        }
-        RawSheet {
-            name: Some("S".into()),
-            rows: rows_from_cells(cells),
-        }
-    }
-
-    #[test]
-    fn header_below_title_rows_and_totals_ignored() {
-        let s = sheet(&[
-            &["CHEM 2xx Recrystallization", "", ""],
-            &[""],
-            &[
-                "Student ID",
-                "Crude mass (g)",
-                "Recovered mass (g)",
-                "MP range",
-            ],
-            &["s1", "3.0", "2.0", "120-121"],
-            &["s2", "3.1", "2.2", "119-121"],
-            &[""],
-            &["Average", "3.05", "2.1"],
-        ]);
-        let layout = locate(&s, &ColumnOverrides::default()).unwrap();
-        assert_eq!(layout.header_row, 3);
-        let rows = student_rows(&s, &layout);
-        assert_eq!(
-            rows.iter().map(|r| r.index + 1).collect::<Vec<_>>(),
-            vec![4, 5]
-        );
-    }
-
-    #[test]
-    fn notes_block_after_a_gap_is_not_students() {
-        let s = sheet(&[
-            &[
-                "Student ID",
-                "Crude mass (g)",
-                "Recovered mass (g)",
-                "MP range",
-            ],
-            &["s1", "3.0", "2.0", "120-121"],
-            &[""],
-            &["Bench 4 thermometer was replaced on Tuesday"],
-        ]);
-        let layout = locate(&s, &ColumnOverrides::default()).unwrap();
-        assert_eq!(student_rows(&s, &layout).len(), 1);
-    }
-
-    #[test]
-    fn no_table_and_ambiguity() {
-        let s = sheet(&[&["Instructions"], &["Weigh the crude product"]]);
-        assert_eq!(
-            locate(&s, &ColumnOverrides::default()).unwrap_err(),
-            LayoutError::NoTable
-        );
-        // two columns that both look like the crude mass: neither is guessed, both say why
-        let s = sheet(&[&["Student ID", "Crude mass (g)", "Crude (g)", "MP range"]]);
-        let layout = locate(&s, &ColumnOverrides::default()).unwrap();
-        assert!(layout.column(Field::CrudeMass).is_none());
-        assert_eq!(layout.missing, vec![Field::CrudeMass, Field::RecoveredMass]);
-        for c in &layout.columns[1..3] {
-            let note = c.note.as_deref().unwrap_or_default();
-            assert!(note.contains("columns B and C"), "{note}");
-            assert!(
-                note.contains(&format!("\"column {}\" = \"crude_mass\"", c.letter)),
-                "{note}"
-            );
-        }
-    }
-
-    #[test]
-    fn separate_onset_and_clear_win_over_a_range_column() {
-        let s = sheet(&[&[
-            "ID",
-            "Crude (g)",
-            "Recovered (g)",
-            "MP range",
-            "MP start",
-            "MP end",
-        ]]);
-        let layout = locate(&s, &ColumnOverrides::default()).unwrap();
-        assert!(layout.column(Field::MpRange).is_none());
-        assert!(layout.column(Field::MpOnset).is_some());
-    }
-
-    /// A units row under the header is common practice in class sheets: "(g)", "mg", "°C",
-    /// blank over text columns.
-    #[test]
-    fn a_units_row_gives_columns_their_unit_and_is_not_a_student() {
-        for units in [
-            ["", "(g)", "mg", "°C"],
-            ["", "G", "MG", "°c"],
-            ["", "[g]", "(mg)", "deg C"],
-        ] {
-            let s = sheet(&[
-                &["Student ID", "Crude mass", "Recovered mass", "MP range"],
-                &units,
-                &["s1", "3.0", "2100", "120-121"],
-            ]);
-            let layout = locate(&s, &ColumnOverrides::default()).unwrap();
-            assert_eq!(layout.units_row, Some(2), "{units:?}");
-            let rec = layout.column(Field::RecoveredMass).unwrap();
-            assert_eq!(rec.unit, Some(Unit::Mass(0.001)), "{units:?}");
-            assert_eq!(rec.unit_source, Some(UnitSource::UnitsRow));
-            let rows = student_rows(&s, &layout);
-            assert_eq!(
-                rows.len(),
-                1,
-                "{units:?}: the units row is not a submission"
-            );
-            assert_eq!(rows[0].index, 2);
-        }
-        // a row with anything but units under the header is a student
-        let s = sheet(&[
-            &[
-                "Student ID",
-                "Crude mass (g)",
-                "Recovered mass (g)",
-                "MP range",
-            ],
-            &["g", "3.0", "2.1", "120-121"],
-        ]);
-        let layout = locate(&s, &ColumnOverrides::default()).unwrap();
-        assert_eq!(layout.units_row, None);
-        assert_eq!(student_rows(&s, &layout).len(), 1);
-    }
-}
+#[path = "table_tests.rs"]
+mod tests;

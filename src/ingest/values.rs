@@ -80,33 +80,17 @@ impl Unit {
     }
 }
 
-/// Reads a unit name ("mg", "°C", "mL", "%"); `None` when the text is not a unit we know.
+/// Reads a unit name ("mg", "°C", "mL", "%", "Gramm"); `None` when the text is not a unit the
+/// vocabulary knows (`[unit.*]` in vocabulary.toml).
 pub fn parse_unit(text: &str) -> Option<Unit> {
-    let t = text.trim().trim_end_matches('.').trim().to_lowercase();
-    let t = t
-        .replace(['º', '˚'], "°")
-        .replace("deg ", "°")
-        .replace("deg", "°");
-    let unit = match t.as_str() {
-        "g" | "gr" | "gram" | "grams" | "gramme" | "grammes" => Unit::Mass(1.0),
-        "mg" | "milligram" | "milligrams" => Unit::Mass(0.001),
-        "kg" | "kilogram" | "kilograms" => Unit::Mass(1000.0),
-        "µg" | "μg" | "ug" | "microgram" | "micrograms" => Unit::Mass(1e-6),
-        "ml" | "milliliter" | "milliliters" | "millilitre" | "millilitres" | "cm3" | "cm³"
-        | "cc" => Unit::Volume(1.0),
-        "l" | "liter" | "liters" | "litre" | "litres" | "dm3" | "dm³" => Unit::Volume(1000.0),
-        "µl" | "μl" | "ul" | "microliter" | "microlitre" => Unit::Volume(0.001),
-        "°c" | "c" | "℃" | "° c" | "celsius" | "°" | "degrees c" | "degrees celsius" => {
-            Unit::Temperature(TempUnit::Celsius)
-        }
-        "°f" | "f" | "℉" | "° f" | "fahrenheit" | "degrees f" | "degrees fahrenheit" => {
-            Unit::Temperature(TempUnit::Fahrenheit)
-        }
-        "k" | "kelvin" => Unit::Temperature(TempUnit::Kelvin),
-        "%" | "percent" | "pct" | "per cent" => Unit::Percent,
-        _ => return None,
-    };
-    Some(unit)
+    let t = text.trim().trim_end_matches('.').trim();
+    if t.is_empty() || t.len() > 40 {
+        return None;
+    }
+    let t = super::vocabulary::fold(t).replace(['º', '˚'], "°");
+    let v = super::vocabulary::current();
+    v.unit(&t)
+        .or_else(|| v.unit(&t.replace("deg ", "°").replace("deg", "°")))
 }
 
 /// Words and marks people put before a value they are unsure of.

@@ -373,6 +373,11 @@ registry! {
         } else {
             "graded"
         })), }
+    /// The text of the sheet's own notes or comments column, as the assistant wrote it
+    /// (`notes` holds benchgrade's reading notes). Free text about a person: left out of
+    /// anything pseudonymised.
+    SHEET_NOTES = { name: "sheet_notes", label: "Sheet notes", personal: Some(Personal::Name),
+        get: |r| Value::Text(a(r).submission.remarks.as_deref()), }
     /// What graders' corrections (`--corrections`) changed in the row, each with who and why.
     CORRECTIONS = { name: "corrections", label: "Corrections", kind: Kind::List { sep: "; " },
         get: |r| Value::Items(Items::Texts(a(r).submission.corrections.as_slice())), }

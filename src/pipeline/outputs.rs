@@ -150,8 +150,10 @@ fn open_text_outputs(
         pseudonymized,
         json: ResultsJson::create(&paths[1], stage)?,
         gradebook: Gradebook::create(&paths[2], stage)?,
-        handouts: (!config.skip_handouts)
-            .then(|| Handouts::new(&config.out_dir, &config.title, stage)),
+        handouts: (!config.skip_handouts).then(|| {
+            Handouts::new(&config.out_dir, &config.title, stage)
+                .with_sheet_notes(config.rubric.grading.notes_to_students)
+        }),
     })
 }
 

@@ -131,6 +131,11 @@ pub struct Corrections {
 }
 
 impl Corrections {
+    /// `load` for a file given, none otherwise.
+    pub fn load_opt(path: Option<&Path>) -> Result<Corrections, ConfigError> {
+        path.map_or_else(|| Ok(Corrections::default()), Corrections::load)
+    }
+
     /// Reads a corrections file; every line is checked, and every fault named with its line.
     pub fn load(path: &Path) -> Result<Corrections, ConfigError> {
         let file = path.display().to_string();

@@ -170,6 +170,10 @@ pub struct Grading {
     /// no score, and left out of the score's statistics) or a number of points.
     #[serde(default)]
     pub no_submission: NoSubmission,
+    /// Whether the sheet's notes column is printed on the students' handouts (it is written
+    /// for the assistants; off unless the rubric says so).
+    #[serde(default)]
+    pub notes_to_students: bool,
 }
 
 /// What a rostered student who submitted nothing scores.

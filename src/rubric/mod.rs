@@ -125,6 +125,9 @@ pub struct Rubric {
     pub columns: BTreeMap<String, crate::ingest::headers::MappingValue>,
     #[serde(default)]
     pub grading: Grading,
+    /// Words added to the built-in vocabulary (`[vocabulary.field.crude_mass] nl = ["ruw"]`).
+    #[serde(default)]
+    pub vocabulary: crate::ingest::vocabulary::Table,
     #[serde(default, rename = "criterion")]
     pub criteria: Vec<Criterion>,
     #[serde(default, rename = "flag_rule")]
@@ -136,7 +139,17 @@ impl Rubric {
     pub fn parse(text: &str, file: &str) -> Result<Rubric, ConfigError> {
         let rubric: Rubric = parse_toml(text, file)?;
         rubric.validate(file)?;
-        let findings = criteria::check(&rubric.grading, &rubric.criteria, &rubric.flag_rules);
+        let mut findings = criteria::check(&rubric.grading, &rubric.criteria, &rubric.flag_rules);
+        // words for a class of the vocabulary that does not exist
+        if let Err(errors) =
+            crate::ingest::vocabulary::Vocabulary::builtin().with(&rubric.vocabulary)
+        {
+            findings.extend(
+                errors
+                    .into_iter()
+                    .map(|(span, message)| criteria::Finding { span, message }),
+            );
+        }
         if !findings.is_empty() {
             let errors = findings
                 .into_iter()

@@ -16,6 +16,7 @@ mod folder_safety;
 mod grading;
 mod harness;
 mod ingest_messy;
+mod languages;
 mod layers;
 mod nist;
 mod physchem;

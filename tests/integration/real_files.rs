@@ -94,8 +94,16 @@ fn check_reading(rows: &[Record], what: &str) {
     );
     let inverted = by_id(rows, "S0702219");
     assert!(inverted["feedback"].contains("inverted"), "{what}");
-    // "TA notes" is a notes column, never the assistant
-    assert!(rows.iter().all(|r| r["assistant"].is_empty()), "{what}");
+    // "TA notes" is a notes column, never the assistant: the assistant is the one the title
+    // row names ("(TA: M. Ferreira)"), the notes' text is the sheet's notes
+    assert!(
+        rows.iter().all(|r| r["assistant"] == "M. Ferreira"),
+        "{what}"
+    );
+    assert!(
+        rows.iter().any(|r| !r["sheet_notes"].is_empty()),
+        "{what}: the TA notes column's text is in sheet_notes"
+    );
     for r in rows.iter().filter(|r| r["status"] == "graded") {
         assert_eq!(
             r["student_name"].matches(", ").count(),
