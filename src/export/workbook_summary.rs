@@ -13,7 +13,7 @@ use crate::stats::sections::{SectionStats, SectionSummary};
 use crate::stats::{histogram, QUANTILE_DEFINITION};
 
 /// The statistics table's headers, for people; the columns of section-stats.csv in order.
-pub const STAT_LABELS: [&str; 16] = [
+pub const STAT_LABELS: [&str; 17] = [
     "Section",
     "Measure",
     "n",
@@ -30,6 +30,7 @@ pub const STAT_LABELS: [&str; 16] = [
     "Left out (impossible)",
     "Excused",
     "No value",
+    "No submission",
 ];
 
 /// Where the charts' own numbers are written: to the right of what is printed.
@@ -109,6 +110,7 @@ fn summary_row(ws: &mut Worksheet, r: u32, row: &SectionSummary<'_>) -> Result<(
     ws.write_number(r, 13, row.excluded as f64)?;
     ws.write_number(r, 14, row.excused as f64)?;
     ws.write_number(r, 15, row.missing as f64)?;
+    ws.write_number(r, 16, row.no_submission as f64)?;
     Ok(())
 }
 
@@ -126,7 +128,7 @@ pub(super) fn statistics_sheet(
     ws.write_string_with_format(0, 0, "Statistics by section", &f.title)?;
     let last_printed = STAT_LABELS.len() as u16 - 1;
     ws.set_row_height(1, 30)?;
-    ws.merge_range(1, 0, 1, last_printed, &format!("Each measure leaves out the rows whose entries for it are impossible and every excused student (n, left out, excused and no value add up to the section's rows); the score counts every graded student. Quartiles: {QUANTILE_DEFINITION}; SD and the 95 % CI use n - 1."), &f.wrap)?;
+    ws.merge_range(1, 0, 1, last_printed, &format!("Each measure leaves out the rows whose entries for it are impossible and every excused student (n, left out, excused, no value and no submission add up to the section's rows); the score counts every graded student. Quartiles: {QUANTILE_DEFINITION}; SD and the 95 % CI use n - 1."), &f.wrap)?;
     let mut r = summary_table(ws, 3, stats, |s| sections.iter().any(|x| x == s), &f.header)?;
     r = flag_counts(ws, r + 1, &sections, stats, f)?;
     r = left_out_rows(ws, r + 1, &sections, stats, f)?;
