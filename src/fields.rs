@@ -29,10 +29,12 @@ pub enum Field {
     Status,
     /// Free comments about the row (a notes or remarks column).
     Notes,
+    /// How many days after the deadline the report came in.
+    LateDays,
 }
 
 impl Field {
-    pub const ALL: [Field; 19] = [
+    pub const ALL: [Field; 20] = [
         Field::StudentId,
         Field::StudentName,
         Field::Section,
@@ -52,6 +54,7 @@ impl Field {
         Field::FirstName,
         Field::Status,
         Field::Notes,
+        Field::LateDays,
     ];
 
     /// The name used in `[columns]` tables and `--columns` files.
@@ -76,6 +79,7 @@ impl Field {
             Field::FirstName => "first_name",
             Field::Status => "status",
             Field::Notes => "notes",
+            Field::LateDays => "late_days",
         }
     }
 
@@ -101,6 +105,7 @@ impl Field {
             Field::FirstName => "first name",
             Field::Status => "status",
             Field::Notes => "notes",
+            Field::LateDays => "days late",
         }
     }
 
@@ -126,6 +131,7 @@ impl Field {
                 | Field::MpOnset
                 | Field::MpClear
                 | Field::ReportedRecovery
+                | Field::LateDays
         )
     }
 }

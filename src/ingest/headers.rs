@@ -176,6 +176,7 @@ pub fn classify(h: &ParsedHeader) -> HeaderMeaning {
     not_own(&w)
         .or_else(|| container(&w))
         .or_else(|| remarks(&w))
+        .or_else(|| late(&w, h))
         .or_else(|| place_or_person(&w))
         .or_else(|| melting(&w, h))
         .or_else(|| substance(&w, h))
@@ -202,6 +203,13 @@ fn remarks(w: &Words) -> Option<HeaderMeaning> {
         return None;
     };
     Some(HeaderMeaning::Field(f))
+}
+
+/// How late the report came in: "Days late", "Late (days)", "Verspätung (Tage)"; a mass or a
+/// temperature is never it.
+fn late(w: &Words, h: &ParsedHeader) -> Option<HeaderMeaning> {
+    (w.any("field.late_days") && !is_mass(w, h) && h.unit.is_none())
+        .then_some(HeaderMeaning::Field(Field::LateDays))
 }
 
 /// A column about another person, or a reference or expected value, rather than the student's

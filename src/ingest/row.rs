@@ -239,6 +239,7 @@ fn set_number(sub: &mut Submission, field: Field, value: Option<f64>) {
         Field::MpOnset => &mut sub.mp_onset_c,
         Field::MpClear => &mut sub.mp_clear_c,
         Field::ReportedRecovery => &mut sub.reported_recovery_pct,
+        Field::LateDays => &mut sub.late_days,
         _ => return,
     };
     *slot = value;

@@ -53,6 +53,8 @@ pub struct Submission {
     pub mp_onset_c: Option<f64>,
     pub mp_clear_c: Option<f64>,
     pub reported_recovery_pct: Option<f64>,
+    /// Days after the deadline the report came in (a late-days column), if the sheet has one.
+    pub late_days: Option<f64>,
     /// The row's status cell, as written ("W", "excused"), if the sheet has a status column.
     pub status: Option<String>,
     /// The row's notes cell, as written, if the sheet has a notes column.

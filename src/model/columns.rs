@@ -381,6 +381,9 @@ registry! {
     /// What graders' corrections (`--corrections`) changed in the row, each with who and why.
     CORRECTIONS = { name: "corrections", label: "Corrections", kind: Kind::List { sep: "; " },
         get: |r| Value::Items(Items::Texts(a(r).submission.corrections.as_slice())), }
+    /// Days after the deadline the report came in, from a late-days column.
+    LATE_DAYS = { name: "late_days", label: "Days late", unit: Some("days"), kind: Kind::Number,
+        get: |r| Value::Number(a(r).submission.late_days), }
 }
 
 #[cfg(test)]

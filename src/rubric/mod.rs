@@ -132,6 +132,43 @@ pub struct Rubric {
     pub criteria: Vec<Criterion>,
     #[serde(default, rename = "flag_rule")]
     pub flag_rules: Vec<FlagRule>,
+    /// The late-work rule, applied to a late-days column: points or a percentage of the
+    /// maximum off for each day past a grace period, up to a cap.
+    #[serde(default)]
+    pub late: Option<Late>,
+}
+
+/// `[late]`: what a late report costs.
+#[derive(Clone, Debug, PartialEq, Serialize, Deserialize)]
+#[serde(deny_unknown_fields)]
+pub struct Late {
+    /// Points off for each day late past the grace period.
+    #[serde(default)]
+    pub points_per_day: Option<f64>,
+    /// Or a percentage of the maximum off for each such day.
+    #[serde(default)]
+    pub percent_per_day: Option<f64>,
+    /// Days late that cost nothing (default 0).
+    #[serde(default)]
+    pub grace_days: f64,
+    /// The most points lateness may cost (default: no cap but the total).
+    #[serde(default)]
+    pub max_points: Option<f64>,
+}
+
+impl Late {
+    /// Points off for `days` late on a rubric worth `max`: each started day past the grace
+    /// period (1.2 days past it count as 2), at the rule's rate, at most the cap. Also the days
+    /// charged.
+    pub fn deduction(&self, days: f64, max: f64) -> (f64, f64) {
+        let charged = (days - self.grace_days).max(0.0).ceil();
+        let rate = self
+            .points_per_day
+            .or(self.percent_per_day.map(|p| p / 100.0 * max))
+            .unwrap_or(0.0);
+        let off = (charged * rate).min(self.max_points.unwrap_or(f64::INFINITY));
+        (off, charged)
+    }
 }
 
 impl Rubric {
@@ -256,8 +293,36 @@ impl Rubric {
                 "{file}: experiment.cold_c must be below experiment.hot_c"
             )));
         }
+        if let Some(l) = &self.late {
+            check_late(l, file)?;
+        }
         Ok(())
     }
+}
+
+/// `[late]` needs exactly one rate, and no negative number.
+fn check_late(l: &Late, file: &str) -> Result<(), ConfigError> {
+    if l.points_per_day.is_some() == l.percent_per_day.is_some() {
+        return Err(ConfigError::Invalid(format!(
+            "{file}: [late] needs exactly one of points_per_day and percent_per_day"
+        )));
+    }
+    let numbers = [
+        l.points_per_day,
+        l.percent_per_day,
+        Some(l.grace_days),
+        l.max_points,
+    ];
+    if numbers
+        .into_iter()
+        .flatten()
+        .any(|v| !v.is_finite() || v < 0.0)
+    {
+        return Err(ConfigError::Invalid(format!(
+            "{file}: [late] takes numbers of zero or more"
+        )));
+    }
+    Ok(())
 }
 
 #[cfg(test)]

@@ -64,6 +64,8 @@ struct Scoring<'a> {
     deductions: Vec<(&'static str, f64)>,
     /// The most the total may be, by flag.
     caps: Vec<(&'static str, f64)>,
+    /// What lateness costs, and why in words.
+    late: Option<(f64, String)>,
     /// Overrides applied, in words.
     applied: Vec<String>,
 }
@@ -78,6 +80,7 @@ impl<'a> Scoring<'a> {
             flags: Vec::new(),
             deductions: Vec::new(),
             caps: Vec::new(),
+            late: late_deduction(rubric, a),
             applied: Vec::new(),
         };
         for c in &rubric.criteria {
@@ -178,6 +181,13 @@ impl<'a> Scoring<'a> {
         for (code, d) in &self.deductions {
             total -= d;
             steps.push(format!("Deduction for {code}: -{} points", points(*d)));
+        }
+        if let Some((d, words)) = &self.late {
+            total -= d;
+            steps.push(format!(
+                "Deduction for lateness ({words}): -{} points",
+                points(*d)
+            ));
         }
         if total < 0.0 {
             steps.push(format!(
@@ -424,6 +434,43 @@ pub fn audit_feedback(feedback: &str, labels: &[&str]) -> Result<f64, String> {
         ));
     }
     Ok(total)
+}
+
+/// The `[late]` rule on the row's days late: the points off and the reckoning in words, or
+/// nothing for a report on time (or a rubric without the rule).
+fn late_deduction(rubric: &Rubric, a: &Assessed) -> Option<(f64, String)> {
+    let rule = rubric.late.as_ref()?;
+    let days = a
+        .submission
+        .late_days
+        .filter(|d| d.is_finite() && *d > 0.0)?;
+    let max: f64 = rubric.criteria.iter().map(|c| *c.max.get_ref()).sum();
+    let (off, charged) = rule.deduction(days, max);
+    if off <= 0.0 {
+        return None;
+    }
+    let rate = match (rule.points_per_day, rule.percent_per_day) {
+        (Some(p), _) => format!("{} points a day", points(p)),
+        (None, Some(p)) => format!("{} % of {} a day", points(p), points(max)),
+        _ => String::new(),
+    };
+    let grace = if rule.grace_days > 0.0 {
+        format!(" after a {}-day grace period", points(rule.grace_days))
+    } else {
+        String::new()
+    };
+    let capped = rule
+        .max_points
+        .filter(|m| off >= *m)
+        .map_or(String::new(), |m| format!(", at most {}", points(m)));
+    Some((
+        off,
+        format!(
+            "{} days late, {} charged{grace}, {rate}{capped}",
+            points(days),
+            points(charged)
+        ),
+    ))
 }
 
 /// Grades one assessed row.

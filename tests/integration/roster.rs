@@ -481,3 +481,58 @@ fn the_entry_cells_refuse_what_cannot_be_right() {
     // rows missing an entry are shaded
     assert!(xml.contains("<conditionalFormatting"));
 }
+
+/// Late work by the rubric's `[late]` rule (5 points a day after a day's grace, at most 15),
+/// against the same class handed in on time (hand-worked deductions: 0, 0, 2 days charged for
+/// 2.5 days late = 10, 5 days charged for 6 days late = 25 held at 15).
+#[test]
+fn late_work_costs_what_the_rubric_says_with_a_sentence_of_its_own() {
+    let f = Fixture::new();
+    let class = |late: [&str; 4]| {
+        let mut s = String::from(
+            "Student ID,Name,Crude mass (g),Recovered mass (g),Melting range (°C),Days late\n",
+        );
+        for (k, d) in late.iter().enumerate() {
+            s.push_str(&format!("s{k},Student {k},3.00,2.40,121.5-122.3,{d}\n"));
+        }
+        s
+    };
+    f.write("late/class.csv", class(["0", "1", "2.5", "6"]));
+    f.write("ontime/class.csv", class(["", "", "", ""]));
+    let rubric = std::fs::read_to_string(project_root().join("rubrics/default.toml")).unwrap();
+    f.write(
+        "r.toml",
+        format!("{rubric}\n[late]\npoints_per_day = 5\ngrace_days = 1\nmax_points = 15\n"),
+    );
+    for (dir, out) in [("late", "out-late"), ("ontime", "out-ontime")] {
+        let run = f.run(&["grade", dir, "--rubric", "r.toml", "--out", out]);
+        assert_eq!(run.code, 0, "{}", run.stderr);
+    }
+    let late = f.results("out-late");
+    let ontime = f.results("out-ontime");
+    let labels: Vec<String> = benchgrade::rubric::Rubric::load(&f.path("r.toml"))
+        .unwrap()
+        .criteria
+        .iter()
+        .map(|c| c.label.clone())
+        .collect();
+    let labels: Vec<&str> = labels.iter().map(String::as_str).collect();
+    for (k, want) in [0.0, 0.0, 10.0, 15.0].iter().enumerate() {
+        let score = |rows: &[Record]| -> f64 { rows[k]["score"].parse().unwrap() };
+        assert_eq!(score(&ontime) - score(&late), *want, "student {k}");
+        let fb = &late[k]["feedback"];
+        assert_eq!(
+            benchgrade::rubric::score::audit_feedback(fb, &labels),
+            Ok(score(&late))
+        );
+        assert_eq!(fb.contains("Deduction for lateness"), *want > 0.0, "{fb}");
+    }
+    assert!(
+        late[3]["feedback"].contains(
+            "6 days late, 5 charged after a 1-day grace period, 5 points a day, at most 15"
+        ),
+        "{}",
+        late[3]["feedback"]
+    );
+    assert_eq!(late[2]["late_days"], "2.5");
+}
