@@ -200,6 +200,6 @@ mod tests {
         // the points follow status, and the columns appended since follow the points
         let status = h.iter().position(|c| c == "status").unwrap();
         assert_eq!(h[status + 1], "points_recovery");
-        assert_eq!(h.last().map(String::as_str), Some("corrections"));
+        assert_eq!(h.last().map(String::as_str), Some("late_days"));
     }
 }

@@ -171,6 +171,23 @@ impl<'a> Scoring<'a> {
         }
     }
 
+    /// The flags' deductions and lateness's, each a sentence in `steps`; their sum.
+    fn deduct(&self, steps: &mut Vec<String>) -> f64 {
+        let mut off = 0.0;
+        for (code, d) in &self.deductions {
+            off += d;
+            steps.push(format!("Deduction for {code}: -{} points", points(*d)));
+        }
+        if let Some((d, words)) = &self.late {
+            off += d;
+            steps.push(format!(
+                "Deduction for lateness ({words}): -{} points",
+                points(*d)
+            ));
+        }
+        off
+    }
+
     /// The total after deductions, the floor at zero, caps and rounding, then total
     /// overrides; and the letter. Each step that moves the total is a sentence of its own.
     fn finish(mut self, overrides: &[&Override]) -> Score {
@@ -178,17 +195,7 @@ impl<'a> Scoring<'a> {
         let max: f64 = self.criteria.iter().map(|c| c.max).sum();
         let mut steps = Vec::new();
         let mut total: f64 = self.criteria.iter().map(|c| c.points).sum();
-        for (code, d) in &self.deductions {
-            total -= d;
-            steps.push(format!("Deduction for {code}: -{} points", points(*d)));
-        }
-        if let Some((d, words)) = &self.late {
-            total -= d;
-            steps.push(format!(
-                "Deduction for lateness ({words}): -{} points",
-                points(*d)
-            ));
-        }
+        total -= self.deduct(&mut steps);
         if total < 0.0 {
             steps.push(format!(
                 "Floor: the total cannot fall below 0, +{} points",
