@@ -26,4 +26,5 @@ mod reliability;
 mod sample_data;
 mod serve;
 mod serve_client;
+mod serve_hardening;
 mod workbooks;
