@@ -5,9 +5,11 @@
 //! computer (`guard`).
 //!
 //! `api`: the JSON API; `upload`: spreadsheets in; `outputs`: graded files out; `page`: the
-//! page and its assets; `overrides_file`: overrides.csv as the page edits it.
+//! page and its assets; `overrides_file`: overrides.csv as the page edits it; `connections`:
+//! the accept loop, with a cap on connections and their timeouts.
 
 pub mod api;
+pub mod connections;
 pub mod grader;
 pub mod guard;
 pub mod outputs;
@@ -198,7 +200,7 @@ async fn serve(
         app.token.as_str()
     );
     announce(opts, &url);
-    let server = axum::serve(listener, router(app));
+    let server = connections::serve(listener, router(app), connections::Limits::from_env());
     tokio::select! {
         r = server => r.map_err(ServeError::Server),
         _ = tokio::signal::ctrl_c() => Ok(()),

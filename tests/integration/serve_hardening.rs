@@ -78,3 +78,87 @@ fn overrides_csv_is_written_guarded_and_every_value_round_trips() {
     assert_eq!(left["overrides"][0]["grader"], "'quoted", "{left}");
     assert_eq!(left["overrides"][0]["reason"], "-2+3", "{left}");
 }
+
+/// Reads from `s` until the server closes it; false if it is still open after `secs`.
+fn closed_within(s: &mut std::net::TcpStream, secs: u64) -> bool {
+    use std::io::Read;
+    let until = std::time::Instant::now() + std::time::Duration::from_secs(secs);
+    let mut buf = [0u8; 1024];
+    while std::time::Instant::now() < until {
+        s.set_read_timeout(Some(std::time::Duration::from_millis(250)))
+            .unwrap();
+        match s.read(&mut buf) {
+            Ok(0) => return true,
+            Ok(_) => {}
+            Err(e)
+                if matches!(
+                    e.kind(),
+                    std::io::ErrorKind::WouldBlock | std::io::ErrorKind::TimedOut
+                ) => {}
+            // reset by the server: closed too
+            Err(_) => return true,
+        }
+    }
+    false
+}
+
+#[test]
+fn idle_and_half_sent_connections_are_closed_and_the_page_keeps_answering() {
+    use std::io::Write;
+    let f = Fixture::new();
+    let server = Server::start_env(
+        &f.path("ws"),
+        &[],
+        &[("BENCHGRADE_SERVE_TIMEOUT_MS", "1500")],
+    );
+    // 300 connections held open: half send nothing, half half a header
+    let mut held = Vec::new();
+    for i in 0..300 {
+        let mut s = std::net::TcpStream::connect(("127.0.0.1", server.port)).unwrap();
+        if i % 2 == 1 {
+            s.write_all(b"GET /api/status HTTP/1.1\r\nHost: 127.0.0.1\r\nX-Half: ")
+                .unwrap();
+        }
+        held.push(s);
+    }
+    // the page and the API still answer while they are held
+    let (status, _) = server.call("GET", "/api/status", None);
+    assert_eq!(status, 200);
+    let (code, _) = crate::serve_client::raw(
+        server.port,
+        &format!(
+            "GET / HTTP/1.1\r\nHost: 127.0.0.1:{}\r\nConnection: close\r\n\r\n",
+            server.port
+        ),
+        b"",
+    );
+    assert_ne!(code, 0, "the page answered");
+    // and every held connection is closed by the server (1.5 s here; the bound is generous
+    // for a loaded machine, not a speed check)
+    for (i, s) in held.iter_mut().enumerate() {
+        assert!(closed_within(s, 20), "connection {i} is still open");
+    }
+    let (status, _) = server.call("GET", "/api/status", None);
+    assert_eq!(status, 200);
+}
+
+#[test]
+fn a_connection_past_the_cap_is_closed_at_once() {
+    let f = Fixture::new();
+    let server = Server::start_env(&f.path("ws"), &[], &[("BENCHGRADE_MAX_CONNECTIONS", "40")]);
+    // the server's start itself used none: 40 held take every place
+    let held: Vec<std::net::TcpStream> = (0..40)
+        .map(|_| std::net::TcpStream::connect(("127.0.0.1", server.port)).unwrap())
+        .collect();
+    std::thread::sleep(std::time::Duration::from_millis(300));
+    let mut extra = std::net::TcpStream::connect(("127.0.0.1", server.port)).unwrap();
+    assert!(
+        closed_within(&mut extra, 5),
+        "the 41st connection is closed at once, not held until the header timeout (10 s)"
+    );
+    drop(held);
+    assert!(crate::serve_client::eventually(20, || server
+        .call("GET", "/api/status", None)
+        .0
+        == 200));
+}
