@@ -19,6 +19,7 @@ mod layers;
 mod nist;
 mod physchem;
 mod printouts;
+mod privacy;
 mod real_files;
 mod reference_data;
 mod registry;
