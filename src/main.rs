@@ -352,6 +352,10 @@ fn run() -> ExitCode {
             compounds: extra,
         } => compounds(json, extra),
         Command::Serve(s) => serve(s),
+        Command::ServeGradingRun => {
+            benchgrade::serve::child::child_main();
+            Ok(ExitCode::SUCCESS)
+        }
     };
     match result {
         Ok(code) => code,

@@ -93,6 +93,7 @@ fn summary_json(s: &RunState) -> Value {
         "summary": o.summary,
         "error": o.error,
         "millis": o.millis,
+        "set_aside": o.set_aside,
     })
 }
 
@@ -120,6 +121,7 @@ fn run_json(o: &Outcome) -> Value {
         "error": o.error,
         "problems": o.problems,
         "millis": o.millis,
+        "set_aside": o.set_aside,
     })
 }
 

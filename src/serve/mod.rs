@@ -6,9 +6,11 @@
 //!
 //! `api`: the JSON API; `upload`: spreadsheets in; `outputs`: graded files out; `page`: the
 //! page and its assets; `overrides_file`: overrides.csv as the page edits it; `connections`:
-//! the accept loop, with a cap on connections and their timeouts.
+//! the accept loop, with a cap on connections and their timeouts; `child`: each grading run
+//! in a process of its own.
 
 pub mod api;
+pub mod child;
 pub mod connections;
 pub mod grader;
 pub mod guard;

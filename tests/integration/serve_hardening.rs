@@ -162,3 +162,57 @@ fn a_connection_past_the_cap_is_closed_at_once() {
         .0
         == 200));
 }
+
+/// An invented class of two students, clean.
+const GOOD_CLASS: &str = "Section,Student ID,Student name,Bench,Compound,Crude mass (g),Recovered mass (g),Water (mL),MP start,MP end\n\
+Sec 01,2026201,Pilar Ostrander,1,benzoic acid,2.82,1.87,57,119.9,120.7\n\
+Sec 01,2026202,Ruaidhri Beckwith,2,benzoic acid,2.59,2.09,55,119.7,121.1\n";
+
+#[test]
+fn a_reader_that_aborts_costs_its_run_only_and_the_file_is_set_aside() {
+    let f = Fixture::new();
+    let ws = f.path("ws");
+    // the test hook: reading a file whose name holds "poison" aborts the process, as calamine
+    // did on an .xls claiming 2^32 rows (SIGABRT, which no handler catches)
+    let env = [("BENCHGRADE_FAULT", "abort-on-read-poison")];
+    let server = Server::start_env(&ws, &[], &env);
+    let (status, body) = server.upload(&[
+        ("good.csv", GOOD_CLASS.as_bytes()),
+        ("poison.csv", GOOD_CLASS.as_bytes()),
+    ]);
+    assert_eq!(status, 201, "{body}");
+    let aside = |s: &Value| {
+        s["set_aside"]
+            .as_array()
+            .is_some_and(|a| a.iter().any(|p| p["file"] == "quarantine/poison.csv"))
+    };
+    assert!(
+        crate::serve_client::eventually(60, || aside(&server.get("/api/status"))),
+        "the file is set aside: {}",
+        server.get("/api/status")
+    );
+    // the server kept answering, and says what happened and where the file went
+    let status = server.get("/api/status");
+    let note = status["set_aside"][0]["message"].as_str().unwrap();
+    assert!(
+        note.contains("inputs/poison.csv")
+            && note.contains("SIGABRT")
+            && note.contains("quarantine/poison.csv"),
+        "{note}"
+    );
+    assert!(ws.join("quarantine/poison.csv").is_file());
+    assert!(!ws.join("inputs/poison.csv").exists());
+    // the rest is graded again without it
+    let current = status["revision"].as_u64().unwrap();
+    let results = server.results_after(current);
+    assert_eq!(results["error"], Value::Null, "{results}");
+    assert_eq!(results["summary"]["submissions"], 2, "{results}");
+    record(&results, "2026201");
+    drop(server);
+    // a restart does not read it again (nor die): the file stays aside, with a note
+    let again = Server::start_env(&ws, &[], &env);
+    let results = again.results_after(1);
+    assert_eq!(results["error"], Value::Null, "{results}");
+    assert_eq!(results["summary"]["submissions"], 2, "{results}");
+    assert!(aside(&again.get("/api/status")));
+}
