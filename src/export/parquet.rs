@@ -198,7 +198,7 @@ impl ParquetRows {
             {
                 // a name is left out: null, as where none was read
                 Some(_) if c.personal == Some(Personal::Name) => {
-                    buffer.push(Value::Text(None), sep)
+                    buffer.push(Value::Text(None), sep);
                 }
                 Some(told) => buffer.push(Value::Text(Some(&told)), sep),
                 None => buffer.push(value, sep),

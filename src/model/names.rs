@@ -72,10 +72,8 @@ impl BatchNames {
                 continue;
             }
             let folded = fold(part);
-            if folded.chars().any(unspaced) {
-                if !self.unspaced.contains(&folded) {
-                    self.unspaced.push(folded.clone());
-                }
+            if folded.chars().any(unspaced) && !self.unspaced.contains(&folded) {
+                self.unspaced.push(folded.clone());
             }
             self.words.insert(folded);
         }

@@ -137,9 +137,8 @@ pub fn grade(ws: &Workspace) -> Ended {
             .stderr(Stdio::null())
             .spawn()
     });
-    let mut child = match started {
-        Ok(c) => c,
-        Err(_) => return Ended::Report(grade_here(ws)),
+    let Ok(mut child) = started else {
+        return Ended::Report(grade_here(ws));
     };
     let mut reading = None;
     let mut report = None;

@@ -73,14 +73,11 @@ impl Limits {
 pub async fn serve(listener: TcpListener, router: Router, limits: Limits) -> io::Result<()> {
     let permits = Arc::new(Semaphore::new(limits.max));
     loop {
-        let stream = match listener.accept().await {
-            Ok((stream, _)) => stream,
-            // out of open files, or a connection reset before it was taken: the held ones
-            // time out, so wait a moment and go on
-            Err(_) => {
-                tokio::time::sleep(Duration::from_millis(50)).await;
-                continue;
-            }
+        // out of open files, or a connection reset before it was taken: the held ones time
+        // out, so wait a moment and go on
+        let Ok((stream, _)) = listener.accept().await else {
+            tokio::time::sleep(Duration::from_millis(50)).await;
+            continue;
         };
         // past the cap the connection is closed at once (dropped)
         let Ok(permit) = Arc::clone(&permits).try_acquire_owned() else {

@@ -42,7 +42,7 @@ fn overrides_csv_is_written_guarded_and_every_value_round_trips() {
         .has_headers(false)
         .from_reader(text.as_bytes());
     for rec in reader.records() {
-        for cell in rec.unwrap().iter() {
+        for cell in &rec.unwrap() {
             assert!(
                 !cell.starts_with(['=', '+', '-', '@', '\t', '\r']),
                 "unguarded cell {cell:?} in\n{text}"
