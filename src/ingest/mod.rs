@@ -95,23 +95,25 @@ pub fn on_read(hook: fn(&Path)) {
     let _ = ON_READ.set(hook);
 }
 
-/// The tests' way to make a reader abort the process: `BENCHGRADE_FAULT=abort-on-read-NAME`
-/// aborts when a file whose name contains NAME is about to be read.
+/// The tests' way to make a reader abort the process, or never finish:
+/// `BENCHGRADE_FAULT=abort-on-read-NAME` aborts, `hang-on-read-NAME` sleeps for good, when a
+/// file whose name contains NAME is about to be read.
 fn fault_on_read(path: &Path) {
     let Some(fault) = std::env::var_os("BENCHGRADE_FAULT") else {
         return;
     };
-    let Some(name) = fault
-        .to_str()
-        .and_then(|f| f.strip_prefix("abort-on-read-"))
-    else {
-        return;
+    let Some(fault) = fault.to_str() else { return };
+    let named = |prefix: &str| {
+        fault.strip_prefix(prefix).is_some_and(|name| {
+            path.file_name()
+                .is_some_and(|f| f.to_string_lossy().contains(name))
+        })
     };
-    if path
-        .file_name()
-        .is_some_and(|f| f.to_string_lossy().contains(name))
-    {
+    if named("abort-on-read-") {
         std::process::abort();
+    }
+    while named("hang-on-read-") {
+        std::thread::sleep(std::time::Duration::from_secs(3600));
     }
 }
 

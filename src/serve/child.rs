@@ -5,12 +5,15 @@
 //! before it reads it (a line `{"reading": "inputs/x.xls"}` on its standard output) and, at
 //! the end, what the run found (`{"outcome": {...}}`). A child that ends without an outcome
 //! ended abnormally: the file it was reading is set aside in `quarantine/`, named in the
-//! state the page shows, and no longer read at every start.
+//! state the page shows, and no longer read at every start. So is a child stopped for taking
+//! longer than a run may (a reader stuck in a file).
 
 use std::io::{BufRead, BufReader, Write as _};
 use std::panic::AssertUnwindSafe;
 use std::path::{Path, PathBuf};
 use std::process::{Command, Stdio};
+use std::sync::mpsc::{self, RecvTimeoutError};
+use std::time::{Duration, Instant};
 
 use serde::{Deserialize, Serialize};
 
@@ -140,20 +143,41 @@ pub fn grade(ws: &Workspace) -> Ended {
     let Ok(mut child) = started else {
         return Ended::Report(grade_here(ws));
     };
-    let mut reading = None;
-    let mut report = None;
+    let (tx, lines) = mpsc::channel();
     if let Some(stdout) = child.stdout.take() {
-        for line in BufReader::new(stdout).lines() {
-            let Ok(line) = line else { break };
-            match serde_json::from_str::<Line>(&line) {
-                Ok(Line::Reading(f)) => reading = Some(f),
-                Ok(Line::Outcome(r)) => report = Some(r),
-                Err(_) => {}
+        std::thread::spawn(move || {
+            for line in BufReader::new(stdout).lines().map_while(Result::ok) {
+                if let Ok(l) = serde_json::from_str::<Line>(&line) {
+                    if tx.send(l).is_err() {
+                        break;
+                    }
+                }
+            }
+        });
+    }
+    let limit = run_limit();
+    let deadline = Instant::now() + limit;
+    let (mut reading, mut report, mut stopped) = (None, None, false);
+    loop {
+        match lines.recv_timeout(deadline.saturating_duration_since(Instant::now())) {
+            Ok(Line::Reading(f)) => reading = Some(f),
+            Ok(Line::Outcome(r)) => report = Some(r),
+            Err(RecvTimeoutError::Disconnected) => break,
+            Err(RecvTimeoutError::Timeout) => {
+                stopped = child.kill().is_ok();
+                break;
             }
         }
     }
     let status = child.wait();
     match (report, status) {
+        _ if stopped => Ended::Abnormal {
+            reading,
+            how: format!(
+                "was stopped after {} s, the longest a run may take",
+                limit.as_secs_f64()
+            ),
+        },
         (Some(r), Ok(s)) if s.success() => Ended::Report(r),
         (_, status) => Ended::Abnormal {
             reading,
@@ -163,6 +187,16 @@ pub fn grade(ws: &Workspace) -> Ended {
             },
         },
     }
+}
+
+/// The longest a run may take before it is stopped (a reader stuck in a file): 15 minutes (a
+/// million students grade in under a minute), or `BENCHGRADE_SERVE_RUN_LIMIT_MS` (a test hook).
+fn run_limit() -> Duration {
+    std::env::var("BENCHGRADE_SERVE_RUN_LIMIT_MS")
+        .ok()
+        .and_then(|v| v.trim().parse::<u64>().ok())
+        .filter(|ms| *ms > 0)
+        .map_or(Duration::from_secs(15 * 60), Duration::from_millis)
 }
 
 /// How a process ended, in words.

@@ -216,3 +216,31 @@ fn a_reader_that_aborts_costs_its_run_only_and_the_file_is_set_aside() {
     assert_eq!(results["summary"]["submissions"], 2, "{results}");
     assert!(aside(&again.get("/api/status")));
 }
+
+#[test]
+fn a_run_stuck_in_a_file_is_stopped_and_the_file_set_aside() {
+    let f = Fixture::new();
+    let ws = f.path("ws");
+    // the test hook: reading a file whose name holds "stuck" never ends; a run may take 3 s
+    let env = [
+        ("BENCHGRADE_FAULT", "hang-on-read-stuck"),
+        ("BENCHGRADE_SERVE_RUN_LIMIT_MS", "3000"),
+    ];
+    let server = Server::start_env(&ws, &[], &env);
+    let (status, body) = server.upload(&[
+        ("good.csv", GOOD_CLASS.as_bytes()),
+        ("stuck.csv", GOOD_CLASS.as_bytes()),
+    ]);
+    assert_eq!(status, 201, "{body}");
+    assert!(crate::serve_client::eventually(60, || {
+        server.get("/api/status")["set_aside"][0]["file"] == "quarantine/stuck.csv"
+    }));
+    let status = server.get("/api/status");
+    let note = status["set_aside"][0]["message"].as_str().unwrap();
+    assert!(
+        note.contains("stopped after 3 s") && note.contains("inputs/stuck.csv"),
+        "{note}"
+    );
+    let results = server.results_after(status["revision"].as_u64().unwrap());
+    assert_eq!(results["summary"]["submissions"], 2, "{results}");
+}
