@@ -4,7 +4,7 @@
 //! name of the batch is told with each name replaced by `[name]` and a number of its own
 //! ("[name] [name] (label 2)"), so that two such labels are still two groups.
 
-use std::collections::HashMap;
+use std::collections::{HashMap, HashSet};
 use std::sync::Arc;
 
 use std::borrow::Cow;
@@ -17,13 +17,19 @@ use crate::stats::sections::SectionStats;
 pub(super) struct Labels {
     names: Arc<BatchNames>,
     renamed: HashMap<String, String>,
+    /// Labels known to hold no name (a section, a bench, a file repeats on every row of it),
+    /// at most `CLEAN_KEPT`, so that most rows cost a look-up, not a scan of their words.
+    clean: HashSet<String>,
 }
+
+const CLEAN_KEPT: usize = 10_000;
 
 impl Labels {
     pub(super) fn new(names: Arc<BatchNames>) -> Labels {
         Labels {
             names,
             renamed: HashMap::new(),
+            clean: HashSet::new(),
         }
     }
 
@@ -32,8 +38,14 @@ impl Labels {
         if let Some(s) = self.renamed.get(label) {
             return Some(s.clone());
         }
+        if self.names.is_empty() || self.clean.contains(label) {
+            return None;
+        }
         let scrubbed = self.names.scrub(label);
         if scrubbed == label {
+            if self.clean.len() < CLEAN_KEPT {
+                self.clean.insert(label.to_string());
+            }
             return None;
         }
         let told = format!("{scrubbed} (label {})", self.renamed.len() + 1);

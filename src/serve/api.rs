@@ -180,10 +180,12 @@ pub async fn list_files(State(app): State<Arc<App>>) -> Reply {
             json!({"name": f.name, "size": f.size, "problems": problems, "sheets": sheets})
         })
         .collect();
+    // the files set aside in quarantine/ are told there too, with why
     let elsewhere: Vec<_> = outcome
         .problems
         .iter()
         .filter(|p| !files.iter().any(|f| f.name == p.file))
+        .chain(&outcome.set_aside)
         .collect();
     Ok(Json(json!({
         "files": listed,

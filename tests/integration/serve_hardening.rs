@@ -200,6 +200,15 @@ fn a_reader_that_aborts_costs_its_run_only_and_the_file_is_set_aside() {
             && note.contains("quarantine/poison.csv"),
         "{note}"
     );
+    let files = server.get("/api/files");
+    assert!(
+        files["other_problems"]
+            .as_array()
+            .unwrap()
+            .iter()
+            .any(|p| p["file"] == "quarantine/poison.csv" && p["message"] == note),
+        "the page lists it: {files}"
+    );
     assert!(ws.join("quarantine/poison.csv").is_file());
     assert!(!ws.join("inputs/poison.csv").exists());
     // the rest is graded again without it
