@@ -18,10 +18,17 @@ use crate::model::names::BatchNames;
 use crate::model::Assessed;
 
 /// A keyed pseudonymiser, with the names of the batch it scrubs from text.
-#[derive(Clone)]
 pub struct Pseudonymizer {
     key: Vec<u8>,
     names: Arc<BatchNames>,
+    /// The last file named and its pseudonym: a file's rows come one after another.
+    last_file: std::sync::Mutex<Option<(String, String)>>,
+}
+
+impl Clone for Pseudonymizer {
+    fn clone(&self) -> Pseudonymizer {
+        self.with_names(Arc::clone(&self.names))
+    }
 }
 
 /// The least key length accepted, in bytes.
@@ -40,6 +47,7 @@ impl Pseudonymizer {
         Ok(Pseudonymizer {
             key,
             names: Arc::default(),
+            last_file: std::sync::Mutex::default(),
         })
     }
 
@@ -48,6 +56,7 @@ impl Pseudonymizer {
         Pseudonymizer {
             key: self.key.clone(),
             names,
+            last_file: std::sync::Mutex::default(),
         }
     }
 
@@ -70,6 +79,21 @@ impl Pseudonymizer {
     /// extension (which says the format and names nobody). "file:" keeps it from ever being
     /// an id's pseudonym.
     pub fn file(&self, source: &str) -> String {
+        let mut last = self
+            .last_file
+            .lock()
+            .unwrap_or_else(std::sync::PoisonError::into_inner);
+        if let Some((s, p)) = last.as_ref() {
+            if s == source {
+                return p.clone();
+            }
+        }
+        let told = self.file_uncached(source);
+        *last = Some((source.to_string(), told.clone()));
+        told
+    }
+
+    fn file_uncached(&self, source: &str) -> String {
         let tag = self.tag(&[b"file:", source.as_bytes()]);
         let ext = std::path::Path::new(source)
             .extension()

@@ -25,6 +25,9 @@ pub struct BatchNames {
 /// A word's matching form: lower case, accents and other combining marks taken off, and the
 /// few Latin letters that do not decompose written plainly (ø, ł, đ, æ, œ, ß, ı).
 pub fn fold(word: &str) -> String {
+    if word.is_ascii() {
+        return word.to_ascii_lowercase();
+    }
     let mut out = String::with_capacity(word.len());
     for c in word.nfd().filter(|c| !is_combining_mark(*c)) {
         match c {
@@ -85,10 +88,23 @@ impl BatchNames {
 
     /// Whether a word (as written) is a name part of the batch.
     fn is_name(&self, word: &str) -> bool {
-        if word.is_ascii() && !word.bytes().any(|b| b.is_ascii_uppercase()) {
-            return self.words.contains(word);
+        let bytes = word.as_bytes();
+        // a number, or a word of one letter, is no name part (the common words of feedback)
+        if bytes.len() < 2 || bytes[0].is_ascii_digit() {
+            return false;
         }
-        self.words.contains(&fold(word))
+        if !word.is_ascii() {
+            return self.words.contains(&fold(word));
+        }
+        let mut buf = [0u8; 32];
+        match buf.get_mut(..bytes.len()) {
+            Some(low) => {
+                low.copy_from_slice(bytes);
+                low.make_ascii_lowercase();
+                std::str::from_utf8(low).is_ok_and(|w| self.words.contains(w))
+            }
+            None => self.words.contains(&word.to_ascii_lowercase()),
+        }
     }
 
     /// `text` with every name part of the batch replaced by `[name]`.
