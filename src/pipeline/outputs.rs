@@ -26,14 +26,13 @@ use crate::export::workbook_worker::{self, BookWorker};
 use crate::export::{cohort_csv, cohort_workbook, section_stats};
 use crate::ingest::Problem;
 use crate::model::names::BatchNames;
-
-use super::labels::Labels;
 use crate::model::Flag;
 use crate::model::Graded;
 use crate::stats::cohort::{BiasRule, Cohort};
 use crate::stats::quality::Quality;
 use crate::stats::sections::SectionStats;
 
+use super::labels::Labels;
 use super::RunError;
 
 /// The writer threads.
