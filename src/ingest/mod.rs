@@ -88,10 +88,11 @@ fn file_stem(path: &Path) -> String {
 /// Told the name of every file before it is read, by a process that grades for another (the
 /// workspace server's grading process, `serve::child`): a reader that aborts the process
 /// (an abort cannot be caught) then leaves word of the file it was reading.
-static ON_READ: std::sync::OnceLock<fn(&Path)> = std::sync::OnceLock::new();
+static ON_READ: std::sync::OnceLock<fn(&Path, bool)> = std::sync::OnceLock::new();
 
-/// Sets the hook told of every file before it is read (once a process).
-pub fn on_read(hook: fn(&Path)) {
+/// Sets the hook told of every file before it is read (`false`) and once it has been read
+/// (`true`), once a process.
+pub fn on_read(hook: fn(&Path, bool)) {
     let _ = ON_READ.set(hook);
 }
 
@@ -121,7 +122,7 @@ fn fault_on_read(path: &Path) {
 /// Safe to run on a reader thread: it only reads.
 pub fn read_file(path: &Path, emit: &mut dyn FnMut(Event)) {
     if let Some(hook) = ON_READ.get() {
-        hook(path);
+        hook(path, false);
     }
     fault_on_read(path);
     let source = path.display().to_string();
@@ -179,6 +180,9 @@ pub fn read_file(path: &Path, emit: &mut dyn FnMut(Event)) {
         )));
     }
     emit(Event::FileDone(source));
+    if let Some(hook) = ON_READ.get() {
+        hook(path, true);
+    }
 }
 
 /// Each sheet of a workbook, or its problem, as an event.

@@ -2,8 +2,9 @@
 //! to a reader takes the server down: a reader that aborts (an allocation the size of what a
 //! damaged header claims, which cannot be caught) ends that run only. The server re-runs its
 //! own binary with a hidden subcommand in the workspace; the child tells the server each file
-//! before it reads it (a line `{"reading": "inputs/x.xls"}` on its standard output) and, at
-//! the end, what the run found (`{"outcome": {...}}`). A child that ends without an outcome
+//! before it reads it and once it has (lines `{"reading": "inputs/x.xls"}` and `{"read":
+//! "inputs/x.xls"}` on its standard output) and, at the end, what the run found
+//! (`{"outcome": {...}}`). A child that ends without an outcome
 //! ended abnormally: the file it was reading is set aside in `quarantine/`, named in the
 //! state the page shows, and no longer read at every start. So is a child stopped for taking
 //! longer than a run may (a reader stuck in a file).
@@ -43,11 +44,12 @@ pub struct Report {
     pub records: bool,
 }
 
-/// One line of the child's standard output.
+/// One line of the child's standard output: a file about to be read, a file read, the end.
 #[derive(Debug, Serialize, Deserialize)]
 #[serde(rename_all = "lowercase")]
 enum Line {
     Reading(String),
+    Read(String),
     Outcome(Report),
 }
 
@@ -98,8 +100,13 @@ fn say(line: &Line) {
     }
 }
 
-fn announce(path: &Path) {
-    say(&Line::Reading(path.display().to_string()));
+fn announce(path: &Path, done: bool) {
+    let shown = path.display().to_string();
+    say(&if done {
+        Line::Read(shown)
+    } else {
+        Line::Reading(shown)
+    });
 }
 
 /// The child: grades the workspace it runs in and reports on standard output.
@@ -161,6 +168,9 @@ pub fn grade(ws: &Workspace) -> Ended {
     loop {
         match lines.recv_timeout(deadline.saturating_duration_since(Instant::now())) {
             Ok(Line::Reading(f)) => reading = Some(f),
+            // a run that ends between files or after them is not the fault of the last one
+            Ok(Line::Read(f)) if reading.as_ref() == Some(&f) => reading = None,
+            Ok(Line::Read(_)) => {}
             Ok(Line::Outcome(r)) => report = Some(r),
             Err(RecvTimeoutError::Disconnected) => break,
             Err(RecvTimeoutError::Timeout) => {
