@@ -121,10 +121,18 @@ fn fault_on_read(path: &Path) {
 /// Reads one file, handing over each sheet (or problem) as soon as it is read.
 /// Safe to run on a reader thread: it only reads.
 pub fn read_file(path: &Path, emit: &mut dyn FnMut(Event)) {
-    if let Some(hook) = ON_READ.get() {
+    let hook = ON_READ.get();
+    if let Some(hook) = hook {
         hook(path, false);
     }
     fault_on_read(path);
+    read_one(path, emit);
+    if let Some(hook) = hook {
+        hook(path, true);
+    }
+}
+
+fn read_one(path: &Path, emit: &mut dyn FnMut(Event)) {
     let source = path.display().to_string();
     let fatal = |message: String| {
         Event::Problem(Problem {
@@ -180,9 +188,6 @@ pub fn read_file(path: &Path, emit: &mut dyn FnMut(Event)) {
         )));
     }
     emit(Event::FileDone(source));
-    if let Some(hook) = ON_READ.get() {
-        hook(path, true);
-    }
 }
 
 /// Each sheet of a workbook, or its problem, as an event.
