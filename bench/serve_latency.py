@@ -10,8 +10,12 @@ measures, alternately, REPEATS times each:
              comparison: the run alone, with the process start a terminal user pays
 and reads the server's resident memory (/proc/PID/status) when idle: just started, and after
 the runs (target: < 30 MB). Standard library only; builds the release binary first.
+The override and removal are also timed, alternately, on a second server that grades inside
+its own process (BENCHGRADE_SERVE_IN_PROCESS=1) instead of in a child process: the difference
+is what the child process costs.
 
     python3 bench/serve_latency.py [REPEATS]        (default 30)
+    BENCHGRADE_BENCH_PROFILE=debug python3 bench/serve_latency.py 10   (the debug build)
 """
 
 import json
@@ -27,22 +31,25 @@ ROOT = os.path.dirname(os.path.dirname(os.path.abspath(__file__)))
 
 
 def build():
+    debug = os.environ.get("BENCHGRADE_BENCH_PROFILE") == "debug"
     subprocess.run(
-        ["cargo", "build", "--release", "--quiet", "--bin", "benchgrade", "--example", "make_class"],
+        ["cargo", "build", "--quiet", "--bin", "benchgrade", "--example", "make_class"]
+        + ([] if debug else ["--release"]),
         cwd=ROOT,
         check=True,
     )
     target = os.environ.get("CARGO_TARGET_DIR", os.path.join(ROOT, "target"))
-    return os.path.join(target, "release")
+    return os.path.join(target, "debug" if debug else "release")
 
 
 class Server:
-    def __init__(self, binary, workspace):
+    def __init__(self, binary, workspace, env=None):
         self.proc = subprocess.Popen(
             [binary, "serve", workspace, "--port", "0"],
             stdout=subprocess.PIPE,
             stderr=subprocess.DEVNULL,
             text=True,
+            env={**os.environ, **(env or {})},
         )
         line = self.proc.stdout.readline().strip()
         url = line.removeprefix("benchgrade workspace at ")
@@ -135,6 +142,7 @@ def main():
                        stdout=subprocess.DEVNULL)
         workspace = os.path.join(work, "ws")
         server = Server(binary, workspace)
+        inside = Server(binary, os.path.join(work, "ws-in-process"), {"BENCHGRADE_SERVE_IN_PROCESS": "1"})
         try:
             time.sleep(2)
             idle_start = server.rss_kib()
@@ -145,19 +153,27 @@ def main():
             before = graded[0]["score"]
             print(f"section: {len(results['records'])} students; one run took {results['millis']} ms "
                   "inside the server")
-            over, remove, cli = [], [], []
+            inside.call("GET", f"/api/results?revision={upload(inside, section)['revision']}")
+            over, remove, cli, over_in, remove_in = [], [], [], [], []
             for i in range(repeats):
                 t, line = timed_override(server, student, 50 + i % 40)
                 over.append(t)
                 remove.append(timed_remove(server, student, line, before))
+                t, line = timed_override(inside, student, 50 + i % 40)
+                over_in.append(t)
+                remove_in.append(timed_remove(inside, student, line, before))
                 cli.append(timed_cli(binary, workspace))
             time.sleep(3)
             idle_after = server.rss_kib()
         finally:
             server.stop()
+            inside.stop()
     print(f"({repeats} alternating repeats each)")
     m = summary("override posted -> updated results returned", over)
     summary("override removed -> updated results returned", remove)
+    m_in = summary("the same, graded inside the server: override", over_in)
+    summary("the same, graded inside the server: removed", remove_in)
+    print(f"the child process costs {m - m_in:+.1f} ms a run (median against median)")
     summary("benchgrade grade by hand (process start included)", cli)
     for label, rss in (("idle, just started", idle_start), ("idle, after the runs", idle_after)):
         print(f"server memory, {label:<22} RSS {rss['VmRSS'] / 1024:5.1f} MiB "

@@ -62,6 +62,11 @@ pub enum Command {
         #[arg(long)]
         one_workbook: bool,
     },
+    /// One grading run of the workspace in the working directory, reported on standard output
+    /// as JSON lines: what `serve` runs for each run (a process of its own, so that no file
+    /// can take the server down)
+    #[command(name = "serve-grading-run", hide = true)]
+    ServeGradingRun,
     /// List the reference library with the source of every value
     Compounds {
         /// Print JSON instead of a table

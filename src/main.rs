@@ -409,6 +409,10 @@ fn run() -> ExitCode {
             one_workbook,
         } => template(roster, rubric, out, one_workbook),
         Command::Serve(s) => serve(s),
+        Command::ServeGradingRun => {
+            benchgrade::serve::child::child_main();
+            Ok(ExitCode::SUCCESS)
+        }
     };
     match result {
         Ok(code) => code,

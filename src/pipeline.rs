@@ -16,10 +16,12 @@ use crate::export::row_thread::Fanout;
 use crate::files::FolderLock;
 use crate::ingest::spill::{Replay, SpillWriter};
 use crate::ingest::{self, discover, Collector, Problem, SheetReport};
+use crate::model::names::BatchNames;
 use crate::model::{Graded, Score, Tally};
 use crate::rubric::overrides::{Override, Overrides};
 use crate::rubric::score;
 
+mod labels;
 mod outputs;
 use outputs::{Tallies, Writers};
 
@@ -167,10 +169,12 @@ impl<'a> Inputs<'a> {
     }
 }
 
-/// What the first pass learnt: the section centres, and its record of the inputs, if kept.
+/// What the first pass learnt: the section centres, the students' names (kept out of what
+/// leaves the course), and its record of the inputs, if kept.
 struct FirstPass {
     centres: Centres,
     repeats: Repeats,
+    names: std::sync::Arc<BatchNames>,
     replay: Option<Replay>,
 }
 
@@ -413,6 +417,7 @@ fn section_centres(
 ) -> Result<FirstPass, RunError> {
     let mut centres = Centres::default();
     let mut repeats = Repeats::default();
+    let mut names = BatchNames::default();
     let last_counts = config.rubric.grading.duplicates == Counted::Last;
     let mut scratch = Batch::default();
     let mut first_pass = config.clone();
@@ -432,6 +437,9 @@ fn section_centres(
         &mut scratch,
         &mut |g| {
             centres.add(&g.assessed);
+            if let Some(name) = g.assessed.submission.student_name.as_deref() {
+                names.add(name);
+            }
             if last_counts && g.assessed.has(crate::model::Flag::DuplicateStudent) {
                 repeats.add_repeat(&g.assessed.submission);
             }
@@ -440,9 +448,15 @@ fn section_centres(
         &mut |_| {},
     )?;
     centres.settle(config.rubric.tolerances.outlier_min_n);
+    // the roster's names are the batch's too, submitted or not
+    let enrolled = config.roster.iter().flat_map(|r| r.students());
+    for name in enrolled.filter_map(|e| e.name.as_deref()) {
+        names.add(name);
+    }
     Ok(FirstPass {
         centres,
         repeats,
+        names: std::sync::Arc::new(names),
         replay: spill.and_then(SpillWriter::finish),
     })
 }
@@ -724,8 +738,6 @@ pub fn grade_with_progress(
     refuse_overwriting_inputs(&paths, &batch.files)?;
     let _lock = open_output_folder(config, &batch.files, &mut batch.problems)?;
     let stage = Stage::new();
-    let mut threads = Writers::spawn(config, &paths, &stage)?;
-    let mut tallies = Tallies::new(config, &stage)?;
     let files = std::mem::take(&mut batch.files);
     let first = section_centres(
         config,
@@ -733,6 +745,8 @@ pub fn grade_with_progress(
         calibration.as_deref(),
         Some(&config.out_dir),
     )?;
+    let mut threads = Writers::spawn(config, &paths, &stage, &first.names)?;
+    let mut tallies = Tallies::new(config, &stage, &first.names)?;
     let inputs = Inputs::second_pass(&files, calibration.as_deref(), &first);
     let mut fan = Fanout::new(threads.targets());
     stream(

@@ -190,23 +190,18 @@ impl ParquetRows {
                 Kind::List { sep } => sep,
                 _ => ";",
             };
-            match (c.personal, &self.pseudonyms, c.value(row)) {
-                (Some(Personal::Id), Some(p), Value::Text(Some(id))) => {
-                    let pseudonym = p.pseudonym(id);
-                    buffer.push(Value::Text(Some(&pseudonym)), sep);
+            let value = c.value(row);
+            match self
+                .pseudonyms
+                .as_ref()
+                .and_then(|p| p.told(c, value, sep, a))
+            {
+                // a name is left out: null, as where none was read
+                Some(_) if c.personal == Some(Personal::Name) => {
+                    buffer.push(Value::Text(None), sep);
                 }
-                (Some(Personal::Name), Some(_), _) => buffer.push(Value::Text(None), sep),
-                (Some(Personal::Quotes), Some(_), v) => {
-                    let mut text = String::new();
-                    match v {
-                        Value::Text(t) => text.push_str(t.unwrap_or("")),
-                        Value::Items(items) => items.push_joined(sep, &mut text),
-                        _ => {}
-                    }
-                    let told = crate::model::without_cell_text(&text, a);
-                    buffer.push(Value::Text(Some(&told)), sep);
-                }
-                (_, _, v) => buffer.push(v, sep),
+                Some(told) => buffer.push(Value::Text(Some(&told)), sep),
+                None => buffer.push(value, sep),
             }
         }
         if self

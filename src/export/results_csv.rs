@@ -10,8 +10,8 @@ use super::atomic::{AtomicFile, Stage};
 use super::pseudonym::Pseudonymizer;
 use super::{neutralise, push_number};
 use crate::error::WriteError;
-use crate::model::columns::{self, Column, Kind, Outputs, Personal, Value};
-use crate::model::{without_cell_text, Graded};
+use crate::model::columns::{self, Column, Kind, Outputs, Value};
+use crate::model::Graded;
 use crate::numtext::push_u64;
 
 /// The columns results.csv writes before the points (through `status`, the last column of the
@@ -46,7 +46,8 @@ pub struct ResultsCsv {
     csv: csv::Writer<AtomicFile>,
     path: PathBuf,
     buf: String,
-    /// When set, ids are replaced by pseudonyms and names left out.
+    /// When set, ids and file names are replaced by pseudonyms, names left out and scrubbed
+    /// from every text.
     pseudonyms: Option<Pseudonymizer>,
     /// The rubric's criterion ids, in the order of the `points_` columns.
     criteria: Vec<String>,
@@ -100,29 +101,34 @@ impl ResultsCsv {
     /// Puts one value's text into the buffer.
     fn fill(&mut self, column: &Column, value: Value<'_>) {
         self.buf.clear();
-        match (value, column.personal, &self.pseudonyms) {
-            (Value::Text(Some(id)), Some(Personal::Id), Some(p)) => {
-                self.buf.push_str(&p.pseudonym(id));
-            }
-            (_, Some(Personal::Name), Some(_)) => {}
-            (Value::Text(t), _, _) => self.buf.push_str(t.unwrap_or("")),
-            (Value::Number(v), _, _) => push_number(&mut self.buf, v),
-            (Value::Integer(n), _, _) => push_u64(&mut self.buf, n),
-            (Value::Items(items), _, _) => {
+        match value {
+            Value::Text(t) => self.buf.push_str(t.unwrap_or("")),
+            Value::Number(v) => push_number(&mut self.buf, v),
+            Value::Integer(n) => push_u64(&mut self.buf, n),
+            Value::Items(items) => {
                 let sep = match column.kind {
                     Kind::List { sep } => sep,
                     _ => "; ",
                 };
                 items.push_joined(sep, &mut self.buf);
             }
-            (Value::Points(_), _, _) => {}
+            Value::Points(_) => {}
         }
     }
 
     fn column_field(&mut self, column: &Column, g: &Graded) -> csv::Result<()> {
-        self.fill(column, column.value(g.row()));
-        if self.pseudonyms.is_some() && column.personal == Some(Personal::Quotes) {
-            self.buf = without_cell_text(&self.buf, &g.assessed);
+        let value = column.value(g.row());
+        let sep = match column.kind {
+            Kind::List { sep } => sep,
+            _ => "; ",
+        };
+        match self
+            .pseudonyms
+            .as_ref()
+            .and_then(|p| p.told(column, value, sep, &g.assessed))
+        {
+            Some(told) => self.buf = told,
+            None => self.fill(column, value),
         }
         match column.kind {
             Kind::Text | Kind::List { .. } => self.text_field(),

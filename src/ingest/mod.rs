@@ -218,9 +218,54 @@ fn file_stem(path: &Path) -> String {
         .to_string()
 }
 
+/// Told the name of every file before it is read, by a process that grades for another (the
+/// workspace server's grading process, `serve::child`): a reader that aborts the process
+/// (an abort cannot be caught) then leaves word of the file it was reading.
+static ON_READ: std::sync::OnceLock<fn(&Path, bool)> = std::sync::OnceLock::new();
+
+/// Sets the hook told of every file before it is read (`false`) and once it has been read
+/// (`true`), once a process.
+pub fn on_read(hook: fn(&Path, bool)) {
+    let _ = ON_READ.set(hook);
+}
+
+/// The tests' way to make a reader abort the process, or never finish:
+/// `BENCHGRADE_FAULT=abort-on-read-NAME` aborts, `hang-on-read-NAME` sleeps for good, when a
+/// file whose name contains NAME is about to be read.
+fn fault_on_read(path: &Path) {
+    let Some(fault) = std::env::var_os("BENCHGRADE_FAULT") else {
+        return;
+    };
+    let Some(fault) = fault.to_str() else { return };
+    let named = |prefix: &str| {
+        fault.strip_prefix(prefix).is_some_and(|name| {
+            path.file_name()
+                .is_some_and(|f| f.to_string_lossy().contains(name))
+        })
+    };
+    if named("abort-on-read-") {
+        std::process::abort();
+    }
+    while named("hang-on-read-") {
+        std::thread::sleep(std::time::Duration::from_secs(3600));
+    }
+}
+
 /// Reads one file, handing over each sheet (or problem) as soon as it is read.
 /// Safe to run on a reader thread: it only reads.
 pub fn read_file(path: &Path, emit: &mut dyn FnMut(Event)) {
+    let hook = ON_READ.get();
+    if let Some(hook) = hook {
+        hook(path, false);
+    }
+    fault_on_read(path);
+    read_one(path, emit);
+    if let Some(hook) = hook {
+        hook(path, true);
+    }
+}
+
+fn read_one(path: &Path, emit: &mut dyn FnMut(Event)) {
     let source = path.display().to_string();
     let fatal = |message: String| {
         Event::Problem(Problem {

@@ -6,6 +6,7 @@
 pub mod columns;
 pub mod flags;
 pub mod measure;
+pub mod names;
 
 use serde::Serialize;
 

@@ -25,12 +25,14 @@ use crate::export::workbook::GradedWorkbooks;
 use crate::export::workbook_worker::{self, BookWorker};
 use crate::export::{cohort_csv, cohort_workbook, section_stats};
 use crate::ingest::Problem;
+use crate::model::names::BatchNames;
 use crate::model::Flag;
 use crate::model::Graded;
 use crate::stats::cohort::{BiasRule, Cohort};
 use crate::stats::quality::Quality;
 use crate::stats::sections::SectionStats;
 
+use super::labels::Labels;
 use super::RunError;
 
 /// The writer threads.
@@ -48,8 +50,10 @@ impl Writers {
         config: &Config,
         paths: &[PathBuf; 3],
         stage: &Stage,
+        names: &Arc<BatchNames>,
     ) -> Result<Writers, WriteError> {
-        let text = RowThread::spawn("text outputs", open_text_outputs(config, paths, stage)?)
+        let outputs = open_text_outputs(config, paths, stage, names)?;
+        let text = RowThread::spawn("text outputs", outputs)
             .map_err(|e| WriteError::other(&paths[0], e))?;
         let labels = config
             .rubric
@@ -129,18 +133,20 @@ impl Writers {
     }
 }
 
-/// results.csv, results.json, gradebook.csv and, with pseudonyms, results-pseudonymized.csv.
+/// results.csv, results.json, gradebook.csv and, with pseudonyms, results-pseudonymized.csv
+/// (the batch's `names` scrubbed from it).
 fn open_text_outputs(
     config: &Config,
     paths: &[PathBuf; 3],
     stage: &Stage,
+    names: &Arc<BatchNames>,
 ) -> Result<TextOutputs, WriteError> {
     let ids = config.rubric.criterion_ids();
     let pseudonymized = match &config.pseudonyms {
         Some(p) => Some(ResultsCsv::create_pseudonymized(
             &config.out_dir.join("results-pseudonymized.csv"),
             &ids,
-            p.clone(),
+            p.with_names(Arc::clone(names)),
             stage,
         )?),
         None => None,
@@ -165,6 +171,7 @@ pub(super) struct Tallies {
     pub(super) stats: SectionStats,
     cohort: Cohort,
     quality: Quality,
+    labels: Labels,
     parquet: ParquetRows,
     letters: BTreeMap<String, usize>,
     /// The sections that get a handout file, in the order the handouts meet them.
@@ -181,19 +188,27 @@ struct WithoutHandout {
 }
 
 impl Tallies {
-    pub(super) fn new(config: &Config, stage: &Stage) -> Result<Tallies, WriteError> {
+    pub(super) fn new(
+        config: &Config,
+        stage: &Stage,
+        names: &Arc<BatchNames>,
+    ) -> Result<Tallies, WriteError> {
         Ok(Tallies {
             plan: (!config.skip_workbooks)
                 .then(|| BookPlan::new(&config.out_dir, config.split_sections)),
             stats: SectionStats::default(),
             cohort: Cohort::default(),
+            labels: Labels::new(Arc::clone(names)),
             quality: Quality {
                 with_roster: config.roster.is_some(),
                 ..Quality::default()
             },
             parquet: ParquetRows::create(
                 &config.out_dir.join("results.parquet"),
-                config.pseudonyms.clone(),
+                config
+                    .pseudonyms
+                    .as_ref()
+                    .map(|p| p.with_names(Arc::clone(names))),
                 &crate::export::provenance::sha256_hex(config.rubric_text.as_bytes()),
                 stage,
             )?,
@@ -204,10 +219,14 @@ impl Tallies {
     }
 
     pub(super) fn add(&mut self, g: &Graded) -> Result<(), WriteError> {
-        self.stats.add(g);
-        self.cohort.add(g);
-        self.quality.add(g);
         self.parquet.add(g)?;
+        // the graded workbooks' Statistics sheets find their sections by the labels as read
+        self.stats.add(g);
+        // the summaries name no student: labels holding a name are told without it
+        let told = self.labels.row(g);
+        let labelled = told.as_ref().unwrap_or(g);
+        self.cohort.add(labelled);
+        self.quality.add(labelled);
         // each graded student once: a repeat that does not count has no grade of its own
         if let (false, Some(l)) = (g.assessed.has(Flag::DuplicateStudent), &g.score.letter) {
             *self.letters.entry(l.clone()).or_default() += 1;
@@ -270,6 +289,8 @@ impl Tallies {
         stage: &Stage,
     ) -> Result<(), RunError> {
         let dir = &config.out_dir;
+        let told = self.labels.section_stats(stats);
+        let stats = told.as_ref();
         section_stats::write(&dir.join("section-stats.csv"), stats, stage)?;
         let mismatch = config
             .baseline

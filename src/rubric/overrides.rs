@@ -67,6 +67,30 @@ pub struct Overrides {
     used: Vec<bool>,
 }
 
+/// The first characters after which a spreadsheet runs a cell as a formula (OWASP's CSV
+/// injection guidance, common practice), and the quote that guards them.
+const FORMULA_START: [char; 7] = ['=', '+', '-', '@', '\t', '\r', '\0'];
+
+/// A cell of overrides.csv as it is written: a value that a spreadsheet would run as a formula
+/// (`=HYPERLINK(...)`, `@SUM(...)`, `-2+3`) gets a leading `'`, as every output CSV's text
+/// does; so does a value that itself begins with `'`, so that `unguard` gives back every value
+/// exactly.
+pub fn guard(value: &str) -> std::borrow::Cow<'_, str> {
+    match value.chars().next() {
+        Some(c) if c == '\'' || FORMULA_START.contains(&c) => format!("'{value}").into(),
+        _ => value.into(),
+    }
+}
+
+/// A cell as read: the guard `guard` adds taken off (a `'` before a formula character or
+/// another `'`); any other text as it is, so a hand-made file reads as before.
+pub fn unguard(cell: &str) -> &str {
+    match cell.strip_prefix('\'') {
+        Some(rest) if rest.starts_with(|c: char| c == '\'' || FORMULA_START.contains(&c)) => rest,
+        _ => cell,
+    }
+}
+
 fn column(headers: &csv::StringRecord, names: &[&str]) -> Option<usize> {
     headers
         .iter()
@@ -245,7 +269,7 @@ impl FileColumns {
     fn typed<'a>(&self, rec: &'a csv::StringRecord) -> Typed<'a> {
         let get = |c: Option<usize>| {
             c.and_then(|c| rec.get(c))
-                .map(str::trim)
+                .map(|s| unguard(s.trim()).trim())
                 .filter(|s| !s.is_empty())
         };
         Typed {
@@ -401,6 +425,63 @@ mod tests {
             .unwrap_err()
             .to_string();
         assert!(e.contains("reason"), "{e}");
+    }
+
+    /// The values issue 20 found written unguarded, each written as the page writes it and
+    /// read back as `--overrides` reads it. The guarded forms are OWASP's CSV injection rule
+    /// (common practice): a leading `'` before `= + - @`, a tab or a carriage return.
+    #[test]
+    fn guarded_values_round_trip_through_the_file() {
+        let table = [
+            (
+                "=HYPERLINK(\"http://example.invalid\",\"x\")",
+                "'=HYPERLINK(\"http://example.invalid\",\"x\")",
+            ),
+            ("@SUM(A1:A9)", "'@SUM(A1:A9)"),
+            ("-2+3", "'-2+3"),
+            ("=2026002", "'=2026002"),
+            ("+5", "'+5"),
+            ("'quoted", "''quoted"),
+            ("O'Brien", "O'Brien"),
+            ("re-weighed", "re-weighed"),
+        ];
+        for (value, written) in table {
+            assert_eq!(guard(value), written);
+            assert_eq!(unguard(written), value);
+        }
+        // a whole file: the guarded cells load as the values, numbers included
+        let mut text = String::from("student_id,criterion,points,adjust,reason,grader\n");
+        let row = [
+            "=2026002",
+            "total",
+            "",
+            "-2",
+            "=HYPERLINK(\"a\")",
+            "@SUM(A1)",
+        ];
+        let mut w = csv::Writer::from_writer(Vec::new());
+        w.write_record(row.iter().map(|v| guard(v).into_owned()))
+            .unwrap();
+        text.push_str(&String::from_utf8(w.into_inner().unwrap()).unwrap());
+        assert!(text.contains("'=2026002") && text.contains("'-2"), "{text}");
+        let o = load(&text).unwrap();
+        let got = &o.list()[0];
+        assert_eq!(got.student_id, "=2026002");
+        assert_eq!(got.change, Change::Adjust(-2.0));
+        assert_eq!(got.reason, "=HYPERLINK(\"a\")");
+        assert_eq!(got.grader, "@SUM(A1)");
+    }
+
+    proptest::proptest! {
+        /// Any value (trimmed, as the reader trims) written guarded reads back as itself, and
+        /// no written cell begins with a formula character.
+        #[test]
+        fn any_value_round_trips(v in "\\PC{0,12}") {
+            let v = v.trim();
+            let written = guard(v);
+            proptest::prop_assert!(!written.starts_with(FORMULA_START));
+            proptest::prop_assert_eq!(unguard(written.trim()).trim(), v);
+        }
     }
 
     /// An override holds what its criterion can: 0 to its points, an adjustment at most that far

@@ -93,6 +93,7 @@ fn summary_json(s: &RunState) -> Value {
         "summary": o.summary,
         "error": o.error,
         "millis": o.millis,
+        "set_aside": o.set_aside,
     })
 }
 
@@ -120,6 +121,7 @@ fn run_json(o: &Outcome) -> Value {
         "error": o.error,
         "problems": o.problems,
         "millis": o.millis,
+        "set_aside": o.set_aside,
     })
 }
 
@@ -178,10 +180,12 @@ pub async fn list_files(State(app): State<Arc<App>>) -> Reply {
             json!({"name": f.name, "size": f.size, "problems": problems, "sheets": sheets})
         })
         .collect();
+    // the files set aside in quarantine/ are told there too, with why
     let elsewhere: Vec<_> = outcome
         .problems
         .iter()
         .filter(|p| !files.iter().any(|f| f.name == p.file))
+        .chain(&outcome.set_aside)
         .collect();
     Ok(Json(json!({
         "files": listed,

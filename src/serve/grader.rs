@@ -3,25 +3,28 @@
 //! the revision; the thread grades whenever the revision is ahead of its last run, so changes
 //! that arrive during a run are merged into the next one, and no request waits for a run
 //! unless it asks to. The outcome of each run (the records of results.json, the problems, the
-//! sheets' layouts) is kept for the page and published through a watch channel.
+//! sheets' layouts) is kept for the page and published through a watch channel. Each run is
+//! a child process (`child`): a file that makes a reader abort costs its run, is set aside in
+//! quarantine/ with a note, and the rest is graded again.
 
-use std::panic::AssertUnwindSafe;
+use std::collections::HashMap;
 use std::path::Path;
 use std::sync::{mpsc, Arc, Mutex, PoisonError};
 use std::time::Instant;
 
-use serde::Serialize;
+use serde::{Deserialize, Serialize};
 use tokio::sync::watch;
 
-use crate::config::Config;
 use crate::ingest::{Problem, SheetReport};
-use crate::pipeline::{Batch, RunError};
+use crate::pipeline::Batch;
 use crate::rubric::Rubric;
+
+use super::child::{self, Ended, Report};
 
 use super::workspace::{Fingerprint, Workspace, GRADED, INPUTS};
 
 /// A run's totals, as `grade` prints them.
-#[derive(Clone, Debug, Serialize)]
+#[derive(Clone, Debug, Serialize, Deserialize)]
 pub struct Summary {
     pub submissions: usize,
     pub files: usize,
@@ -32,7 +35,7 @@ pub struct Summary {
 }
 
 /// A problem a run reported, with the file named as `GET /api/files` names it.
-#[derive(Clone, Debug, Serialize)]
+#[derive(Clone, Debug, Serialize, Deserialize)]
 pub struct FileProblem {
     pub file: String,
     pub sheet: Option<String>,
@@ -41,7 +44,7 @@ pub struct FileProblem {
 }
 
 /// A rubric criterion, for the override form.
-#[derive(Clone, Debug, Serialize)]
+#[derive(Clone, Debug, Serialize, Deserialize)]
 pub struct CriterionInfo {
     pub id: String,
     pub label: String,
@@ -60,8 +63,11 @@ pub struct Outcome {
     pub sheets: Vec<serde_json::Value>,
     pub summary: Option<Summary>,
     pub criteria: Vec<CriterionInfo>,
-    /// Why the run wrote nothing: a configuration error, nothing to grade, a full disk.
+    /// Why the run wrote nothing: a configuration error, nothing to grade, a full disk, a
+    /// run that ended abnormally.
     pub error: Option<String>,
+    /// The files in quarantine/: each ended a run abnormally and is no longer read.
+    pub set_aside: Vec<FileProblem>,
     pub millis: u64,
 }
 
@@ -81,6 +87,8 @@ pub struct Grader {
     wake: Mutex<mpsc::Sender<()>>,
     seen: Mutex<Fingerprint>,
     ws: Workspace,
+    /// Why each file was set aside while this server ran ("quarantine/NAME" -> message).
+    notes: Mutex<HashMap<String, String>>,
 }
 
 fn lock<T>(m: &Mutex<T>) -> std::sync::MutexGuard<'_, T> {
@@ -102,6 +110,7 @@ impl Grader {
             wake: Mutex::new(wake),
             seen: Mutex::new(Fingerprint::default()),
             ws,
+            notes: Mutex::new(HashMap::new()),
         });
         let worker = Arc::clone(&grader);
         std::thread::Builder::new()
@@ -174,73 +183,110 @@ impl Grader {
                     s.grading = true;
                     s.version += 1;
                 });
-                let outcome = Arc::new(run(&self.ws, target, &before));
+                let (outcome, set_aside) = self.run(target, &before);
                 self.state.send_modify(|s| {
                     s.grading = false;
                     s.version += 1;
-                    s.outcome = outcome;
+                    s.outcome = Arc::new(outcome);
                 });
+                // the file that ended the run is out of inputs/: grade the rest again
+                if set_aside {
+                    self.changed();
+                }
             }
         }
     }
 }
 
-/// One run: `benchgrade grade inputs --columns columns.toml --overrides overrides.csv --out
-/// graded`, and what the page needs from it.
-fn run(ws: &Workspace, covers: u64, before: &Outcome) -> Outcome {
-    let started = Instant::now();
-    let mut out = Outcome {
-        covers,
-        criteria: before.criteria.clone(),
-        problems: before.problems.clone(),
-        sheets: before.sheets.clone(),
-        ..Outcome::default()
-    };
-    match Config::build(ws.options()) {
-        Ok(config) => {
-            out.criteria = criteria(&config.rubric);
-            let result = std::panic::catch_unwind(AssertUnwindSafe(|| crate::grade(&config)));
-            settle(&mut out, result);
-        }
-        Err(e) => {
-            out.error = Some(e.to_string());
-            out.records = read_records().unwrap_or_default();
-        }
-    }
-    out.millis = started.elapsed().as_millis() as u64;
-    out
-}
-
-/// The outcome of a run that was attempted.
-fn settle(out: &mut Outcome, result: std::thread::Result<Result<Batch, RunError>>) {
-    match result {
-        Ok(Ok(batch)) => {
-            out.summary = Some(summary(&batch));
-            out.problems = batch.problems.iter().map(file_problem).collect();
-            out.sheets = batch.sheets.iter().map(sheet).collect();
-            match read_records() {
-                Ok(r) => out.records = r,
-                Err(e) => out.error = Some(e),
+impl Grader {
+    /// One run: `benchgrade grade inputs --columns columns.toml --overrides overrides.csv
+    /// --out graded` in a child process, and what the page needs from it; true when a file
+    /// that ended the run abnormally was set aside.
+    fn run(&self, covers: u64, before: &Outcome) -> (Outcome, bool) {
+        let started = Instant::now();
+        let mut out = Outcome {
+            covers,
+            criteria: before.criteria.clone(),
+            problems: before.problems.clone(),
+            sheets: before.sheets.clone(),
+            ..Outcome::default()
+        };
+        let mut set_aside = false;
+        match child::grade(&self.ws) {
+            Ended::Report(r) => settle(&mut out, r),
+            Ended::Abnormal { reading, how } => {
+                let moved = reading.as_deref().and_then(child::set_aside);
+                out.error = Some(self.abnormal(reading.as_deref(), moved.as_deref(), &how));
+                out.records = read_records().unwrap_or_default();
+                set_aside = moved.is_some();
             }
         }
-        Ok(Err(RunError::Nothing { message, problems })) => {
-            out.error = Some(message);
-            out.problems = problems.iter().map(file_problem).collect();
-            out.sheets = Vec::new();
+        out.set_aside = self.set_aside_notes();
+        out.millis = started.elapsed().as_millis() as u64;
+        (out, set_aside)
+    }
+
+    /// The message for a run that ended abnormally, kept as the note of the file set aside.
+    fn abnormal(&self, reading: Option<&str>, moved: Option<&Path>, how: &str) -> String {
+        match (reading, moved) {
+            (Some(file), Some(to)) => {
+                let to = to.display().to_string();
+                let note = format!(
+                    "the grading run {how} while reading {file}; the file was moved to {to} and is no longer graded (most likely a damaged spreadsheet: save it again from a spreadsheet program, check it with `benchgrade check`, and upload it again)"
+                );
+                lock(&self.notes).insert(to, note.clone());
+                format!("{note}; the other files are graded again")
+            }
+            (Some(file), None) => format!(
+                "the grading run {how} while reading {file}; the previous outputs are kept (take the file out of inputs/ and grade again)"
+            ),
+            (None, _) => format!(
+                "the grading run {how} after reading the inputs (a bug); the previous outputs are kept"
+            ),
         }
-        Ok(Err(e)) => {
-            out.error = Some(e.to_string());
-            out.records = read_records().unwrap_or_default();
-        }
-        Err(_) => {
-            out.error =
-                Some("internal error while grading (a bug); the previous outputs are kept".into());
-            out.records = read_records().unwrap_or_default();
+    }
+
+    /// The files in quarantine/, each with why it is there.
+    fn set_aside_notes(&self) -> Vec<FileProblem> {
+        let notes = lock(&self.notes);
+        child::set_aside_files()
+            .into_iter()
+            .map(|file| FileProblem {
+                message: notes.get(&file).cloned().unwrap_or_else(|| {
+                    "set aside by an earlier run, which it ended abnormally; it is not graded (delete it, or save it again from a spreadsheet program and upload it again)".into()
+                }),
+                file,
+                sheet: None,
+                fatal: true,
+            })
+            .collect()
+    }
+}
+
+/// What a run reported, over what the last run found.
+fn settle(out: &mut Outcome, r: Report) {
+    if let Some(c) = r.criteria {
+        out.criteria = c;
+    }
+    if let Some(p) = r.problems {
+        out.problems = p;
+    }
+    if let Some(s) = r.sheets {
+        out.sheets = s;
+    }
+    out.summary = r.summary;
+    out.error = r.error;
+    if r.records {
+        match read_records() {
+            Ok(records) => out.records = records,
+            Err(e) => {
+                out.error.get_or_insert(e);
+            }
         }
     }
 }
 
-fn summary(batch: &Batch) -> Summary {
+pub(super) fn summary(batch: &Batch) -> Summary {
     let t = &batch.tally;
     Summary {
         submissions: t.rows,
@@ -252,7 +298,7 @@ fn summary(batch: &Batch) -> Summary {
     }
 }
 
-fn criteria(rubric: &Rubric) -> Vec<CriterionInfo> {
+pub(super) fn criteria(rubric: &Rubric) -> Vec<CriterionInfo> {
     rubric
         .criteria
         .iter()
@@ -272,7 +318,7 @@ pub fn input_name(source: &str) -> String {
     )
 }
 
-fn file_problem(p: &Problem) -> FileProblem {
+pub(super) fn file_problem(p: &Problem) -> FileProblem {
     FileProblem {
         file: input_name(&p.file),
         sheet: p.sheet.clone(),
@@ -281,7 +327,7 @@ fn file_problem(p: &Problem) -> FileProblem {
     }
 }
 
-fn sheet(report: &SheetReport) -> serde_json::Value {
+pub(super) fn sheet(report: &SheetReport) -> serde_json::Value {
     let mut v = serde_json::to_value(report).unwrap_or_default();
     if let Some(m) = v.as_object_mut() {
         m.insert("file".into(), input_name(&report.source).into());

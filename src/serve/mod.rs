@@ -6,9 +6,12 @@
 //!
 //! `api`: the JSON API; `upload`: spreadsheets in; `outputs`: graded files out; `page`: the
 //! page and its assets; `overrides_file`: overrides.csv as the page edits it; `errors`: the
-//! framework's own error answers, as JSON.
+//! framework's own error answers, as JSON; `connections`: the accept loop, with a cap on
+//! connections and their timeouts; `child`: each grading run in a process of its own.
 
 pub mod api;
+pub mod child;
+pub mod connections;
 pub mod errors;
 pub mod grader;
 pub mod guard;
@@ -200,7 +203,7 @@ async fn serve(
         app.token.as_str()
     );
     announce(opts, &url);
-    let server = axum::serve(listener, router(app));
+    let server = connections::serve(listener, router(app), connections::Limits::from_env());
     tokio::select! {
         r = server => r.map_err(ServeError::Server),
         _ = tokio::signal::ctrl_c() => Ok(()),

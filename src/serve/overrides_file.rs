@@ -1,12 +1,14 @@
 //! `overrides.csv` as the page edits it: read as the command line reads it, an override added
 //! at the end or one taken out by its line, every other line kept as it was (a hand-made file
 //! keeps its columns; one lacking a column the page needs gets it added). The new file is
-//! checked exactly as `--overrides` checks it before it replaces the old one.
+//! checked exactly as `--overrides` checks it before it replaces the old one. Every value is
+//! written guarded against formula injection (`rubric::overrides::guard`) and read back
+//! without the guard, so a value round-trips.
 
 use std::path::Path;
 
 use crate::ingest::delimited;
-use crate::rubric::overrides::{Change, Invalid, Limits, Overrides, Typed};
+use crate::rubric::overrides::{guard, unguard, Change, Invalid, Limits, Overrides, Typed};
 
 use super::workspace::{temporary_path, write_atomically, OVERRIDES, OVERRIDES_HEADER};
 
@@ -77,7 +79,9 @@ fn read_lines() -> Result<Lines, String> {
     for (i, rec) in reader.records().enumerate() {
         let rec = rec.map_err(|e| format!("{OVERRIDES} line {}: {e}", i + 2))?;
         let line = rec.position().map_or(i + 2, |p| p.line() as usize);
-        records.push((line, rec));
+        // the values themselves: `text` guards them again as it writes them
+        let values: csv::StringRecord = rec.iter().map(unguard).collect();
+        records.push((line, values));
     }
     Ok(Lines { header, records })
 }
@@ -117,7 +121,9 @@ impl Lines {
         let fail = |e: csv::Error| format!("cannot write {OVERRIDES}: {e}");
         w.write_record(&self.header).map_err(fail)?;
         for (_, r) in &self.records {
-            w.write_record(r).map_err(fail)?;
+            // guarded against formula injection like every CSV benchgrade writes
+            w.write_record(r.iter().map(|v| guard(v).into_owned()))
+                .map_err(fail)?;
         }
         w.into_inner()
             .map_err(|e| format!("cannot write {OVERRIDES}: {e}"))

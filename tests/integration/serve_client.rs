@@ -29,11 +29,17 @@ impl Server {
     }
 
     pub fn start_with(workspace: &Path, extra: &[&str]) -> Server {
+        Server::start_env(workspace, extra, &[])
+    }
+
+    /// With environment variables set for the server (the test hooks).
+    pub fn start_env(workspace: &Path, extra: &[&str], env: &[(&str, &str)]) -> Server {
         let mut child = Command::new(env!("CARGO_BIN_EXE_benchgrade"))
             .arg("serve")
             .arg(workspace)
             .args(["--port", "0"])
             .args(extra)
+            .envs(env.iter().copied())
             .stdout(Stdio::piped())
             .stderr(Stdio::piped())
             .spawn()
