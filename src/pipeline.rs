@@ -449,7 +449,10 @@ fn section_centres(
     )?;
     centres.settle(config.rubric.tolerances.outlier_min_n);
     // the roster's names are the batch's too, submitted or not
-    let enrolled = config.roster.iter().flat_map(|r| r.students());
+    let enrolled = config
+        .roster
+        .iter()
+        .flat_map(crate::assess::roster::Roster::students);
     for name in enrolled.filter_map(|e| e.name.as_deref()) {
         names.add(name);
     }
