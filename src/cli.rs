@@ -11,7 +11,7 @@ use clap::{Args, Parser, Subcommand};
     version,
     about = "Grades recrystallization lab submissions: recomputes recovery and melting ranges, flags impossible and suspicious entries",
     long_about = None,
-    after_help = "Exit codes: 0 every input was read (flags are data); 1 some input could not be read (the rest is still graded); 2 a usage, rubric or configuration error, nothing written."
+    after_help = "Exit codes: 0 every input was read (flags are data); 1 some input could not be read, or a sheet lacks a column grading needs (the rest is still graded); 2 a usage, rubric or configuration error, nothing written."
 )]
 pub struct Cli {
     #[command(subcommand)]
