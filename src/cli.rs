@@ -153,4 +153,7 @@ pub struct RunArgs {
     /// applied after scoring
     #[arg(long, value_name = "FILE")]
     pub overrides: Option<PathBuf>,
+    /// Answer key for unknowns: a CSV or spreadsheet with a code column and a compound column
+    #[arg(long, value_name = "FILE")]
+    pub key: Option<PathBuf>,
 }

@@ -42,6 +42,8 @@ pub struct Options {
     pub timestamp: Option<i64>,
     /// The title of the reports; default: the rubric's course, term and experiment name.
     pub title: Option<String>,
+    /// An answer key for unknowns (CSV or spreadsheet: code and compound columns).
+    pub key: Option<PathBuf>,
 }
 
 /// Everything a run needs, validated.
@@ -75,6 +77,10 @@ pub struct Config {
     pub timestamp: i64,
     /// The reports' title: `--title`, else the rubric's course, term and experiment name.
     pub title: String,
+    /// The rubric's `[key]` table, if any.
+    pub key: Option<crate::assess::unknowns::Key>,
+    /// `--key FILE`: read with the inputs (a file that cannot be read is a problem of the run).
+    pub key_file: Option<PathBuf>,
 }
 
 /// An earlier term's results.parquet and its headline figures.
@@ -136,12 +142,24 @@ impl Config {
             reference,
             calibration: calibration_file(&opts, &rubric),
             title: title(opts.title.as_deref(), &rubric),
+            key: rubric_key(&rubric, &rubric_source),
+            key_file: opts.key.clone(),
             rubric,
             rubric_source,
             columns,
             library,
         })
     }
+}
+
+/// The rubric's `[key]` table of unknown codes and compounds.
+fn rubric_key(rubric: &Rubric, source: &str) -> Option<crate::assess::unknowns::Key> {
+    (!rubric.key.is_empty()).then(|| {
+        crate::assess::unknowns::Key::from_pairs(
+            rubric.key.iter().map(|(a, b)| (a.as_str(), b.as_str())),
+            &format!("{source} [key]"),
+        )
+    })
 }
 
 /// `--title`, else the rubric's course, term and experiment name, joined by dashes.

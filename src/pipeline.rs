@@ -20,6 +20,7 @@ use crate::model::{Graded, Score, Tally};
 use crate::rubric::overrides::{Override, Overrides};
 use crate::rubric::score;
 
+mod key;
 mod outputs;
 use outputs::{Tallies, Writers};
 
@@ -86,6 +87,7 @@ fn context<'a>(
         centres: inputs.centres,
         counted: config.rubric.grading.duplicates,
         repeats: inputs.repeats,
+        key: inputs.key,
     }
 }
 
@@ -148,6 +150,8 @@ struct Inputs<'a> {
     repeats: Option<&'a Repeats>,
     /// The first pass's record of what it read, replayed instead of reading `files` again.
     replay: Option<&'a Replay>,
+    /// The answer key for unknowns.
+    key: Option<&'a crate::assess::unknowns::Key>,
 }
 
 impl<'a> Inputs<'a> {
@@ -156,8 +160,10 @@ impl<'a> Inputs<'a> {
         files: &'a [PathBuf],
         calibration: Option<&'a Path>,
         first: &'a FirstPass,
+        key: Option<&'a crate::assess::unknowns::Key>,
     ) -> Inputs<'a> {
         Inputs {
+            key,
             files,
             calibration,
             centres: Some(&first.centres),
@@ -329,6 +335,7 @@ fn section_centres(
     files: &[PathBuf],
     calibration_file: Option<&Path>,
     spill_dir: Option<&Path>,
+    key: Option<&crate::assess::unknowns::Key>,
 ) -> Result<FirstPass, RunError> {
     let mut centres = Centres::default();
     let mut repeats = Repeats::default();
@@ -337,6 +344,7 @@ fn section_centres(
     let mut first_pass = config.clone();
     first_pass.overrides = crate::rubric::overrides::Overrides::default();
     let inputs = Inputs {
+        key,
         files,
         calibration: calibration_file,
         centres: None,
@@ -440,9 +448,16 @@ fn discover_inputs(config: &Config) -> (Batch, Option<PathBuf>) {
 /// Reads, assesses and grades, writing nothing; every row is kept in `Batch::rows`.
 pub fn assess_batch(config: &Config) -> Result<Batch, RunError> {
     let (mut batch, calibration) = discover_inputs(config);
+    let answer_key = key::take_keys(config, &mut batch);
     let files = std::mem::take(&mut batch.files);
-    let first = section_centres(config, &files, calibration.as_deref(), None)?;
-    let inputs = Inputs::second_pass(&files, calibration.as_deref(), &first);
+    let first = section_centres(
+        config,
+        &files,
+        calibration.as_deref(),
+        None,
+        answer_key.as_ref(),
+    )?;
+    let inputs = Inputs::second_pass(&files, calibration.as_deref(), &first, answer_key.as_ref());
     let mut rows = Vec::new();
     stream(
         config,
@@ -560,6 +575,7 @@ pub fn grade_with_progress(
     progress: &mut dyn FnMut(Progress),
 ) -> Result<Batch, RunError> {
     let (mut batch, calibration) = discover_inputs(config);
+    let answer_key = key::take_keys(config, &mut batch);
     refuse_nothing(&batch, config)?;
     batch.problems.extend(baseline_note(config));
     let paths = output_paths(&config.out_dir);
@@ -574,8 +590,9 @@ pub fn grade_with_progress(
         &files,
         calibration.as_deref(),
         Some(&config.out_dir),
+        answer_key.as_ref(),
     )?;
-    let inputs = Inputs::second_pass(&files, calibration.as_deref(), &first);
+    let inputs = Inputs::second_pass(&files, calibration.as_deref(), &first, answer_key.as_ref());
     let mut fan = Fanout::new(threads.targets());
     stream(
         config,

@@ -74,10 +74,7 @@ fn sheet_title(source: &str, sheet: Option<&String>) -> String {
 /// The unit a numeric column was read in, and where it came from.
 fn unit_note(c: &crate::ingest::table::Column) -> String {
     use crate::ingest::table::UnitSource;
-    let Some(f) = c
-        .field
-        .filter(|f| f.is_numeric() || *f == crate::fields::Field::MpRange)
-    else {
+    let Some(f) = c.field.filter(|f| f.is_numeric() || f.is_range()) else {
         return String::new();
     };
     match (c.unit, c.unit_source) {
@@ -90,7 +87,13 @@ fn unit_note(c: &crate::ingest::table::Column) -> String {
 fn default_unit(f: crate::fields::Field) -> &'static str {
     use crate::fields::Field;
     match f {
-        Field::CrudeMass | Field::RecoveredMass => "g",
+        Field::CrudeMass
+        | Field::RecoveredMass
+        | Field::Tare
+        | Field::CrudeTare
+        | Field::CrudeGross
+        | Field::RecoveredTare
+        | Field::RecoveredGross => "g",
         Field::SolventVolume => "mL",
         Field::ReportedRecovery => "%",
         _ => "°C",
@@ -139,6 +142,9 @@ pub fn layouts(sheets: &[SheetReport], style: Style) -> String {
                 format!("\"{}\"", printable(&c.header)),
                 target
             );
+        }
+        for p in &s.layout.pairings {
+            let _ = writeln!(out, "    {p}");
         }
     }
     out

@@ -30,9 +30,26 @@ enum Kind {
 
 fn kind(field: Field) -> Kind {
     match field {
-        Field::CrudeMass | Field::RecoveredMass => Kind::Mass,
+        Field::CrudeMass
+        | Field::RecoveredMass
+        | Field::Tare
+        | Field::CrudeTare
+        | Field::CrudeGross
+        | Field::RecoveredTare
+        | Field::RecoveredGross => Kind::Mass,
         Field::SolventVolume => Kind::Volume,
-        Field::MpOnset | Field::MpClear | Field::MpRange => Kind::Temperature,
+        Field::MpOnset
+        | Field::MpClear
+        | Field::MpRange
+        | Field::CrudeMpRange
+        | Field::CrudeMpOnset
+        | Field::CrudeMpClear
+        | Field::MpTrialRange
+        | Field::MpTrialOnset
+        | Field::MpTrialClear
+        | Field::MixedMpRange
+        | Field::MixedMpOnset
+        | Field::MixedMpClear => Kind::Temperature,
         _ => Kind::Percent,
     }
 }
@@ -181,6 +198,8 @@ fn set_text(sub: &mut Submission, field: Field, text: Option<String>) {
         Field::Solvent => &mut sub.solvent,
         Field::Status => &mut sub.status,
         Field::Notes => &mut sub.remarks,
+        Field::UnknownCode => &mut sub.unknown_code,
+        Field::IdentifiedAs => &mut sub.identified_as,
         _ => return,
     };
     *slot = text;
@@ -221,9 +240,62 @@ fn set_number(sub: &mut Submission, field: Field, value: Option<f64>) {
         Field::MpOnset => &mut sub.mp_onset_c,
         Field::MpClear => &mut sub.mp_clear_c,
         Field::ReportedRecovery => &mut sub.reported_recovery_pct,
+        Field::CrudeMpOnset => &mut sub.crude_mp_onset_c,
+        Field::CrudeMpClear => &mut sub.crude_mp_clear_c,
+        Field::CrudeTare => &mut sub.crude_tare_g,
+        Field::CrudeGross => &mut sub.crude_gross_g,
+        Field::RecoveredTare => &mut sub.recovered_tare_g,
+        Field::RecoveredGross => &mut sub.recovered_gross_g,
+        Field::MixedMpOnset => &mut sub.mixed_mp_onset_c,
+        Field::MixedMpClear => &mut sub.mixed_mp_clear_c,
         _ => return,
     };
     *slot = value;
+}
+
+/// The repeat determinations of a row as they are read, in sheet order: ranges, and onsets and
+/// clear points paired by their order.
+#[derive(Default)]
+struct Trials {
+    ranges: Vec<Option<(f64, f64)>>,
+    onsets: Vec<Option<f64>>,
+    clears: Vec<Option<f64>>,
+    tare: Option<f64>,
+}
+
+impl Trials {
+    /// Keeps a trial value or a shared tare; false for any other field.
+    fn take(&mut self, field: Field, value: Option<f64>) -> bool {
+        match field {
+            Field::MpTrialOnset => self.onsets.push(value),
+            Field::MpTrialClear => self.clears.push(value),
+            Field::Tare => self.tare = value,
+            _ => return false,
+        }
+        true
+    }
+
+    /// The trials given (a blank one left out), and a tare weighed once for both products
+    /// where no own tare was read.
+    fn finish(self, sub: &mut Submission) {
+        let paired = (0..self.onsets.len().max(self.clears.len())).map(|i| {
+            let o = self.onsets.get(i).copied().flatten();
+            let c = self.clears.get(i).copied().flatten();
+            (o.or(c), c.or(o))
+        });
+        sub.mp_trials = self
+            .ranges
+            .into_iter()
+            .map(|r| r.map_or((None, None), |(o, c)| (Some(o), Some(c))))
+            .chain(paired)
+            .filter(|(o, c)| o.is_some() || c.is_some())
+            .map(|(onset, clear)| super::submission::Trial { onset, clear })
+            .collect();
+        if let Some(t) = self.tare {
+            sub.crude_tare_g.get_or_insert(t);
+            sub.recovered_tare_g.get_or_insert(t);
+        }
+    }
 }
 
 /// Reads one student row.
@@ -243,12 +315,13 @@ pub fn read_row(row: &RawRow, layout: &Layout, origin: &Origin) -> Submission {
     };
     sub.no_column.clone_from(&layout.absent);
     let (mut last, mut first) = (None, None);
+    let mut trials = Trials::default();
     for column in &layout.columns {
         let Some(field) = column.field else { continue };
         let cell = row.get(column.index);
         let at = || cell_ref(origin.sheet, row.index, column.index);
-        let read = if field == Field::MpRange {
-            read_range_into(&mut sub, cell, column, origin.decimal, &at)
+        let read = if field.is_range() {
+            read_range_into(&mut sub, &mut trials, cell, column, origin.decimal, &at)
         } else if field.is_numeric() {
             if field == Field::ReportedRecovery {
                 // a value shown with its percent sign is a percentage as it stands
@@ -258,7 +331,11 @@ pub fn read_row(row: &RawRow, layout: &Layout, origin: &Origin) -> Submission {
                     _ => false,
                 };
             }
-            read_number(cell, column, origin.decimal).map(|v| set_number(&mut sub, field, v))
+            read_number(cell, column, origin.decimal).map(|v| {
+                if !trials.take(field, v) {
+                    set_number(&mut sub, field, v);
+                }
+            })
         } else if let Cell::Error(_) = cell {
             Err(found_instead(cell))
         } else {
@@ -286,6 +363,7 @@ pub fn read_row(row: &RawRow, layout: &Layout, origin: &Origin) -> Submission {
         }
     }
     join_name(&mut sub, last, first);
+    trials.finish(&mut sub);
     one_reading_of_two(&mut sub, layout);
     sub
 }
@@ -309,31 +387,48 @@ fn one_reading_of_two(sub: &mut Submission, layout: &Layout) {
     }
 }
 
-/// Reads a melting-range cell into the submission's onset and clear point.
+/// Reads a melting-range cell into the submission's onset and clear point (the crude
+/// product's, the mixture's, or a trial's, by the column's field).
 fn read_range_into(
     sub: &mut Submission,
+    trials: &mut Trials,
     cell: &Cell,
     column: &Column,
     decimal: Decimal,
     at: &dyn Fn() -> String,
 ) -> Result<(), String> {
-    if let Some((onset, clear, single, completed)) = read_range(cell, column, decimal)? {
-        sub.mp_onset_c = Some(onset);
-        sub.mp_clear_c = Some(clear);
-        if completed {
-            sub.notes.push(format!(
-                "{}: \"{}\" read as {onset:.1}-{clear:.1} °C (the clear point written by its last digits)",
-                at(),
-                cell.as_text().unwrap_or_default()
-            ));
+    let read = read_range(cell, column, decimal)?;
+    let field = column.field.unwrap_or(Field::MpRange);
+    let (onset_slot, clear_slot) = match field {
+        Field::CrudeMpRange => (&mut sub.crude_mp_onset_c, &mut sub.crude_mp_clear_c),
+        Field::MixedMpRange => (&mut sub.mixed_mp_onset_c, &mut sub.mixed_mp_clear_c),
+        Field::MpTrialRange => {
+            trials.ranges.push(read.map(|(o, c, _, _)| (o, c)));
+            return Ok(());
         }
-        if single {
-            sub.single_reading = true;
-            sub.notes.push(format!(
-                "{}: one melting value given; taken as both onset and clear point",
-                at()
-            ));
-        }
+        _ => (&mut sub.mp_onset_c, &mut sub.mp_clear_c),
+    };
+    let Some((onset, clear, single, completed)) = read else {
+        return Ok(());
+    };
+    *onset_slot = Some(onset);
+    *clear_slot = Some(clear);
+    if field != Field::MpRange {
+        return Ok(());
+    }
+    if completed {
+        sub.notes.push(format!(
+            "{}: \"{}\" read as {onset:.1}-{clear:.1} °C (the clear point written by its last digits)",
+            at(),
+            cell.as_text().unwrap_or_default()
+        ));
+    }
+    if single {
+        sub.single_reading = true;
+        sub.notes.push(format!(
+            "{}: one melting value given; taken as both onset and clear point",
+            at()
+        ));
     }
     Ok(())
 }

@@ -38,6 +38,10 @@ pub struct Column {
     pub unit_source: Option<UnitSource>,
     /// Why the column is not used, when it is not.
     pub note: Option<String>,
+    /// Most of its filled cells under the header hold text that is no number: never offered
+    /// as a numeric field.
+    #[serde(skip)]
+    pub text_cells: bool,
 }
 
 /// The located table: where its header is and what each column means.
@@ -57,6 +61,8 @@ pub struct Layout {
     /// recovery), so that a blank cell and a sheet without the column can be told apart.
     #[serde(skip)]
     pub absent: Vec<Field>,
+    /// How columns pair up into one value ("crude mass = E - D"), for `check`.
+    pub pairings: Vec<String>,
 }
 
 impl Layout {
@@ -69,6 +75,7 @@ impl Layout {
         [Field::MpRange, Field::MpOnset, Field::MpClear]
             .iter()
             .any(|f| self.column(*f).is_some())
+            || super::experiment::has_trials(&self.columns)
     }
 
     /// The message for a sheet with no column for a field grading needs: which, the headers
@@ -123,7 +130,7 @@ fn example_columns<'c>(unused: &[&'c Column], missing: &[Field]) -> Vec<(&'c Col
     for f in missing {
         let names_it = |c: &&&Column| c.note.as_deref().is_some_and(|n| n.contains(f.label()));
         let unknown = |c: &&&Column| c.note.is_none();
-        let free = |c: &&&Column| !taken.contains(&c.index);
+        let free = |c: &&&Column| !taken.contains(&c.index) && !contradicts(c, *f);
         let pick = unused
             .iter()
             .filter(free)
@@ -135,6 +142,22 @@ fn example_columns<'c>(unused: &[&'c Column], missing: &[Field]) -> Vec<(&'c Col
         }
     }
     out
+}
+
+/// Whether a column's cells or header unit contradict a field: text where a number belongs,
+/// a unit of another quantity (a volume for a mass), a weighing of a container.
+fn contradicts(c: &Column, f: Field) -> bool {
+    let numeric = f.is_numeric() || f.is_range() || f.is_required() && f != Field::StudentId;
+    let unit_clash = match (c.unit, f) {
+        (Some(u), Field::CrudeMass | Field::RecoveredMass) => !matches!(u, Unit::Mass(_)),
+        (Some(u), _) if f.is_range() || matches!(f, Field::MpOnset | Field::MpClear) => {
+            !matches!(u, Unit::Temperature(_))
+        }
+        _ => false,
+    };
+    let header = parse_header(&c.header);
+    let weighing = matches!(super::headers::classify(&header), HeaderMeaning::NotOwn(_));
+    numeric && c.text_cells || unit_clash || weighing
 }
 
 /// Why a sheet's table could not be used.
@@ -171,6 +194,7 @@ fn header_columns(row: &RawRow, overrides: &ColumnOverrides) -> Vec<(Column, Hea
                     _ => None,
                 },
                 explicit,
+                text_cells: false,
                 note: match m {
                     HeaderMeaning::NotOwn(why) => Some(format!("not used: {why}")),
                     _ => None,
@@ -220,17 +244,21 @@ pub fn locate(sheet: &RawSheet, overrides: &ColumnOverrides) -> Result<Layout, L
     let (pos, cols, _) = best.ok_or(LayoutError::NoTable)?;
     let mut columns = resolve(cols);
     let units_row = units_row(sheet, pos, &mut columns);
+    mark_text_columns(sheet, pos, &mut columns);
     let mut layout = Layout {
         header_pos: pos,
         header_row: sheet.rows[pos].index + 1,
         units_row,
+        pairings: super::experiment::pairings(&columns),
         columns,
         missing: Vec::new(),
         absent: Vec::new(),
     };
+    // a mass weighed by difference has its columns (a gross and a tare)
     layout.missing = Field::ALL
         .into_iter()
         .filter(|f| f.is_required() && layout.column(*f).is_none())
+        .filter(|f| super::experiment::by_difference(&layout.columns, *f).is_none())
         .collect();
     if !layout.has_melting() {
         layout.missing.push(Field::MpRange);
@@ -240,6 +268,30 @@ pub fn locate(sheet: &RawSheet, overrides: &ColumnOverrides) -> Result<Layout, L
         .filter(|f| layout.column(*f).is_none())
         .collect();
     Ok(layout)
+}
+
+/// Marks the columns whose filled cells (of the first 30 rows under the header) are mostly text
+/// that reads as no number.
+fn mark_text_columns(sheet: &RawSheet, header_pos: usize, columns: &mut [Column]) {
+    let rows: Vec<&RawRow> = sheet.rows.iter().skip(header_pos + 1).take(30).collect();
+    for c in columns.iter_mut() {
+        let (mut text, mut filled) = (0, 0);
+        for r in &rows {
+            let cell = r.get(c.index);
+            if cell.is_empty() {
+                continue;
+            }
+            filled += 1;
+            if let super::cells::Cell::Text(t) = cell {
+                let number = super::values::parse_quantity(t, super::values::Decimal::Point)
+                    .is_some()
+                    || super::values::parse_quantity(t, super::values::Decimal::Comma).is_some()
+                    || super::range::parse_range(t, super::values::Decimal::Point).is_some();
+                text += usize::from(!number);
+            }
+        }
+        c.text_cells = filled > 0 && text * 2 > filled;
+    }
 }
 
 /// The unit a units-row cell names: "g", "(g)", "[mg]", "°C", "%"; any case.
@@ -334,22 +386,59 @@ fn resolve(cols: Vec<(Column, HeaderMeaning)>) -> Vec<Column> {
         }
         columns.push(c);
     }
-    for field in Field::ALL {
+    super::experiment::pair_tares(&mut columns);
+    for field in Field::ALL.into_iter().filter(|f| !f.repeats()) {
         settle_claims(&mut columns, field);
     }
-    let has_pair = columns.iter().any(|c| c.field == Some(Field::MpOnset))
-        && columns.iter().any(|c| c.field == Some(Field::MpClear));
-    if has_pair {
-        for c in columns
-            .iter_mut()
-            .filter(|c| c.field == Some(Field::MpRange))
-        {
-            c.field = None;
-            c.note =
+    for (range, onset, clear) in [
+        (Field::MpRange, Field::MpOnset, Field::MpClear),
+        (
+            Field::CrudeMpRange,
+            Field::CrudeMpOnset,
+            Field::CrudeMpClear,
+        ),
+        (
+            Field::MixedMpRange,
+            Field::MixedMpOnset,
+            Field::MixedMpClear,
+        ),
+    ] {
+        range_or_pair(&mut columns, range, onset, clear);
+    }
+    columns
+}
+
+/// A range column beside separate onset and clear-point columns: the pair is read, unless the
+/// range column alone was mapped by hand (a field mapped by hand belongs to that column alone).
+fn range_or_pair(columns: &mut [Column], range: Field, onset: Field, clear: Field) {
+    let has = |f: Field| {
+        columns
+            .iter()
+            .find(|c| c.field == Some(f))
+            .map(|c| c.explicit)
+    };
+    let (Some(range_explicit), Some(o), Some(c)) = (has(range), has(onset), has(clear)) else {
+        return;
+    };
+    let range_wins = range_explicit && !o && !c;
+    let letter = columns
+        .iter()
+        .find(|c| c.field == Some(range))
+        .map(|c| c.letter.clone())
+        .unwrap_or_default();
+    for col in columns.iter_mut() {
+        if range_wins && (col.field == Some(onset) || col.field == Some(clear)) {
+            col.field = None;
+            col.note = Some(format!(
+                "not used: the {} is mapped explicitly to column {letter}",
+                range.label()
+            ));
+        } else if !range_wins && col.field == Some(range) {
+            col.field = None;
+            col.note =
                 Some("not used: separate onset and clear-point columns are read instead".into());
         }
     }
-    columns
 }
 
 /// Two or more columns that claim `field`: an explicit mapping wins; else none is used.
@@ -368,8 +457,9 @@ fn settle_claims(columns: &mut [Column], field: Field) {
     let keep = (explicit.len() == 1).then(|| explicit[0]);
     let letters: Vec<String> = claims.iter().map(|&i| columns[i].letter.clone()).collect();
     for &i in &claims {
+        // the column mapped by hand keeps the field; every other claim is set aside with a note
         if Some(i) == keep {
-            return;
+            continue;
         }
         columns[i].field = None;
         columns[i].note = Some(match keep {

@@ -21,6 +21,11 @@ pub enum Flag {
     OutsideCalibratedSpan,
     Outlier,
     SingleReading,
+    NoPurificationShown,
+    NetMismatch,
+    GrossBelowTare,
+    TrialsDisagree,
+    MixedMpContradicts,
 }
 
 /// Whether a flag marks an entry that cannot be true or one that only looks wrong.
@@ -49,7 +54,7 @@ impl Severity {
 }
 
 impl Flag {
-    pub const ALL: [Flag; 16] = [
+    pub const ALL: [Flag; 21] = [
         Flag::RecoveryOver100,
         Flag::RangeInverted,
         Flag::AboveReference,
@@ -66,6 +71,11 @@ impl Flag {
         Flag::OutsideCalibratedSpan,
         Flag::Outlier,
         Flag::SingleReading,
+        Flag::NoPurificationShown,
+        Flag::NetMismatch,
+        Flag::GrossBelowTare,
+        Flag::TrialsDisagree,
+        Flag::MixedMpContradicts,
     ];
 
     pub fn code(self) -> &'static str {
@@ -86,6 +96,11 @@ impl Flag {
             Flag::OutsideCalibratedSpan => "outside-calibrated-span",
             Flag::Outlier => "outlier",
             Flag::SingleReading => "single-reading",
+            Flag::NoPurificationShown => "no-purification-shown",
+            Flag::NetMismatch => "net-mismatch",
+            Flag::GrossBelowTare => "gross-below-tare",
+            Flag::TrialsDisagree => "trials-disagree",
+            Flag::MixedMpContradicts => "mixed-mp-contradicts",
         }
     }
 
@@ -98,7 +113,11 @@ impl Flag {
             | Flag::SolventBelowMinimum
             | Flag::OutsideCalibratedSpan
             | Flag::Outlier
-            | Flag::SingleReading => Severity::Suspicious,
+            | Flag::SingleReading
+            | Flag::NoPurificationShown
+            | Flag::NetMismatch
+            | Flag::TrialsDisagree
+            | Flag::MixedMpContradicts => Severity::Suspicious,
             _ => Severity::Impossible,
         }
     }
@@ -123,6 +142,11 @@ impl Flag {
             Flag::OutsideCalibratedSpan => "a reading beyond the temperatures of the apparatus's calibration standards",
             Flag::Outlier => "recovery or depression far from the section's median (robust z-score beyond 3.5, in a section of at least outlier_min_n rows)",
             Flag::SingleReading => "the melting entry is one temperature, not a range: its width was not measured",
+            Flag::NoPurificationShown => "the recrystallized melting range is no higher and no narrower than the crude product's: the recrystallization shows no purification",
+            Flag::NetMismatch => "the net mass written disagrees with the difference of the gross and tare weighings by more than the balance's resolution",
+            Flag::GrossBelowTare => "the container with the product weighs less than the empty container",
+            Flag::TrialsDisagree => "repeat melting-point determinations differ by more than the tolerance",
+            Flag::MixedMpContradicts => "the mixed melting point with the compound named is depressed: the unknown is likely not that compound",
         }
     }
 
@@ -146,6 +170,11 @@ impl Flag {
             Flag::OutsideCalibratedSpan => "a reading outside the calibrated span",
             Flag::Outlier => "far from the rest of the section",
             Flag::SingleReading => "one temperature is not a range",
+            Flag::NoPurificationShown => "the recrystallization shows no purification",
+            Flag::NetMismatch => "the net mass disagrees with the weighings",
+            Flag::GrossBelowTare => "a gross weighing below its tare",
+            Flag::TrialsDisagree => "the trials disagree",
+            Flag::MixedMpContradicts => "the mixed melting point contradicts the identification",
         }
     }
 }

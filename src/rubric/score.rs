@@ -440,6 +440,7 @@ mod tests {
             calibration: None,
             flags: Vec::new(),
             excused: None,
+            workup: crate::model::Workup::default(),
         }
     }
 

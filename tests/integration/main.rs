@@ -12,6 +12,7 @@ mod bad_corpus;
 mod bad_input;
 mod browser;
 mod cohort;
+mod experiment;
 mod grading;
 mod harness;
 mod ingest_messy;
