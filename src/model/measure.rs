@@ -306,10 +306,10 @@ pub mod sentences {
         let _ = match (x >= 0.5, named) {
             (true, Some(n)) => write!(out, "the unknown was correctly identified as {n}"),
             (true, None) => write!(out, "the unknown was correctly identified"),
-            (false, Some(n)) => write!(out, "the unknown was identified as {n}; it was {key}"),
+            (false, Some(n)) => write!(out, "the unknown was identified as {n}, but it was {key}"),
             (false, None) => write!(
                 out,
-                "no identification of the unknown was given; it was {key}"
+                "no identification of the unknown was given (it was {key})"
             ),
         };
     }

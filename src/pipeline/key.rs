@@ -65,8 +65,9 @@ pub fn take_keys(config: &Config, batch: &mut Batch) -> Option<Key> {
                     file: source,
                     sheet: None,
                     message: format!(
-                        "read as an answer key for unknowns ({} codes), not graded",
-                        pairs.len()
+                        "read as an answer key for unknowns ({} code{}), not graded",
+                        pairs.len(),
+                        if pairs.len() == 1 { "" } else { "s" }
                     ),
                     fatal: false,
                 });

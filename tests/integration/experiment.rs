@@ -277,3 +277,59 @@ fn which_column_holds_what() {
     assert!(!line.contains("\"column D\" = \"crude_mass\""), "{line}");
     assert!(!line.contains("\"column E\" = \"crude_mass\""), "{line}");
 }
+
+/// The shipped unknown-identification rubric scores the new measures, and every student's
+/// feedback adds up to the total.
+#[test]
+fn the_unknown_identification_rubric() {
+    let f = Fixture::new();
+    f.write(
+        "unk.csv",
+        "Student ID,Unknown #,Identified as,Crude (g),Recovered (g),Crude mp (°C),mp Trial 1,mp Trial 2\n\
+         s1,U-1,acetanilide,3.0,2.25,110.0-113.0,113.4-114.2,113.6-114.4\n\
+         s2,U-1,benzoic acid,3.0,2.25,110.0-113.0,113.4-114.2,113.6-114.4\n",
+    );
+    f.write("key.csv", "Code,Compound\nU-1,acetanilide\n");
+    let rubric = std::path::Path::new(env!("CARGO_MANIFEST_DIR"))
+        .join("rubrics/unknown-identification.toml");
+    let r = grade(
+        &f,
+        &[
+            "unk.csv",
+            "--key",
+            "key.csv",
+            "--rubric",
+            rubric.to_str().unwrap(),
+        ],
+    );
+    // hand-worked: identification pass 30 or 0; recovery 100 x 2.25 / 3.0 = 75 %, full 20;
+    // clear point mean (114.2 + 114.4) / 2 = 114.3, rise 114.3 - 113.0 = 1.3 of 2.0, so
+    // 15 x 1.3 / 2.0 = 9.75, rounded to the rubric's 0.5 steps: 10; mean onset 113.5, width 0.8, 15 points, crude width 3.0, narrowing
+    // 3.0 - 0.8 = 2.2, full 10; trials 0.2 apart, 10 points
+    assert_eq!(r[0]["points_identification"], "30");
+    assert_eq!(r[1]["points_identification"], "0");
+    close(&r[0], "points_purification", 10.0);
+    close(&r[0], "points_narrowing", 10.0);
+    close(&r[0], "points_trials", 10.0);
+    close(&r[0], "points_recovery", 20.0);
+    close(&r[0], "points_range", 15.0);
+    let labels = [
+        "Identification of the unknown",
+        "Recovery",
+        "Melting point rise on recrystallization",
+        "Range narrowing on recrystallization",
+        "Melting range",
+        "Agreement of the two capillaries",
+    ];
+    for row in &r {
+        let total = benchgrade::rubric::score::audit_feedback(&row["feedback"], &labels)
+            .unwrap_or_else(|e| panic!("{e}: {}", row["feedback"]));
+        close(row, "score", total);
+    }
+    assert!(r[0]["feedback"].contains("correctly identified as acetanilide"));
+    assert!(
+        r[1]["feedback"].contains("but it was acetanilide"),
+        "{}",
+        r[1]["feedback"]
+    );
+}
