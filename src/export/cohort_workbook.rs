@@ -249,6 +249,20 @@ fn quality(wb: &mut Workbook, r: &Report, f: &Formats) -> Result<(), XlsxError> 
     Ok(())
 }
 
+/// Unknowns identified against the key, by section and by code (a sheet only when there are any).
+fn unknowns(wb: &mut Workbook, r: &Report, f: &Formats) -> Result<(), XlsxError> {
+    let ids = &r.cohort.identifications;
+    if ids.is_empty() {
+        return Ok(());
+    }
+    let ws = wb.add_worksheet().set_name("Unknowns")?;
+    let next = write_table(ws, 0, &report::identification_sections_table(ids), f)?;
+    write_table(ws, next + 1, &report::identification_codes_table(ids), f)?;
+    ws.set_freeze_panes(0, 0)?;
+    print_setup(ws);
+    Ok(())
+}
+
 fn comparisons(wb: &mut Workbook, r: &Report, f: &Formats) -> Result<(), XlsxError> {
     let ws = wb.add_worksheet().set_name("Comparisons")?;
     write_table(ws, 0, &report::comparisons_table(r.comparisons), f)?;
@@ -333,6 +347,7 @@ fn build(r: &Report, timestamp: i64) -> Result<Workbook, XlsxError> {
     overview(&mut wb, r, &f)?;
     sections(&mut wb, r, &f)?;
     quality(&mut wb, r, &f)?;
+    unknowns(&mut wb, r, &f)?;
     comparisons(&mut wb, r, &f)?;
     benches(&mut wb, r, &f)?;
     grades(&mut wb, r, &f)?;

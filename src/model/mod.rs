@@ -262,6 +262,32 @@ pub fn without_cell_text(text: &str, a: &Assessed) -> String {
     out
 }
 
+/// Matching key for an unknown's code: lower case, letters and digits, a leading "unknown",
+/// "unk" or "sample" word dropped, and leading zeros of a number ("U-07", "u7" and "U 7" are
+/// one code; "7" is another).
+pub fn code_key(code: &str) -> String {
+    let lower = code.trim().to_lowercase();
+    let mut rest = lower.as_str();
+    for prefix in ["unknown", "unk", "sample"] {
+        if let Some(r) = rest.strip_prefix(prefix) {
+            if r.starts_with(|c: char| !c.is_alphabetic()) {
+                rest = r;
+                break;
+            }
+        }
+    }
+    let k: String = rest.chars().filter(|c| c.is_alphanumeric()).collect();
+    // leading zeros of the number part: "u07" is "u7"
+    let letters: String = k.chars().take_while(|c| !c.is_ascii_digit()).collect();
+    let digits = k[letters.len()..].trim_start_matches('0');
+    let digits = if digits.is_empty() && k.len() > letters.len() {
+        "0"
+    } else {
+        digits
+    };
+    format!("{letters}{digits}")
+}
+
 /// Counts over the batch's rows.
 #[derive(Clone, Copy, Debug, Default, PartialEq, Eq)]
 pub struct Tally {

@@ -333,3 +333,47 @@ fn the_unknown_identification_rubric() {
         r[1]["feedback"]
     );
 }
+
+/// A key with one wrong code is caught by the cohort report: most students given U-3 name
+/// acetanilide and their clear points sit near 114 °C, far from benzoic acid's 122 °C.
+#[test]
+fn the_report_checks_the_key_against_the_class() {
+    let f = Fixture::new();
+    let mut class = String::from(
+        "Student ID,Section,Unknown #,Identified as,Crude (g),Recovered (g),Recryst. mp (°C)\n",
+    );
+    for (i, (named, mp)) in [
+        ("acetanilide", "113.1-114.0"),
+        ("acetanilide", "113.4-114.3"),
+        ("acetanilide", "113.0-114.1"),
+        ("acetanilide", "113.6-114.5"),
+        ("benzoic acid", "113.2-114.2"),
+    ]
+    .iter()
+    .enumerate()
+    {
+        class.push_str(&format!("s{i},A,U-3,{named},3.0,2.0,{mp}\n"));
+    }
+    for i in 0..4 {
+        class.push_str(&format!("t{i},B,U-1,acetanilide,3.0,2.0,113.3-114.2\n"));
+    }
+    f.write("class.csv", class);
+    f.write(
+        "key.csv",
+        "Code,Compound\nU-1,acetanilide\nU-3,benzoic acid\n",
+    );
+    let r = grade(&f, &["class.csv", "--key", "key.csv"]);
+    assert_eq!(r.len(), 9);
+    let html = std::fs::read_to_string(f.path("out").join("cohort-report.html")).unwrap();
+    // hand-worked: 4 of 5 named acetanilide; median clear point of 114.0, 114.3, 114.1, 114.5,
+    // 114.2 is 114.2 °C
+    assert!(
+        html.contains(
+            "unknown U-3: the key says benzoic acid, but 4 of 5 students named acetanilide"
+        ),
+        "{html}"
+    );
+    assert!(html.contains("median 114.2 °C"));
+    assert!(!html.contains("unknown U-1:"), "U-1 agrees with its key");
+    assert!(html.contains("<h2>Unknowns</h2>"));
+}
