@@ -377,3 +377,42 @@ fn the_report_checks_the_key_against_the_class() {
     assert!(!html.contains("unknown U-1:"), "U-1 agrees with its key");
     assert!(html.contains("<h2>Unknowns</h2>"));
 }
+
+/// Handouts show the crude and recrystallized ranges, the weighings, the trials, the
+/// identification and the mixed melting point; `check --explain` says what the new flags mean.
+#[test]
+fn handouts_and_check_show_the_experiment() {
+    let f = Fixture::new();
+    f.write(
+        "sec.csv",
+        "Student ID,Unknown #,Identified as,Empty vial (g),Vial + crude (g),Recovered (g),Crude mp (°C),mp Trial 1,mp Trial 2,Mixed mp (°C)\n\
+         s1,U-2,acetanilide,12.105,15.432,2.0,114.0-119.5,120.5-121.8,119.0-120.0,108.0-115.0\n",
+    );
+    f.write("key.csv", "Code,Compound\nU-2,benzoic acid\n");
+    let r = grade(&f, &["sec.csv", "--key", "key.csv"]);
+    assert_eq!(r.len(), 1);
+    let page = std::fs::read_to_string(f.path("out").join("handouts").join("sec.html")).unwrap();
+    for want in [
+        "Crude melting range (°C)",
+        "114.0-119.5",
+        "Trial 2 (°C)",
+        "119.0-120.0",
+        "wrong (it was benzoic acid)",
+        "108.0-115.0",
+        "15.432 - 12.105",
+        // hand-worked: 15.432 - 12.105 = 3.327
+        "3.327",
+    ] {
+        assert!(page.contains(want), "{want}: {page}");
+    }
+    let run = f.run(&["check", "sec.csv", "--key", "key.csv", "--explain"]);
+    for want in [
+        "crude mass = E - D",
+        "melting range = mean of the trials in H, I",
+        "trials-disagree",
+        "mixed-mp-contradicts",
+        "repeat melting-point determinations differ",
+    ] {
+        assert!(run.stdout.contains(want), "{want}: {}", run.stdout);
+    }
+}
