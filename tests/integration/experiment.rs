@@ -416,3 +416,22 @@ fn handouts_and_check_show_the_experiment() {
         assert!(run.stdout.contains(want), "{want}: {}", run.stdout);
     }
 }
+
+/// The sample class's section 04 runs the whole experiment; its answer key has U-3 wrong
+/// (phenacetin for a bottle of acetanilide, invented), and the report says so.
+#[test]
+fn the_sample_class_catches_its_wrong_key() {
+    let f = Fixture::new();
+    let run = f.run(&["grade", "--out", "out", "--quiet"]);
+    assert_eq!(run.code, 0, "{}", run.stderr);
+    let r = f.results("out");
+    let four: Vec<_> = r.iter().filter(|x| x["section"] == "section-04").collect();
+    assert_eq!(four.len(), 12);
+    assert!(four.iter().all(|x| !x["identification"].is_empty()));
+    let html = std::fs::read_to_string(f.path("out").join("cohort-report.html")).unwrap();
+    assert!(
+        html.contains("unknown U-3: the key says phenacetin"),
+        "the wrong key entry is named"
+    );
+    assert!(!html.contains("unknown U-1:") && !html.contains("unknown U-2:"));
+}
