@@ -163,6 +163,12 @@ fn workup_rows(out: &mut String, g: &Graded) {
         }
         text_row(out, "Trials' spread (°C)", "", &num(w.trial_spread_c, 1));
     }
+    unknown_rows(out, g);
+}
+
+/// The unknown's code, the identification and the mixed melting point, where there are any.
+fn unknown_rows(out: &mut String, g: &Graded) {
+    let (s, w) = (&g.assessed.submission, &g.assessed.workup);
     if let Some(code) = &s.unknown_code {
         text_row(out, "Unknown", code, "");
     }

@@ -10,6 +10,7 @@
 //! weighing) and says so for `check`.
 
 use super::headers::{HeaderMeaning, ParsedHeader, CLEAR_WORDS, MP_WORDS, ONSET_WORDS};
+use super::submission::{Submission, Trial};
 use super::table::Column;
 use super::values::Unit;
 use crate::fields::Field;
@@ -274,10 +275,9 @@ pub fn pairings(columns: &[Column]) -> Vec<String> {
         if let Some((gross, tare)) = by_difference(columns, field) {
             let mut line = format!("{} = {} - {}", field.label(), gross.letter, tare.letter);
             if let Some(net) = columns.iter().find(|c| c.field == Some(field)) {
-                line.push_str(&format!(
-                    "; the net column {} is used, checked against the difference",
-                    net.letter
-                ));
+                line.push_str("; the net column ");
+                line.push_str(&net.letter);
+                line.push_str(" is used, checked against the difference");
             }
             out.push(line);
         }
@@ -316,6 +316,56 @@ pub fn pairings(columns: &[Column]) -> Vec<String> {
 /// columns, or trials of it).
 pub fn has_trials(columns: &[Column]) -> bool {
     columns.iter().any(|c| c.field.is_some_and(Field::repeats))
+}
+
+/// The repeat determinations of a row as they are read, in sheet order: ranges, and onsets and
+/// clear points paired by their order.
+#[derive(Default)]
+pub(super) struct Trials {
+    ranges: Vec<Option<(f64, f64)>>,
+    onsets: Vec<Option<f64>>,
+    clears: Vec<Option<f64>>,
+    tare: Option<f64>,
+}
+
+impl Trials {
+    /// Keeps a trial's range as read (`None` for a blank trial).
+    pub(super) fn push_range(&mut self, r: Option<(f64, f64)>) {
+        self.ranges.push(r);
+    }
+
+    /// Keeps a trial value or a shared tare; false for any other field.
+    pub(super) fn take(&mut self, field: Field, value: Option<f64>) -> bool {
+        match field {
+            Field::MpTrialOnset => self.onsets.push(value),
+            Field::MpTrialClear => self.clears.push(value),
+            Field::Tare => self.tare = value,
+            _ => return false,
+        }
+        true
+    }
+
+    /// The trials given (a blank one left out), and a tare weighed once for both products
+    /// where no own tare was read.
+    pub(super) fn finish(self, sub: &mut Submission) {
+        let paired = (0..self.onsets.len().max(self.clears.len())).map(|i| {
+            let o = self.onsets.get(i).copied().flatten();
+            let c = self.clears.get(i).copied().flatten();
+            (o.or(c), c.or(o))
+        });
+        sub.mp_trials = self
+            .ranges
+            .into_iter()
+            .map(|r| r.map_or((None, None), |(o, c)| (Some(o), Some(c))))
+            .chain(paired)
+            .filter(|(o, c)| o.is_some() || c.is_some())
+            .map(|(onset, clear)| Trial { onset, clear })
+            .collect();
+        if let Some(t) = self.tare {
+            sub.crude_tare_g.get_or_insert(t);
+            sub.recovered_tare_g.get_or_insert(t);
+        }
+    }
 }
 
 #[cfg(test)]

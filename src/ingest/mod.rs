@@ -3,6 +3,7 @@
 
 pub mod calibration;
 pub mod cells;
+mod claims;
 pub mod delimited;
 pub mod discover;
 pub mod experiment;

@@ -2,6 +2,7 @@
 //! to grams, millilitres and degrees Celsius; a cell that cannot be read is named, not guessed.
 
 use super::cells::{cell_ref, format_number, percent_of_fraction, Cell, RawRow};
+use super::experiment::Trials;
 use super::range::parse_range;
 use super::submission::{Submission, Unreadable};
 use super::table::{Column, Layout};
@@ -253,49 +254,28 @@ fn set_number(sub: &mut Submission, field: Field, value: Option<f64>) {
     *slot = value;
 }
 
-/// The repeat determinations of a row as they are read, in sheet order: ranges, and onsets and
-/// clear points paired by their order.
-#[derive(Default)]
-struct Trials {
-    ranges: Vec<Option<(f64, f64)>>,
-    onsets: Vec<Option<f64>>,
-    clears: Vec<Option<f64>>,
-    tare: Option<f64>,
-}
-
-impl Trials {
-    /// Keeps a trial value or a shared tare; false for any other field.
-    fn take(&mut self, field: Field, value: Option<f64>) -> bool {
-        match field {
-            Field::MpTrialOnset => self.onsets.push(value),
-            Field::MpTrialClear => self.clears.push(value),
-            Field::Tare => self.tare = value,
-            _ => return false,
-        }
-        true
+/// Reads a numeric cell into its field (a trial's value or a shared tare into `trials`).
+fn read_number_into(
+    sub: &mut Submission,
+    trials: &mut Trials,
+    cell: &Cell,
+    column: &Column,
+    decimal: Decimal,
+) -> Result<(), String> {
+    let field = column.field.unwrap_or(Field::ReportedRecovery);
+    if field == Field::ReportedRecovery {
+        // a value shown with its percent sign is a percentage as it stands
+        sub.reported_marked = match cell {
+            Cell::Percent(_) => true,
+            Cell::Text(t) => t.contains('%'),
+            _ => false,
+        };
     }
-
-    /// The trials given (a blank one left out), and a tare weighed once for both products
-    /// where no own tare was read.
-    fn finish(self, sub: &mut Submission) {
-        let paired = (0..self.onsets.len().max(self.clears.len())).map(|i| {
-            let o = self.onsets.get(i).copied().flatten();
-            let c = self.clears.get(i).copied().flatten();
-            (o.or(c), c.or(o))
-        });
-        sub.mp_trials = self
-            .ranges
-            .into_iter()
-            .map(|r| r.map_or((None, None), |(o, c)| (Some(o), Some(c))))
-            .chain(paired)
-            .filter(|(o, c)| o.is_some() || c.is_some())
-            .map(|(onset, clear)| super::submission::Trial { onset, clear })
-            .collect();
-        if let Some(t) = self.tare {
-            sub.crude_tare_g.get_or_insert(t);
-            sub.recovered_tare_g.get_or_insert(t);
+    read_number(cell, column, decimal).map(|v| {
+        if !trials.take(field, v) {
+            set_number(sub, field, v);
         }
-    }
+    })
 }
 
 /// Reads one student row.
@@ -323,19 +303,7 @@ pub fn read_row(row: &RawRow, layout: &Layout, origin: &Origin) -> Submission {
         let read = if field.is_range() {
             read_range_into(&mut sub, &mut trials, cell, column, origin.decimal, &at)
         } else if field.is_numeric() {
-            if field == Field::ReportedRecovery {
-                // a value shown with its percent sign is a percentage as it stands
-                sub.reported_marked = match cell {
-                    Cell::Percent(_) => true,
-                    Cell::Text(t) => t.contains('%'),
-                    _ => false,
-                };
-            }
-            read_number(cell, column, origin.decimal).map(|v| {
-                if !trials.take(field, v) {
-                    set_number(&mut sub, field, v);
-                }
-            })
+            read_number_into(&mut sub, &mut trials, cell, column, origin.decimal)
         } else if let Cell::Error(_) = cell {
             Err(found_instead(cell))
         } else {
@@ -403,7 +371,7 @@ fn read_range_into(
         Field::CrudeMpRange => (&mut sub.crude_mp_onset_c, &mut sub.crude_mp_clear_c),
         Field::MixedMpRange => (&mut sub.mixed_mp_onset_c, &mut sub.mixed_mp_clear_c),
         Field::MpTrialRange => {
-            trials.ranges.push(read.map(|(o, c, _, _)| (o, c)));
+            trials.push_range(read.map(|(o, c, _, _)| (o, c)));
             return Ok(());
         }
         _ => (&mut sub.mp_onset_c, &mut sub.mp_clear_c),

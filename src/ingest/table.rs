@@ -130,7 +130,7 @@ fn example_columns<'c>(unused: &[&'c Column], missing: &[Field]) -> Vec<(&'c Col
     for f in missing {
         let names_it = |c: &&&Column| c.note.as_deref().is_some_and(|n| n.contains(f.label()));
         let unknown = |c: &&&Column| c.note.is_none();
-        let free = |c: &&&Column| !taken.contains(&c.index) && !contradicts(c, *f);
+        let free = |c: &&&Column| !taken.contains(&c.index) && !super::claims::contradicts(c, *f);
         let pick = unused
             .iter()
             .filter(free)
@@ -142,22 +142,6 @@ fn example_columns<'c>(unused: &[&'c Column], missing: &[Field]) -> Vec<(&'c Col
         }
     }
     out
-}
-
-/// Whether a column's cells or header unit contradict a field: text where a number belongs,
-/// a unit of another quantity (a volume for a mass), a weighing of a container.
-fn contradicts(c: &Column, f: Field) -> bool {
-    let numeric = f.is_numeric() || f.is_range() || f.is_required() && f != Field::StudentId;
-    let unit_clash = match (c.unit, f) {
-        (Some(u), Field::CrudeMass | Field::RecoveredMass) => !matches!(u, Unit::Mass(_)),
-        (Some(u), _) if f.is_range() || matches!(f, Field::MpOnset | Field::MpClear) => {
-            !matches!(u, Unit::Temperature(_))
-        }
-        _ => false,
-    };
-    let header = parse_header(&c.header);
-    let weighing = matches!(super::headers::classify(&header), HeaderMeaning::NotOwn(_));
-    numeric && c.text_cells || unit_clash || weighing
 }
 
 /// Why a sheet's table could not be used.
@@ -244,7 +228,7 @@ pub fn locate(sheet: &RawSheet, overrides: &ColumnOverrides) -> Result<Layout, L
     let (pos, cols, _) = best.ok_or(LayoutError::NoTable)?;
     let mut columns = resolve(cols);
     let units_row = units_row(sheet, pos, &mut columns);
-    mark_text_columns(sheet, pos, &mut columns);
+    super::claims::mark_text_columns(sheet, pos, &mut columns);
     let mut layout = Layout {
         header_pos: pos,
         header_row: sheet.rows[pos].index + 1,
@@ -268,30 +252,6 @@ pub fn locate(sheet: &RawSheet, overrides: &ColumnOverrides) -> Result<Layout, L
         .filter(|f| layout.column(*f).is_none())
         .collect();
     Ok(layout)
-}
-
-/// Marks the columns whose filled cells (of the first 30 rows under the header) are mostly text
-/// that reads as no number.
-fn mark_text_columns(sheet: &RawSheet, header_pos: usize, columns: &mut [Column]) {
-    let rows: Vec<&RawRow> = sheet.rows.iter().skip(header_pos + 1).take(30).collect();
-    for c in columns.iter_mut() {
-        let (mut text, mut filled) = (0, 0);
-        for r in &rows {
-            let cell = r.get(c.index);
-            if cell.is_empty() {
-                continue;
-            }
-            filled += 1;
-            if let super::cells::Cell::Text(t) = cell {
-                let number = super::values::parse_quantity(t, super::values::Decimal::Point)
-                    .is_some()
-                    || super::values::parse_quantity(t, super::values::Decimal::Comma).is_some()
-                    || super::range::parse_range(t, super::values::Decimal::Point).is_some();
-                text += usize::from(!number);
-            }
-        }
-        c.text_cells = filled > 0 && text * 2 > filled;
-    }
 }
 
 /// The unit a units-row cell names: "g", "(g)", "[mg]", "°C", "%"; any case.
@@ -403,42 +363,9 @@ fn resolve(cols: Vec<(Column, HeaderMeaning)>) -> Vec<Column> {
             Field::MixedMpClear,
         ),
     ] {
-        range_or_pair(&mut columns, range, onset, clear);
+        super::claims::range_or_pair(&mut columns, range, onset, clear);
     }
     columns
-}
-
-/// A range column beside separate onset and clear-point columns: the pair is read, unless the
-/// range column alone was mapped by hand (a field mapped by hand belongs to that column alone).
-fn range_or_pair(columns: &mut [Column], range: Field, onset: Field, clear: Field) {
-    let has = |f: Field| {
-        columns
-            .iter()
-            .find(|c| c.field == Some(f))
-            .map(|c| c.explicit)
-    };
-    let (Some(range_explicit), Some(o), Some(c)) = (has(range), has(onset), has(clear)) else {
-        return;
-    };
-    let range_wins = range_explicit && !o && !c;
-    let letter = columns
-        .iter()
-        .find(|c| c.field == Some(range))
-        .map(|c| c.letter.clone())
-        .unwrap_or_default();
-    for col in columns.iter_mut() {
-        if range_wins && (col.field == Some(onset) || col.field == Some(clear)) {
-            col.field = None;
-            col.note = Some(format!(
-                "not used: the {} is mapped explicitly to column {letter}",
-                range.label()
-            ));
-        } else if !range_wins && col.field == Some(range) {
-            col.field = None;
-            col.note =
-                Some("not used: separate onset and clear-point columns are read instead".into());
-        }
-    }
 }
 
 /// Two or more columns that claim `field`: an explicit mapping wins; else none is used.
