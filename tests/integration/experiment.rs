@@ -435,3 +435,71 @@ fn the_sample_class_catches_its_wrong_key() {
     );
     assert!(!html.contains("unknown U-1:") && !html.contains("unknown U-2:"));
 }
+
+/// The four ways of keeping the experiment, saved by LibreOffice Calc as .xlsx, .ods and .xls
+/// (tests/data/experiment-files, made by its make.py), grade with no mapping file exactly as the
+/// CSV text does, with the hand-worked numbers of the tests above.
+#[test]
+fn libreoffice_saved_classes_grade_alike_in_every_format() {
+    let data = std::path::Path::new(env!("CARGO_MANIFEST_DIR")).join("tests/data/experiment-files");
+    let key = data.join("key.csv");
+    let mut by_format = Vec::new();
+    for ext in ["csv", "xlsx", "ods", "xls"] {
+        let f = Fixture::new();
+        let dir = data.join(ext);
+        let run = f.run(&[
+            "grade",
+            dir.to_str().unwrap(),
+            "--key",
+            key.to_str().unwrap(),
+            "--out",
+            "out",
+        ]);
+        assert_eq!(run.code, 0, "{ext}: {}", run.stderr);
+        let rows: Vec<Vec<String>> = f
+            .results("out")
+            .iter()
+            .map(|r| {
+                [
+                    "section",
+                    "student_id",
+                    "crude_mass_g",
+                    "recovered_mass_g",
+                    "mp_onset_c",
+                    "mp_clear_c",
+                    "flags",
+                    "score",
+                    "mp_rise_c",
+                    "range_narrowing_c",
+                    "crude_tare_g",
+                    "mp_trials",
+                    "trial_spread_c",
+                    "identification",
+                    "identity",
+                    "mixed_depression_c",
+                ]
+                .iter()
+                .map(|c| r[*c].clone())
+                .collect()
+            })
+            .collect();
+        assert_eq!(rows.len(), 12, "{ext}");
+        by_format.push((ext, rows));
+    }
+    for (ext, rows) in &by_format[1..] {
+        assert_eq!(rows, &by_format[0].1, "{ext} against csv");
+    }
+    // hand-worked, as in the tests above: rise 121.9 - 119.5 = 2.4; crude 15.432 - 12.105;
+    // mean clear (121.8 + 122.4) / 2 = 122.1; mixed 122.0 - 115.0 = 7.0
+    let rows = &by_format[2].1; // the .ods
+    let find = |id: &str| rows.iter().find(|r| r[1] == id).unwrap();
+    let n = |s: &str| s.parse::<f64>().unwrap();
+    assert!((n(&find("E101")[8]) - 2.4).abs() < 1e-9);
+    assert!((n(&find("E201")[2]) - (15.432 - 12.105)).abs() < 1e-9);
+    assert!((n(&find("E301")[5]) - 122.1).abs() < 1e-9);
+    assert!((n(&find("E402")[15]) - 7.0).abs() < 1e-9);
+    assert_eq!(find("E402")[13], "wrong");
+    assert!(find("E202")[6].contains("net-mismatch"));
+    assert!(find("E302")[6].contains("trials-disagree"));
+    assert!(find("E102")[6].contains("no-purification-shown"));
+}
