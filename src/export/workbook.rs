@@ -365,6 +365,7 @@ impl GradedWorkbooks {
             index,
             name.clone(),
             &head,
+            s,
             &self.criteria,
             room,
             &self.formats,

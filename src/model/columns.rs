@@ -12,6 +12,8 @@
 
 use super::measure::{sentences, MeasureRole};
 use super::{Assessed, CriterionScore, Flag, Row, Score};
+use crate::fields::Field;
+use crate::ingest::Submission;
 
 /// What a column holds, which decides how each output writes it.
 #[derive(Clone, Copy, Debug, PartialEq, Eq)]
@@ -136,6 +138,10 @@ pub struct Column {
     pub shaded_by: &'static [Flag],
     /// Set for a measure: a number that statistics summarise or a criterion scores.
     pub measure: Option<MeasureRole>,
+    /// For a workbook column: a section sheet carries it only when its input sheet has a
+    /// column for one of these fields (empty: always). A sheet without the whole experiment's
+    /// columns keeps its layout.
+    pub sheet_has: &'static [Field],
     pub get: fn(Row<'_>) -> Value<'_>,
 }
 
@@ -170,6 +176,13 @@ impl Column {
 
     pub fn is_in(&self, output: Outputs) -> bool {
         self.outputs.has(output)
+    }
+
+    /// Whether a section sheet whose rows are like `s` carries this workbook column: always,
+    /// or when the input sheet has a column for one of `sheet_has` (`s.no_column` lists the
+    /// fields it has none for).
+    pub fn in_sheet_of(&self, s: &Submission) -> bool {
+        self.sheet_has.is_empty() || self.sheet_has.iter().any(|f| !s.no_column.contains(f))
     }
 }
 
@@ -219,6 +232,7 @@ const BLANK: Column = Column {
     personal: None,
     shaded_by: &[],
     measure: None,
+    sheet_has: &[],
     get: |_| Value::Text(None),
 };
 
@@ -371,45 +385,46 @@ registry! {
     STATUS = { name: "status", label: "Status", outputs: RESULTS_PARQUET,
         get: |r| Value::Text(Some(if a(r).excused.is_some() { "excused" } else { "graded" })), }
     // appended for the whole experiment (crude and recrystallized ranges, weighing by
-    // difference, repeat determinations, unknowns); results only, so that the graded
-    // workbooks of sheets without these columns stay as they were
+    // difference, repeat determinations, unknowns); in a graded workbook's section sheet only
+    // where the input sheet has such columns (`sheet_has`), so that other sheets stay as they
+    // were
     CRUDE_MP_ONSET_C = { name: "crude_mp_onset_c", label: "Crude onset", unit: Some("°C"),
-        kind: Kind::Number, outputs: RESULTS_PARQUET,
+        kind: Kind::Number, outputs: EVERYWHERE, sheet_has: &[Field::CrudeMpRange, Field::CrudeMpOnset, Field::CrudeMpClear],
         get: |r| Value::Number(w(r).crude_mp_onset_c), }
     CRUDE_MP_CLEAR_C = { name: "crude_mp_clear_c", label: "Crude clear point", unit: Some("°C"),
-        kind: Kind::Number, outputs: RESULTS_PARQUET,
+        kind: Kind::Number, outputs: EVERYWHERE, sheet_has: &[Field::CrudeMpRange, Field::CrudeMpOnset, Field::CrudeMpClear],
         get: |r| Value::Number(w(r).crude_mp_clear_c), }
     CRUDE_RANGE_WIDTH_C = { name: "crude_range_width_c", label: "Crude range width",
-        unit: Some("°C"), kind: Kind::Number, outputs: RESULTS_PARQUET,
+        unit: Some("°C"), kind: Kind::Number, outputs: EVERYWHERE, sheet_has: &[Field::CrudeMpRange, Field::CrudeMpOnset, Field::CrudeMpClear],
         get: |r| Value::Number(w(r).crude_range_width_c), }
     /// Recrystallized clear point minus the crude's.
     MP_RISE_C = { name: "mp_rise_c", label: "Melting point rise", unit: Some("°C"),
-        kind: Kind::Number, outputs: RESULTS_PARQUET, shaded_by: &[Flag::NoPurificationShown],
+        kind: Kind::Number, outputs: EVERYWHERE, sheet_has: &[Field::CrudeMpRange, Field::CrudeMpOnset, Field::CrudeMpClear], shaded_by: &[Flag::NoPurificationShown],
         measure: Some(MeasureRole::scored(sentences::rise, "no crude and recrystallized clear points to compare")),
         get: |r| Value::Number(w(r).mp_rise_c), }
     /// Crude width minus recrystallized width.
     RANGE_NARROWING_C = { name: "range_narrowing_c", label: "Range narrowing", unit: Some("°C"),
-        kind: Kind::Number, outputs: RESULTS_PARQUET, shaded_by: &[Flag::NoPurificationShown],
+        kind: Kind::Number, outputs: EVERYWHERE, sheet_has: &[Field::CrudeMpRange, Field::CrudeMpOnset, Field::CrudeMpClear], shaded_by: &[Flag::NoPurificationShown],
         measure: Some(MeasureRole::scored(sentences::narrowing, "no crude and recrystallized ranges to compare")),
         get: |r| Value::Number(w(r).range_narrowing_c), }
     CRUDE_TARE_G = { name: "crude_tare_g", label: "Crude tare", unit: Some("g"), decimals: 3,
-        kind: Kind::Number, outputs: RESULTS_PARQUET, shaded_by: WEIGHING_FLAGS,
+        kind: Kind::Number, outputs: EVERYWHERE, sheet_has: &[Field::Tare, Field::CrudeTare], shaded_by: WEIGHING_FLAGS,
         get: |r| Value::Number(a(r).submission.crude_tare_g), }
     CRUDE_GROSS_G = { name: "crude_gross_g", label: "Crude gross", unit: Some("g"), decimals: 3,
-        kind: Kind::Number, outputs: RESULTS_PARQUET, shaded_by: WEIGHING_FLAGS,
+        kind: Kind::Number, outputs: EVERYWHERE, sheet_has: &[Field::CrudeGross], shaded_by: WEIGHING_FLAGS,
         get: |r| Value::Number(a(r).submission.crude_gross_g), }
     RECOVERED_TARE_G = { name: "recovered_tare_g", label: "Recovered tare", unit: Some("g"),
-        decimals: 3, kind: Kind::Number, outputs: RESULTS_PARQUET, shaded_by: WEIGHING_FLAGS,
+        decimals: 3, kind: Kind::Number, outputs: EVERYWHERE, sheet_has: &[Field::Tare, Field::RecoveredTare], shaded_by: WEIGHING_FLAGS,
         get: |r| Value::Number(a(r).submission.recovered_tare_g), }
     RECOVERED_GROSS_G = { name: "recovered_gross_g", label: "Recovered gross", unit: Some("g"),
-        decimals: 3, kind: Kind::Number, outputs: RESULTS_PARQUET, shaded_by: WEIGHING_FLAGS,
+        decimals: 3, kind: Kind::Number, outputs: EVERYWHERE, sheet_has: &[Field::RecoveredGross], shaded_by: WEIGHING_FLAGS,
         get: |r| Value::Number(a(r).submission.recovered_gross_g), }
     /// How many trials the melting range used is the mean of.
     MP_TRIALS = { name: "mp_trials", label: "Trials", decimals: 0, kind: Kind::Number,
         outputs: RESULTS_PARQUET, get: |r| Value::Number(w(r).mp_trials), }
     /// The largest difference between the trials' clear points.
     TRIAL_SPREAD_C = { name: "trial_spread_c", label: "Trial spread", unit: Some("°C"),
-        kind: Kind::Number, outputs: RESULTS_PARQUET, shaded_by: &[Flag::TrialsDisagree],
+        kind: Kind::Number, outputs: EVERYWHERE, sheet_has: &[Field::MpTrialRange, Field::MpTrialOnset, Field::MpTrialClear], shaded_by: &[Flag::TrialsDisagree],
         measure: Some(MeasureRole::scored(sentences::spread, "no repeat determinations were recorded")),
         get: |r| Value::Number(w(r).trial_spread_c), }
     UNKNOWN_CODE = { name: "unknown_code", label: "Unknown",
@@ -426,14 +441,14 @@ registry! {
     IDENTIFICATION = { name: "identification", label: "Identification",
         outputs: RESULTS_PARQUET, get: |r| Value::Text(w(r).identification), }
     MIXED_MP_ONSET_C = { name: "mixed_mp_onset_c", label: "Mixed onset", unit: Some("°C"),
-        kind: Kind::Number, outputs: RESULTS_PARQUET,
+        kind: Kind::Number, outputs: EVERYWHERE, sheet_has: &[Field::MixedMpRange, Field::MixedMpOnset, Field::MixedMpClear],
         get: |r| Value::Number(w(r).mixed_mp_onset_c), }
     MIXED_MP_CLEAR_C = { name: "mixed_mp_clear_c", label: "Mixed clear point", unit: Some("°C"),
-        kind: Kind::Number, outputs: RESULTS_PARQUET,
+        kind: Kind::Number, outputs: EVERYWHERE, sheet_has: &[Field::MixedMpRange, Field::MixedMpOnset, Field::MixedMpClear],
         get: |r| Value::Number(w(r).mixed_mp_clear_c), }
     /// The sample's clear point minus the mixture's.
     MIXED_DEPRESSION_C = { name: "mixed_depression_c", label: "Mixed depression",
-        unit: Some("°C"), kind: Kind::Number, outputs: RESULTS_PARQUET,
+        unit: Some("°C"), kind: Kind::Number, outputs: EVERYWHERE, sheet_has: &[Field::MixedMpRange, Field::MixedMpOnset, Field::MixedMpClear],
         shaded_by: &[Flag::MixedMpContradicts],
         get: |r| Value::Number(w(r).mixed_depression_c), }
     /// 1 for an unknown identified correctly, 0 otherwise (a measure for criteria only; the

@@ -434,6 +434,34 @@ fn the_sample_class_catches_its_wrong_key() {
         "the wrong key entry is named"
     );
     assert!(!html.contains("unknown U-1:") && !html.contains("unknown U-2:"));
+    // the graded workbook of section 04 carries the whole experiment's columns; section 01's,
+    // kept without them, does not
+    use calamine::{open_workbook, Data, Reader, Xlsx};
+    let headers = |file: &str| -> Vec<String> {
+        let mut wb: Xlsx<_> = open_workbook(f.path("out").join(file)).unwrap();
+        let name = wb.sheet_names()[0].clone();
+        let range = wb.worksheet_range(&name).unwrap();
+        range
+            .rows()
+            .flat_map(|r| r.iter())
+            .filter_map(|c| match c {
+                Data::String(t) => Some(t.clone()),
+                _ => None,
+            })
+            .collect()
+    };
+    let four = headers("section-04-graded.xlsx");
+    for want in [
+        "Melting point rise (°C)",
+        "Crude tare (g)",
+        "Trial spread (°C)",
+        "Mixed depression (°C)",
+    ] {
+        assert!(four.iter().any(|h| h == want), "{want}");
+    }
+    assert!(!headers("section-01-graded.xlsx")
+        .iter()
+        .any(|h| h == "Melting point rise (°C)"));
 }
 
 /// The four ways of keeping the experiment, saved by LibreOffice Calc as .xlsx, .ods and .xls
