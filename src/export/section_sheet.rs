@@ -135,18 +135,18 @@ fn header_texts(
     h
 }
 
-/// Starts a section sheet in `ws`: the title rows, the header, the number formats by column,
+/// Starts a section sheet in `ws` for rows like `first` (its sheet's headers and columns): the title rows, the header, the number formats by column,
 /// the frozen panes and the print setup.
 pub(super) fn start(
     ws: &mut Worksheet,
     index: usize,
     name: String,
-    head: &SheetHead,
     first: &crate::ingest::Submission,
     criteria: &[(String, String)],
     room: usize,
     f: &Formats,
 ) -> Result<SectionSheet, XlsxError> {
+    let head = &*first.original_headers.clone().unwrap_or_default();
     let order = order(head, room);
     let computed = computed_for(first);
     let header = header_texts(head, &order, &computed, criteria);
