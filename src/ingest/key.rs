@@ -21,6 +21,10 @@ fn role(text: &str) -> Option<Role> {
         .filter(|w| !w.is_empty())
         .collect();
     let has = |w: &str| words.contains(&w);
+    // a class sheet's columns, never a key's
+    if has("student") || has("name") || has("mass") || has("mp") || has("melting") {
+        return None;
+    }
     if has("compound")
         || has("identity")
         || has("answer")
@@ -145,6 +149,13 @@ mod tests {
             ]
         );
         assert!(looks_like_a_key(&d.sheet));
+        // a narrow class sheet is no key
+        let d = delimited::read_delimited(
+            b"Student ID,Compound,Crude (g)\ns1,benzoic acid,2.0\n",
+            false,
+        )
+        .unwrap();
+        assert!(!looks_like_a_key(&d.sheet));
         assert!(is_key_file(Path::new("in/answer-key.csv")));
         assert!(is_key_file(Path::new("Unknowns KEY.xlsx")));
         assert!(!is_key_file(Path::new("keyboard.csv")));
