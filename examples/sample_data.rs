@@ -2,7 +2,9 @@
 //! Fall 2026, at an invented university) with four lab sections kept the way four different
 //! assistants keep them: an xlsx with title rows and a notes block, an ods in milligrams with
 //! separate onset and clear-point columns, a semicolon CSV in Latin-1 with decimal commas, and
-//! a late-entries CSV with a byte-order mark. Every flag appears somewhere.
+//! a late-entries CSV with a byte-order mark; and a fifth section that runs the whole
+//! experiment (unknowns against an answer key, weighing by difference, crude and recrystallized
+//! ranges, two capillaries, a mixed melting point). Every flag appears somewhere.
 //!
 //!     cargo run --example sample_data -- sample-data
 //!
@@ -390,6 +392,82 @@ fn write_late_entries(dir: &Path, rng: &mut Lcg) -> Result<(), Box<dyn std::erro
     Ok(())
 }
 
+/// Section 04 runs the whole experiment: each student gets an unknown by its code, weighs by
+/// difference in one vial (a net recovered mass written by some), records the crude product's
+/// range and two capillaries of the recrystallized one, names the unknown and confirms it by a
+/// mixed melting point. The answer key has one code wrong (U-3's bottle holds acetanilide, the
+/// key says phenacetin), which the cohort report catches. Its own generator, so that the other
+/// sections stay as they were.
+fn write_section_04(dir: &Path) -> Result<(), Box<dyn std::error::Error>> {
+    let mut rng = Lcg(2204);
+    // (code, what the bottle holds, its clear point range as students find it)
+    let bottles = [
+        ("U-1", "acetanilide", 113.3, 114.3),
+        ("U-2", "benzoic acid", 121.0, 122.3),
+        ("U-3", "acetanilide", 113.3, 114.3),
+    ];
+    let mut text = String::from("Student ID,Name,Bench,Unknown #,Identified as,Empty vial (g),Vial + crude (g),Vial + crystals (g),Recovered mass (g),Water (mL),Crude mp (°C),mp Trial 1,mp Trial 2,Mixed mp (°C)\n");
+    for i in 0..12 {
+        let (code, holds, lo, hi) = bottles[i % 3];
+        let clear = round(rng.between(lo, hi), 1);
+        let onset = round(clear - rng.between(0.6, 1.4), 1);
+        let mut crude = (
+            round(clear - rng.between(3.5, 6.0), 1),
+            round(clear - rng.between(1.5, 3.0), 1),
+        );
+        let t1 = round(clear + rng.between(-0.3, 0.3), 1);
+        let mut t2 = round(2.0 * clear - t1, 1);
+        let tare = round(rng.between(11.8, 12.6), 3);
+        let crude_g = round(rng.between(2.4, 3.4), 3);
+        let recovered = round(crude_g * rng.between(0.55, 0.85), 3);
+        let mut crude_gross = format!("{:.3}", tare + crude_g);
+        let mut net = if i % 4 == 0 {
+            format!("{recovered:.3}")
+        } else {
+            String::new()
+        };
+        let mut named = holds.to_string();
+        let mut mixed_clear = round(clear - rng.between(0.0, 0.8), 1);
+        match i {
+            2 => t2 = round(t1 + 2.6, 1), // two capillaries far apart
+            5 => crude = (round(onset + 0.3, 1), round(clear + 0.2, 1)), // no purification shown
+            7 => net = format!("{:.3}", recovered + 0.15), // net written off the weighings
+            9 => crude_gross = format!("{:.4}", (tare + crude_g) / 10.0), // a digit slipped
+            10 => {
+                // a benzoic acid unknown named acetanilide: the mixed melting point says no
+                named = "acetanilide".into();
+                mixed_clear = round(clear - 9.5, 1);
+            }
+            11 => named = String::new(),
+            _ => {}
+        }
+        let mixed = if named.is_empty() {
+            String::new()
+        } else {
+            format!("{:.1}-{:.1}", mixed_clear - 1.2, mixed_clear)
+        };
+        let onset2 = round(t2 - (clear - onset), 1);
+        text += &format!(
+            "{},{} {},{},{code},{named},{tare:.3},{crude_gross},{:.3},{net},{},{:.1}-{:.1},{:.1}-{t1:.1},{onset2:.1}-{t2:.1},{mixed}\n",
+            2026501 + i as u32 * 7,
+            rng.pick(&FIRST),
+            rng.pick(&LAST),
+            1 + (i as u32 % 8),
+            tare + recovered,
+            round(crude_g * rng.between(19.5, 27.0), 0),
+            crude.0,
+            crude.1,
+            onset,
+        );
+    }
+    std::fs::write(dir.join("section-04.csv"), text)?;
+    std::fs::write(
+        dir.join("answer-key.csv"),
+        "Unknown #,Compound\nU-1,acetanilide\nU-2,benzoic acid\nU-3,phenacetin\n",
+    )?;
+    Ok(())
+}
+
 /// The melting-point apparatus check run at the start of term: each bench read two USP-style
 /// reference standards; the certified values are this term's lots. Bench 7 is missing (its
 /// thermometer was swapped in week 6 and not rechecked); bench 6 only ran the two middle
@@ -425,6 +503,7 @@ fn main() -> Result<(), Box<dyn std::error::Error>> {
     write_section_03(dir, &mut rng)?;
     write_late_entries(dir, &mut rng)?;
     write_calibration(dir)?;
+    write_section_04(dir)?;
     println!("wrote {}", dir.display());
     Ok(())
 }

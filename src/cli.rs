@@ -187,4 +187,7 @@ pub struct RunArgs {
     /// applied before anything is flagged or scored
     #[arg(long, value_name = "FILE")]
     pub corrections: Option<PathBuf>,
+    /// Answer key for unknowns: a CSV or spreadsheet with a code column and a compound column
+    #[arg(long, value_name = "FILE")]
+    pub key: Option<PathBuf>,
 }

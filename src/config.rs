@@ -50,6 +50,8 @@ pub struct Options {
     pub timestamp: Option<i64>,
     /// The title of the reports; default: the rubric's course, term and experiment name.
     pub title: Option<String>,
+    /// An answer key for unknowns (CSV or spreadsheet: code and compound columns).
+    pub key: Option<PathBuf>,
 }
 
 /// Everything a run needs, validated.
@@ -99,6 +101,10 @@ pub struct Config {
     pub timestamp: i64,
     /// The reports' title: `--title`, else the rubric's course, term and experiment name.
     pub title: String,
+    /// The rubric's `[key]` table, if any.
+    pub key: Option<crate::assess::unknowns::Key>,
+    /// `--key FILE`: read with the inputs (a file that cannot be read is a problem of the run).
+    pub key_file: Option<PathBuf>,
 }
 
 /// An earlier term's results.parquet and its headline figures.
@@ -133,10 +139,7 @@ impl Config {
             &rubric_text,
             opts.vocabulary.as_deref(),
         )?;
-        let mut library = Library::builtin()?;
-        if let Some(p) = &opts.compounds {
-            library.extend_from_file(p)?;
-        }
+        let library = library(opts.compounds.as_deref())?;
         let reference = reference_rule(&rubric, &rubric_source, &library, opts.reference_mp_c)?;
         let (roster, roster_problems, roster_sheets) =
             read_roster(opts.roster.as_deref(), &columns)?;
@@ -178,6 +181,8 @@ impl Config {
             reference,
             calibration: calibration_file(&opts, &rubric),
             title: title(opts.title.as_deref(), &rubric),
+            key: rubric_key(&rubric, &rubric_source),
+            key_file: opts.key.clone(),
             rubric,
             rubric_source,
             columns,
@@ -185,6 +190,25 @@ impl Config {
             library,
         })
     }
+}
+
+/// The built-in reference library, with a `--compounds` file's over it.
+fn library(compounds: Option<&Path>) -> Result<Library, ConfigError> {
+    let mut library = Library::builtin()?;
+    if let Some(p) = compounds {
+        library.extend_from_file(p)?;
+    }
+    Ok(library)
+}
+
+/// The rubric's `[key]` table of unknown codes and compounds.
+fn rubric_key(rubric: &Rubric, source: &str) -> Option<crate::assess::unknowns::Key> {
+    (!rubric.key.is_empty()).then(|| {
+        crate::assess::unknowns::Key::from_pairs(
+            rubric.key.iter().map(|(a, b)| (a.as_str(), b.as_str())),
+            &format!("{source} [key]"),
+        )
+    })
 }
 
 /// Reads `--roster FILE` as a class sheet is read; a roster that cannot be read, or lists no

@@ -29,12 +29,38 @@ pub enum Field {
     Status,
     /// Free comments about the row (a notes or remarks column).
     Notes,
+    /// The crude product's melting range, onset and clear point (before recrystallization).
+    CrudeMpRange,
+    CrudeMpOnset,
+    CrudeMpClear,
+    /// One of two or more repeat determinations (trials, runs, capillaries) of the
+    /// recrystallized product's melting range, onset or clear point: every column mapped to
+    /// one of these is a trial of its own, in sheet order.
+    MpTrialRange,
+    MpTrialOnset,
+    MpTrialClear,
+    /// An empty container weighed once for both products (weighing by difference).
+    Tare,
+    /// The empty container of the crude product, and that container with the crude in it.
+    CrudeTare,
+    CrudeGross,
+    /// The empty container of the recrystallized product, and that container with it.
+    RecoveredTare,
+    RecoveredGross,
+    /// The code of an unknown sample handed to the student ("U-7"), not a compound.
+    UnknownCode,
+    /// The compound the student identified the unknown as.
+    IdentifiedAs,
+    /// The melting range (onset, clear point) of the unknown mixed with the compound named.
+    MixedMpRange,
+    MixedMpOnset,
+    MixedMpClear,
     /// How many days after the deadline the report came in.
     LateDays,
 }
 
 impl Field {
-    pub const ALL: [Field; 20] = [
+    pub const ALL: [Field; 36] = [
         Field::StudentId,
         Field::StudentName,
         Field::Section,
@@ -54,6 +80,22 @@ impl Field {
         Field::FirstName,
         Field::Status,
         Field::Notes,
+        Field::CrudeMpRange,
+        Field::CrudeMpOnset,
+        Field::CrudeMpClear,
+        Field::MpTrialRange,
+        Field::MpTrialOnset,
+        Field::MpTrialClear,
+        Field::Tare,
+        Field::CrudeTare,
+        Field::CrudeGross,
+        Field::RecoveredTare,
+        Field::RecoveredGross,
+        Field::UnknownCode,
+        Field::IdentifiedAs,
+        Field::MixedMpRange,
+        Field::MixedMpOnset,
+        Field::MixedMpClear,
         Field::LateDays,
     ];
 
@@ -79,6 +121,22 @@ impl Field {
             Field::FirstName => "first_name",
             Field::Status => "status",
             Field::Notes => "notes",
+            Field::CrudeMpRange => "crude_mp_range",
+            Field::CrudeMpOnset => "crude_mp_onset",
+            Field::CrudeMpClear => "crude_mp_clear",
+            Field::MpTrialRange => "mp_trial_range",
+            Field::MpTrialOnset => "mp_trial_onset",
+            Field::MpTrialClear => "mp_trial_clear",
+            Field::Tare => "tare",
+            Field::CrudeTare => "crude_tare",
+            Field::CrudeGross => "crude_gross",
+            Field::RecoveredTare => "recovered_tare",
+            Field::RecoveredGross => "recovered_gross",
+            Field::UnknownCode => "unknown_code",
+            Field::IdentifiedAs => "identified_as",
+            Field::MixedMpRange => "mixed_mp_range",
+            Field::MixedMpOnset => "mixed_mp_onset",
+            Field::MixedMpClear => "mixed_mp_clear",
             Field::LateDays => "late_days",
         }
     }
@@ -105,6 +163,22 @@ impl Field {
             Field::FirstName => "first name",
             Field::Status => "status",
             Field::Notes => "notes",
+            Field::CrudeMpRange => "crude_mp_range",
+            Field::CrudeMpOnset => "crude_mp_onset",
+            Field::CrudeMpClear => "crude_mp_clear",
+            Field::MpTrialRange => "mp_trial_range",
+            Field::MpTrialOnset => "mp_trial_onset",
+            Field::MpTrialClear => "mp_trial_clear",
+            Field::Tare => "tare",
+            Field::CrudeTare => "crude_tare",
+            Field::CrudeGross => "crude_gross",
+            Field::RecoveredTare => "recovered_tare",
+            Field::RecoveredGross => "recovered_gross",
+            Field::UnknownCode => "unknown_code",
+            Field::IdentifiedAs => "identified_as",
+            Field::MixedMpRange => "mixed_mp_range",
+            Field::MixedMpOnset => "mixed_mp_onset",
+            Field::MixedMpClear => "mixed_mp_clear",
             Field::LateDays => "days late",
         }
     }
@@ -132,6 +206,34 @@ impl Field {
                 | Field::MpClear
                 | Field::ReportedRecovery
                 | Field::LateDays
+                | Field::CrudeMpOnset
+                | Field::CrudeMpClear
+                | Field::MpTrialOnset
+                | Field::MpTrialClear
+                | Field::Tare
+                | Field::CrudeTare
+                | Field::CrudeGross
+                | Field::RecoveredTare
+                | Field::RecoveredGross
+                | Field::MixedMpOnset
+                | Field::MixedMpClear
+        )
+    }
+
+    /// Fields whose cells hold a melting range ("121-122") in one column.
+    pub fn is_range(self) -> bool {
+        matches!(
+            self,
+            Field::MpRange | Field::CrudeMpRange | Field::MpTrialRange | Field::MixedMpRange
+        )
+    }
+
+    /// Fields several columns may hold at once, each a value of its own (repeat
+    /// determinations), rather than two columns claiming one value.
+    pub fn repeats(self) -> bool {
+        matches!(
+            self,
+            Field::MpTrialRange | Field::MpTrialOnset | Field::MpTrialClear
         )
     }
 }

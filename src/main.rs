@@ -88,6 +88,7 @@ fn options(run: RunArgs, out: Option<PathBuf>) -> Options {
         reference_mp_c: run.reference_mp,
         calibration: run.calibration,
         overrides: run.overrides,
+        key: run.key,
         split_sections: false,
         skip_workbooks: false,
         skip_handouts: false,

@@ -21,6 +21,7 @@ use crate::model::{Graded, Score, Tally};
 use crate::rubric::overrides::{Override, Overrides};
 use crate::rubric::score;
 
+mod key;
 mod labels;
 mod outputs;
 use outputs::{Tallies, Writers};
@@ -88,6 +89,7 @@ fn context<'a>(
         centres: inputs.centres,
         counted: config.rubric.grading.duplicates,
         repeats: inputs.repeats,
+        key: inputs.key,
     }
 }
 
@@ -150,6 +152,8 @@ struct Inputs<'a> {
     repeats: Option<&'a Repeats>,
     /// The first pass's record of what it read, replayed instead of reading `files` again.
     replay: Option<&'a Replay>,
+    /// The answer key for unknowns.
+    key: Option<&'a crate::assess::unknowns::Key>,
 }
 
 impl<'a> Inputs<'a> {
@@ -158,8 +162,10 @@ impl<'a> Inputs<'a> {
         files: &'a [PathBuf],
         calibration: Option<&'a Path>,
         first: &'a FirstPass,
+        key: Option<&'a crate::assess::unknowns::Key>,
     ) -> Inputs<'a> {
         Inputs {
+            key,
             files,
             calibration,
             centres: Some(&first.centres),
@@ -414,6 +420,7 @@ fn section_centres(
     files: &[PathBuf],
     calibration_file: Option<&Path>,
     spill_dir: Option<&Path>,
+    key: Option<&crate::assess::unknowns::Key>,
 ) -> Result<FirstPass, RunError> {
     let mut centres = Centres::default();
     let mut repeats = Repeats::default();
@@ -423,6 +430,7 @@ fn section_centres(
     let mut first_pass = config.clone();
     first_pass.overrides = crate::rubric::overrides::Overrides::default();
     let inputs = Inputs {
+        key,
         files,
         calibration: calibration_file,
         centres: None,
@@ -543,9 +551,16 @@ pub fn assess_batch(config: &Config) -> Result<Batch, RunError> {
     batch
         .problems
         .extend(config.roster_problems.iter().cloned());
+    let answer_key = key::take_keys(config, &mut batch);
     let files = std::mem::take(&mut batch.files);
-    let first = section_centres(config, &files, calibration.as_deref(), None)?;
-    let inputs = Inputs::second_pass(&files, calibration.as_deref(), &first);
+    let first = section_centres(
+        config,
+        &files,
+        calibration.as_deref(),
+        None,
+        answer_key.as_ref(),
+    )?;
+    let inputs = Inputs::second_pass(&files, calibration.as_deref(), &first, answer_key.as_ref());
     let mut rows = Vec::new();
     stream(
         config,
@@ -726,12 +741,27 @@ pub fn write_templates(
     Ok((written, notes))
 }
 
+/// Refuses a batch in which no student row could be read.
+fn refuse_no_rows(batch: Batch, config: &Config) -> Result<Batch, RunError> {
+    if batch.tally.rows > 0 {
+        return Ok(batch);
+    }
+    Err(RunError::Nothing {
+        message: format!(
+            "no student rows could be read from the inputs; the outputs in {} are unchanged",
+            config.out_dir.display()
+        ),
+        problems: batch.problems,
+    })
+}
+
 /// `grade`, telling `progress` after each sheet and file.
 pub fn grade_with_progress(
     config: &Config,
     progress: &mut dyn FnMut(Progress),
 ) -> Result<Batch, RunError> {
     let (mut batch, calibration) = discover_inputs(config);
+    let answer_key = key::take_keys(config, &mut batch);
     refuse_nothing(&batch, config)?;
     batch
         .problems
@@ -747,10 +777,11 @@ pub fn grade_with_progress(
         &files,
         calibration.as_deref(),
         Some(&config.out_dir),
+        answer_key.as_ref(),
     )?;
     let mut threads = Writers::spawn(config, &paths, &stage, &first.names)?;
     let mut tallies = Tallies::new(config, &stage, &first.names)?;
-    let inputs = Inputs::second_pass(&files, calibration.as_deref(), &first);
+    let inputs = Inputs::second_pass(&files, calibration.as_deref(), &first, answer_key.as_ref());
     let mut fan = Fanout::new(threads.targets());
     stream(
         config,
@@ -772,15 +803,7 @@ pub fn grade_with_progress(
     if let Some(plan) = &tallies.plan {
         refuse_overwriting_inputs(plan.paths(), &batch.files)?;
     }
-    if batch.tally.rows == 0 {
-        return Err(RunError::Nothing {
-            message: format!(
-                "no student rows could be read from the inputs; the outputs in {} are unchanged",
-                config.out_dir.display()
-            ),
-            problems: batch.problems,
-        });
-    }
+    let mut batch = refuse_no_rows(batch, config)?;
     batch.problems.extend(tallies.handout_note(config));
     let stats = std::sync::Arc::new(std::mem::take(&mut tallies.stats));
     threads.start_finish(&provenance, &stats, &batch.problems);

@@ -5,7 +5,11 @@
 use std::path::{Path, PathBuf};
 
 /// The files of the sample class, by name, as they are in the repository's `sample-data/`.
-pub const FILES: [(&str, &[u8]); 5] = [
+pub const FILES: [(&str, &[u8]); 7] = [
+    (
+        "answer-key.csv",
+        include_bytes!("../sample-data/answer-key.csv"),
+    ),
     (
         "calibration.csv",
         include_bytes!("../sample-data/calibration.csv"),
@@ -21,6 +25,10 @@ pub const FILES: [(&str, &[u8]); 5] = [
     (
         "section-03.csv",
         include_bytes!("../sample-data/section-03.csv"),
+    ),
+    (
+        "section-04.csv",
+        include_bytes!("../sample-data/section-04.csv"),
     ),
     (
         "week12-late-entries.csv",

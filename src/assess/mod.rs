@@ -10,6 +10,8 @@ mod judge;
 pub mod measures;
 pub mod physchem;
 pub mod roster;
+pub mod unknowns;
+pub mod workup;
 
 use std::collections::HashMap;
 
@@ -17,7 +19,7 @@ pub use crate::stats::outlier::Centres;
 
 use crate::fields::Field;
 use crate::ingest::Submission;
-pub use crate::model::{Assessed, Flag, Severity};
+pub use crate::model::{Assessed, Flag, Severity, Workup};
 use crate::reference::{Compound, Library};
 use crate::rubric::{Experiment, Tolerances};
 pub use accepted::{Reference, ReferenceRule};
@@ -38,6 +40,8 @@ pub struct Context<'a> {
     /// without a plan the first counts.
     pub counted: Counted,
     pub repeats: Option<&'a Repeats>,
+    /// The answer key for unknowns, if one was given.
+    pub key: Option<&'a unknowns::Key>,
 }
 
 /// Why a row is an outlier in its section, or nothing.
@@ -61,7 +65,7 @@ pub fn grams(v: f64) -> String {
     format!("{s} g")
 }
 
-fn celsius(v: f64) -> String {
+pub(crate) fn celsius(v: f64) -> String {
     format!("{v:.1} °C")
 }
 
@@ -277,9 +281,10 @@ impl<'a> Assessor<'a> {
         a: &Assessed,
         unknown: Option<String>,
         outside_span: Option<String>,
+        more: Vec<(Flag, String)>,
     ) -> Vec<(Flag, String)> {
         let t = self.ctx.tolerances;
-        let mut flags = Vec::new();
+        let mut flags = more;
         if let Some(why) = unknown {
             flags.push((Flag::UnknownCompound, why));
         }
@@ -350,11 +355,49 @@ impl<'a> Assessor<'a> {
         first
     }
 
+    /// The unknown's identification against the key, and the compound the row is graded
+    /// against: the key's for its code; without a key, the one the student named (with a note).
+    fn unknown(&mut self, sub: &mut Submission) -> (Workup, Resolved<'a>) {
+        let (word, shown, identity) = unknowns::identify(
+            sub.unknown_code.as_deref(),
+            sub.identified_as.as_deref(),
+            self.ctx.key,
+            self.ctx.library,
+        );
+        let graded_as = match (word, &identity, &sub.identified_as) {
+            (_, Some(truth), _) => Some(truth.clone()),
+            (Some("no-key"), None, Some(named)) if sub.unknown_code.is_some() => {
+                sub.notes.push(format!(
+                    "no answer key for unknown {}: graded against the compound named, {}",
+                    sub.unknown_code.as_deref().unwrap_or_default(),
+                    named.trim()
+                ));
+                Some(named.clone())
+            }
+            _ => None,
+        };
+        let resolved = self.resolve(graded_as.as_deref().or(sub.compound.as_deref()));
+        let w = Workup {
+            identified_as: shown,
+            identity,
+            identification: word,
+            ..Workup::default()
+        };
+        (w, resolved)
+    }
+
     /// Assesses the next submission of the batch.
     pub fn assess(&mut self, mut sub: Submission) -> Assessed {
         sub.section = self.section(&sub);
-        let resolved = self.resolve(sub.compound.as_deref());
+        let mut more = workup::by_difference(&mut sub);
+        let trials = workup::trials(&mut sub);
+        let (known, resolved) = self.unknown(&mut sub);
         let t = self.ctx.tolerances;
+        let (mut work, extra) = workup::compare(&sub, trials, known.identified_as.as_deref(), t);
+        more.extend(extra);
+        work.identified_as = known.identified_as;
+        work.identity = known.identity;
+        work.identification = known.identification;
         let readings = self.calibrate(&sub);
         let reference = resolved.reference.map(|r| r.at(readings.clear));
         let purity = physchem::purity(
@@ -389,8 +432,9 @@ impl<'a> Assessor<'a> {
             submission: sub,
             flags: Vec::new(),
             excused,
+            workup: work,
         };
-        let mut flags = self.flags(&a, resolved.unknown, readings.outside_span);
+        let mut flags = self.flags(&a, resolved.unknown, readings.outside_span, more);
         flags.sort_by_key(|(f, _)| f.code());
         a.flags = flags;
         a

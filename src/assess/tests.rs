@@ -40,6 +40,7 @@ fn with_rule(
         centres: None,
         counted: crate::rubric::Counted::First,
         repeats: None,
+        key: None,
     };
     assess_all(subs, ctx)
 }
@@ -450,6 +451,7 @@ fn an_accepted_range_puts_clear_points_inside_it_at_the_reference() {
         centres: None,
         counted: crate::rubric::Counted::First,
         repeats: None,
+        key: None,
     };
     let out = assess_all(vec![sulfa(165.0), sulfa(161.0), sulfa(168.0)], ctx);
     assert_eq!(out[0].depression_c, Some(0.0));
@@ -475,6 +477,7 @@ fn outliers_by_robust_z_within_the_section() {
         centres: None,
         counted: crate::rubric::Counted::First,
         repeats: None,
+        key: None,
     };
     let section: Vec<Submission> = [70.0, 71.0, 72.0, 73.0, 74.0]
         .iter()
@@ -504,6 +507,7 @@ fn outliers_by_robust_z_within_the_section() {
         centres: Some(&centres),
         counted: crate::rubric::Counted::First,
         repeats: None,
+        key: None,
     };
     let row = |rec: f64| Submission {
         crude_mass_g: Some(3.0),
@@ -542,6 +546,7 @@ fn run_with(sub: Submission, t: &Tolerances) -> Assessed {
         centres: None,
         counted: crate::rubric::Counted::First,
         repeats: None,
+        key: None,
     };
     assess_all(vec![sub], ctx).remove(0)
 }

@@ -74,10 +74,7 @@ fn sheet_title(source: &str, sheet: Option<&String>) -> String {
 /// The unit a numeric column was read in, and where it came from.
 fn unit_note(c: &crate::ingest::table::Column) -> String {
     use crate::ingest::table::UnitSource;
-    let Some(f) = c
-        .field
-        .filter(|f| f.is_numeric() || *f == crate::fields::Field::MpRange)
-    else {
+    let Some(f) = c.field.filter(|f| f.is_numeric() || f.is_range()) else {
         return String::new();
     };
     match (c.unit, c.unit_source) {
@@ -90,7 +87,13 @@ fn unit_note(c: &crate::ingest::table::Column) -> String {
 fn default_unit(f: crate::fields::Field) -> &'static str {
     use crate::fields::Field;
     match f {
-        Field::CrudeMass | Field::RecoveredMass => "g",
+        Field::CrudeMass
+        | Field::RecoveredMass
+        | Field::Tare
+        | Field::CrudeTare
+        | Field::CrudeGross
+        | Field::RecoveredTare
+        | Field::RecoveredGross => "g",
         Field::SolventVolume => "mL",
         Field::ReportedRecovery => "%",
         _ => "°C",
@@ -130,33 +133,41 @@ pub fn layouts(sheets: &[SheetReport], style: Style) -> String {
             let _ = writeln!(out, "    {m}");
         }
         below_the_block(&mut out, s);
-        for c in &s.layout.columns {
-            let target = match (c.field, &c.note) {
-                (Some(f), _) => {
-                    let mapped = if c.explicit { " (mapped)" } else { "" };
-                    let commas = if c.decimal == Some(crate::ingest::values::Decimal::Comma)
-                        && !s.decimal_comma
-                    {
-                        ", decimal commas (as its cells show)"
-                    } else {
-                        ""
-                    };
-                    format!("{}{mapped}{}{commas}", f.label(), unit_note(c))
-                }
-                (None, Some(note)) => style.dim(&printable(note)),
-                (None, None) => style.dim("not used"),
-            };
-            let _ = writeln!(
-                out,
-                "    {:>3}  {:<32} -> {}",
-                c.letter,
-                format!("\"{}\"", printable(&c.header)),
-                target
-            );
-        }
+        columns(&mut out, s, style);
         text_values(&mut out, s);
+        for p in &s.layout.pairings {
+            let _ = writeln!(out, "    {p}");
+        }
     }
     out
+}
+
+/// Each column of a sheet, with the field it was read as (or why not), its unit and source.
+fn columns(out: &mut String, s: &SheetReport, style: Style) {
+    for c in &s.layout.columns {
+        let target = match (c.field, &c.note) {
+            (Some(f), _) => {
+                let mapped = if c.explicit { " (mapped)" } else { "" };
+                let commas = if c.decimal == Some(crate::ingest::values::Decimal::Comma)
+                    && !s.decimal_comma
+                {
+                    ", decimal commas (as its cells show)"
+                } else {
+                    ""
+                };
+                format!("{}{mapped}{}{commas}", f.label(), unit_note(c))
+            }
+            (None, Some(note)) => style.dim(&printable(note)),
+            (None, None) => style.dim("not used"),
+        };
+        let _ = writeln!(
+            out,
+            "    {:>3}  {:<32} -> {}",
+            c.letter,
+            format!("\"{}\"", printable(&c.header)),
+            target
+        );
+    }
 }
 
 /// The rows below the notes or summary block: late entries read as students, and the rest

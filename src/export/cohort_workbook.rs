@@ -260,6 +260,19 @@ fn no_submission(wb: &mut Workbook, r: &Report, f: &Formats) -> Result<(), XlsxE
     if !likely.rows.is_empty() {
         write_table(ws, next + 1, &likely, f)?;
     }
+    Ok(())
+}
+
+/// Unknowns identified against the key, by section and by code (a sheet only when there are any).
+fn unknowns(wb: &mut Workbook, r: &Report, f: &Formats) -> Result<(), XlsxError> {
+    let ids = &r.cohort.identifications;
+    if ids.is_empty() {
+        return Ok(());
+    }
+    let ws = wb.add_worksheet().set_name("Unknowns")?;
+    let next = write_table(ws, 0, &report::identification_sections_table(ids), f)?;
+    write_table(ws, next + 1, &report::identification_codes_table(ids), f)?;
+    ws.set_freeze_panes(0, 0)?;
     print_setup(ws);
     Ok(())
 }
@@ -349,6 +362,7 @@ fn build(r: &Report, timestamp: i64) -> Result<Workbook, XlsxError> {
     sections(&mut wb, r, &f)?;
     quality(&mut wb, r, &f)?;
     no_submission(&mut wb, r, &f)?;
+    unknowns(&mut wb, r, &f)?;
     comparisons(&mut wb, r, &f)?;
     benches(&mut wb, r, &f)?;
     grades(&mut wb, r, &f)?;

@@ -102,6 +102,102 @@ fn values(g: &Graded) -> [(Option<f64>, Option<f64>, u8); 11] {
     ]
 }
 
+/// One more row of the values table: a label, what was written, what was used.
+fn text_row(out: &mut String, label: &str, reported: &str, used: &str) {
+    out.push_str("<tr><td>");
+    escape_into(out, label);
+    out.push_str("</td><td class=\"n\">");
+    escape_into(out, reported);
+    out.push_str("</td><td class=\"n\">");
+    escape_into(out, used);
+    out.push_str("</td></tr>");
+}
+
+fn range_text(o: Option<f64>, c: Option<f64>) -> String {
+    match (o, c) {
+        (Some(o), Some(c)) if o == c => format!("{c:.1}"),
+        (Some(o), Some(c)) => format!("{o:.1}-{c:.1}"),
+        (o, c) => o.or(c).map_or(String::new(), |v| format!("{v:.1}")),
+    }
+}
+
+fn num(v: Option<f64>, decimals: usize) -> String {
+    v.filter(|v| v.is_finite())
+        .map_or(String::new(), |v| format!("{v:.decimals$}"))
+}
+
+/// The rest of the experiment, where the sheet records it: weighings by difference, the crude
+/// range against the recrystallized one, the trials, the unknown and the mixed melting point.
+fn workup_rows(out: &mut String, g: &Graded) {
+    let a = &g.assessed;
+    let s = &a.submission;
+    let w = &a.workup;
+    for (what, tare, gross) in [
+        ("Crude", s.crude_tare_g, s.crude_gross_g),
+        ("Recovered", s.recovered_tare_g, s.recovered_gross_g),
+    ] {
+        if let (Some(t), Some(gr)) = (tare, gross) {
+            let label = format!("{what}: container with product - empty (g)");
+            text_row(
+                out,
+                &label,
+                &format!("{gr:.3} - {t:.3}"),
+                &num(Some(gr - t), 3),
+            );
+        }
+    }
+    if w.crude_mp_clear_c.is_some() {
+        let range = range_text(w.crude_mp_onset_c, w.crude_mp_clear_c);
+        text_row(
+            out,
+            "Crude melting range (°C)",
+            &range,
+            &num(w.crude_range_width_c, 1),
+        );
+        text_row(out, "Melting point rise (°C)", "", &num(w.mp_rise_c, 1));
+        text_row(
+            out,
+            "Range narrowing (°C)",
+            "",
+            &num(w.range_narrowing_c, 1),
+        );
+    }
+    if s.mp_trials.len() > 1 || w.mp_trials.is_some() {
+        for (i, t) in s.mp_trials.iter().enumerate() {
+            let label = format!("Trial {} (°C)", i + 1);
+            text_row(out, &label, &range_text(t.onset, t.clear), "");
+        }
+        text_row(out, "Trials' spread (°C)", "", &num(w.trial_spread_c, 1));
+    }
+    unknown_rows(out, g);
+}
+
+/// The unknown's code, the identification and the mixed melting point, where there are any.
+fn unknown_rows(out: &mut String, g: &Graded) {
+    let (s, w) = (&g.assessed.submission, &g.assessed.workup);
+    if let Some(code) = &s.unknown_code {
+        text_row(out, "Unknown", code, "");
+    }
+    if let Some(word) = w.identification {
+        let named = w.identified_as.as_deref().unwrap_or("");
+        let used = match (word, w.identity.as_deref()) {
+            ("wrong" | "none", Some(truth)) => format!("{word} (it was {truth})"),
+            _ => word.to_string(),
+        };
+        text_row(out, "Identified as", named, &used);
+    }
+    if w.mixed_mp_clear_c.is_some() {
+        let range = range_text(w.mixed_mp_onset_c, w.mixed_mp_clear_c);
+        let used = num(w.mixed_depression_c, 1);
+        text_row(
+            out,
+            "Mixed melting range (°C); below the sample",
+            &range,
+            &used,
+        );
+    }
+}
+
 /// Appends a value to `decimals` places; nothing where there is none.
 fn push_cell(out: &mut String, v: Option<f64>, decimals: u8) {
     if let Some(v) = v.filter(|v| v.is_finite()) {
@@ -274,6 +370,7 @@ fn write_page(out: &mut String, title_html: &str, g: &Graded) {
         push_cell(out, used, d);
         out.push_str("</td></tr>");
     }
+    workup_rows(out, g);
     out.push_str("</tbody></table></div><div>");
     // the points, then the flags and changes beside the values table, where the page has room
     points(out, g);

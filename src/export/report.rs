@@ -10,6 +10,7 @@ use crate::model::Measure;
 use crate::stats::cohort::{BenchBias, Cohort, Comparison, Outlier};
 use crate::stats::quality::{GroupQuality, Quality};
 use crate::stats::sections::SectionStats;
+use crate::stats::unknowns::Identifications;
 
 /// Everything the report shows.
 pub struct Report<'a> {
@@ -145,6 +146,66 @@ pub fn no_submission_table(q: &Quality, likely: bool) -> Table {
             .map(|m| {
                 let mut row = vec![text(&m.section), text(&m.id), text(&m.name)];
                 row.extend(m.likely_typed_as.as_deref().map(text));
+                row
+            })
+            .collect(),
+    }
+}
+
+/// Unknowns identified correctly, by section.
+pub fn identification_sections_table(ids: &Identifications) -> Table {
+    Table {
+        columns: vec![
+            col("section", "section", 0),
+            col("students with a keyed unknown", "judged", 0),
+            col("correct", "correct", 0),
+            col("wrong", "wrong", 0),
+            col("none given", "none", 0),
+            col("correct (%)", "correct_pct", 1),
+        ],
+        rows: ids
+            .sections
+            .iter()
+            .map(|(name, t)| tally_row(text(name), t))
+            .collect(),
+    }
+}
+
+fn tally_row(first: Cell, t: &crate::stats::unknowns::Tally) -> Vec<Cell> {
+    vec![
+        first,
+        Cell::Count(t.judged()),
+        Cell::Count(t.correct),
+        Cell::Count(t.wrong),
+        Cell::Count(t.none),
+        Cell::Number(t.correct_pct()),
+    ]
+}
+
+/// Unknowns identified correctly, by code, with what the class named and measured.
+pub fn identification_codes_table(ids: &Identifications) -> Table {
+    let mut columns = vec![col("unknown", "unknown_code", 0)];
+    columns.extend(
+        identification_sections_table(ids)
+            .columns
+            .into_iter()
+            .skip(1),
+    );
+    columns.extend([
+        col("key's compound", "identity", 0),
+        col("named most", "most_named", 0),
+        col("median clear point (°C)", "median_clear_c", 1),
+    ]);
+    Table {
+        columns,
+        rows: ids
+            .codes
+            .values()
+            .map(|c| {
+                let mut row = tally_row(text(&c.code), &c.tally);
+                row.push(text(&c.identity));
+                row.push(text(c.most_named().map_or("", |(n, _)| n)));
+                row.push(c.median_clear().map_or(text(""), Cell::Number));
                 row
             })
             .collect(),
@@ -450,6 +511,7 @@ pub fn findings(r: &Report) -> Vec<String> {
         ));
     }
     out.extend(outliers_finding(r.outliers.len()));
+    out.extend(r.cohort.identifications.key_findings());
     if out.is_empty() {
         out.push("No section, assistant or bench stands out at the thresholds used.".into());
     }

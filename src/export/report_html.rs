@@ -30,6 +30,7 @@ pub fn render(r: &Report) -> String {
     sections(&mut s, r);
     grades(&mut s, r);
     quality(&mut s, r);
+    unknowns(&mut s, r);
     benches(&mut s, r);
     statistics(&mut s, r);
     comparisons(&mut s, r);
@@ -126,6 +127,19 @@ fn quality(s: &mut String, r: &Report) {
             s.push_str(&table(&likely));
         }
     }
+}
+
+/// Unknowns identified against the key, by section and by code (only when there are any).
+fn unknowns(s: &mut String, r: &Report) {
+    let ids = &r.cohort.identifications;
+    if ids.is_empty() {
+        return;
+    }
+    s.push_str("<h2>Unknowns</h2>");
+    s.push_str(&table(&report::identification_sections_table(ids)));
+    s.push_str("<h3>By unknown code</h3>");
+    s.push_str(&table(&report::identification_codes_table(ids)));
+    s.push_str("<p>Where most students given one code name the same other compound, or their recrystallized clear points agree with each other and not with the key's compound, the findings above say so: the key or the sample bottle may be wrong for that code.</p>");
 }
 
 fn benches(s: &mut String, r: &Report) {

@@ -42,9 +42,14 @@ pub(super) fn computed() -> impl Iterator<Item = &'static Column> {
     columns::carried_by(Outputs::WORKBOOK)
 }
 
-/// How many recomputed columns follow the original ones.
+/// How many recomputed columns follow the original ones at most.
 pub(super) fn computed_count() -> usize {
     computed().count()
+}
+
+/// The recomputed columns of a sheet whose rows are like `s`.
+fn computed_for(s: &crate::ingest::Submission) -> Vec<&'static Column> {
+    computed().filter(|c| c.in_sheet_of(s)).collect()
 }
 
 /// The columns after the criteria's points.
@@ -70,6 +75,8 @@ pub(super) struct SectionSheet {
     pub(super) notes: usize,
     /// Students past the last row a sheet holds, left to results.csv.
     pub(super) past_last_row: usize,
+    /// The recomputed columns this sheet carries.
+    computed: Vec<&'static Column>,
 }
 
 /// Students a sheet sizes the rows of for their wrapped text (far more than a printout holds).
@@ -114,9 +121,14 @@ fn order(head: &SheetHead, room: usize) -> Vec<usize> {
 
 /// The header texts of a sheet: the original columns shown, the recomputed ones, each
 /// criterion as "Label pts (id)", and the closing columns.
-fn header_texts(head: &SheetHead, order: &[usize], criteria: &[(String, String)]) -> Vec<String> {
+fn header_texts(
+    head: &SheetHead,
+    order: &[usize],
+    computed: &[&Column],
+    criteria: &[(String, String)],
+) -> Vec<String> {
     let mut h: Vec<String> = order.iter().map(|&i| head.headers[i].clone()).collect();
-    h.extend(computed().map(Column::header));
+    h.extend(computed.iter().map(|c| c.header()));
     h.extend(
         criteria
             .iter()
@@ -126,19 +138,21 @@ fn header_texts(head: &SheetHead, order: &[usize], criteria: &[(String, String)]
     h
 }
 
-/// Starts a section sheet in `ws`: the title rows, the header, the number formats by column,
+/// Starts a section sheet in `ws` for rows like `first` (its sheet's headers and columns): the title rows, the header, the number formats by column,
 /// the frozen panes and the print setup.
 pub(super) fn start(
     ws: &mut Worksheet,
     index: usize,
     name: String,
-    head: &SheetHead,
+    first: &crate::ingest::Submission,
     criteria: &[(String, String)],
     room: usize,
     f: &Formats,
 ) -> Result<SectionSheet, XlsxError> {
+    let head = &*first.original_headers.clone().unwrap_or_default();
     let order = order(head, room);
-    let header = header_texts(head, &order, criteria);
+    let computed = computed_for(first);
+    let header = header_texts(head, &order, &computed, criteria);
     let mut r = 0;
     for (i, t) in head.title.iter().enumerate() {
         let format = if i == 0 { &f.title } else { &f.plain };
@@ -165,12 +179,12 @@ pub(super) fn start(
     for c in 0..base {
         ws.set_column_format(c, &f.top)?;
     }
-    for (i, c) in computed().enumerate() {
+    for (i, c) in computed.iter().enumerate() {
         ws.set_column_format(base + i as u16, f.number(c, None))?;
     }
-    let total = base + (computed_count() + criteria.len()) as u16;
+    let total = base + (computed.len() + criteria.len()) as u16;
     // the points top-aligned like every other value of the row
-    for c in base + computed_count() as u16..total {
+    for c in base + computed.len() as u16..total {
         ws.set_column_format(c, &f.top)?;
     }
     ws.set_column_format(total, &f.bold)?;
@@ -194,6 +208,7 @@ pub(super) fn start(
         widths,
         notes: 0,
         past_last_row: 0,
+        computed,
     };
     print_setup(ws, &sheet)?;
     Ok(sheet)
@@ -377,8 +392,8 @@ pub(super) fn write_row(
         }
     }
     let mut c = sheet.computed_start();
-    write_computed(ws, r, c, g, f)?;
-    c += computed_count() as u16;
+    write_computed(ws, r, c, &sheet.computed, g, f)?;
+    c += sheet.computed.len() as u16;
     for cs in &g.score.criteria {
         ws.write_number(r, c, cs.points)?;
         c += 1;
@@ -429,12 +444,13 @@ fn write_computed(
     ws: &mut Worksheet,
     r: u32,
     base: u16,
+    computed: &[&'static Column],
     g: &Graded,
     f: &Formats,
 ) -> Result<(), XlsxError> {
     let flags = &g.assessed.flags;
     let row = g.row();
-    for (i, column) in computed().enumerate() {
+    for (i, column) in computed.iter().enumerate() {
         let mut severity = None;
         for (flag, _) in flags.iter().filter(|(fl, _)| column.shaded_by.contains(fl)) {
             if severity != Some(Severity::Impossible) {

@@ -358,13 +358,12 @@ impl GradedWorkbooks {
             .map_err(e)?;
         ws.set_name(&name).map_err(e)?;
         let index = book.workbook.worksheets().len() - 1;
-        let head = s.original_headers.clone().unwrap_or_default();
         let ws = book.workbook.worksheet_from_index(index).map_err(e)?;
         let section = sheet::start(
             ws,
             index,
             name.clone(),
-            &head,
+            s,
             &self.criteria,
             room,
             &self.formats,

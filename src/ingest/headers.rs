@@ -173,7 +173,10 @@ pub fn classify(h: &ParsedHeader) -> HeaderMeaning {
         words: &h.words,
         v: &v,
     };
-    not_own(&w)
+    // the experiment's own fields (crude and trial melting ranges, weighings by difference,
+    // unknowns) are recognised in one place, `experiment::classify`, consulted first
+    super::experiment::classify(h)
+        .or_else(|| not_own(&w))
         .or_else(|| container(&w))
         .or_else(|| remarks(&w))
         .or_else(|| late(&w, h))

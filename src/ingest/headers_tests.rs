@@ -116,11 +116,8 @@ fn headers_are_read_by_meaning() {
         "Expected mass (g)",
         "Theoretical yield (g)",
         "Reference melting point",
-        // weighings by difference (common practice): the container, and it with the product
-        "Vial + crystals (g)",
-        "Empty vial (g)",
-        "Tare (g)",
-        "Watch glass and product (g)",
+        // a gross weighing that names no product is no product's mass (the experiment's
+        // weighings by difference, paired with their tares, are `experiment::classify`'s)
         "Gross mass (g)",
     ] {
         assert!(

@@ -4,11 +4,14 @@
 pub mod body;
 pub mod calibration;
 pub mod cells;
+mod claims;
 pub mod commas;
 pub mod delimited;
 pub mod discover;
+pub mod experiment;
 pub mod grouped;
 pub mod headers;
+pub mod key;
 pub mod percent_cells;
 pub mod range;
 pub mod roster;

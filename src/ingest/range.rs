@@ -120,8 +120,8 @@ fn complete_shorthand(r: RawRange) -> RawRange {
     if clear < r.onset {
         clear += scale;
     }
-    // a completion that only repeats the onset ("223.9-3.9") is no range: kept as written
-    if clear - r.onset > 10.0 || clear == r.onset {
+    // "143.4-3.4" would complete to the onset itself: no range, left as written (inverted)
+    if clear == r.onset || clear - r.onset > 10.0 {
         return r;
     }
     RawRange {
@@ -284,6 +284,8 @@ mod tests {
         // a truly inverted range stays as written
         assert_eq!(r("124.5-123.5"), Some((124.5, 123.5, false)));
         assert_eq!(r("121-19"), Some((121.0, 19.0, false)));
+        // its last digits would repeat the onset (a case proptest found): no range, as written
+        assert_eq!(r("143.4-3.4"), Some((143.4, 3.4, false)));
     }
 
     #[test]

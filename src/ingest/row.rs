@@ -2,6 +2,7 @@
 //! to grams, millilitres and degrees Celsius; a cell that cannot be read is named, not guessed.
 
 use super::cells::{cell_ref, format_number, percent_of_fraction, Cell, RawRow};
+use super::experiment::Trials;
 use super::range::parse_range;
 use super::submission::{Submission, Unreadable};
 use super::table::{Column, Layout};
@@ -32,9 +33,26 @@ enum Kind {
 
 fn kind(field: Field) -> Kind {
     match field {
-        Field::CrudeMass | Field::RecoveredMass => Kind::Mass,
+        Field::CrudeMass
+        | Field::RecoveredMass
+        | Field::Tare
+        | Field::CrudeTare
+        | Field::CrudeGross
+        | Field::RecoveredTare
+        | Field::RecoveredGross => Kind::Mass,
         Field::SolventVolume => Kind::Volume,
-        Field::MpOnset | Field::MpClear | Field::MpRange => Kind::Temperature,
+        Field::MpOnset
+        | Field::MpClear
+        | Field::MpRange
+        | Field::CrudeMpRange
+        | Field::CrudeMpOnset
+        | Field::CrudeMpClear
+        | Field::MpTrialRange
+        | Field::MpTrialOnset
+        | Field::MpTrialClear
+        | Field::MixedMpRange
+        | Field::MixedMpOnset
+        | Field::MixedMpClear => Kind::Temperature,
         _ => Kind::Percent,
     }
 }
@@ -187,6 +205,8 @@ fn set_text(sub: &mut Submission, field: Field, text: Option<String>) {
         Field::Solvent => &mut sub.solvent,
         Field::Status => &mut sub.status,
         Field::Notes => &mut sub.remarks,
+        Field::UnknownCode => &mut sub.unknown_code,
+        Field::IdentifiedAs => &mut sub.identified_as,
         _ => return,
     };
     *slot = text;
@@ -240,9 +260,41 @@ fn set_number(sub: &mut Submission, field: Field, value: Option<f64>) {
         Field::MpClear => &mut sub.mp_clear_c,
         Field::ReportedRecovery => &mut sub.reported_recovery_pct,
         Field::LateDays => &mut sub.late_days,
+        Field::CrudeMpOnset => &mut sub.crude_mp_onset_c,
+        Field::CrudeMpClear => &mut sub.crude_mp_clear_c,
+        Field::CrudeTare => &mut sub.crude_tare_g,
+        Field::CrudeGross => &mut sub.crude_gross_g,
+        Field::RecoveredTare => &mut sub.recovered_tare_g,
+        Field::RecoveredGross => &mut sub.recovered_gross_g,
+        Field::MixedMpOnset => &mut sub.mixed_mp_onset_c,
+        Field::MixedMpClear => &mut sub.mixed_mp_clear_c,
         _ => return,
     };
     *slot = value;
+}
+
+/// Reads a numeric cell into its field (a trial's value or a shared tare into `trials`).
+fn read_number_into(
+    sub: &mut Submission,
+    trials: &mut Trials,
+    cell: &Cell,
+    column: &Column,
+    decimal: Decimal,
+) -> Result<(), String> {
+    let field = column.field.unwrap_or(Field::ReportedRecovery);
+    if field == Field::ReportedRecovery {
+        // a value shown with its percent sign is a percentage as it stands
+        sub.reported_marked = match cell {
+            Cell::Percent(_) => true,
+            Cell::Text(t) => t.contains('%'),
+            _ => false,
+        };
+    }
+    read_number(cell, column, decimal).map(|v| {
+        if !trials.take(field, v) {
+            set_number(sub, field, v);
+        }
+    })
 }
 
 /// A row's submission before its cells are read: where it comes from, its defaults and its
@@ -269,23 +321,16 @@ fn blank_submission(row: &RawRow, layout: &Layout, origin: &Origin) -> Submissio
 pub fn read_row(row: &RawRow, layout: &Layout, origin: &Origin) -> Submission {
     let mut sub = blank_submission(row, layout, origin);
     let (mut last, mut first) = (None, None);
+    let mut trials = Trials::default();
     for column in &layout.columns {
         let Some(field) = column.field else { continue };
         let cell = row.get(column.index);
         let at = || cell_ref(origin.sheet, row.index, column.index);
         let decimal = column.decimal.unwrap_or(origin.decimal);
-        let read = if field == Field::MpRange {
-            read_range_into(&mut sub, cell, column, decimal, &at)
+        let read = if field.is_range() {
+            read_range_into(&mut sub, &mut trials, cell, column, decimal, &at)
         } else if field.is_numeric() {
-            if field == Field::ReportedRecovery {
-                // a value shown with its percent sign is a percentage as it stands
-                sub.reported_marked = match cell {
-                    Cell::Percent(_) => true,
-                    Cell::Text(t) => t.contains('%'),
-                    _ => false,
-                };
-            }
-            read_number(cell, column, decimal).map(|v| set_number(&mut sub, field, v))
+            read_number_into(&mut sub, &mut trials, cell, column, decimal)
         } else if let Cell::Error(_) = cell {
             Err(found_instead(cell))
         } else {
@@ -313,6 +358,7 @@ pub fn read_row(row: &RawRow, layout: &Layout, origin: &Origin) -> Submission {
         }
     }
     join_name(&mut sub, last, first);
+    trials.finish(&mut sub);
     one_reading_of_two(&mut sub, layout);
     sub
 }
@@ -336,31 +382,48 @@ fn one_reading_of_two(sub: &mut Submission, layout: &Layout) {
     }
 }
 
-/// Reads a melting-range cell into the submission's onset and clear point.
+/// Reads a melting-range cell into the submission's onset and clear point (the crude
+/// product's, the mixture's, or a trial's, by the column's field).
 fn read_range_into(
     sub: &mut Submission,
+    trials: &mut Trials,
     cell: &Cell,
     column: &Column,
     decimal: Decimal,
     at: &dyn Fn() -> String,
 ) -> Result<(), String> {
-    if let Some((onset, clear, single, completed)) = read_range(cell, column, decimal)? {
-        sub.mp_onset_c = Some(onset);
-        sub.mp_clear_c = Some(clear);
-        if completed {
-            sub.notes.push(format!(
-                "{}: \"{}\" read as {onset:.1}-{clear:.1} °C (the clear point written by its last digits)",
-                at(),
-                cell.as_text().unwrap_or_default()
-            ));
+    let read = read_range(cell, column, decimal)?;
+    let field = column.field.unwrap_or(Field::MpRange);
+    let (onset_slot, clear_slot) = match field {
+        Field::CrudeMpRange => (&mut sub.crude_mp_onset_c, &mut sub.crude_mp_clear_c),
+        Field::MixedMpRange => (&mut sub.mixed_mp_onset_c, &mut sub.mixed_mp_clear_c),
+        Field::MpTrialRange => {
+            trials.push_range(read.map(|(o, c, _, _)| (o, c)));
+            return Ok(());
         }
-        if single {
-            sub.single_reading = true;
-            sub.notes.push(format!(
-                "{}: one melting value given; taken as both onset and clear point",
-                at()
-            ));
-        }
+        _ => (&mut sub.mp_onset_c, &mut sub.mp_clear_c),
+    };
+    let Some((onset, clear, single, completed)) = read else {
+        return Ok(());
+    };
+    *onset_slot = Some(onset);
+    *clear_slot = Some(clear);
+    if field != Field::MpRange {
+        return Ok(());
+    }
+    if completed {
+        sub.notes.push(format!(
+            "{}: \"{}\" read as {onset:.1}-{clear:.1} °C (the clear point written by its last digits)",
+            at(),
+            cell.as_text().unwrap_or_default()
+        ));
+    }
+    if single {
+        sub.single_reading = true;
+        sub.notes.push(format!(
+            "{}: one melting value given; taken as both onset and clear point",
+            at()
+        ));
     }
     Ok(())
 }

@@ -31,6 +31,13 @@ pub struct SheetHead {
     pub title: Vec<String>,
 }
 
+/// One repeat determination of a melting range, in °C.
+#[derive(Clone, Copy, Debug, Default, PartialEq, Serialize)]
+pub struct Trial {
+    pub onset: Option<f64>,
+    pub clear: Option<f64>,
+}
+
 /// One student's row, normalized.
 #[derive(Clone, Debug, Default, PartialEq, Serialize)]
 pub struct Submission {
@@ -55,6 +62,25 @@ pub struct Submission {
     pub reported_recovery_pct: Option<f64>,
     /// Days after the deadline the report came in (a late-days column), if the sheet has one.
     pub late_days: Option<f64>,
+    /// The crude product's melting range as read (before recrystallization).
+    pub crude_mp_onset_c: Option<f64>,
+    pub crude_mp_clear_c: Option<f64>,
+    /// Repeat determinations of the recrystallized product's melting range, in sheet order;
+    /// a blank trial is left out.
+    pub mp_trials: Vec<Trial>,
+    /// Weighings by difference: each product's empty container (tare) and the container with
+    /// the product in it (gross), in grams. A tare weighed once for both fills both.
+    pub crude_tare_g: Option<f64>,
+    pub crude_gross_g: Option<f64>,
+    pub recovered_tare_g: Option<f64>,
+    pub recovered_gross_g: Option<f64>,
+    /// The unknown sample's code, as written.
+    pub unknown_code: Option<String>,
+    /// The compound the student named for the unknown, as written.
+    pub identified_as: Option<String>,
+    /// The melting range of the unknown mixed with the compound named.
+    pub mixed_mp_onset_c: Option<f64>,
+    pub mixed_mp_clear_c: Option<f64>,
     /// The row's status cell, as written ("W", "excused"), if the sheet has a status column.
     pub status: Option<String>,
     /// The row's notes cell, as written, if the sheet has a notes column.

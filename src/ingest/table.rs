@@ -46,6 +46,10 @@ pub struct Column {
     /// the student rows are known, then as the file reads numbers unless the cells say so.
     #[serde(skip)]
     pub decimal: Option<super::values::Decimal>,
+    /// Most of its filled cells under the header hold text that is no number: never offered
+    /// as a numeric field.
+    #[serde(skip)]
+    pub text_cells: bool,
 }
 
 /// The located table: where its header is and what each column means.
@@ -72,6 +76,8 @@ pub struct Layout {
     /// recovery), so that a blank cell and a sheet without the column can be told apart.
     #[serde(skip)]
     pub absent: Vec<Field>,
+    /// How columns pair up into one value ("crude mass = E - D"), for `check`.
+    pub pairings: Vec<String>,
 }
 
 impl Layout {
@@ -84,6 +90,7 @@ impl Layout {
         [Field::MpRange, Field::MpOnset, Field::MpClear]
             .iter()
             .any(|f| self.column(*f).is_some())
+            || super::experiment::has_trials(&self.columns)
     }
 
     /// The message for a sheet with no column for a field grading needs: which, the headers
@@ -138,7 +145,7 @@ fn example_columns<'c>(unused: &[&'c Column], missing: &[Field]) -> Vec<(&'c Col
     for f in missing {
         let names_it = |c: &&&Column| c.note.as_deref().is_some_and(|n| n.contains(f.label()));
         let unknown = |c: &&&Column| c.note.is_none();
-        let free = |c: &&&Column| !taken.contains(&c.index);
+        let free = |c: &&&Column| !taken.contains(&c.index) && !super::claims::contradicts(c, *f);
         let pick = unused
             .iter()
             .filter(free)
@@ -222,6 +229,7 @@ fn column(
             _ => None,
         },
         explicit,
+        text_cells: false,
         note: match m {
             HeaderMeaning::NotOwn(why) => Some(format!("not used: {why}")),
             _ => None,
@@ -359,19 +367,23 @@ fn locate_by(
     name_parts(&mut columns);
     let last = pos + usize::from(two);
     let units_row = units_row(sheet, last, &mut columns);
+    super::claims::mark_text_columns(sheet, last, &mut columns);
     let mut layout = Layout {
         header_pos: pos,
         header_row: sheet.rows[pos].index + 1,
         sub_header_row: two.then(|| sheet.rows[last].index + 1),
         units_row,
         body_pos: last + 1 + usize::from(units_row.is_some()),
+        pairings: super::experiment::pairings(&columns),
         columns,
         missing: Vec::new(),
         absent: Vec::new(),
     };
+    // a mass weighed by difference has its columns (a gross and a tare)
     layout.missing = Field::ALL
         .into_iter()
         .filter(|f| f.is_required() && layout.column(*f).is_none())
+        .filter(|f| super::experiment::by_difference(&layout.columns, *f).is_none())
         .collect();
     if !layout.has_melting() {
         layout.missing.push(Field::MpRange);
@@ -475,20 +487,24 @@ fn resolve(cols: Vec<(Column, HeaderMeaning)>) -> Vec<Column> {
         }
         columns.push(c);
     }
-    for field in Field::ALL {
+    super::experiment::pair_tares(&mut columns);
+    for field in Field::ALL.into_iter().filter(|f| !f.repeats()) {
         settle_claims(&mut columns, field);
     }
-    let has_pair = columns.iter().any(|c| c.field == Some(Field::MpOnset))
-        && columns.iter().any(|c| c.field == Some(Field::MpClear));
-    if has_pair {
-        for c in columns
-            .iter_mut()
-            .filter(|c| c.field == Some(Field::MpRange))
-        {
-            c.field = None;
-            c.note =
-                Some("not used: separate onset and clear-point columns are read instead".into());
-        }
+    for (range, onset, clear) in [
+        (Field::MpRange, Field::MpOnset, Field::MpClear),
+        (
+            Field::CrudeMpRange,
+            Field::CrudeMpOnset,
+            Field::CrudeMpClear,
+        ),
+        (
+            Field::MixedMpRange,
+            Field::MixedMpOnset,
+            Field::MixedMpClear,
+        ),
+    ] {
+        super::claims::range_or_pair(&mut columns, range, onset, clear);
     }
     columns
 }
@@ -527,8 +543,9 @@ fn settle_claims(columns: &mut [Column], field: Field) {
     let keep = (explicit.len() == 1).then(|| explicit[0]);
     let letters: Vec<String> = claims.iter().map(|&i| columns[i].letter.clone()).collect();
     for &i in &claims {
+        // the column mapped by hand keeps the field; every other claim is set aside with a note
         if Some(i) == keep {
-            return;
+            continue;
         }
         columns[i].field = None;
         columns[i].note = Some(match keep {

@@ -13,6 +13,7 @@
 use super::measure::{sentences, MeasureRole};
 use super::{Assessed, CriterionScore, Flag, Row, Score};
 use crate::fields::Field;
+use crate::ingest::Submission;
 
 /// What a column holds, which decides how each output writes it.
 #[derive(Clone, Copy, Debug, PartialEq, Eq)]
@@ -137,6 +138,10 @@ pub struct Column {
     pub shaded_by: &'static [Flag],
     /// Set for a measure: a number that statistics summarise or a criterion scores.
     pub measure: Option<MeasureRole>,
+    /// For a workbook column: a section sheet carries it only when its input sheet has a
+    /// column for one of these fields (empty: always). A sheet without the whole experiment's
+    /// columns keeps its layout.
+    pub sheet_has: &'static [Field],
     pub get: fn(Row<'_>) -> Value<'_>,
 }
 
@@ -172,6 +177,13 @@ impl Column {
     pub fn is_in(&self, output: Outputs) -> bool {
         self.outputs.has(output)
     }
+
+    /// Whether a section sheet whose rows are like `s` carries this workbook column: always,
+    /// or when the input sheet has a column for one of `sheet_has` (`s.no_column` lists the
+    /// fields it has none for).
+    pub fn in_sheet_of(&self, s: &Submission) -> bool {
+        self.sheet_has.is_empty() || self.sheet_has.iter().any(|f| !s.no_column.contains(f))
+    }
 }
 
 /// Every column, in the results contract's order (new ones appended).
@@ -206,6 +218,7 @@ const RECOVERED_FLAGS: &[Flag] = &[
     Flag::RecoveryMismatch,
     Flag::LikelyWet,
 ];
+const WEIGHING_FLAGS: &[Flag] = &[Flag::GrossBelowTare, Flag::NetMismatch];
 const READING_FLAGS: &[Flag] = &[Flag::RangeInverted, Flag::OutsideCalibratedSpan];
 
 /// The defaults every entry starts from.
@@ -219,11 +232,16 @@ const BLANK: Column = Column {
     personal: None,
     shaded_by: &[],
     measure: None,
+    sheet_has: &[],
     get: |_| Value::Text(None),
 };
 
 fn a(r: Row<'_>) -> &Assessed {
     r.assessed
+}
+
+fn w(r: Row<'_>) -> &super::Workup {
+    &r.assessed.workup
 }
 
 /// The score of a graded row; `None` for an excused student or a row not yet scored.
@@ -378,6 +396,83 @@ registry! {
     /// anything pseudonymised.
     SHEET_NOTES = { name: "sheet_notes", label: "Sheet notes", personal: Some(Personal::Name),
         get: |r| Value::Text(a(r).submission.remarks.as_deref()), }
+    // appended for the whole experiment (crude and recrystallized ranges, weighing by
+    // difference, repeat determinations, unknowns); in a graded workbook's section sheet only
+    // where the input sheet has such columns (`sheet_has`), so that other sheets stay as they
+    // were
+    CRUDE_MP_ONSET_C = { name: "crude_mp_onset_c", label: "Crude onset", unit: Some("°C"),
+        kind: Kind::Number, outputs: EVERYWHERE, sheet_has: &[Field::CrudeMpRange, Field::CrudeMpOnset, Field::CrudeMpClear],
+        get: |r| Value::Number(w(r).crude_mp_onset_c), }
+    CRUDE_MP_CLEAR_C = { name: "crude_mp_clear_c", label: "Crude clear point", unit: Some("°C"),
+        kind: Kind::Number, outputs: EVERYWHERE, sheet_has: &[Field::CrudeMpRange, Field::CrudeMpOnset, Field::CrudeMpClear],
+        get: |r| Value::Number(w(r).crude_mp_clear_c), }
+    CRUDE_RANGE_WIDTH_C = { name: "crude_range_width_c", label: "Crude range width",
+        unit: Some("°C"), kind: Kind::Number, outputs: EVERYWHERE, sheet_has: &[Field::CrudeMpRange, Field::CrudeMpOnset, Field::CrudeMpClear],
+        get: |r| Value::Number(w(r).crude_range_width_c), }
+    /// Recrystallized clear point minus the crude's.
+    MP_RISE_C = { name: "mp_rise_c", label: "Melting point rise", unit: Some("°C"),
+        kind: Kind::Number, outputs: EVERYWHERE, sheet_has: &[Field::CrudeMpRange, Field::CrudeMpOnset, Field::CrudeMpClear], shaded_by: &[Flag::NoPurificationShown],
+        measure: Some(MeasureRole::scored(sentences::rise, "no crude and recrystallized clear points to compare")),
+        get: |r| Value::Number(w(r).mp_rise_c), }
+    /// Crude width minus recrystallized width.
+    RANGE_NARROWING_C = { name: "range_narrowing_c", label: "Range narrowing", unit: Some("°C"),
+        kind: Kind::Number, outputs: EVERYWHERE, sheet_has: &[Field::CrudeMpRange, Field::CrudeMpOnset, Field::CrudeMpClear], shaded_by: &[Flag::NoPurificationShown],
+        measure: Some(MeasureRole::scored(sentences::narrowing, "no crude and recrystallized ranges to compare")),
+        get: |r| Value::Number(w(r).range_narrowing_c), }
+    CRUDE_TARE_G = { name: "crude_tare_g", label: "Crude tare", unit: Some("g"), decimals: 3,
+        kind: Kind::Number, outputs: EVERYWHERE, sheet_has: &[Field::Tare, Field::CrudeTare], shaded_by: WEIGHING_FLAGS,
+        get: |r| Value::Number(a(r).submission.crude_tare_g), }
+    CRUDE_GROSS_G = { name: "crude_gross_g", label: "Crude gross", unit: Some("g"), decimals: 3,
+        kind: Kind::Number, outputs: EVERYWHERE, sheet_has: &[Field::CrudeGross], shaded_by: WEIGHING_FLAGS,
+        get: |r| Value::Number(a(r).submission.crude_gross_g), }
+    RECOVERED_TARE_G = { name: "recovered_tare_g", label: "Recovered tare", unit: Some("g"),
+        decimals: 3, kind: Kind::Number, outputs: EVERYWHERE, sheet_has: &[Field::Tare, Field::RecoveredTare], shaded_by: WEIGHING_FLAGS,
+        get: |r| Value::Number(a(r).submission.recovered_tare_g), }
+    RECOVERED_GROSS_G = { name: "recovered_gross_g", label: "Recovered gross", unit: Some("g"),
+        decimals: 3, kind: Kind::Number, outputs: EVERYWHERE, sheet_has: &[Field::RecoveredGross], shaded_by: WEIGHING_FLAGS,
+        get: |r| Value::Number(a(r).submission.recovered_gross_g), }
+    /// How many trials the melting range used is the mean of.
+    MP_TRIALS = { name: "mp_trials", label: "Trials", decimals: 0, kind: Kind::Number,
+        outputs: RESULTS_PARQUET, get: |r| Value::Number(w(r).mp_trials), }
+    /// The largest difference between the trials' clear points.
+    TRIAL_SPREAD_C = { name: "trial_spread_c", label: "Trial spread", unit: Some("°C"),
+        kind: Kind::Number, outputs: EVERYWHERE, sheet_has: &[Field::MpTrialRange, Field::MpTrialOnset, Field::MpTrialClear], shaded_by: &[Flag::TrialsDisagree],
+        measure: Some(MeasureRole::scored(sentences::spread, "no repeat determinations were recorded")),
+        get: |r| Value::Number(w(r).trial_spread_c), }
+    UNKNOWN_CODE = { name: "unknown_code", label: "Unknown",
+        outputs: RESULTS_PARQUET,
+        get: |r| Value::Text(a(r).submission.unknown_code.as_deref()), }
+    /// The library's name for the compound the student named, else the name as written.
+    IDENTIFIED_AS = { name: "identified_as", label: "Identified as",
+        outputs: RESULTS_PARQUET, personal: Some(Personal::Quotes),
+        get: |r| Value::Text(w(r).identified_as.as_deref().or(a(r).submission.identified_as.as_deref())), }
+    /// The answer key's compound for the unknown's code.
+    IDENTITY = { name: "identity", label: "Key compound", outputs: RESULTS_PARQUET,
+        get: |r| Value::Text(w(r).identity.as_deref()), }
+    /// `correct`, `wrong`, `none` or `no-key`.
+    IDENTIFICATION = { name: "identification", label: "Identification",
+        outputs: RESULTS_PARQUET, get: |r| Value::Text(w(r).identification), }
+    MIXED_MP_ONSET_C = { name: "mixed_mp_onset_c", label: "Mixed onset", unit: Some("°C"),
+        kind: Kind::Number, outputs: EVERYWHERE, sheet_has: &[Field::MixedMpRange, Field::MixedMpOnset, Field::MixedMpClear],
+        get: |r| Value::Number(w(r).mixed_mp_onset_c), }
+    MIXED_MP_CLEAR_C = { name: "mixed_mp_clear_c", label: "Mixed clear point", unit: Some("°C"),
+        kind: Kind::Number, outputs: EVERYWHERE, sheet_has: &[Field::MixedMpRange, Field::MixedMpOnset, Field::MixedMpClear],
+        get: |r| Value::Number(w(r).mixed_mp_clear_c), }
+    /// The sample's clear point minus the mixture's.
+    MIXED_DEPRESSION_C = { name: "mixed_depression_c", label: "Mixed depression",
+        unit: Some("°C"), kind: Kind::Number, outputs: EVERYWHERE, sheet_has: &[Field::MixedMpRange, Field::MixedMpOnset, Field::MixedMpClear],
+        shaded_by: &[Flag::MixedMpContradicts],
+        get: |r| Value::Number(w(r).mixed_depression_c), }
+    /// 1 for an unknown identified correctly, 0 otherwise (a measure for criteria only; the
+    /// results carry the word in `identification`).
+    IDENTIFICATION_SCORE = { name: "identification", label: "Identification", unit: Some("points"),
+        kind: Kind::Number, outputs: Outputs::NONE,
+        measure: Some(MeasureRole::scored(sentences::identification, "no unknown was identified against a key")),
+        get: |r| Value::Number(match w(r).identification {
+            Some("correct") => Some(1.0),
+            Some("wrong" | "none") => Some(0.0),
+            _ => None,
+        }), }
     /// What graders' corrections (`--corrections`) changed in the row, each with who and why.
     CORRECTIONS = { name: "corrections", label: "Corrections", kind: Kind::List { sep: "; " },
         get: |r| Value::Items(Items::Texts(a(r).submission.corrections.as_slice())), }
@@ -390,15 +485,26 @@ registry! {
 mod tests {
     use super::*;
 
+    /// Names are distinct among the columns an output carries, and among the measures (the
+    /// `identification` measure, 1 or 0, is carried by no output: the results hold the word).
     #[test]
     fn names_are_distinct_snake_case() {
-        let mut names: Vec<&str> = all().map(|c| c.name).collect();
-        assert!(names
-            .iter()
-            .all(|n| n.chars().all(|c| c.is_ascii_lowercase() || c == '_')));
-        names.sort_unstable();
-        names.dedup();
-        assert_eq!(names.len(), ALL.len());
+        assert!(all().all(|c| c
+            .name
+            .chars()
+            .all(|ch| ch.is_ascii_lowercase() || ch == '_')));
+        for group in [
+            all()
+                .filter(|c| c.outputs != Outputs::NONE)
+                .collect::<Vec<_>>(),
+            all().filter(|c| c.measure.is_some()).collect(),
+        ] {
+            let mut names: Vec<&str> = group.iter().map(|c| c.name).collect();
+            let n = names.len();
+            names.sort_unstable();
+            names.dedup();
+            assert_eq!(names.len(), n);
+        }
     }
 
     #[test]

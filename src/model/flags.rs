@@ -21,6 +21,11 @@ pub enum Flag {
     OutsideCalibratedSpan,
     Outlier,
     SingleReading,
+    NoPurificationShown,
+    NetMismatch,
+    GrossBelowTare,
+    TrialsDisagree,
+    MixedMpContradicts,
     NotOnRoster,
     NameMismatch,
     OtherSection,
@@ -52,7 +57,7 @@ impl Severity {
 }
 
 impl Flag {
-    pub const ALL: [Flag; 19] = [
+    pub const ALL: [Flag; 24] = [
         Flag::RecoveryOver100,
         Flag::RangeInverted,
         Flag::AboveReference,
@@ -69,6 +74,11 @@ impl Flag {
         Flag::OutsideCalibratedSpan,
         Flag::Outlier,
         Flag::SingleReading,
+        Flag::NoPurificationShown,
+        Flag::NetMismatch,
+        Flag::GrossBelowTare,
+        Flag::TrialsDisagree,
+        Flag::MixedMpContradicts,
         Flag::NotOnRoster,
         Flag::NameMismatch,
         Flag::OtherSection,
@@ -92,6 +102,11 @@ impl Flag {
             Flag::OutsideCalibratedSpan => "outside-calibrated-span",
             Flag::Outlier => "outlier",
             Flag::SingleReading => "single-reading",
+            Flag::NoPurificationShown => "no-purification-shown",
+            Flag::NetMismatch => "net-mismatch",
+            Flag::GrossBelowTare => "gross-below-tare",
+            Flag::TrialsDisagree => "trials-disagree",
+            Flag::MixedMpContradicts => "mixed-mp-contradicts",
             Flag::NotOnRoster => "not-on-roster",
             Flag::NameMismatch => "name-mismatch",
             Flag::OtherSection => "other-section",
@@ -108,6 +123,10 @@ impl Flag {
             | Flag::OutsideCalibratedSpan
             | Flag::Outlier
             | Flag::SingleReading
+            | Flag::NoPurificationShown
+            | Flag::NetMismatch
+            | Flag::TrialsDisagree
+            | Flag::MixedMpContradicts
             | Flag::NameMismatch
             | Flag::OtherSection => Severity::Suspicious,
             _ => Severity::Impossible,
@@ -134,6 +153,11 @@ impl Flag {
             Flag::OutsideCalibratedSpan => "a reading beyond the temperatures of the apparatus's calibration standards",
             Flag::Outlier => "recovery or depression far from the section's median (robust z-score beyond 3.5, in a section of at least outlier_min_n rows)",
             Flag::SingleReading => "the melting entry is one temperature, not a range: its width was not measured",
+            Flag::NoPurificationShown => "the recrystallized melting range is no higher and no narrower than the crude product's: the recrystallization shows no purification",
+            Flag::NetMismatch => "the net mass written disagrees with the difference of the gross and tare weighings by more than the balance's resolution",
+            Flag::GrossBelowTare => "the container with the product weighs less than the empty container",
+            Flag::TrialsDisagree => "repeat melting-point determinations differ by more than the tolerance",
+            Flag::MixedMpContradicts => "the mixed melting point with the compound named is depressed: the unknown is likely not that compound",
             Flag::NotOnRoster => "the student id is not on the roster (--roster): most often a typing slip; the likely enrolled id is named when one is a slip away and its name agrees",
             Flag::NameMismatch => "the name on the sheet is not the roster's for this id (compared without case, accents, punctuation or order)",
             Flag::OtherSection => "the student is enrolled in another section than the one the row was submitted in; graded where submitted",
@@ -160,6 +184,11 @@ impl Flag {
             Flag::OutsideCalibratedSpan => "a reading outside the calibrated span",
             Flag::Outlier => "far from the rest of the section",
             Flag::SingleReading => "one temperature is not a range",
+            Flag::NoPurificationShown => "the recrystallization shows no purification",
+            Flag::NetMismatch => "the net mass disagrees with the weighings",
+            Flag::GrossBelowTare => "a gross weighing below its tare",
+            Flag::TrialsDisagree => "the trials disagree",
+            Flag::MixedMpContradicts => "the mixed melting point contradicts the identification",
             Flag::NotOnRoster => "the id is not on the roster",
             Flag::NameMismatch => "the name is not the roster's",
             Flag::OtherSection => "submitted in another section",

@@ -302,6 +302,57 @@ pub mod sentences {
         }
     }
 
+    pub fn rise(out: &mut String, x: f64, _: &Assessed) {
+        let _ = if x >= 0.0 {
+            write!(
+                out,
+                "the clear point rose {:.1} °C on recrystallization",
+                Fast(x)
+            )
+        } else {
+            write!(
+                out,
+                "the clear point fell {:.1} °C on recrystallization",
+                Fast(-x)
+            )
+        };
+    }
+
+    pub fn narrowing(out: &mut String, x: f64, _: &Assessed) {
+        let _ = if x >= 0.0 {
+            write!(
+                out,
+                "the range narrowed by {:.1} °C on recrystallization",
+                Fast(x)
+            )
+        } else {
+            write!(
+                out,
+                "the range widened by {:.1} °C on recrystallization",
+                Fast(-x)
+            )
+        };
+    }
+
+    pub fn spread(out: &mut String, x: f64, a: &Assessed) {
+        let n = a.workup.mp_trials.unwrap_or(0.0);
+        let _ = write!(out, "{n:.0} trials agree within {:.1} °C", Fast(x));
+    }
+
+    pub fn identification(out: &mut String, x: f64, a: &Assessed) {
+        let named = a.workup.identified_as.as_deref();
+        let key = a.workup.identity.as_deref().unwrap_or("the key's compound");
+        let _ = match (x >= 0.5, named) {
+            (true, Some(n)) => write!(out, "the unknown was correctly identified as {n}"),
+            (true, None) => write!(out, "the unknown was correctly identified"),
+            (false, Some(n)) => write!(out, "the unknown was identified as {n}, but it was {key}"),
+            (false, None) => write!(
+                out,
+                "no identification of the unknown was given (it was {key})"
+            ),
+        };
+    }
+
     pub fn total(out: &mut String, x: f64, _: &Assessed) {
         let _ = write!(out, "total {:.1} points", Fast(x));
     }

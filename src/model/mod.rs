@@ -39,6 +39,37 @@ pub struct Assessed {
     /// Why the student is excused (a withdrawal or an excuse in the status or notes), if so:
     /// the row is then not graded and left out of every statistic.
     pub excused: Option<String>,
+    /// The rest of the experiment: crude against recrystallized range, trials, the unknown.
+    pub workup: Workup,
+}
+
+/// What the whole experiment adds to a row, where its sheet records it: the crude product's
+/// melting range against the recrystallized one, repeat determinations, and an unknown's
+/// identification with its mixed melting point. Every value `None` where the sheet has none.
+#[derive(Clone, Debug, Default, PartialEq, Serialize)]
+pub struct Workup {
+    pub crude_mp_onset_c: Option<f64>,
+    pub crude_mp_clear_c: Option<f64>,
+    /// Crude clear point minus crude onset.
+    pub crude_range_width_c: Option<f64>,
+    /// Recrystallized clear point minus the crude's (as read: one apparatus's offset cancels).
+    pub mp_rise_c: Option<f64>,
+    /// Crude width minus recrystallized width.
+    pub range_narrowing_c: Option<f64>,
+    /// How many trials the melting range was the mean of.
+    pub mp_trials: Option<f64>,
+    /// The largest difference between the trials' clear points.
+    pub trial_spread_c: Option<f64>,
+    /// The library's name for the compound the student identified (else as written).
+    pub identified_as: Option<String>,
+    /// The answer key's compound for the row's unknown code.
+    pub identity: Option<String>,
+    /// `correct`, `wrong`, `none` (no identification given) or `no-key`.
+    pub identification: Option<&'static str>,
+    pub mixed_mp_onset_c: Option<f64>,
+    pub mixed_mp_clear_c: Option<f64>,
+    /// The sample's clear point minus the mixture's.
+    pub mixed_depression_c: Option<f64>,
 }
 
 impl Assessed {
@@ -230,6 +261,32 @@ pub fn without_cell_text(text: &str, a: &Assessed) -> String {
         }
     }
     out
+}
+
+/// Matching key for an unknown's code: lower case, letters and digits, a leading "unknown",
+/// "unk" or "sample" word dropped, and leading zeros of a number ("U-07", "u7" and "U 7" are
+/// one code; "7" is another).
+pub fn code_key(code: &str) -> String {
+    let lower = code.trim().to_lowercase();
+    let mut rest = lower.as_str();
+    for prefix in ["unknown", "unk", "sample"] {
+        if let Some(r) = rest.strip_prefix(prefix) {
+            if r.starts_with(|c: char| !c.is_alphabetic()) {
+                rest = r;
+                break;
+            }
+        }
+    }
+    let k: String = rest.chars().filter(|c| c.is_alphanumeric()).collect();
+    // leading zeros of the number part: "u07" is "u7"
+    let letters: String = k.chars().take_while(|c| !c.is_ascii_digit()).collect();
+    let digits = k[letters.len()..].trim_start_matches('0');
+    let digits = if digits.is_empty() && k.len() > letters.len() {
+        "0"
+    } else {
+        digits
+    };
+    format!("{letters}{digits}")
 }
 
 /// Counts over the batch's rows.

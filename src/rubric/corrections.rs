@@ -45,7 +45,7 @@ pub struct Correction {
 }
 
 /// The fields a correction may set.
-const CORRECTABLE: [Field; 13] = [
+const CORRECTABLE: [Field; 15] = [
     Field::StudentId,
     Field::StudentName,
     Field::Section,
@@ -59,6 +59,8 @@ const CORRECTABLE: [Field; 13] = [
     Field::MpClear,
     Field::ReportedRecovery,
     Field::Status,
+    Field::UnknownCode,
+    Field::IdentifiedAs,
 ];
 
 /// Parses a value as `field` holds it; the message says what was expected.
@@ -330,6 +332,8 @@ fn apply_one(c: &Correction, sub: &mut Submission) -> String {
                 Field::Bench => &mut sub.bench,
                 Field::Compound => &mut sub.compound,
                 Field::Status => &mut sub.status,
+                Field::UnknownCode => &mut sub.unknown_code,
+                Field::IdentifiedAs => &mut sub.identified_as,
                 _ => {
                     let before = std::mem::replace(&mut sub.section, t.clone());
                     return format!("{label} corrected from {before} to {t} {by}");

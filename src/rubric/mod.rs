@@ -93,6 +93,11 @@ pub struct Tolerances {
     /// The least number of rows without impossible entries a section needs before any of its
     /// rows is flagged `outlier`: a robust z from a handful of values is noise.
     pub outlier_min_n: usize,
+    /// Repeat determinations whose clear points differ by more than this (°C) disagree.
+    pub trial_spread_c: f64,
+    /// A mixture with the compound named that clears more than this (°C) below the sample
+    /// contradicts the identification.
+    pub mixed_depression_c: f64,
 }
 
 impl Default for Tolerances {
@@ -109,6 +114,8 @@ impl Default for Tolerances {
             max_impurity_mol_pct: 5.0,
             calibration_margin_c: 5.0,
             outlier_min_n: 10,
+            trial_spread_c: 1.0,
+            mixed_depression_c: 2.0,
         }
     }
 }
@@ -132,6 +139,9 @@ pub struct Rubric {
     pub criteria: Vec<Criterion>,
     #[serde(default, rename = "flag_rule")]
     pub flag_rules: Vec<FlagRule>,
+    /// An answer key for unknowns: each sample code and the compound it is.
+    #[serde(default)]
+    pub key: BTreeMap<String, String>,
     /// The late-work rule, applied to a late-days column: points or a percentage of the
     /// maximum off for each day past a grace period, up to a cap.
     #[serde(default)]

@@ -549,6 +549,7 @@ mod tests {
             calibration: None,
             flags: Vec::new(),
             excused: None,
+            workup: crate::model::Workup::default(),
         }
     }
 

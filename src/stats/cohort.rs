@@ -89,6 +89,8 @@ pub struct Cohort {
     rows: Vec<Row>,
     /// Each row's value of every compared measure (NaN where none), row after row.
     values: Vec<f64>,
+    /// Unknowns identified against a key, by section and by code.
+    pub identifications: super::unknowns::Identifications,
 }
 
 impl Default for Cohort {
@@ -101,6 +103,7 @@ impl Default for Cohort {
             origins: Names::default(),
             rows: Vec::new(),
             values: Vec::new(),
+            identifications: super::unknowns::Identifications::default(),
         }
     }
 }
@@ -157,6 +160,7 @@ impl Cohort {
     }
 
     pub fn add(&mut self, g: &Graded) {
+        self.identifications.add(g);
         let a = &g.assessed;
         let s = &a.submission;
         let section = self.sections.intern(&s.section);

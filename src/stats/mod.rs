@@ -10,6 +10,7 @@ pub mod inference;
 pub mod outlier;
 pub mod quality;
 pub mod sections;
+pub mod unknowns;
 
 use statrs::distribution::{ContinuousCDF, StudentsT};
 

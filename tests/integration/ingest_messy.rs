@@ -350,7 +350,8 @@ fn a_tare_and_a_gross_mass_are_not_the_product_s_mass() {
     assert_eq!(r["recovered_mass_g"], "1.8");
     // hand-worked: 100 x 1.80 / 2.40
     assert_eq!(r["recovery_pct"], "75");
-    // without the net column, the message offers no partner's or container's column
+    // without the net column, the recovered mass is the difference of the weighings:
+    // 13.95 - 12.15 = 1.80 g (hand-worked), and `check` shows the pairing
     let head =
         "Student ID,Lab partner,Vial + crystals (g),Empty vial (g),Crude (g),MP onset,MP clear\n";
     f.write(
@@ -358,6 +359,25 @@ fn a_tare_and_a_gross_mass_are_not_the_product_s_mass() {
         format!("{head}7101,Ana,13.95,12.15,2.40,121.0,122.0\n"),
     );
     let run = f.run(&["check", "no-net.csv"]);
+    assert!(
+        run.stdout.contains("recovered mass = C - D"),
+        "{}\n{}",
+        run.stdout,
+        run.stderr
+    );
+    assert!(!run.stdout.contains("no column for the recovered mass"));
+    let run = f.run(&["grade", "no-net.csv", "--out", "out2"]);
+    assert_eq!(run.code, 0, "{}", run.stderr);
+    let r = &f.results("out2")[0];
+    let rec: f64 = r["recovered_mass_g"].parse().unwrap();
+    assert!((rec - 1.80).abs() < 1e-9, "{rec}");
+    // without any weighing of it, the message offers no partner's or container's column
+    let head = "Student ID,Lab partner,Vial after transfer (g),Empty vial (g),Crude (g),MP onset,MP clear\n";
+    f.write(
+        "no-mass.csv",
+        format!("{head}7101,Ana,12.16,12.15,2.40,121.0,122.0\n"),
+    );
+    let run = f.run(&["check", "no-mass.csv"]);
     let message = run
         .stderr
         .lines()

@@ -12,6 +12,7 @@ mod bad_corpus;
 mod bad_input;
 mod browser;
 mod cohort;
+mod experiment;
 mod folder_safety;
 mod grading;
 mod harness;
