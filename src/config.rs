@@ -233,7 +233,7 @@ fn read_roster(path: Option<&Path>, columns: &ColumnOverrides) -> Result<RosterP
         .collect();
     if !fatal.is_empty() || read.students.is_empty() {
         let why = if fatal.is_empty() {
-            "no row with a student id (the roster needs an id column, and names and sections where it has them)".to_string()
+            "no table with a student id column beside at least two other fields (a name or name parts, a section, an assistant)".to_string()
         } else {
             fatal.join("; ")
         };

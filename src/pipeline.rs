@@ -247,6 +247,14 @@ impl<'a> Grader<'a> {
                 .corrections
                 .apply(&mut sub, &mut self.corrections_used);
         }
+        if let Some(roster) = &self.config.roster {
+            roster.settle(&mut sub);
+            sub.off_roster = !sub.no_submission
+                && sub
+                    .student_id
+                    .as_deref()
+                    .is_some_and(|id| roster.get(id).is_none());
+        }
         let mut a = self.assessor.assess(sub);
         if let Some(roster) = &self.config.roster {
             if let Some(id) = a.submission.student_id.as_deref() {
@@ -319,7 +327,7 @@ fn stream(
         }
     });
     if grader.scoring && failure.is_none() {
-        failure = no_submissions(&mut grader, batch, on_row).err();
+        failure = no_submissions(&mut grader, on_row).err();
     }
     batch.sheets = collector.sheets;
     batch.problems.extend(collector.problems);
@@ -343,7 +351,6 @@ fn stream(
 /// `no-submission`, graded as the rubric's `no_submission` says, in the rostered section.
 fn no_submissions(
     grader: &mut Grader,
-    batch: &mut Batch,
     on_row: &mut dyn FnMut(Graded) -> Result<(), WriteError>,
 ) -> Result<(), WriteError> {
     let Some(roster) = &grader.config.roster else {
@@ -359,7 +366,10 @@ fn no_submissions(
                 .next()
                 .and_then(|n| n.parse().ok())
                 .unwrap_or(0),
-            section: e.section.clone().unwrap_or_default(),
+            section: e
+                .section
+                .clone()
+                .unwrap_or_else(|| "(no section on the roster)".into()),
             student_id: Some(e.id.clone()),
             student_name: e.name.clone(),
             assistant: e.assistant.clone(),
@@ -368,10 +378,9 @@ fn no_submissions(
             ..ingest::Submission::default()
         })
         .collect();
+    // rows made from the roster are not submissions: the tally counts what was read
     for sub in missing {
-        let g = grader.grade(sub);
-        batch.tally.add(&g.assessed);
-        on_row(g)?;
+        on_row(grader.grade(sub))?;
     }
     Ok(())
 }
@@ -737,7 +746,12 @@ pub fn write_templates(
     };
     let written = crate::export::template::write(&o, &stage)?;
     refuse_overwriting_inputs(&written, &inputs)?;
-    stage.publish(&config.out_dir, &inputs)?;
+    let set_aside = stage.publish(&config.out_dir, &inputs)?;
+    notes.extend(
+        set_aside
+            .into_iter()
+            .map(|n| folder_note(&config.out_dir, n)),
+    );
     Ok((written, notes))
 }
 

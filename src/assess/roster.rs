@@ -17,6 +17,9 @@ use crate::model::Flag;
 pub struct Roster {
     students: Vec<Enrolled>,
     by_id: HashMap<String, usize>,
+    /// Numeric ids without their leading zeros, where that names one student: a spreadsheet
+    /// that stores an id as a number drops them ("0012345" is typed, 12345 is kept).
+    by_number: HashMap<String, usize>,
     /// The file it was read from, for the rows it adds.
     pub source: String,
 }
@@ -28,9 +31,20 @@ impl Roster {
             .enumerate()
             .map(|(i, s)| (s.id.trim().to_string(), i))
             .collect();
+        let mut by_number: HashMap<String, usize> = HashMap::new();
+        let mut twice = HashSet::new();
+        for (i, s) in students.iter().enumerate() {
+            if let Some(n) = without_zeros(&s.id) {
+                if by_number.insert(n.clone(), i).is_some() {
+                    twice.insert(n);
+                }
+            }
+        }
+        by_number.retain(|n, _| !twice.contains(n));
         Roster {
             students,
             by_id,
+            by_number,
             source: source.to_string(),
         }
     }
@@ -41,6 +55,30 @@ impl Roster {
 
     pub fn get(&self, id: &str) -> Option<&Enrolled> {
         self.by_id.get(id.trim()).map(|&i| &self.students[i])
+    }
+
+    /// Writes a row's id as the roster does where the sheet lost its leading zeros (12345 for
+    /// "0012345"), with a note, and fills in the rostered assistant where the sheet has none.
+    pub fn settle(&self, s: &mut Submission) {
+        let Some(id) = s.student_id.as_deref().map(str::trim) else {
+            return;
+        };
+        if self.get(id).is_none() {
+            if let Some(e) = without_zeros(id).and_then(|n| self.by_number.get(&n)) {
+                let e = &self.students[*e];
+                s.notes.push(format!(
+                    "id {id} read as the roster's {} (a spreadsheet drops a number's leading zeros)",
+                    e.id
+                ));
+                s.student_id = Some(e.id.clone());
+            }
+        }
+        let Some(e) = s.student_id.as_deref().and_then(|id| self.get(id)) else {
+            return;
+        };
+        if s.assistant.is_none() {
+            s.assistant.clone_from(&e.assistant);
+        }
     }
 
     /// The roster's flags for a submission: `not-on-roster` (with the likely enrolled id),
@@ -57,7 +95,7 @@ impl Roster {
             if !same_person(given, listed) {
                 out.push((
                     Flag::NameMismatch,
-                    format!("the roster lists this id as \"{listed}\", the sheet as \"{given}\""),
+                    "the roster lists another name for this id".to_string(),
                 ));
             }
         }
@@ -100,9 +138,8 @@ impl Roster {
     fn not_on_roster(&self, id: &str, s: &Submission) -> String {
         match self.likely(s) {
             Some(one) => format!(
-                "id {id} is not on the roster; it is one typing slip from {} ({}), whose name agrees: confirm with a correction",
-                one.id,
-                one.name.as_deref().unwrap_or("")
+                "id {id} is not on the roster; it is one typing slip from {}, whose name agrees: confirm with a correction",
+                one.id
             ),
             None => format!("id {id} is not on the roster; no enrolled id within one typing slip has this name"),
         }
@@ -112,6 +149,17 @@ impl Roster {
     pub fn missing<'a>(&'a self, seen: &'a HashSet<String>) -> impl Iterator<Item = &'a Enrolled> {
         self.students.iter().filter(|e| !seen.contains(e.id.trim()))
     }
+}
+
+/// A numeric id without its leading zeros ("0012345" and "12345" are "12345"); `None` for an
+/// id that is not all digits.
+fn without_zeros(id: &str) -> Option<String> {
+    let id = id.trim();
+    let digits = !id.is_empty() && id.bytes().all(|b| b.is_ascii_digit());
+    digits.then(|| {
+        let n = id.trim_start_matches('0');
+        if n.is_empty() { "0" } else { n }.to_string()
+    })
 }
 
 /// Whether two ids differ by one typing slip: one character changed, left out or added, or two

@@ -96,6 +96,7 @@ fn default_unit(f: crate::fields::Field) -> &'static str {
         | Field::RecoveredGross => "g",
         Field::SolventVolume => "mL",
         Field::ReportedRecovery => "%",
+        Field::LateDays => "days",
         _ => "°C",
     }
 }

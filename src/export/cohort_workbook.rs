@@ -130,8 +130,13 @@ fn overview(wb: &mut Workbook, r: &Report, f: &Formats) -> Result<(), XlsxError>
         1,
         0,
         format!(
-            "Cohort report generated {} by benchgrade. No student is named in this workbook.",
-            r.generated
+            "Cohort report generated {} by benchgrade. {}",
+            r.generated,
+            if r.quality.no_submission.is_empty() {
+                "No student is named in this workbook."
+            } else {
+                "Students are named only on the No submission sheet (from the roster)."
+            }
         ),
     )?;
     ws.write_string_with_format(2, 0, fit_cell(r.used), &wrap)?;

@@ -51,7 +51,7 @@ impl Gradebook {
         let a = &g.assessed;
         // an id not on the roster reaches the gradebook only once a grader confirms the id
         // (a correction): an import would otherwise make a stranger of a typing slip
-        if a.has(Flag::DuplicateStudent) || a.has(Flag::NotOnRoster) {
+        if a.has(Flag::DuplicateStudent) || a.has(Flag::NotOnRoster) || a.submission.off_roster {
             return Ok(());
         }
         let s = &a.submission;

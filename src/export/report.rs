@@ -112,7 +112,7 @@ pub fn quality_table(
         for (row, q) in t.rows.iter_mut().zip(groups.values()) {
             row.extend([
                 Cell::Count(q.enrolled),
-                Cell::Count(q.students + q.excused),
+                Cell::Count(q.submitted),
                 Cell::Count(q.no_submission),
                 Cell::Count(q.not_on_roster),
             ]);

@@ -43,7 +43,18 @@ pub fn render(r: &Report) -> String {
 /// The document head, the title and the findings.
 fn head(s: &mut String, r: &Report) {
     let _ = write!(s, "<!DOCTYPE html><html lang=\"en\"><head><meta charset=\"utf-8\"><title>{}</title><style>{STYLE}</style></head><body>", escape(r.title));
-    let _ = write!(s, "<h1>{}</h1><p>Cohort report generated {} by benchgrade. No student is named on this page.</p><p>{}</p>", escape(r.title), escape(r.generated), escape(r.used));
+    let named = if r.quality.no_submission.is_empty() {
+        "No student is named on this page."
+    } else {
+        "Students are named only in the list of those with no submission (from the roster)."
+    };
+    let _ = write!(
+        s,
+        "<h1>{}</h1><p>Cohort report generated {} by benchgrade. {named}</p><p>{}</p>",
+        escape(r.title),
+        escape(r.generated),
+        escape(r.used)
+    );
     s.push_str("<h2>Findings</h2>");
     for f in report::findings(r) {
         let _ = write!(s, "<p class=\"finding\">{}</p>", escape(&f));

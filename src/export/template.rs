@@ -39,6 +39,7 @@ enum Entry {
     Onset,
     Clear,
     Reported,
+    Late,
     Status,
     Notes,
 }
@@ -53,6 +54,7 @@ impl Entry {
             Entry::Onset => ("Melting onset", "°C"),
             Entry::Clear => ("Clear point", "°C"),
             Entry::Reported => ("Reported recovery", "%"),
+            Entry::Late => ("Days late", "days"),
             Entry::Status => ("Status", ""),
             Entry::Notes => ("Notes", ""),
         }
@@ -80,6 +82,9 @@ fn entries(rubric: &Rubric) -> Vec<Entry> {
     ];
     if scores(Measure::REPORT_ERROR) {
         e.push(Entry::Reported);
+    }
+    if rubric.late.is_some() {
+        e.push(Entry::Late);
     }
     e.extend([Entry::Status, Entry::Notes]);
     e
@@ -123,9 +128,17 @@ pub fn write(o: &TemplateOptions, stage: &Stage) -> Result<Vec<PathBuf>, WriteEr
     } else {
         groups
             .iter()
-            .map(|g| {
-                let path = o.out_dir.join(format!("{}-entry.xlsx", file_stem(&g.0)));
-                (path, vec![g])
+            .scan(Vec::<String>::new(), |taken, g| {
+                // one file a section, named apart even where the file system ignores case
+                let stem = file_stem(&g.0);
+                let mut name = stem.clone();
+                let mut k = 2;
+                while taken.contains(&name.to_lowercase()) {
+                    name = format!("{stem}-{k}");
+                    k += 1;
+                }
+                taken.push(name.to_lowercase());
+                Some((o.out_dir.join(format!("{name}-entry.xlsx")), vec![g]))
             })
             .collect()
     };
@@ -175,7 +188,7 @@ fn letter(col: u16) -> String {
 
 /// The first rows: title, section, assistant; the header row follows a blank.
 const HEADER_ROW: u32 = 4;
-const FIRST_ENTRY_COL: u16 = 2;
+const FIRST_ENTRY_COL: u16 = 3;
 
 fn entry_sheet(
     ws: &mut Worksheet,
@@ -203,6 +216,8 @@ fn entry_sheet(
     ws.set_row_height(HEADER_ROW, 32.0)?;
     ws.write_string_with_format(HEADER_ROW, 0, "Student ID", &head)?;
     ws.write_string_with_format(HEADER_ROW, 1, "Name", &head)?;
+    // the section on every row: read back from the rows, whatever name the sheet could take
+    ws.write_string_with_format(HEADER_ROW, 2, "Section", &head)?;
     ws.write_string_with_format(HEADER_ROW + 1, 0, "", &bold)?;
     for (i, e) in entries.iter().enumerate() {
         let (h, unit) = e.header();
@@ -213,11 +228,13 @@ fn entry_sheet(
     }
     ws.set_column_width(0, 12)?;
     ws.set_column_width(1, 26)?;
+    ws.set_column_width(2, 10)?;
     let first = HEADER_ROW + 2;
     for (k, s) in students.iter().enumerate() {
         let r = first + k as u32;
         ws.write_string_with_format(r, 0, &s.id, &locked)?;
         ws.write_string_with_format(r, 1, s.name.as_deref().unwrap_or(""), &locked)?;
+        ws.write_string_with_format(r, 2, section, &locked)?;
         for i in 0..entries.len() {
             ws.write_blank(r, FIRST_ENTRY_COL + i as u16, &open)?;
         }
@@ -255,6 +272,35 @@ fn rule(
         .map(|v| v.set_error_style(DataValidationErrorStyle::Stop))
 }
 
+/// The rule of an entry that is a plain number between bounds, with its messages.
+fn number_rule(e: Entry) -> Result<DataValidation, XlsxError> {
+    let between = |lo: f64, hi: f64| {
+        DataValidation::new().allow_decimal_number(DataValidationRule::Between(lo, hi))
+    };
+    match e {
+        Entry::CrudeMass => rule(
+            ("Crude mass", "The crude product's mass in grams, as weighed (for example 2.84)."),
+            ("Not a mass in grams", "Type the crude mass in grams: a number above 0 and below 100 (a figure in milligrams divided by 1000)."),
+            between(0.0001, MAX_MASS_G),
+        ),
+        Entry::Solvent => rule(
+            ("Solvent volume", "The volume of solvent used, in millilitres."),
+            ("Not a volume in mL", "Type the solvent volume in millilitres: a number above 0 and below 1000."),
+            between(0.0, 1000.0),
+        ),
+        Entry::Late => rule(
+            ("Days late", "How many days after the deadline the report came in; leave empty if on time."),
+            ("Not a number of days", "Type the days late as a number from 0 to 365, or leave the cell empty."),
+            between(0.0, 365.0),
+        ),
+        _ => rule(
+            ("Reported recovery", "The percent recovery the student reported (for example 72.4)."),
+            ("Not a percentage", "Type the reported recovery as a number of percent, from 0 to 100."),
+            between(0.0, 100.0),
+        ),
+    }
+}
+
 /// A data-validation rule with its messages on every entry cell.
 fn validations(
     ws: &mut Worksheet,
@@ -266,11 +312,7 @@ fn validations(
     for (i, e) in entries.iter().enumerate() {
         let col = FIRST_ENTRY_COL + i as u16;
         let v = match e {
-            Entry::CrudeMass => rule(
-                ("Crude mass", "The crude product's mass in grams, as weighed (for example 2.84)."),
-                ("Not a mass in grams", "Type the crude mass in grams: a number above 0 and below 100 (a figure in milligrams divided by 1000)."),
-                DataValidation::new().allow_decimal_number(DataValidationRule::Between(0.0001, MAX_MASS_G)),
-            )?,
+            Entry::CrudeMass | Entry::Solvent | Entry::Late | Entry::Reported => number_rule(*e)?,
             Entry::RecoveredMass => {
                 let me = at(Entry::RecoveredMass).unwrap_or_default();
                 let crude = at(Entry::CrudeMass).unwrap_or_default();
@@ -282,11 +324,7 @@ fn validations(
                     ))),
                 )?
             }
-            Entry::Solvent => rule(
-                ("Solvent volume", "The volume of solvent used, in millilitres."),
-                ("Not a volume in mL", "Type the solvent volume in millilitres: a number above 0 and below 1000."),
-                DataValidation::new().allow_decimal_number(DataValidationRule::Between(0.0, 1000.0)),
-            )?,
+
             Entry::Onset | Entry::Clear => {
                 let onset = at(Entry::Onset).unwrap_or_default();
                 let clear = at(Entry::Clear).unwrap_or_default();
@@ -304,11 +342,7 @@ fn validations(
                     ))),
                 )?
             }
-            Entry::Reported => rule(
-                ("Reported recovery", "The percent recovery the student reported (for example 72.4)."),
-                ("Not a percentage", "Type the reported recovery as a number of percent, from 0 to 100."),
-                DataValidation::new().allow_decimal_number(DataValidationRule::Between(0.0, 100.0)),
-            )?,
+
             Entry::Status => rule(
                 ("Status", "Leave empty for a student to be graded; choose W, excused, absent or exempt otherwise."),
                 ("Not a status", "Choose a status from the list, or leave the cell empty."),
@@ -370,7 +404,7 @@ fn instructions(
     let lines: Vec<(&Format, String)> = vec![
         (&bold, o.title.to_string()),
         (&head, "How to fill in the entry sheets".into()),
-        (&wrap, "Each section has a sheet of its own. The students' ids and names come from the roster and are locked; type only in the white cells.".into()),
+        (&wrap, "Each section has a sheet of its own. The students' ids, names and section come from the roster and are locked; type only in the cells to the right of them.".into()),
         (&wrap, format!("For each student enter: {}.", asked.join(", "))),
         (&wrap, "Masses in grams as weighed (weigh by difference and type the net mass); temperatures in °C as read, the onset where the first drop of liquid appears and the clear point where the last crystal melts.".into()),
         (&wrap, "A cell refuses a value that cannot be right (a recovered mass above the crude mass, a letter in a mass, an onset above the clear point) and says why. A row stays shaded until every entry grading needs is typed, or a status (W, excused, absent, exempt) is chosen.".into()),

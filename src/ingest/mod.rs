@@ -285,7 +285,11 @@ fn read_one(path: &Path, emit: &mut dyn FnMut(Event)) {
         .to_ascii_lowercase();
     let meta = std::fs::metadata(path);
     let len = meta.as_ref().map_or(0, std::fs::Metadata::len);
-    if meta.as_ref().is_ok_and(|m| !m.is_file()) {
+    if let Err(e) = &meta {
+        emit(fatal(format!("cannot be read: {e}")));
+    } else if meta.as_ref().is_ok_and(std::fs::Metadata::is_dir) {
+        emit(fatal("is a folder, not a file".into()));
+    } else if meta.as_ref().is_ok_and(|m| !m.is_file()) {
         emit(fatal(
             "not a regular file (a pipe, device or socket); only files are read".into(),
         ));

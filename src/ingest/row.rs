@@ -126,6 +126,16 @@ fn read_number_as_is(
         }
         Cell::Number(v) => (*v, header_unit),
         Cell::Text(t) if is_blank_marker(t) => return Ok(None),
+        // "3 days", "2 d": a count of days carries its word
+        Cell::Text(t) if field == Field::LateDays => {
+            let n = t
+                .trim()
+                .trim_end_matches(|c: char| c.is_alphabetic() || c == '.');
+            return match parse_quantity(n.trim(), decimal) {
+                Some(q) if q.unit.is_none() && q.value.is_finite() => Ok(Some(q.value.max(0.0))),
+                _ => Err(found_instead(cell)),
+            };
+        }
         Cell::Text(t) => match parse_quantity(t, decimal) {
             Some(q) => (q.value, q.unit.or(header_unit)),
             None => return Err(found_instead(cell)),

@@ -94,6 +94,9 @@ pub struct Submission {
     /// A rostered student of whom no row was read: a row benchgrade made from the roster
     /// (`--roster`), with status `no-submission`.
     pub no_submission: bool,
+    /// A roster was given and the row's id is not on it (kept out of the gradebook until a
+    /// grader confirms the id, even when the row carries no flag, as an excused one).
+    pub off_roster: bool,
     /// For a row made from the roster: the id of a row not on the roster that is likely this
     /// student's (one typing slip away, the same name).
     pub likely_typed_as: Option<String>,
@@ -125,7 +128,15 @@ impl Submission {
     /// column at all; a sheet with onset and clear columns needs no range column).
     pub fn lacks_column(&self, field: Field) -> bool {
         if MELTING.contains(&field) {
-            MELTING.iter().all(|f| self.no_column.contains(f))
+            // repeat determinations are the melting reading where the sheet has them
+            MELTING
+                .iter()
+                .chain(&[
+                    Field::MpTrialRange,
+                    Field::MpTrialOnset,
+                    Field::MpTrialClear,
+                ])
+                .all(|f| self.no_column.contains(f))
         } else {
             self.no_column.contains(&field)
         }
@@ -134,11 +145,18 @@ impl Submission {
     /// The fields grading needs that the row's sheet has no column for (the sheet's `missing`
     /// fields): a sheet without one was not really graded, whatever the rows' scores say.
     pub fn sheet_lacks(&self) -> Vec<Field> {
+        // a mass weighed by difference has its gross weighing's column instead of its own
+        let gross = |f: Field| match f {
+            Field::CrudeMass => Some(Field::CrudeGross),
+            Field::RecoveredMass => Some(Field::RecoveredGross),
+            _ => None,
+        };
         let mut out: Vec<Field> = self
             .no_column
             .iter()
             .copied()
             .filter(|f| f.is_required())
+            .filter(|f| gross(*f).is_none_or(|g| self.no_column.contains(&g)))
             .collect();
         if self.lacks_column(Field::MpRange) {
             out.push(Field::MpRange);

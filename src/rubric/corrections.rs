@@ -45,7 +45,7 @@ pub struct Correction {
 }
 
 /// The fields a correction may set.
-const CORRECTABLE: [Field; 15] = [
+const CORRECTABLE: [Field; 16] = [
     Field::StudentId,
     Field::StudentName,
     Field::Section,
@@ -61,6 +61,7 @@ const CORRECTABLE: [Field; 15] = [
     Field::Status,
     Field::UnknownCode,
     Field::IdentifiedAs,
+    Field::LateDays,
 ];
 
 /// Parses a value as `field` holds it; the message says what was expected.
@@ -89,6 +90,7 @@ pub fn parse_value(field: Field, text: &str) -> Result<Value, String> {
             Unit::Temperature(s) => Some(s.to_celsius(v)),
             _ => None,
         }),
+        Field::LateDays => number("a number of days", &|_, _| None),
         Field::ReportedRecovery => number("a percentage", &|u, v| {
             matches!(u, Unit::Percent).then_some(v)
         }),
@@ -144,8 +146,10 @@ impl Corrections {
         let bytes = crate::files::read(path)
             .map_err(|e| ConfigError::Invalid(format!("cannot read {file}: {e}")))?;
         let (text, _) = delimited::decode(&bytes);
+        // a spreadsheet in a decimal-comma locale saves CSV with semicolons
         let mut reader = csv::ReaderBuilder::new()
             .flexible(true)
+            .delimiter(delimited::sniff_delimiter(&text, false))
             .from_reader(text.as_bytes());
         let headers = reader
             .headers()
@@ -315,6 +319,7 @@ fn apply_one(c: &Correction, sub: &mut Submission) -> String {
         }
         (Value::Number(v), Field::MpOnset) => number(&mut sub.mp_onset_c, "°C", *v),
         (Value::Number(v), Field::MpClear) => number(&mut sub.mp_clear_c, "°C", *v),
+        (Value::Number(v), Field::LateDays) => number(&mut sub.late_days, "days", *v),
         (Value::Range(o, cl), _) => {
             let before = match (sub.mp_onset_c, sub.mp_clear_c) {
                 (Some(a), Some(b)) => format!("{a}-{b} °C"),

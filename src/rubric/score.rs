@@ -355,7 +355,7 @@ fn excused(rubric: &Rubric, why: &str, overrides: &[&Override]) -> Score {
 fn no_submission(rubric: &Rubric, likely_typed_as: Option<&str>) -> Score {
     let max: f64 = rubric.criteria.iter().map(|c| *c.max.get_ref()).sum();
     let likely = likely_typed_as.map_or(String::new(), |id| {
-        format!("; A row with id {id}, which is not on the roster, is one typing slip from this student's id and has the same name: it is likely this student's (confirm the id with a correction)")
+        format!(": a row with id {id}, which is not on the roster, is one typing slip from this student's id and has the same name: it is likely this student's (confirm the id with a correction)")
     });
     match rubric.grading.no_submission {
         NoSubmission::Blank => Score {

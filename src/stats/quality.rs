@@ -25,6 +25,8 @@ pub struct GroupQuality {
     pub no_submission: usize,
     /// With a roster: graded rows whose id is not on it.
     pub not_on_roster: usize,
+    /// With a roster: rows read for rostered students (graded or excused).
+    pub submitted: usize,
     scores: Vec<f64>,
 }
 
@@ -36,10 +38,11 @@ impl GroupQuality {
             self.enrolled += 1;
             return;
         }
-        if a.has(Flag::NotOnRoster) {
+        if a.has(Flag::NotOnRoster) || a.submission.off_roster {
             self.not_on_roster += 1;
         } else {
             self.enrolled += 1;
+            self.submitted += 1;
         }
         if a.excused.is_some() {
             self.excused += 1;

@@ -453,25 +453,25 @@ fn the_entry_cells_refuse_what_cannot_be_right() {
             .find(|r| r.contains(&format!("promptTitle=\"{title}\"")))
             .unwrap_or_else(|| panic!("a rule for {title}"))
     };
-    // crude mass in column C: a decimal number (a letter is refused) between 0.0001 and 100 g
+    // crude mass in column D: a decimal number (a letter is refused) between 0.0001 and 100 g
     let crude = rule("Crude mass");
     assert!(
         crude.contains("type=\"decimal\"")
             && crude.contains("<formula1>0.0001</formula1><formula2>100</formula2>"),
         "{crude}"
     );
-    assert!(crude.contains("sqref=\"C7:C30\""), "{crude}");
-    // recovered mass in D: a number, above 0, at most the crude mass beside it
+    assert!(crude.contains("sqref=\"D7:D30\""), "{crude}");
+    // recovered mass in E: a number, above 0, at most the crude mass beside it
     let recovered = rule("Recovered mass");
     assert!(
-        recovered.contains("ISNUMBER(D7)") && recovered.contains("D7&lt;=C7"),
+        recovered.contains("ISNUMBER(E7)") && recovered.contains("E7&lt;=D7"),
         "{recovered}"
     );
     assert!(recovered.contains("errorTitle=\"Recovered more than crude\""));
-    // onset (F) and clear point (G): within the apparatus's span, onset at most the clear point
+    // onset (G) and clear point (H): within the apparatus's span, onset at most the clear point
     let onset = rule("Melting onset");
     assert!(
-        onset.contains("F7&gt;=20") && onset.contains("F7&lt;=G7"),
+        onset.contains("G7&gt;=20") && onset.contains("G7&lt;=H7"),
         "{onset}"
     );
     // the status: a drop-down list
@@ -535,4 +535,56 @@ fn late_work_costs_what_the_rubric_says_with_a_sentence_of_its_own() {
         late[3]["feedback"]
     );
     assert_eq!(late[2]["late_days"], "2.5");
+}
+
+/// Ids a spreadsheet stored as numbers lose their leading zeros (common practice: "0012345"
+/// typed into a General cell is kept as 12345); the roster's id is the student's. A row whose
+/// id is not on the roster stays out of the gradebook even when a correction excuses it, and
+/// the summary line counts only what was read.
+#[test]
+fn leading_zeros_an_excused_stranger_and_the_summary_line() {
+    let f = Fixture::new();
+    f.write(
+        "roster.csv",
+        "Student ID,Name,Section,TA\n0012345,Ines Ashdown,A1,T. Marlowe\n0012346,Jonas Cealy,A1,T. Marlowe\n0012347,Keiko Dunmore,A1,T. Marlowe\n",
+    );
+    f.write(
+        "class/A1.csv",
+        "Student ID,Name,Section,Crude mass (g),Recovered mass (g),Melting range (°C)\n\
+         12345,Ines Ashdown,A1,3.0,2.1,121.5-122.3\n\
+         12346,Jonas Cealy,A1,3.0,2.2,121.4-122.2\n\
+         2099999,Lucan Gatwood,A1,3.0,2.0,121.0-122.0\n",
+    );
+    f.write(
+        "c.csv",
+        "student_id,section,field,value,reason,grader\n2099999,,status,excused,medical note,T. Marlowe\n",
+    );
+    let run = f.run(&[
+        "grade",
+        "class",
+        "--roster",
+        "roster.csv",
+        "--corrections",
+        "c.csv",
+        "--out",
+        "out",
+    ]);
+    assert_eq!(run.code, 0, "{}", run.stderr);
+    // three rows read: the summary line says so (the no-submission row is not a submission)
+    assert!(
+        run.stderr.contains("3 submissions") || run.stdout.contains("3 submissions"),
+        "{}{}",
+        run.stdout,
+        run.stderr
+    );
+    let rows = f.results("out");
+    let ines = status_of(&rows, "0012345");
+    assert_eq!(ines.len(), 1, "12345 is the roster's 0012345");
+    assert!(ines[0]["notes"].contains("leading zeros"));
+    assert!(ines[0]["flags"].is_empty(), "{}", ines[0]["flags"]);
+    assert_eq!(ines[0]["assistant"], "T. Marlowe", "the roster's assistant");
+    assert_eq!(status_of(&rows, "0012347")[0]["status"], "no-submission");
+    let book = read_results(&f.path("out/gradebook.csv"));
+    let ids: Vec<&str> = book.iter().map(|b| b["student_id"].as_str()).collect();
+    assert_eq!(ids, vec!["0012345", "0012346", "0012347"]);
 }
