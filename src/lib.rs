@@ -7,6 +7,7 @@
 
 pub mod assess;
 pub mod config;
+pub mod contain;
 pub mod error;
 pub mod export;
 pub mod fields;

@@ -14,6 +14,7 @@ pub mod submission;
 pub mod table;
 pub mod values;
 pub mod workbook;
+pub mod xls_guard;
 
 use std::fmt::Write as _;
 use std::path::Path;

@@ -12,8 +12,9 @@
 //! masses as a percentage in every format (see `assess`).
 
 use std::collections::HashMap;
-use std::io::{BufReader, Read};
+use std::io::BufReader;
 use std::path::Path;
+use std::sync::Arc;
 
 use quick_xml::events::{BytesStart, Event};
 
@@ -31,8 +32,8 @@ pub struct Block {
     pub decimals: Option<u8>,
 }
 
-/// Percent blocks by sheet name.
-pub type PercentCells = HashMap<String, Vec<Block>>;
+/// Percent blocks by sheet name (shared: sheet records of an .xls may share one sheet).
+pub type PercentCells = HashMap<String, Arc<[Block]>>;
 
 /// Re-types the plain numbers of `sheet` that lie in one of `blocks` as percentages.
 pub fn mark(sheet: &mut RawSheet, blocks: &[Block]) {
@@ -252,7 +253,7 @@ pub fn ods(path: &Path) -> Result<PercentCells, OdsScan> {
                     let done = std::mem::take(&mut at);
                     if let Some(name) = done.sheet {
                         if !done.blocks.is_empty() {
-                            found.entry(name).or_default().extend(done.blocks);
+                            found.insert(name, done.blocks.into());
                         }
                     }
                 }
@@ -413,32 +414,30 @@ fn sheet_blocks(stream: &[u8], offset: usize, percent_xf: &[Option<u8>]) -> Vec<
     blocks
 }
 
-/// The percent-formatted number cells of every sheet of a legacy binary workbook.
-pub fn xls(path: &Path) -> Result<PercentCells, String> {
-    let mut file = cfb::open(path).map_err(|e| e.to_string())?;
-    let (name, biff8) = if file.exists("/Workbook") {
-        ("/Workbook", true)
-    } else {
-        ("/Book", false)
-    };
-    let mut stream = Vec::new();
-    file.open_stream(name)
-        .and_then(|mut s| s.read_to_end(&mut stream))
-        .map_err(|e| e.to_string())?;
-    let g = globals(&stream, biff8);
+/// The percent-formatted number cells of every sheet of a legacy binary workbook's stream
+/// (read and checked by `xls_guard`). Each sheet is walked once however many sheet records
+/// share it, and a name given twice keeps its last sheet, as the reader does.
+pub fn xls(stream: &[u8], biff8: bool) -> PercentCells {
+    let g = globals(stream, biff8);
     let percent_xf: Vec<Option<u8>> = g
         .xf_formats
         .iter()
         .map(|&id| format_percent(&g, id))
         .collect();
+    let mut walked: HashMap<usize, Arc<[Block]>> = HashMap::new();
     let mut found = PercentCells::new();
-    for (name, offset) in &g.sheets {
-        let blocks = sheet_blocks(&stream, *offset, &percent_xf);
-        if !blocks.is_empty() {
-            found.entry(name.clone()).or_default().extend(blocks);
+    for (name, offset) in g.sheets {
+        let blocks = walked
+            .entry(offset)
+            .or_insert_with(|| sheet_blocks(stream, offset, &percent_xf).into())
+            .clone();
+        if blocks.is_empty() {
+            found.remove(&name);
+        } else {
+            found.insert(name, blocks);
         }
     }
-    Ok(found)
+    found
 }
 
 #[cfg(test)]
@@ -527,8 +526,8 @@ mod tests {
         let dir = ods_with(content);
         let found = ods(&dir.path().join("t.ods")).unwrap();
         assert_eq!(
-            found.get("Sec 1"),
-            Some(&vec![
+            found.get("Sec 1").map(|b| b.to_vec()),
+            Some(vec![
                 Block {
                     row: 1,
                     rows: 2,

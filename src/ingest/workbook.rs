@@ -5,13 +5,14 @@
 //! workbook is opened its directory is read, and one that would expand past a limit is refused.
 
 use std::fs::File;
-use std::io::BufReader;
+use std::io::{BufReader, Cursor, Read, Seek};
 use std::path::Path;
 
 use calamine::{open_workbook, Data, DataRef, Ods, Reader, Xls, Xlsb, Xlsx};
 
 use super::cells::{Cell, RawSheet, RowBuilder};
 use super::percent_cells;
+use super::xls_guard;
 
 /// Largest total size a zipped workbook may expand to.
 pub const MAX_EXPANDED_BYTES: u64 = 2 << 30;
@@ -41,7 +42,7 @@ pub struct SheetRead {
 pub(crate) const HIDDEN: &str = "skipped: the workbook hides this sheet (most often a template or an old copy); unhide it in the spreadsheet program to grade it";
 
 /// The sheets the workbook hides, each as a note, and the names of the others in order.
-fn hidden_first<R: Reader<BufReader<File>>>(wb: &R) -> (Vec<SheetRead>, Vec<String>) {
+fn hidden_first<RS: Read + Seek, R: Reader<RS>>(wb: &R) -> (Vec<SheetRead>, Vec<String>) {
     let (hidden, shown): (Vec<_>, Vec<_>) = wb
         .sheets_metadata()
         .iter()
@@ -299,7 +300,7 @@ fn stream_xlsb(wb: &mut Xlsb<BufReader<File>>, name: &str) -> Result<RawSheet, S
     })
 }
 
-fn dense<R: Reader<BufReader<File>>>(wb: &mut R, name: &str) -> Result<RawSheet, String>
+fn dense<RS: Read + Seek, R: Reader<RS>>(wb: &mut R, name: &str) -> Result<RawSheet, String>
 where
     R::Error: std::fmt::Display,
 {
@@ -337,7 +338,7 @@ impl Format {
 }
 
 /// Whether a workbook is one benchgrade wrote: its "Provenance" sheet opens with the tool's name.
-fn is_own_output<R: Reader<BufReader<File>>>(wb: &mut R) -> bool {
+fn is_own_output<RS: Read + Seek, R: Reader<RS>>(wb: &mut R) -> bool {
     if !wb.sheet_names().iter().any(|n| n == "Provenance") {
         return false;
     }
@@ -354,18 +355,23 @@ fn is_own_output<R: Reader<BufReader<File>>>(wb: &mut R) -> bool {
 const OWN_OUTPUT: &str =
     "skipped: this is a graded workbook benchgrade wrote; grade the class file it came from";
 
-fn read_all<R, F>(mut wb: R, mut read: F, on_sheet: &mut dyn FnMut(SheetRead)) -> Result<(), String>
+fn read_all<RS, R, F>(
+    mut wb: R,
+    mut read: F,
+    on_sheet: &mut dyn FnMut(SheetRead),
+) -> Result<(), String>
 where
-    R: Reader<BufReader<File>>,
+    RS: Read + Seek,
+    R: Reader<RS>,
     F: FnMut(&mut R, &str) -> Result<RawSheet, String>,
 {
-    if is_own_output(&mut wb) {
+    if guarded(|| Ok(is_own_output(&mut wb)))? {
         return Err(OWN_OUTPUT.into());
     }
-    let (hidden, names) = hidden_first(&wb);
+    let (hidden, names) = guarded(|| Ok(hidden_first(&wb)))?;
     hidden.into_iter().for_each(&mut *on_sheet);
     for name in names {
-        let result = read(&mut wb, &name);
+        let result = guarded(|| read(&mut wb, &name));
         on_sheet(SheetRead {
             name,
             result,
@@ -389,13 +395,13 @@ where
     O: Fn() -> Result<R, String> + Sync,
     F: Fn(&mut R, &str) -> Result<RawSheet, String> + Sync,
 {
-    let mut wb = open()?;
-    let (hidden, names) = hidden_first(&wb);
+    let mut wb = guarded(&open)?;
+    let (hidden, names) = guarded(|| Ok(hidden_first(&wb)))?;
     if names.len() < 2 || std::thread::available_parallelism().map_or(1, std::num::NonZero::get) < 2
     {
         return read_all(wb, read, on_sheet);
     }
-    if is_own_output(&mut wb) {
+    if guarded(|| Ok(is_own_output(&mut wb)))? {
         return Err(OWN_OUTPUT.into());
     }
     hidden.into_iter().for_each(&mut *on_sheet);
@@ -403,9 +409,9 @@ where
         let (tx, rx) = std::sync::mpsc::sync_channel::<SheetRead>(0);
         let (names, open, read) = (&names, &open, &read);
         scope.spawn(move || {
-            let Ok(mut own) = open() else { return };
+            let Ok(mut own) = guarded(open) else { return };
             for name in names.iter().skip(1).step_by(2) {
-                let result = read(&mut own, name);
+                let result = guarded(|| read(&mut own, name));
                 if tx
                     .send(SheetRead {
                         name: name.clone(),
@@ -422,13 +428,21 @@ where
             let from_helper = if i % 2 == 1 { rx.recv().ok() } else { None };
             let sheet = from_helper.unwrap_or_else(|| SheetRead {
                 name: name.clone(),
-                result: read(&mut wb, name),
+                result: guarded(|| read(&mut wb, name)),
                 fatal: true,
             });
             on_sheet(sheet);
         }
     });
     Ok(())
+}
+
+/// What a file gets when its reader panics on it (a damaged file; calamine's bug, caught).
+pub const READER_STOPPED: &str = "not a readable workbook: the reader stopped on damaged data in this file; re-save it from the spreadsheet program";
+
+/// Runs a reader call; a panic inside it costs this file (or sheet) only.
+fn guarded<T>(f: impl FnOnce() -> Result<T, String>) -> Result<T, String> {
+    crate::contain::contain(f).unwrap_or_else(|()| Err(READER_STOPPED.into()))
 }
 
 /// A sheet with its percent-formatted cells re-typed.
@@ -462,8 +476,12 @@ pub fn read_workbook(
             on_sheet,
         )?,
         Format::Xls => {
-            let wb = open_workbook::<Xls<_>, _>(path).map_err(describe)?;
-            let percent = percent_cells::xls(path).unwrap_or_default();
+            // checked first: calamine trusts the sizes an .xls states (see xls_guard)
+            let checked = xls_guard::check(path)?;
+            let percent = percent_cells::xls(&checked.stream, checked.biff8);
+            drop(checked.stream);
+            let container = Cursor::new(checked.container);
+            let wb = guarded(|| Xls::new(container).map_err(describe))?;
             read_all(wb, dense, &mut |s| on_sheet(marked(s, &percent)))?;
         }
         Format::Ods => {
@@ -475,7 +493,7 @@ pub fn read_workbook(
                     percent_cells::PercentCells::default()
                 }
             };
-            let wb = open_workbook::<Ods<_>, _>(path).map_err(describe)?;
+            let wb = guarded(|| open_workbook::<Ods<_>, _>(path).map_err(describe))?;
             read_all(wb, dense, &mut |s| on_sheet(marked(s, &percent)))?;
         }
     }

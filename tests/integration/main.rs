@@ -14,6 +14,7 @@ mod browser;
 mod cohort;
 mod grading;
 mod harness;
+mod hostile_files;
 mod ingest_messy;
 mod layers;
 mod nist;

@@ -1,0 +1,771 @@
+//! What a legacy .xls file may ask of the reader, checked before calamine sees it.
+//!
+//! calamine's .xls reader trusts the file: a DIMENSIONS record's row count is reserved as
+//! memory (2^32 rows abort the process, which no `catch_unwind` can stop), a sheet's cells are
+//! laid out as one dense grid from the first to the last cell, every sheet record is parsed from
+//! its own offset (a thousand records sharing one sheet parse it a thousand times), a shared
+//! string is copied into every cell that names it, a label's declared length is reserved even
+//! when the record holds no text, and its own compound-file parser follows sector chains
+//! without looking for loops. So this module reads the Workbook stream with the `cfb` crate
+//! (which checks the container), walks its BIFF records once, and refuses, naming what and
+//! where, any file that would cost more than the budgets below. A file that passes is handed
+//! to calamine as a fresh compound file holding only that stream (written here, so calamine's
+//! container parser sees nothing damaged), with every formula's token list emptied: benchgrade
+//! reads a formula's stored result, never its text, and the text is where a few bytes can
+//! expand a hundredfold (sheet names, repeated spaces).
+//!
+//! Panics calamine may still raise on a damaged record are caught by the caller
+//! (`crate::contain`) and cost that file only.
+
+use std::collections::HashMap;
+use std::io::{Cursor, Read, Write};
+use std::path::Path;
+
+/// Largest Workbook stream read: a class file is a few MB; BIFF8 holds 65,536 rows a sheet.
+pub const MOST_STREAM_BYTES: u64 = 64 << 20;
+/// Most grid cells calamine may lay out over the whole workbook: each sheet's rows x columns
+/// from its first to its last cell, for values and for formulas, summed over the sheet records
+/// (about 128 MiB for each copy of the grid). Also the most a DIMENSIONS record may declare,
+/// and the most cell records one sheet may hold.
+pub const MOST_GRID_CELLS: u64 = 4_000_000;
+/// Most records the reader may walk, summed over the sheet records (a sheet shared by many
+/// sheet records is walked once for each).
+pub const MOST_RECORDS_WALKED: u64 = 10_000_000;
+/// Most bytes of text the reader may build: labels as declared, shared strings once and again
+/// for every cell that names them.
+pub const MOST_TEXT_BYTES: u64 = 256 << 20;
+/// Most sheet records: a class workbook has a sheet for each section.
+pub const MOST_SHEETS: usize = 4_096;
+/// Most CONTINUE records after one record (the reader takes them one by one from the front of
+/// a list, so their count costs its square in time).
+const MOST_CONTINUES: usize = 16_384;
+/// UTF-8 bytes one character of a BIFF string can become (a code page character, widened).
+const BYTES_PER_CHAR: u64 = 4;
+/// Bytes of one empty string.
+const STRING_BYTES: u64 = 24;
+
+mod rec {
+    pub const BOF: u16 = 0x0809;
+    pub const EOF: u16 = 0x000A;
+    pub const CONTINUE: u16 = 0x003C;
+    pub const BOUNDSHEET: u16 = 0x0085;
+    pub const SST: u16 = 0x00FC;
+    pub const DIMENSIONS: u16 = 0x0200;
+    pub const NUMBER: u16 = 0x0203;
+    pub const LABEL: u16 = 0x0204;
+    pub const RSTRING: u16 = 0x00D6;
+    pub const BOOLERR: u16 = 0x0205;
+    pub const STRING: u16 = 0x0207;
+    pub const RK: u16 = 0x027E;
+    pub const LABELSST: u16 = 0x00FD;
+    pub const MULRK: u16 = 0x00BD;
+    pub const FORMULA: u16 = 0x0006;
+}
+
+/// A checked workbook: the stream as read, and the compound file calamine is to read.
+pub struct Checked {
+    pub stream: Vec<u8>,
+    pub biff8: bool,
+    pub container: Vec<u8>,
+}
+
+fn u16_at(b: &[u8], i: usize) -> Option<u16> {
+    b.get(i..i + 2).map(|s| u16::from_le_bytes([s[0], s[1]]))
+}
+
+fn u32_at(b: &[u8], i: usize) -> Option<u32> {
+    b.get(i..i + 4)
+        .map(|s| u32::from_le_bytes([s[0], s[1], s[2], s[3]]))
+}
+
+/// One raw record: where it starts, its type and its body.
+#[derive(Clone, Copy)]
+struct Raw<'a> {
+    at: usize,
+    kind: u16,
+    body: &'a [u8],
+}
+
+/// The records from `at` as calamine frames them (a truncated last record ends the walk).
+fn raw_records(stream: &[u8], mut at: usize) -> impl Iterator<Item = Raw<'_>> {
+    std::iter::from_fn(move || {
+        let head = stream.get(at..at + 4)?;
+        let kind = u16::from_le_bytes([head[0], head[1]]);
+        let len = usize::from(u16::from_le_bytes([head[2], head[3]]));
+        let body = stream.get(at + 4..at + 4 + len)?;
+        let r = Raw { at, kind, body };
+        at += 4 + len;
+        Some(r)
+    })
+}
+
+/// Reads the Workbook (BIFF8) or Book (BIFF5) stream of a compound file, bounded.
+fn read_stream(path: &Path) -> Result<(Vec<u8>, bool), String> {
+    let damaged = |e: std::io::Error| format!("not a readable workbook: {e}");
+    let mut file = cfb::open(path).map_err(damaged)?;
+    let (name, biff8) = if file.is_stream("/Workbook") {
+        ("/Workbook", true)
+    } else if file.is_stream("/Book") {
+        ("/Book", false)
+    } else {
+        return Err("not a readable workbook: the file holds no workbook stream (is it an .xls saved by a spreadsheet program?)".into());
+    };
+    let len = file.entry(name).map_err(damaged)?.len();
+    if len > MOST_STREAM_BYTES {
+        return Err(format!(
+            "refused: its workbook stream is {} MiB, more than the {} MiB a class file holds",
+            len >> 20,
+            MOST_STREAM_BYTES >> 20
+        ));
+    }
+    let mut stream = Vec::new();
+    file.open_stream(name)
+        .map_err(damaged)?
+        .take(MOST_STREAM_BYTES + 1)
+        .read_to_end(&mut stream)
+        .map_err(damaged)?;
+    Ok((stream, biff8))
+}
+
+/// What the globals hold for the budgets: each sheet record's name and offset, and the text
+/// cost of each shared string.
+#[derive(Default)]
+struct Globals {
+    sheets: Vec<(String, usize)>,
+    shared: Vec<u64>,
+    text: u64,
+}
+
+/// The bodies of the CONTINUE records from `at`, which calamine joins to the record before.
+fn continues(stream: &[u8], at: usize) -> Result<Vec<&[u8]>, String> {
+    let cont: Vec<&[u8]> = raw_records(stream, at)
+        .take_while(|r| r.kind == rec::CONTINUE)
+        .take(MOST_CONTINUES + 1)
+        .map(|r| r.body)
+        .collect();
+    if cont.len() > MOST_CONTINUES {
+        return Err(format!(
+            "refused: a record before byte {at} is continued more than {MOST_CONTINUES} times, more than a class file needs (a damaged file)"
+        ));
+    }
+    Ok(cont)
+}
+
+/// A record's body and its continuations, read as calamine reads a shared string table.
+struct Joined<'a> {
+    data: &'a [u8],
+    cont: std::vec::IntoIter<&'a [u8]>,
+}
+
+impl<'a> Joined<'a> {
+    fn next_part(&mut self) -> bool {
+        match self.cont.next() {
+            Some(d) => {
+                self.data = d;
+                true
+            }
+            None => false,
+        }
+    }
+
+    fn take(&mut self, n: usize) -> Option<&'a [u8]> {
+        let (head, rest) = (self.data.get(..n)?, self.data.get(n..)?);
+        self.data = rest;
+        Some(head)
+    }
+
+    fn skip(&mut self, mut n: usize) -> Option<()> {
+        while n > 0 {
+            if self.data.is_empty() && !self.next_part() {
+                return None;
+            }
+            let l = n.min(self.data.len());
+            self.data = &self.data[l..];
+            n -= l;
+        }
+        Some(())
+    }
+
+    /// One string of the table, as calamine's `read_rich_extended_string`; `None` where
+    /// calamine would stop with an error (or a panic), which ends its reading of the file.
+    fn string(&mut self) -> Option<u64> {
+        if self.data.is_empty() {
+            return Some(0);
+        }
+        let head = self.take(3)?;
+        let cch = usize::from(u16::from_le_bytes([head[0], head[1]]));
+        let flags = head[2];
+        let runs = if flags & 0x8 != 0 {
+            usize::from(u16_at(self.take(2)?, 0)?)
+        } else {
+            0
+        };
+        let ext = if flags & 0x4 != 0 {
+            u32_at(self.take(4)?, 0)? as i32 as usize
+        } else {
+            0
+        };
+        let mut high = flags & 1 != 0;
+        let mut left = cch;
+        while left > 0 {
+            let l = if high {
+                (self.data.len() / 2).min(left)
+            } else {
+                self.data.len().min(left)
+            };
+            self.data = &self.data[if high { 2 * l } else { l }..];
+            left -= l;
+            if left > 0 {
+                if !self.next_part() {
+                    return None;
+                }
+                high = self.take(1)?[0] & 1 != 0;
+            }
+        }
+        self.skip(runs * 4)?;
+        self.skip(ext)?;
+        Some(cch as u64 * BYTES_PER_CHAR)
+    }
+}
+
+/// The text cost of each string of a shared string table (SST), in calamine's order.
+fn shared_strings(body: &[u8], cont: Vec<&[u8]>) -> Vec<u64> {
+    let mut out = Vec::new();
+    let Some(data) = body.get(8..) else {
+        return out;
+    };
+    let mut r = Joined {
+        data,
+        cont: cont.into_iter(),
+    };
+    while !r.data.is_empty() || r.next_part() {
+        match r.string() {
+            Some(cost) => out.push(cost),
+            None => break,
+        }
+    }
+    out
+}
+
+/// A sheet record's name, for messages (at most 40 characters).
+fn sheet_name(body: &[u8], biff8: bool) -> String {
+    let cch = usize::from(body.get(6).copied().unwrap_or(0)).min(40);
+    let wide = biff8 && body.get(7).is_some_and(|f| f & 1 == 1);
+    let text = body.get(if biff8 { 8 } else { 7 }..).unwrap_or_default();
+    if wide {
+        let units: Vec<u16> = text
+            .chunks_exact(2)
+            .take(cch)
+            .map(|p| u16::from_le_bytes([p[0], p[1]]))
+            .collect();
+        String::from_utf16_lossy(&units)
+    } else {
+        text.iter().take(cch).map(|&c| char::from(c)).collect()
+    }
+}
+
+fn globals(stream: &[u8], biff8: bool) -> Result<Globals, String> {
+    let mut g = Globals::default();
+    for r in raw_records(stream, 0) {
+        match r.kind {
+            rec::BOUNDSHEET => {
+                let Some(offset) = u32_at(r.body, 0) else {
+                    continue;
+                };
+                g.sheets.push((sheet_name(r.body, biff8), offset as usize));
+                if g.sheets.len() > MOST_SHEETS {
+                    return Err(format!(
+                        "refused: the workbook lists more than {MOST_SHEETS} sheets, more than a class file holds (a damaged file)"
+                    ));
+                }
+            }
+            rec::SST => {
+                let next = r.at + 4 + r.body.len();
+                g.shared = shared_strings(r.body, continues(stream, next)?);
+                g.text = g
+                    .shared
+                    .iter()
+                    .map(|c| c + STRING_BYTES)
+                    .fold(0, u64::saturating_add);
+            }
+            rec::EOF => break,
+            _ => {}
+        }
+    }
+    Ok(g)
+}
+
+/// Which of `offsets` start a record of the stream read from its start.
+fn record_starts(stream: &[u8], offsets: &[usize]) -> Vec<usize> {
+    let mut wanted: Vec<usize> = offsets.to_vec();
+    wanted.sort_unstable();
+    wanted.dedup();
+    let mut found = Vec::new();
+    let mut i = 0;
+    for r in raw_records(stream, 0) {
+        while i < wanted.len() && wanted[i] < r.at {
+            i += 1;
+        }
+        if i == wanted.len() {
+            break;
+        }
+        if wanted[i] == r.at {
+            found.push(r.at);
+        }
+    }
+    found
+}
+
+/// Rows and columns of the cells a DIMENSIONS record makes calamine reserve, computed as
+/// calamine computes them (in 32 bits, wrapping); `None` where its subtraction would overflow.
+fn reserved(body: &[u8]) -> Option<u64> {
+    let (rf, rl, cf, cl) = match body.len() {
+        10 => (
+            u32::from(u16_at(body, 0)?),
+            u32::from(u16_at(body, 2)?),
+            u32::from(u16_at(body, 4)?),
+            u32::from(u16_at(body, 6)?),
+        ),
+        14 | 16 => (
+            u32_at(body, 0)?,
+            u32_at(body, 4)?,
+            u32::from(u16_at(body, 8)?),
+            u32::from(u16_at(body, 10)?),
+        ),
+        _ => return Some(0),
+    };
+    let cf = if cf > 0xFF || cl < cf { 0 } else { cf };
+    let (start, end) = if rl >= 1 && cl >= 1 {
+        ((rf, cf), (rl - 1, cl - 1))
+    } else {
+        ((rf, cf), (rf, cf))
+    };
+    let rows = u64::from(end.0.checked_sub(start.0)?) + 1;
+    let cols = u64::from(end.1.checked_sub(start.1)?) + 1;
+    Some(rows * cols)
+}
+
+/// The rows and columns a set of cells spans.
+#[derive(Default, Clone, Copy)]
+struct Span {
+    first: Option<(u32, u32)>,
+    last: (u32, u32),
+}
+
+impl Span {
+    fn add(&mut self, row: u32, col: u32) {
+        let (r0, c0) = self.first.unwrap_or((row, col));
+        self.first = Some((r0.min(row), c0.min(col)));
+        self.last = (self.last.0.max(row), self.last.1.max(col));
+    }
+
+    fn cells(&self) -> u64 {
+        self.first.map_or(0, |(r0, c0)| {
+            (u64::from(self.last.0 - r0) + 1) * (u64::from(self.last.1 - c0) + 1)
+        })
+    }
+}
+
+/// What reading one sheet costs calamine.
+#[derive(Default, Clone, Copy)]
+struct Cost {
+    records: u64,
+    cells: u64,
+    grid: u64,
+    text: u64,
+    /// The largest DIMENSIONS reservation, or `None` for one calamine cannot compute.
+    reserve: Option<u64>,
+}
+
+/// The text a LABEL, RSTRING or STRING record makes: its declared length is reserved.
+fn label_text(body: &[u8]) -> u64 {
+    u64::from(u16_at(body, 0).unwrap_or(0)) + body.len() as u64 * BYTES_PER_CHAR
+}
+
+/// Walks one sheet from `offset` as calamine does (nested substreams skipped, up to the
+/// sheet's own EOF), adding up its cost; stops early once `budget` records are walked.
+fn sheet_cost(stream: &[u8], offset: usize, shared: &[u64], budget: u64) -> Cost {
+    let mut c = Cost {
+        reserve: Some(0),
+        ..Cost::default()
+    };
+    let (mut values, mut formulas) = (Span::default(), Span::default());
+    let (mut seen_bof, mut depth) = (false, 0usize);
+    let mut formula_at = (0u32, 0u32);
+    for r in raw_records(stream, offset) {
+        c.records += 1;
+        if c.records > budget {
+            break;
+        }
+        if r.kind == rec::CONTINUE {
+            continue;
+        }
+        if depth > 0 {
+            match r.kind {
+                rec::BOF => depth += 1,
+                rec::EOF => depth -= 1,
+                _ => {}
+            }
+            continue;
+        }
+        let b = r.body;
+        let pos = u16_at(b, 0)
+            .zip(u16_at(b, 2))
+            .map(|(r, c)| (u32::from(r), u32::from(c)));
+        match r.kind {
+            rec::BOF if seen_bof => depth += 1,
+            rec::BOF => seen_bof = true,
+            rec::EOF => break,
+            rec::DIMENSIONS => {
+                c.reserve = c.reserve.zip(reserved(b)).map(|(a, b)| a.max(b));
+            }
+            rec::NUMBER | rec::BOOLERR | rec::RK | rec::LABEL | rec::RSTRING | rec::LABELSST => {
+                if let Some((row, col)) = pos {
+                    values.add(row, col);
+                    c.cells += 1;
+                }
+                if matches!(r.kind, rec::LABEL | rec::RSTRING) {
+                    c.text += label_text(b.get(6..).unwrap_or_default());
+                }
+                if r.kind == rec::LABELSST {
+                    let i = u32_at(b, 6).unwrap_or(u32::MAX) as usize;
+                    c.text += shared.get(i).copied().unwrap_or(0);
+                }
+            }
+            rec::STRING => {
+                values.add(formula_at.0, formula_at.1);
+                c.cells += 1;
+                c.text += label_text(b);
+            }
+            rec::FORMULA => {
+                if let Some((row, col)) = pos {
+                    formula_at = (row, col);
+                    values.add(row, col);
+                    formulas.add(row, col);
+                    c.cells += 2;
+                }
+            }
+            rec::MULRK => {
+                if let (Some((row, first)), true) = (pos, b.len() >= 6) {
+                    let n = (b.len() - 6).div_ceil(6) as u32;
+                    if n > 0 {
+                        values.add(row, first);
+                        values.add(row, first + n - 1);
+                    }
+                    c.cells += u64::from(n);
+                }
+            }
+            _ => {}
+        }
+    }
+    c.grid = values.cells() + formulas.cells();
+    c
+}
+
+/// The budgets a sheet's cost is held to; `Err` says which is passed.
+fn over_budget(name: &str, c: &Cost) -> Option<String> {
+    let sheet = format!("sheet \"{name}\"");
+    match c.reserve {
+        None => Some(format!(
+            "refused: {sheet} has a DIMENSIONS record whose last row comes before its first (a damaged file)"
+        )),
+        Some(n) if n > MOST_GRID_CELLS => Some(format!(
+            "refused: {sheet} declares {n} cells in its DIMENSIONS record, more than the {MOST_GRID_CELLS} a workbook may hold (a damaged file)"
+        )),
+        _ if c.cells > MOST_GRID_CELLS => Some(format!(
+            "refused: {sheet} holds more than {MOST_GRID_CELLS} cell records, more than a workbook may hold"
+        )),
+        _ => None,
+    }
+}
+
+/// Walks every sheet record's sheet, holding the workbook to the budgets.
+fn check_sheets(stream: &[u8], starts: &[usize], g: &Globals) -> Result<(), String> {
+    let mut memo: HashMap<usize, Cost> = HashMap::new();
+    let (mut walked, mut grid, mut text) = (0u64, 0u64, g.text);
+    for (name, offset) in &g.sheets {
+        let label = name;
+        if *offset > stream.len() {
+            return Err(format!(
+                "refused: sheet \"{label}\" is said to start at byte {offset}, past the end of the {}-byte workbook stream (a damaged file)",
+                stream.len()
+            ));
+        }
+        if starts.binary_search(offset).is_err() && *offset < stream.len() {
+            return Err(format!(
+                "refused: sheet \"{label}\" is said to start at byte {offset}, which is not the start of a record (a damaged file)"
+            ));
+        }
+        let budget = MOST_RECORDS_WALKED.saturating_sub(walked);
+        let cost = *memo
+            .entry(*offset)
+            .or_insert_with(|| sheet_cost(stream, *offset, &g.shared, budget));
+        if let Some(why) = over_budget(name, &cost) {
+            return Err(why);
+        }
+        walked += cost.records;
+        grid += cost.grid;
+        text += cost.text;
+        if walked > MOST_RECORDS_WALKED {
+            return Err(format!(
+                "refused: reading its {} sheet records would walk more than {MOST_RECORDS_WALKED} records (sheet records that share a sheet; a damaged file)",
+                g.sheets.len()
+            ));
+        }
+        if grid > MOST_GRID_CELLS {
+            return Err(format!(
+                "refused: its sheets span more than {MOST_GRID_CELLS} grid cells (rows x columns from each sheet's first cell to its last), more than a workbook may hold; up to sheet \"{label}\""
+            ));
+        }
+        if text > MOST_TEXT_BYTES {
+            return Err(format!(
+                "refused: its text would take more than {} MiB (up to sheet \"{label}\"), more than a class file holds (a damaged file)",
+                MOST_TEXT_BYTES >> 20
+            ));
+        }
+    }
+    Ok(())
+}
+
+/// A copy of the stream with every formula's token list emptied (its stored result kept).
+fn without_formula_text(stream: &[u8]) -> Vec<u8> {
+    let mut out = stream.to_vec();
+    for r in raw_records(stream, 0).filter(|r| r.kind == rec::FORMULA) {
+        // a FORMULA body: row, col, xf, result (8), flags, chn (4), then cce and the tokens
+        if r.body.len() >= 22 {
+            let cce = r.at + 4 + 20;
+            out[cce..cce + 2].copy_from_slice(&[0, 0]);
+        }
+    }
+    out
+}
+
+/// A compound file holding `stream` alone, under the name calamine looks for.
+fn container(stream: &[u8], biff8: bool) -> Result<Vec<u8>, String> {
+    let fail = |e: std::io::Error| format!("cannot prepare the workbook for reading: {e}");
+    // version 3 (512-byte sectors), which every reader takes
+    let mut cf = cfb::CompoundFile::create_with_version(cfb::Version::V3, Cursor::new(Vec::new()))
+        .map_err(fail)?;
+    {
+        let name = if biff8 { "/Workbook" } else { "/Book" };
+        let mut s = cf.create_stream(name).map_err(fail)?;
+        s.write_all(stream).map_err(fail)?;
+    }
+    cf.flush().map_err(fail)?;
+    Ok(cf.into_inner().into_inner())
+}
+
+/// Reads and checks a legacy workbook; `Err` is the message for the file.
+pub fn check(path: &Path) -> Result<Checked, String> {
+    let (stream, biff8) = read_stream(path)?;
+    let g = globals(&stream, biff8)?;
+    let offsets: Vec<usize> = g.sheets.iter().map(|(_, at)| *at).collect();
+    let starts = record_starts(&stream, &offsets);
+    check_sheets(&stream, &starts, &g)?;
+    let container = container(&without_formula_text(&stream), biff8)?;
+    Ok(Checked {
+        stream,
+        biff8,
+        container,
+    })
+}
+
+#[cfg(test)]
+mod tests {
+    use super::*;
+    use calamine::Reader;
+
+    /// One BIFF record: type, length, body (MS-XLS 2.1.4).
+    fn record(kind: u16, body: &[u8]) -> Vec<u8> {
+        let mut out = kind.to_le_bytes().to_vec();
+        out.extend((body.len() as u16).to_le_bytes());
+        out.extend(body);
+        out
+    }
+
+    fn bof(sheet: bool) -> Vec<u8> {
+        // BOF (MS-XLS 2.4.21): BIFF8 (0x0600), a workbook globals (5) or worksheet (0x10)
+        let dt: u16 = if sheet { 0x10 } else { 5 };
+        let mut b = 0x0600u16.to_le_bytes().to_vec();
+        b.extend(dt.to_le_bytes());
+        b.extend([0; 12]);
+        record(rec::BOF, &b)
+    }
+
+    fn boundsheet(offset: u32, name: &str) -> Vec<u8> {
+        // BoundSheet8 (MS-XLS 2.4.28): position, visible worksheet, a 1-byte-wide name
+        let mut b = offset.to_le_bytes().to_vec();
+        b.extend([0, 0, name.len() as u8, 0]);
+        b.extend(name.as_bytes());
+        record(rec::BOUNDSHEET, &b)
+    }
+
+    pub(super) fn number(row: u16, col: u16, v: f64) -> Vec<u8> {
+        let mut b = row.to_le_bytes().to_vec();
+        b.extend(col.to_le_bytes());
+        b.extend(0u16.to_le_bytes());
+        b.extend(v.to_le_bytes());
+        record(rec::NUMBER, &b)
+    }
+
+    /// A workbook stream: the globals (with `extra` records), one sheet record per name, all
+    /// pointing at one sheet holding `cells` (records after its BOF).
+    fn stream(names: &[&str], extra: &[u8], cells: &[u8]) -> Vec<u8> {
+        let sheet_records: usize = names.iter().map(|n| boundsheet(0, n).len()).sum();
+        let globals_len = bof(false).len() + extra.len() + sheet_records + 4;
+        let mut s = bof(false);
+        s.extend(extra);
+        for n in names {
+            s.extend(boundsheet(globals_len as u32, n));
+        }
+        s.extend(record(rec::EOF, &[]));
+        s.extend(bof(true));
+        s.extend(cells);
+        s.extend(record(rec::EOF, &[]));
+        s
+    }
+
+    fn xls_file(stream: &[u8]) -> (tempfile::TempDir, std::path::PathBuf) {
+        let dir = tempfile::tempdir().unwrap();
+        let path = dir.path().join("t.xls");
+        std::fs::write(&path, container(stream, true).unwrap()).unwrap();
+        (dir, path)
+    }
+
+    fn refused(stream: &[u8]) -> String {
+        let (_dir, path) = xls_file(stream);
+        match check(&path) {
+            Err(why) => why,
+            Ok(_) => panic!("passed"),
+        }
+    }
+
+    fn dimensions(rf: u32, rl: u32, cf: u16, cl: u16) -> Vec<u8> {
+        // Dimensions (MS-XLS 2.4.90), BIFF8: rwMic, rwMac (one past the last row), colMic, colMac
+        let mut b = rf.to_le_bytes().to_vec();
+        b.extend(rl.to_le_bytes());
+        b.extend(cf.to_le_bytes());
+        b.extend(cl.to_le_bytes());
+        b.extend([0, 0]);
+        record(rec::DIMENSIONS, &b)
+    }
+
+    #[test]
+    fn a_plain_sheet_passes_and_is_read() {
+        let mut cells = dimensions(0, 2, 0, 2);
+        cells.extend(number(0, 0, 1.5));
+        cells.extend(number(1, 1, 2.5));
+        let (_dir, path) = xls_file(&stream(&["Sec 1"], &[], &cells));
+        let checked = check(&path).unwrap();
+        let mut wb = calamine::Xls::new(Cursor::new(checked.container)).unwrap();
+        let range = wb.worksheet_range("Sec 1").unwrap();
+        assert_eq!(range.get_value((1, 1)), Some(&calamine::Data::Float(2.5)));
+    }
+
+    #[test]
+    fn dimensions_of_two_to_the_32_rows_are_refused() {
+        // rwMac 0xFFFFFFFF: calamine would reserve 2^32 x 256 cells
+        let cells = dimensions(0, u32::MAX, 0, 256);
+        let why = refused(&stream(&["Sec 1"], &[], &cells));
+        assert!(why.contains("DIMENSIONS"), "{why}");
+        // a last row before the first: calamine's subtraction would overflow
+        let why = refused(&stream(&["Sec 1"], &[], &dimensions(10, 2, 0, 1)));
+        assert!(why.contains("before its first"), "{why}");
+    }
+
+    #[test]
+    fn a_sheet_offset_past_the_stream_or_inside_a_record_is_refused() {
+        let mut s = bof(false);
+        s.extend(boundsheet(1 << 30, "Far"));
+        s.extend(record(rec::EOF, &[]));
+        let why = refused(&s);
+        assert!(why.contains("past the end"), "{why}");
+        let mut s = bof(false);
+        s.extend(boundsheet(3, "Inside"));
+        s.extend(record(rec::EOF, &[]));
+        let why = refused(&s);
+        assert!(why.contains("not the start of a record"), "{why}");
+    }
+
+    #[test]
+    fn many_sheet_records_sharing_one_sheet_are_refused_in_linear_time() {
+        // 4,000 sheet records (the most allowed) naming one sheet of 3,000 records of one
+        // cell: calamine would walk the sheet 4,000 times (12 million records)
+        let names: Vec<String> = (0..4000).map(|i| format!("S{i}")).collect();
+        let names: Vec<&str> = names.iter().map(String::as_str).collect();
+        let cells: Vec<u8> = (0..3000).flat_map(|_| number(0, 0, 1.0)).collect();
+        let started = std::time::Instant::now();
+        let why = refused(&stream(&names, &[], &cells));
+        assert!(why.contains("walk more than"), "{why}");
+        assert!(started.elapsed() < std::time::Duration::from_secs(20));
+    }
+
+    #[test]
+    fn cells_at_opposite_corners_of_the_grid_are_refused() {
+        // calamine lays a sheet out densely: 65,536 x 65,536 cells from two records
+        let mut cells = number(0, 0, 1.0);
+        cells.extend(number(u16::MAX, u16::MAX, 2.0));
+        let why = refused(&stream(&["Sec 1"], &[], &cells));
+        assert!(why.contains("grid cells"), "{why}");
+    }
+
+    #[test]
+    fn labels_declaring_long_text_in_short_records_are_refused() {
+        // a LABEL (MS-XLS 2.4.148) declaring 65,535 characters and holding none: calamine
+        // reserves the declared length for each
+        let label = |row: u16| {
+            let mut b = row.to_le_bytes().to_vec();
+            b.extend([0, 0, 0, 0, 0xFF, 0xFF, 0]);
+            record(rec::LABEL, &b)
+        };
+        let cells: Vec<u8> = (0..5000).flat_map(label).collect();
+        let why = refused(&stream(&["Sec 1"], &[], &cells));
+        assert!(why.contains("MiB"), "{why}");
+    }
+
+    #[test]
+    fn a_shared_string_named_by_many_cells_counts_once_for_each() {
+        // SST (MS-XLS 2.4.265): one string of 60,000 one-byte characters; 2,000 LABELSST
+        // cells (MS-XLS 2.4.149) name it, so calamine would copy it 2,000 times
+        let mut sst = vec![0; 8];
+        sst.extend(60_000u16.to_le_bytes());
+        sst.push(0);
+        let text = vec![b'a'; 60_000];
+        let mut extra = record(rec::SST, &[&sst[..], &text[..8200]].concat());
+        for part in text[8200..].chunks(8000) {
+            extra.extend(record(rec::CONTINUE, &[&[0u8][..], part].concat()));
+        }
+        let cell = |row: u16| {
+            let mut b = row.to_le_bytes().to_vec();
+            b.extend([0, 0, 0, 0, 0, 0, 0, 0]);
+            record(rec::LABELSST, &b)
+        };
+        let cells: Vec<u8> = (0..2000).flat_map(cell).collect();
+        let why = refused(&stream(&["Sec 1"], &extra, &cells));
+        assert!(why.contains("text"), "{why}");
+        let few: Vec<u8> = (0..20).flat_map(cell).collect();
+        let (_dir, path) = xls_file(&stream(&["Sec 1"], &extra, &few));
+        assert!(check(&path).is_ok());
+    }
+
+    #[test]
+    fn a_formula_keeps_its_stored_result_and_loses_its_tokens() {
+        // FORMULA (MS-XLS 2.4.127): row, col, xf, the cached value 7.5, flags, chn, then
+        // cce = 3 and a PtgInt (0x1E) token
+        let mut b = vec![1, 0, 0, 0, 0, 0];
+        b.extend(7.5f64.to_le_bytes());
+        b.extend([0, 0, 0, 0, 0, 0]);
+        b.extend(3u16.to_le_bytes());
+        b.extend([0x1E, 7, 0]);
+        let cells = record(rec::FORMULA, &b);
+        let (_dir, path) = xls_file(&stream(&["Sec 1"], &[], &cells));
+        let checked = check(&path).unwrap();
+        let mut wb = calamine::Xls::new(Cursor::new(checked.container)).unwrap();
+        let range = wb.worksheet_range("Sec 1").unwrap();
+        assert_eq!(range.get_value((1, 0)), Some(&calamine::Data::Float(7.5)));
+        let formulas = wb.worksheet_formula("Sec 1").unwrap();
+        // what calamine makes of no tokens: a short note, whatever the tokens were
+        let text = formulas.get_value((1, 0)).unwrap();
+        assert!(text.len() < 100 && !text.contains('7'), "{text}");
+    }
+}

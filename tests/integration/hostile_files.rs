@@ -1,0 +1,222 @@
+//! What a small hostile file can do (issue 20, items 5 to 7): each is made at test time from a
+//! real class file or from nothing, graded beside a good file with the address space capped at
+//! 1 GiB, and must cost only itself: one message naming it, exit code 1 (2 for a bad
+//! baseline), the good file graded, no panic, no abort.
+
+use std::io::{Read, Write};
+use std::path::Path;
+
+use benchgrade::ingest::{read_file, Event};
+
+use crate::harness::{self, project_root, Fixture};
+
+const GOOD: &str = "ID,Crude mass (g),Recovered mass (g),MP\ngood-1,3.0,2.1,121-122\n";
+
+/// Grades `name` beside good.csv under a 1 GiB address-space cap and checks what any hostile
+/// file must give; returns standard error.
+pub fn costs_only_itself(f: &Fixture, name: &str, words: &str) -> String {
+    f.write("good.csv", GOOD);
+    let args = ["grade", "good.csv", name, "--out", "out"];
+    let run = harness::run_capped(f.dir.path(), &args, 1024);
+    assert_eq!(run.code, 1, "{name}: {}", run.stderr);
+    assert!(
+        run.stderr.contains(name) && run.stderr.contains(words),
+        "{name}: wanted \"{words}\": {}",
+        run.stderr
+    );
+    assert!(!run.stderr.contains("internal error"), "{}", run.stderr);
+    let rows = f.results("out");
+    assert!(rows.iter().any(|r| r["student_id"] == "good-1"), "{name}");
+    run.stderr
+}
+
+/// The Workbook stream of the real class .xls (LibreOffice 7.4, tests/data/real-files).
+fn class_stream() -> Vec<u8> {
+    let path = project_root().join("tests/data/real-files/class.xls");
+    let mut cf = cfb::open(path).unwrap();
+    let mut s = Vec::new();
+    cf.open_stream("/Workbook")
+        .unwrap()
+        .read_to_end(&mut s)
+        .unwrap();
+    s
+}
+
+/// A compound file holding `stream` as its Workbook.
+fn xls_bytes(stream: &[u8]) -> Vec<u8> {
+    let mut cf =
+        cfb::CompoundFile::create_with_version(cfb::Version::V3, std::io::Cursor::new(Vec::new()))
+            .unwrap();
+    cf.create_stream("/Workbook")
+        .unwrap()
+        .write_all(stream)
+        .unwrap();
+    cf.flush().unwrap();
+    cf.into_inner().into_inner()
+}
+
+/// Where each record of a BIFF stream starts, with its type (MS-XLS 2.1.4: type, length).
+fn records(s: &[u8]) -> Vec<(usize, u16)> {
+    let mut out = Vec::new();
+    let mut at = 0;
+    while at + 4 <= s.len() {
+        out.push((at, u16::from_le_bytes([s[at], s[at + 1]])));
+        at += 4 + usize::from(u16::from_le_bytes([s[at + 2], s[at + 3]]));
+    }
+    out
+}
+
+#[test]
+fn an_xls_whose_dimensions_claim_two_to_the_32_rows_costs_only_itself() {
+    // DIMENSIONS (MS-XLS 2.4.90, BIFF8): rwMic u32, rwMac u32 (one past the last row)
+    let mut s = class_stream();
+    let (at, _) = *records(&s).iter().find(|(_, k)| *k == 0x0200).unwrap();
+    s[at + 8..at + 12].copy_from_slice(&u32::MAX.to_le_bytes());
+    let f = Fixture::new();
+    f.write("dims.xls", xls_bytes(&s));
+    costs_only_itself(&f, "dims.xls", "DIMENSIONS");
+}
+
+#[test]
+fn an_xls_whose_sheet_starts_past_the_stream_costs_only_itself() {
+    // BoundSheet8 (MS-XLS 2.4.28): lbPlyPos, the sheet's BOF position in the stream
+    let mut s = class_stream();
+    let (at, _) = *records(&s).iter().find(|(_, k)| *k == 0x0085).unwrap();
+    let past = (s.len() as u32 + 4096).to_le_bytes();
+    s[at + 4..at + 8].copy_from_slice(&past);
+    let f = Fixture::new();
+    f.write("offset.xls", xls_bytes(&s));
+    costs_only_itself(&f, "offset.xls", "past the end");
+}
+
+/// A small deterministic generator (xorshift64*, Vigna 2016): the same flips on every run.
+struct Flips(u64);
+
+impl Flips {
+    fn next(&mut self) -> u64 {
+        self.0 ^= self.0 >> 12;
+        self.0 ^= self.0 << 25;
+        self.0 ^= self.0 >> 27;
+        self.0.wrapping_mul(0x2545_F491_4F6C_DD1D)
+    }
+
+    /// `bytes` with 1 to 4 bytes overwritten at random places.
+    fn mutant(&mut self, bytes: &[u8]) -> Vec<u8> {
+        let mut m = bytes.to_vec();
+        for _ in 0..=self.next() % 4 {
+            let i = (self.next() % m.len() as u64) as usize;
+            m[i] = (self.next() & 0xFF) as u8;
+        }
+        m
+    }
+}
+
+/// A panic a reader raises inside `benchgrade::contain` is caught there; this keeps the
+/// test's own output free of its default message, as the binary's hook does.
+fn quiet_contained_panics() {
+    static ONCE: std::sync::Once = std::sync::Once::new();
+    ONCE.call_once(|| {
+        let previous = std::panic::take_hook();
+        std::panic::set_hook(Box::new(move |info| {
+            if !benchgrade::contain::active() {
+                previous(info);
+            }
+        }));
+    });
+}
+
+/// Reads `path` through the library's reader; (sheets read, problems), the file's events
+/// ending with `FileDone`. A panic that escaped would fail the test; an abort would end it.
+fn read(path: &Path) -> (usize, usize) {
+    let (mut sheets, mut problems, mut done) = (0, 0, false);
+    read_file(path, &mut |e| match e {
+        Event::Sheet(_) => sheets += 1,
+        Event::Problem(_) => problems += 1,
+        Event::FileDone(_) => done = true,
+    });
+    assert!(done && sheets + problems > 0, "{}", path.display());
+    (sheets, problems)
+}
+
+#[test]
+fn four_hundred_bit_flips_of_a_real_xls_each_give_data_or_a_problem() {
+    quiet_contained_panics();
+    let original = std::fs::read(project_root().join("tests/data/real-files/class.xls")).unwrap();
+    let dir = tempfile::tempdir().unwrap();
+    let mut flips = Flips(0x5EED_2026_0020_0005);
+    let (mut with_data, mut refused) = (0, 0);
+    for i in 0..400 {
+        let path = dir.path().join(format!("flip-{i}.xls"));
+        std::fs::write(&path, flips.mutant(&original)).unwrap();
+        let (sheets, problems) = read(&path);
+        with_data += usize::from(sheets > 0);
+        refused += usize::from(sheets == 0 && problems > 0);
+    }
+    // most flips land in cell data and still read; some break the file
+    assert!(with_data > 100 && refused > 0, "{with_data} {refused}");
+}
+
+#[test]
+fn a_huge_lock_wait_is_taken_as_a_day_not_a_panic() {
+    // Duration::from_secs_f64 panics past u64 seconds; 1e300 must be clamped before it
+    let f = Fixture::new();
+    f.write("good.csv", GOOD);
+    let args = ["grade", "good.csv", "--out", "out"];
+    let run = harness::run_env(f.dir.path(), &args, &[("BENCHGRADE_LOCK_WAIT", "1e300")]);
+    assert_eq!(run.code, 0, "{}", run.stderr);
+    assert!(!run.stderr.contains("internal error"), "{}", run.stderr);
+}
+
+#[test]
+fn damaged_baseline_parquet_files_are_messages_naming_the_file() {
+    quiet_contained_panics();
+    let f = Fixture::new();
+    f.write("good.csv", GOOD);
+    assert_eq!(f.run(&["grade", "good.csv", "--out", "old"]).code, 0);
+    let original = std::fs::read(f.path("old/results.parquet")).unwrap();
+    // the footer: thrift compact metadata, its length (4 bytes), "PAR1" (Apache Parquet
+    // format, "File Format"); a field header byte is the id delta (high nibble) and the type
+    // (low nibble, 1 and 2 the booleans: Thrift compact protocol spec). Each boolean field
+    // header is made an i32 one, and each byte of the footer is flipped once more at random.
+    let n = original.len();
+    let meta_len = u32::from_le_bytes(original[n - 8..n - 4].try_into().unwrap()) as usize;
+    let footer = n - 8 - meta_len.min(n - 8);
+    let mut flips = Flips(0xBA5E_11AE_2026_0007);
+    let dir = tempfile::tempdir().unwrap();
+    let mut mutants: Vec<Vec<u8>> = (footer..n - 8)
+        .filter(|&i| matches!(original[i] & 0x0F, 1 | 2))
+        .map(|i| {
+            let mut m = original.clone();
+            m[i] = (m[i] & 0xF0) | 5;
+            m
+        })
+        .collect();
+    mutants.extend((0..200).map(|_| {
+        let mut m = original.clone();
+        let tail = flips.mutant(&m[footer..]);
+        m[footer..].copy_from_slice(&tail);
+        m
+    }));
+    let (mut refused, mut panicked) = (0, None);
+    for (i, m) in mutants.iter().enumerate() {
+        let path = dir.path().join(format!("flip-{i}.parquet"));
+        std::fs::write(&path, m).unwrap();
+        if let Err(why) = benchgrade::export::parquet::read_term(&path) {
+            assert!(why.contains(&path.display().to_string()), "{why}");
+            refused += 1;
+            if why.contains("damaged") {
+                // the reader panicked on it (a caught panic's message)
+                panicked.get_or_insert(i);
+            }
+        }
+    }
+    assert!(refused > 0);
+    let panicked = panicked.expect("a mutant the parquet reader panics on");
+    // through the binary: exit code 2 (a bad baseline), one message naming the file
+    f.write("bad/results.parquet", &mutants[panicked]);
+    let args = ["grade", "good.csv", "--out", "out", "--baseline", "bad"];
+    let run = harness::run_capped(f.dir.path(), &args, 1024);
+    assert_eq!(run.code, 2, "{}", run.stderr);
+    assert!(run.stderr.contains("results.parquet"), "{}", run.stderr);
+    assert!(!run.stderr.contains("internal error"), "{}", run.stderr);
+}
