@@ -6,6 +6,7 @@ pub mod cells;
 pub mod delimited;
 pub mod discover;
 pub mod headers;
+pub mod ods_scan;
 pub mod percent_cells;
 pub mod range;
 pub mod row;

@@ -11,6 +11,7 @@ use std::path::Path;
 use calamine::{open_workbook, Data, DataRef, Ods, Reader, Xls, Xlsb, Xlsx};
 
 use super::cells::{Cell, RawSheet, RowBuilder};
+use super::ods_scan;
 use super::percent_cells;
 use super::xls_guard;
 
@@ -26,6 +27,15 @@ pub const MAX_SHEET_BYTES: u64 = 1 << 30;
 /// Most cells one sheet may hold, so that a sheet whose part lies about its size still costs a
 /// bounded amount of memory (ten million cells, about 400 MB).
 pub const MAX_CELLS: usize = 10_000_000;
+/// Most cells calamine may lay out for a workbook it reads whole as dense grids (.xls, .ods),
+/// summed over its sheets: each sheet's rows x columns from its first value to its last (and
+/// again for its formulas), and the cells its rows keep before that. A grid of these takes
+/// about 128 MiB, and the reader holds two copies at most. Also the most a .xls DIMENSIONS
+/// record may declare. Checked by `xls_guard` and `ods_scan` before the reader sees the file.
+pub const MOST_DENSE_CELLS: u64 = 4_000_000;
+/// Most bytes of cell text those readers may build (a shared string once for every cell that
+/// names it, a repeated cell's text once for every copy, a run of spaces written out).
+pub const MOST_TEXT_BYTES: u64 = 256 << 20;
 /// Grid limits of the OOXML formats: positions beyond them are corrupt.
 const MAX_ROWS: u32 = 1 << 20;
 const MAX_COLS: u32 = 1 << 14;
@@ -486,13 +496,7 @@ pub fn read_workbook(
         }
         Format::Ods => {
             // scanned first: the scan refuses what would cost the reader the whole file
-            let percent = match percent_cells::ods(path) {
-                Ok(p) => p,
-                Err(percent_cells::OdsScan::Refused(why)) => return Err(why),
-                Err(percent_cells::OdsScan::Unreadable(_)) => {
-                    percent_cells::PercentCells::default()
-                }
-            };
+            let percent = ods_scan::ods(path)?;
             let wb = guarded(|| open_workbook::<Ods<_>, _>(path).map_err(describe))?;
             read_all(wb, dense, &mut |s| on_sheet(marked(s, &percent)))?;
         }

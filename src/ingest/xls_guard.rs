@@ -21,19 +21,13 @@ use std::collections::HashMap;
 use std::io::{Cursor, Read, Write};
 use std::path::Path;
 
+use super::workbook::{MOST_DENSE_CELLS, MOST_TEXT_BYTES};
+
 /// Largest Workbook stream read: a class file is a few MB; BIFF8 holds 65,536 rows a sheet.
 pub const MOST_STREAM_BYTES: u64 = 64 << 20;
-/// Most grid cells calamine may lay out over the whole workbook: each sheet's rows x columns
-/// from its first to its last cell, for values and for formulas, summed over the sheet records
-/// (about 128 MiB for each copy of the grid). Also the most a DIMENSIONS record may declare,
-/// and the most cell records one sheet may hold.
-pub const MOST_GRID_CELLS: u64 = 4_000_000;
 /// Most records the reader may walk, summed over the sheet records (a sheet shared by many
 /// sheet records is walked once for each).
 pub const MOST_RECORDS_WALKED: u64 = 10_000_000;
-/// Most bytes of text the reader may build: labels as declared, shared strings once and again
-/// for every cell that names them.
-pub const MOST_TEXT_BYTES: u64 = 256 << 20;
 /// Most sheet records: a class workbook has a sheet for each section.
 pub const MOST_SHEETS: usize = 4_096;
 /// Most CONTINUE records after one record (the reader takes them one by one from the front of
@@ -469,11 +463,11 @@ fn over_budget(name: &str, c: &Cost) -> Option<String> {
         None => Some(format!(
             "refused: {sheet} has a DIMENSIONS record whose last row comes before its first (a damaged file)"
         )),
-        Some(n) if n > MOST_GRID_CELLS => Some(format!(
-            "refused: {sheet} declares {n} cells in its DIMENSIONS record, more than the {MOST_GRID_CELLS} a workbook may hold (a damaged file)"
+        Some(n) if n > MOST_DENSE_CELLS => Some(format!(
+            "refused: {sheet} declares {n} cells in its DIMENSIONS record, more than the {MOST_DENSE_CELLS} a workbook may hold (a damaged file)"
         )),
-        _ if c.cells > MOST_GRID_CELLS => Some(format!(
-            "refused: {sheet} holds more than {MOST_GRID_CELLS} cell records, more than a workbook may hold"
+        _ if c.cells > MOST_DENSE_CELLS => Some(format!(
+            "refused: {sheet} holds more than {MOST_DENSE_CELLS} cell records, more than a workbook may hold"
         )),
         _ => None,
     }
@@ -512,9 +506,9 @@ fn check_sheets(stream: &[u8], starts: &[usize], g: &Globals) -> Result<(), Stri
                 g.sheets.len()
             ));
         }
-        if grid > MOST_GRID_CELLS {
+        if grid > MOST_DENSE_CELLS {
             return Err(format!(
-                "refused: its sheets span more than {MOST_GRID_CELLS} grid cells (rows x columns from each sheet's first cell to its last), more than a workbook may hold; up to sheet \"{label}\""
+                "refused: its sheets span more than {MOST_DENSE_CELLS} grid cells (rows x columns from each sheet's first cell to its last), more than a workbook may hold; up to sheet \"{label}\""
             ));
         }
         if text > MOST_TEXT_BYTES {

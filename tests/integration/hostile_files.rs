@@ -220,3 +220,92 @@ fn damaged_baseline_parquet_files_are_messages_naming_the_file() {
     assert!(run.stderr.contains("results.parquet"), "{}", run.stderr);
     assert!(!run.stderr.contains("internal error"), "{}", run.stderr);
 }
+
+/// An .ods of one table "Sec 1": a header row (id, crude, recovered, melting range), then `rows`.
+fn ods(f: &Fixture, name: &str, rows: &str) {
+    let content = format!(
+        r#"<?xml version="1.0" encoding="UTF-8"?><office:document-content xmlns:office="urn:oasis:names:tc:opendocument:xmlns:office:1.0" xmlns:table="urn:oasis:names:tc:opendocument:xmlns:table:1.0" xmlns:text="urn:oasis:names:tc:opendocument:xmlns:text:1.0" office:version="1.2"><office:body><office:spreadsheet><table:table table:name="Sec 1"><table:table-row><table:table-cell office:value-type="string"><text:p>ID</text:p></table:table-cell><table:table-cell office:value-type="string"><text:p>Crude (g)</text:p></table:table-cell><table:table-cell office:value-type="string"><text:p>Recovered (g)</text:p></table:table-cell><table:table-cell office:value-type="string"><text:p>MP</text:p></table:table-cell></table:table-row>{rows}</table:table></office:spreadsheet></office:body></office:document-content>"#
+    );
+    let file = std::fs::File::create(f.path(name)).unwrap();
+    let mut zip = zip::ZipWriter::new(file);
+    let deflated = zip::write::SimpleFileOptions::default()
+        .compression_method(zip::CompressionMethod::Deflated);
+    zip.start_file("mimetype", deflated).unwrap();
+    zip.write_all(b"application/vnd.oasis.opendocument.spreadsheet")
+        .unwrap();
+    zip.start_file("META-INF/manifest.xml", deflated).unwrap();
+    zip.write_all(br#"<?xml version="1.0" encoding="UTF-8"?><manifest:manifest xmlns:manifest="urn:oasis:names:tc:opendocument:xmlns:manifest:1.0" manifest:version="1.2"><manifest:file-entry manifest:full-path="/" manifest:media-type="application/vnd.oasis.opendocument.spreadsheet"/><manifest:file-entry manifest:full-path="content.xml" manifest:media-type="text/xml"/></manifest:manifest>"#)
+        .unwrap();
+    zip.start_file("content.xml", deflated).unwrap();
+    zip.write_all(content.as_bytes()).unwrap();
+    zip.finish().unwrap();
+}
+
+const STUDENT: &str =
+    r#"<table:table-cell office:value-type="string"><text:p>s1</text:p></table:table-cell>"#;
+const REST: &str = r#"<table:table-cell office:value-type="float" office:value="2.1"/><table:table-cell office:value-type="string"><text:p>121-122</text:p></table:table-cell>"#;
+
+#[test]
+fn an_ods_writing_out_a_billion_spaces_costs_only_itself() {
+    // OpenDocument 1.2 part 3, 6.1.3: <text:s text:c="n"/> stands for n spaces
+    let f = Fixture::new();
+    let name = r#"<table:table-cell office:value-type="string"><text:p>s<text:s text:c="1500000000"/>1</text:p></table:table-cell>"#;
+    let crude = r#"<table:table-cell office:value-type="float" office:value="3.0"/>"#;
+    ods(
+        &f,
+        "spaces.ods",
+        &format!("<table:table-row>{name}{crude}{REST}</table:table-row>"),
+    );
+    costs_only_itself(&f, "spaces.ods", "text:s");
+}
+
+#[test]
+fn an_ods_repeating_columns_and_rows_costs_only_itself() {
+    // OpenDocument 1.2 part 1, 9.1.3 and 9.1.4: columns and rows repeated; 16,384 columns of a
+    // value in 5,000 rows (the most rows of data allowed) is 82 million cells from 300 bytes
+    let f = Fixture::new();
+    let wide = r#"<table:table-cell office:value-type="float" office:value="1" table:number-columns-repeated="16384"/>"#;
+    ods(
+        &f,
+        "repeats.ods",
+        &format!(r#"<table:table-row table:number-rows-repeated="5000">{wide}</table:table-row>"#),
+    );
+    costs_only_itself(&f, "repeats.ods", "cells");
+}
+
+#[test]
+fn an_ods_with_a_forty_megabyte_attribute_costs_only_itself() {
+    // the reader holds a whole tag in memory: 800 MB took 2.5 GB; any tag past 4 MiB is
+    // refused while it streams, so 40 MB shows the same
+    let f = Fixture::new();
+    let value = "7".repeat(40 << 20);
+    let cell =
+        format!(r#"<table:table-cell office:value-type="string" office:string-value="{value}"/>"#);
+    ods(
+        &f,
+        "attribute.ods",
+        &format!("<table:table-row>{cell}</table:table-row>"),
+    );
+    costs_only_itself(&f, "attribute.ods", "longer than 4 MiB");
+}
+
+#[test]
+fn a_percentage_in_a_sub_table_of_a_cell_stays_out_of_the_student_s_row() {
+    // a crude mass of 3.10 whose cell holds a table (OpenDocument 1.2 part 1, 9.1.4: a
+    // table:table may be cell content) with a percentage in it: the reader skips the
+    // sub-table, and the mass must stay 3.10 g, not become "the percentage 310"
+    let f = Fixture::new();
+    let crude = r#"<table:table-cell office:value-type="float" office:value="3.10"><table:table table:name="note"><table:table-row><table:table-cell/><table:table-cell office:value-type="percentage" office:value="0.5"/></table:table-row></table:table></table:table-cell>"#;
+    ods(
+        &f,
+        "sub.ods",
+        &format!("<table:table-row>{STUDENT}{crude}{REST}</table:table-row>"),
+    );
+    let run = f.run(&["grade", "sub.ods", "--out", "out"]);
+    assert_eq!(run.code, 0, "{}", run.stderr);
+    let rows = f.results("out");
+    assert_eq!(harness::num(&rows[0], "crude_mass_g"), Some(3.1));
+    // 2.1 of 3.10 g: 67.742 % (hand-worked)
+    let recovery = harness::num(&rows[0], "recovery_pct").unwrap();
+    assert!((recovery - 67.742).abs() < 0.001, "{recovery}");
+}
