@@ -16,6 +16,7 @@ pub mod table;
 pub mod values;
 pub mod workbook;
 pub mod xls_guard;
+pub mod zip_guard;
 
 use std::fmt::Write as _;
 use std::path::Path;

@@ -14,16 +14,8 @@ use super::cells::{Cell, RawSheet, RowBuilder};
 use super::ods_scan;
 use super::percent_cells;
 use super::xls_guard;
+use super::zip_guard;
 
-/// Largest total size a zipped workbook may expand to.
-pub const MAX_EXPANDED_BYTES: u64 = 2 << 30;
-/// Largest size a part that is read whole (the shared strings, the styles, the workbook's own
-/// XML) may expand to. A class of a hundred thousand students has a few MB of shared strings;
-/// a single cell holds at most 32,767 characters.
-pub const MAX_PART_BYTES: u64 = 64 << 20;
-/// Largest size one worksheet part (read as a stream) may expand to: a million students in ten
-/// columns fit.
-pub const MAX_SHEET_BYTES: u64 = 1 << 30;
 /// Most cells one sheet may hold, so that a sheet whose part lies about its size still costs a
 /// bounded amount of memory (ten million cells, about 400 MB).
 pub const MAX_CELLS: usize = 10_000_000;
@@ -93,101 +85,6 @@ fn from_data_ref(d: DataRef<'_>) -> Cell {
         DataRef::Error(e) => Cell::Error(e.to_string()),
         DataRef::Empty => Cell::Empty,
     }
-}
-
-/// OLE2 compound files: legacy .xls, and OOXML workbooks encrypted with a password.
-const OLE_MAGIC: [u8; 8] = [0xD0, 0xCF, 0x11, 0xE0, 0xA1, 0xB1, 0x1A, 0xE1];
-
-/// Says what a file that should be a zip archive is instead.
-fn not_a_zip(path: &Path) -> String {
-    let bytes = crate::files::read(path).unwrap_or_default();
-    if bytes.starts_with(&OLE_MAGIC) {
-        let marker: Vec<u8> = "EncryptionInfo"
-            .encode_utf16()
-            .flat_map(u16::to_le_bytes)
-            .collect();
-        if bytes.windows(marker.len()).any(|w| w == marker.as_slice()) {
-            return "the workbook is password-protected (encrypted); save an unprotected copy and grade that".into();
-        }
-        return "this is an older binary workbook (.xls) under another name; rename it to .xls"
-            .into();
-    }
-    if bytes.starts_with(b"PK") {
-        return "not a readable workbook: the zip archive is truncated or damaged".into();
-    }
-    let texty = bytes
-        .iter()
-        .take(512)
-        .all(|b| b.is_ascii_graphic() || b.is_ascii_whitespace() || *b >= 0x80);
-    if texty {
-        "not a workbook: the file holds plain text; if it is a CSV export, name it .csv".into()
-    } else {
-        "not a workbook: the file is neither a zip archive nor a spreadsheet format benchgrade reads".into()
-    }
-}
-
-/// A worksheet part, read as a stream; every other part is read whole.
-fn is_sheet_part(name: &str) -> bool {
-    name.starts_with("xl/worksheets/sheet") || name == "content.xml"
-}
-
-/// How many bytes a part really inflates to, counted up to `limit` + 1 and thrown away.
-fn inflated_size<R: std::io::Read + std::io::Seek>(
-    archive: &mut zip::ZipArchive<R>,
-    i: usize,
-    limit: u64,
-) -> Result<u64, String> {
-    let entry = archive
-        .by_index(i)
-        .map_err(|e| format!("not a readable workbook: {e}"))?;
-    std::io::copy(
-        &mut std::io::Read::take(entry, limit + 1),
-        &mut std::io::sink(),
-    )
-    .map_err(|e| format!("not a readable workbook: {e}"))
-}
-
-/// Reads the zip directory and refuses an archive that would expand past the limits: in all,
-/// and for any one part (those read whole are inflated once and counted, since a damaged or
-/// malicious file can understate their size).
-pub fn check_zip(path: &Path) -> Result<(), String> {
-    let file = File::open(path).map_err(|e| format!("cannot open: {e}"))?;
-    let mut archive = zip::ZipArchive::new(BufReader::new(file)).map_err(|_| not_a_zip(path))?;
-    let mut total: u64 = 0;
-    for i in 0..archive.len() {
-        let (name, declared) = {
-            let entry = archive
-                .by_index_raw(i)
-                .map_err(|e| format!("not a readable workbook: {e}"))?;
-            let name = entry.name().map(|n| n.to_string()).unwrap_or_default();
-            (name, entry.size())
-        };
-        let limit = if is_sheet_part(&name) {
-            MAX_SHEET_BYTES
-        } else {
-            MAX_PART_BYTES
-        };
-        let size = if is_sheet_part(&name) || declared > limit {
-            declared
-        } else {
-            inflated_size(&mut archive, i, limit)?
-        };
-        if size > limit {
-            return Err(format!(
-                "refused: its part {name} would expand to more than {} MiB, more than a class file holds (a damaged file or a zip bomb)",
-                limit >> 20
-            ));
-        }
-        total = total.saturating_add(size);
-    }
-    if total > MAX_EXPANDED_BYTES {
-        return Err(format!(
-            "refused: the workbook would expand to {} MiB, more than the {} MiB limit (a damaged file or a zip bomb)",
-            total >> 20,
-            MAX_EXPANDED_BYTES >> 20
-        ));
-    }
-    Ok(())
 }
 
 fn bounded(pos: (u32, u32)) -> Result<(u32, u32), String> {
@@ -471,7 +368,7 @@ pub fn read_workbook(
     on_sheet: &mut dyn FnMut(SheetRead),
 ) -> Result<(), String> {
     if format != Format::Xls {
-        check_zip(path)?;
+        zip_guard::check_zip(path)?;
     }
     match format {
         // streamed formats hold one sheet at a time, so two sheets can be read at once

@@ -309,3 +309,43 @@ fn a_percentage_in_a_sub_table_of_a_cell_stays_out_of_the_student_s_row() {
     let recovery = harness::num(&rows[0], "recovery_pct").unwrap();
     assert!((recovery - 67.742).abs() < 0.001, "{recovery}");
 }
+
+#[test]
+fn an_xlsx_listing_three_million_styles_costs_only_itself() {
+    // a class workbook whose styles.xml lists 3 million empty cell formats (<xf/>: 15 MB that
+    // deflate to a few KB); the reader builds a full style for each, on each of two threads
+    let f = Fixture::new();
+    let class = f.xlsx("class.xlsx", |wb| {
+        let ws = wb.add_worksheet();
+        for (c, h) in ["ID", "Crude mass (g)", "Recovered mass (g)", "MP"]
+            .iter()
+            .enumerate()
+        {
+            ws.write_string(0, c as u16, *h).unwrap();
+        }
+        ws.write_string(1, 0, "s1").unwrap();
+        ws.write_number(1, 1, 3.0).unwrap();
+        ws.write_number(1, 2, 2.1).unwrap();
+        ws.write_string(1, 3, "121-122").unwrap();
+    });
+    let mut source = zip::ZipArchive::new(std::fs::File::open(&class).unwrap()).unwrap();
+    let out = std::fs::File::create(f.path("styles.xlsx")).unwrap();
+    let mut z = zip::ZipWriter::new(out);
+    for i in 0..source.len() {
+        let entry = source.by_index_raw(i).unwrap();
+        if entry.name().unwrap() != "xl/styles.xml" {
+            z.raw_copy_file(entry).unwrap();
+        }
+    }
+    let deflated = zip::write::SimpleFileOptions::default()
+        .compression_method(zip::CompressionMethod::Deflated);
+    z.start_file("xl/styles.xml", deflated).unwrap();
+    let xfs = "<xf/>".repeat(3_000_000);
+    let styles = format!(
+        r#"<?xml version="1.0" encoding="UTF-8"?><styleSheet xmlns="http://schemas.openxmlformats.org/spreadsheetml/2006/main"><cellXfs count="3000000">{xfs}</cellXfs></styleSheet>"#
+    );
+    z.write_all(styles.as_bytes()).unwrap();
+    z.finish().unwrap();
+    assert!(std::fs::metadata(f.path("styles.xlsx")).unwrap().len() < 1 << 20);
+    costs_only_itself(&f, "styles.xlsx", "xf entries");
+}
