@@ -43,6 +43,7 @@ mod rec {
     pub const EOF: u16 = 0x000A;
     pub const CONTINUE: u16 = 0x003C;
     pub const BOUNDSHEET: u16 = 0x0085;
+    pub const FILEPASS: u16 = 0x002F;
     pub const SST: u16 = 0x00FC;
     pub const DIMENSIONS: u16 = 0x0200;
     pub const NUMBER: u16 = 0x0203;
@@ -281,6 +282,13 @@ fn globals(stream: &[u8], biff8: bool) -> Result<Globals, String> {
                     .iter()
                     .map(|c| c + STRING_BYTES)
                     .fold(0, u64::saturating_add);
+            }
+            // FilePass (MS-XLS 2.4.117): the records after it are encrypted
+            rec::FILEPASS => {
+                return Err(
+                    "the workbook is password-protected; save an unprotected copy and grade that"
+                        .into(),
+                );
             }
             rec::EOF => break,
             _ => {}

@@ -196,3 +196,11 @@ fn a_formula_keeps_its_stored_result_and_loses_its_tokens() {
     let text = formulas.get_value((1, 0)).unwrap();
     assert!(text.len() < 100 && !text.contains('7'), "{text}");
 }
+
+#[test]
+fn an_encrypted_workbook_is_named_as_such() {
+    // FilePass (MS-XLS 2.4.117) with wEncryptionType 1 (RC4): what follows is encrypted
+    let extra = record(rec::FILEPASS, &[1, 0, 1, 0, 1, 0]);
+    let why = refused(&stream(&["Sec 1"], &extra, &[]));
+    assert!(why.contains("password-protected"), "{why}");
+}
