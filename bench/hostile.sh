@@ -55,7 +55,8 @@ EOF
 baseline=
 for p in flip-*.parquet; do
   mkdir -p try && cp "$p" try/results.parquet
-  if "$bin" grade good.csv --out try-out --baseline try 2>&1 | grep -q damaged; then
+  said=$("$bin" grade good.csv --out try-out --baseline try 2>&1 || true)
+  if [[ $said == *damaged* ]]; then
     mkdir -p bad-baseline && cp "$p" bad-baseline/results.parquet; baseline=1; break
   fi
 done
