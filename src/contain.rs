@@ -18,14 +18,18 @@ pub fn active() -> bool {
     DEPTH.with(|d| d.get() > 0)
 }
 
-/// Runs `f`; a panic inside it is caught and returned as `Err(())`. The caller turns it into a
-/// message that names the file and says nothing of the panic's text (it may quote cell text).
-pub fn contain<T>(f: impl FnOnce() -> T) -> Result<T, ()> {
+/// A panic was caught (its text is left out: it may quote cell text).
+#[derive(Debug, PartialEq, Eq)]
+pub struct Panicked;
+
+/// Runs `f`; a panic inside it is caught and returned as `Err(Panicked)`. The caller turns it
+/// into a message that names the file.
+pub fn contain<T>(f: impl FnOnce() -> T) -> Result<T, Panicked> {
     DEPTH.with(|d| d.set(d.get() + 1));
     // the reader's state is dropped or abandoned after a panic, never used again
     let result = catch_unwind(AssertUnwindSafe(f));
     DEPTH.with(|d| d.set(d.get().saturating_sub(1)));
-    result.map_err(|_| ())
+    result.map_err(|_| Panicked)
 }
 
 #[cfg(test)]
@@ -35,9 +39,9 @@ mod tests {
     #[test]
     fn a_panic_is_caught_and_the_flag_is_set_only_inside() {
         assert!(!active());
-        assert_eq!(contain(|| active()), Ok(true));
+        assert_eq!(contain(active), Ok(true));
         let caught = contain(|| -> u8 { panic!("a reader bug") });
-        assert_eq!(caught, Err(()));
+        assert_eq!(caught, Err(Panicked));
         assert!(!active());
     }
 }

@@ -259,7 +259,7 @@ impl ParquetRows {
 /// Reads an earlier term's results.parquet. The parquet reader trusts the file's own metadata
 /// and can panic on a damaged one; that panic is caught and named as a damaged file.
 pub fn read_term(path: &Path) -> Result<Term, String> {
-    crate::contain::contain(|| read_term_unguarded(path)).unwrap_or_else(|()| {
+    crate::contain::contain(|| read_term_unguarded(path)).unwrap_or_else(|_| {
         Err(format!(
             "{}: not a results.parquet benchgrade wrote: the file is damaged (its parquet metadata cannot be read)",
             path.display()

@@ -185,7 +185,7 @@ pub fn read_delimited(bytes: &[u8], is_tsv: bool) -> Result<Delimited, String> {
         while at < bytes.len() && (bytes[at] == b'\n' || bytes[at] == b'\r') {
             at += 1;
         }
-        let more = bytes[counted.0..at].iter().filter(|&&b| b == b'\n').count();
+        let more = bytes[counted.0..at].split(|&b| b == b'\n').count() - 1;
         counted = (at, counted.1 + more);
         counted.1
     };

@@ -349,7 +349,7 @@ pub const READER_STOPPED: &str = "not a readable workbook: the reader stopped on
 
 /// Runs a reader call; a panic inside it costs this file (or sheet) only.
 fn guarded<T>(f: impl FnOnce() -> Result<T, String>) -> Result<T, String> {
-    crate::contain::contain(f).unwrap_or_else(|()| Err(READER_STOPPED.into()))
+    crate::contain::contain(f).unwrap_or_else(|_| Err(READER_STOPPED.into()))
 }
 
 /// A sheet with its percent-formatted cells re-typed.

@@ -156,9 +156,9 @@ fn shown_decimals(text: &str) -> Option<u8> {
     u8::try_from(decimals).ok().filter(|d| *d <= 15)
 }
 
-fn widen(span: Option<(u32, u32)>, from: u32, to: u32) -> Option<(u32, u32)> {
+fn widen(span: Option<(u32, u32)>, from: u32, to: u32) -> (u32, u32) {
     let (a, b) = span.unwrap_or((from, to));
-    Some((a.min(from), b.max(to)))
+    (a.min(from), b.max(to))
 }
 
 impl Table {
@@ -257,13 +257,13 @@ impl Table {
         let from = c.col.min(READER_COLUMNS);
         let to = c.col.saturating_add(c.cols).min(READER_COLUMNS);
         if c.value && to > from {
-            self.row_values = widen(self.row_values, from, to);
+            self.row_values = Some(widen(self.row_values, from, to));
             // the text is copied into every column and every row it repeats to
             let copies = u64::from(to - from) * u64::from(self.row_repeats);
             self.text = self.text.saturating_add(c.text.saturating_mul(copies));
         }
         if c.formula && to > from {
-            self.row_formulas = widen(self.row_formulas, from, to);
+            self.row_formulas = Some(widen(self.row_formulas, from, to));
         }
     }
 

@@ -384,84 +384,107 @@ fn label_text(body: &[u8]) -> u64 {
     u64::from(u16_at(body, 0).unwrap_or(0)) + body.len() as u64 * BYTES_PER_CHAR
 }
 
-/// Walks one sheet from `offset` as calamine does (nested substreams skipped, up to the
-/// sheet's own EOF), adding up its cost; stops early once `budget` records are walked.
-fn sheet_cost(stream: &[u8], offset: usize, shared: &[u64], budget: u64) -> Cost {
-    let mut c = Cost {
-        reserve: Some(0),
-        ..Cost::default()
-    };
-    let (mut values, mut formulas) = (Span::default(), Span::default());
-    let (mut seen_bof, mut depth) = (false, 0usize);
-    let mut formula_at = (0u32, 0u32);
-    for r in raw_records(stream, offset) {
-        c.records += 1;
-        if c.records > budget {
-            break;
-        }
-        if r.kind == rec::CONTINUE {
-            continue;
-        }
-        if depth > 0 {
-            match r.kind {
-                rec::BOF => depth += 1,
-                rec::EOF => depth -= 1,
-                _ => {}
-            }
-            continue;
-        }
-        let b = r.body;
+/// A sheet being walked: its cost so far, the spans of its values and formulas, and the cell
+/// of the last formula (a STRING record after it holds that cell's text).
+struct Walk<'a> {
+    c: Cost,
+    values: Span,
+    formulas: Span,
+    formula_at: (u32, u32),
+    shared: &'a [u64],
+}
+
+impl Walk<'_> {
+    /// A record that makes calamine keep a cell (or two: a formula's value and its text).
+    fn cell(&mut self, kind: u16, b: &[u8]) {
         let pos = u16_at(b, 0)
             .zip(u16_at(b, 2))
             .map(|(r, c)| (u32::from(r), u32::from(c)));
-        match r.kind {
-            rec::BOF if seen_bof => depth += 1,
-            rec::BOF => seen_bof = true,
-            rec::EOF => break,
-            rec::DIMENSIONS => {
-                c.reserve = c.reserve.zip(reserved(b)).map(|(a, b)| a.max(b));
-            }
-            rec::NUMBER | rec::BOOLERR | rec::RK | rec::LABEL | rec::RSTRING | rec::LABELSST => {
-                if let Some((row, col)) = pos {
-                    values.add(row, col);
-                    c.cells += 1;
-                }
-                if matches!(r.kind, rec::LABEL | rec::RSTRING) {
-                    c.text += label_text(b.get(6..).unwrap_or_default());
-                }
-                if r.kind == rec::LABELSST {
-                    let i = u32_at(b, 6).unwrap_or(u32::MAX) as usize;
-                    c.text += shared.get(i).copied().unwrap_or(0);
-                }
-            }
-            rec::STRING => {
-                values.add(formula_at.0, formula_at.1);
+        let c = &mut self.c;
+        match (kind, pos) {
+            (rec::STRING, _) => {
+                self.values.add(self.formula_at.0, self.formula_at.1);
                 c.cells += 1;
                 c.text += label_text(b);
             }
-            rec::FORMULA => {
+            (rec::FORMULA, Some((row, col))) => {
+                self.formula_at = (row, col);
+                self.values.add(row, col);
+                self.formulas.add(row, col);
+                c.cells += 2;
+            }
+            (rec::MULRK, Some((row, first))) if b.len() >= 6 => {
+                let n = (b.len() - 6).div_ceil(6) as u32;
+                if n > 0 {
+                    self.values.add(row, first);
+                    self.values.add(row, first + n - 1);
+                }
+                c.cells += u64::from(n);
+            }
+            (rec::FORMULA | rec::MULRK, _) => {}
+            (_, pos) => {
                 if let Some((row, col)) = pos {
-                    formula_at = (row, col);
-                    values.add(row, col);
-                    formulas.add(row, col);
-                    c.cells += 2;
+                    self.values.add(row, col);
+                    c.cells += 1;
+                }
+                if matches!(kind, rec::LABEL | rec::RSTRING) {
+                    c.text += label_text(b.get(6..).unwrap_or_default());
+                }
+                if kind == rec::LABELSST {
+                    let i = u32_at(b, 6).unwrap_or(u32::MAX) as usize;
+                    c.text += self.shared.get(i).copied().unwrap_or(0);
                 }
             }
-            rec::MULRK => {
-                if let (Some((row, first)), true) = (pos, b.len() >= 6) {
-                    let n = (b.len() - 6).div_ceil(6) as u32;
-                    if n > 0 {
-                        values.add(row, first);
-                        values.add(row, first + n - 1);
-                    }
-                    c.cells += u64::from(n);
-                }
+        }
+    }
+}
+
+/// Walks one sheet from `offset` as calamine does (nested substreams skipped, up to the
+/// sheet's own EOF), adding up its cost; stops early once `budget` records are walked.
+fn sheet_cost(stream: &[u8], offset: usize, shared: &[u64], budget: u64) -> Cost {
+    let mut w = Walk {
+        c: Cost {
+            reserve: Some(0),
+            ..Cost::default()
+        },
+        values: Span::default(),
+        formulas: Span::default(),
+        formula_at: (0, 0),
+        shared,
+    };
+    let (mut seen_bof, mut depth) = (false, 0usize);
+    for r in raw_records(stream, offset) {
+        w.c.records += 1;
+        if w.c.records > budget {
+            break;
+        }
+        match (r.kind, depth) {
+            (rec::CONTINUE, _) => {}
+            (rec::BOF, _) if seen_bof => depth += 1,
+            (rec::EOF, 1..) => depth -= 1,
+            (_, 1..) => {}
+            (rec::BOF, _) => seen_bof = true,
+            (rec::EOF, _) => break,
+            (rec::DIMENSIONS, _) => {
+                w.c.reserve = w.c.reserve.zip(reserved(r.body)).map(|(a, b)| a.max(b));
             }
+            (
+                rec::NUMBER
+                | rec::BOOLERR
+                | rec::RK
+                | rec::LABEL
+                | rec::RSTRING
+                | rec::LABELSST
+                | rec::STRING
+                | rec::FORMULA
+                | rec::MULRK,
+                _,
+            ) => w.cell(r.kind, r.body),
             _ => {}
         }
     }
-    c.grid = values.cells() + formulas.cells();
-    c
+    w.c.grid = w.values.cells() + w.formulas.cells();
+    w.c
 }
 
 /// The budgets a sheet's cost is held to; `Err` says which is passed.
