@@ -1,8 +1,11 @@
 //! Spreadsheet workbooks through calamine: xlsx, xlsm, xlsb, xls and ods.
 //!
 //! xlsx and xlsb sheets are streamed cell by cell into sparse rows, so a file whose few cells sit
-//! at opposite corners of the grid costs what its cells cost, not rows x columns. Before a zipped
-//! workbook is opened its directory is read, and one that would expand past a limit is refused.
+//! at opposite corners of the grid costs what its cells cost, not rows x columns. Before calamine
+//! opens a file it is held to the budgets calamine does not keep (`zip_guard` for the zipped
+//! formats, `xls_guard` and `ods_scan` for the two it reads whole as dense grids), and every
+//! calamine call runs inside `crate::contain`, so a reader's panic on a damaged file costs that
+//! file (or sheet) only.
 
 use std::fs::File;
 use std::io::{BufReader, Cursor, Read, Seek};
