@@ -126,7 +126,8 @@ fn quiet_contained_panics() {
 }
 
 /// Reads `path` through the library's reader; (sheets read, problems), the file's events
-/// ending with `FileDone`. A panic that escaped would fail the test; an abort would end it.
+/// ending with `FileDone` (a file with neither is named by the collector downstream). A panic
+/// that escaped would fail the test; an abort would end it.
 fn read(path: &Path) -> (usize, usize) {
     let (mut sheets, mut problems, mut done) = (0, 0, false);
     read_file(path, &mut |e| match e {
@@ -134,7 +135,7 @@ fn read(path: &Path) -> (usize, usize) {
         Event::Problem(_) => problems += 1,
         Event::FileDone(_) => done = true,
     });
-    assert!(done && sheets + problems > 0, "{}", path.display());
+    assert!(done, "{}", path.display());
     (sheets, problems)
 }
 
