@@ -44,6 +44,7 @@ mod rec {
     pub const CONTINUE: u16 = 0x003C;
     pub const BOUNDSHEET: u16 = 0x0085;
     pub const FILEPASS: u16 = 0x002F;
+    pub const LBL: u16 = 0x0018;
     pub const SST: u16 = 0x00FC;
     pub const DIMENSIONS: u16 = 0x0200;
     pub const NUMBER: u16 = 0x0203;
@@ -131,6 +132,25 @@ struct Globals {
     text: u64,
 }
 
+/// Defined names (Lbl, MS-XLS 2.4.150): calamine keeps each name with its reference written
+/// out, a sheet's name in front (`'Section 1'!$A$1`), so twenty bytes of record can become
+/// hundreds of bytes of text.
+#[derive(Default)]
+struct Names {
+    count: u64,
+    bytes: u64,
+    longest_sheet: u64,
+}
+
+impl Names {
+    fn text(&self) -> u64 {
+        let each = self.longest_sheet * BYTES_PER_CHAR + 64 + STRING_BYTES * 2;
+        self.count
+            .saturating_mul(each)
+            .saturating_add(self.bytes * BYTES_PER_CHAR)
+    }
+}
+
 /// The bodies of the CONTINUE records from `at`, which calamine joins to the record before.
 fn continues(stream: &[u8], at: usize) -> Result<Vec<&[u8]>, String> {
     let cont: Vec<&[u8]> = raw_records(stream, at)
@@ -144,102 +164,6 @@ fn continues(stream: &[u8], at: usize) -> Result<Vec<&[u8]>, String> {
         ));
     }
     Ok(cont)
-}
-
-/// A record's body and its continuations, read as calamine reads a shared string table.
-struct Joined<'a> {
-    data: &'a [u8],
-    cont: std::vec::IntoIter<&'a [u8]>,
-}
-
-impl<'a> Joined<'a> {
-    fn next_part(&mut self) -> bool {
-        match self.cont.next() {
-            Some(d) => {
-                self.data = d;
-                true
-            }
-            None => false,
-        }
-    }
-
-    fn take(&mut self, n: usize) -> Option<&'a [u8]> {
-        let (head, rest) = (self.data.get(..n)?, self.data.get(n..)?);
-        self.data = rest;
-        Some(head)
-    }
-
-    fn skip(&mut self, mut n: usize) -> Option<()> {
-        while n > 0 {
-            if self.data.is_empty() && !self.next_part() {
-                return None;
-            }
-            let l = n.min(self.data.len());
-            self.data = &self.data[l..];
-            n -= l;
-        }
-        Some(())
-    }
-
-    /// One string of the table, as calamine's `read_rich_extended_string`; `None` where
-    /// calamine would stop with an error (or a panic), which ends its reading of the file.
-    fn string(&mut self) -> Option<u64> {
-        if self.data.is_empty() {
-            return Some(0);
-        }
-        let head = self.take(3)?;
-        let cch = usize::from(u16::from_le_bytes([head[0], head[1]]));
-        let flags = head[2];
-        let runs = if flags & 0x8 != 0 {
-            usize::from(u16_at(self.take(2)?, 0)?)
-        } else {
-            0
-        };
-        let ext = if flags & 0x4 != 0 {
-            u32_at(self.take(4)?, 0)? as i32 as usize
-        } else {
-            0
-        };
-        let mut high = flags & 1 != 0;
-        let mut left = cch;
-        while left > 0 {
-            let l = if high {
-                (self.data.len() / 2).min(left)
-            } else {
-                self.data.len().min(left)
-            };
-            self.data = &self.data[if high { 2 * l } else { l }..];
-            left -= l;
-            if left > 0 {
-                if !self.next_part() {
-                    return None;
-                }
-                high = self.take(1)?[0] & 1 != 0;
-            }
-        }
-        self.skip(runs * 4)?;
-        self.skip(ext)?;
-        Some(cch as u64 * BYTES_PER_CHAR)
-    }
-}
-
-/// The text cost of each string of a shared string table (SST), in calamine's order.
-fn shared_strings(body: &[u8], cont: Vec<&[u8]>) -> Vec<u64> {
-    let mut out = Vec::new();
-    let Some(data) = body.get(8..) else {
-        return out;
-    };
-    let mut r = Joined {
-        data,
-        cont: cont.into_iter(),
-    };
-    while !r.data.is_empty() || r.next_part() {
-        match r.string() {
-            Some(cost) => out.push(cost),
-            None => break,
-        }
-    }
-    out
 }
 
 /// A sheet record's name, for messages (at most 40 characters).
@@ -261,12 +185,19 @@ fn sheet_name(body: &[u8], biff8: bool) -> String {
 
 fn globals(stream: &[u8], biff8: bool) -> Result<Globals, String> {
     let mut g = Globals::default();
+    let mut names = Names::default();
     for r in raw_records(stream, 0) {
         match r.kind {
+            rec::LBL => {
+                names.count += 1;
+                names.bytes += r.body.len() as u64;
+            }
             rec::BOUNDSHEET => {
                 let Some(offset) = u32_at(r.body, 0) else {
                     continue;
                 };
+                let cch = u64::from(r.body.get(6).copied().unwrap_or(0));
+                names.longest_sheet = names.longest_sheet.max(cch);
                 g.sheets.push((sheet_name(r.body, biff8), offset as usize));
                 if g.sheets.len() > MOST_SHEETS {
                     return Err(format!(
@@ -276,7 +207,7 @@ fn globals(stream: &[u8], biff8: bool) -> Result<Globals, String> {
             }
             rec::SST => {
                 let next = r.at + 4 + r.body.len();
-                g.shared = shared_strings(r.body, continues(stream, next)?);
+                g.shared = sst::shared_strings(r.body, continues(stream, next)?);
                 g.text = g
                     .shared
                     .iter()
@@ -294,6 +225,7 @@ fn globals(stream: &[u8], biff8: bool) -> Result<Globals, String> {
             _ => {}
         }
     }
+    g.text = g.text.saturating_add(names.text());
     Ok(g)
 }
 
@@ -507,6 +439,12 @@ fn over_budget(name: &str, c: &Cost) -> Option<String> {
 /// Walks every sheet record's sheet, holding the workbook to the budgets.
 fn check_sheets(stream: &[u8], starts: &[usize], g: &Globals) -> Result<(), String> {
     let mut memo: HashMap<usize, Cost> = HashMap::new();
+    if g.text > MOST_TEXT_BYTES {
+        return Err(format!(
+            "refused: its shared strings and defined names would take more than {} MiB of text, more than a class file holds (a damaged file)",
+            MOST_TEXT_BYTES >> 20
+        ));
+    }
     let (mut walked, mut grid, mut text) = (0u64, 0u64, g.text);
     for (name, offset) in &g.sheets {
         let label = name;
@@ -595,5 +533,6 @@ pub fn check(path: &Path) -> Result<Checked, String> {
     })
 }
 
+mod sst;
 #[cfg(test)]
 mod tests;

@@ -204,3 +204,18 @@ fn an_encrypted_workbook_is_named_as_such() {
     let why = refused(&stream(&["Sec 1"], &extra, &[]));
     assert!(why.contains("password-protected"), "{why}");
 }
+
+#[test]
+fn defined_names_that_each_write_out_a_long_sheet_name_are_counted() {
+    // a sheet named with 255 characters and 400,000 defined names (Lbl, MS-XLS 2.4.150) of
+    // 20 bytes: calamine writes the sheet's name out in front of each name's reference
+    let long = "S".repeat(255);
+    let lbl = record(rec::LBL, &[0; 20]);
+    let extra: Vec<u8> = (0..400_000).flat_map(|_| lbl.clone()).collect();
+    let why = refused(&stream(&[long.as_str()], &extra, &[]));
+    assert!(why.contains("text"), "{why}");
+    // a few names cost little
+    let few: Vec<u8> = (0..100).flat_map(|_| lbl.clone()).collect();
+    let (_dir, path) = xls_file(&stream(&[long.as_str()], &few, &[]));
+    assert!(check(&path).is_ok());
+}
