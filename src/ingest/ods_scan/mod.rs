@@ -409,6 +409,7 @@ pub fn ods(path: &Path) -> Result<PercentCells, String> {
     config.trim_text(false);
     config.expand_empty_elements = true;
     let mut scan = Scan::default();
+    let mut open = Nesting::default();
     let mut buf = Vec::new();
     loop {
         let event = reader.read_event_into(&mut buf).map_err(|e| match e {
@@ -416,16 +417,68 @@ pub fn ods(path: &Path) -> Result<PercentCells, String> {
             e => other(&e),
         })?;
         match &event {
-            Event::Start(e) => scan.start(e),
+            Event::Start(e) => {
+                open.start(e.name().as_ref())?;
+                scan.start(e);
+            }
             Event::Text(t) if scan.depth == 1 => scan.table.text(&t[..]),
             Event::GeneralRef(r) if scan.depth == 1 => scan.table.text(&r[..]),
-            Event::End(e) => scan.end(e.name().as_ref())?,
+            Event::End(e) => {
+                open.end(e.name().as_ref())?;
+                scan.end(e.name().as_ref())?;
+            }
             Event::Eof => break,
             _ => {}
         }
         buf.clear();
     }
+    open.finish()?;
     Ok(scan.found)
+}
+
+/// Most elements open at once in content.xml (a spreadsheet nests a dozen deep).
+const MOST_NESTING: usize = 10_000;
+
+/// The elements open so far, by a hash of each name. The reader (set, as here, not to check
+/// end names) waits in a loop for a table's or an annotation's own end tag and spins forever at
+/// the end of a file that never gives it: a truncated content.xml, or an end tag that closes
+/// another element, would hang the run. So every end tag must close the element last opened,
+/// and none may be open at the end.
+#[derive(Default)]
+struct Nesting(Vec<u64>);
+
+/// FNV-1a (Fowler, Noll and Vo): a name's hash, so that a long name costs nothing to keep.
+fn name_hash(name: &str) -> u64 {
+    name.bytes().fold(0xcbf2_9ce4_8422_2325, |h, b| {
+        (h ^ u64::from(b)).wrapping_mul(0x0100_0000_01b3)
+    })
+}
+
+impl Nesting {
+    fn start(&mut self, name: &str) -> Result<(), String> {
+        if self.0.len() >= MOST_NESTING {
+            return Err(format!(
+                "refused: content.xml nests elements more than {MOST_NESTING} deep (a damaged file)"
+            ));
+        }
+        self.0.push(name_hash(name));
+        Ok(())
+    }
+
+    fn end(&mut self, name: &str) -> Result<(), String> {
+        if self.0.pop() != Some(name_hash(name)) {
+            return Err("not a readable workbook: content.xml has an end tag that does not close the element open there (a damaged file); re-save it from the spreadsheet program".into());
+        }
+        Ok(())
+    }
+
+    fn finish(&self) -> Result<(), String> {
+        if self.0.is_empty() {
+            Ok(())
+        } else {
+            Err("not a readable workbook: content.xml ends before its elements are closed (a truncated or damaged file); re-save it from the spreadsheet program".into())
+        }
+    }
 }
 
 #[cfg(test)]

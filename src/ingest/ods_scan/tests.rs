@@ -163,3 +163,20 @@ fn a_class_sized_table_passes() {
     let dir = ods_with(&content);
     assert!(ods(&dir.path().join("t.ods")).is_ok());
 }
+
+#[test]
+fn a_content_xml_that_ends_inside_a_table_or_closes_the_wrong_element_is_refused() {
+    // calamine 0.38 loops forever on either (it waits for the table's or the annotation's own
+    // end tag and reads past the end of the file); found by the ods_content fuzz target
+    let truncated = table("<table:table-row>").replace(
+        "</table:table></office:spreadsheet></office:body></office:document-content>",
+        "",
+    );
+    let why = refused(&truncated);
+    assert!(why.contains("ends before its elements are closed"), "{why}");
+    let crossed = table(
+        r#"<table:table-row><table:table-cell office:value-type="string"><office:annotation><text:p>x</text:p></table:table-cell></office:annotation></table:table-row>"#,
+    );
+    let why = refused(&crossed);
+    assert!(why.contains("does not close"), "{why}");
+}
