@@ -148,6 +148,12 @@ const CORPUS: &[Expect] = &[
         message: "",
     },
     Expect {
+        file: "ods-content-cut-inside-the-table.ods",
+        code: 1,
+        rows: 0,
+        message: "ends before its elements are closed",
+    },
+    Expect {
         file: "xlsx-3-million-styles.xlsx",
         code: 1,
         rows: 0,

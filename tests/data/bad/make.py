@@ -280,6 +280,18 @@ def write_hostile_ods():
            '</table:table></table:table-cell>')
     rows = ods_row([ods_value(ROWS[0][0]), sub] + [ods_value(v) for v in ROWS[0][2:]])
     write("ods-sub-table-in-a-cell.ods", ods(rows + ods_row([ods_value(v) for v in ROWS[1]])))
+    # content.xml cut off inside the table (calamine 0.38 then loops forever waiting for the
+    # table's end tag; found by fuzzing)
+    whole = ods("".join(ods_row([ods_value(v) for v in r]) for r in ROWS))
+    with zipfile.ZipFile(io.BytesIO(whole)) as src:
+        content = src.read("content.xml").decode()
+        cut = content[: content.index("</table:table>")]
+        buf = io.BytesIO()
+        with zipfile.ZipFile(buf, "w", zipfile.ZIP_DEFLATED) as z:
+            for name in ("mimetype", "META-INF/manifest.xml"):
+                z.writestr(name, src.read(name))
+            z.writestr("content.xml", cut)
+    write("ods-content-cut-inside-the-table.ods", buf.getvalue())
 
 
 def write_many_styles(name, count):
