@@ -6,7 +6,7 @@
 set -euo pipefail
 cd "$(dirname "$0")"
 secs=${1:-600}; shift || true
-targets=("$@"); [ ${#targets[@]} -gt 0 ] || targets=(values range headers rubric csv)
+targets=("$@"); [ ${#targets[@]} -gt 0 ] || targets=(values range headers rubric csv xls ods ods_content)
 work=../target/fuzz-work
 export RUSTC_BOOTSTRAP=1  # cargo-fuzz needs nightly flags; this lets a stable toolchain take them
 for t in "${targets[@]}"; do

@@ -14,9 +14,14 @@ static PANIC: Mutex<Option<String>> = Mutex::new(None);
 static DOING: Mutex<String> = Mutex::new(String::new());
 
 /// Replaces the default panic message (which would show a backtrace hint and internals) with a
-/// note kept for `internal_error`.
+/// note kept for `internal_error`. A panic inside `benchgrade::contain` (a reader on a damaged
+/// file) is caught there and is neither printed nor kept.
 pub fn install_hook() {
     std::panic::set_hook(Box::new(|info| {
+        if benchgrade::contain::active() {
+            // a damaged input inside a reader: caught, and reported as that file's problem
+            return;
+        }
         let what = info
             .payload()
             .downcast_ref::<&str>()

@@ -8,6 +8,7 @@
 pub mod assess;
 pub mod compare;
 pub mod config;
+pub mod contain;
 pub mod error;
 pub mod export;
 pub mod fields;

@@ -67,12 +67,16 @@ pub enum RunError {
 /// (`BENCHGRADE_LOCK_WAIT`, in seconds, changes it).
 pub const LOCK_WAIT: std::time::Duration = std::time::Duration::from_secs(5);
 
+/// The wait `BENCHGRADE_LOCK_WAIT` asks for: seconds, at most a day (a larger number is taken
+/// as a day); anything that is not a number of seconds gives the default.
 fn lock_wait() -> std::time::Duration {
     std::env::var("BENCHGRADE_LOCK_WAIT")
         .ok()
         .and_then(|s| s.trim().parse::<f64>().ok())
         .filter(|s| s.is_finite() && *s >= 0.0)
-        .map_or(LOCK_WAIT, std::time::Duration::from_secs_f64)
+        .map_or(LOCK_WAIT, |s| {
+            std::time::Duration::from_secs_f64(s.min(86_400.0))
+        })
 }
 
 fn context<'a>(

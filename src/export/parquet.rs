@@ -251,8 +251,18 @@ impl ParquetRows {
     }
 }
 
-/// Reads an earlier term's results.parquet.
+/// Reads an earlier term's results.parquet. The parquet reader trusts the file's own metadata
+/// and can panic on a damaged one; that panic is caught and named as a damaged file.
 pub fn read_term(path: &Path) -> Result<Term, String> {
+    crate::contain::contain(|| read_term_unguarded(path)).unwrap_or_else(|_| {
+        Err(format!(
+            "{}: not a results.parquet benchgrade wrote: the file is damaged (its parquet metadata cannot be read)",
+            path.display()
+        ))
+    })
+}
+
+fn read_term_unguarded(path: &Path) -> Result<Term, String> {
     let file = std::fs::File::open(path)
         .map_err(|e| format!("cannot open the baseline {}: {e}", path.display()))?;
     let not_ours = |e: PolarsError| {

@@ -175,20 +175,19 @@ pub fn read_delimited(bytes: &[u8], is_tsv: bool) -> Result<Delimited, String> {
         .flexible(true)
         .delimiter(delimiter)
         .from_reader(text.as_bytes());
-    let newlines: Vec<usize> = text
-        .bytes()
-        .enumerate()
-        .filter(|(_, b)| *b == b'\n')
-        .map(|(i, _)| i)
-        .collect();
     let bytes = text.as_bytes();
     // The reader's own line count lags over blank lines: count from the record's first byte.
-    let line_of = |offset: u64| {
-        let mut at = offset as usize;
+    // Records come in order, so the newlines are counted once, from where the last one began
+    // (a file of blank lines costs no memory).
+    let mut counted = (0usize, 0usize);
+    let mut line_of = |offset: u64| {
+        let mut at = (offset as usize).max(counted.0);
         while at < bytes.len() && (bytes[at] == b'\n' || bytes[at] == b'\r') {
             at += 1;
         }
-        newlines.partition_point(|&n| n < at)
+        let more = bytes[counted.0..at].split(|&b| b == b'\n').count() - 1;
+        counted = (at, counted.1 + more);
+        counted.1
     };
     let mut rows = Vec::new();
     let mut record = csv::StringRecord::new();
@@ -270,6 +269,20 @@ mod tests {
         let d = read_delimited(b"Title\n\nID,Crude\ns1,3\n", false).unwrap();
         let idx: Vec<u32> = d.sheet.rows.iter().map(|r| r.index).collect();
         assert_eq!(idx, vec![0, 2, 3]);
+    }
+
+    #[test]
+    fn blank_lines_cost_no_rows_and_keep_the_line_count() {
+        // 200,000 blank lines (LF and CRLF) between a header and a row: the row is numbered by
+        // its line (0-based: the header is line 0, the blanks lines 1 to 200,000)
+        let mut bytes = b"ID,Crude\n".to_vec();
+        for i in 0..200_000 {
+            bytes.extend_from_slice(if i % 2 == 0 { b"\n" } else { b"\r\n" });
+        }
+        bytes.extend_from_slice(b"s1,3\n\n\n");
+        let d = read_delimited(&bytes, false).unwrap();
+        let idx: Vec<u32> = d.sheet.rows.iter().map(|r| r.index).collect();
+        assert_eq!(idx, vec![0, 200_001]);
     }
 
     #[test]

@@ -12,6 +12,7 @@ pub mod experiment;
 pub mod grouped;
 pub mod headers;
 pub mod key;
+pub mod ods_scan;
 pub mod percent_cells;
 pub mod range;
 pub mod roster;
@@ -23,6 +24,8 @@ pub mod title;
 pub mod values;
 pub mod vocabulary;
 pub mod workbook;
+pub mod xls_guard;
+pub mod zip_guard;
 
 use std::fmt::Write as _;
 use std::path::Path;

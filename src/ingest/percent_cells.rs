@@ -3,7 +3,8 @@
 //! A spreadsheet program stores "72.8 %" as the number 0.728 and keeps the percent in the cell's
 //! format. calamine hands back the number but not the format for these two formats, so a
 //! reported recovery typed with a percent sign would be read as 0.728. This module finds the
-//! formatted cells itself: in OpenDocument the cell's `office:value-type="percentage"`, in the
+//! formatted cells itself: in OpenDocument the cell's `office:value-type="percentage"` (found by
+//! `ods_scan`, which reads content.xml once for this and for the reader's budgets), in the
 //! legacy binary format the number format of the cell's extended format (XF) record. An
 //! OpenDocument cell's decimals are read from the text it shows ("74.0%"), so that it is read as
 //! shown, as the .xlsx and .xls formats read it. Only a cell
@@ -12,10 +13,7 @@
 //! masses as a percentage in every format (see `assess`).
 
 use std::collections::HashMap;
-use std::io::{BufReader, Read};
-use std::path::Path;
-
-use quick_xml::events::{BytesStart, Event};
+use std::sync::Arc;
 
 use super::cells::{Cell, RawSheet};
 use super::workbook::percent_decimals;
@@ -31,8 +29,8 @@ pub struct Block {
     pub decimals: Option<u8>,
 }
 
-/// Percent blocks by sheet name.
-pub type PercentCells = HashMap<String, Vec<Block>>;
+/// Percent blocks by sheet name (shared: sheet records of an .xls may share one sheet).
+pub type PercentCells = HashMap<String, Arc<[Block]>>;
 
 /// Re-types the plain numbers of `sheet` that lie in one of `blocks` as percentages.
 pub fn mark(sheet: &mut RawSheet, blocks: &[Block]) {
@@ -58,212 +56,6 @@ pub fn mark(sheet: &mut RawSheet, blocks: &[Block]) {
             }
         }
     }
-}
-
-fn attr(e: &BytesStart<'_>, name: &str) -> Option<String> {
-    e.attributes()
-        .flatten()
-        .find(|a| a.key.as_ref() == name)
-        .map(|a| a.value.into_owned())
-}
-
-fn repeats(e: &BytesStart<'_>, name: &str) -> u32 {
-    attr(e, name)
-        .and_then(|v| v.trim().parse().ok())
-        .unwrap_or(1)
-        .max(1)
-}
-
-/// Most copies of one row holding data that an OpenDocument sheet may ask for: a class file
-/// repeats empty rows (formatting down the sheet), never a student's row thousands of times.
-const MOST_REPEATED_DATA_ROWS: u32 = 5_000;
-
-/// Why the scan refuses an OpenDocument file, or why it could not look (then the file is left to
-/// the reader).
-#[derive(Debug)]
-pub enum OdsScan {
-    /// The file holds what no class file holds; the message names where.
-    Refused(String),
-    Unreadable(String),
-}
-
-/// Where the scan of one OpenDocument table stands.
-#[derive(Default)]
-struct OdsCursor {
-    sheet: Option<String>,
-    row: u32,
-    row_repeats: u32,
-    col: u32,
-    blocks: Vec<Block>,
-    /// A percentage cell whose shown text is still to come.
-    open: Option<Block>,
-    /// The first thing found that refuses the file.
-    refused: Option<String>,
-}
-
-/// The decimals a percentage's shown text has: "74.0%" 1, "74 %" 0, "74,25 %" 2.
-fn shown_decimals(text: &str) -> Option<u8> {
-    let number = text.split('%').next()?.trim_end();
-    if !text.contains('%') || !number.ends_with(|c: char| c.is_ascii_digit()) {
-        return None;
-    }
-    let digits = number
-        .chars()
-        .rev()
-        .take_while(char::is_ascii_digit)
-        .count();
-    let before = number[..number.len() - digits].chars().next_back();
-    let decimals = if matches!(before, Some('.' | ',')) {
-        digits
-    } else {
-        0
-    };
-    u8::try_from(decimals).ok().filter(|d| *d <= 15)
-}
-
-impl OdsCursor {
-    /// A cell; a percentage cell with content (`empty` false) waits for its shown text.
-    fn cell(&mut self, e: &BytesStart<'_>, empty: bool) {
-        let cols = repeats(e, "table:number-columns-repeated");
-        let kind = attr(e, "office:value-type");
-        if kind.is_some() && self.refused.is_none() {
-            self.check(e, kind.as_deref());
-        }
-        if kind.as_deref() == Some("percentage") {
-            let b = Block {
-                row: self.row,
-                rows: self.row_repeats,
-                col: self.col,
-                cols,
-                decimals: None,
-            };
-            if empty {
-                self.close(b);
-            } else {
-                self.open = Some(b);
-            }
-        }
-        self.col = self.col.saturating_add(cols);
-    }
-
-    /// A cell holding data in a row repeated past reason, or a number that is not one: either
-    /// would cost the reader the whole file (memory, or a parse error that names no cell).
-    fn check(&mut self, e: &BytesStart<'_>, kind: Option<&str>) {
-        let at = || {
-            format!(
-                "sheet \"{}\" cell {}{}",
-                self.sheet.as_deref().unwrap_or(""),
-                super::cells::column_letters(self.col),
-                self.row + 1
-            )
-        };
-        if self.row_repeats > MOST_REPEATED_DATA_ROWS {
-            self.refused = Some(format!(
-                "{}: a row holding data is repeated {} times (table:number-rows-repeated); a class file does not hold that many copies of one row; re-save it from the spreadsheet program or delete the copies",
-                at(),
-                self.row_repeats
-            ));
-        } else if matches!(kind, Some("float" | "percentage" | "currency")) {
-            let value = attr(e, "office:value");
-            if value.is_some_and(|v| !v.trim().parse::<f64>().is_ok_and(f64::is_finite)) {
-                self.refused = Some(format!(
-                    "{}: office:value \"{}\" is not a number, and the file cannot be read past it; re-save it from the spreadsheet program",
-                    at(),
-                    attr(e, "office:value").unwrap_or_default().chars().take(40).collect::<String>()
-                ));
-            }
-        }
-    }
-
-    /// The first text inside an open percentage cell gives its decimals.
-    fn text(&mut self, text: &str) {
-        if let Some(b) = self.open.as_mut() {
-            if b.decimals.is_none() {
-                b.decimals = shown_decimals(text);
-            }
-        }
-    }
-
-    fn end_cell(&mut self) {
-        if let Some(b) = self.open.take() {
-            self.close(b);
-        }
-    }
-
-    fn close(&mut self, b: Block) {
-        match self.blocks.last_mut() {
-            // the same block continued in the next row
-            Some(last)
-                if last.col == b.col
-                    && last.cols == b.cols
-                    && last.decimals == b.decimals
-                    && last.row + last.rows == b.row =>
-            {
-                last.rows += b.rows;
-            }
-            _ => self.blocks.push(b),
-        }
-    }
-}
-
-/// The percentage cells of every table in an OpenDocument spreadsheet's content.xml, read
-/// before the spreadsheet reader opens the file.
-pub fn ods(path: &Path) -> Result<PercentCells, OdsScan> {
-    let other = |e: &dyn std::fmt::Display| OdsScan::Unreadable(e.to_string());
-    let file = std::fs::File::open(path).map_err(|e| other(&e))?;
-    let mut archive = zip::ZipArchive::new(BufReader::new(file)).map_err(|e| other(&e))?;
-    let content = archive.by_name("content.xml").map_err(|e| other(&e))?;
-    let mut reader = quick_xml::Reader::from_reader(BufReader::new(content));
-    let mut found = PercentCells::new();
-    let mut at = OdsCursor::default();
-    let mut buf = Vec::new();
-    loop {
-        let event = reader.read_event_into(&mut buf).map_err(|e| other(&e))?;
-        match &event {
-            Event::Start(e) | Event::Empty(e) => match e.name().as_ref() {
-                "table:table" if at.sheet.is_none() => {
-                    at = OdsCursor {
-                        sheet: Some(attr(e, "table:name").unwrap_or_default()),
-                        ..OdsCursor::default()
-                    };
-                }
-                "table:table-row" => {
-                    at.col = 0;
-                    at.row_repeats = repeats(e, "table:number-rows-repeated");
-                    if matches!(event, Event::Empty(_)) {
-                        at.row = at.row.saturating_add(at.row_repeats);
-                    }
-                }
-                "table:table-cell" | "table:covered-table-cell" => {
-                    at.cell(e, matches!(event, Event::Empty(_)));
-                }
-                _ => {}
-            },
-            Event::Text(t) if at.open.is_some() => {
-                at.text(&t[..]);
-            }
-            Event::End(e) => match e.name().as_ref() {
-                "table:table-cell" | "table:covered-table-cell" => at.end_cell(),
-                "table:table-row" => at.row = at.row.saturating_add(at.row_repeats),
-                "table:table" => {
-                    if let Some(why) = at.refused.take() {
-                        return Err(OdsScan::Refused(why));
-                    }
-                    let done = std::mem::take(&mut at);
-                    if let Some(name) = done.sheet {
-                        if !done.blocks.is_empty() {
-                            found.entry(name).or_default().extend(done.blocks);
-                        }
-                    }
-                }
-                _ => {}
-            },
-            Event::Eof => break,
-            _ => {}
-        }
-        buf.clear();
-    }
-    Ok(found)
 }
 
 /// Record types of the binary workbook format (BIFF5 and BIFF8) that this scan reads.
@@ -413,32 +205,30 @@ fn sheet_blocks(stream: &[u8], offset: usize, percent_xf: &[Option<u8>]) -> Vec<
     blocks
 }
 
-/// The percent-formatted number cells of every sheet of a legacy binary workbook.
-pub fn xls(path: &Path) -> Result<PercentCells, String> {
-    let mut file = cfb::open(path).map_err(|e| e.to_string())?;
-    let (name, biff8) = if file.exists("/Workbook") {
-        ("/Workbook", true)
-    } else {
-        ("/Book", false)
-    };
-    let mut stream = Vec::new();
-    file.open_stream(name)
-        .and_then(|mut s| s.read_to_end(&mut stream))
-        .map_err(|e| e.to_string())?;
-    let g = globals(&stream, biff8);
+/// The percent-formatted number cells of every sheet of a legacy binary workbook's stream
+/// (read and checked by `xls_guard`). Each sheet is walked once however many sheet records
+/// share it, and a name given twice keeps its last sheet, as the reader does.
+pub fn xls(stream: &[u8], biff8: bool) -> PercentCells {
+    let g = globals(stream, biff8);
     let percent_xf: Vec<Option<u8>> = g
         .xf_formats
         .iter()
         .map(|&id| format_percent(&g, id))
         .collect();
+    let mut walked: HashMap<usize, Arc<[Block]>> = HashMap::new();
     let mut found = PercentCells::new();
-    for (name, offset) in &g.sheets {
-        let blocks = sheet_blocks(&stream, *offset, &percent_xf);
-        if !blocks.is_empty() {
-            found.entry(name.clone()).or_default().extend(blocks);
+    for (name, offset) in g.sheets {
+        let blocks = walked
+            .entry(offset)
+            .or_insert_with(|| sheet_blocks(stream, offset, &percent_xf).into())
+            .clone();
+        if blocks.is_empty() {
+            found.remove(&name);
+        } else {
+            found.insert(name, blocks);
         }
     }
-    Ok(found)
+    found
 }
 
 #[cfg(test)]
@@ -483,77 +273,5 @@ mod tests {
         s.extend([0x0A, 0x00, 0x10, 0x00, 1]); // says 16 bytes, holds 1
         let got: Vec<u16> = records(&s, 0).map(|(k, _)| k).collect();
         assert_eq!(got, vec![0x0203]);
-    }
-
-    #[test]
-    fn a_percentage_s_decimals_are_read_from_the_text_it_shows() {
-        // OpenDocument 1.2 part 1, 19.385: the cell's text:p is the value as displayed
-        for (text, want) in [
-            ("74.0%", Some(1)),
-            ("74%", Some(0)),
-            ("74,25 %", Some(2)),
-            ("-3.5 %", Some(1)),
-            ("74.0", None),
-            ("", None),
-            ("%", None),
-        ] {
-            assert_eq!(shown_decimals(text), want, "{text}");
-        }
-    }
-
-    fn ods_with(content: &str) -> tempfile::TempDir {
-        let dir = tempfile::tempdir().unwrap();
-        let f = std::fs::File::create(dir.path().join("t.ods")).unwrap();
-        let mut z = zip::ZipWriter::new(f);
-        z.start_file("content.xml", zip::write::SimpleFileOptions::default())
-            .unwrap();
-        std::io::Write::write_all(&mut z, content.as_bytes()).unwrap();
-        z.finish().unwrap();
-        dir
-    }
-
-    #[test]
-    fn ods_percentage_cells_are_found_through_repeats() {
-        // OpenDocument 1.2 part 1, 9.1.3 and 9.1.4: number-rows-repeated and
-        // number-columns-repeated stand for that many copies of the row or cell
-        let content = r#"<office:document-content xmlns:office="o" xmlns:table="t" xmlns:text="x"><office:body><office:spreadsheet>
-<table:table table:name="Sec 1">
-<table:table-row><table:table-cell office:value-type="string"><text:p>id</text:p></table:table-cell></table:table-row>
-<table:table-row table:number-rows-repeated="2"><table:table-cell table:number-columns-repeated="2"/><table:table-cell office:value-type="percentage" office:value="0.73"/></table:table-row>
-<table:table-row><table:table-cell office:value-type="float" office:value="3"/><table:table-cell office:value-type="percentage" office:value="0.5" table:number-columns-repeated="2"/></table:table-row>
-<table:table-row><table:table-cell office:value-type="percentage" office:value="0.73995"><text:p>74.0%</text:p></table:table-cell></table:table-row>
-</table:table>
-<table:table table:name="Other"><table:table-row><table:table-cell office:value-type="float" office:value="1"/></table:table-row></table:table>
-</office:spreadsheet></office:body></office:document-content>"#;
-        let dir = ods_with(content);
-        let found = ods(&dir.path().join("t.ods")).unwrap();
-        assert_eq!(
-            found.get("Sec 1"),
-            Some(&vec![
-                Block {
-                    row: 1,
-                    rows: 2,
-                    col: 2,
-                    cols: 1,
-                    decimals: None,
-                },
-                Block {
-                    row: 3,
-                    rows: 1,
-                    col: 1,
-                    cols: 2,
-                    decimals: None,
-                },
-                // the decimals it shows, so that it reads as shown
-                Block {
-                    row: 4,
-                    rows: 1,
-                    col: 0,
-                    cols: 1,
-                    decimals: Some(1),
-                },
-            ])
-        );
-        assert!(!found.contains_key("Other"));
     }
 }

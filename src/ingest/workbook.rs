@@ -1,30 +1,36 @@
 //! Spreadsheet workbooks through calamine: xlsx, xlsm, xlsb, xls and ods.
 //!
 //! xlsx and xlsb sheets are streamed cell by cell into sparse rows, so a file whose few cells sit
-//! at opposite corners of the grid costs what its cells cost, not rows x columns. Before a zipped
-//! workbook is opened its directory is read, and one that would expand past a limit is refused.
+//! at opposite corners of the grid costs what its cells cost, not rows x columns. Before calamine
+//! opens a file it is held to the budgets calamine does not keep (`zip_guard` for the zipped
+//! formats, `xls_guard` and `ods_scan` for the two it reads whole as dense grids), and every
+//! calamine call runs inside `crate::contain`, so a reader's panic on a damaged file costs that
+//! file (or sheet) only.
 
 use std::fs::File;
-use std::io::BufReader;
+use std::io::{BufReader, Cursor, Read, Seek};
 use std::path::Path;
 
 use calamine::{open_workbook, Data, DataRef, Ods, Reader, Xls, Xlsb, Xlsx};
 
 use super::cells::{Cell, RawSheet, RowBuilder};
+use super::ods_scan;
 use super::percent_cells;
+use super::xls_guard;
+use super::zip_guard;
 
-/// Largest total size a zipped workbook may expand to.
-pub const MAX_EXPANDED_BYTES: u64 = 2 << 30;
-/// Largest size a part that is read whole (the shared strings, the styles, the workbook's own
-/// XML) may expand to. A class of a hundred thousand students has a few MB of shared strings;
-/// a single cell holds at most 32,767 characters.
-pub const MAX_PART_BYTES: u64 = 64 << 20;
-/// Largest size one worksheet part (read as a stream) may expand to: a million students in ten
-/// columns fit.
-pub const MAX_SHEET_BYTES: u64 = 1 << 30;
 /// Most cells one sheet may hold, so that a sheet whose part lies about its size still costs a
 /// bounded amount of memory (ten million cells, about 400 MB).
 pub const MAX_CELLS: usize = 10_000_000;
+/// Most cells calamine may lay out for a workbook it reads whole as dense grids (.xls, .ods),
+/// summed over its sheets: each sheet's rows x columns from its first value to its last (and
+/// again for its formulas), and the cells its rows keep before that. A grid of these takes
+/// about 128 MiB, and the reader holds two copies at most. Also the most a .xls DIMENSIONS
+/// record may declare. Checked by `xls_guard` and `ods_scan` before the reader sees the file.
+pub const MOST_DENSE_CELLS: u64 = 4_000_000;
+/// Most bytes of cell text those readers may build (a shared string once for every cell that
+/// names it, a repeated cell's text once for every copy, a run of spaces written out).
+pub const MOST_TEXT_BYTES: u64 = 256 << 20;
 /// Grid limits of the OOXML formats: positions beyond them are corrupt.
 const MAX_ROWS: u32 = 1 << 20;
 const MAX_COLS: u32 = 1 << 14;
@@ -41,7 +47,7 @@ pub struct SheetRead {
 pub(crate) const HIDDEN: &str = "skipped: the workbook hides this sheet (most often a template or an old copy); unhide it in the spreadsheet program to grade it";
 
 /// The sheets the workbook hides, each as a note, and the names of the others in order.
-fn hidden_first<R: Reader<BufReader<File>>>(wb: &R) -> (Vec<SheetRead>, Vec<String>) {
+fn hidden_first<RS: Read + Seek, R: Reader<RS>>(wb: &R) -> (Vec<SheetRead>, Vec<String>) {
     let (hidden, shown): (Vec<_>, Vec<_>) = wb
         .sheets_metadata()
         .iter()
@@ -82,101 +88,6 @@ fn from_data_ref(d: DataRef<'_>) -> Cell {
         DataRef::Error(e) => Cell::Error(e.to_string()),
         DataRef::Empty => Cell::Empty,
     }
-}
-
-/// OLE2 compound files: legacy .xls, and OOXML workbooks encrypted with a password.
-const OLE_MAGIC: [u8; 8] = [0xD0, 0xCF, 0x11, 0xE0, 0xA1, 0xB1, 0x1A, 0xE1];
-
-/// Says what a file that should be a zip archive is instead.
-fn not_a_zip(path: &Path) -> String {
-    let bytes = crate::files::read(path).unwrap_or_default();
-    if bytes.starts_with(&OLE_MAGIC) {
-        let marker: Vec<u8> = "EncryptionInfo"
-            .encode_utf16()
-            .flat_map(u16::to_le_bytes)
-            .collect();
-        if bytes.windows(marker.len()).any(|w| w == marker.as_slice()) {
-            return "the workbook is password-protected (encrypted); save an unprotected copy and grade that".into();
-        }
-        return "this is an older binary workbook (.xls) under another name; rename it to .xls"
-            .into();
-    }
-    if bytes.starts_with(b"PK") {
-        return "not a readable workbook: the zip archive is truncated or damaged".into();
-    }
-    let texty = bytes
-        .iter()
-        .take(512)
-        .all(|b| b.is_ascii_graphic() || b.is_ascii_whitespace() || *b >= 0x80);
-    if texty {
-        "not a workbook: the file holds plain text; if it is a CSV export, name it .csv".into()
-    } else {
-        "not a workbook: the file is neither a zip archive nor a spreadsheet format benchgrade reads".into()
-    }
-}
-
-/// A worksheet part, read as a stream; every other part is read whole.
-fn is_sheet_part(name: &str) -> bool {
-    name.starts_with("xl/worksheets/sheet") || name == "content.xml"
-}
-
-/// How many bytes a part really inflates to, counted up to `limit` + 1 and thrown away.
-fn inflated_size<R: std::io::Read + std::io::Seek>(
-    archive: &mut zip::ZipArchive<R>,
-    i: usize,
-    limit: u64,
-) -> Result<u64, String> {
-    let entry = archive
-        .by_index(i)
-        .map_err(|e| format!("not a readable workbook: {e}"))?;
-    std::io::copy(
-        &mut std::io::Read::take(entry, limit + 1),
-        &mut std::io::sink(),
-    )
-    .map_err(|e| format!("not a readable workbook: {e}"))
-}
-
-/// Reads the zip directory and refuses an archive that would expand past the limits: in all,
-/// and for any one part (those read whole are inflated once and counted, since a damaged or
-/// malicious file can understate their size).
-pub fn check_zip(path: &Path) -> Result<(), String> {
-    let file = File::open(path).map_err(|e| format!("cannot open: {e}"))?;
-    let mut archive = zip::ZipArchive::new(BufReader::new(file)).map_err(|_| not_a_zip(path))?;
-    let mut total: u64 = 0;
-    for i in 0..archive.len() {
-        let (name, declared) = {
-            let entry = archive
-                .by_index_raw(i)
-                .map_err(|e| format!("not a readable workbook: {e}"))?;
-            let name = entry.name().map(|n| n.to_string()).unwrap_or_default();
-            (name, entry.size())
-        };
-        let limit = if is_sheet_part(&name) {
-            MAX_SHEET_BYTES
-        } else {
-            MAX_PART_BYTES
-        };
-        let size = if is_sheet_part(&name) || declared > limit {
-            declared
-        } else {
-            inflated_size(&mut archive, i, limit)?
-        };
-        if size > limit {
-            return Err(format!(
-                "refused: its part {name} would expand to more than {} MiB, more than a class file holds (a damaged file or a zip bomb)",
-                limit >> 20
-            ));
-        }
-        total = total.saturating_add(size);
-    }
-    if total > MAX_EXPANDED_BYTES {
-        return Err(format!(
-            "refused: the workbook would expand to {} MiB, more than the {} MiB limit (a damaged file or a zip bomb)",
-            total >> 20,
-            MAX_EXPANDED_BYTES >> 20
-        ));
-    }
-    Ok(())
 }
 
 fn bounded(pos: (u32, u32)) -> Result<(u32, u32), String> {
@@ -298,7 +209,7 @@ fn stream_xlsx(wb: &mut Xlsx<BufReader<File>>, name: &str) -> Result<RawSheet, S
 }
 
 /// An .xls sheet with its merged cells.
-fn dense_xls(wb: &mut Xls<BufReader<File>>, name: &str) -> Result<RawSheet, String> {
+fn dense_xls<RS: Read + Seek>(wb: &mut Xls<RS>, name: &str) -> Result<RawSheet, String> {
     let mut sheet = dense(wb, name)?;
     if let Ok(dims) = wb.merge_cells_by_sheet_name(name) {
         sheet.merges = header_merges(&dims);
@@ -340,7 +251,7 @@ fn stream_xlsb(wb: &mut Xlsb<BufReader<File>>, name: &str) -> Result<RawSheet, S
     })
 }
 
-fn dense<R: Reader<BufReader<File>>>(wb: &mut R, name: &str) -> Result<RawSheet, String>
+fn dense<RS: Read + Seek, R: Reader<RS>>(wb: &mut R, name: &str) -> Result<RawSheet, String>
 where
     R::Error: std::fmt::Display,
 {
@@ -379,7 +290,7 @@ impl Format {
 }
 
 /// Whether a workbook is one benchgrade wrote: its "Provenance" sheet opens with the tool's name.
-fn is_own_output<R: Reader<BufReader<File>>>(wb: &mut R) -> bool {
+fn is_own_output<RS: Read + Seek, R: Reader<RS>>(wb: &mut R) -> bool {
     if !wb.sheet_names().iter().any(|n| n == "Provenance") {
         return false;
     }
@@ -396,18 +307,23 @@ fn is_own_output<R: Reader<BufReader<File>>>(wb: &mut R) -> bool {
 const OWN_OUTPUT: &str =
     "skipped: this is a graded workbook benchgrade wrote; grade the class file it came from";
 
-fn read_all<R, F>(mut wb: R, mut read: F, on_sheet: &mut dyn FnMut(SheetRead)) -> Result<(), String>
+fn read_all<RS, R, F>(
+    mut wb: R,
+    mut read: F,
+    on_sheet: &mut dyn FnMut(SheetRead),
+) -> Result<(), String>
 where
-    R: Reader<BufReader<File>>,
+    RS: Read + Seek,
+    R: Reader<RS>,
     F: FnMut(&mut R, &str) -> Result<RawSheet, String>,
 {
-    if is_own_output(&mut wb) {
+    if guarded(|| Ok(is_own_output(&mut wb)))? {
         return Err(OWN_OUTPUT.into());
     }
-    let (hidden, names) = hidden_first(&wb);
+    let (hidden, names) = guarded(|| Ok(hidden_first(&wb)))?;
     hidden.into_iter().for_each(&mut *on_sheet);
     for name in names {
-        let result = read(&mut wb, &name);
+        let result = guarded(|| read(&mut wb, &name));
         on_sheet(SheetRead {
             name,
             result,
@@ -431,13 +347,13 @@ where
     O: Fn() -> Result<R, String> + Sync,
     F: Fn(&mut R, &str) -> Result<RawSheet, String> + Sync,
 {
-    let mut wb = open()?;
-    let (hidden, names) = hidden_first(&wb);
+    let mut wb = guarded(&open)?;
+    let (hidden, names) = guarded(|| Ok(hidden_first(&wb)))?;
     if names.len() < 2 || std::thread::available_parallelism().map_or(1, std::num::NonZero::get) < 2
     {
         return read_all(wb, read, on_sheet);
     }
-    if is_own_output(&mut wb) {
+    if guarded(|| Ok(is_own_output(&mut wb)))? {
         return Err(OWN_OUTPUT.into());
     }
     hidden.into_iter().for_each(&mut *on_sheet);
@@ -445,9 +361,9 @@ where
         let (tx, rx) = std::sync::mpsc::sync_channel::<SheetRead>(0);
         let (names, open, read) = (&names, &open, &read);
         scope.spawn(move || {
-            let Ok(mut own) = open() else { return };
+            let Ok(mut own) = guarded(open) else { return };
             for name in names.iter().skip(1).step_by(2) {
-                let result = read(&mut own, name);
+                let result = guarded(|| read(&mut own, name));
                 if tx
                     .send(SheetRead {
                         name: name.clone(),
@@ -464,13 +380,21 @@ where
             let from_helper = if i % 2 == 1 { rx.recv().ok() } else { None };
             let sheet = from_helper.unwrap_or_else(|| SheetRead {
                 name: name.clone(),
-                result: read(&mut wb, name),
+                result: guarded(|| read(&mut wb, name)),
                 fatal: true,
             });
             on_sheet(sheet);
         }
     });
     Ok(())
+}
+
+/// What a file gets when its reader panics on it (a damaged file; calamine's bug, caught).
+pub const READER_STOPPED: &str = "not a readable workbook: the reader stopped on damaged data in this file; re-save it from the spreadsheet program";
+
+/// Runs a reader call; a panic inside it costs this file (or sheet) only.
+fn guarded<T>(f: impl FnOnce() -> Result<T, String>) -> Result<T, String> {
+    crate::contain::contain(f).unwrap_or_else(|_| Err(READER_STOPPED.into()))
 }
 
 /// A sheet with its percent-formatted cells re-typed.
@@ -489,7 +413,7 @@ pub fn read_workbook(
     on_sheet: &mut dyn FnMut(SheetRead),
 ) -> Result<(), String> {
     if format != Format::Xls {
-        check_zip(path)?;
+        zip_guard::check_zip(path)?;
     }
     match format {
         // streamed formats hold one sheet at a time, so two sheets can be read at once
@@ -504,20 +428,18 @@ pub fn read_workbook(
             on_sheet,
         )?,
         Format::Xls => {
-            let wb = open_workbook::<Xls<_>, _>(path).map_err(describe)?;
-            let percent = percent_cells::xls(path).unwrap_or_default();
+            // checked first: calamine trusts the sizes an .xls states (see xls_guard)
+            let checked = xls_guard::check(path)?;
+            let percent = percent_cells::xls(&checked.stream, checked.biff8);
+            drop(checked.stream);
+            let container = Cursor::new(checked.container);
+            let wb = guarded(|| Xls::new(container).map_err(describe))?;
             read_all(wb, dense_xls, &mut |s| on_sheet(marked(s, &percent)))?;
         }
         Format::Ods => {
             // scanned first: the scan refuses what would cost the reader the whole file
-            let percent = match percent_cells::ods(path) {
-                Ok(p) => p,
-                Err(percent_cells::OdsScan::Refused(why)) => return Err(why),
-                Err(percent_cells::OdsScan::Unreadable(_)) => {
-                    percent_cells::PercentCells::default()
-                }
-            };
-            let wb = open_workbook::<Ods<_>, _>(path).map_err(describe)?;
+            let percent = ods_scan::ods(path)?;
+            let wb = guarded(|| open_workbook::<Ods<_>, _>(path).map_err(describe))?;
             read_all(wb, dense, &mut |s| on_sheet(marked(s, &percent)))?;
         }
     }

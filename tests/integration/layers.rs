@@ -8,7 +8,8 @@ use std::path::Path;
 use crate::harness::project_root;
 
 /// From the bottom up: a module may use only those before it.
-const LAYERS: [&str; 16] = [
+const LAYERS: [&str; 17] = [
+    "contain",
     "error",
     "compare",
     "fields",

@@ -16,6 +16,7 @@ mod experiment;
 mod folder_safety;
 mod grading;
 mod harness;
+mod hostile_files;
 mod ingest_messy;
 mod languages;
 mod layers;

@@ -9,6 +9,7 @@ must do with it; tests/integration/bad_corpus.rs checks it.
 """
 import io
 import os
+import struct
 import zipfile
 
 HERE = os.path.dirname(os.path.abspath(__file__))
@@ -122,6 +123,186 @@ def main():
     write_strings_bomb("shared-strings-bomb.xlsx", 3 << 29, understate=False)
     write_strings_bomb("shared-strings-bomb-understated.xlsx", 3 << 29, understate=True)
     write_encrypted("password-protected.xlsx", good)
+    write_hostile_xls()
+    write_hostile_ods()
+    write_many_styles("xlsx-3-million-styles.xlsx", 3_000_000)
+
+
+# --- legacy .xls: BIFF8 records (MS-XLS) in a compound file (MS-CFB), written by hand ---
+
+def rec(kind, body=b""):
+    """One BIFF record (MS-XLS 2.1.4): type, length, body."""
+    return struct.pack("<HH", kind, len(body)) + body
+
+
+def biff_sheet(dimensions=None, extra_records=1):
+    """A worksheet substream: BOF, DIMENSIONS, the header and rows as LABEL and NUMBER cells."""
+    out = rec(0x0809, struct.pack("<HH", 0x0600, 0x10) + bytes(12))
+    rows = [HEADER] + ROWS
+    rf, rl = dimensions or (0, len(rows))
+    out += rec(0x0200, struct.pack("<IIHHH", rf, rl, 0, len(HEADER), 0))
+    for r, values in enumerate(rows):
+        for c, v in enumerate(values):
+            if isinstance(v, float):
+                out += rec(0x0203, struct.pack("<HHHd", r, c, 0, v))
+            else:  # LABEL (2.4.148): an XLUnicodeString, 1-byte characters
+                text = v.encode("latin-1")
+                out += rec(0x0204, struct.pack("<HHHHB", r, c, 0, len(text), 0) + text)
+    for _ in range(extra_records - 1):
+        out += rec(0x0203, struct.pack("<HHHd", 0, 5, 0, 1.0))
+    return out + rec(0x000A)
+
+
+def biff_workbook(names, sheet, offset_shift=0):
+    """A workbook stream: the globals with a BOUNDSHEET per name, all naming `sheet`."""
+    bof = rec(0x0809, struct.pack("<HH", 0x0600, 0x0005) + bytes(12))
+    def boundsheet(pos, name):
+        n = name.encode("latin-1")
+        return rec(0x0085, struct.pack("<IBBBB", pos, 0, 0, len(n), 0) + n)
+    globals_len = len(bof) + sum(len(boundsheet(0, n)) for n in names) + 4
+    body = bof + b"".join(boundsheet(globals_len + offset_shift, n) for n in names) + rec(0x000A)
+    return body + sheet
+
+
+def cfb(stream, name="Workbook"):
+    """A version 3 compound file (MS-CFB) holding one stream of at least 4,096 bytes (so that
+    it lives in regular sectors): sector 0 the FAT, 1 the directory, then the stream."""
+    stream = stream + bytes(max(0, 4096 - len(stream)))
+    n = (len(stream) + 511) // 512
+    assert n + 2 <= 128, "one FAT sector holds 128 entries"
+    fat = [0xFFFFFFFD, 0xFFFFFFFE] + [3 + i for i in range(n - 1)] + [0xFFFFFFFE]
+    fat += [0xFFFFFFFF] * (128 - len(fat))
+    header = (b"\xD0\xCF\x11\xE0\xA1\xB1\x1A\xE1" + bytes(16)
+              + struct.pack("<HHHHH", 0x003E, 3, 0xFFFE, 9, 6) + bytes(6)
+              + struct.pack("<IIIIIIIII", 0, 1, 1, 0, 4096, 0xFFFFFFFE, 0, 0xFFFFFFFE, 0)
+              + struct.pack("<I", 0) + b"\xFF" * 4 * 108)
+    def entry(name, kind, child, start, size):
+        n = (name.encode("utf-16-le") + b"\0\0") if name else b""
+        return (n.ljust(64, b"\0") + struct.pack("<HBB", len(n), kind, 1)
+                + struct.pack("<III", 0xFFFFFFFF, 0xFFFFFFFF, child) + bytes(16 + 4 + 16)
+                + struct.pack("<IIHH", start, size, 0, 0))
+    directory = (entry("Root Entry", 5, 1, 0xFFFFFFFE, 0) + entry(name, 2, 0xFFFFFFFF, 2, len(stream))
+                 + entry("", 0, 0xFFFFFFFF, 0, 0) * 2)
+    return header + struct.pack("<128I", *fat) + directory + stream.ljust(n * 512, b"\0")
+
+
+def write_hostile_xls():
+    # DIMENSIONS (2.4.90) claiming rows 0 to 2^32 - 2: the reader would reserve 2^32 x 4 cells
+    write("xls-dimensions-4-billion-rows.xls",
+          cfb(biff_workbook(["Section A"], biff_sheet(dimensions=(0, 0xFFFFFFFF)))))
+    # BOUNDSHEET (2.4.28) placing the sheet a megabyte past the end of the stream
+    write("xls-sheet-past-the-end.xls",
+          cfb(biff_workbook(["Section A"], biff_sheet(), offset_shift=1 << 20)))
+    # 4,000 sheet records naming one sheet of 2,600 records: 10.4 million records to walk
+    names = [f"S{i}" for i in range(4000)]
+    write("xls-one-sheet-named-4000-times.xls",
+          cfb_large(biff_workbook(names, biff_sheet(extra_records=2600))))
+
+
+def cfb_large(stream):
+    """`cfb` for a stream of more than 126 sectors: a second FAT sector, listed in the header."""
+    stream = stream + bytes(max(0, 4096 - len(stream)))
+    n = (len(stream) + 511) // 512
+    fats = 1
+    while fats * 128 < n + 1 + fats:
+        fats += 1
+    assert fats <= 109, "the header lists 109 FAT sectors"
+    # sectors: the FAT sectors, then the directory, then the stream
+    fat = [0xFFFFFFFD] * fats + [0xFFFFFFFE]
+    first = fats + 1
+    fat += [first + 1 + i for i in range(n - 1)] + [0xFFFFFFFE]
+    fat += [0xFFFFFFFF] * (fats * 128 - len(fat))
+    difat = list(range(fats)) + [0xFFFFFFFF] * (109 - fats)
+    header = (b"\xD0\xCF\x11\xE0\xA1\xB1\x1A\xE1" + bytes(16)
+              + struct.pack("<HHHHH", 0x003E, 3, 0xFFFE, 9, 6) + bytes(6)
+              + struct.pack("<IIIIIIIII", 0, fats, fats, 0, 4096, 0xFFFFFFFE, 0, 0xFFFFFFFE, 0)
+              + struct.pack("<109I", *difat))
+    def entry(name, kind, child, start, size):
+        n = (name.encode("utf-16-le") + b"\0\0") if name else b""
+        return (n.ljust(64, b"\0") + struct.pack("<HBB", len(n), kind, 1)
+                + struct.pack("<III", 0xFFFFFFFF, 0xFFFFFFFF, child) + bytes(16 + 4 + 16)
+                + struct.pack("<IIHH", start, size, 0, 0))
+    directory = (entry("Root Entry", 5, 1, 0xFFFFFFFE, 0) + entry("Workbook", 2, 0xFFFFFFFF, first, len(stream))
+                 + entry("", 0, 0xFFFFFFFF, 0, 0) * 2)
+    return header + struct.pack(f"<{fats * 128}I", *fat) + directory + stream.ljust(n * 512, b"\0")
+
+
+# --- OpenDocument: content.xml with a table whose few bytes ask for a great deal ---
+
+ODS_NS = ('xmlns:office="urn:oasis:names:tc:opendocument:xmlns:office:1.0" '
+          'xmlns:table="urn:oasis:names:tc:opendocument:xmlns:table:1.0" '
+          'xmlns:text="urn:oasis:names:tc:opendocument:xmlns:text:1.0"')
+
+
+def ods(rows_xml):
+    header = "".join(f'<table:table-cell office:value-type="string"><text:p>{esc(h)}</text:p></table:table-cell>'
+                     for h in HEADER)
+    content = (f'<?xml version="1.0" encoding="UTF-8"?><office:document-content {ODS_NS} office:version="1.2">'
+               f'<office:body><office:spreadsheet><table:table table:name="Section A">'
+               f'<table:table-row>{header}</table:table-row>{rows_xml}</table:table>'
+               '</office:spreadsheet></office:body></office:document-content>')
+    manifest = ('<?xml version="1.0" encoding="UTF-8"?><manifest:manifest '
+                'xmlns:manifest="urn:oasis:names:tc:opendocument:xmlns:manifest:1.0" manifest:version="1.2">'
+                '<manifest:file-entry manifest:full-path="/" manifest:media-type="application/vnd.oasis.opendocument.spreadsheet"/>'
+                '<manifest:file-entry manifest:full-path="content.xml" manifest:media-type="text/xml"/></manifest:manifest>')
+    buf = io.BytesIO()
+    with zipfile.ZipFile(buf, "w", zipfile.ZIP_DEFLATED) as z:
+        z.writestr("mimetype", "application/vnd.oasis.opendocument.spreadsheet")
+        z.writestr("META-INF/manifest.xml", manifest)
+        z.writestr("content.xml", content)
+    return buf.getvalue()
+
+
+def ods_row(cells):
+    return "<table:table-row>" + "".join(cells) + "</table:table-row>"
+
+
+def ods_value(v):
+    if isinstance(v, float):
+        return f'<table:table-cell office:value-type="float" office:value="{v}"><text:p>{v}</text:p></table:table-cell>'
+    return f'<table:table-cell office:value-type="string"><text:p>{esc(v)}</text:p></table:table-cell>'
+
+
+def write_hostile_ods():
+    # text:s (ODF 1.2 part 3, 6.1.3) standing for 1.5 billion spaces in a student's id
+    spaced = ('<table:table-cell office:value-type="string"><text:p>B-1<text:s text:c="1500000000"/>01'
+              '</text:p></table:table-cell>')
+    write("ods-spaces-1500000000.ods", ods(ods_row([spaced] + [ods_value(v) for v in ROWS[0][1:]])))
+    # a value repeated over 16,384 columns in 5,000 rows: 82 million cells from one element
+    wide = ('<table:table-row table:number-rows-repeated="5000"><table:table-cell office:value-type="float" '
+            'office:value="1" table:number-columns-repeated="16384"/></table:table-row>')
+    write("ods-repeated-columns-and-rows.ods", ods(wide))
+    # a crude mass whose cell holds a sub-table with a percentage in the crude column: the
+    # mass stays 3.02 g
+    sub = ('<table:table-cell office:value-type="float" office:value="3.02"><text:p>3.02</text:p>'
+           '<table:table table:name="note"><table:table-row><table:table-cell/>'
+           '<table:table-cell office:value-type="percentage" office:value="0.5"/></table:table-row>'
+           '</table:table></table:table-cell>')
+    rows = ods_row([ods_value(ROWS[0][0]), sub] + [ods_value(v) for v in ROWS[0][2:]])
+    write("ods-sub-table-in-a-cell.ods", ods(rows + ods_row([ods_value(v) for v in ROWS[1]])))
+    # content.xml cut off inside the table (calamine 0.38 then loops forever waiting for the
+    # table's end tag; found by fuzzing)
+    whole = ods("".join(ods_row([ods_value(v) for v in r]) for r in ROWS))
+    with zipfile.ZipFile(io.BytesIO(whole)) as src:
+        content = src.read("content.xml").decode()
+        cut = content[: content.index("</table:table>")]
+        buf = io.BytesIO()
+        with zipfile.ZipFile(buf, "w", zipfile.ZIP_DEFLATED) as z:
+            for name in ("mimetype", "META-INF/manifest.xml"):
+                z.writestr(name, src.read(name))
+            z.writestr("content.xml", cut)
+    write("ods-content-cut-inside-the-table.ods", buf.getvalue())
+
+
+def write_many_styles(name, count):
+    """A good workbook whose styles.xml lists `count` empty cell formats (<xf/>)."""
+    buf = io.BytesIO()
+    with zipfile.ZipFile(buf, "w", zipfile.ZIP_DEFLATED, compresslevel=9) as z:
+        write_parts(z, [("Section A", sheet_xml(table(HEADER, ROWS)))])
+        z.writestr("xl/styles.xml",
+                   '<?xml version="1.0" encoding="UTF-8"?><styleSheet xmlns="http://schemas.openxmlformats.org/spreadsheetml/2006/main">'
+                   f'<cellXfs count="{count}">' + "<xf/>" * count + "</cellXfs></styleSheet>")
+    write(name, buf.getvalue())
 
 
 def write_bomb(name, size):
@@ -182,4 +363,10 @@ def write_encrypted(name, plain):
 
 
 if __name__ == "__main__":
-    main()
+    import sys
+    if sys.argv[1:] == ["hostile"]:  # only the files of issue 20 (no msoffcrypto-tool needed)
+        write_hostile_xls()
+        write_hostile_ods()
+        write_many_styles("xlsx-3-million-styles.xlsx", 3_000_000)
+    else:
+        main()
