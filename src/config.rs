@@ -157,9 +157,7 @@ impl Config {
             columns_file: opts.columns.clone(),
             roster,
             roster_file: opts.roster.clone(),
-            corrections: crate::rubric::corrections::Corrections::load_opt(
-                opts.corrections.as_deref(),
-            )?,
+            corrections: corrections(opts.corrections.as_deref())?,
             corrections_file: opts.corrections.clone(),
             roster_problems,
             roster_sheets,
@@ -189,6 +187,35 @@ impl Config {
             vocabulary,
             library,
         })
+    }
+}
+
+/// The `--corrections` file: every line checked, a status among them by the words that excuse
+/// (or "graded", which undoes an excuse the notes gave).
+fn corrections(
+    path: Option<&Path>,
+) -> Result<crate::rubric::corrections::Corrections, ConfigError> {
+    let c = crate::rubric::corrections::Corrections::load_opt(path)?;
+    let wrong: Vec<String> = c
+        .statuses()
+        .filter(|(_, v)| {
+            let sub = crate::ingest::Submission {
+                status: Some((*v).to_string()),
+                ..crate::ingest::Submission::default()
+            };
+            !v.eq_ignore_ascii_case("graded") && crate::assess::excused::reason(&sub).is_none()
+        })
+        .map(|(line, v)| {
+            format!(
+                "{}:{line}: status \"{v}\" is neither graded nor a word that excuses (W, withdrawn, excused, absent, exempt, ...)",
+                c.source
+            )
+        })
+        .collect();
+    if wrong.is_empty() {
+        Ok(c)
+    } else {
+        Err(ConfigError::Invalid(wrong.join("\n")))
     }
 }
 

@@ -216,6 +216,9 @@ struct Grader<'a> {
     likely: std::collections::HashMap<String, String>,
     /// Which corrections found their row.
     corrections_used: Vec<bool>,
+    /// Ids a correction gave a row, and how many rows that left with another row's id.
+    corrected_ids: std::collections::HashSet<String>,
+    clashes: usize,
 }
 
 impl<'a> Grader<'a> {
@@ -228,6 +231,8 @@ impl<'a> Grader<'a> {
             seen: std::collections::HashSet::new(),
             likely: std::collections::HashMap::new(),
             corrections_used: vec![false; config.corrections.len()],
+            corrected_ids: std::collections::HashSet::new(),
+            clashes: 0,
         }
     }
 
@@ -236,6 +241,12 @@ impl<'a> Grader<'a> {
         let mut unmatched = self.overrides.unmatched();
         if self.scoring {
             unmatched.extend(self.config.corrections.unmatched(&self.corrections_used));
+            if self.clashes > 0 {
+                unmatched.push(format!(
+                    "{}: {} row(s) now share an id with another row of the section because a correction set it; a corrected id must be the student's own (correct the other row too, or check the id)",
+                    self.config.corrections.source, self.clashes
+                ));
+            }
         }
         if unmatched.is_empty() {
             Ok(())
@@ -246,10 +257,16 @@ impl<'a> Grader<'a> {
 
     fn grade(&mut self, mut sub: ingest::Submission) -> Graded {
         if !self.config.corrections.is_empty() && !sub.no_submission {
+            let typed = sub.student_id.clone();
             sub.corrections = self
                 .config
                 .corrections
                 .apply(&mut sub, &mut self.corrections_used);
+            if let (Some(t), Some(now)) = (typed, &sub.student_id) {
+                if t.trim() != now.trim() {
+                    self.corrected_ids.insert(now.trim().to_string());
+                }
+            }
         }
         if let Some(roster) = &self.config.roster {
             roster.settle(&mut sub);
@@ -260,6 +277,12 @@ impl<'a> Grader<'a> {
                     .is_some_and(|id| roster.get(id).is_none());
         }
         let mut a = self.assessor.assess(sub);
+        let id = a.submission.student_id.as_deref().map(str::trim);
+        if let (true, Some(id)) = (a.has(crate::model::Flag::DuplicateStudent), id) {
+            if self.corrected_ids.contains(id) {
+                self.clashes += 1;
+            }
+        }
         if let Some(roster) = &self.config.roster {
             if let Some(id) = a.submission.student_id.as_deref() {
                 self.seen.insert(id.trim().to_string());

@@ -205,6 +205,15 @@ impl Corrections {
         self.list.push(c);
     }
 
+    /// The status values the corrections set, with their lines: each must say graded or
+    /// excused in words the readers know, which only the assessment can tell.
+    pub fn statuses(&self) -> impl Iterator<Item = (usize, &str)> {
+        self.list.iter().filter_map(|c| match (&c.value, c.field) {
+            (Value::Text(t), Field::Status) => Some((c.line, t.as_str())),
+            _ => None,
+        })
+    }
+
     pub fn is_empty(&self) -> bool {
         self.list.is_empty()
     }

@@ -588,3 +588,67 @@ fn leading_zeros_an_excused_stranger_and_the_summary_line() {
     let ids: Vec<&str> = book.iter().map(|b| b["student_id"].as_str()).collect();
     assert_eq!(ids, vec!["0012345", "0012346", "0012347"]);
 }
+
+/// A correction may not give a row another student's id, nor set a status no reader knows
+/// (both seen in a coordinator's trial: the first handed one student's grade to another).
+#[test]
+fn a_correction_cannot_take_another_student_s_id_or_set_a_status_no_one_reads() {
+    let f = Fixture::new();
+    f.write(
+        "class.csv",
+        "Student ID,Name,Crude mass (g),Recovered mass (g),Melting range (°C)\n\
+         2026001,Amara Hollin,3.0,2.1,121.5-122.3\n\
+         2026002,Bastian Jessop,3.0,2.4,121.4-122.2\n",
+    );
+    f.write(
+        "clash.csv",
+        "student_id,section,field,value,reason,grader\n2026001,,student_id,2026002,typo?,P. Quist\n",
+    );
+    let run = f.run(&[
+        "grade",
+        "class.csv",
+        "--corrections",
+        "clash.csv",
+        "--out",
+        "out",
+    ]);
+    assert_eq!(run.code, 2, "{}", run.stderr);
+    assert!(
+        run.stderr.contains("share an id with another row"),
+        "{}",
+        run.stderr
+    );
+    assert!(!run.stderr.contains("2026002"), "no id on standard error");
+    f.write(
+        "status.csv",
+        "student_id,section,field,value,reason,grader\n2026001,,status,banana,x,P. Quist\n",
+    );
+    let run = f.run(&[
+        "grade",
+        "class.csv",
+        "--corrections",
+        "status.csv",
+        "--out",
+        "out2",
+    ]);
+    assert_eq!(run.code, 2, "{}", run.stderr);
+    assert!(
+        run.stderr.contains("status.csv:2") && run.stderr.contains("neither graded nor"),
+        "{}",
+        run.stderr
+    );
+    f.write(
+        "ok.csv",
+        "student_id,section,field,value,reason,grader\n2026001,,status,W,withdrew in week 3,P. Quist\n",
+    );
+    let run = f.run(&[
+        "grade",
+        "class.csv",
+        "--corrections",
+        "ok.csv",
+        "--out",
+        "out3",
+    ]);
+    assert_eq!(run.code, 0, "{}", run.stderr);
+    assert_eq!(f.results("out3")[0]["status"], "excused");
+}
