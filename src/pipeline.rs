@@ -7,23 +7,25 @@ use std::path::{Path, PathBuf};
 use std::sync::mpsc::{sync_channel, SyncSender};
 
 use crate::assess::duplicates::{Counted, Repeats};
-use crate::assess::{calibration, Assessor, Calibration, Centres, Context};
+use crate::assess::{calibration, Calibration, Centres, Context};
 use crate::config::Config;
 use crate::error::{ConfigError, WriteError};
 use crate::export::atomic::Stage;
 use crate::export::provenance::Provenance;
 use crate::export::row_thread::Fanout;
-use crate::files::FolderLock;
 use crate::ingest::spill::{Replay, SpillWriter};
 use crate::ingest::{self, discover, Collector, Problem, SheetReport};
 use crate::model::names::BatchNames;
-use crate::model::{Graded, Score, Tally};
-use crate::rubric::overrides::{Override, Overrides};
-use crate::rubric::score;
+use crate::model::{Graded, Tally};
 
+mod folder;
+mod grader;
 mod key;
 mod labels;
 mod outputs;
+use folder::{folder_note, open_output_folder, refuse_overwriting_inputs};
+pub use folder::{write_templates, LOCK_WAIT};
+use grader::{no_submissions, Grader};
 use outputs::{Tallies, Writers};
 
 /// What a run read and found.
@@ -61,22 +63,6 @@ pub enum RunError {
     /// A writer thread panicked: a bug, reported as such.
     #[error("{0}")]
     Internal(String),
-}
-
-/// How long a run waits for another run writing into the same folder before it gives up
-/// (`BENCHGRADE_LOCK_WAIT`, in seconds, changes it).
-pub const LOCK_WAIT: std::time::Duration = std::time::Duration::from_secs(5);
-
-/// The wait `BENCHGRADE_LOCK_WAIT` asks for: seconds, at most a day (a larger number is taken
-/// as a day); anything that is not a number of seconds gives the default.
-fn lock_wait() -> std::time::Duration {
-    std::env::var("BENCHGRADE_LOCK_WAIT")
-        .ok()
-        .and_then(|s| s.trim().parse::<f64>().ok())
-        .filter(|s| s.is_finite() && *s >= 0.0)
-        .map_or(LOCK_WAIT, |s| {
-            std::time::Duration::from_secs_f64(s.min(86_400.0))
-        })
 }
 
 fn context<'a>(
@@ -203,116 +189,6 @@ fn read_all(files: &[PathBuf], replay: Option<&Replay>, tx: &SyncSender<ingest::
     }
 }
 
-/// Assesses and scores rows one after another.
-struct Grader<'a> {
-    config: &'a Config,
-    assessor: Assessor<'a>,
-    overrides: Overrides,
-    /// Whether rows are scored: not in the first pass, which needs only the measures.
-    scoring: bool,
-    /// The ids of the rows graded, for the roster's students with no row.
-    seen: std::collections::HashSet<String>,
-    /// Rostered ids a row not on the roster is likely to be, with that row's id.
-    likely: std::collections::HashMap<String, String>,
-    /// Which corrections found their row.
-    corrections_used: Vec<bool>,
-    /// Ids a correction gave a row, and how many rows that left with another row's id.
-    corrected_ids: std::collections::HashSet<String>,
-    clashes: usize,
-}
-
-impl<'a> Grader<'a> {
-    fn new(config: &'a Config, calibration: Option<&'a Calibration>, inputs: &Inputs<'a>) -> Self {
-        Grader {
-            config,
-            assessor: Assessor::new(context(config, calibration, inputs)),
-            overrides: config.overrides.clone(),
-            scoring: inputs.centres.is_some(),
-            seen: std::collections::HashSet::new(),
-            likely: std::collections::HashMap::new(),
-            corrections_used: vec![false; config.corrections.len()],
-            corrected_ids: std::collections::HashSet::new(),
-            clashes: 0,
-        }
-    }
-
-    /// Refuses the run when an override or (in the grading pass) a correction found no row.
-    fn unmatched(&self) -> Result<(), RunError> {
-        let mut unmatched = self.overrides.unmatched();
-        if self.scoring {
-            unmatched.extend(self.config.corrections.unmatched(&self.corrections_used));
-            if self.clashes > 0 {
-                unmatched.push(format!(
-                    "{}: {} row(s) now share an id with another row of the section because a correction set it; a corrected id must be the student's own (correct the other row too, or check the id)",
-                    self.config.corrections.source, self.clashes
-                ));
-            }
-        }
-        if unmatched.is_empty() {
-            Ok(())
-        } else {
-            Err(ConfigError::Invalid(unmatched.join("\n")).into())
-        }
-    }
-
-    fn grade(&mut self, mut sub: ingest::Submission) -> Graded {
-        if !self.config.corrections.is_empty() && !sub.no_submission {
-            let typed = sub.student_id.clone();
-            sub.corrections = self
-                .config
-                .corrections
-                .apply(&mut sub, &mut self.corrections_used);
-            if let (Some(t), Some(now)) = (typed, &sub.student_id) {
-                if t.trim() != now.trim() {
-                    self.corrected_ids.insert(now.trim().to_string());
-                }
-            }
-        }
-        if let Some(roster) = &self.config.roster {
-            roster.settle(&mut sub);
-            sub.off_roster = !sub.no_submission
-                && sub
-                    .student_id
-                    .as_deref()
-                    .is_some_and(|id| roster.get(id).is_none());
-        }
-        let mut a = self.assessor.assess(sub);
-        let id = a.submission.student_id.as_deref().map(str::trim);
-        if let (true, Some(id)) = (a.has(crate::model::Flag::DuplicateStudent), id) {
-            if self.corrected_ids.contains(id) {
-                self.clashes += 1;
-            }
-        }
-        if let Some(roster) = &self.config.roster {
-            if let Some(id) = a.submission.student_id.as_deref() {
-                self.seen.insert(id.trim().to_string());
-            }
-            if a.excused.is_none() && !a.submission.no_submission {
-                a.flags.extend(roster.flags(&a.submission));
-                a.flags.sort_by_key(|(f, _)| f.code());
-            }
-            if let (Some(e), Some(typed)) = (roster.likely(&a.submission), &a.submission.student_id)
-            {
-                self.likely.insert(e.id.clone(), typed.trim().to_string());
-            }
-        }
-        let score = if self.scoring {
-            let s = &a.submission;
-            // an override applies to the submission that counts, never to a repeat
-            let own = if a.has(crate::model::Flag::DuplicateStudent) {
-                Vec::new()
-            } else {
-                self.overrides.for_row(s.student_id.as_deref(), &s.section)
-            };
-            let refs: Vec<&Override> = own.iter().collect();
-            score::score(&self.config.rubric, &a, &refs)
-        } else {
-            Score::default()
-        };
-        Graded { score, assessed: a }
-    }
-}
-
 /// Reads `files` (or replays the first pass's record of them) on a reader thread and hands each
 /// graded row to `on_row`, in batch order; `record` keeps what was read. Stops at the first
 /// error `on_row` returns.
@@ -372,44 +248,6 @@ fn stream(
         return Err(e.into());
     }
     grader.unmatched()
-}
-
-/// A row for each rostered student of whom no row was read, after every input: status
-/// `no-submission`, graded as the rubric's `no_submission` says, in the rostered section.
-fn no_submissions(
-    grader: &mut Grader,
-    on_row: &mut dyn FnMut(Graded) -> Result<(), WriteError>,
-) -> Result<(), WriteError> {
-    let Some(roster) = &grader.config.roster else {
-        return Ok(());
-    };
-    let missing: Vec<ingest::Submission> = roster
-        .missing(&grader.seen)
-        .map(|e| ingest::Submission {
-            source: roster.source.clone(),
-            row: e
-                .place
-                .rsplit(' ')
-                .next()
-                .and_then(|n| n.parse().ok())
-                .unwrap_or(0),
-            section: e
-                .section
-                .clone()
-                .unwrap_or_else(|| "(no section on the roster)".into()),
-            student_id: Some(e.id.clone()),
-            student_name: e.name.clone(),
-            assistant: e.assistant.clone(),
-            no_submission: true,
-            likely_typed_as: grader.likely.get(&e.id).cloned(),
-            ..ingest::Submission::default()
-        })
-        .collect();
-    // rows made from the roster are not submissions: the tally counts what was read
-    for sub in missing {
-        on_row(grader.grade(sub))?;
-    }
-    Ok(())
 }
 
 /// A note for each section label read as a section spelt otherwise earlier in the batch.
@@ -623,20 +461,6 @@ pub fn output_paths(out_dir: &Path) -> [PathBuf; 3] {
     ]
 }
 
-fn refuse_overwriting_inputs(outputs: &[PathBuf], inputs: &[PathBuf]) -> Result<(), ConfigError> {
-    match crate::export::atomic::overwritten_input(outputs, inputs) {
-        Some(p) => Err(overwrite_refusal(&p)),
-        None => Ok(()),
-    }
-}
-
-fn overwrite_refusal(output: &Path) -> ConfigError {
-    ConfigError::Invalid(format!(
-        "refusing to write {}: it is one of the inputs; choose another --out folder",
-        output.display()
-    ))
-}
-
 /// How far a run has come, for a progress display.
 #[derive(Clone, Copy, Debug, PartialEq, Eq)]
 pub struct Progress {
@@ -648,55 +472,6 @@ pub struct Progress {
 /// Grades the batch and writes every output into the output folder.
 pub fn grade(config: &Config) -> Result<Batch, RunError> {
     grade_with_progress(config, &mut |_| {})
-}
-
-/// Creates the output folder and takes its lock; refuses a `handouts` there that is a link (or
-/// not a folder) and a state file that is not a regular file, before anything is removed;
-/// completes a publication a killed run left half done and sweeps dead runs' temporary files.
-/// Notes on outputs the completion set aside go to `problems`.
-fn open_output_folder(
-    config: &Config,
-    inputs: &[PathBuf],
-    problems: &mut Vec<Problem>,
-) -> Result<FolderLock, RunError> {
-    use crate::export::journal;
-    let dir = &config.out_dir;
-    let invalid = |what: &str, e: std::io::Error| {
-        ConfigError::Invalid(format!("{what} the output folder {}: {e}", dir.display()))
-    };
-    std::fs::create_dir_all(dir).map_err(|e| invalid("cannot create", e))?;
-    let lock = FolderLock::take(dir, lock_wait())
-        .map_err(|e| invalid("cannot lock", e))?
-        .ok_or_else(|| {
-            ConfigError::Invalid(format!(
-                "another benchgrade run is writing into {}; wait for it to finish, or choose another --out folder",
-                dir.display()
-            ))
-        })?;
-    let d = crate::files::dir::Dir::open(dir).map_err(|e| invalid("cannot open", e))?;
-    let unchanged = |e: std::io::Error| {
-        ConfigError::Invalid(format!("{e}; nothing in {} was changed", dir.display()))
-    };
-    journal::handouts_kind(&d).map_err(unchanged)?;
-    journal::read_manifest(&d).map_err(unchanged)?;
-    let notes = journal::recover(&d, &journal::identities(inputs))
-        .map_err(|e| invalid("cannot finish the last run's outputs in", e))?;
-    problems.extend(notes.into_iter().flatten().map(|n| folder_note(dir, n)));
-    crate::files::sweep_in(&d);
-    if let Ok(h) = d.sub(crate::export::handouts::FOLDER) {
-        crate::files::sweep_in(&h);
-    }
-    Ok(lock)
-}
-
-/// A note about the output folder (an output set aside), for standard error.
-fn folder_note(dir: &Path, message: String) -> Problem {
-    Problem {
-        file: dir.display().to_string(),
-        sheet: None,
-        message,
-        fatal: false,
-    }
 }
 
 /// Refuses a batch with nothing to grade, before anything is written.
@@ -745,41 +520,6 @@ fn provenance(config: &Config, files: &[PathBuf], calibration: Option<&Path>) ->
         settings,
     };
     Provenance::new(config.timestamp, &used, &read)
-}
-
-/// `benchgrade template`: the entry workbooks of the configured roster, written into the
-/// output folder under its lock, published together; the paths written, and notes on outputs
-/// of an earlier run that were set aside.
-pub fn write_templates(
-    config: &Config,
-    one_workbook: bool,
-) -> Result<(Vec<PathBuf>, Vec<Problem>), RunError> {
-    let Some(roster) = &config.roster else {
-        return Err(ConfigError::Invalid("template needs --roster FILE".into()).into());
-    };
-    let inputs: Vec<PathBuf> = config.roster_file.iter().cloned().collect();
-    let planned: Vec<PathBuf> = vec![config.out_dir.join("entry-sheets.xlsx")];
-    refuse_overwriting_inputs(&planned, &inputs)?;
-    let mut notes = Vec::new();
-    let _lock = open_output_folder(config, &inputs, &mut notes)?;
-    let stage = Stage::new();
-    let o = crate::export::template::TemplateOptions {
-        roster: roster.students(),
-        rubric: &config.rubric,
-        title: &config.title,
-        out_dir: &config.out_dir,
-        one_workbook,
-        timestamp: config.timestamp,
-    };
-    let written = crate::export::template::write(&o, &stage)?;
-    refuse_overwriting_inputs(&written, &inputs)?;
-    let set_aside = stage.publish(&config.out_dir, &inputs)?;
-    notes.extend(
-        set_aside
-            .into_iter()
-            .map(|n| folder_note(&config.out_dir, n)),
-    );
-    Ok((written, notes))
 }
 
 /// Refuses a batch in which no student row could be read.
