@@ -357,7 +357,14 @@ fn no_submission(rubric: &Rubric, likely_typed_as: Option<&str>) -> Score {
     let likely = likely_typed_as.map_or(String::new(), |id| {
         format!(": a row with id {id}, which is not on the roster, is one typing slip from this student's id and has the same name: it is likely this student's (confirm the id with a correction)")
     });
-    match rubric.grading.no_submission {
+    // a student whose row likely carries a mistyped id is left blank until the id is confirmed,
+    // never scored twice (once under the typed id, once as missing)
+    let rule = if likely_typed_as.is_some() {
+        NoSubmission::Blank
+    } else {
+        rubric.grading.no_submission
+    };
+    match rule {
         NoSubmission::Blank => Score {
             max,
             feedback: format!(
