@@ -115,6 +115,12 @@ impl Words<'_> {
     fn any(&self, ws: &[&str]) -> bool {
         ws.iter().any(|w| self.has(w))
     }
+    /// Some word is in the vocabulary's class: the other languages' words (and a user's)
+    /// beside this module's English ones.
+    fn class(&self, class: &str) -> bool {
+        let v = super::vocabulary::current();
+        self.0.iter().any(|x| v.has(class, x))
+    }
     fn only(&self, ws: &[&str]) -> bool {
         !self.0.is_empty() && self.0.iter().all(|x| ws.contains(&x.as_str()))
     }
@@ -202,23 +208,23 @@ fn weighing(w: &Words, h: &ParsedHeader) -> Option<HeaderMeaning> {
 /// The crude product's melting range, a repeat determination, or a mixed melting point.
 fn melting(w: &Words, h: &ParsedHeader) -> Option<HeaderMeaning> {
     let temp = matches!(h.unit, Some(Unit::Temperature(_)));
-    let mp = w.any(&MP_WORDS) || w.has("melting") && w.has("point");
+    let mp = w.any(&MP_WORDS) || w.has("melting") && w.has("point") || w.class("field.mp_range");
     if !(mp || temp) || w.any(&["literature", "lit", "reference", "expected"]) {
         return None;
     }
-    let (range, onset, clear) = if w.any(&MIXED) {
+    let (range, onset, clear) = if w.any(&MIXED) || w.class("experiment.mixed") {
         (
             Field::MixedMpRange,
             Field::MixedMpOnset,
             Field::MixedMpClear,
         )
-    } else if w.any(&CRUDE) {
+    } else if w.any(&CRUDE) || w.class("experiment.crude") {
         (
             Field::CrudeMpRange,
             Field::CrudeMpOnset,
             Field::CrudeMpClear,
         )
-    } else if w.any(&TRIAL) {
+    } else if w.any(&TRIAL) || w.class("experiment.trial") {
         (
             Field::MpTrialRange,
             Field::MpTrialOnset,
@@ -227,7 +233,9 @@ fn melting(w: &Words, h: &ParsedHeader) -> Option<HeaderMeaning> {
     } else {
         return None;
     };
-    let f = match (w.any(&ONSET_WORDS), w.any(&CLEAR_WORDS)) {
+    let onset_word = w.any(&ONSET_WORDS) || w.class("field.mp_onset");
+    let clear_word = w.any(&CLEAR_WORDS) || w.class("field.mp_clear");
+    let f = match (onset_word, clear_word) {
         (true, false) => onset,
         (false, true) => clear,
         _ => range,
@@ -404,6 +412,27 @@ mod tests {
 
     fn field(text: &str) -> Option<HeaderMeaning> {
         classify(&parse_header(text))
+    }
+
+    /// The melting columns of the experiment in other languages, by the vocabulary's classes
+    /// (the words a German, Spanish or French lab sheet uses: from memory).
+    #[test]
+    fn melting_marks_in_other_languages() {
+        use Field::*;
+        for (text, want) in [
+            ("Rohprodukt Smp (°C)", CrudeMpRange),
+            ("Smp Versuch 1", MpTrialRange),
+            ("Smp Versuch 2, Beginn", MpTrialOnset),
+            ("Mischschmelzpunkt (°C)", MixedMpRange),
+            ("Punto de fusión crudo", CrudeMpRange),
+            ("Punto de fusión, ensayo 2", MpTrialRange),
+            ("Point de fusion du brut (°C)", CrudeMpRange),
+            ("Point de fusion du mélange", MixedMpRange),
+        ] {
+            assert_eq!(field(text), Some(HeaderMeaning::Field(want)), "{text:?}");
+        }
+        // a plain melting range in any language is the general rules' (the graded range)
+        assert_eq!(field("Schmelzbereich (°C)"), None);
     }
 
     /// Headers of the trial sheets, and spellings of the same (common practice).
