@@ -196,7 +196,7 @@ fn dropped_one(long: &[char], short: &[char]) -> bool {
 /// any order of their parts ("Pérez, Ana" is "ana perez").
 pub fn same_person(a: &str, b: &str) -> bool {
     let parts = |s: &str| {
-        let mut p: Vec<String> = fold(s)
+        let mut p: Vec<String> = crate::model::names::fold(s)
             .split(|c: char| !c.is_alphanumeric())
             .filter(|w| !w.is_empty())
             .map(str::to_string)
@@ -206,31 +206,6 @@ pub fn same_person(a: &str, b: &str) -> bool {
     };
     let (pa, pb) = (parts(a), parts(b));
     !pa.is_empty() && pa == pb
-}
-
-/// Lower case without accents (the Latin letters of the languages benchgrade's sheets come in).
-pub fn fold(s: &str) -> String {
-    s.chars()
-        .flat_map(char::to_lowercase)
-        .map(|c| match c {
-            'à' | 'á' | 'â' | 'ã' | 'ä' | 'å' | 'ā' | 'ă' | 'ą' => 'a',
-            'ç' | 'ć' | 'č' => 'c',
-            'ď' | 'đ' => 'd',
-            'è' | 'é' | 'ê' | 'ë' | 'ē' | 'ė' | 'ę' | 'ě' => 'e',
-            'ì' | 'í' | 'î' | 'ï' | 'ī' | 'į' => 'i',
-            'ñ' | 'ń' | 'ň' => 'n',
-            'ò' | 'ó' | 'ô' | 'õ' | 'ö' | 'ø' | 'ō' | 'ő' => 'o',
-            'ù' | 'ú' | 'û' | 'ü' | 'ū' | 'ů' | 'ű' => 'u',
-            'ý' | 'ÿ' => 'y',
-            'ś' | 'š' | 'ş' => 's',
-            'ź' | 'ż' | 'ž' => 'z',
-            'ł' => 'l',
-            'ř' => 'r',
-            'ť' | 'ţ' => 't',
-            'ğ' => 'g',
-            other => other,
-        })
-        .collect()
 }
 
 #[cfg(test)]

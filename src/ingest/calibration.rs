@@ -10,7 +10,7 @@ use std::path::Path;
 
 use super::cells::{Cell, RawSheet};
 use super::values::{parse_quantity, Decimal};
-use super::{delimited, workbook};
+use super::workbook;
 use crate::fields::Field;
 
 /// One standard read on one apparatus.
@@ -141,37 +141,14 @@ pub fn from_sheet(
 
 /// Reads a calibration file: CSV/TSV, or a workbook's "Calibration" sheet (else its first).
 pub fn load(path: &Path) -> Result<CalibrationTable, Vec<String>> {
-    let source = path.display().to_string();
-    let ext = path
-        .extension()
-        .and_then(|e| e.to_str())
-        .unwrap_or("")
-        .to_ascii_lowercase();
-    if let Some(format) = workbook::Format::from_extension(&ext) {
-        let mut sheets = Vec::new();
-        workbook::read_workbook(path, format, &mut |s| sheets.push(s))
-            .map_err(|e| vec![format!("{source}: {e}")])?;
-        let pick = sheets
-            .iter()
-            .position(|s| s.name.to_lowercase().contains("calibrat"))
-            .unwrap_or(0);
-        let chosen = sheets
-            .into_iter()
-            .nth(pick)
-            .ok_or_else(|| vec![format!("{source}: the workbook has no sheets")])?;
-        let sheet = chosen.result.map_err(|e| vec![format!("{source}: {e}")])?;
-        return from_sheet(&source, &sheet, Decimal::Point);
-    }
-    let bytes =
-        crate::files::read(path).map_err(|e| vec![format!("{source}: cannot read: {e}")])?;
-    let d = delimited::read_delimited(&bytes, ext == "tsv")
-        .map_err(|e| vec![format!("{source}: {e}")])?;
-    from_sheet(&source, &d.sheet, d.decimal)
+    let (sheet, decimal) = workbook::read_side_sheet(path, "calibrat").map_err(|e| vec![e])?;
+    from_sheet(&path.display().to_string(), &sheet, decimal)
 }
 
 #[cfg(test)]
 mod tests {
     use super::*;
+    use crate::ingest::delimited;
 
     fn table(text: &str) -> Result<CalibrationTable, Vec<String>> {
         let d = delimited::read_delimited(text.as_bytes(), false).unwrap();

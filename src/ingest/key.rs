@@ -5,7 +5,7 @@
 use std::path::Path;
 
 use super::cells::RawSheet;
-use super::{delimited, workbook};
+use super::workbook;
 
 /// What a key header names.
 #[derive(Clone, Copy, PartialEq)]
@@ -91,30 +91,7 @@ pub fn looks_like_a_key(sheet: &RawSheet) -> bool {
 /// Reads a key file: its pairs, or why it cannot be used.
 pub fn load(path: &Path) -> Result<Vec<(String, String)>, String> {
     let source = path.display().to_string();
-    let ext = path
-        .extension()
-        .and_then(|e| e.to_str())
-        .unwrap_or("")
-        .to_ascii_lowercase();
-    let sheet = if let Some(format) = workbook::Format::from_extension(&ext) {
-        let mut sheets = Vec::new();
-        workbook::read_workbook(path, format, &mut |s| sheets.push(s))
-            .map_err(|e| format!("{source}: {e}"))?;
-        let pick = sheets
-            .iter()
-            .position(|s| s.name.to_lowercase().contains("key"))
-            .unwrap_or(0);
-        let chosen = sheets
-            .into_iter()
-            .nth(pick)
-            .ok_or_else(|| format!("{source}: the workbook has no sheets"))?;
-        chosen.result.map_err(|e| format!("{source}: {e}"))?
-    } else {
-        let bytes = crate::files::read(path).map_err(|e| format!("{source}: cannot read: {e}"))?;
-        delimited::read_delimited(&bytes, ext == "tsv")
-            .map_err(|e| format!("{source}: {e}"))?
-            .sheet
-    };
+    let (sheet, _) = workbook::read_side_sheet(path, "key")?;
     from_sheet(&sheet).ok_or_else(|| {
         format!("{source}: no answer key found: give it a code column (\"Unknown\", \"Code\") and a compound column (\"Compound\")")
     })
@@ -132,6 +109,7 @@ pub fn is_key_file(path: &Path) -> bool {
 #[cfg(test)]
 mod tests {
     use super::*;
+    use crate::ingest::delimited;
 
     #[test]
     fn a_key_is_read_by_its_headers() {

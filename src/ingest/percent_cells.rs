@@ -93,7 +93,7 @@ fn u32_at(b: &[u8], i: usize) -> Option<u32> {
 }
 
 /// A BIFF8 string of `cch` characters at `b[i..]`: a flags byte, then Latin-1 bytes or UTF-16.
-fn biff8_chars(b: &[u8], i: usize, cch: usize) -> String {
+pub(super) fn biff8_chars(b: &[u8], i: usize, cch: usize) -> String {
     let Some(&flags) = b.get(i) else {
         return String::new();
     };

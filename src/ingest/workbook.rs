@@ -16,6 +16,7 @@ use calamine::{open_workbook, Data, DataRef, Ods, Reader, Xls, Xlsb, Xlsx};
 use super::cells::{Cell, RawSheet, RowBuilder};
 use super::ods_scan;
 use super::percent_cells;
+use super::values::Decimal;
 use super::xls_guard;
 use super::zip_guard;
 
@@ -444,6 +445,37 @@ pub fn read_workbook(
         }
     }
     Ok(())
+}
+
+/// Reads the one sheet a side file (a calibration table, an answer key) holds: a CSV or TSV,
+/// or the workbook's sheet whose name contains `hint` (else its first). The decimal mark is
+/// the file's (a workbook's numbers are numbers). Errors name the file.
+pub fn read_side_sheet(path: &Path, hint: &str) -> Result<(RawSheet, Decimal), String> {
+    let source = path.display().to_string();
+    let ext = path
+        .extension()
+        .and_then(|e| e.to_str())
+        .unwrap_or("")
+        .to_ascii_lowercase();
+    if let Some(format) = Format::from_extension(&ext) {
+        let mut sheets = Vec::new();
+        read_workbook(path, format, &mut |s| sheets.push(s))
+            .map_err(|e| format!("{source}: {e}"))?;
+        let pick = sheets
+            .iter()
+            .position(|s| s.name.to_lowercase().contains(hint))
+            .unwrap_or(0);
+        let chosen = sheets
+            .into_iter()
+            .nth(pick)
+            .ok_or_else(|| format!("{source}: the workbook has no sheets"))?;
+        let sheet = chosen.result.map_err(|e| format!("{source}: {e}"))?;
+        return Ok((sheet, Decimal::Point));
+    }
+    let bytes = crate::files::read(path).map_err(|e| format!("{source}: cannot read: {e}"))?;
+    let d = super::delimited::read_delimited(&bytes, ext == "tsv")
+        .map_err(|e| format!("{source}: {e}"))?;
+    Ok((d.sheet, d.decimal))
 }
 
 #[cfg(test)]

@@ -169,18 +169,12 @@ fn continues(stream: &[u8], at: usize) -> Result<Vec<&[u8]>, String> {
 /// A sheet record's name, for messages (at most 40 characters).
 fn sheet_name(body: &[u8], biff8: bool) -> String {
     let cch = usize::from(body.get(6).copied().unwrap_or(0)).min(40);
-    let wide = biff8 && body.get(7).is_some_and(|f| f & 1 == 1);
-    let text = body.get(if biff8 { 8 } else { 7 }..).unwrap_or_default();
-    if wide {
-        let units: Vec<u16> = text
-            .chunks_exact(2)
-            .take(cch)
-            .map(|p| u16::from_le_bytes([p[0], p[1]]))
-            .collect();
-        String::from_utf16_lossy(&units)
-    } else {
-        text.iter().take(cch).map(|&c| char::from(c)).collect()
+    if biff8 {
+        // a flags byte, then Latin-1 bytes or UTF-16, as every BIFF8 string
+        return super::percent_cells::biff8_chars(body, 7, cch);
     }
+    let text = body.get(7..).unwrap_or_default();
+    text.iter().take(cch).map(|&c| char::from(c)).collect()
 }
 
 fn globals(stream: &[u8], biff8: bool) -> Result<Globals, String> {
