@@ -29,6 +29,7 @@ mod reference_data;
 mod registry;
 mod reliability;
 mod roster;
+mod same_outputs;
 mod sample_data;
 mod serve;
 mod serve_client;
