@@ -398,53 +398,84 @@ impl GradedWorkbooks {
     }
 
     /// Adds statistics, charts and provenance to every workbook and saves each atomically.
+    /// Workbooks are independent, so a batch of several is saved on two threads (alternate
+    /// workbooks each; every workbook's bytes are the same whichever thread saves it); the
+    /// paths come back in the plan's order.
     pub fn finish(
         self,
         stats: &SectionStats,
         provenance: &Provenance,
     ) -> Result<Vec<PathBuf>, WriteError> {
-        let mut written = Vec::new();
-        for mut book in self.books {
-            let path = book.path.clone();
-            let e = |err| xerr(&path, err);
-            for section in &book.sheets {
-                let ws = book
-                    .workbook
-                    .worksheet_from_index(section.index)
-                    .map_err(e)?;
-                sheet::finish(ws, section).map_err(e)?;
-                if section.past_last_row > 0 {
-                    book.notes.push(format!(
-                        "Sheet \"{}\": {} more students than a sheet holds are left out of it; results.csv holds them all.",
-                        section.name, section.past_last_row
-                    ));
-                }
+        let (max_score, formats, stage) = (self.max_score, &self.formats, &self.stage);
+        let save = |book: Book| finish_book(book, stats, provenance, max_score, formats, stage);
+        let mut books = self.books;
+        if books.len() < 2 {
+            return books.into_iter().map(save).collect();
+        }
+        // the odd-numbered workbooks, taken out from the end so the indices hold
+        let mut odd: Vec<Book> = Vec::with_capacity(books.len() / 2);
+        for i in (1..books.len()).step_by(2).rev() {
+            odd.push(books.remove(i));
+        }
+        odd.reverse();
+        let (even, odd) = std::thread::scope(|scope| {
+            let helper = std::thread::Builder::new()
+                .name("graded workbook".into())
+                .spawn_scoped(scope, || odd.into_iter().map(save).collect::<Vec<_>>());
+            let even: Vec<_> = books.into_iter().map(save).collect();
+            let odd = match helper {
+                Ok(h) => h.join().unwrap_or_else(|p| std::panic::resume_unwind(p)),
+                Err(e) => vec![Err(xerr(Path::new(""), XlsxError::IoError(e)))],
+            };
+            (even, odd)
+        });
+        let mut written = Vec::with_capacity(even.len() + odd.len());
+        let mut odd = odd.into_iter();
+        for e in even {
+            written.push(e?);
+            if let Some(o) = odd.next() {
+                written.push(o?);
             }
-            super::workbook_summary::statistics_sheet(
-                &mut book,
-                stats,
-                self.max_score,
-                &self.formats,
-            )
-            .map_err(e)?;
-            super::workbook_summary::provenance_sheet(
-                &mut book.workbook,
-                provenance,
-                &book.notes,
-                &self.formats,
-            )
-            .map_err(e)?;
-            let when = ExcelDateTime::from_timestamp(provenance.timestamp).map_err(e)?;
-            let props = DocProperties::new()
-                .set_creation_datetime(&when)
-                .set_title("Graded recrystallization results")
-                .set_comment("written by benchgrade");
-            book.workbook.set_properties(&props);
-            super::atomic::save_workbook(&mut book.workbook, &path, &self.stage)?;
-            written.push(path);
         }
         Ok(written)
     }
+}
+
+/// Closes one workbook's section sheets, adds its statistics and provenance, and saves it.
+fn finish_book(
+    mut book: Book,
+    stats: &SectionStats,
+    provenance: &Provenance,
+    max_score: f64,
+    formats: &Formats,
+    stage: &Stage,
+) -> Result<PathBuf, WriteError> {
+    let path = book.path.clone();
+    let e = |err| xerr(&path, err);
+    for section in &book.sheets {
+        let ws = book
+            .workbook
+            .worksheet_from_index(section.index)
+            .map_err(e)?;
+        sheet::finish(ws, section).map_err(e)?;
+        if section.past_last_row > 0 {
+            book.notes.push(format!(
+                "Sheet \"{}\": {} more students than a sheet holds are left out of it; results.csv holds them all.",
+                section.name, section.past_last_row
+            ));
+        }
+    }
+    super::workbook_summary::statistics_sheet(&mut book, stats, max_score, formats).map_err(e)?;
+    super::workbook_summary::provenance_sheet(&mut book.workbook, provenance, &book.notes, formats)
+        .map_err(e)?;
+    let when = ExcelDateTime::from_timestamp(provenance.timestamp).map_err(e)?;
+    let props = DocProperties::new()
+        .set_creation_datetime(&when)
+        .set_title("Graded recrystallization results")
+        .set_comment("written by benchgrade");
+    book.workbook.set_properties(&props);
+    super::atomic::save_workbook(&mut book.workbook, &path, stage)?;
+    Ok(path)
 }
 
 pub(super) fn write_opt(ws: &mut Worksheet, r: u32, c: u16, v: f64) -> Result<(), XlsxError> {

@@ -74,7 +74,7 @@ pub(crate) fn summary_table(
         ws.set_column_width(c, 11)?;
     }
     let mut r = r + 1;
-    for row in stats.summaries().into_iter().filter(|x| keep(x.section)) {
+    for row in stats.summaries_where(keep) {
         summary_row(ws, r, &row)?;
         r += 1;
     }

@@ -146,7 +146,9 @@ struct Words<'a> {
 impl Words<'_> {
     /// Some word is one of `class`'s.
     fn any(&self, class: &str) -> bool {
-        self.words.iter().any(|x| self.v.has(class, x))
+        self.v
+            .words(class)
+            .is_some_and(|set| self.words.iter().any(|x| set.contains(x)))
     }
     /// Every word is one of these classes' (and there is a word).
     fn only(&self, classes: &[&str]) -> bool {

@@ -11,7 +11,9 @@
 //! reads with is installed once, before its readers start (`install`), and every matcher asks
 //! for it with `current()`; without an install the built-in one is used.
 
-use std::collections::{BTreeMap, HashMap, HashSet};
+use std::collections::BTreeMap;
+
+use rustc_hash::{FxHashMap, FxHashSet};
 use std::ops::Range;
 use std::sync::{Arc, OnceLock, RwLock};
 
@@ -30,13 +32,13 @@ pub type Table = BTreeMap<String, BTreeMap<String, Languages>>;
 #[derive(Clone, Debug, Default)]
 pub struct Vocabulary {
     /// "field.crude_mass" -> its words.
-    classes: HashMap<String, HashSet<String>>,
+    classes: FxHashMap<String, FxHashSet<String>>,
     /// Unit word -> unit.
-    units: HashMap<String, Unit>,
+    units: FxHashMap<String, Unit>,
     /// Status word -> what it means ("withdrawn", "dropped the course").
-    status: HashMap<String, String>,
+    status: FxHashMap<String, String>,
     /// Registrar code -> what it means.
-    codes: HashMap<String, String>,
+    codes: FxHashMap<String, String>,
     /// Range separators in file order, each as written and folded.
     separators: Vec<String>,
 }
@@ -205,6 +207,11 @@ impl Vocabulary {
     /// Whether `word` (already folded) is one of `class`'s words.
     pub fn has(&self, class: &str, word: &str) -> bool {
         self.classes.get(class).is_some_and(|s| s.contains(word))
+    }
+
+    /// `class`'s words (already folded), to test many words against one class.
+    pub fn words(&self, class: &str) -> Option<&FxHashSet<String>> {
+        self.classes.get(class)
     }
 
     /// The unit a word names ("mg", "gramos", "°c"), the text already folded.

@@ -111,6 +111,21 @@ pub fn mean_and_ss(data: &[f64]) -> (f64, f64) {
     (m, ss_about(data, m))
 }
 
+/// Student's t at 0.975 for `df` degrees of freedom. The inverse CDF is a root search of the
+/// regularised incomplete beta, costly beside the rest of a summary; sections share few sizes,
+/// so each thread keeps the values it has found (the same function, so the same bits).
+fn t_975(df: usize) -> f64 {
+    thread_local! {
+        static FOUND: std::cell::RefCell<std::collections::HashMap<usize, f64>> =
+            std::cell::RefCell::new(std::collections::HashMap::new());
+    }
+    FOUND.with(|found| {
+        *found.borrow_mut().entry(df).or_insert_with(|| {
+            StudentsT::new(0.0, 1.0, df as f64).map_or(f64::NAN, |d| d.inverse_cdf(0.975))
+        })
+    })
+}
+
 /// Summarises finite values; `None` for no data.
 pub fn summarize(values: &[f64]) -> Option<Summary> {
     let mut v: Vec<f64> = values.iter().copied().filter(|x| x.is_finite()).collect();
@@ -126,11 +141,7 @@ pub fn summarize(values: &[f64]) -> Option<Summary> {
         f64::NAN
     };
     let sem = sd / (n as f64).sqrt();
-    let t = if n > 1 {
-        StudentsT::new(0.0, 1.0, (n - 1) as f64).map_or(f64::NAN, |d| d.inverse_cdf(0.975))
-    } else {
-        f64::NAN
-    };
+    let t = if n > 1 { t_975(n - 1) } else { f64::NAN };
     Some(Summary {
         n,
         mean,

@@ -167,8 +167,14 @@ impl SectionStats {
 
     /// Every section's summary of every measure, sections in name order.
     pub fn summaries(&self) -> Vec<SectionSummary<'_>> {
+        self.summaries_where(|_| true)
+    }
+
+    /// The rows of the sections `keep` accepts, the others never summarised (a workbook of one
+    /// section in a term of many would otherwise summarise the whole term once per workbook).
+    pub fn summaries_where(&self, keep: impl Fn(&str) -> bool) -> Vec<SectionSummary<'_>> {
         let mut out = Vec::new();
-        for (name, g) in &self.groups {
+        for (name, g) in self.groups.iter().filter(|(name, _)| keep(name)) {
             for (i, m) in self.measures.iter().enumerate() {
                 let values = g.values.get(i).map_or(&[][..], Vec::as_slice);
                 out.push(SectionSummary {
