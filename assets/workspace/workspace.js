@@ -5,6 +5,7 @@
 
 const page = {
   files: null, results: null, columns: null, overrides: null, outputs: null,
+  roster: null, corrections: null,
   selected: null, sort: { key: 'row', up: true }, filter: 'all', search: '',
   shown: -1, version: null, grading: false,
   // each sheet panel's open state as the assistant left it, by file and sheet
@@ -84,7 +85,8 @@ function say(id, text, bad) {
 }
 
 const IMPOSSIBLE = new Set(['recovery-over-100', 'range-inverted', 'above-reference', 'nonpositive-mass',
-  'missing-value', 'unreadable-value', 'unknown-compound', 'duplicate-student']);
+  'missing-value', 'unreadable-value', 'unknown-compound', 'duplicate-student', 'gross-below-tare',
+  'not-on-roster']);
 
 // The row's standing: 'impossible', 'suspicious', 'excused' or 'clean'.
 function standing(r) {
@@ -119,12 +121,14 @@ function loadAll() {
 }
 
 async function load() {
-  const [files, results, columns, overrides, outputs] = await Promise.all([
+  const [files, results, columns, overrides, outputs, roster, corrections] = await Promise.all([
     call('GET', '/api/files'), call('GET', '/api/results'), call('GET', '/api/columns'),
-    call('GET', '/api/overrides'), call('GET', '/api/outputs')]);
+    call('GET', '/api/overrides'), call('GET', '/api/outputs'), call('GET', '/api/roster'),
+    call('GET', '/api/corrections')]);
   if (files.status === 401) { locked(); return; }
   page.files = files.data; page.results = results.data; page.columns = columns.data;
   page.overrides = overrides.data; page.outputs = outputs.data;
+  page.roster = roster.data; page.corrections = corrections.data;
   rememberGrader();
   page.shown = results.data.revision;
   page.grading = !!results.data.grading || results.data.current > results.data.revision;
@@ -134,10 +138,13 @@ async function load() {
 // The grader's name: kept by the browser, else the last name in overrides.csv (a browser keeps
 // names per address, and `--port 0` gives a new address each start).
 function rememberGrader() {
-  const field = $('o-grader');
-  if (field.value.trim()) return;
-  const list = (page.overrides && page.overrides.overrides) || [];
-  if (list.length) field.value = list[list.length - 1].grader || '';
+  for (const [id, list] of [['o-grader', (page.overrides && page.overrides.overrides) || []],
+    ['c-grader', (page.corrections && page.corrections.corrections) || []]]) {
+    const field = $(id);
+    if (field.value.trim()) continue;
+    const other = $(id === 'o-grader' ? 'c-grader' : 'o-grader').value.trim();
+    field.value = other || (list.length ? list[list.length - 1].grader || '' : '');
+  }
 }
 
 function locked() {
@@ -147,10 +154,12 @@ function locked() {
 function render() {
   renderRun();
   renderFiles();
+  renderRoster();
   renderColumns();
   renderFilter();
   renderStudents();
   renderDetail();
+  renderCorrections();
   renderOverrides();
   renderOutputs();
 }
@@ -552,7 +561,7 @@ async function saveOverride(ev) {
   say('override-message', 'Saving…');
   const res = await call('POST', '/api/overrides', body);
   if (!res.ok) { say('override-message', ''); fieldError(res.data.field, res.data.error || 'not saved'); return; }
-  try { window.localStorage.setItem('benchgrade.grader', grader); } catch (e) { /* private window */ }
+  rememberName(grader);
   $('o-value').value = ''; $('o-reason').value = '';
   say('override-message', `Saved on line ${res.data.line} of overrides.csv. Grading…`);
   await afterChange(res.data.revision);
@@ -589,6 +598,153 @@ async function removeOverride(line) {
   say('overrides-message', 'Removed. Grading…');
   await afterChange(r.data.revision);
   say('overrides-message', 'Removed.');
+}
+
+// ---- the roster ----
+
+function renderRoster() {
+  const data = page.roster || { roster: null, no_submission: [], not_on_roster: [], templates: [] };
+  const r = data.roster;
+  fill($('roster-state'), r
+    ? [el('strong', {}, r.name), ' ' + size(r.size) + ', used by every run as --roster. ',
+      el('button', { type: 'button', class: 'quiet-button', onclick: removeRoster }, 'Remove the roster')]
+    : 'No roster yet: without one, no student is missed and no id is checked.');
+  $('make-templates').disabled = !r;
+  const list = clear($('template-list'));
+  for (const t of data.templates || []) {
+    list.append(el('li', {}, el('a', { href: '/api/templates/' + encodeURIComponent(t.name), download: t.name }, t.name), ' ',
+      el('span', { class: 'quiet' }, size(t.size))));
+  }
+  const missing = clear($('no-submission'));
+  let count = 0;
+  for (const s of data.no_submission || []) {
+    count += s.students.length;
+    missing.append(el('div', { class: 'missing-section' },
+      el('h4', {}, `Section ${s.section}: ${s.students.length}`),
+      el('ul', {}, s.students.map((st) => el('li', {}, el('span', { class: 'code' }, st.student_id || ''), ' ', st.student_name || '')))));
+  }
+  $('none-missing').hidden = !r || count > 0;
+  const body = clear($('off-roster-rows'));
+  const off = data.not_on_roster || [];
+  for (const o of off) {
+    const where = String(o.source || '').replace(/^inputs\//, '') + (o.sheet ? ', sheet ' + o.sheet : '') + ', row ' + o.row;
+    const action = o.nearest
+      ? el('button', { type: 'button', class: 'primary small', 'aria-label': `Correct id ${o.student_id} to ${o.nearest}`, onclick: () => correctId(o) }, 'Correct to ' + o.nearest)
+      : el('span', { class: 'quiet' }, 'none one slip away with this name');
+    body.append(el('tr', {}, el('th', { scope: 'row' }, o.student_id || ''), el('td', { class: 'name' }, o.student_name || ''),
+      el('td', {}, o.section || ''), el('td', { class: 'quiet' }, where), el('td', {}, action)));
+  }
+  $('off-roster-table').hidden = off.length === 0;
+  $('none-off-roster').hidden = !r || off.length > 0;
+}
+
+async function uploadRoster(fileList) {
+  const f = (fileList || [])[0];
+  if (!f) return;
+  const form = new FormData();
+  form.append('file', f, f.name);
+  say('roster-message', 'Storing the roster…');
+  const r = await call('POST', '/api/roster', form);
+  $('roster-input').value = '';
+  if (!r.ok) { say('roster-message', 'Not stored: ' + (r.data.error || r.status), true); return; }
+  say('roster-message', `Stored as ${r.data.stored}. Grading…`);
+  await afterChange(r.data.revision);
+  say('roster-message', `Stored as ${r.data.stored} and graded.`);
+}
+
+async function removeRoster() {
+  if (!window.confirm('Remove the roster? The workspace is then graded without one.')) return;
+  const r = await call('DELETE', '/api/roster');
+  if (!r.ok) { say('roster-message', 'Not removed: ' + (r.data.error || r.status), true); return; }
+  say('roster-message', 'Removed. Grading…');
+  await afterChange(r.data.revision);
+  say('roster-message', 'Removed.');
+}
+
+async function makeTemplates() {
+  say('templates-message', 'Making the entry workbooks…');
+  const r = await call('POST', '/api/templates');
+  if (!r.ok) { say('templates-message', 'Not made: ' + (r.data.error || r.status), true); return; }
+  say('templates-message', `Made ${r.data.templates.length}: download them below.`);
+  page.roster = (await call('GET', '/api/roster')).data;
+  renderRoster();
+}
+
+// The one-click correction of a mistyped id: the enrolled id the run found one slip away.
+async function correctId(o) {
+  const grader = $('c-grader').value.trim();
+  if (!grader) {
+    say('roster-message', 'Type your name in the Corrections form first: every correction records who made it.', true);
+    $('c-grader').focus();
+    return;
+  }
+  say('roster-message', `Correcting ${o.student_id} to ${o.nearest}…`);
+  const res = await call('POST', '/api/corrections', { student_id: o.student_id, section: o.section, field: 'student_id', value: o.nearest,
+    reason: 'id confirmed against the roster (one typing slip)', grader });
+  if (!res.ok) { say('roster-message', 'Not corrected: ' + (res.data.error || res.status), true); return; }
+  rememberName(grader);
+  say('roster-message', `Corrected on line ${res.data.line} of corrections.csv. Grading…`);
+  await afterChange(res.data.revision);
+  say('roster-message', `Id ${o.student_id} corrected to ${o.nearest} and graded.`);
+}
+
+// ---- corrections ----
+
+function rememberName(grader) {
+  try { window.localStorage.setItem('benchgrade.grader', grader); } catch (e) { /* private window */ }
+}
+
+function renderCorrections() {
+  const data = page.corrections || { corrections: [], fields: [] };
+  const select = $('c-field');
+  const before = select.value;
+  fill(select, (data.fields || []).map((f) => el('option', { value: f.key }, f.label)));
+  if (Array.from(select.options).some((o) => o.value === before)) select.value = before;
+  const body = clear($('correction-rows'));
+  say('corrections-message', data.error ? 'corrections.csv cannot be read: ' + data.error : '', !!data.error);
+  const label = (k) => ((data.fields || []).find((f) => f.key === k) || { label: k }).label;
+  for (const c of data.corrections) {
+    body.append(el('tr', {},
+      el('td', { class: 'num' }, c.line), el('th', { scope: 'row' }, c.student_id), el('td', {}, c.section || 'any'),
+      el('td', {}, label(c.field)), el('td', {}, c.value), el('td', {}, c.reason), el('td', {}, c.grader),
+      el('td', {}, el('button', { type: 'button', class: 'quiet-button', 'aria-label': `Remove the correction on line ${c.line}`, onclick: () => removeCorrection(c.line) }, 'Remove'))));
+  }
+  $('no-corrections').hidden = data.corrections.length > 0;
+  $('correction-table').hidden = data.corrections.length === 0;
+}
+
+function correctionError(field, text) {
+  const ids = { student_id: 'c-student', section: 'c-section', field: 'c-field', value: 'c-value', reason: 'c-reason', grader: 'c-grader' };
+  for (const id of Object.values(ids)) { $(id).removeAttribute('aria-invalid'); $(id + '-error').textContent = ''; }
+  $('c-other-error').textContent = '';
+  if (!text) return;
+  const id = ids[field];
+  if (id) { $(id).setAttribute('aria-invalid', 'true'); $(id + '-error').textContent = text; $(id).focus(); } else $('c-other-error').textContent = text;
+}
+
+async function saveCorrection(ev) {
+  ev.preventDefault();
+  const grader = $('c-grader').value.trim();
+  const body = { student_id: $('c-student').value, section: $('c-section').value, field: $('c-field').value,
+    value: $('c-value').value, reason: $('c-reason').value, grader };
+  correctionError(null);
+  say('correction-message', 'Saving…');
+  const res = await call('POST', '/api/corrections', body);
+  if (!res.ok) { say('correction-message', ''); correctionError(res.data.field, res.data.error || 'not saved'); return; }
+  rememberName(grader);
+  $('c-value').value = ''; $('c-reason').value = '';
+  say('correction-message', `Saved on line ${res.data.line} of corrections.csv. Grading…`);
+  await afterChange(res.data.revision);
+  say('correction-message', `Saved on line ${res.data.line} of corrections.csv and applied.`);
+}
+
+async function removeCorrection(line) {
+  if (!window.confirm(`Remove the correction on line ${line} of corrections.csv?`)) return;
+  const r = await call('DELETE', '/api/corrections/' + line);
+  if (!r.ok) { say('corrections-message', 'Not removed: ' + (r.data.error || r.status), true); return; }
+  say('corrections-message', 'Removed. Grading…');
+  await afterChange(r.data.revision);
+  say('corrections-message', 'Removed.');
 }
 
 // ---- 5. outputs ----
@@ -638,10 +794,17 @@ function wire() {
   $('detail-close').addEventListener('click', closeDetail);
   $('detail').addEventListener('keydown', (e) => { if (e.key === 'Escape') closeDetail(); });
   $('override-form').addEventListener('submit', saveOverride);
+  $('correction-form').addEventListener('submit', saveCorrection);
+  const rosterInput = $('roster-input');
+  rosterInput.addEventListener('change', () => uploadRoster(rosterInput.files));
+  $('make-templates').addEventListener('click', makeTemplates);
   for (const radio of document.querySelectorAll('input[name="mode"]')) {
     radio.addEventListener('change', () => { $('o-value').previousElementSibling.textContent = radio.value === 'points' ? 'Points' : 'Points to add (negative to take away)'; });
   }
-  try { $('o-grader').value = window.localStorage.getItem('benchgrade.grader') || ''; } catch (e) { /* private window */ }
+  try {
+    const name = window.localStorage.getItem('benchgrade.grader') || '';
+    $('o-grader').value = name; $('c-grader').value = name;
+  } catch (e) { /* private window */ }
 }
 
 document.addEventListener('DOMContentLoaded', async () => {
