@@ -318,26 +318,25 @@ fn known_row(
             s.is_some_and(|s| crate::model::section_key(s) == crate::model::section_key(want))
         })
     };
-    let read = records.iter().any(|r| {
-        r["status"].as_str() != Some("no-submission")
-            && r["student_id"].as_str().map(str::trim) == Some(id)
-            && same_section(r["section"].as_str())
-    });
-    let named = corrections
-        .iter()
-        .any(|c| c.student_id == id && (c.section.is_none() || same_section(c.section.as_deref())));
-    if read || named {
+    let read = |any_section: bool| {
+        records.iter().any(|r| {
+            r["status"].as_str() != Some("no-submission")
+                && r["student_id"].as_str().map(str::trim) == Some(id)
+                && (any_section || same_section(r["section"].as_str()))
+        }) || corrections.iter().any(|c| {
+            c.student_id == id
+                && (any_section || c.section.is_none() || same_section(c.section.as_deref()))
+        })
+    };
+    if read(false) {
         return Ok(());
     }
     let where_ = section
         .map(|s| format!(" in section {s}"))
         .unwrap_or_default();
     Err(Invalid {
-        field: if section.is_some() {
-            "section"
-        } else {
-            "student_id"
-        },
+        // an id read in another section: the section is what to fix
+        field: if read(true) { "section" } else { "student_id" },
         message: format!(
             "no row read has this student id{where_}; name the student by the id as the sheet has it"
         ),

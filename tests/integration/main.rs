@@ -33,4 +33,5 @@ mod sample_data;
 mod serve;
 mod serve_client;
 mod serve_hardening;
+mod serve_roster;
 mod workbooks;
