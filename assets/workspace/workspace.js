@@ -620,7 +620,7 @@ function renderRoster() {
   for (const s of data.no_submission || []) {
     count += s.students.length;
     missing.append(el('div', { class: 'missing-section' },
-      el('h4', {}, `Section ${s.section}: ${s.students.length}`),
+      el('h4', {}, `${s.section} · ${s.students.length} without a row`),
       el('ul', {}, s.students.map((st) => el('li', {}, el('span', { class: 'code' }, st.student_id || ''), ' ', st.student_name || '')))));
   }
   $('none-missing').hidden = !r || count > 0;
@@ -665,7 +665,7 @@ async function makeTemplates() {
   say('templates-message', 'Making the entry workbooks…');
   const r = await call('POST', '/api/templates');
   if (!r.ok) { say('templates-message', 'Not made: ' + (r.data.error || r.status), true); return; }
-  say('templates-message', `Made ${r.data.templates.length}: download them below.`);
+  say('templates-message', `Made ${r.data.templates.length} entry workbook${r.data.templates.length === 1 ? '' : 's'}: download below.`);
   page.roster = (await call('GET', '/api/roster')).data;
   renderRoster();
 }

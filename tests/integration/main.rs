@@ -34,4 +34,5 @@ mod serve;
 mod serve_client;
 mod serve_hardening;
 mod serve_roster;
+mod template_key;
 mod workbooks;
