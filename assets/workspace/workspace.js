@@ -538,6 +538,7 @@ function renderDetail() {
   fill(select, el('option', { value: 'total' }, 'Total'), crit.map((c) => el('option', { value: c.id }, `${c.label} (of ${points(c.max)})`)));
   if (Array.from(select.options).some((o) => o.value === before)) select.value = before;
   $('override-form').hidden = standing(r) === 'excused' || !r.student_id;
+  $('detail-correct').hidden = !r.student_id || r.status === 'no-submission';
 }
 
 function fieldError(field, text) {
@@ -795,6 +796,13 @@ function wire() {
   $('detail').addEventListener('keydown', (e) => { if (e.key === 'Escape') closeDetail(); });
   $('override-form').addEventListener('submit', saveOverride);
   $('correction-form').addEventListener('submit', saveCorrection);
+  $('detail-correct').addEventListener('click', () => {
+    const r = records().find((x) => key(x) === page.selected);
+    if (!r) return;
+    $('c-student').value = r.student_id || ''; $('c-section').value = r.section || '';
+    $('corrections').scrollIntoView();
+    $('c-field').focus();
+  });
   const rosterInput = $('roster-input');
   rosterInput.addEventListener('change', () => uploadRoster(rosterInput.files));
   $('make-templates').addEventListener('click', makeTemplates);

@@ -241,7 +241,12 @@ fn entry_sheet(
         let c = FIRST_ENTRY_COL + i as u16;
         ws.write_string_with_format(HEADER_ROW, c, h, &head)?;
         ws.write_string(HEADER_ROW + 1, c, unit)?;
-        ws.set_column_width(c, if *e == Entry::Notes { 30 } else { 12 })?;
+        let width = match e {
+            Entry::Notes => 30,
+            Entry::Identified => 16,
+            _ => 12,
+        };
+        ws.set_column_width(c, width)?;
     }
     ws.set_column_width(0, 12)?;
     ws.set_column_width(1, 26)?;

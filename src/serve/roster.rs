@@ -328,6 +328,19 @@ fn known_row(
                 && (any_section || c.section.is_none() || same_section(c.section.as_deref()))
         })
     };
+    // a row shows the id a correction gave it, but corrections find rows by the id as typed
+    if let Some(c) = corrections
+        .iter()
+        .find(|c| c.field == "student_id" && c.value.trim() == id)
+    {
+        return Err(Invalid {
+            field: "student_id",
+            message: format!(
+                "{id} is the id the correction on line {} gave this student; name them by the id as the sheet has it, {}",
+                c.line, c.student_id
+            ),
+        });
+    }
     if read(false) {
         return Ok(());
     }
@@ -454,6 +467,23 @@ mod tests {
                 .field,
             "section"
         );
+        // once corrected, the row shows the enrolled id; a further correction names the typed one
+        let corrected = vec![
+            json!({"student_id": "2701231", "section": "S4", "status": "graded"}),
+            json!({"student_id": "2701231", "section": "S4", "status": "no-submission"}),
+        ];
+        let line = corrections_file::Entry {
+            line: 2,
+            student_id: "270231".into(),
+            section: Some("S4".into()),
+            field: "student_id".into(),
+            value: "2701231".into(),
+            reason: "a digit dropped".into(),
+            grader: "R. Vance".into(),
+        };
+        let e = known_row(&corrected, std::slice::from_ref(&line), "2701231", None).unwrap_err();
+        assert!(e.message.contains("270231"), "{}", e.message);
+        assert!(known_row(&corrected, &[line], "270231", Some("S4")).is_ok());
     }
 
     #[test]
