@@ -184,6 +184,15 @@ fn make_templates(ws: &Workspace) -> Result<(), ApiError> {
             "upload a roster first: the entry workbooks are made from it",
         ));
     };
+    // `template --out` follows a link as a user's folder; the page writes only inside the
+    // workspace
+    if std::fs::symlink_metadata(TEMPLATES).is_ok_and(|m| !m.is_dir()) {
+        return Err(ApiError::new(
+            StatusCode::CONFLICT,
+            "templates",
+            format!("{TEMPLATES} in the workspace is a link or a file, not a folder; the page writes only inside the workspace (remove it there yourself)"),
+        ));
+    }
     let exe = std::env::current_exe()
         .map_err(|e| server_error("roster", format!("cannot run benchgrade template: {e}")))?;
     let mut child = Command::new(exe)

@@ -333,4 +333,14 @@ fn serve_entry_workbooks_download_with_the_roster_s_ids() {
     }
     let (status, _, _) = server.download("/api/templates/..%2Froster.csv");
     assert_eq!(status, 404, "only the entry workbooks are served");
+    // templates/ replaced by a link to a folder elsewhere: nothing is written through it
+    let ws = f.path("ws");
+    let elsewhere = f.path("elsewhere");
+    std::fs::create_dir_all(&elsewhere).unwrap();
+    std::fs::remove_dir_all(ws.join("templates")).unwrap();
+    std::os::unix::fs::symlink(&elsewhere, ws.join("templates")).unwrap();
+    let (status, err) = server.call("POST", "/api/templates", None);
+    assert_eq!(status, 409, "{err}");
+    assert_eq!(std::fs::read_dir(&elsewhere).unwrap().count(), 0);
+    assert_eq!(server.get("/api/roster")["templates"], json!([]));
 }
