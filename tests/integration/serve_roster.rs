@@ -215,7 +215,7 @@ fn serve_corrections_are_checked_added_and_removed() {
     let before = server.results_after(revision);
     let old_score = record(&before, "4200101")["score"].clone();
     let base = json!({"student_id": "4200101", "section": "A", "field": "crude_mass",
-        "value": "745 mg", "reason": "typed in milligrams", "grader": "K. Demir"});
+        "value": "745 mg", "reason": "=typed in milligrams", "grader": "K. Demir"});
     let with = |k: &str, v: Value| {
         let mut b = base.clone();
         b[k] = v;
@@ -260,8 +260,12 @@ fn serve_corrections_are_checked_added_and_removed() {
             .contains("crude mass corrected from 2.5 g to 0.745 g by K. Demir"),
         "{fixed}"
     );
+    // a value that looks like a formula is written guarded and read back as itself
+    let text = std::fs::read_to_string(ws.join("corrections.csv")).unwrap();
+    assert!(text.contains(",'=typed in milligrams,"), "{text}");
     let listed = server.get("/api/corrections");
     assert_eq!(listed["error"], Value::Null);
+    assert_eq!(listed["corrections"][0]["reason"], "=typed in milligrams");
     let entry = &listed["corrections"][0];
     assert_eq!(
         (&entry["line"], &entry["field"], &entry["value"]),
