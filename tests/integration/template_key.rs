@@ -185,4 +185,25 @@ fn template_key_filled_in_grades_each_identification_against_the_key() {
             ("5100003", "K-7", "correct"),
         ]
     );
+    // the same sheet saved by LibreOffice grades the same
+    if let Some(office) = crate::harness::soffice() {
+        let ods = crate::harness::convert(office, f.dir.path(), &f.path("filled/L1.xlsx"), "ods");
+        std::fs::create_dir_all(f.path("lo")).unwrap();
+        std::fs::rename(&ods, f.path("lo/L1.ods")).unwrap();
+        let again = f.run(&["grade", "lo", "--key", "key.csv", "--out", "out-lo"]);
+        assert_eq!(again.code, 0, "{}", again.stderr);
+        let lo = f.results("out-lo");
+        let words = |rows: &[crate::harness::Record]| {
+            rows.iter()
+                .map(|r| {
+                    (
+                        r["student_id"].clone(),
+                        r["identification"].clone(),
+                        r["score"].clone(),
+                    )
+                })
+                .collect::<Vec<_>>()
+        };
+        assert_eq!(words(&lo), words(&rows));
+    }
 }
