@@ -13,7 +13,7 @@ function renderRoster() {
   fill($('roster-state'), r
     ? [el('strong', {}, r.name), ' ' + size(r.size) + ', used by every run as --roster. ',
       el('button', { type: 'button', class: 'quiet-button', onclick: removeRoster }, 'Remove the roster')]
-    : 'No roster yet: without one, no student is missed and no id is checked.');
+    : 'No roster yet: until there is one, students who never submitted cannot be listed and ids are not checked.');
   $('make-templates').disabled = !r;
   const list = clear($('template-list'));
   for (const t of data.templates || []) {
@@ -28,7 +28,8 @@ function renderRoster() {
       el('h4', {}, `${s.section} · ${s.students.length} without a row`),
       el('ul', {}, s.students.map((st) => el('li', {}, el('span', { class: 'code' }, st.student_id || ''), ' ', st.student_name || '')))));
   }
-  $('none-missing').hidden = !r || count > 0;
+  $('none-missing').textContent = r ? 'Every enrolled student has a row.' : 'Listed once a roster is uploaded.';
+  $('none-missing').hidden = count > 0;
   const body = clear($('off-roster-rows'));
   const off = data.not_on_roster || [];
   for (const o of off) {
@@ -40,7 +41,8 @@ function renderRoster() {
       el('td', {}, o.section || ''), el('td', { class: 'quiet' }, where), el('td', {}, action)));
   }
   $('off-roster-table').hidden = off.length === 0;
-  $('none-off-roster').hidden = !r || off.length > 0;
+  $('none-off-roster').textContent = r ? 'No row has an id that is not on the roster.' : 'Checked once a roster is uploaded.';
+  $('none-off-roster').hidden = off.length > 0;
 }
 
 async function uploadRoster(fileList) {

@@ -420,6 +420,8 @@ fn the_workspace_page_grades_a_class_in_chromium() {
         true,
         "no entry workbooks without a roster"
     );
+    d.script("document.getElementById('roster').scrollIntoView()");
+    d.screenshot("7b-no-roster");
     let roster = f.write(
         "uploads/roster.csv",
         format!("Student ID,Name,Section\nX9001,{HOSTILE},Sec 09\nX9020,Wren Abernathy,Sec 09\nX9030,Tamsin Quell,Sec 09\n"),
