@@ -61,6 +61,10 @@ pub enum Command {
         /// One workbook with a sheet per section instead of one workbook per section
         #[arg(long)]
         one_workbook: bool,
+        /// An answer key for unknowns (CSV or spreadsheet: code and compound columns): the
+        /// unknown code and identification columns offer its codes and compounds
+        #[arg(long, value_name = "FILE")]
+        key: Option<PathBuf>,
     },
     /// One grading run of the workspace in the working directory, reported on standard output
     /// as JSON lines: what `serve` runs for each run (a process of its own, so that no file

@@ -192,19 +192,13 @@ impl Config {
 
 /// The `--corrections` file: every line checked, a status among them by the words that excuse
 /// (or "graded", which undoes an excuse the notes gave).
-fn corrections(
+pub fn corrections(
     path: Option<&Path>,
 ) -> Result<crate::rubric::corrections::Corrections, ConfigError> {
     let c = crate::rubric::corrections::Corrections::load_opt(path)?;
     let wrong: Vec<String> = c
         .statuses()
-        .filter(|(_, v)| {
-            let sub = crate::ingest::Submission {
-                status: Some((*v).to_string()),
-                ..crate::ingest::Submission::default()
-            };
-            !v.eq_ignore_ascii_case("graded") && crate::assess::excused::reason(&sub).is_none()
-        })
+        .filter(|(_, v)| !status_read(v))
         .map(|(line, v)| {
             format!(
                 "{}:{line}: status \"{v}\" is neither graded nor a word that excuses (W, withdrawn, excused, absent, exempt, ...)",
@@ -217,6 +211,16 @@ fn corrections(
     } else {
         Err(ConfigError::Invalid(wrong.join("\n")))
     }
+}
+
+/// Whether a status a correction sets is one the readers know: `graded`, or a word that
+/// excuses (W, withdrawn, excused, absent, exempt, ...).
+pub fn status_read(v: &str) -> bool {
+    let sub = crate::ingest::Submission {
+        status: Some(v.to_string()),
+        ..crate::ingest::Submission::default()
+    };
+    v.trim().eq_ignore_ascii_case("graded") || crate::assess::excused::reason(&sub).is_some()
 }
 
 /// The built-in reference library, with a `--compounds` file's over it.

@@ -285,6 +285,7 @@ fn check(mut run: RunArgs, explain: bool) -> Result<ExitCode> {
 fn template(
     roster: PathBuf,
     rubric: Option<PathBuf>,
+    key: Option<PathBuf>,
     out: PathBuf,
     one_workbook: bool,
 ) -> Result<ExitCode> {
@@ -292,6 +293,7 @@ fn template(
         inputs: vec![roster.clone()],
         out: Some(out),
         rubric,
+        key,
         roster: Some(roster),
         timestamp: std::env::var("SOURCE_DATE_EPOCH")
             .ok()
@@ -408,7 +410,8 @@ fn run() -> ExitCode {
             rubric,
             out,
             one_workbook,
-        } => template(roster, rubric, out, one_workbook),
+            key,
+        } => template(roster, rubric, key, out, one_workbook),
         Command::Serve(s) => serve(s),
         Command::ServeGradingRun => {
             benchgrade::serve::child::child_main();

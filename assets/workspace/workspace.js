@@ -5,6 +5,7 @@
 
 const page = {
   files: null, results: null, columns: null, overrides: null, outputs: null,
+  roster: null, corrections: null,
   selected: null, sort: { key: 'row', up: true }, filter: 'all', search: '',
   shown: -1, version: null, grading: false,
   // each sheet panel's open state as the assistant left it, by file and sheet
@@ -84,7 +85,8 @@ function say(id, text, bad) {
 }
 
 const IMPOSSIBLE = new Set(['recovery-over-100', 'range-inverted', 'above-reference', 'nonpositive-mass',
-  'missing-value', 'unreadable-value', 'unknown-compound', 'duplicate-student']);
+  'missing-value', 'unreadable-value', 'unknown-compound', 'duplicate-student', 'gross-below-tare',
+  'not-on-roster']);
 
 // The row's standing: 'impossible', 'suspicious', 'excused' or 'clean'.
 function standing(r) {
@@ -119,12 +121,14 @@ function loadAll() {
 }
 
 async function load() {
-  const [files, results, columns, overrides, outputs] = await Promise.all([
+  const [files, results, columns, overrides, outputs, roster, corrections] = await Promise.all([
     call('GET', '/api/files'), call('GET', '/api/results'), call('GET', '/api/columns'),
-    call('GET', '/api/overrides'), call('GET', '/api/outputs')]);
+    call('GET', '/api/overrides'), call('GET', '/api/outputs'), call('GET', '/api/roster'),
+    call('GET', '/api/corrections')]);
   if (files.status === 401) { locked(); return; }
   page.files = files.data; page.results = results.data; page.columns = columns.data;
   page.overrides = overrides.data; page.outputs = outputs.data;
+  page.roster = roster.data; page.corrections = corrections.data;
   rememberGrader();
   page.shown = results.data.revision;
   page.grading = !!results.data.grading || results.data.current > results.data.revision;
@@ -134,10 +138,13 @@ async function load() {
 // The grader's name: kept by the browser, else the last name in overrides.csv (a browser keeps
 // names per address, and `--port 0` gives a new address each start).
 function rememberGrader() {
-  const field = $('o-grader');
-  if (field.value.trim()) return;
-  const list = (page.overrides && page.overrides.overrides) || [];
-  if (list.length) field.value = list[list.length - 1].grader || '';
+  for (const [id, list] of [['o-grader', (page.overrides && page.overrides.overrides) || []],
+    ['c-grader', (page.corrections && page.corrections.corrections) || []]]) {
+    const field = $(id);
+    if (field.value.trim()) continue;
+    const other = $(id === 'o-grader' ? 'c-grader' : 'o-grader').value.trim();
+    field.value = other || (list.length ? list[list.length - 1].grader || '' : '');
+  }
 }
 
 function locked() {
@@ -147,10 +154,12 @@ function locked() {
 function render() {
   renderRun();
   renderFiles();
+  renderRoster();
   renderColumns();
   renderFilter();
   renderStudents();
   renderDetail();
+  renderCorrections();
   renderOverrides();
   renderOutputs();
 }
@@ -529,6 +538,7 @@ function renderDetail() {
   fill(select, el('option', { value: 'total' }, 'Total'), crit.map((c) => el('option', { value: c.id }, `${c.label} (of ${points(c.max)})`)));
   if (Array.from(select.options).some((o) => o.value === before)) select.value = before;
   $('override-form').hidden = standing(r) === 'excused' || !r.student_id;
+  $('detail-correct').hidden = !r.student_id || r.status === 'no-submission';
 }
 
 function fieldError(field, text) {
@@ -552,7 +562,7 @@ async function saveOverride(ev) {
   say('override-message', 'Saving…');
   const res = await call('POST', '/api/overrides', body);
   if (!res.ok) { say('override-message', ''); fieldError(res.data.field, res.data.error || 'not saved'); return; }
-  try { window.localStorage.setItem('benchgrade.grader', grader); } catch (e) { /* private window */ }
+  rememberName(grader);
   $('o-value').value = ''; $('o-reason').value = '';
   say('override-message', `Saved on line ${res.data.line} of overrides.csv. Grading…`);
   await afterChange(res.data.revision);
@@ -638,10 +648,24 @@ function wire() {
   $('detail-close').addEventListener('click', closeDetail);
   $('detail').addEventListener('keydown', (e) => { if (e.key === 'Escape') closeDetail(); });
   $('override-form').addEventListener('submit', saveOverride);
+  $('correction-form').addEventListener('submit', saveCorrection);
+  $('detail-correct').addEventListener('click', () => {
+    const r = records().find((x) => key(x) === page.selected);
+    if (!r) return;
+    $('c-student').value = r.student_id || ''; $('c-section').value = r.section || '';
+    $('corrections').scrollIntoView();
+    $('c-field').focus();
+  });
+  const rosterInput = $('roster-input');
+  rosterInput.addEventListener('change', () => uploadRoster(rosterInput.files));
+  $('make-templates').addEventListener('click', makeTemplates);
   for (const radio of document.querySelectorAll('input[name="mode"]')) {
     radio.addEventListener('change', () => { $('o-value').previousElementSibling.textContent = radio.value === 'points' ? 'Points' : 'Points to add (negative to take away)'; });
   }
-  try { $('o-grader').value = window.localStorage.getItem('benchgrade.grader') || ''; } catch (e) { /* private window */ }
+  try {
+    const name = window.localStorage.getItem('benchgrade.grader') || '';
+    $('o-grader').value = name; $('c-grader').value = name;
+  } catch (e) { /* private window */ }
 }
 
 document.addEventListener('DOMContentLoaded', async () => {

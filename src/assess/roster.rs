@@ -138,7 +138,7 @@ impl Roster {
     fn not_on_roster(&self, id: &str, s: &Submission) -> String {
         match self.likely(s) {
             Some(one) => format!(
-                "id {id} is not on the roster; it is one typing slip from {}, whose name agrees: confirm with a correction",
+                "id {id} is not on the roster; {SLIP_FROM}{}{NAME_AGREES}: confirm with a correction",
                 one.id
             ),
             None => format!("id {id} is not on the roster; no enrolled id within one typing slip has this name"),
@@ -149,6 +149,18 @@ impl Roster {
     pub fn missing<'a>(&'a self, seen: &'a HashSet<String>) -> impl Iterator<Item = &'a Enrolled> {
         self.students.iter().filter(|e| !seen.contains(e.id.trim()))
     }
+}
+
+/// The words of a `not-on-roster` note around the likely enrolled id.
+const SLIP_FROM: &str = "it is one typing slip from ";
+const NAME_AGREES: &str = ", whose name agrees";
+
+/// The enrolled id a `not-on-roster` note names as the likely one, if it names one (for the
+/// workspace page's one-click correction, which reads the run's results).
+pub fn likely_in_note(note: &str) -> Option<&str> {
+    let (_, after) = note.split_once(SLIP_FROM)?;
+    let (id, _) = after.rsplit_once(NAME_AGREES)?;
+    Some(id).filter(|id| !id.is_empty())
 }
 
 /// A numeric id without its leading zeros ("0012345" and "12345" are "12345"); `None` for an
@@ -267,9 +279,13 @@ mod tests {
             "{}",
             f[0].1
         );
+        // the workspace page reads the likely id back from the note as results carry it
+        let note = format!("not-on-roster: {}", f[0].1);
+        assert_eq!(likely_in_note(&note), Some("2026143"));
         // a near id whose name disagrees is not offered
         let f = r.flags(&sub("2026134", "Someone Else", "01"));
         assert!(f[0].1.contains("no enrolled id"), "{}", f[0].1);
+        assert_eq!(likely_in_note(&f[0].1), None);
         assert!(r
             .flags(&sub("2026143", "Quinn Marchetti", "Section 1"))
             .is_empty());

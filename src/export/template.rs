@@ -16,6 +16,7 @@ use rust_xlsxwriter::{
 
 use super::atomic::{save_workbook, Stage};
 use super::workbook::{file_stem, sheet_name};
+use crate::assess::unknowns::Key;
 use crate::error::WriteError;
 use crate::ingest::roster::Enrolled;
 use crate::model::Measure;
@@ -40,6 +41,8 @@ enum Entry {
     Clear,
     Reported,
     Late,
+    UnknownCode,
+    Identified,
     Status,
     Notes,
 }
@@ -55,6 +58,8 @@ impl Entry {
             Entry::Clear => ("Clear point", "°C"),
             Entry::Reported => ("Reported recovery", "%"),
             Entry::Late => ("Days late", "days"),
+            Entry::UnknownCode => ("Unknown code", ""),
+            Entry::Identified => ("Identified as", ""),
             Entry::Status => ("Status", ""),
             Entry::Notes => ("Notes", ""),
         }
@@ -70,8 +75,10 @@ impl Entry {
 }
 
 /// The entries for the rubric: masses and the melting range always, the solvent volume, the
-/// reported recovery where a criterion scores it, a status and notes.
-fn entries(rubric: &Rubric) -> Vec<Entry> {
+/// reported recovery where a criterion scores it, the unknown's code and its identification
+/// where there is an answer key (or a criterion scores the identification), a status and
+/// notes.
+fn entries(rubric: &Rubric, key: Option<&Key>) -> Vec<Entry> {
     let scores = |m: Measure| rubric.criteria.iter().any(|c| c.measure() == Some(m));
     let mut e = vec![
         Entry::CrudeMass,
@@ -86,6 +93,13 @@ fn entries(rubric: &Rubric) -> Vec<Entry> {
     if rubric.late.is_some() {
         e.push(Entry::Late);
     }
+    let identifies = rubric
+        .criteria
+        .iter()
+        .any(|c| c.measure().is_some_and(|m| m.key() == "identification"));
+    if identifies || key.is_some_and(|k| !k.is_empty()) {
+        e.extend([Entry::UnknownCode, Entry::Identified]);
+    }
     e.extend([Entry::Status, Entry::Notes]);
     e
 }
@@ -99,6 +113,9 @@ pub struct TemplateOptions<'a> {
     pub out_dir: &'a Path,
     pub one_workbook: bool,
     pub timestamp: i64,
+    /// The answer key (the rubric's `[key]` with `--key FILE` over it): its codes and compounds
+    /// are the drop-down lists of the unknown code and identification columns.
+    pub key: Option<&'a Key>,
 }
 
 /// A section and its students, in roster order.
@@ -120,7 +137,7 @@ fn sections(roster: &[Enrolled]) -> Vec<Section<'_>> {
 
 /// Writes the entry workbooks into `out_dir`; the paths written.
 pub fn write(o: &TemplateOptions, stage: &Stage) -> Result<Vec<PathBuf>, WriteError> {
-    let entries = entries(o.rubric);
+    let entries = entries(o.rubric, o.key);
     let groups = sections(o.roster);
     let mut written = Vec::new();
     let books: Vec<(PathBuf, Vec<&Section>)> = if o.one_workbook {
@@ -224,7 +241,12 @@ fn entry_sheet(
         let c = FIRST_ENTRY_COL + i as u16;
         ws.write_string_with_format(HEADER_ROW, c, h, &head)?;
         ws.write_string(HEADER_ROW + 1, c, unit)?;
-        ws.set_column_width(c, if *e == Entry::Notes { 30 } else { 12 })?;
+        let width = match e {
+            Entry::Notes => 30,
+            Entry::Identified => 16,
+            _ => 12,
+        };
+        ws.set_column_width(c, width)?;
     }
     ws.set_column_width(0, 12)?;
     ws.set_column_width(1, 26)?;
@@ -242,6 +264,7 @@ fn entry_sheet(
     if !students.is_empty() {
         let last = first + students.len() as u32 - 1;
         validations(ws, entries, first, last)?;
+        key_lists(ws, entries, o.key, first, last)?;
         missing_shade(ws, entries, first, last)?;
     }
     ws.set_freeze_panes(first, FIRST_ENTRY_COL)?;
@@ -348,7 +371,87 @@ fn validations(
                 ("Not a status", "Choose a status from the list, or leave the cell empty."),
                 DataValidation::new().allow_list_strings(&STATUS_WORDS)?,
             )?,
-            Entry::Notes => continue,
+            Entry::Notes | Entry::UnknownCode | Entry::Identified => continue,
+        };
+        ws.add_data_validation(first, col, last, col, &v)?;
+    }
+    Ok(())
+}
+
+/// The most characters a drop-down list typed into its rule may hold (the file format's limit:
+/// the list, its items joined by commas, is kept in the rule's formula).
+const MAX_LIST_CHARS: usize = 255;
+
+/// The answer key's lists, each once: the codes (as the key orders them, by code) and the
+/// compounds, sorted.
+fn key_words(key: &Key) -> (Vec<String>, Vec<String>) {
+    let mut codes: Vec<String> = Vec::new();
+    let mut compounds: Vec<String> = Vec::new();
+    for (code, compound) in key.entries() {
+        if !codes.iter().any(|c| c == code) {
+            codes.push(code.to_string());
+        }
+        if !compounds.iter().any(|c| c.eq_ignore_ascii_case(compound)) {
+            compounds.push(compound.to_string());
+        }
+    }
+    compounds.sort_by_key(|c| c.to_lowercase());
+    (codes, compounds)
+}
+
+/// A drop-down list of `words`, if they fit in a rule (with no comma or quote inside a word).
+fn list_rule(words: &[String]) -> Option<DataValidation> {
+    let plain = words
+        .iter()
+        .all(|w| !w.contains([',', '"']) && !w.is_empty());
+    let chars = words.iter().map(|w| w.chars().count() + 1).sum::<usize>();
+    if !plain || words.is_empty() || chars > MAX_LIST_CHARS + 1 {
+        return None;
+    }
+    DataValidation::new().allow_list_strings(words).ok()
+}
+
+/// The unknown code and identification columns' rules: the key's codes (nothing else is
+/// taken) and the key's compounds (a warning only: a student's wrong identification is typed
+/// as it was given, and graded wrong). Without a key, or with lists too long for a rule, the
+/// cells carry an input message alone.
+fn key_lists(
+    ws: &mut Worksheet,
+    entries: &[Entry],
+    key: Option<&Key>,
+    first: u32,
+    last: u32,
+) -> Result<(), XlsxError> {
+    let (codes, compounds) = key.map(key_words).unwrap_or_default();
+    for (i, e) in entries.iter().enumerate() {
+        let col = FIRST_ENTRY_COL + i as u16;
+        let v = match e {
+            Entry::UnknownCode => {
+                let v =
+                    list_rule(&codes).unwrap_or_else(|| DataValidation::new().allow_any_value());
+                rule(
+                    (
+                        "Unknown code",
+                        "The code on the student's unknown sample, from the list.",
+                    ),
+                    (
+                        "Not a code of the key",
+                        "Choose the unknown's code from the list: it holds the answer key's codes.",
+                    ),
+                    v,
+                )?
+            }
+            Entry::Identified => {
+                let v = list_rule(&compounds)
+                    .unwrap_or_else(|| DataValidation::new().allow_any_value());
+                rule(
+                    ("Identified as", "The compound the student named for the unknown (the list holds the key's compounds; type another name if the student gave one)."),
+                    ("Not a compound of the key", "This is not one of the answer key's compounds. Keep it if it is what the student named: it is graded as a wrong identification."),
+                    v,
+                )?
+                .set_error_style(DataValidationErrorStyle::Warning)
+            }
+            _ => continue,
         };
         ws.add_data_validation(first, col, last, col, &v)?;
     }

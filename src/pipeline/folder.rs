@@ -103,7 +103,13 @@ pub fn write_templates(
     let Some(roster) = &config.roster else {
         return Err(ConfigError::Invalid("template needs --roster FILE".into()).into());
     };
-    let inputs: Vec<PathBuf> = config.roster_file.iter().cloned().collect();
+    let inputs: Vec<PathBuf> = config
+        .roster_file
+        .iter()
+        .chain(&config.key_file)
+        .cloned()
+        .collect();
+    let key = template_key(config)?;
     let planned: Vec<PathBuf> = vec![config.out_dir.join("entry-sheets.xlsx")];
     refuse_overwriting_inputs(&planned, &inputs)?;
     let mut notes = Vec::new();
@@ -116,6 +122,7 @@ pub fn write_templates(
         out_dir: &config.out_dir,
         one_workbook,
         timestamp: config.timestamp,
+        key: key.as_ref(),
     };
     let written = crate::export::template::write(&o, &stage)?;
     refuse_overwriting_inputs(&written, &inputs)?;
@@ -126,4 +133,20 @@ pub fn write_templates(
             .map(|n| folder_note(&config.out_dir, n)),
     );
     Ok((written, notes))
+}
+
+/// The answer key of the entry workbooks' drop-down lists: the rubric's `[key]`, with `--key
+/// FILE` (read by the key reader a grading run uses) over it. A key file named on the command
+/// line that cannot be read stops `template`, as nothing would otherwise say it was not used.
+fn template_key(config: &Config) -> Result<Option<crate::assess::unknowns::Key>, ConfigError> {
+    let mut key = config.key.clone();
+    if let Some(path) = &config.key_file {
+        let pairs = crate::ingest::key::load(path).map_err(ConfigError::Invalid)?;
+        let found = crate::assess::unknowns::Key::from_pairs(
+            pairs.iter().map(|(a, b)| (a.as_str(), b.as_str())),
+            &path.display().to_string(),
+        );
+        key = Some(key.unwrap_or_default().merged(found));
+    }
+    Ok(key.filter(|k| !k.is_empty()))
 }

@@ -20,6 +20,7 @@ use crate::fields::Field;
 use crate::ingest::range::parse_range;
 use crate::ingest::values::{parse_quantity, Decimal, Unit};
 use crate::ingest::{delimited, Submission};
+use crate::rubric::overrides::{unguard, Invalid};
 
 /// The value a correction sets, parsed as its field is.
 #[derive(Clone, Debug, PartialEq)]
@@ -45,7 +46,7 @@ pub struct Correction {
 }
 
 /// The fields a correction may set.
-const CORRECTABLE: [Field; 16] = [
+pub const CORRECTABLE: [Field; 16] = [
     Field::StudentId,
     Field::StudentName,
     Field::Section,
@@ -182,12 +183,20 @@ impl Corrections {
             let get = |name: &str| {
                 col(name)
                     .and_then(|c| record.get(c))
-                    .map(|v| unguard(v.trim()).to_string())
+                    .map(|v| unguard(v.trim()).trim())
                     .filter(|v| !v.is_empty())
             };
-            match check_line(&get, line) {
+            let typed = Typed {
+                student_id: get("student_id"),
+                section: get("section"),
+                field: get("field"),
+                value: get("value"),
+                reason: get("reason"),
+                grader: get("grader"),
+            };
+            match typed.check(line) {
                 Ok(c) => out.push(c),
-                Err(why) => faults.push(format!("{file}:{line}: {why}")),
+                Err(why) => faults.push(format!("{file}:{line}: {}", why.message)),
             }
         }
         if faults.is_empty() {
@@ -246,6 +255,11 @@ impl Corrections {
         self.list.len()
     }
 
+    /// Every correction, in file order.
+    pub fn list(&self) -> &[Correction] {
+        &self.list
+    }
+
     /// The corrections that found no row, for the message that stops the run.
     pub fn unmatched(&self, used: &[bool]) -> Vec<String> {
         self.list
@@ -265,38 +279,64 @@ impl Corrections {
     }
 }
 
-/// A value without the `'` that guards a formula-like text in benchgrade's CSV files.
-fn unguard(v: &str) -> &str {
-    match v.strip_prefix('\'') {
-        Some(rest) if rest.starts_with(['=', '+', '-', '@', '\t', '\r']) => rest,
-        _ => v,
+/// A correction as a line of the file or the workspace page's form gives it: each part
+/// trimmed, `None` where it is empty. Its check is the file's check, so the page refuses
+/// exactly what `--corrections` would, naming the part at fault.
+#[derive(Clone, Copy, Debug, Default)]
+pub struct Typed<'a> {
+    pub student_id: Option<&'a str>,
+    pub section: Option<&'a str>,
+    pub field: Option<&'a str>,
+    pub value: Option<&'a str>,
+    pub reason: Option<&'a str>,
+    pub grader: Option<&'a str>,
+}
+
+fn fault(field: &'static str, message: impl Into<String>) -> Invalid {
+    Invalid {
+        field,
+        message: message.into(),
     }
 }
 
-fn check_line(get: &dyn Fn(&str) -> Option<String>, line: usize) -> Result<Correction, String> {
-    let student_id = get("student_id").ok_or("no student id given")?;
-    let key = get("field").ok_or("no field given")?;
-    let field = Field::from_key(&key)
-        .filter(|f| CORRECTABLE.contains(f))
-        .ok_or_else(|| {
-            let keys: Vec<&str> = CORRECTABLE.iter().map(|f| f.key()).collect();
-            format!(
-                "unknown field \"{key}\"; a correction may set {}",
-                keys.join(", ")
-            )
-        })?;
-    let written = get("value").ok_or("no value given")?;
-    let value = parse_value(field, &written)?;
-    Ok(Correction {
-        student_id,
-        section: get("section"),
-        field,
-        value,
-        written,
-        reason: get("reason").ok_or("every correction needs a reason")?,
-        grader: get("grader").ok_or("every correction needs the grader's name")?,
-        line,
-    })
+impl Typed<'_> {
+    /// The correction on `line`, or the part at fault and what to fix.
+    pub fn check(&self, line: usize) -> Result<Correction, Invalid> {
+        let student_id = self
+            .student_id
+            .ok_or_else(|| fault("student_id", "no student id given"))?;
+        let key = self.field.ok_or_else(|| fault("field", "no field given"))?;
+        let field = Field::from_key(key)
+            .filter(|f| CORRECTABLE.contains(f))
+            .ok_or_else(|| {
+                let keys: Vec<&str> = CORRECTABLE.iter().map(|f| f.key()).collect();
+                fault(
+                    "field",
+                    format!(
+                        "unknown field \"{key}\"; a correction may set {}",
+                        keys.join(", ")
+                    ),
+                )
+            })?;
+        let written = self.value.ok_or_else(|| fault("value", "no value given"))?;
+        let value = parse_value(field, written).map_err(|m| fault("value", m))?;
+        Ok(Correction {
+            student_id: student_id.to_string(),
+            section: self.section.map(str::to_string),
+            field,
+            value,
+            written: written.to_string(),
+            reason: self
+                .reason
+                .ok_or_else(|| fault("reason", "every correction needs a reason"))?
+                .to_string(),
+            grader: self
+                .grader
+                .ok_or_else(|| fault("grader", "every correction needs the grader's name"))?
+                .to_string(),
+            line,
+        })
+    }
 }
 
 /// A value as a sentence shows it.

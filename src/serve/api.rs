@@ -70,7 +70,7 @@ pub async fn blocking<T: Send + 'static>(
 }
 
 /// Runs an edit of the workspace's files, one at a time, and regrades when it succeeds.
-async fn edit<T: Send + 'static>(
+pub(super) async fn edit<T: Send + 'static>(
     app: &Arc<App>,
     work: impl FnOnce() -> Result<T, ApiError> + Send + 'static,
 ) -> Result<(T, u64), ApiError> {

@@ -5,19 +5,23 @@
 //! computer (`guard`).
 //!
 //! `api`: the JSON API; `upload`: spreadsheets in; `outputs`: graded files out; `page`: the
-//! page and its assets; `overrides_file`: overrides.csv as the page edits it; `errors`: the
+//! page and its assets; `overrides_file`: overrides.csv as the page edits it; `roster`: the
+//! roster, the entry workbooks made from it and the corrections; `corrections_file`:
+//! corrections.csv as the page edits it; `errors`: the
 //! framework's own error answers, as JSON; `connections`: the accept loop, with a cap on
 //! connections and their timeouts; `child`: each grading run in a process of its own.
 
 pub mod api;
 pub mod child;
 pub mod connections;
+pub mod corrections_file;
 pub mod errors;
 pub mod grader;
 pub mod guard;
 pub mod outputs;
 pub mod overrides_file;
 pub mod page;
+pub mod roster;
 pub mod upload;
 pub mod workspace;
 
@@ -91,6 +95,11 @@ pub fn router(app: Arc<App>) -> Router {
         .post(upload::upload)
         .layer::<_, std::convert::Infallible>(DefaultBodyLimit::max(limit))
         .layer::<_, std::convert::Infallible>(RequestBodyLimitLayer::new(limit));
+    let roster_routes = get(roster::get_roster)
+        .post(roster::post_roster)
+        .delete(roster::delete_roster)
+        .layer::<_, std::convert::Infallible>(DefaultBodyLimit::max(limit))
+        .layer::<_, std::convert::Infallible>(RequestBodyLimitLayer::new(limit));
     Router::new()
         .route("/", get(page::index))
         .route("/assets/{name}", get(page::asset))
@@ -105,6 +114,14 @@ pub fn router(app: Arc<App>) -> Router {
             get(api::get_overrides).post(api::post_override),
         )
         .route("/api/overrides/{line}", delete(api::delete_override))
+        .route("/api/roster", roster_routes)
+        .route("/api/templates", post(roster::post_templates))
+        .route("/api/templates/{name}", get(roster::get_template))
+        .route(
+            "/api/corrections",
+            get(roster::get_corrections).post(roster::post_correction),
+        )
+        .route("/api/corrections/{line}", delete(roster::delete_correction))
         .route("/api/outputs", get(outputs::list))
         .route("/api/outputs/{*name}", get(outputs::get))
         .layer(axum::middleware::from_fn_with_state(

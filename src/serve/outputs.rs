@@ -44,7 +44,7 @@ fn kind(name: &str) -> (&'static str, bool) {
 }
 
 /// `filename*=` in RFC 5987's form: every byte but letters, digits and `.-_` percent-encoded.
-fn disposition(how: &str, name: &str) -> String {
+pub(super) fn disposition(how: &str, name: &str) -> String {
     let plain: String = name
         .chars()
         .map(|c| {

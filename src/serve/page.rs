@@ -1,4 +1,4 @@
-//! The page itself: one HTML file, its script and its style sheet, embedded in the binary so
+//! The page itself: one HTML file, its two scripts and its style sheet, embedded in the binary so
 //! that nothing is loaded from anywhere else. Opening `/?token=...` exchanges the token for an
 //! HttpOnly, SameSite=Strict cookie and sends the browser on to `/`, so that the token leaves
 //! the address bar; `/` without the cookie explains how to get in.
@@ -15,6 +15,7 @@ use super::App;
 
 const PAGE: &str = include_str!("../../assets/workspace/index.html");
 const SCRIPT: &str = include_str!("../../assets/workspace/workspace.js");
+const ROSTER_SCRIPT: &str = include_str!("../../assets/workspace/roster.js");
 const STYLE: &str = include_str!("../../assets/workspace/workspace.css");
 
 const LOCKED: &str = "<!doctype html><html lang=\"en\"><head><meta charset=\"utf-8\"><title>benchgrade workspace: locked</title></head><body><h1>This workspace is locked</h1><p>Open the address that <code>benchgrade serve</code> printed when it started (it ends in <code>?token=</code> and a long key). Each start of the server prints a new one.</p></body></html>";
@@ -52,6 +53,7 @@ pub async fn index(
 pub async fn asset(UrlPath(name): UrlPath<String>) -> Response {
     let (body, kind) = match name.as_str() {
         "workspace.js" => (SCRIPT, "text/javascript; charset=utf-8"),
+        "roster.js" => (ROSTER_SCRIPT, "text/javascript; charset=utf-8"),
         "workspace.css" => (STYLE, "text/css; charset=utf-8"),
         _ => return StatusCode::NOT_FOUND.into_response(),
     };

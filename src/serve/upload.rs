@@ -18,9 +18,9 @@ use super::workspace::{sanitise_name, temporary_path, INPUTS};
 use super::App;
 
 /// A file received, not yet written.
-struct Received {
-    name: String,
-    bytes: Vec<u8>,
+pub(super) struct Received {
+    pub(super) name: String,
+    pub(super) bytes: Vec<u8>,
 }
 
 /// Whether the upload failed because it passed the size limit: axum says so itself for its own
@@ -57,7 +57,10 @@ fn refused(e: &MultipartError, limit: usize) -> ApiError {
 }
 
 /// Every `file` field of the request, checked; other fields are passed over.
-async fn receive(multipart: &mut Multipart, limit: usize) -> Result<Vec<Received>, ApiError> {
+pub(super) async fn receive(
+    multipart: &mut Multipart,
+    limit: usize,
+) -> Result<Vec<Received>, ApiError> {
     let mut files: Vec<Received> = Vec::new();
     while let Some(field) = multipart
         .next_field()

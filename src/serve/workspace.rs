@@ -1,8 +1,10 @@
 //! The workspace folder the page works in, and the only files it writes: `inputs/` (uploaded
-//! spreadsheets, names sanitised), `columns.toml` and `overrides.csv`. `graded/` is written by
-//! the grading run alone, `rubric.toml` only by hand. The server runs inside the folder, so the
-//! run is exactly `benchgrade grade inputs --columns columns.toml --overrides overrides.csv
-//! --out graded` run there, and every file is named as that command names it.
+//! spreadsheets, names sanitised), `columns.toml`, `overrides.csv`, `corrections.csv` and the
+//! roster (`roster.EXT`). `graded/` is written by the grading run alone, `templates/` by
+//! `benchgrade template` run for the page, `rubric.toml` only by hand. The server runs inside
+//! the folder, so the run is exactly `benchgrade grade inputs --columns columns.toml
+//! --overrides overrides.csv [--roster roster.EXT] [--corrections corrections.csv] --out
+//! graded` run there, and every file is named as that command names it.
 
 use std::io::{Read as _, Write as _};
 use std::path::{Path, PathBuf};
@@ -18,6 +20,14 @@ pub const COLUMNS: &str = "columns.toml";
 pub const OVERRIDES: &str = "overrides.csv";
 pub const RUBRIC: &str = "rubric.toml";
 pub const GRADED: &str = "graded";
+pub const CORRECTIONS: &str = "corrections.csv";
+/// The roster's name without its extension: `roster.csv`, `roster.xlsx`, ...
+pub const ROSTER_STEM: &str = "roster";
+/// Where `benchgrade template` writes the entry workbooks for the page.
+pub const TEMPLATES: &str = "templates";
+
+/// The header a new corrections file starts with: the columns the command line reads.
+pub const CORRECTIONS_HEADER: &str = "student_id,section,field,value,reason,grader\n";
 
 /// The header a new overrides file starts with: the columns the command line reads.
 pub const OVERRIDES_HEADER: &str = "student_id,section,criterion,points,adjust,reason,grader\n";
@@ -60,7 +70,8 @@ impl Workspace {
     }
 
     /// The options of `benchgrade grade inputs --columns columns.toml --overrides
-    /// overrides.csv --out graded` (with `--rubric rubric.toml` when there is one).
+    /// overrides.csv --out graded` (with `--rubric rubric.toml`, `--roster roster.EXT` and
+    /// `--corrections corrections.csv` when there are such files).
     pub fn options(&self) -> Options {
         let present = |name: &str| Path::new(name).is_file().then(|| PathBuf::from(name));
         Options {
@@ -69,6 +80,8 @@ impl Workspace {
             rubric: present(RUBRIC),
             columns: present(COLUMNS),
             overrides: present(OVERRIDES),
+            roster: roster_file().map(PathBuf::from),
+            corrections: present(CORRECTIONS),
             ..Options::default()
         }
     }
@@ -90,7 +103,8 @@ impl Workspace {
                 (f.name, f.size, modified)
             })
             .collect();
-        for name in [COLUMNS, OVERRIDES, RUBRIC] {
+        let roster = roster_file().unwrap_or_else(|| ROSTER_STEM.to_string());
+        for name in [COLUMNS, OVERRIDES, RUBRIC, CORRECTIONS, roster.as_str()] {
             let meta = std::fs::metadata(name).ok();
             let size = meta.as_ref().map_or(u64::MAX, std::fs::Metadata::len);
             seen.push((name.to_string(), size, modified(Path::new(name))));
@@ -123,6 +137,55 @@ impl Workspace {
             None | Some(Kind::Folder) => Err(Refused::Missing),
             Some(_) => d.remove_file(file).map_err(Refused::Io),
         }
+    }
+
+    /// The entry workbooks in `templates/`, sorted (the folder opened without following a
+    /// link).
+    pub fn templates(&self) -> Vec<InputFile> {
+        let Ok(d) = Dir::open_no_follow(Path::new(TEMPLATES)) else {
+            return Vec::new();
+        };
+        let mut out = visible_files(&d, "");
+        out.sort_by(|a, b| a.name.cmp(&b.name));
+        out
+    }
+
+    /// The bytes of an entry workbook by its name, if `templates/` holds it, read through the
+    /// folder's handle.
+    pub fn read_template(&self, name: &str) -> Option<std::io::Result<Vec<u8>>> {
+        if !self.templates().iter().any(|o| o.name == name) {
+            return None;
+        }
+        let read = || {
+            let mut bytes = Vec::new();
+            Dir::open_no_follow(Path::new(TEMPLATES))?
+                .open_file(name)?
+                .read_to_end(&mut bytes)?;
+            Ok(bytes)
+        };
+        Some(read())
+    }
+
+    /// Stores an uploaded roster as `roster.EXT` (whole or not at all), then removes a roster
+    /// of another type, so that the workspace holds one; the name stored.
+    pub fn store_roster(&self, ext: &str, bytes: &[u8]) -> std::io::Result<String> {
+        let name = format!("{ROSTER_STEM}.{}", ext.to_ascii_lowercase());
+        write_atomically(Path::new(&name), bytes)?;
+        for other in roster_files() {
+            if other != name {
+                remove_plain(&other)?;
+            }
+        }
+        Ok(name)
+    }
+
+    /// Removes the roster; false when there was none.
+    pub fn remove_roster(&self) -> std::io::Result<bool> {
+        let found = roster_files();
+        for name in &found {
+            remove_plain(name)?;
+        }
+        Ok(!found.is_empty())
     }
 
     /// The files of `graded/` a person may want, sorted: every visible regular file. The
@@ -160,6 +223,27 @@ impl Workspace {
         };
         Some(read())
     }
+}
+
+/// The workspace's rosters, `roster.EXT` for each type benchgrade reads, that are regular
+/// files (a link at the name is not one), in the order of `EXTENSIONS`.
+fn roster_files() -> Vec<String> {
+    EXTENSIONS
+        .iter()
+        .map(|e| format!("{ROSTER_STEM}.{e}"))
+        .filter(|n| std::fs::symlink_metadata(n).is_ok_and(|m| m.is_file()))
+        .collect()
+}
+
+/// The roster the runs use: the first of `roster_files`.
+pub fn roster_file() -> Option<String> {
+    roster_files().into_iter().next()
+}
+
+/// Removes a plain file of the workspace folder through the folder's handle (a link at the
+/// name is removed itself, never what it points to).
+fn remove_plain(name: &str) -> std::io::Result<()> {
+    Dir::open_no_follow(Path::new("."))?.remove_file(name)
 }
 
 /// Why an input was not removed.

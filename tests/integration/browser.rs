@@ -412,4 +412,52 @@ fn the_workspace_page_grades_a_class_in_chromium() {
     assert_eq!(hostile_row["student_name"], HOSTILE);
     d.script("document.getElementById('outputs').scrollIntoView()");
     d.screenshot("7-outputs");
+
+    // 5. a roster: the panel lists who has no row, and a mistyped id is put right in one click
+    // (X9002 was typed for the enrolled X9020: two adjacent characters swapped)
+    assert_eq!(
+        d.script("return document.getElementById('make-templates').disabled"),
+        true,
+        "no entry workbooks without a roster"
+    );
+    d.script("document.getElementById('roster').scrollIntoView()");
+    d.screenshot("7b-no-roster");
+    let roster = f.write(
+        "uploads/roster.csv",
+        format!("Student ID,Name,Section\nX9001,{HOSTILE},Sec 09\nX9020,Wren Abernathy,Sec 09\nX9030,Tamsin Quell,Sec 09\n"),
+    );
+    d.type_into("#roster-input", &roster.display().to_string());
+    assert!(
+        d.wait(60, "return document.getElementById('no-submission').textContent.includes('X9030') && !!document.querySelector(\"#off-roster-rows button[aria-label='Correct id X9002 to X9020']\")"),
+        "the students with no row and the id one slip away are shown"
+    );
+    assert_eq!(
+        d.script("return document.querySelectorAll('img, [onerror]').length"),
+        0
+    );
+    d.script("document.getElementById('roster').scrollIntoView()");
+    d.screenshot("8-roster");
+    d.click("#off-roster-rows button[aria-label='Correct id X9002 to X9020']");
+    assert!(
+        d.wait(60, "return !document.querySelector(\"#off-roster-rows button[aria-label='Correct id X9002 to X9020']\") && document.querySelectorAll('#correction-rows tr').length === 1 && !document.getElementById('no-submission').textContent.includes('X9020')"),
+        "the correction is saved and graded"
+    );
+    assert_eq!(
+        d.script(
+            "return document.querySelector('#correction-rows tr').textContent.includes('K. Demir')"
+        ),
+        true,
+        "the correction carries the grader's name"
+    );
+    // the entry workbooks, made from the roster: one link, for the one section
+    d.click("#make-templates");
+    let offered = d.wait(60, "return Array.from(document.querySelectorAll('#template-list a')).map(a => a.textContent).join() === 'Sec_09-entry.xlsx'");
+    assert!(
+        offered,
+        "the entry workbook is offered: {}",
+        d.script("return document.getElementById('templates-message').textContent + ' / ' + document.getElementById('template-list').textContent")
+    );
+    d.screenshot("9-roster-corrected");
+    d.script("document.getElementById('corrections').scrollIntoView()");
+    d.screenshot("10-corrections");
 }

@@ -34,4 +34,6 @@ mod sample_data;
 mod serve;
 mod serve_client;
 mod serve_hardening;
+mod serve_roster;
+mod template_key;
 mod workbooks;

@@ -523,7 +523,7 @@ fn the_page_loads_nothing_from_the_network() {
     let f = Fixture::new();
     let server = Server::start(&f.path("ws"));
     let agent = ureq::agent();
-    for asset in ["workspace.js", "workspace.css"] {
+    for asset in ["workspace.js", "roster.js", "workspace.css"] {
         let mut r = agent
             .get(format!("{}/assets/{asset}", server.base()))
             .call()

@@ -141,6 +141,41 @@ impl Server {
         Server::finish(resp)
     }
 
+    /// Uploads `(name, bytes)` pairs as multipart `file` fields to `path`.
+    pub fn upload_to(&self, path: &str, files: &[(&str, &[u8])]) -> (u16, Value) {
+        let (content_type, body) = multipart(files);
+        let resp = self
+            .agent
+            .post(format!("{}{path}", self.base()))
+            .header("Authorization", format!("Bearer {}", self.token))
+            .header("Content-Type", content_type)
+            .send(&body[..]);
+        Server::finish(resp)
+    }
+
+    /// A download with the token: its status, content type and bytes.
+    pub fn download(&self, path: &str) -> (u16, String, Vec<u8>) {
+        let mut resp = self
+            .agent
+            .get(format!("{}{path}", self.base()))
+            .header("Authorization", format!("Bearer {}", self.token))
+            .call()
+            .expect("the server answers");
+        let kind = resp
+            .headers()
+            .get("content-type")
+            .and_then(|v| v.to_str().ok())
+            .unwrap_or("")
+            .to_string();
+        let bytes = resp
+            .body_mut()
+            .with_config()
+            .limit(100 * 1024 * 1024)
+            .read_to_vec()
+            .expect("a body");
+        (resp.status().as_u16(), kind, bytes)
+    }
+
     /// The results of a run that read at least `revision`.
     pub fn results_after(&self, revision: u64) -> Value {
         self.get(&format!("/api/results?revision={revision}"))
