@@ -205,19 +205,35 @@ fn dropped_one(long: &[char], short: &[char]) -> bool {
 }
 
 /// Whether two names are one person's: compared without case, accents or punctuation, and in
-/// any order of their parts ("Pérez, Ana" is "ana perez").
+/// any order of their parts ("Pérez, Ana" is "ana perez"). Punctuation inside a name may be
+/// typed or left out: "O'Neil" is "ONeil" and "O Neil", "Delacroix-Navarro" is
+/// "DelacroixNavarro" and "Delacroix Navarro" (common practice: registrars and assistants
+/// differ on apostrophes, hyphens and initials' points).
 pub fn same_person(a: &str, b: &str) -> bool {
-    let parts = |s: &str| {
-        let mut p: Vec<String> = crate::model::names::fold(s)
-            .split(|c: char| !c.is_alphanumeric())
-            .filter(|w| !w.is_empty())
-            .map(str::to_string)
-            .collect();
-        p.sort();
-        p
-    };
-    let (pa, pb) = (parts(a), parts(b));
-    !pa.is_empty() && pa == pb
+    let (a, b) = (crate::model::names::fold(a), crate::model::names::fold(b));
+    // apostrophes and points join (O'Neil, St.John), hyphens too in the last reading
+    let joiners: [&dyn Fn(char) -> bool; 3] = [
+        &|_| false,
+        &|c| matches!(c, '\'' | '\u{2019}' | '\u{02BC}' | '`' | '.'),
+        &|c| matches!(c, '\'' | '\u{2019}' | '\u{02BC}' | '`' | '.' | '-' | '\u{2010}'),
+    ];
+    joiners.iter().any(|joins| {
+        let (pa, pb) = (name_parts(&a, joins), name_parts(&b, joins));
+        !pa.is_empty() && pa == pb
+    })
+}
+
+/// A folded name's parts, sorted: split at every character that is not a letter or digit,
+/// with the characters `joins` accepts left out instead.
+fn name_parts(folded: &str, joins: &dyn Fn(char) -> bool) -> Vec<String> {
+    let kept: String = folded.chars().filter(|c| !joins(*c)).collect();
+    let mut p: Vec<String> = kept
+        .split(|c: char| !c.is_alphanumeric())
+        .filter(|w| !w.is_empty())
+        .map(str::to_string)
+        .collect();
+    p.sort();
+    p
 }
 
 #[cfg(test)]
@@ -252,6 +268,12 @@ mod tests {
     fn names_agree_without_case_accents_punctuation_or_order() {
         assert!(same_person("Pérez, Ana", "ana perez"));
         assert!(same_person("O'Neil Bo", "bo o neil"));
+        // punctuation typed or left out (an apostrophe, a hyphen): the same person
+        assert!(same_person("O'Neil, Siobhán", "Siobhan ONeil"));
+        assert!(same_person("Delacroix-Navarro, Renée", "RENEE DELACROIX NAVARRO"));
+        assert!(same_person("Delacroix-Navarro, Renée", "Renee DelacroixNavarro"));
+        assert!(same_person("D'Angelo-Smith, Al", "Al DAngelo Smith"));
+        assert!(!same_person("O'Neil, Siobhán", "Siobhan Neil"));
         assert!(!same_person("Ana Perez", "Ana Pereira"));
         assert!(!same_person("", ""));
     }

@@ -1,0 +1,38 @@
+//! Slips met when a coordinator tried the roster, the corrections and the entry workbooks with
+//! invented students (each test names what went wrong before): a name typed without its
+//! apostrophe, a roster listing an id three times, a correction giving a row another row's id,
+//! a corrected mass whose comma could be a decimal comma or thousands.
+
+use crate::harness::{by_id, Fixture};
+
+/// A name is compared without its punctuation inside the name: "O'Neil" typed "ONeil" (or
+/// a hyphenated surname typed as two words) is the rostered student, not a `name-mismatch`.
+/// Before, only punctuation read as a space agreed ("O Neil").
+#[test]
+fn a_name_typed_without_its_apostrophe_or_hyphen_is_the_same_student() {
+    let f = Fixture::new();
+    f.write(
+        "roster.csv",
+        "Student ID,Name,Section\n\
+         100001,\"O'Neil, Siobhán\",A\n\
+         100002,\"Delacroix-Navarro, Renée\",A\n\
+         100003,\"Østby, Ugo\",A\n\
+         100004,\"Varga, Ilsa\",A\n",
+    );
+    f.write(
+        "class.csv",
+        "Student ID,Name,Section,Crude mass (g),Recovered mass (g),Melting range (°C)\n\
+         100001,Siobhan ONeil,A,3.0,2.1,121.5-122.3\n\
+         100002,Renee DelacroixNavarro,A,3.0,2.1,121.5-122.3\n\
+         100003,UGO OSTBY,A,3.0,2.1,121.5-122.3\n\
+         100004,Ilsa Vargas,A,3.0,2.1,121.5-122.3\n",
+    );
+    let run = f.run(&["grade", "class.csv", "--roster", "roster.csv", "--out", "out"]);
+    assert_eq!(run.code, 0, "{}", run.stderr);
+    let rows = f.results("out");
+    for id in ["100001", "100002", "100003"] {
+        assert!(by_id(&rows, id)["flags"].is_empty(), "{id}");
+    }
+    // another surname is still another name
+    assert_eq!(by_id(&rows, "100004")["flags"], "name-mismatch");
+}
