@@ -36,3 +36,34 @@ fn a_name_typed_without_its_apostrophe_or_hyphen_is_the_same_student() {
     // another surname is still another name
     assert_eq!(by_id(&rows, "100004")["flags"], "name-mismatch");
 }
+
+/// An id the roster lists three times is named with its first listing each time, and
+/// `template` says which roster rows it left out of the entry sheets (it said nothing, and the
+/// rows were silently missing from the sheets); the note names the row once, not the file twice.
+#[test]
+fn template_says_which_roster_rows_it_left_out() {
+    let f = Fixture::new();
+    f.write(
+        "roster.csv",
+        "Student ID,Name,Section\n\
+         100001,Ilsa Varga,A\n\
+         100001,Ilsa Varga,A\n\
+         100001,Bram Harrow,A\n\
+         ,Nobody Listed,A\n\
+         100002,Kofi Pellew,A\n",
+    );
+    let run = f.run(&["template", "--roster", "roster.csv", "--out", "entry"]);
+    assert_eq!(run.code, 0, "{}", run.stderr);
+    for row in [3, 4] {
+        let note = format!("roster.csv: row {row}: a student id listed again (first at roster.csv row 2)");
+        assert!(run.stderr.contains(&note), "{note}\n{}", run.stderr);
+    }
+    assert!(
+        run.stderr.contains("row 5: a roster row without a student id"),
+        "{}",
+        run.stderr
+    );
+    assert!(!run.stderr.contains("roster.csv: roster.csv"), "{}", run.stderr);
+    assert!(!run.stderr.contains("100001"), "no id on standard error");
+    assert!(f.path("entry/A-entry.xlsx").is_file());
+}
