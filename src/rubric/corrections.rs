@@ -70,6 +70,11 @@ pub fn parse_value(field: Field, text: &str) -> Result<Value, String> {
     let t = text.trim();
     let decimal = comma_reading(t);
     let number = |want: &str, convert: &dyn Fn(Unit, f64) -> Option<f64>| {
+        if let Some((point, plain)) = ambiguous_comma(t) {
+            return Err(format!(
+                "\"{t}\" could be {point} or {plain}: write it with a point ({point}) or without the comma ({plain})"
+            ));
+        }
         let q = parse_quantity(t, decimal).ok_or_else(|| format!("\"{t}\" is not {want}"))?;
         match q.unit {
             None => Ok(Value::Number(q.value)),
@@ -125,6 +130,28 @@ fn comma_reading(t: &str) -> Decimal {
         }
         _ => Decimal::Point,
     }
+}
+
+/// A number whose one comma could be a decimal comma or a thousands separator ("2,905":
+/// 2.905 or 2905), with its two readings; `None` for any other text. A correction is one value
+/// typed on purpose, with no column beside it to tell which was meant, so it is asked for
+/// again rather than read as thousands (a mass a thousand times too large).
+fn ambiguous_comma(t: &str) -> Option<(String, String)> {
+    let number: String = t
+        .chars()
+        .take_while(|c| c.is_ascii_digit() || matches!(c, ',' | '-' | '+'))
+        .collect();
+    if t[number.len()..].starts_with('.') || number.matches(',').count() != 1 {
+        return None;
+    }
+    let (whole, frac) = number.split_once(',')?;
+    let digits = whole.trim_start_matches(['-', '+']);
+    let ambiguous = frac.len() == 3
+        && frac.bytes().all(|b| b.is_ascii_digit())
+        && (1..=3).contains(&digits.len())
+        && digits.bytes().all(|b| b.is_ascii_digit())
+        && digits != "0";
+    ambiguous.then(|| (format!("{whole}.{frac}"), format!("{whole}{frac}")))
 }
 
 /// The corrections of a run, by the student id they name.
@@ -424,9 +451,22 @@ mod tests {
             Ok(Value::Range(120.5, 121.6))
         );
         assert_eq!(parse_value(Field::CrudeMass, "1,5"), Ok(Value::Number(1.5)));
+        // one comma before three digits is a decimal comma or thousands: asked for again
+        // (seen in a coordinator's trial: "2,905" g became 2905 g)
+        let asked = parse_value(Field::CrudeMass, "2,905").unwrap_err();
+        assert!(asked.contains("2.905") && asked.contains("2905"), "{asked}");
+        assert!(parse_value(Field::CrudeMass, "1,800 mg").is_err());
         assert_eq!(
-            parse_value(Field::CrudeMass, "1,800 mg"),
-            Ok(Value::Number(1.8))
+            parse_value(Field::CrudeMass, "1,8005"),
+            Ok(Value::Number(1.8005))
+        );
+        assert_eq!(
+            parse_value(Field::CrudeMass, "0,745 g"),
+            Ok(Value::Number(0.745))
+        );
+        assert_eq!(
+            parse_value(Field::CrudeMass, "1,800,000 mg"),
+            Ok(Value::Number(1800.0))
         );
         assert_eq!(
             parse_value(Field::MpRange, "120,5-121,6"),

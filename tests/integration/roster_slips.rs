@@ -67,3 +67,38 @@ fn template_says_which_roster_rows_it_left_out() {
     assert!(!run.stderr.contains("100001"), "no id on standard error");
     assert!(f.path("entry/A-entry.xlsx").is_file());
 }
+
+/// "2,905" in a correction could be 2.905 g (a decimal comma) or 2905 g (thousands): it is
+/// asked for again, naming both readings, where it was read as 2905 g, a mass a thousand
+/// times too large. "0,745" can only be a decimal comma and is taken (hand-worked: 0.745 g).
+#[test]
+fn a_corrected_mass_whose_comma_could_mean_thousands_is_asked_for_again() {
+    let f = Fixture::new();
+    f.write(
+        "class.csv",
+        "Student ID,Name,Crude mass (g),Recovered mass (g),Melting range (°C)\n\
+         2026001,Amara Hollin,3.0,2.1,121.5-122.3\n",
+    );
+    f.write(
+        "c.csv",
+        "student_id,section,field,value,reason,grader\n2026001,,crude_mass,\"2,905\",re-weighed,P. Quist\n",
+    );
+    let run = f.run(&["grade", "class.csv", "--corrections", "c.csv", "--out", "out"]);
+    assert_eq!(run.code, 2, "{}", run.stderr);
+    assert!(
+        run.stderr.contains("c.csv:2:")
+            && run.stderr.contains("2.905")
+            && run.stderr.contains("2905"),
+        "{}",
+        run.stderr
+    );
+    f.write(
+        "ok.csv",
+        "student_id,section,field,value,reason,grader\n2026001,,recovered_mass,\"0,745\",typed with a comma,P. Quist\n",
+    );
+    let run = f.run(&["grade", "class.csv", "--corrections", "ok.csv", "--out", "out"]);
+    assert_eq!(run.code, 0, "{}", run.stderr);
+    let rows = f.results("out");
+    assert_eq!(rows[0]["recovered_mass_g"], "0.745");
+    assert!(rows[0]["corrections"].contains("to 0.745 g"), "{}", rows[0]["corrections"]);
+}
