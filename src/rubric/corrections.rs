@@ -287,6 +287,22 @@ impl Corrections {
         &self.list
     }
 
+    /// The lines whose corrected id left a row sharing its id with another row of its section
+    /// (`ids`, trimmed), for the message that stops the run; the ids themselves are not shown.
+    pub fn clashing(&self, ids: &std::collections::BTreeSet<String>) -> Vec<String> {
+        self.list
+            .iter()
+            .filter(|c| c.field == Field::StudentId)
+            .filter(|c| matches!(&c.value, Value::Text(t) if ids.contains(t.trim())))
+            .map(|c| {
+                format!(
+                    "{}:{}: the id this line sets makes a row share an id with another row of its section; a corrected id must be the student's own (correct the other row too, or check the id)",
+                    self.source, c.line
+                )
+            })
+            .collect()
+    }
+
     /// The corrections that found no row, for the message that stops the run.
     pub fn unmatched(&self, used: &[bool]) -> Vec<String> {
         self.list

@@ -68,6 +68,36 @@ fn template_says_which_roster_rows_it_left_out() {
     assert!(f.path("entry/A-entry.xlsx").is_file());
 }
 
+/// A correction that gives a row another row's id stops the run naming the line that did it
+/// (the message named only the file, with a count).
+#[test]
+fn a_clashing_corrected_id_is_named_by_its_line() {
+    let f = Fixture::new();
+    f.write(
+        "class.csv",
+        "Student ID,Name,Crude mass (g),Recovered mass (g),Melting range (°C)\n\
+         2026001,Amara Hollin,3.0,2.1,121.5-122.3\n\
+         2026002,Bastian Jessop,3.0,2.4,121.4-122.2\n\
+         2026003,Corinne Cealy,3.0,2.4,121.4-122.2\n",
+    );
+    f.write(
+        "c.csv",
+        "student_id,section,field,value,reason,grader\n\
+         2026003,,crude_mass,2.9,re-weighed,P. Quist\n\
+         2026001,,student_id,2026002,typo?,P. Quist\n",
+    );
+    let run = f.run(&["grade", "class.csv", "--corrections", "c.csv", "--out", "out"]);
+    assert_eq!(run.code, 2, "{}", run.stderr);
+    assert!(
+        run.stderr.contains("c.csv:3: the id this line sets"),
+        "{}",
+        run.stderr
+    );
+    assert!(!run.stderr.contains("c.csv:2"), "{}", run.stderr);
+    assert!(!run.stderr.contains("2026002"), "no id on standard error");
+    assert!(!f.path("out/results.csv").exists());
+}
+
 /// "2,905" in a correction could be 2.905 g (a decimal comma) or 2905 g (thousands): it is
 /// asked for again, naming both readings, where it was read as 2905 g, a mass a thousand
 /// times too large. "0,745" can only be a decimal comma and is taken (hand-worked: 0.745 g).
