@@ -132,3 +132,32 @@ fn a_corrected_mass_whose_comma_could_mean_thousands_is_asked_for_again() {
     assert_eq!(rows[0]["recovered_mass_g"], "0.745");
     assert!(rows[0]["corrections"].contains("to 0.745 g"), "{}", rows[0]["corrections"]);
 }
+
+/// `check` shows the roster's columns under one line that says so; it printed "read from"
+/// followed by the inputs' "Columns" heading.
+#[test]
+fn check_shows_the_roster_s_columns_under_one_heading() {
+    let f = Fixture::new();
+    f.write(
+        "roster.csv",
+        "Student ID,Name,Section\n100001,Ilsa Varga,A\n100002,Kofi Pellew,A\n",
+    );
+    f.write(
+        "class.csv",
+        "Student ID,Name,Section,Crude mass (g),Recovered mass (g),Melting range (°C)\n\
+         100001,Ilsa Varga,A,3.0,2.1,121.5-122.3\n",
+    );
+    let run = f.run(&["check", "class.csv", "--roster", "roster.csv"]);
+    assert_eq!(run.code, 0, "{}", run.stderr);
+    let lines: Vec<&str> = run.stdout.lines().collect();
+    let at = lines
+        .iter()
+        .position(|l| l.starts_with("Roster: 2 enrolled students"))
+        .unwrap_or_else(|| panic!("{}", run.stdout));
+    assert!(
+        lines[at + 1].trim_start().starts_with("roster.csv: header row 1"),
+        "{}",
+        run.stdout
+    );
+    assert_eq!(lines.iter().filter(|l| **l == "Columns").count(), 1);
+}
