@@ -67,10 +67,20 @@ pub const CORRECTABLE: [Field; 16] = [
 
 /// Parses a value as `field` holds it; the message says what was expected.
 pub fn parse_value(field: Field, text: &str) -> Result<Value, String> {
+    parse_value_in(field, text, false)
+}
+
+/// `parse_value`, for a file whose commas are decimal commas (`comma_file`: a semicolon file,
+/// as a spreadsheet in a decimal-comma locale saves CSV, where "2,905" is 2.905).
+fn parse_value_in(field: Field, text: &str, comma_file: bool) -> Result<Value, String> {
     let t = text.trim();
-    let decimal = comma_reading(t);
+    let decimal = if comma_file && t.contains(',') {
+        Decimal::Comma
+    } else {
+        comma_reading(t)
+    };
     let number = |want: &str, convert: &dyn Fn(Unit, f64) -> Option<f64>| {
-        if let Some((point, plain)) = ambiguous_comma(t) {
+        if let Some((point, plain)) = ambiguous_comma(t).filter(|_| !comma_file) {
             return Err(format!(
                 "\"{t}\" could be {point} or {plain}: write it with a point ({point}) or without the comma ({plain})"
             ));
@@ -175,9 +185,10 @@ impl Corrections {
             .map_err(|e| ConfigError::Invalid(format!("cannot read {file}: {e}")))?;
         let (text, _) = delimited::decode(&bytes);
         // a spreadsheet in a decimal-comma locale saves CSV with semicolons
+        let delimiter = delimited::sniff_delimiter(&text, false);
         let mut reader = csv::ReaderBuilder::new()
             .flexible(true)
-            .delimiter(delimited::sniff_delimiter(&text, false))
+            .delimiter(delimiter)
             .from_reader(text.as_bytes());
         let headers = reader
             .headers()
@@ -221,7 +232,7 @@ impl Corrections {
                 reason: get("reason"),
                 grader: get("grader"),
             };
-            match typed.check(line) {
+            match typed.check_in(line, delimiter == b';') {
                 Ok(c) => out.push(c),
                 Err(why) => faults.push(format!("{file}:{line}: {}", why.message)),
             }
@@ -345,6 +356,11 @@ fn fault(field: &'static str, message: impl Into<String>) -> Invalid {
 impl Typed<'_> {
     /// The correction on `line`, or the part at fault and what to fix.
     pub fn check(&self, line: usize) -> Result<Correction, Invalid> {
+        self.check_in(line, false)
+    }
+
+    /// `check`, for a line of a file whose commas are decimal commas (`parse_value_in`).
+    fn check_in(&self, line: usize, comma_file: bool) -> Result<Correction, Invalid> {
         let student_id = self
             .student_id
             .ok_or_else(|| fault("student_id", "no student id given"))?;
@@ -362,7 +378,7 @@ impl Typed<'_> {
                 )
             })?;
         let written = self.value.ok_or_else(|| fault("value", "no value given"))?;
-        let value = parse_value(field, written).map_err(|m| fault("value", m))?;
+        let value = parse_value_in(field, written, comma_file).map_err(|m| fault("value", m))?;
         Ok(Correction {
             student_id: student_id.to_string(),
             section: self.section.map(str::to_string),
@@ -472,6 +488,15 @@ mod tests {
         let asked = parse_value(Field::CrudeMass, "2,905").unwrap_err();
         assert!(asked.contains("2.905") && asked.contains("2905"), "{asked}");
         assert!(parse_value(Field::CrudeMass, "1,800 mg").is_err());
+        // in a semicolon file (a decimal-comma locale's CSV) the comma is a decimal comma
+        assert_eq!(
+            parse_value_in(Field::CrudeMass, "2,905", true),
+            Ok(Value::Number(2.905))
+        );
+        assert_eq!(
+            parse_value_in(Field::CrudeMass, "2.905", true),
+            Ok(Value::Number(2.905))
+        );
         assert_eq!(
             parse_value(Field::CrudeMass, "1,8005"),
             Ok(Value::Number(1.8005))

@@ -161,3 +161,24 @@ fn check_shows_the_roster_s_columns_under_one_heading() {
     );
     assert_eq!(lines.iter().filter(|l| **l == "Columns").count(), 1);
 }
+
+/// A corrections file saved with semicolons (a spreadsheet in a decimal-comma locale) reads
+/// its commas as decimal commas, as a semicolon class sheet is read: "2,905" is 2.905 g there
+/// (hand-worked), with a byte-order mark before the header.
+#[test]
+fn a_semicolon_corrections_file_reads_decimal_commas() {
+    let f = Fixture::new();
+    f.write(
+        "class.csv",
+        "Student ID,Name,Crude mass (g),Recovered mass (g),Melting range (°C)\n\
+         2026001,Amara Hollin,3.0,2.1,121.5-122.3\n",
+    );
+    f.write(
+        "c.csv",
+        "\u{feff}student_id;section;field;value;reason;grader\n2026001;;crude_mass;2,905;neu gewogen;K. Hahn\n",
+    );
+    let run = f.run(&["grade", "class.csv", "--corrections", "c.csv", "--out", "out"]);
+    assert_eq!(run.code, 0, "{}", run.stderr);
+    let rows = f.results("out");
+    assert_eq!(rows[0]["crude_mass_g"], "2.905");
+}
