@@ -182,3 +182,46 @@ fn a_semicolon_corrections_file_reads_decimal_commas() {
     let rows = f.results("out");
     assert_eq!(rows[0]["crude_mass_g"], "2.905");
 }
+
+/// The roster and the corrections kept in the class folder that is graded are used as what
+/// the command line names them, not read as class sheets: they were an error each ("no
+/// recognisable table of submissions") and exit code 1.
+#[test]
+fn a_roster_and_corrections_kept_among_the_inputs_are_not_graded() {
+    let f = Fixture::new();
+    f.write(
+        "term/roster.csv",
+        "Student ID,Name,Section\n2026001,Amara Hollin,A\n2026002,Bastian Jessop,A\n",
+    );
+    f.write(
+        "term/fixes.csv",
+        "student_id,section,field,value,reason,grader\n2026001,,crude_mass,3.1,re-weighed,P. Quist\n",
+    );
+    f.write(
+        "term/a.csv",
+        "Student ID,Name,Section,Crude mass (g),Recovered mass (g),Melting range (°C)\n\
+         2026001,Amara Hollin,A,3.0,2.1,121.5-122.3\n",
+    );
+    let run = f.run(&[
+        "grade",
+        "term",
+        "--roster",
+        "term/roster.csv",
+        "--corrections",
+        "./term/../term/fixes.csv",
+        "--out",
+        "out",
+    ]);
+    assert_eq!(run.code, 0, "{}", run.stderr);
+    assert!(
+        run.stderr.contains("roster.csv: read as the roster (--roster), not graded")
+            && run.stderr.contains("fixes.csv: read as the corrections (--corrections), not graded"),
+        "{}",
+        run.stderr
+    );
+    assert!(!run.stderr.contains("error"), "{}", run.stderr);
+    let rows = f.results("out");
+    let statuses: Vec<&str> = rows.iter().map(|r| r["status"].as_str()).collect();
+    assert_eq!(statuses, vec!["graded", "no-submission"]);
+    assert_eq!(rows[0]["crude_mass_g"], "3.1");
+}
