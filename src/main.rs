@@ -263,7 +263,11 @@ fn check(mut run: RunArgs, explain: bool) -> Result<ExitCode> {
         )?;
         // the sheets without the inputs' "Columns" heading, which would stand under this line
         let sheets = check_report::layouts(&config.roster_sheets, style);
-        write!(out, "{}", sheets.split_once('\n').map_or("", |(_, rest)| rest))?;
+        write!(
+            out,
+            "{}",
+            sheets.split_once('\n').map_or("", |(_, rest)| rest)
+        )?;
         writeln!(out)?;
     }
     write!(out, "{}", check_report::flagged(&batch.rows, style))?;

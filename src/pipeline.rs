@@ -409,7 +409,7 @@ fn discover_inputs(config: &Config) -> (Batch, Option<PathBuf>) {
             fatal: false,
         });
     }
-    let files = set_aside_named(config, files, &mut problems);
+    let files = key::set_aside_named(config, files, &mut problems);
     (
         Batch {
             files,
@@ -418,42 +418,6 @@ fn discover_inputs(config: &Config) -> (Batch, Option<PathBuf>) {
         },
         calibration,
     )
-}
-
-/// The inputs without the roster, corrections and overrides files the command line names
-/// (kept in the class folder, they were read as class sheets that hold no table: an error and
-/// exit code 1), each with a note.
-fn set_aside_named(config: &Config, files: Vec<PathBuf>, problems: &mut Vec<Problem>) -> Vec<PathBuf> {
-    let named: Vec<(PathBuf, &str)> = [
-        (&config.roster_file, "the roster (--roster)"),
-        (&config.corrections_file, "the corrections (--corrections)"),
-        (&config.overrides_file, "the overrides (--overrides)"),
-    ]
-    .into_iter()
-    .filter_map(|(p, what)| Some((p.as_ref()?.canonicalize().ok()?, what)))
-    .collect();
-    if named.is_empty() {
-        return files;
-    }
-    files
-        .into_iter()
-        .filter(|f| {
-            let Some((_, what)) = f
-                .canonicalize()
-                .ok()
-                .and_then(|c| named.iter().find(|(n, _)| *n == c))
-            else {
-                return true;
-            };
-            problems.push(Problem {
-                file: f.display().to_string(),
-                sheet: None,
-                message: format!("read as {what}, not graded"),
-                fatal: false,
-            });
-            false
-        })
-        .collect()
 }
 
 /// Reads, assesses and grades, writing nothing; every row is kept in `Batch::rows`.

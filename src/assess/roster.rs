@@ -78,7 +78,12 @@ impl Roster {
         let mut near = self.unkeyed.clone();
         for k in keys {
             let from = self.slips.partition_point(|(x, _)| *x < k);
-            near.extend(self.slips[from..].iter().take_while(|(x, _)| *x == k).map(|(_, i)| *i));
+            near.extend(
+                self.slips[from..]
+                    .iter()
+                    .take_while(|(x, _)| *x == k)
+                    .map(|(_, i)| *i),
+            );
         }
         near.sort_unstable();
         near.dedup();
@@ -279,7 +284,12 @@ pub fn same_person(a: &str, b: &str) -> bool {
     let joiners: [&dyn Fn(char) -> bool; 3] = [
         &|_| false,
         &|c| matches!(c, '\'' | '\u{2019}' | '\u{02BC}' | '`' | '.'),
-        &|c| matches!(c, '\'' | '\u{2019}' | '\u{02BC}' | '`' | '.' | '-' | '\u{2010}'),
+        &|c| {
+            matches!(
+                c,
+                '\'' | '\u{2019}' | '\u{02BC}' | '`' | '.' | '-' | '\u{2010}'
+            )
+        },
     ];
     joiners.iter().any(|joins| {
         let (pa, pb) = (name_parts(&a, joins), name_parts(&b, joins));
@@ -368,8 +378,14 @@ mod tests {
         assert!(same_person("O'Neil Bo", "bo o neil"));
         // punctuation typed or left out (an apostrophe, a hyphen): the same person
         assert!(same_person("O'Neil, Siobhán", "Siobhan ONeil"));
-        assert!(same_person("Delacroix-Navarro, Renée", "RENEE DELACROIX NAVARRO"));
-        assert!(same_person("Delacroix-Navarro, Renée", "Renee DelacroixNavarro"));
+        assert!(same_person(
+            "Delacroix-Navarro, Renée",
+            "RENEE DELACROIX NAVARRO"
+        ));
+        assert!(same_person(
+            "Delacroix-Navarro, Renée",
+            "Renee DelacroixNavarro"
+        ));
         assert!(same_person("D'Angelo-Smith, Al", "Al DAngelo Smith"));
         assert!(!same_person("O'Neil, Siobhán", "Siobhan Neil"));
         assert!(!same_person("Ana Perez", "Ana Pereira"));

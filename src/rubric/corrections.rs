@@ -142,6 +142,19 @@ fn comma_reading(t: &str) -> Decimal {
     }
 }
 
+/// Refuses a corrections file without a column a correction needs, naming the columns.
+fn needed_columns(file: &str, col: &dyn Fn(&str) -> Option<usize>) -> Result<(), ConfigError> {
+    let need = ["student_id", "field", "value", "reason", "grader"];
+    let missing: Vec<&str> = need.iter().copied().filter(|n| col(n).is_none()).collect();
+    if missing.is_empty() {
+        return Ok(());
+    }
+    Err(ConfigError::Invalid(format!(
+        "{file}: no column {} (a corrections file has student_id, section, field, value, reason, grader)",
+        missing.join(", ")
+    )))
+}
+
 /// A number whose one comma could be a decimal comma or a thousands separator ("2,905":
 /// 2.905 or 2905), with its two readings; `None` for any other text. A correction is one value
 /// typed on purpose, with no column beside it to tell which was meant, so it is asked for
@@ -199,14 +212,7 @@ impl Corrections {
                 .iter()
                 .position(|h| h.trim().to_lowercase().replace(' ', "_") == name)
         };
-        let need = ["student_id", "field", "value", "reason", "grader"];
-        let missing: Vec<&str> = need.iter().copied().filter(|n| col(n).is_none()).collect();
-        if !missing.is_empty() {
-            return Err(ConfigError::Invalid(format!(
-                "{file}: no column {} (a corrections file has student_id, section, field, value, reason, grader)",
-                missing.join(", ")
-            )));
-        }
+        needed_columns(&file, &col)?;
         let mut out = Corrections {
             source: file.clone(),
             ..Corrections::default()

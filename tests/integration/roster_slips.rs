@@ -27,7 +27,14 @@ fn a_name_typed_without_its_apostrophe_or_hyphen_is_the_same_student() {
          100003,UGO OSTBY,A,3.0,2.1,121.5-122.3\n\
          100004,Ilsa Vargas,A,3.0,2.1,121.5-122.3\n",
     );
-    let run = f.run(&["grade", "class.csv", "--roster", "roster.csv", "--out", "out"]);
+    let run = f.run(&[
+        "grade",
+        "class.csv",
+        "--roster",
+        "roster.csv",
+        "--out",
+        "out",
+    ]);
     assert_eq!(run.code, 0, "{}", run.stderr);
     let rows = f.results("out");
     for id in ["100001", "100002", "100003"] {
@@ -55,15 +62,21 @@ fn template_says_which_roster_rows_it_left_out() {
     let run = f.run(&["template", "--roster", "roster.csv", "--out", "entry"]);
     assert_eq!(run.code, 0, "{}", run.stderr);
     for row in [3, 4] {
-        let note = format!("roster.csv: row {row}: a student id listed again (first at roster.csv row 2)");
+        let note =
+            format!("roster.csv: row {row}: a student id listed again (first at roster.csv row 2)");
         assert!(run.stderr.contains(&note), "{note}\n{}", run.stderr);
     }
     assert!(
-        run.stderr.contains("row 5: a roster row without a student id"),
+        run.stderr
+            .contains("row 5: a roster row without a student id"),
         "{}",
         run.stderr
     );
-    assert!(!run.stderr.contains("roster.csv: roster.csv"), "{}", run.stderr);
+    assert!(
+        !run.stderr.contains("roster.csv: roster.csv"),
+        "{}",
+        run.stderr
+    );
     assert!(!run.stderr.contains("100001"), "no id on standard error");
     assert!(f.path("entry/A-entry.xlsx").is_file());
 }
@@ -86,7 +99,14 @@ fn a_clashing_corrected_id_is_named_by_its_line() {
          2026003,,crude_mass,2.9,re-weighed,P. Quist\n\
          2026001,,student_id,2026002,typo?,P. Quist\n",
     );
-    let run = f.run(&["grade", "class.csv", "--corrections", "c.csv", "--out", "out"]);
+    let run = f.run(&[
+        "grade",
+        "class.csv",
+        "--corrections",
+        "c.csv",
+        "--out",
+        "out",
+    ]);
     assert_eq!(run.code, 2, "{}", run.stderr);
     assert!(
         run.stderr.contains("c.csv:3: the id this line sets"),
@@ -113,7 +133,14 @@ fn a_corrected_mass_whose_comma_could_mean_thousands_is_asked_for_again() {
         "c.csv",
         "student_id,section,field,value,reason,grader\n2026001,,crude_mass,\"2,905\",re-weighed,P. Quist\n",
     );
-    let run = f.run(&["grade", "class.csv", "--corrections", "c.csv", "--out", "out"]);
+    let run = f.run(&[
+        "grade",
+        "class.csv",
+        "--corrections",
+        "c.csv",
+        "--out",
+        "out",
+    ]);
     assert_eq!(run.code, 2, "{}", run.stderr);
     assert!(
         run.stderr.contains("c.csv:2:")
@@ -126,11 +153,22 @@ fn a_corrected_mass_whose_comma_could_mean_thousands_is_asked_for_again() {
         "ok.csv",
         "student_id,section,field,value,reason,grader\n2026001,,recovered_mass,\"0,745\",typed with a comma,P. Quist\n",
     );
-    let run = f.run(&["grade", "class.csv", "--corrections", "ok.csv", "--out", "out"]);
+    let run = f.run(&[
+        "grade",
+        "class.csv",
+        "--corrections",
+        "ok.csv",
+        "--out",
+        "out",
+    ]);
     assert_eq!(run.code, 0, "{}", run.stderr);
     let rows = f.results("out");
     assert_eq!(rows[0]["recovered_mass_g"], "0.745");
-    assert!(rows[0]["corrections"].contains("to 0.745 g"), "{}", rows[0]["corrections"]);
+    assert!(
+        rows[0]["corrections"].contains("to 0.745 g"),
+        "{}",
+        rows[0]["corrections"]
+    );
 }
 
 /// `check` shows the roster's columns under one line that says so; it printed "read from"
@@ -155,7 +193,9 @@ fn check_shows_the_roster_s_columns_under_one_heading() {
         .position(|l| l.starts_with("Roster: 2 enrolled students"))
         .unwrap_or_else(|| panic!("{}", run.stdout));
     assert!(
-        lines[at + 1].trim_start().starts_with("roster.csv: header row 1"),
+        lines[at + 1]
+            .trim_start()
+            .starts_with("roster.csv: header row 1"),
         "{}",
         run.stdout
     );
@@ -177,7 +217,14 @@ fn a_semicolon_corrections_file_reads_decimal_commas() {
         "c.csv",
         "\u{feff}student_id;section;field;value;reason;grader\n2026001;;crude_mass;2,905;neu gewogen;K. Hahn\n",
     );
-    let run = f.run(&["grade", "class.csv", "--corrections", "c.csv", "--out", "out"]);
+    let run = f.run(&[
+        "grade",
+        "class.csv",
+        "--corrections",
+        "c.csv",
+        "--out",
+        "out",
+    ]);
     assert_eq!(run.code, 0, "{}", run.stderr);
     let rows = f.results("out");
     assert_eq!(rows[0]["crude_mass_g"], "2.905");
@@ -214,8 +261,11 @@ fn a_roster_and_corrections_kept_among_the_inputs_are_not_graded() {
     ]);
     assert_eq!(run.code, 0, "{}", run.stderr);
     assert!(
-        run.stderr.contains("roster.csv: read as the roster (--roster), not graded")
-            && run.stderr.contains("fixes.csv: read as the corrections (--corrections), not graded"),
+        run.stderr
+            .contains("roster.csv: read as the roster (--roster), not graded")
+            && run
+                .stderr
+                .contains("fixes.csv: read as the corrections (--corrections), not graded"),
         "{}",
         run.stderr
     );
