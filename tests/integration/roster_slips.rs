@@ -275,3 +275,51 @@ fn a_roster_and_corrections_kept_among_the_inputs_are_not_graded() {
     assert_eq!(statuses, vec!["graded", "no-submission"]);
     assert_eq!(rows[0]["crude_mass_g"], "3.1");
 }
+
+/// A roster export with several id-like columns (an internal id beside the registrar's) is
+/// refused saying so, with the mapping line to paste (the message said only that no id column
+/// was found); mapped, it is read.
+#[test]
+fn a_roster_with_several_id_columns_says_which_to_map() {
+    let f = Fixture::new();
+    f.write(
+        "export.csv",
+        "Student,ID,SIS User ID,SIS Login ID,Section\n\
+         \"Hollin, Amara\",88231,2026001,ahollin,L1\n\
+         \"Jessop, Bastian\",88232,2026002,bjessop,L1\n",
+    );
+    f.write(
+        "a.csv",
+        "Student ID,Name,Section,Crude mass (g),Recovered mass (g),Melting range (°C)\n\
+         2026001,Amara Hollin,L1,3.0,2.1,121.5-122.3\n",
+    );
+    let run = f.run(&["grade", "a.csv", "--roster", "export.csv", "--out", "out"]);
+    assert_eq!(run.code, 2, "{}", run.stderr);
+    assert!(
+        run.stderr.contains("all look like the student id")
+            && run.stderr.contains("= \"student_id\""),
+        "{}",
+        run.stderr
+    );
+    f.write(
+        "map.toml",
+        "[columns.\"export.csv\"]\n\"SIS User ID\" = \"student_id\"\n\"ID\" = \"ignore\"\n\"SIS Login ID\" = \"ignore\"\n",
+    );
+    let run = f.run(&[
+        "grade",
+        "a.csv",
+        "--roster",
+        "export.csv",
+        "--columns",
+        "map.toml",
+        "--out",
+        "out",
+    ]);
+    assert_eq!(run.code, 0, "{}", run.stderr);
+    let statuses: Vec<String> = f
+        .results("out")
+        .iter()
+        .map(|r| r["status"].clone())
+        .collect();
+    assert_eq!(statuses, vec!["graded", "no-submission"]);
+}
