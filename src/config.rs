@@ -264,7 +264,9 @@ fn read_roster(path: Option<&Path>, columns: &ColumnOverrides) -> Result<RosterP
         .collect();
     if !fatal.is_empty() || read.students.is_empty() {
         let why = if fatal.is_empty() {
-            "no table with a student id column beside at least two other fields (a name or name parts, a section, an assistant)".to_string()
+            let mut why = "no table with a student id column beside at least two other fields (a name or name parts, a section, an assistant)".to_string();
+            why.push_str(&id_columns_unused(&read.sheets));
+            why
         } else {
             fatal.join("; ")
         };
@@ -276,6 +278,19 @@ fn read_roster(path: Option<&Path>, columns: &ColumnOverrides) -> Result<RosterP
     let students = std::mem::take(&mut read.students);
     let roster = crate::assess::roster::Roster::new(students, &path.display().to_string());
     Ok((Some(roster), read.problems, read.sheets))
+}
+
+/// Why a roster's id columns were not used, where a sheet says (several columns that look
+/// like the id: a learning-management system's export has an internal id beside the
+/// registrar's), with the line to paste; empty otherwise.
+fn id_columns_unused(sheets: &[crate::ingest::SheetReport]) -> String {
+    sheets
+        .iter()
+        .flat_map(|s| &s.layout.columns)
+        .filter_map(|c| c.note.as_deref())
+        .find(|n| n.contains("look like the student id"))
+        .map(|n| format!("; {}", n.trim_start_matches("not used: ")))
+        .unwrap_or_default()
 }
 
 /// `--title`, else the rubric's course, term and experiment name, joined by dashes.

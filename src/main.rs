@@ -258,13 +258,15 @@ fn check(mut run: RunArgs, explain: bool) -> Result<ExitCode> {
     if let Some(roster) = &config.roster {
         writeln!(
             out,
-            "Roster: {} enrolled students, read from",
+            "Roster: {} enrolled students, its columns read as",
             roster.students().len()
         )?;
+        // the sheets without the inputs' "Columns" heading, which would stand under this line
+        let sheets = check_report::layouts(&config.roster_sheets, style);
         write!(
             out,
             "{}",
-            check_report::layouts(&config.roster_sheets, style)
+            sheets.split_once('\n').map_or("", |(_, rest)| rest)
         )?;
         writeln!(out)?;
     }

@@ -409,6 +409,7 @@ fn discover_inputs(config: &Config) -> (Batch, Option<PathBuf>) {
             fatal: false,
         });
     }
+    let files = key::set_aside_named(config, files, &mut problems);
     (
         Batch {
             files,

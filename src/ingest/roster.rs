@@ -51,22 +51,26 @@ pub fn read(path: &Path, columns: &ColumnOverrides) -> RosterRead {
                                 Some(sheet) => format!("{} [{sheet}] row {}", s.source, s.row),
                                 None => format!("{} row {}", s.source, s.row),
                             };
+                            let note = |message: String| Problem {
+                                file: path.display().to_string(),
+                                sheet: s.sheet.clone(),
+                                message: format!("row {}: {message}", s.row),
+                                fatal: false,
+                            };
                             let Some(id) = s.student_id.as_deref().map(str::trim) else {
-                                out.problems.push(problem(
-                                    path,
-                                    &place,
-                                    "a roster row without a student id is passed over",
+                                out.problems.push(note(
+                                    "a roster row without a student id is passed over".into(),
                                 ));
                                 continue;
                             };
-                            if let Some(first) = seen.insert(id.to_string(), place.clone()) {
-                                out.problems.push(problem(
-                                    path,
-                                    &place,
-                                    &format!("a student id listed again (first at {first}); the first listing is used"),
-                                ));
+                            // the first listing stays the one named, however often an id recurs
+                            if let Some(first) = seen.get(id) {
+                                out.problems.push(note(format!(
+                                    "a student id listed again (first at {first}); the first listing is used"
+                                )));
                                 continue;
                             }
+                            seen.insert(id.to_string(), place.clone());
                             out.students.push(Enrolled {
                                 id: id.to_string(),
                                 name: s.student_name.clone(),
@@ -84,13 +88,4 @@ pub fn read(path: &Path, columns: &ColumnOverrides) -> RosterRead {
         }
     }
     out
-}
-
-fn problem(path: &Path, place: &str, message: &str) -> Problem {
-    Problem {
-        file: path.display().to_string(),
-        sheet: None,
-        message: format!("{place}: {message}"),
-        fatal: false,
-    }
 }

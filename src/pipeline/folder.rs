@@ -112,7 +112,8 @@ pub fn write_templates(
     let key = template_key(config)?;
     let planned: Vec<PathBuf> = vec![config.out_dir.join("entry-sheets.xlsx")];
     refuse_overwriting_inputs(&planned, &inputs)?;
-    let mut notes = Vec::new();
+    // the roster's notes (a row without an id, an id listed twice): rows the sheets leave out
+    let mut notes = config.roster_problems.clone();
     let _lock = open_output_folder(config, &inputs, &mut notes)?;
     let stage = Stage::new();
     let o = crate::export::template::TemplateOptions {

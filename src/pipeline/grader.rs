@@ -24,9 +24,9 @@ pub(super) struct Grader<'a> {
     pub(super) likely: std::collections::HashMap<String, String>,
     /// Which corrections found their row.
     pub(super) corrections_used: Vec<bool>,
-    /// Ids a correction gave a row, and how many rows that left with another row's id.
+    /// Ids a correction gave a row, and those that left a row with another row's id.
     pub(super) corrected_ids: std::collections::HashSet<String>,
-    pub(super) clashes: usize,
+    pub(super) clashes: std::collections::BTreeSet<String>,
 }
 
 impl<'a> Grader<'a> {
@@ -44,7 +44,7 @@ impl<'a> Grader<'a> {
             likely: std::collections::HashMap::new(),
             corrections_used: vec![false; config.corrections.len()],
             corrected_ids: std::collections::HashSet::new(),
-            clashes: 0,
+            clashes: std::collections::BTreeSet::new(),
         }
     }
 
@@ -53,12 +53,7 @@ impl<'a> Grader<'a> {
         let mut unmatched = self.overrides.unmatched();
         if self.scoring {
             unmatched.extend(self.config.corrections.unmatched(&self.corrections_used));
-            if self.clashes > 0 {
-                unmatched.push(format!(
-                    "{}: {} row(s) now share an id with another row of the section because a correction set it; a corrected id must be the student's own (correct the other row too, or check the id)",
-                    self.config.corrections.source, self.clashes
-                ));
-            }
+            unmatched.extend(self.config.corrections.clashing(&self.clashes));
         }
         if unmatched.is_empty() {
             Ok(())
@@ -92,7 +87,7 @@ impl<'a> Grader<'a> {
         let id = a.submission.student_id.as_deref().map(str::trim);
         if let (true, Some(id)) = (a.has(crate::model::Flag::DuplicateStudent), id) {
             if self.corrected_ids.contains(id) {
-                self.clashes += 1;
+                self.clashes.insert(id.to_string());
             }
         }
         if let Some(roster) = &self.config.roster {

@@ -1,6 +1,7 @@
 //! The answer key a run uses: the rubric's `[key]` table, a `--key FILE`, and any key file
 //! found among the inputs (by its name, or a small file holding only a code and a compound
-//! column), which is then used as a key and not graded as a class.
+//! column), which is then used as a key and not graded as a class; likewise the roster,
+//! corrections and overrides files the command line names, when they lie among the inputs.
 
 use std::path::PathBuf;
 
@@ -82,4 +83,44 @@ pub fn take_keys(config: &Config, batch: &mut Batch) -> Option<Key> {
         }
     }
     key.filter(|k| !k.is_empty())
+}
+
+/// The inputs without the roster, corrections and overrides files the command line names
+/// (kept in the class folder, they were read as class sheets that hold no table: an error and
+/// exit code 1), each with a note.
+pub(super) fn set_aside_named(
+    config: &Config,
+    files: Vec<PathBuf>,
+    problems: &mut Vec<Problem>,
+) -> Vec<PathBuf> {
+    let named: Vec<(PathBuf, &str)> = [
+        (&config.roster_file, "the roster (--roster)"),
+        (&config.corrections_file, "the corrections (--corrections)"),
+        (&config.overrides_file, "the overrides (--overrides)"),
+    ]
+    .into_iter()
+    .filter_map(|(p, what)| Some((p.as_ref()?.canonicalize().ok()?, what)))
+    .collect();
+    if named.is_empty() {
+        return files;
+    }
+    files
+        .into_iter()
+        .filter(|f| {
+            let Some((_, what)) = f
+                .canonicalize()
+                .ok()
+                .and_then(|c| named.iter().find(|(n, _)| *n == c))
+            else {
+                return true;
+            };
+            problems.push(Problem {
+                file: f.display().to_string(),
+                sheet: None,
+                message: format!("read as {what}, not graded"),
+                fatal: false,
+            });
+            false
+        })
+        .collect()
 }

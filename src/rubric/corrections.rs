@@ -67,9 +67,24 @@ pub const CORRECTABLE: [Field; 16] = [
 
 /// Parses a value as `field` holds it; the message says what was expected.
 pub fn parse_value(field: Field, text: &str) -> Result<Value, String> {
+    parse_value_in(field, text, false)
+}
+
+/// `parse_value`, for a file whose commas are decimal commas (`comma_file`: a semicolon file,
+/// as a spreadsheet in a decimal-comma locale saves CSV, where "2,905" is 2.905).
+fn parse_value_in(field: Field, text: &str, comma_file: bool) -> Result<Value, String> {
     let t = text.trim();
-    let decimal = comma_reading(t);
+    let decimal = if comma_file && t.contains(',') {
+        Decimal::Comma
+    } else {
+        comma_reading(t)
+    };
     let number = |want: &str, convert: &dyn Fn(Unit, f64) -> Option<f64>| {
+        if let Some((point, plain)) = ambiguous_comma(t).filter(|_| !comma_file) {
+            return Err(format!(
+                "\"{t}\" could be {point} or {plain}: write it with a point ({point}) or without the comma ({plain})"
+            ));
+        }
         let q = parse_quantity(t, decimal).ok_or_else(|| format!("\"{t}\" is not {want}"))?;
         match q.unit {
             None => Ok(Value::Number(q.value)),
@@ -127,6 +142,41 @@ fn comma_reading(t: &str) -> Decimal {
     }
 }
 
+/// Refuses a corrections file without a column a correction needs, naming the columns.
+fn needed_columns(file: &str, col: &dyn Fn(&str) -> Option<usize>) -> Result<(), ConfigError> {
+    let need = ["student_id", "field", "value", "reason", "grader"];
+    let missing: Vec<&str> = need.iter().copied().filter(|n| col(n).is_none()).collect();
+    if missing.is_empty() {
+        return Ok(());
+    }
+    Err(ConfigError::Invalid(format!(
+        "{file}: no column {} (a corrections file has student_id, section, field, value, reason, grader)",
+        missing.join(", ")
+    )))
+}
+
+/// A number whose one comma could be a decimal comma or a thousands separator ("2,905":
+/// 2.905 or 2905), with its two readings; `None` for any other text. A correction is one value
+/// typed on purpose, with no column beside it to tell which was meant, so it is asked for
+/// again rather than read as thousands (a mass a thousand times too large).
+fn ambiguous_comma(t: &str) -> Option<(String, String)> {
+    let number: String = t
+        .chars()
+        .take_while(|c| c.is_ascii_digit() || matches!(c, ',' | '-' | '+'))
+        .collect();
+    if t[number.len()..].starts_with('.') || number.matches(',').count() != 1 {
+        return None;
+    }
+    let (whole, frac) = number.split_once(',')?;
+    let digits = whole.trim_start_matches(['-', '+']);
+    let ambiguous = frac.len() == 3
+        && frac.bytes().all(|b| b.is_ascii_digit())
+        && (1..=3).contains(&digits.len())
+        && digits.bytes().all(|b| b.is_ascii_digit())
+        && digits != "0";
+    ambiguous.then(|| (format!("{whole}.{frac}"), format!("{whole}{frac}")))
+}
+
 /// The corrections of a run, by the student id they name.
 #[derive(Clone, Debug, Default)]
 pub struct Corrections {
@@ -148,9 +198,10 @@ impl Corrections {
             .map_err(|e| ConfigError::Invalid(format!("cannot read {file}: {e}")))?;
         let (text, _) = delimited::decode(&bytes);
         // a spreadsheet in a decimal-comma locale saves CSV with semicolons
+        let delimiter = delimited::sniff_delimiter(&text, false);
         let mut reader = csv::ReaderBuilder::new()
             .flexible(true)
-            .delimiter(delimited::sniff_delimiter(&text, false))
+            .delimiter(delimiter)
             .from_reader(text.as_bytes());
         let headers = reader
             .headers()
@@ -161,14 +212,7 @@ impl Corrections {
                 .iter()
                 .position(|h| h.trim().to_lowercase().replace(' ', "_") == name)
         };
-        let need = ["student_id", "field", "value", "reason", "grader"];
-        let missing: Vec<&str> = need.iter().copied().filter(|n| col(n).is_none()).collect();
-        if !missing.is_empty() {
-            return Err(ConfigError::Invalid(format!(
-                "{file}: no column {} (a corrections file has student_id, section, field, value, reason, grader)",
-                missing.join(", ")
-            )));
-        }
+        needed_columns(&file, &col)?;
         let mut out = Corrections {
             source: file.clone(),
             ..Corrections::default()
@@ -194,7 +238,7 @@ impl Corrections {
                 reason: get("reason"),
                 grader: get("grader"),
             };
-            match typed.check(line) {
+            match typed.check_in(line, delimiter == b';') {
                 Ok(c) => out.push(c),
                 Err(why) => faults.push(format!("{file}:{line}: {}", why.message)),
             }
@@ -260,6 +304,22 @@ impl Corrections {
         &self.list
     }
 
+    /// The lines whose corrected id left a row sharing its id with another row of its section
+    /// (`ids`, trimmed), for the message that stops the run; the ids themselves are not shown.
+    pub fn clashing(&self, ids: &std::collections::BTreeSet<String>) -> Vec<String> {
+        self.list
+            .iter()
+            .filter(|c| c.field == Field::StudentId)
+            .filter(|c| matches!(&c.value, Value::Text(t) if ids.contains(t.trim())))
+            .map(|c| {
+                format!(
+                    "{}:{}: the id this line sets makes a row share an id with another row of its section; a corrected id must be the student's own (correct the other row too, or check the id)",
+                    self.source, c.line
+                )
+            })
+            .collect()
+    }
+
     /// The corrections that found no row, for the message that stops the run.
     pub fn unmatched(&self, used: &[bool]) -> Vec<String> {
         self.list
@@ -302,6 +362,11 @@ fn fault(field: &'static str, message: impl Into<String>) -> Invalid {
 impl Typed<'_> {
     /// The correction on `line`, or the part at fault and what to fix.
     pub fn check(&self, line: usize) -> Result<Correction, Invalid> {
+        self.check_in(line, false)
+    }
+
+    /// `check`, for a line of a file whose commas are decimal commas (`parse_value_in`).
+    fn check_in(&self, line: usize, comma_file: bool) -> Result<Correction, Invalid> {
         let student_id = self
             .student_id
             .ok_or_else(|| fault("student_id", "no student id given"))?;
@@ -319,7 +384,7 @@ impl Typed<'_> {
                 )
             })?;
         let written = self.value.ok_or_else(|| fault("value", "no value given"))?;
-        let value = parse_value(field, written).map_err(|m| fault("value", m))?;
+        let value = parse_value_in(field, written, comma_file).map_err(|m| fault("value", m))?;
         Ok(Correction {
             student_id: student_id.to_string(),
             section: self.section.map(str::to_string),
@@ -424,9 +489,31 @@ mod tests {
             Ok(Value::Range(120.5, 121.6))
         );
         assert_eq!(parse_value(Field::CrudeMass, "1,5"), Ok(Value::Number(1.5)));
+        // one comma before three digits is a decimal comma or thousands: asked for again
+        // (seen in a coordinator's trial: "2,905" g became 2905 g)
+        let asked = parse_value(Field::CrudeMass, "2,905").unwrap_err();
+        assert!(asked.contains("2.905") && asked.contains("2905"), "{asked}");
+        assert!(parse_value(Field::CrudeMass, "1,800 mg").is_err());
+        // in a semicolon file (a decimal-comma locale's CSV) the comma is a decimal comma
         assert_eq!(
-            parse_value(Field::CrudeMass, "1,800 mg"),
-            Ok(Value::Number(1.8))
+            parse_value_in(Field::CrudeMass, "2,905", true),
+            Ok(Value::Number(2.905))
+        );
+        assert_eq!(
+            parse_value_in(Field::CrudeMass, "2.905", true),
+            Ok(Value::Number(2.905))
+        );
+        assert_eq!(
+            parse_value(Field::CrudeMass, "1,8005"),
+            Ok(Value::Number(1.8005))
+        );
+        assert_eq!(
+            parse_value(Field::CrudeMass, "0,745 g"),
+            Ok(Value::Number(0.745))
+        );
+        assert_eq!(
+            parse_value(Field::CrudeMass, "1,800,000 mg"),
+            Ok(Value::Number(1800.0))
         );
         assert_eq!(
             parse_value(Field::MpRange, "120,5-121,6"),

@@ -29,6 +29,7 @@ mod reference_data;
 mod registry;
 mod reliability;
 mod roster;
+mod roster_slips;
 mod same_outputs;
 mod sample_data;
 mod serve;
