@@ -14,6 +14,7 @@ use super::{celsius, grams, Assessed, Flag};
 use crate::compare::{above, at_least, below, differ_by_more_than};
 use crate::fields::Field;
 use crate::ingest::Submission;
+use crate::numtext::Fast;
 use crate::rubric::Tolerances;
 
 fn missing_fields(sub: &Submission) -> Vec<String> {
@@ -152,11 +153,14 @@ fn wet_or_impure(a: &Assessed, t: &Tolerances, out: &mut Vec<(Flag, String)>) {
             Some(c) => at_least(rec, c - t.near_ceiling_pct),
             None => at_least(rec, t.wet_recovery_pct),
         };
-    let mass = match ceiling {
-        Some(c) => {
-            format!("recovery {rec:.1} % against a ceiling of {c:.1} % for the solvent used")
-        }
-        None => format!("recovery {rec:.1} %"),
+    // written only for a row that is flagged (most are not)
+    let mass = || match ceiling {
+        Some(c) => format!(
+            "recovery {:.1} % against a ceiling of {:.1} % for the solvent used",
+            Fast(rec),
+            Fast(c)
+        ),
+        None => format!("recovery {:.1} %", Fast(rec)),
     };
     if let Some(c) = over_ceiling {
         let mut note = format!("recovery {rec:.1} % exceeds the most that could crystallise ({c:.1} %): solvent or insoluble matter in the product");
@@ -172,7 +176,8 @@ fn wet_or_impure(a: &Assessed, t: &Tolerances, out: &mut Vec<(Flag, String)>) {
         out.push((
             Flag::LikelyWet,
             format!(
-                "{mass}{} and {}: solvent likely left in the crystals (dry to constant mass)",
+                "{}{} and {}: solvent likely left in the crystals (dry to constant mass)",
+                mass(),
                 if ceiling.is_none() && !above(rec, 100.0) {
                     format!(" (at or above {:.0} %)", t.wet_recovery_pct)
                 } else {
@@ -184,7 +189,7 @@ fn wet_or_impure(a: &Assessed, t: &Tolerances, out: &mut Vec<(Flag, String)>) {
     } else if !off.is_empty() {
         out.push((
             Flag::LikelyImpure,
-            format!("{} at a normal mass ({mass})", off.join(" and ")),
+            format!("{} at a normal mass ({})", off.join(" and "), mass()),
         ));
     }
 }

@@ -9,6 +9,7 @@
 //! with a page break and a layout of its own for every student, which the section sheet (one row
 //! a student, its Feedback column holding the same sentences) cannot also be.
 
+use crate::numtext::Fast;
 use std::collections::BTreeMap;
 use std::fmt::Write as _;
 use std::io::Write as _;
@@ -115,15 +116,15 @@ fn text_row(out: &mut String, label: &str, reported: &str, used: &str) {
 
 fn range_text(o: Option<f64>, c: Option<f64>) -> String {
     match (o, c) {
-        (Some(o), Some(c)) if o == c => format!("{c:.1}"),
-        (Some(o), Some(c)) => format!("{o:.1}-{c:.1}"),
-        (o, c) => o.or(c).map_or(String::new(), |v| format!("{v:.1}")),
+        (Some(o), Some(c)) if o == c => format!("{:.1}", Fast(c)),
+        (Some(o), Some(c)) => format!("{:.1}-{:.1}", Fast(o), Fast(c)),
+        (o, c) => o.or(c).map_or(String::new(), |v| format!("{:.1}", Fast(v))),
     }
 }
 
 fn num(v: Option<f64>, decimals: usize) -> String {
     v.filter(|v| v.is_finite())
-        .map_or(String::new(), |v| format!("{v:.decimals$}"))
+        .map_or(String::new(), |v| format!("{:.decimals$}", Fast(v)))
 }
 
 /// The rest of the experiment, where the sheet records it: weighings by difference, the crude
@@ -201,7 +202,7 @@ fn unknown_rows(out: &mut String, g: &Graded) {
 /// Appends a value to `decimals` places; nothing where there is none.
 fn push_cell(out: &mut String, v: Option<f64>, decimals: u8) {
     if let Some(v) = v.filter(|v| v.is_finite()) {
-        let _ = write!(out, "{v:.*}", usize::from(decimals));
+        let _ = write!(out, "{:.*}", usize::from(decimals), Fast(v));
     }
 }
 

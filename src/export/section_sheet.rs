@@ -330,8 +330,27 @@ fn shown_digits(v: f64) -> f64 {
     if !v.is_finite() {
         return v;
     }
+    // the shortest text that reads back as `v` already has at most ten significant digits for
+    // nearly every typed number; then rounding to ten changes nothing (`v` lies far within half
+    // a unit of the tenth digit of it), and the exact ten-digit expansion can be skipped
+    let mut shortest = ryu::Buffer::new();
+    if significant_digits(shortest.format_finite(v)) <= 10 {
+        return v;
+    }
     let text = format!("{:.*e}", 9, v);
     text.parse().unwrap_or(v)
+}
+
+/// The significant digits of a number as ryu writes it ("0.00729" 3, "1.5e20" 2, "1200.0" 2).
+fn significant_digits(text: &str) -> usize {
+    let mantissa = text.split(['e', 'E']).next().unwrap_or(text);
+    let digits: Vec<u8> = mantissa.bytes().filter(u8::is_ascii_digit).collect();
+    let first = digits.iter().position(|d| *d != b'0');
+    let last = digits.iter().rposition(|d| *d != b'0');
+    match (first, last) {
+        (Some(a), Some(b)) => b - a + 1,
+        _ => 0,
+    }
 }
 
 /// Writes a cell as the student's sheet held it (long text wrapped); the characters it shows.
@@ -528,6 +547,31 @@ mod tests {
         assert_eq!(shown_digits(-0.1 - 0.2), -0.3);
         assert_eq!(shown_digits(0.0), 0.0);
         assert_eq!(shown_digits(123_456.789_012_34), 123_456.789_0);
+    }
+
+    proptest::proptest! {
+        /// The shortcut for numbers of at most ten significant digits gives what the exact
+        /// ten-digit rounding gives (Rust's own `{:.9e}` formatting is the reference).
+        #[test]
+        fn the_shortcut_agrees_with_the_exact_rounding(
+            bits in proptest::num::f64::NORMAL | proptest::num::f64::SUBNORMAL,
+            typed in -1_000_000_000i64..1_000_000_000,
+            places in 0i32..8,
+        ) {
+            let exact = |v: f64| format!("{:.*e}", 9, v).parse::<f64>().unwrap_or(v);
+            proptest::prop_assert_eq!(shown_digits(bits).to_bits(), exact(bits).to_bits());
+            let v = typed as f64 / 10f64.powi(places);
+            proptest::prop_assert_eq!(shown_digits(v).to_bits(), exact(v).to_bits());
+        }
+    }
+
+    #[test]
+    fn significant_digits_are_counted_without_leading_or_trailing_zeros() {
+        assert_eq!(significant_digits("0.00729"), 3);
+        assert_eq!(significant_digits("1.5e20"), 2);
+        assert_eq!(significant_digits("1200.0"), 2);
+        assert_eq!(significant_digits("0.0"), 0);
+        assert_eq!(significant_digits("-123456789.01"), 11);
     }
 
     #[test]
