@@ -47,10 +47,15 @@ fn parquet_columns() -> Vec<&'static Column> {
     cols
 }
 
-/// One column's values for the row group being gathered.
+/// One column's values for the row group being gathered. The buffers keep their room from
+/// one row group to the next, and a text column keeps its values in one string (each value a
+/// span of it), so a row costs no allocation once the first group is gathered.
 enum Buffer {
     Integer(Vec<u32>),
-    Text(Vec<Option<String>>),
+    Text {
+        text: String,
+        spans: Vec<Option<(usize, usize)>>,
+    },
     Number(Vec<Option<f64>>),
 }
 
@@ -58,7 +63,10 @@ impl Buffer {
     fn new(c: &Column) -> Buffer {
         match stored(c) {
             Stored::Integer => Buffer::Integer(Vec::with_capacity(ROW_GROUP)),
-            Stored::Text => Buffer::Text(Vec::with_capacity(ROW_GROUP)),
+            Stored::Text => Buffer::Text {
+                text: String::new(),
+                spans: Vec::with_capacity(ROW_GROUP),
+            },
             Stored::Number => Buffer::Number(Vec::with_capacity(ROW_GROUP)),
         }
     }
@@ -67,30 +75,54 @@ impl Buffer {
         match (self, v) {
             (Buffer::Integer(b), Value::Integer(n)) => b.push(u32::try_from(n).unwrap_or(u32::MAX)),
             (Buffer::Number(b), Value::Number(x)) => b.push(x.filter(|x| x.is_finite())),
-            (Buffer::Text(b), Value::Text(t)) => b.push(t.map(str::to_string)),
-            (Buffer::Text(b), Value::Items(items)) => {
-                let mut joined = String::new();
-                items.push_joined(sep, &mut joined);
-                b.push(Some(joined));
+            (Buffer::Text { text, spans }, Value::Text(t)) => {
+                spans.push(t.map(|t| {
+                    let start = text.len();
+                    text.push_str(t);
+                    (start, text.len())
+                }));
+            }
+            (Buffer::Text { text, spans }, Value::Items(items)) => {
+                let start = text.len();
+                items.push_joined(sep, text);
+                spans.push(Some((start, text.len())));
             }
             (Buffer::Integer(b), _) => b.push(0),
             (Buffer::Number(b), _) => b.push(None),
-            (Buffer::Text(b), _) => b.push(None),
+            (Buffer::Text { spans, .. }, _) => spans.push(None),
         }
     }
 
+    /// The gathered values as a column; the buffer is emptied, its room kept.
     fn take(&mut self, name: &str) -> polars::prelude::Column {
         match self {
-            Buffer::Integer(b) => polars::prelude::Column::new(name.into(), std::mem::take(b)),
-            Buffer::Text(b) => polars::prelude::Column::new(name.into(), std::mem::take(b)),
-            Buffer::Number(b) => polars::prelude::Column::new(name.into(), std::mem::take(b)),
+            Buffer::Integer(b) => {
+                let c = polars::prelude::Column::new(name.into(), b.as_slice());
+                b.clear();
+                c
+            }
+            Buffer::Text { text, spans } => {
+                let values: Vec<Option<&str>> = spans
+                    .iter()
+                    .map(|s| s.map(|(a, b)| text.get(a..b).unwrap_or_default()))
+                    .collect();
+                let c = polars::prelude::Column::new(name.into(), values);
+                text.clear();
+                spans.clear();
+                c
+            }
+            Buffer::Number(b) => {
+                let c = polars::prelude::Column::new(name.into(), b.as_slice());
+                b.clear();
+                c
+            }
         }
     }
 
     fn len(&self) -> usize {
         match self {
             Buffer::Integer(b) => b.len(),
-            Buffer::Text(b) => b.len(),
+            Buffer::Text { spans, .. } => spans.len(),
             Buffer::Number(b) => b.len(),
         }
     }

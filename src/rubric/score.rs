@@ -253,7 +253,9 @@ impl<'a> Scoring<'a> {
     /// The sentences: each criterion with the points it finally earns, each flag, each step
     /// that moved the total, then the total; the points named add up to it.
     fn feedback(&self, steps: &[String], total: f64, max: f64, letter: Option<&str>) -> String {
-        let mut f = Feedback::default();
+        // a row's feedback is a few hundred characters: one allocation instead of a doubling
+        // for every sentence
+        let mut f = Feedback(String::with_capacity(512));
         for (line, cs) in self.lines.iter().zip(&self.criteria) {
             let out = f.sentence();
             out.push_str(&cs.label);
