@@ -26,8 +26,8 @@ cargo build --release --quiet --bin benchgrade \
 bin=target/release
 "$bin/examples/make_class" "$work/class.xlsx" "$rows" "$sections"
 echo "class: $rows rows, $sections sections, $(du -h "$work/class.xlsx" | cut -f1)"
-python3 bench/make_term.py "$work/term" 120 40
-python3 bench/make_term.py "$work/section" 1 40
+python3 bench/make_term.py "$work/term-files" 120 40
+python3 bench/make_term.py "$work/section-files" 1 40
 base=${BASELINE:-}
 peer=1
 python3 -c "import pandas, python_calamine, xlsxwriter, scipy" 2>/dev/null || {
@@ -46,12 +46,12 @@ for _ in $(seq "$repeats"); do
   measure write "$bin/examples/bare_write" "$work/w.xlsx" "$rows" "$sections"
   measure read "$bin/examples/bare_read" "$work/class.xlsx"
   [ "$peer" = 1 ] && measure pandas python3 bench/pandas_peer.py "$work/class.xlsx" "$work/out-pandas"
-  measure term "$bin/benchgrade" grade "$work/term" --out "$work/out-term" --quiet
-  measure section bash -c "for i in \$(seq 20); do $bin/benchgrade grade $work/section --out $work/out-section --quiet; done"
+  measure term "$bin/benchgrade" grade "$work/term-files" --out "$work/out-term" --quiet
+  measure section bash -c "for i in \$(seq 20); do $bin/benchgrade grade $work/section-files --out $work/out-section --quiet; done"
   if [ -n "$base" ]; then
     measure base "$base" grade "$work/class.xlsx" --out "$work/out-base" --quiet
-    measure baseterm "$base" grade "$work/term" --out "$work/out-baseterm" --quiet
-    measure basesection bash -c "for i in \$(seq 20); do $base grade $work/section --out $work/out-basesection --quiet; done"
+    measure baseterm "$base" grade "$work/term-files" --out "$work/out-baseterm" --quiet
+    measure basesection bash -c "for i in \$(seq 20); do $base grade $work/section-files --out $work/out-basesection --quiet; done"
   fi
 done
 median() { sort -n | awk '{a[NR]=$1} END {print a[int((NR+1)/2)]}'; }
