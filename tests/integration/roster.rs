@@ -463,13 +463,20 @@ fn the_entry_cells_refuse_what_cannot_be_right() {
         "{crude}"
     );
     assert!(crude.contains("sqref=\"D7:D30\""), "{crude}");
-    // recovered mass in E: a number, above 0, at most the crude mass beside it
+    // recovered mass in E: a number (a letter or a mass of zero or less refused) between
+    // 0.0001 and 100 g; one above the crude mass beside it is kept, and shaded (a real wet
+    // weighing is typed as weighed: the grader flags it)
     let recovered = rule("Recovered mass");
     assert!(
-        recovered.contains("ISNUMBER(E7)") && recovered.contains("E7&lt;=D7"),
+        recovered.contains("type=\"decimal\"")
+            && recovered.contains("<formula1>0.0001</formula1><formula2>100</formula2>")
+            && !recovered.contains("errorStyle"),
         "{recovered}"
     );
-    assert!(recovered.contains("errorTitle=\"Recovered more than crude\""));
+    assert!(
+        xml.contains("<formula>AND(ISNUMBER(E7),ISNUMBER(D7),E7&gt;D7)</formula>"),
+        "{xml}"
+    );
     // onset (G) and clear point (H): within the apparatus's span, onset at most the clear point
     let onset = rule("Melting onset");
     assert!(
