@@ -49,13 +49,20 @@ pub struct TemplateOptions<'a> {
 type Section<'a> = (String, Vec<&'a Enrolled>);
 
 /// The sections of the roster in natural order, each with its students in roster order.
+/// Sections are told apart as `grade` tells them (`model::section_key`: "CON" and "con",
+/// "Section 3" and "3" are one), each named as the roster first writes it.
 fn sections(roster: &[Enrolled]) -> Vec<Section<'_>> {
     let mut out: Vec<Section<'_>> = Vec::new();
+    let mut keys: Vec<String> = Vec::new();
     for e in roster {
         let s = e.section.clone().unwrap_or_else(|| "all".into());
-        match out.iter_mut().find(|(name, _)| *name == s) {
-            Some((_, v)) => v.push(e),
-            None => out.push((s, vec![e])),
+        let key = crate::model::section_key(&s);
+        match keys.iter().position(|k| *k == key) {
+            Some(i) => out[i].1.push(e),
+            None => {
+                keys.push(key);
+                out.push((s, vec![e]));
+            }
         }
     }
     out.sort_by(|a, b| crate::stats::cohort::natural_cmp(&a.0, &b.0));

@@ -342,3 +342,33 @@ fn the_weighing_and_trial_cells_carry_their_own_rules() {
         "{shared}"
     );
 }
+
+/// Roster sections written "CON", "con" and "Con" are one section to `grade`
+/// (`model::section_key`), and so one entry sheet, named as the roster first writes it.
+#[test]
+fn sections_grade_treats_as_one_are_one_entry_sheet() {
+    let f = Fixture::new();
+    f.write(
+        "roster.csv",
+        "Student ID,Name,Section\n6300001,Aldous Fenwick,CON\n6300002,Briony Galt,con\n6300003,Cato Hurst,Con\n6300004,Dara Ives,T1\n",
+    );
+    let run = f.run(&["template", "--roster", "roster.csv", "--out", "entry"]);
+    assert_eq!(run.code, 0, "{}", run.stderr);
+    let mut files: Vec<String> = std::fs::read_dir(f.path("entry"))
+        .unwrap()
+        .map(|e| e.unwrap().file_name().to_string_lossy().into_owned())
+        .filter(|n| n.ends_with(".xlsx"))
+        .collect();
+    files.sort();
+    assert_eq!(files, ["CON-entry.xlsx", "T1-entry.xlsx"]);
+    use calamine::{open_workbook, Reader, Xlsx};
+    let mut wb: Xlsx<_> = open_workbook(f.path("entry/CON-entry.xlsx")).unwrap();
+    let range = wb.worksheet_range("CON").unwrap();
+    let ids: Vec<String> = range
+        .rows()
+        .skip(6)
+        .map(|r| r[0].to_string())
+        .filter(|s| !s.is_empty())
+        .collect();
+    assert_eq!(ids, ["6300001", "6300002", "6300003"]);
+}
