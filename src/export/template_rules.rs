@@ -162,8 +162,8 @@ pub fn validations(
     Ok(())
 }
 
-/// Shades what may be real but the grader will flag: a recovered mass above the crude mass, a
-/// reported recovery above 100 %.
+/// Shades what may be real but the grader will flag: a recovered mass above the crude mass
+/// (typed, or weighed by difference), a reported recovery above 100 %.
 pub fn soft_checks(
     ws: &mut Worksheet,
     entries: &[Entry],
@@ -178,6 +178,15 @@ pub fn soft_checks(
             at(Entry::RecoveredMass)
                 .zip(at(Entry::CrudeMass))
                 .map(|(me, crude)| format!("=AND(ISNUMBER({me}),ISNUMBER({crude}),{me}>{crude})")),
+        ),
+        (
+            Entry::RecoveredGross,
+            at(Entry::CrudeTare)
+                .zip(at(Entry::CrudeGross))
+                .zip(at(Entry::RecoveredTare).zip(at(Entry::RecoveredGross)))
+                .map(|((ct, cg), (rt, rg))| {
+                    format!("=AND(COUNT({ct},{cg},{rt},{rg})=4,{rg}-{rt}>{cg}-{ct})")
+                }),
         ),
         (
             Entry::Reported,

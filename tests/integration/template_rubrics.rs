@@ -331,6 +331,11 @@ fn the_weighing_and_trial_cells_carry_their_own_rules() {
         second.contains("M7&gt;=20") && second.contains("M7&lt;=N7"),
         "{second}"
     );
+    // a recovered product heavier than the crude, by difference, is kept and shaded
+    assert!(
+        xml.contains("<formula>AND(COUNT(D7,E7,F7,G7)=4,G7-F7&gt;E7-D7)</formula>"),
+        "{xml}"
+    );
     // the units row
     let mut shared = String::new();
     zip.by_name("xl/sharedStrings.xml")
