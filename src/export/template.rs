@@ -57,12 +57,11 @@ fn sections(roster: &[Enrolled]) -> Vec<Section<'_>> {
     for e in roster {
         let s = e.section.clone().unwrap_or_else(|| "all".into());
         let key = crate::model::section_key(&s);
-        match keys.iter().position(|k| *k == key) {
-            Some(i) => out[i].1.push(e),
-            None => {
-                keys.push(key);
-                out.push((s, vec![e]));
-            }
+        if let Some(i) = keys.iter().position(|k| *k == key) {
+            out[i].1.push(e);
+        } else {
+            keys.push(key);
+            out.push((s, vec![e]));
         }
     }
     out.sort_by(|a, b| crate::stats::cohort::natural_cmp(&a.0, &b.0));

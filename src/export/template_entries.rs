@@ -251,7 +251,7 @@ fn asks(rubric: &Rubric) -> Asks {
     let measures = rubric
         .criteria
         .iter()
-        .filter_map(|c| c.measure())
+        .filter_map(crate::rubric::Criterion::measure)
         .filter_map(measure_asks);
     let flags = rubric
         .flag_rules

@@ -195,6 +195,24 @@ fn spawn_self(build: impl Fn(&mut Command)) -> std::io::Result<std::process::Chi
         })
 }
 
+/// `benchgrade template` started with `args`, its standard error piped; a 503 when no program
+/// can be started.
+fn start_template(args: &[String]) -> Result<std::process::Child, ApiError> {
+    spawn_self(|c| {
+        c.args(args)
+            .stdin(Stdio::null())
+            .stdout(Stdio::null())
+            .stderr(Stdio::piped());
+    })
+    .map_err(|e| {
+        ApiError::new(
+            StatusCode::SERVICE_UNAVAILABLE,
+            "roster",
+            format!("cannot run benchgrade template ({e}): the benchgrade program was removed or replaced since the server started; restart `benchgrade serve`"),
+        )
+    })
+}
+
 /// Runs `benchgrade template` in the workspace; its message when it fails. Its standard
 /// error is read for the message only, never passed on to the server's.
 fn make_templates(ws: &Workspace) -> Result<(), ApiError> {
@@ -214,20 +232,7 @@ fn make_templates(ws: &Workspace) -> Result<(), ApiError> {
             format!("{TEMPLATES} in the workspace is a link or a file, not a folder; the page writes only inside the workspace (remove it there yourself)"),
         ));
     }
-    let args = template_args(ws, &roster);
-    let mut child = spawn_self(|c| {
-        c.args(&args)
-            .stdin(Stdio::null())
-            .stdout(Stdio::null())
-            .stderr(Stdio::piped());
-    })
-    .map_err(|e| {
-        ApiError::new(
-            StatusCode::SERVICE_UNAVAILABLE,
-            "roster",
-            format!("cannot run benchgrade template ({e}): the benchgrade program was removed or replaced since the server started; restart `benchgrade serve`"),
-        )
-    })?;
+    let mut child = start_template(&template_args(ws, &roster))?;
     let stderr = child.stderr.take();
     let said = std::thread::spawn(move || {
         let mut text = String::new();
