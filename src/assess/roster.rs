@@ -28,6 +28,10 @@ pub struct Roster {
     slips: Vec<(u64, usize)>,
     /// Students whose id is too long to key (`KEYED_CHARS`), compared with every id.
     unkeyed: Vec<usize>,
+    /// A roster section written in full ("CHEM 2299 Lab 101") by the section key of its last
+    /// number-word ("101"), as a sheet names it: only where that number is one section's alone
+    /// and no roster section is that number itself.
+    short: HashMap<String, String>,
 }
 
 /// Ids longer than this many characters are not keyed (an id pasted with a paragraph).
@@ -59,6 +63,7 @@ impl Roster {
         }
         slips.sort_unstable();
         slips.dedup();
+        let short = short_sections(&students);
         Roster {
             students,
             by_id,
@@ -66,7 +71,30 @@ impl Roster {
             source: source.to_string(),
             slips,
             unkeyed,
+            short,
         }
+    }
+
+    /// Whether a row submitted in section `submitted` is in the enrolled section `enrolled`:
+    /// the same section key (`model::section_key`), or a sheet's short name ("101", "Section
+    /// 101") for a roster section written in full ("CHEM 2299 Lab 101") whose last number-word
+    /// it is, where no other roster section ends in that number or is that number.
+    pub fn same_section(&self, enrolled: &str, submitted: &str) -> bool {
+        let (e, s) = (
+            crate::model::section_key(enrolled),
+            crate::model::section_key(submitted),
+        );
+        e == s || self.short.get(&s).is_some_and(|full| *full == e)
+    }
+
+    /// The section key a sheet would name a roster section by, where it is written in full
+    /// and its last number-word names it alone ("CHEM 2299 Lab 101": the key of "101").
+    pub fn short_key(&self, enrolled: &str) -> Option<&str> {
+        let e = crate::model::section_key(enrolled);
+        self.short
+            .iter()
+            .find(|(_, full)| **full == e)
+            .map(|(short, _)| short.as_str())
     }
 
     /// The students whose id may be one typing slip from `id` (a superset, in roster order):
@@ -141,7 +169,7 @@ impl Roster {
             }
         }
         if let Some(section) = &enrolled.section {
-            if crate::model::section_key(section) != crate::model::section_key(&s.section) {
+            if !self.same_section(section, &s.section) {
                 out.push((
                     Flag::OtherSection,
                     format!(
@@ -191,6 +219,46 @@ impl Roster {
     pub fn missing<'a>(&'a self, seen: &'a HashSet<String>) -> impl Iterator<Item = &'a Enrolled> {
         self.students.iter().filter(|e| !seen.contains(e.id.trim()))
     }
+}
+
+/// The roster's sections written in full, by the section key of their last number-word, where
+/// that is unambiguous: no two sections end in the same number, and no section is the number
+/// itself (then a sheet's "101" could be either).
+fn short_sections(students: &[Enrolled]) -> HashMap<String, String> {
+    use crate::model::section_key;
+    let mut labels: Vec<&str> = students
+        .iter()
+        .filter_map(|s| s.section.as_deref())
+        .collect();
+    labels.sort_unstable();
+    labels.dedup();
+    let fulls: HashSet<String> = labels.iter().map(|l| section_key(l)).collect();
+    let mut short: HashMap<String, Option<String>> = HashMap::new();
+    for label in labels {
+        let Some(number) = label
+            .split(|c: char| !c.is_alphanumeric())
+            .rfind(|w| !w.is_empty() && w.bytes().all(|b| b.is_ascii_digit()))
+        else {
+            continue;
+        };
+        let (k, full) = (section_key(number), section_key(label));
+        if k == full {
+            continue;
+        }
+        short
+            .entry(k)
+            .and_modify(|f| {
+                if f.as_deref() != Some(full.as_str()) {
+                    *f = None;
+                }
+            })
+            .or_insert(Some(full));
+    }
+    short
+        .into_iter()
+        .filter(|(k, _)| !fulls.contains(k))
+        .filter_map(|(k, f)| f.map(|f| (k, f)))
+        .collect()
 }
 
 /// The words of a `not-on-roster` note around the likely enrolled id.
@@ -322,6 +390,45 @@ mod tests {
             assistant: None,
             place: String::new(),
         }
+    }
+
+    fn roster(sections: &[&str]) -> Roster {
+        let students = sections
+            .iter()
+            .enumerate()
+            .map(|(i, s)| enrolled(&format!("90{i}"), "Vela Marsh", s))
+            .collect();
+        Roster::new(students, "roster.csv")
+    }
+
+    /// A roster section written in full is the sheet's short name for it only where its last
+    /// number-word names one section alone (invented course numbers).
+    #[test]
+    fn a_section_written_in_full_is_its_last_number_where_that_is_unambiguous() {
+        let r = roster(&["CHEM 2299 Lab 101", "CHEM 2299 Lab 102"]);
+        assert!(r.same_section("CHEM 2299 Lab 101", "101"));
+        assert!(r.same_section("CHEM 2299 Lab 101", "Section 101"));
+        assert!(r.same_section("CHEM 2299 Lab 101", "chem 2299 lab 101"));
+        assert!(!r.same_section("CHEM 2299 Lab 101", "102"));
+        assert!(!r.same_section("CHEM 2299 Lab 101", "2299"));
+        assert_eq!(r.short_key("CHEM 2299 Lab 102"), Some("102"));
+        // two courses' sections ending in 101: a sheet's "101" could be either
+        let two = roster(&["CHEM 2299 Lab 101", "CHEM 2300 Lab 101"]);
+        assert!(!two.same_section("CHEM 2299 Lab 101", "101"));
+        assert_eq!(two.short_key("CHEM 2299 Lab 101"), None);
+        // a roster section that is "101" itself: the sheet's "101" is that one
+        let both = roster(&["101", "CHEM 2299 Lab 101"]);
+        assert!(!both.same_section("CHEM 2299 Lab 101", "101"));
+        assert!(both.same_section("101", "Sec 101"));
+        // the flag follows
+        let sub = Submission {
+            student_id: Some("900".into()),
+            student_name: Some("Vela Marsh".into()),
+            section: "101".into(),
+            ..Submission::default()
+        };
+        assert!(r.flags(&sub).is_empty());
+        assert_eq!(two.flags(&sub)[0].0, Flag::OtherSection);
     }
 
     #[test]

@@ -26,6 +26,8 @@ pub mod section_sheet;
 pub mod section_stats;
 pub mod svg;
 pub mod template;
+pub mod template_entries;
+pub mod template_rules;
 pub mod text_outputs;
 pub mod ticks;
 pub mod workbook;

@@ -9,17 +9,17 @@
 use std::path::{Path, PathBuf};
 
 use rust_xlsxwriter::{
-    Color, ConditionalFormatFormula, DataValidation, DataValidationErrorStyle, DataValidationRule,
-    DocProperties, ExcelDateTime, Format, FormatAlign, FormatBorder, Formula, Workbook, Worksheet,
-    XlsxError,
+    Color, ConditionalFormatFormula, DataValidation, DataValidationErrorStyle, DocProperties,
+    ExcelDateTime, Format, FormatAlign, FormatBorder, Workbook, Worksheet, XlsxError,
 };
 
 use super::atomic::{save_workbook, Stage};
+use super::template_entries::{entries, Entry};
+use super::template_rules::{column_of, rule, soft_checks, validations};
 use super::workbook::{file_stem, sheet_name};
 use crate::assess::unknowns::Key;
 use crate::error::WriteError;
 use crate::ingest::roster::Enrolled;
-use crate::model::Measure;
 use crate::rubric::Rubric;
 
 /// The heaviest mass a template accepts, in grams: far above any teaching-scale product, so
@@ -30,79 +30,6 @@ pub const MAX_MASS_G: f64 = 100.0;
 pub const SPAN_C: (f64, f64) = (20.0, 400.0);
 /// Status words the drop-down offers (an empty cell: the student is graded).
 pub const STATUS_WORDS: [&str; 4] = ["W", "excused", "absent", "exempt"];
-
-/// What a template asks for.
-#[derive(Clone, Copy, Debug, PartialEq, Eq)]
-enum Entry {
-    CrudeMass,
-    RecoveredMass,
-    Solvent,
-    Onset,
-    Clear,
-    Reported,
-    Late,
-    UnknownCode,
-    Identified,
-    Status,
-    Notes,
-}
-
-impl Entry {
-    /// Header and unit, in words benchgrade reads without a mapping.
-    fn header(self) -> (&'static str, &'static str) {
-        match self {
-            Entry::CrudeMass => ("Crude mass", "g"),
-            Entry::RecoveredMass => ("Recovered mass", "g"),
-            Entry::Solvent => ("Solvent volume", "mL"),
-            Entry::Onset => ("Melting onset", "°C"),
-            Entry::Clear => ("Clear point", "°C"),
-            Entry::Reported => ("Reported recovery", "%"),
-            Entry::Late => ("Days late", "days"),
-            Entry::UnknownCode => ("Unknown code", ""),
-            Entry::Identified => ("Identified as", ""),
-            Entry::Status => ("Status", ""),
-            Entry::Notes => ("Notes", ""),
-        }
-    }
-
-    /// Whether a row is unfinished while the cell is empty.
-    fn required(self) -> bool {
-        matches!(
-            self,
-            Entry::CrudeMass | Entry::RecoveredMass | Entry::Onset | Entry::Clear
-        )
-    }
-}
-
-/// The entries for the rubric: masses and the melting range always, the solvent volume, the
-/// reported recovery where a criterion scores it, the unknown's code and its identification
-/// where there is an answer key (or a criterion scores the identification), a status and
-/// notes.
-fn entries(rubric: &Rubric, key: Option<&Key>) -> Vec<Entry> {
-    let scores = |m: Measure| rubric.criteria.iter().any(|c| c.measure() == Some(m));
-    let mut e = vec![
-        Entry::CrudeMass,
-        Entry::RecoveredMass,
-        Entry::Solvent,
-        Entry::Onset,
-        Entry::Clear,
-    ];
-    if scores(Measure::REPORT_ERROR) {
-        e.push(Entry::Reported);
-    }
-    if rubric.late.is_some() {
-        e.push(Entry::Late);
-    }
-    let identifies = rubric
-        .criteria
-        .iter()
-        .any(|c| c.measure().is_some_and(|m| m.key() == "identification"));
-    if identifies || key.is_some_and(|k| !k.is_empty()) {
-        e.extend([Entry::UnknownCode, Entry::Identified]);
-    }
-    e.extend([Entry::Status, Entry::Notes]);
-    e
-}
 
 /// Options of `benchgrade template`.
 pub struct TemplateOptions<'a> {
@@ -122,13 +49,19 @@ pub struct TemplateOptions<'a> {
 type Section<'a> = (String, Vec<&'a Enrolled>);
 
 /// The sections of the roster in natural order, each with its students in roster order.
+/// Sections are told apart as `grade` tells them (`model::section_key`: "CON" and "con",
+/// "Section 3" and "3" are one), each named as the roster first writes it.
 fn sections(roster: &[Enrolled]) -> Vec<Section<'_>> {
     let mut out: Vec<Section<'_>> = Vec::new();
+    let mut keys: Vec<String> = Vec::new();
     for e in roster {
         let s = e.section.clone().unwrap_or_else(|| "all".into());
-        match out.iter_mut().find(|(name, _)| *name == s) {
-            Some((_, v)) => v.push(e),
-            None => out.push((s, vec![e])),
+        let key = crate::model::section_key(&s);
+        if let Some(i) = keys.iter().position(|k| *k == key) {
+            out[i].1.push(e);
+        } else {
+            keys.push(key);
+            out.push((s, vec![e]));
         }
     }
     out.sort_by(|a, b| crate::stats::cohort::natural_cmp(&a.0, &b.0));
@@ -192,7 +125,7 @@ fn build(
 }
 
 /// Column letters of a 0-based column (A..Z, AA..).
-fn letter(col: u16) -> String {
+pub fn letter(col: u16) -> String {
     let mut n = u32::from(col) + 1;
     let mut s = String::new();
     while n > 0 {
@@ -205,7 +138,7 @@ fn letter(col: u16) -> String {
 
 /// The first rows: title, section, assistant; the header row follows a blank.
 const HEADER_ROW: u32 = 4;
-const FIRST_ENTRY_COL: u16 = 3;
+pub const FIRST_ENTRY_COL: u16 = 3;
 
 fn entry_sheet(
     ws: &mut Worksheet,
@@ -228,8 +161,10 @@ fn entry_sheet(
         .set_background_color(Color::RGB(0x00FF_FFFF));
     ws.write_string_with_format(0, 0, o.title, &Format::new().set_bold().set_font_size(13))?;
     ws.write_string(1, 0, format!("Section: {section}"))?;
-    let assistant = students.iter().find_map(|s| s.assistant.as_deref());
-    ws.write_string(2, 0, format!("TA: {}", assistant.unwrap_or("")))?;
+    // the assistant's line only where the roster names one
+    if let Some(assistant) = students.iter().find_map(|s| s.assistant.as_deref()) {
+        ws.write_string(2, 0, format!("TA: {assistant}"))?;
+    }
     ws.set_row_height(HEADER_ROW, 32.0)?;
     ws.write_string_with_format(HEADER_ROW, 0, "Student ID", &head)?;
     ws.write_string_with_format(HEADER_ROW, 1, "Name", &head)?;
@@ -265,6 +200,7 @@ fn entry_sheet(
         let last = first + students.len() as u32 - 1;
         validations(ws, entries, first, last)?;
         key_lists(ws, entries, o.key, first, last)?;
+        soft_checks(ws, entries, first, last)?;
         missing_shade(ws, entries, first, last)?;
     }
     ws.set_freeze_panes(first, FIRST_ENTRY_COL)?;
@@ -272,109 +208,6 @@ fn entry_sheet(
     ws.set_landscape();
     ws.set_print_fit_to_pages(1, 0);
     ws.set_repeat_rows(HEADER_ROW, HEADER_ROW + 1)?;
-    Ok(())
-}
-
-/// Where each entry is, by column letter.
-fn column_of(entries: &[Entry], e: Entry) -> Option<String> {
-    entries
-        .iter()
-        .position(|x| *x == e)
-        .map(|i| letter(FIRST_ENTRY_COL + i as u16))
-}
-
-fn rule(
-    input: (&str, &str),
-    error: (&str, &str),
-    v: DataValidation,
-) -> Result<DataValidation, XlsxError> {
-    v.set_input_title(input.0)?
-        .set_input_message(input.1)?
-        .set_error_title(error.0)?
-        .set_error_message(error.1)
-        .map(|v| v.set_error_style(DataValidationErrorStyle::Stop))
-}
-
-/// The rule of an entry that is a plain number between bounds, with its messages.
-fn number_rule(e: Entry) -> Result<DataValidation, XlsxError> {
-    let between = |lo: f64, hi: f64| {
-        DataValidation::new().allow_decimal_number(DataValidationRule::Between(lo, hi))
-    };
-    match e {
-        Entry::CrudeMass => rule(
-            ("Crude mass", "The crude product's mass in grams, as weighed (for example 2.84)."),
-            ("Not a mass in grams", "Type the crude mass in grams: a number above 0 and below 100 (a figure in milligrams divided by 1000)."),
-            between(0.0001, MAX_MASS_G),
-        ),
-        Entry::Solvent => rule(
-            ("Solvent volume", "The volume of solvent used, in millilitres."),
-            ("Not a volume in mL", "Type the solvent volume in millilitres: a number above 0 and below 1000."),
-            between(0.0, 1000.0),
-        ),
-        Entry::Late => rule(
-            ("Days late", "How many days after the deadline the report came in; leave empty if on time."),
-            ("Not a number of days", "Type the days late as a number from 0 to 365, or leave the cell empty."),
-            between(0.0, 365.0),
-        ),
-        _ => rule(
-            ("Reported recovery", "The percent recovery the student reported (for example 72.4)."),
-            ("Not a percentage", "Type the reported recovery as a number of percent, from 0 to 100."),
-            between(0.0, 100.0),
-        ),
-    }
-}
-
-/// A data-validation rule with its messages on every entry cell.
-fn validations(
-    ws: &mut Worksheet,
-    entries: &[Entry],
-    first: u32,
-    last: u32,
-) -> Result<(), XlsxError> {
-    let at = |e: Entry| column_of(entries, e).map(|c| format!("{c}{}", first + 1));
-    for (i, e) in entries.iter().enumerate() {
-        let col = FIRST_ENTRY_COL + i as u16;
-        let v = match e {
-            Entry::CrudeMass | Entry::Solvent | Entry::Late | Entry::Reported => number_rule(*e)?,
-            Entry::RecoveredMass => {
-                let me = at(Entry::RecoveredMass).unwrap_or_default();
-                let crude = at(Entry::CrudeMass).unwrap_or_default();
-                rule(
-                    ("Recovered mass", "The dry recrystallized product's mass in grams; at most the crude mass."),
-                    ("Recovered more than crude", "The recovered mass must be a number in grams above 0 and at most the crude mass beside it: check the weighing and that the product was dry."),
-                    DataValidation::new().allow_custom(Formula::new(format!(
-                        "=AND(ISNUMBER({me}),{me}>0,{me}<={MAX_MASS_G},OR({crude}=\"\",{me}<={crude}))"
-                    ))),
-                )?
-            }
-
-            Entry::Onset | Entry::Clear => {
-                let onset = at(Entry::Onset).unwrap_or_default();
-                let clear = at(Entry::Clear).unwrap_or_default();
-                let me = if *e == Entry::Onset { &onset } else { &clear };
-                let (lo, hi) = SPAN_C;
-                rule(
-                    if *e == Entry::Onset {
-                        ("Melting onset", "The temperature in °C at which the first drop of liquid appeared.")
-                    } else {
-                        ("Clear point", "The temperature in °C at which the last crystal melted; at least the onset.")
-                    },
-                    ("Not a melting temperature", "Type a temperature in °C within the apparatus's span (20 to 400 °C); the onset may not be above the clear point."),
-                    DataValidation::new().allow_custom(Formula::new(format!(
-                        "=AND(ISNUMBER({me}),{me}>={lo},{me}<={hi},OR({onset}=\"\",{clear}=\"\",{onset}<={clear}))"
-                    ))),
-                )?
-            }
-
-            Entry::Status => rule(
-                ("Status", "Leave empty for a student to be graded; choose W, excused, absent or exempt otherwise."),
-                ("Not a status", "Choose a status from the list, or leave the cell empty."),
-                DataValidation::new().allow_list_strings(&STATUS_WORDS)?,
-            )?,
-            Entry::Notes | Entry::UnknownCode | Entry::Identified => continue,
-        };
-        ws.add_data_validation(first, col, last, col, &v)?;
-    }
     Ok(())
 }
 
@@ -482,6 +315,15 @@ fn missing_shade(
     Ok(())
 }
 
+/// How masses and temperatures are typed, for the instructions.
+fn weighing_line(entries: &[Entry]) -> &'static str {
+    if entries.contains(&Entry::CrudeTare) {
+        "Masses in grams as weighed: the tare is the empty container, the gross the container with the dry product in it (the product's mass is their difference). Temperatures in °C as read, the onset where the first drop of liquid appears and the clear point where the last crystal melts; each trial is its own capillary."
+    } else {
+        "Masses in grams as weighed (weigh by difference and type the net mass); temperatures in °C as read, the onset where the first drop of liquid appears and the clear point where the last crystal melts."
+    }
+}
+
 /// The instructions sheet: how to fill in the entry sheets, and the safety cautions.
 fn instructions(
     ws: &mut Worksheet,
@@ -509,8 +351,8 @@ fn instructions(
         (&head, "How to fill in the entry sheets".into()),
         (&wrap, "Each section has a sheet of its own. The students' ids, names and section come from the roster and are locked; type only in the cells to the right of them.".into()),
         (&wrap, format!("For each student enter: {}.", asked.join(", "))),
-        (&wrap, "Masses in grams as weighed (weigh by difference and type the net mass); temperatures in °C as read, the onset where the first drop of liquid appears and the clear point where the last crystal melts.".into()),
-        (&wrap, "A cell refuses a value that cannot be right (a recovered mass above the crude mass, a letter in a mass, an onset above the clear point) and says why. A row stays shaded until every entry grading needs is typed, or a status (W, excused, absent, exempt) is chosen.".into()),
+        (&wrap, weighing_line(entries).into()),
+        (&wrap, "A cell refuses a value that cannot be right (a letter in a number cell, a mass of zero or less, a temperature outside the apparatus's span, an onset above the clear point) and says why. A value that may be real but will be flagged (a recovered mass above the crude mass, a reported recovery above 100 %) is kept and shaded. A row stays shaded until every entry grading needs is typed, or a status (W, excused, absent, exempt) is chosen.".into()),
         (&wrap, "The sheet protection has no password: it only guards against slips. Keep the header and units rows as they are, so that the sheet is read back without a mapping file.".into()),
         (&head, "Safety".into()),
         (&wrap, "Hot plates and heating blocks stay hot long after they are switched off: never leave one on unattended, and keep paper, solvent bottles and cords away from it.".into()),

@@ -166,10 +166,22 @@ pub enum LayoutError {
     NoTable,
 }
 
+/// A field that makes a row a header row: a mass or the melting range, in any of the forms a
+/// layout takes for them (a mass weighed by difference has its gross weighing; the range may be
+/// given as repeat determinations), so that a sheet weighed by difference with trials is found.
 fn is_core(f: Field) -> bool {
     matches!(
         f,
-        Field::CrudeMass | Field::RecoveredMass | Field::MpRange | Field::MpOnset | Field::MpClear
+        Field::CrudeMass
+            | Field::RecoveredMass
+            | Field::CrudeGross
+            | Field::RecoveredGross
+            | Field::MpRange
+            | Field::MpOnset
+            | Field::MpClear
+            | Field::MpTrialRange
+            | Field::MpTrialOnset
+            | Field::MpTrialClear
     )
 }
 

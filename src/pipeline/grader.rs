@@ -20,6 +20,9 @@ pub(super) struct Grader<'a> {
     pub(super) scoring: bool,
     /// The ids of the rows graded, for the roster's students with no row.
     pub(super) seen: std::collections::HashSet<String>,
+    /// The sections rows were read in, by section key, each as first written: a rostered
+    /// student with no row goes in the sheet's section where the roster writes it in full.
+    pub(super) sections_seen: std::collections::HashMap<String, String>,
     /// Rostered ids a row not on the roster is likely to be, with that row's id.
     pub(super) likely: std::collections::HashMap<String, String>,
     /// Which corrections found their row.
@@ -41,6 +44,7 @@ impl<'a> Grader<'a> {
             overrides: config.overrides.clone(),
             scoring: inputs.centres.is_some(),
             seen: std::collections::HashSet::new(),
+            sections_seen: std::collections::HashMap::new(),
             likely: std::collections::HashMap::new(),
             corrections_used: vec![false; config.corrections.len()],
             corrected_ids: std::collections::HashSet::new(),
@@ -94,6 +98,12 @@ impl<'a> Grader<'a> {
             if let Some(id) = a.submission.student_id.as_deref() {
                 self.seen.insert(id.trim().to_string());
             }
+            if !a.submission.no_submission {
+                let section = &a.submission.section;
+                self.sections_seen
+                    .entry(crate::model::section_key(section))
+                    .or_insert_with(|| section.clone());
+            }
             if a.excused.is_none() && !a.submission.no_submission {
                 a.flags.extend(roster.flags(&a.submission));
                 a.flags.sort_by_key(|(f, _)| f.code());
@@ -139,10 +149,16 @@ pub(super) fn no_submissions(
                 .next()
                 .and_then(|n| n.parse().ok())
                 .unwrap_or(0),
-            section: e
-                .section
-                .clone()
-                .unwrap_or_else(|| "(no section on the roster)".into()),
+            section: e.section.as_deref().map_or_else(
+                || "(no section on the roster)".into(),
+                |full| {
+                    // "CHEM 2299 Lab 101" on the roster, "101" on the sheets: the sheets' name
+                    roster
+                        .short_key(full)
+                        .and_then(|k| grader.sections_seen.get(k))
+                        .map_or_else(|| full.to_string(), Clone::clone)
+                },
+            ),
             student_id: Some(e.id.clone()),
             student_name: e.name.clone(),
             assistant: e.assistant.clone(),

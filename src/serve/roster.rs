@@ -174,6 +174,45 @@ fn template_args(ws: &Workspace, roster: &str) -> Vec<String> {
     args
 }
 
+/// Starts this program as a child process: from the file it was started from, or, where that
+/// file is gone or replaced since the server started (the path then names no file, or
+/// another program), from the running program itself (`/proc/self/exe` on Linux).
+fn spawn_self(build: impl Fn(&mut Command)) -> std::io::Result<std::process::Child> {
+    let from = |exe: &Path| {
+        let mut c = Command::new(exe);
+        build(&mut c);
+        c.spawn()
+    };
+    std::env::current_exe()
+        .and_then(|exe| from(&exe))
+        .or_else(|e| {
+            let running = Path::new("/proc/self/exe");
+            if running.exists() {
+                from(running)
+            } else {
+                Err(e)
+            }
+        })
+}
+
+/// `benchgrade template` started with `args`, its standard error piped; a 503 when no program
+/// can be started.
+fn start_template(args: &[String]) -> Result<std::process::Child, ApiError> {
+    spawn_self(|c| {
+        c.args(args)
+            .stdin(Stdio::null())
+            .stdout(Stdio::null())
+            .stderr(Stdio::piped());
+    })
+    .map_err(|e| {
+        ApiError::new(
+            StatusCode::SERVICE_UNAVAILABLE,
+            "roster",
+            format!("cannot run benchgrade template ({e}): the benchgrade program was removed or replaced since the server started; restart `benchgrade serve`"),
+        )
+    })
+}
+
 /// Runs `benchgrade template` in the workspace; its message when it fails. Its standard
 /// error is read for the message only, never passed on to the server's.
 fn make_templates(ws: &Workspace) -> Result<(), ApiError> {
@@ -193,15 +232,7 @@ fn make_templates(ws: &Workspace) -> Result<(), ApiError> {
             format!("{TEMPLATES} in the workspace is a link or a file, not a folder; the page writes only inside the workspace (remove it there yourself)"),
         ));
     }
-    let exe = std::env::current_exe()
-        .map_err(|e| server_error("roster", format!("cannot run benchgrade template: {e}")))?;
-    let mut child = Command::new(exe)
-        .args(template_args(ws, &roster))
-        .stdin(Stdio::null())
-        .stdout(Stdio::null())
-        .stderr(Stdio::piped())
-        .spawn()
-        .map_err(|e| server_error("roster", format!("cannot run benchgrade template: {e}")))?;
+    let mut child = start_template(&template_args(ws, &roster))?;
     let stderr = child.stderr.take();
     let said = std::thread::spawn(move || {
         let mut text = String::new();

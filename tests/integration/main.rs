@@ -37,4 +37,5 @@ mod serve_client;
 mod serve_hardening;
 mod serve_roster;
 mod template_key;
+mod template_rubrics;
 mod workbooks;

@@ -463,13 +463,34 @@ fn the_entry_cells_refuse_what_cannot_be_right() {
         "{crude}"
     );
     assert!(crude.contains("sqref=\"D7:D30\""), "{crude}");
-    // recovered mass in E: a number, above 0, at most the crude mass beside it
+    // recovered mass in E: a number (a letter or a mass of zero or less refused) between
+    // 0.0001 and 100 g; one above the crude mass beside it is kept, and shaded (a real wet
+    // weighing is typed as weighed: the grader flags it)
     let recovered = rule("Recovered mass");
     assert!(
-        recovered.contains("ISNUMBER(E7)") && recovered.contains("E7&lt;=D7"),
+        recovered.contains("type=\"decimal\"")
+            && recovered.contains("<formula1>0.0001</formula1><formula2>100</formula2>")
+            && !recovered.contains("errorStyle"),
         "{recovered}"
     );
-    assert!(recovered.contains("errorTitle=\"Recovered more than crude\""));
+    assert!(
+        xml.contains("<formula>AND(ISNUMBER(E7),ISNUMBER(D7),E7&gt;D7)</formula>"),
+        "{xml}"
+    );
+    // the solvent volume in F: above 0 (as its message says), at most 1000 mL
+    let solvent = rule("Solvent volume");
+    assert!(
+        solvent.contains("F7&gt;0,F7&lt;=1000") && solvent.contains("above 0 and at most 1000"),
+        "{solvent}"
+    );
+    // the reported recovery in I (the default rubric scores it): a number from 0 to 1000, so
+    // a student's 104 % is typed as reported, and shaded
+    let reported = rule("Reported recovery");
+    assert!(
+        reported.contains("<formula1>0</formula1><formula2>1000</formula2>"),
+        "{reported}"
+    );
+    assert!(xml.contains("<formula>AND(ISNUMBER(I7),I7&gt;100)</formula>"));
     // onset (G) and clear point (H): within the apparatus's span, onset at most the clear point
     let onset = rule("Melting onset");
     assert!(
@@ -482,6 +503,13 @@ fn the_entry_cells_refuse_what_cannot_be_right() {
     assert!(xml.contains("<sheetProtection sheet=\"1\"") && !xml.contains("password"));
     // rows missing an entry are shaded
     assert!(xml.contains("<conditionalFormatting"));
+    // the roster names S1's assistant: the title block's TA line
+    let mut shared = String::new();
+    zip.by_name("xl/sharedStrings.xml")
+        .unwrap()
+        .read_to_string(&mut shared)
+        .unwrap();
+    assert!(shared.contains("<t>TA: T. Marlowe</t>"), "{shared}");
 }
 
 /// Late work by the rubric's `[late]` rule (5 points a day after a day's grace, at most 15),

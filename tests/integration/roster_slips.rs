@@ -323,3 +323,73 @@ fn a_roster_with_several_id_columns_says_which_to_map() {
         .collect();
     assert_eq!(statuses, vec!["graded", "no-submission"]);
 }
+
+/// A roster that writes sections in full ("CHEM 2299 Lab 101") against sheets that name them by
+/// their number ("101", "Section 102"): each row is in its own section, not `other-section`
+/// (every row was flagged before), and a student with no row is counted in the sheet's section;
+/// a student really in another section is still flagged. Where two roster sections end in the
+/// same number, the short name is not taken for either. Invented course and students.
+#[test]
+fn a_roster_section_written_in_full_is_the_sheet_s_section_number() {
+    let f = Fixture::new();
+    f.write(
+        "roster.csv",
+        "Student ID,Name,Section\n\
+         310001,Ada Brisk,CHEM 2299 Lab 101\n\
+         310002,Bo Carrow,CHEM 2299 Lab 101\n\
+         310003,Cy Dunlin,CHEM 2299 Lab 101\n\
+         310004,Di Elmore,CHEM 2299 Lab 102\n\
+         310005,Ed Fallow,CHEM 2299 Lab 102\n",
+    );
+    let class = "Student ID,Name,Section,Crude mass (g),Recovered mass (g),Melting range (°C)\n\
+         310001,Ada Brisk,101,3.0,2.1,121.5-122.3\n\
+         310002,Bo Carrow,101,3.0,2.1,121.5-122.3\n\
+         310004,Di Elmore,Section 102,3.0,2.1,121.5-122.3\n\
+         310005,Ed Fallow,101,3.0,2.1,121.5-122.3\n";
+    f.write("class.csv", class);
+    let run = f.run(&[
+        "grade",
+        "class.csv",
+        "--roster",
+        "roster.csv",
+        "--out",
+        "out",
+    ]);
+    assert_eq!(run.code, 0, "{}", run.stderr);
+    let rows = f.results("out");
+    for id in ["310001", "310002", "310004"] {
+        assert!(
+            by_id(&rows, id)["flags"].is_empty(),
+            "{id}: {}",
+            by_id(&rows, id)["flag_notes"]
+        );
+    }
+    // enrolled in 102, submitted in 101
+    assert_eq!(by_id(&rows, "310005")["flags"], "other-section");
+    // the student with no row, in the sheets' section "101"
+    let missing = by_id(&rows, "310003");
+    assert_eq!(missing["status"], "no-submission");
+    assert_eq!(missing["section"], "101");
+    let stats = crate::harness::read_results(&f.path("out/section-stats.csv"));
+    let sections: Vec<&str> = stats.iter().map(|r| r["section"].as_str()).collect();
+    assert!(!sections.iter().any(|s| s.contains("CHEM")), "{sections:?}");
+    // two roster sections ending in 101: the sheet's "101" is neither
+    f.write(
+        "roster2.csv",
+        "Student ID,Name,Section\n310001,Ada Brisk,CHEM 2299 Lab 101\n310002,Bo Carrow,CHEM 2300 Lab 101\n",
+    );
+    f.write("one.csv", "Student ID,Name,Section,Crude mass (g),Recovered mass (g),Melting range (°C)\n310001,Ada Brisk,101,3.0,2.1,121.5-122.3\n");
+    let run = f.run(&[
+        "grade",
+        "one.csv",
+        "--roster",
+        "roster2.csv",
+        "--out",
+        "out2",
+    ]);
+    assert_eq!(run.code, 0, "{}", run.stderr);
+    assert_eq!(
+        by_id(&f.results("out2"), "310001")["flags"],
+        "other-section"
+    );
+}

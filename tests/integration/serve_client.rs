@@ -34,7 +34,22 @@ impl Server {
 
     /// With environment variables set for the server (the test hooks).
     pub fn start_env(workspace: &Path, extra: &[&str], env: &[(&str, &str)]) -> Server {
-        let mut child = Command::new(env!("CARGO_BIN_EXE_benchgrade"))
+        Server::start_program(
+            Path::new(env!("CARGO_BIN_EXE_benchgrade")),
+            workspace,
+            extra,
+            env,
+        )
+    }
+
+    /// Started from `program` (a copy of the binary a test may then remove or replace).
+    pub fn start_program(
+        program: &Path,
+        workspace: &Path,
+        extra: &[&str],
+        env: &[(&str, &str)],
+    ) -> Server {
+        let mut child = Command::new(program)
             .arg("serve")
             .arg(workspace)
             .args(["--port", "0"])

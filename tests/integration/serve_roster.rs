@@ -348,3 +348,30 @@ fn serve_entry_workbooks_download_with_the_roster_s_ids() {
     assert_eq!(std::fs::read_dir(&elsewhere).unwrap().count(), 0);
     assert_eq!(server.get("/api/roster")["templates"], json!([]));
 }
+
+/// The binary replaced while the server runs (a rebuild or an upgrade writes a new file at its
+/// path): `POST /api/templates` still makes the entry workbooks, from the running program
+/// (it answered 500, "cannot run benchgrade template: No such file or directory", before).
+#[test]
+fn serve_entry_workbooks_are_made_after_the_binary_is_replaced() {
+    let f = Fixture::new();
+    let program = f.path("bin/benchgrade");
+    std::fs::create_dir_all(f.path("bin")).unwrap();
+    std::fs::copy(env!("CARGO_BIN_EXE_benchgrade"), &program).unwrap();
+    let server = Server::start_program(&program, &f.path("ws"), &[], &[]);
+    let (list, _) = class();
+    let (status, body) = server.upload_to("/api/roster", &[("enrolled.csv", list.as_bytes())]);
+    assert_eq!(status, 201, "{body}");
+    // a new file at the program's path: the running program's file is gone
+    std::fs::remove_file(&program).unwrap();
+    std::fs::write(&program, "#!/bin/sh\nexit 3\n").unwrap();
+    let (status, body) = server.call("POST", "/api/templates", None);
+    assert_eq!(status, 200, "{body}");
+    let names: Vec<&str> = body["templates"]
+        .as_array()
+        .unwrap()
+        .iter()
+        .map(|t| t["name"].as_str().unwrap())
+        .collect();
+    assert_eq!(names, ["A-entry.xlsx", "B-entry.xlsx"]);
+}
