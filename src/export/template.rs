@@ -352,7 +352,7 @@ fn instructions(
         (&wrap, "Each section has a sheet of its own. The students' ids, names and section come from the roster and are locked; type only in the cells to the right of them.".into()),
         (&wrap, format!("For each student enter: {}.", asked.join(", "))),
         (&wrap, weighing_line(entries).into()),
-        (&wrap, "A cell refuses a value that cannot be right (a letter in a number cell, a mass of zero or less, a temperature outside the apparatus's span, an onset above the clear point) and says why. A value that may be real but will be flagged (a recovered mass above the crude mass, a reported recovery above 100 %) is kept and shaded. A row stays shaded until every entry grading needs is typed, or a status (W, excused, absent, exempt) is chosen.".into()),
+        (&wrap, "A cell refuses a value that cannot be right (a letter in a number cell, a mass of zero or less, a recovered mass above the crude mass, a temperature outside the apparatus's span, an onset above the clear point) and says why. A value that may be real but will be flagged (a reported recovery above 100 %) is kept and shaded. A row stays shaded until every entry grading needs is typed, or a status (W, excused, absent, exempt) is chosen.".into()),
         (&wrap, "The sheet protection has no password: it only guards against slips. Keep the header and units rows as they are, so that the sheet is read back without a mapping file.".into()),
         (&head, "Safety".into()),
         (&wrap, "Hot plates and heating blocks stay hot long after they are switched off: never leave one on unattended, and keep paper, solvent bottles and cords away from it.".into()),

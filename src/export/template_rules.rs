@@ -1,10 +1,11 @@
 //! The data-validation rule of each entry column of an entry workbook, with its input and
-//! error messages in words: a hard stop for what cannot be a value at all (a letter in a number
-//! cell, a mass of zero or less, a temperature outside the apparatus's span, an onset above the
-//! clear point, a container weighing less full than empty); a shaded cell, never a refusal, for
-//! what can be real and the grader flags anyway (a recovered mass above the crude mass, a
-//! reported recovery above 100 %). A spreadsheet keeps one rule a cell, and a rule of the
-//! "warning" style lets a letter through as well, so those two are told by shading.
+//! error messages in words: a hard stop for what cannot be right (a letter in a number cell, a
+//! mass of zero or less, a recovered mass above the crude mass beside it, a temperature outside
+//! the apparatus's span, an onset above the clear point, a container weighing less full than
+//! empty); a shaded cell, never a refusal, for what a student may really have written and the
+//! grader flags anyway (a reported recovery above 100 %, a recovered mass by difference above
+//! the crude one). A spreadsheet keeps one rule a cell, and a rule of the "warning" style lets a
+//! letter through as well, so those are told by shading.
 
 use rust_xlsxwriter::{
     Color, ConditionalFormatFormula, DataValidation, DataValidationErrorStyle, DataValidationRule,
@@ -45,8 +46,8 @@ fn custom(formula: String) -> DataValidation {
     DataValidation::new().allow_custom(Formula::new(formula))
 }
 
-/// The rule of a plain number entry.
-fn number_rule(e: Entry, me: &str) -> Result<DataValidation, XlsxError> {
+/// The rule of a plain number entry; `crude` is the crude mass's cell on the row, if any.
+fn number_rule(e: Entry, me: &str, crude: &str) -> Result<DataValidation, XlsxError> {
     let between = |lo: f64, hi: f64| {
         DataValidation::new().allow_decimal_number(DataValidationRule::Between(lo, hi))
     };
@@ -56,8 +57,16 @@ fn number_rule(e: Entry, me: &str) -> Result<DataValidation, XlsxError> {
             ("Not a mass in grams", "Type the crude mass in grams: a number from 0.0001 to 100 (a figure in milligrams divided by 1000)."),
             between(0.0001, MAX_MASS_G),
         ),
+        // more recovered than was crude is impossible (issue 24: refused as it is typed)
+        Entry::RecoveredMass if !crude.is_empty() => rule(
+            ("Recovered mass", "The dry recrystallized product's mass in grams; at most the crude mass."),
+            ("Recovered more than crude", "The recovered mass must be a number in grams above 0, at most 100 and at most the crude mass beside it: check the weighing and that the product was dry."),
+            custom(format!(
+                "=AND(ISNUMBER({me}),{me}>0,{me}<={MAX_MASS_G},OR({crude}=\"\",{me}<={crude}))"
+            )),
+        ),
         Entry::RecoveredMass => rule(
-            ("Recovered mass", "The dry recrystallized product's mass in grams. A mass above the crude mass is kept but shaded: check the weighing and that the product was dry."),
+            ("Recovered mass", "The dry recrystallized product's mass in grams."),
             ("Not a mass in grams", "Type the recovered mass in grams: a number from 0.0001 to 100 (a figure in milligrams divided by 1000)."),
             between(0.0001, MAX_MASS_G),
         ),
@@ -148,7 +157,7 @@ pub fn validations(
                 | Entry::RecoveredMass
                 | Entry::Solvent
                 | Entry::Late
-                | Entry::Reported => number_rule(*e, &at(*e))?,
+                | Entry::Reported => number_rule(*e, &at(*e), &at(Entry::CrudeMass))?,
                 Entry::Status => rule(
                     ("Status", "Leave empty for a student to be graded; choose W, excused, absent or exempt otherwise."),
                     ("Not a status", "Choose a status from the list, or leave the cell empty."),
@@ -162,8 +171,8 @@ pub fn validations(
     Ok(())
 }
 
-/// Shades what may be real but the grader will flag: a recovered mass above the crude mass
-/// (typed, or weighed by difference), a reported recovery above 100 %.
+/// Shades what may be real but the grader will flag: a recovered mass by difference above the
+/// crude one, a reported recovery above 100 %.
 pub fn soft_checks(
     ws: &mut Worksheet,
     entries: &[Entry],
@@ -173,12 +182,6 @@ pub fn soft_checks(
     let at = |e: Entry| column_of(entries, e).map(|c| format!("{c}{}", first + 1));
     let amber = Format::new().set_background_color(Color::RGB(0x00F8_CBAD));
     let checks = [
-        (
-            Entry::RecoveredMass,
-            at(Entry::RecoveredMass)
-                .zip(at(Entry::CrudeMass))
-                .map(|(me, crude)| format!("=AND(ISNUMBER({me}),ISNUMBER({crude}),{me}>{crude})")),
-        ),
         (
             Entry::RecoveredGross,
             at(Entry::CrudeTare)
