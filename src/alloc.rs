@@ -13,8 +13,6 @@ static ALLOCATOR: mimalloc::MiMalloc = mimalloc::MiMalloc;
 // Cargo.toml pins for that reason).
 const ARENA_EAGER_COMMIT: c_int = 4;
 const PURGE_DELAY: c_int = 15;
-/// Milliseconds before freed pages go back to the system.
-const PURGE_DELAY_MS: c_long = 1;
 
 extern "C" {
     fn mi_option_set(option: c_int, value: c_long);
@@ -22,19 +20,16 @@ extern "C" {
     fn mi_option_get(option: c_int) -> c_long;
 }
 
-/// Commits arena memory only as it is used and returns freed pages after 1 ms instead of 10:
-/// a batch frees a sheet's rows in bursts, and the 10 ms delay let freed pages pile up (peak
-/// 106 MiB against 57 MiB on the 100,000-row bench class, 2026-12-02). Returning them at once
-/// (0) cost a page-table flush on every core for every freed page: with 1 ms a term of 120
-/// files ran about 10 % faster and spent a quarter less time in the kernel, for about 3 % more
-/// peak memory (side by side, 2026-12-04; DEVELOPERS.md, "Speed"). It must run before the
-/// first allocation creates an arena, so on Linux it runs as a constructor, before `main`.
+/// Commits arena memory only as it is used and returns freed pages at once, instead of after
+/// a 10 ms delay: a batch frees a sheet's rows in bursts, and the delay let freed pages pile up
+/// (peak 106 MiB against 57 MiB on the 100,000-row bench class). It must run before the first
+/// allocation creates an arena, so on Linux it runs as a constructor, before `main`.
 extern "C" fn tune() {
     // SAFETY: mi_option_set only stores a value in mimalloc's option table; both numbers are
     // options of the linked mimalloc (its pinned mimalloc.h; the test checks they took effect).
     unsafe {
         mi_option_set(ARENA_EAGER_COMMIT, 0);
-        mi_option_set(PURGE_DELAY, PURGE_DELAY_MS);
+        mi_option_set(PURGE_DELAY, 0);
     }
 }
 
@@ -57,7 +52,7 @@ mod tests {
     #[test]
     fn options_are_set_before_main() {
         // The defaults are 2 and 10 ms (mimalloc.h of the pinned libmimalloc-sys 0.1.49); the
-        // constructor has set them to 0 and 1 ms by the time a test runs.
+        // constructor has set both to 0 by the time a test runs.
         // SAFETY: reading an option only reads mimalloc's option table.
         let (eager, delay) = unsafe {
             (
@@ -66,7 +61,7 @@ mod tests {
             )
         };
         if cfg!(target_os = "linux") {
-            assert_eq!((eager, delay), (0, PURGE_DELAY_MS));
+            assert_eq!((eager, delay), (0, 0));
         }
     }
 }
