@@ -165,7 +165,8 @@ fn entry_sheet(
     if let Some(assistant) = students.iter().find_map(|s| s.assistant.as_deref()) {
         ws.write_string(2, 0, format!("TA: {assistant}"))?;
     }
-    ws.set_row_height(HEADER_ROW, 32.0)?;
+    // three lines of a wrapped header ("Trial 2 mp / clear / point")
+    ws.set_row_height(HEADER_ROW, 45.0)?;
     ws.write_string_with_format(HEADER_ROW, 0, "Student ID", &head)?;
     ws.write_string_with_format(HEADER_ROW, 1, "Name", &head)?;
     // the section on every row: read back from the rows, whatever name the sheet could take
@@ -176,16 +177,11 @@ fn entry_sheet(
         let c = FIRST_ENTRY_COL + i as u16;
         ws.write_string_with_format(HEADER_ROW, c, h, &head)?;
         ws.write_string(HEADER_ROW + 1, c, unit)?;
-        let width = match e {
-            Entry::Notes => 30,
-            Entry::Identified => 16,
-            _ => 12,
-        };
-        ws.set_column_width(c, width)?;
+        ws.set_column_width(c, entry_width(*e))?;
     }
     ws.set_column_width(0, 12)?;
-    ws.set_column_width(1, 26)?;
-    ws.set_column_width(2, 10)?;
+    ws.set_column_width(1, NAME_WIDTH)?;
+    ws.set_column_width(2, 8)?;
     let first = HEADER_ROW + 2;
     for (k, s) in students.iter().enumerate() {
         let r = first + k as u32;
@@ -206,9 +202,38 @@ fn entry_sheet(
     ws.set_freeze_panes(first, FIRST_ENTRY_COL)?;
     ws.protect();
     ws.set_landscape();
-    ws.set_print_fit_to_pages(1, 0);
+    // as many pages across as keep the print legible, the id, name and section on each
+    let across = pages_across(entries);
+    ws.set_print_fit_to_pages(across, 0);
     ws.set_repeat_rows(HEADER_ROW, HEADER_ROW + 1)?;
+    if across > 1 {
+        ws.set_repeat_columns(0, FIRST_ENTRY_COL - 1)?;
+    }
     Ok(())
+}
+
+/// The name column's width, in characters.
+const NAME_WIDTH: f64 = 22.0;
+/// The most characters a landscape page holds across at a legible size (about 80 % of full
+/// size on A4 or US letter).
+const PAGE_CHARS: f64 = 130.0;
+
+/// An entry column's width, in characters: a number as typed fits, the header wraps.
+fn entry_width(e: Entry) -> f64 {
+    match e {
+        Entry::Notes => 24.0,
+        Entry::Identified => 16.0,
+        _ => 9.0,
+    }
+}
+
+/// Pages across an entry sheet prints on: one for a usual rubric, two or more when the rubric
+/// grades many entries (weighings by difference, trials, an unknown), so that no page shrinks
+/// its text below legibility.
+fn pages_across(entries: &[Entry]) -> u16 {
+    let fixed = 12.0 + NAME_WIDTH + 8.0;
+    let wide: f64 = entries.iter().map(|e| entry_width(*e)).sum();
+    ((wide / (PAGE_CHARS - fixed)).ceil() as u16).max(1)
 }
 
 /// The most characters a drop-down list typed into its rule may hold (the file format's limit:

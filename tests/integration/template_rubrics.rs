@@ -336,6 +336,17 @@ fn the_weighing_and_trial_cells_carry_their_own_rules() {
         xml.contains("<formula>AND(COUNT(D7,E7,F7,G7)=4,G7-F7&gt;E7-D7)</formula>"),
         "{xml}"
     );
+    // printed legibly: beside the id, name and section (12 + 22 + 8 characters), 13 entries of
+    // 9 characters, the identification's 16 and the notes' 24 make 157 (hand-counted), too
+    // wide for one landscape page of about 130, so the sheet prints across
+    // ceil(157 / (130 - 42)) = 2 pages, the id, name and section repeated on each
+    assert!(xml.contains("fitToWidth=\"2\""), "{xml}");
+    let mut book = String::new();
+    zip.by_name("xl/workbook.xml")
+        .unwrap()
+        .read_to_string(&mut book)
+        .unwrap();
+    assert!(book.contains("!$A:$C,"), "{book}");
     // the units row
     let mut shared = String::new();
     zip.by_name("xl/sharedStrings.xml")
