@@ -18,6 +18,7 @@ pub mod corrections_file;
 pub mod errors;
 pub mod grader;
 pub mod guard;
+pub mod line_file;
 pub mod outputs;
 pub mod overrides_file;
 pub mod page;

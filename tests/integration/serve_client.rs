@@ -107,6 +107,18 @@ impl Server {
         (status, serde_json::from_str(&text).unwrap_or(Value::Null))
     }
 
+    /// A GET with the token: its status, or `None` if the server did not answer (a connection
+    /// refused or closed while it is still at its cap of connections).
+    pub fn status_now(&self, path: &str) -> Option<u16> {
+        let url = format!("{}{path}", self.base());
+        let auth = format!("Bearer {}", self.token);
+        match self.agent.get(&url).header("Authorization", &auth).call() {
+            Ok(resp) => Some(resp.status().as_u16()),
+            Err(ureq::Error::StatusCode(code)) => Some(code),
+            Err(_) => None,
+        }
+    }
+
     /// A request with the token; `(status, JSON body)`.
     pub fn call(&self, method: &str, path: &str, body: Option<Value>) -> (u16, Value) {
         let url = format!("{}{path}", self.base());
