@@ -12,6 +12,7 @@ mod bad_corpus;
 mod bad_input;
 mod browser;
 mod cohort;
+mod entry_sheets;
 mod experiment;
 mod folder_safety;
 mod grading;

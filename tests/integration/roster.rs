@@ -323,52 +323,21 @@ fn corrections_confirm_mistyped_ids_and_fix_values_with_a_trail() {
 /// copied (calamine reads it, rust_xlsxwriter writes it back, as a spreadsheet program saves
 /// what was opened) and each student's entries typed into the entry columns.
 fn fill(template: &std::path::Path, sheet: &str, out: &std::path::Path) -> Vec<(String, String)> {
-    use calamine::{open_workbook, Data, DataType, Reader, Xlsx};
-    let mut wb: Xlsx<_> = open_workbook(template).unwrap();
-    let range = wb.worksheet_range(sheet).unwrap();
-    let header = range
-        .rows()
-        .position(|r| r.first() == Some(&Data::String("Student ID".into())))
-        .expect("the header row");
-    let heads: Vec<String> = range
-        .rows()
-        .nth(header)
-        .unwrap()
-        .iter()
-        .map(ToString::to_string)
-        .collect();
-    let mut book = rust_xlsxwriter::Workbook::new();
-    let ws = book.add_worksheet();
-    ws.set_name(sheet).unwrap();
-    let mut students = Vec::new();
-    for (r, row) in range.rows().enumerate() {
-        for (c, cell) in row.iter().enumerate() {
-            if let Data::String(s) = cell {
-                ws.write_string(r as u32, c as u16, s).unwrap();
-            }
-        }
-        if r <= header + 1 || row.first().is_none_or(DataType::is_empty) {
-            continue;
-        }
-        students.push((row[0].to_string(), row[1].to_string()));
-        let k = students.len() as f64;
-        for (c, h) in heads.iter().enumerate() {
-            let v = match h.as_str() {
-                "Crude mass" => Some(2.5 + 0.01 * k),
-                "Recovered mass" => Some(1.8 + 0.01 * k),
-                "Solvent volume" => Some(60.0),
-                "Melting onset" => Some(121.4),
-                "Clear point" => Some(122.2),
-                "Reported recovery" => Some(100.0 * (1.8 + 0.01 * k) / (2.5 + 0.01 * k)),
-                _ => None,
-            };
-            if let Some(v) = v {
-                ws.write_number(r as u32, c as u16, v).unwrap();
-            }
-        }
-    }
-    book.save(out).unwrap();
-    students
+    // each student's masses a little apart (k counted from 1), the recovery as reported
+    let typed = |h: &str, k: usize| {
+        let k = (k + 1) as f64;
+        let v = match h {
+            "Crude mass" => 2.5 + 0.01 * k,
+            "Recovered mass" => 1.8 + 0.01 * k,
+            "Solvent volume" => 60.0,
+            "Melting onset" => 121.4,
+            "Clear point" => 122.2,
+            "Reported recovery" => 100.0 * (1.8 + 0.01 * k) / (2.5 + 0.01 * k),
+            _ => return None,
+        };
+        Some(crate::entry_sheets::Typed::Number(v))
+    };
+    crate::entry_sheets::fill(template, sheet, out, typed).1
 }
 
 #[test]
@@ -436,24 +405,16 @@ fn entry_workbooks_from_the_roster_grade_clean_once_filled_in() {
 /// mass are refused, with a message in words.
 #[test]
 fn the_entry_cells_refuse_what_cannot_be_right() {
-    use std::io::Read;
     let f = Fixture::new();
     class(&f);
     let run = f.run(&["template", "--roster", "roster.csv", "--out", "entry"]);
     assert_eq!(run.code, 0, "{}", run.stderr);
-    let file = std::fs::File::open(f.path("entry/S1-entry.xlsx")).unwrap();
-    let mut zip = zip::ZipArchive::new(file).unwrap();
-    let mut xml = String::new();
-    zip.by_name("xl/worksheets/sheet2.xml")
-        .unwrap()
-        .read_to_string(&mut xml)
-        .unwrap();
-    let rules: Vec<&str> = xml.split("<dataValidation ").skip(1).collect();
+    let xml = crate::entry_sheets::part(&f.path("entry/S1-entry.xlsx"), "xl/worksheets/sheet2.xml");
+    let rules = crate::entry_sheets::rules(&xml);
     let rule = |title: &str| {
-        *rules
-            .iter()
-            .find(|r| r.contains(&format!("promptTitle=\"{title}\"")))
+        crate::entry_sheets::rule(&rules, title)
             .unwrap_or_else(|| panic!("a rule for {title}"))
+            .as_str()
     };
     // crude mass in column D: a decimal number (a letter is refused) between 0.0001 and 100 g
     let crude = rule("Crude mass");
@@ -501,11 +462,7 @@ fn the_entry_cells_refuse_what_cannot_be_right() {
     // rows missing an entry are shaded
     assert!(xml.contains("<conditionalFormatting"));
     // the roster names S1's assistant: the title block's TA line
-    let mut shared = String::new();
-    zip.by_name("xl/sharedStrings.xml")
-        .unwrap()
-        .read_to_string(&mut shared)
-        .unwrap();
+    let shared = crate::entry_sheets::part(&f.path("entry/S1-entry.xlsx"), "xl/sharedStrings.xml");
     assert!(shared.contains("<t>TA: T. Marlowe</t>"), "{shared}");
 }
 

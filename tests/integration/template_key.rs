@@ -3,8 +3,7 @@
 //! saved file's sheet XML; a sheet filled in from them grades with no mapping file, each
 //! identification checked against the key. The roster and the key are invented.
 
-use std::io::Read;
-
+use crate::entry_sheets::{self, rule, Typed};
 use crate::harness::Fixture;
 
 const ROSTER: &str = "Student ID,Last name,First name,Section\n5100001,Orrin,Maren,L1\n5100002,Pellow,Tove,L1\n5100003,Quarry,Idris,L1\n5100004,Rudd,Senna,L2\n";
@@ -13,24 +12,9 @@ const ROSTER: &str = "Student ID,Last name,First name,Section\n5100001,Orrin,Mar
 /// order: the lists are sorted.
 const KEY: &str = "Unknown #,Compound\nK-9,naphthalene\nK-7,benzoic acid\nK-8,acetanilide\n";
 
-/// The data-validation rules of the workbook's first section sheet, each as its XML text.
+/// The data-validation rules of the workbook's first section sheet.
 fn rules(path: &std::path::Path) -> Vec<String> {
-    let mut zip = zip::ZipArchive::new(std::fs::File::open(path).unwrap()).unwrap();
-    let mut xml = String::new();
-    zip.by_name("xl/worksheets/sheet2.xml")
-        .unwrap()
-        .read_to_string(&mut xml)
-        .unwrap();
-    xml.split("<dataValidation ")
-        .skip(1)
-        .map(|r| r.split("</dataValidation>").next().unwrap().to_string())
-        .collect()
-}
-
-fn rule<'a>(rules: &'a [String], title: &str) -> Option<&'a String> {
-    rules
-        .iter()
-        .find(|r| r.contains(&format!("promptTitle=\"{title}\"")))
+    entry_sheets::rules(&entry_sheets::part(path, "xl/worksheets/sheet2.xml"))
 }
 
 #[test]
@@ -93,52 +77,22 @@ fn template_key_offers_the_key_s_codes_and_compounds() {
     assert!(!f.path("bad/L1-entry.xlsx").exists());
 }
 
-/// Types into the entry sheet as an assistant would: the template's text cells copied, and
-/// each student's entries written under the template's own headers.
-fn fill(template: &std::path::Path, sheet: &str, out: &std::path::Path, named: &[&str]) {
-    use calamine::{open_workbook, Data, Reader, Xlsx};
-    let mut wb: Xlsx<_> = open_workbook(template).unwrap();
-    let range = wb.worksheet_range(sheet).unwrap();
-    let header = range
-        .rows()
-        .position(|r| r.first() == Some(&Data::String("Student ID".into())))
-        .unwrap();
-    let heads: Vec<String> = range
-        .rows()
-        .nth(header)
-        .unwrap()
-        .iter()
-        .map(ToString::to_string)
-        .collect();
-    let mut book = rust_xlsxwriter::Workbook::new();
-    let ws = book.add_worksheet();
-    ws.set_name(sheet).unwrap();
-    for (r, row) in range.rows().enumerate() {
-        for (c, cell) in row.iter().enumerate() {
-            if let Data::String(s) = cell {
-                ws.write_string(r as u32, c as u16, s).unwrap();
-            }
-        }
-        let Some(k) = (r > header + 1).then(|| r - header - 2) else {
-            continue;
-        };
-        for (c, h) in heads.iter().enumerate() {
-            let (r, c) = (r as u32, c as u16);
-            match h.as_str() {
-                "Crude mass" => ws.write_number(r, c, 2.5).map(|_| ()),
-                "Recovered mass" => ws.write_number(r, c, 1.8).map(|_| ()),
-                "Solvent volume" => ws.write_number(r, c, 60.0).map(|_| ()),
-                "Melting onset" => ws.write_number(r, c, 121.4).map(|_| ()),
-                "Clear point" => ws.write_number(r, c, 122.2).map(|_| ()),
-                "Reported recovery" => ws.write_number(r, c, 72.0).map(|_| ()),
-                "Unknown code" => ws.write_string(r, c, "K-7").map(|_| ()),
-                "Identified as" => ws.write_string(r, c, named[k]).map(|_| ()),
-                _ => Ok(()),
-            }
-            .unwrap();
-        }
-    }
-    book.save(out).unwrap();
+/// Types into the entry sheet as an assistant would, each student identifying the unknown as
+/// `named` says.
+fn fill(template: &std::path::Path, sheet: &str, out: &std::path::Path, named: &[&'static str]) {
+    entry_sheets::fill(template, sheet, out, |h, k| {
+        Some(match h {
+            "Crude mass" => Typed::Number(2.5),
+            "Recovered mass" => Typed::Number(1.8),
+            "Solvent volume" => Typed::Number(60.0),
+            "Melting onset" => Typed::Number(121.4),
+            "Clear point" => Typed::Number(122.2),
+            "Reported recovery" => Typed::Number(72.0),
+            "Unknown code" => Typed::Text("K-7"),
+            "Identified as" => Typed::Text(named[k]),
+            _ => return None,
+        })
+    });
 }
 
 #[test]

@@ -4,9 +4,9 @@
 //! filled in with valid entries, it grades with no mapping file, no reading notes, and no
 //! criterion short of points for a missing entry. The roster, key and entries are invented.
 
-use std::io::Read;
 use std::path::Path;
 
+use crate::entry_sheets::{self, Typed};
 use crate::harness::{project_root, Fixture, Record};
 
 const ROSTER: &str = "Student ID,Last name,First name,Section\n6200001,Wyndham,Ottilie,K2\n6200002,Yarrow,Bede,K2\n6200003,Zennor,Ilse,K2\n";
@@ -37,47 +37,16 @@ fn entry(header: &str) -> Option<Result<f64, &'static str>> {
     })
 }
 
-/// Types into the template's one entry sheet as an assistant would: every text cell of the
-/// template copied (calamine reads it, rust_xlsxwriter writes it back), each student's entries
-/// under the template's own headers. The headers of the sheet.
+/// Types into the template's one entry sheet as an assistant would (`entry_sheets::fill`), each
+/// student's entries as `entry` gives them. The headers of the sheet.
 fn fill(template: &Path, sheet: &str, out: &Path) -> Vec<String> {
-    use calamine::{open_workbook, Data, DataType, Reader, Xlsx};
-    let mut wb: Xlsx<_> = open_workbook(template).unwrap();
-    let range = wb.worksheet_range(sheet).unwrap();
-    let header = range
-        .rows()
-        .position(|r| r.first() == Some(&Data::String("Student ID".into())))
-        .expect("the header row");
-    let heads: Vec<String> = range
-        .rows()
-        .nth(header)
-        .unwrap()
-        .iter()
-        .map(ToString::to_string)
-        .collect();
-    let mut book = rust_xlsxwriter::Workbook::new();
-    let ws = book.add_worksheet();
-    ws.set_name(sheet).unwrap();
-    for (r, row) in range.rows().enumerate() {
-        for (c, cell) in row.iter().enumerate() {
-            if let Data::String(s) = cell {
-                ws.write_string(r as u32, c as u16, s).unwrap();
-            }
-        }
-        if r <= header + 1 || row.first().is_none_or(DataType::is_empty) {
-            continue;
-        }
-        for (c, h) in heads.iter().enumerate() {
-            let (r, c) = (r as u32, c as u16);
-            match entry(h) {
-                Some(Ok(v)) => ws.write_number(r, c, v).map(|_| ()).unwrap(),
-                Some(Err(t)) => ws.write_string(r, c, t).map(|_| ()).unwrap(),
-                None => {}
-            }
-        }
-    }
-    book.save(out).unwrap();
-    heads
+    let typed = |h: &str, _| {
+        entry(h).map(|v| match v {
+            Ok(n) => Typed::Number(n),
+            Err(t) => Typed::Text(t),
+        })
+    };
+    entry_sheets::fill(template, sheet, out, typed).0
 }
 
 /// The feedback's words for a criterion scored without its measure (the registry's reasons
@@ -288,19 +257,13 @@ fn the_weighing_and_trial_cells_carry_their_own_rules() {
         "entry",
     ]);
     assert_eq!(run.code, 0, "{}", run.stderr);
-    let mut zip =
-        zip::ZipArchive::new(std::fs::File::open(f.path("entry/K2-entry.xlsx")).unwrap()).unwrap();
-    let mut xml = String::new();
-    zip.by_name("xl/worksheets/sheet2.xml")
-        .unwrap()
-        .read_to_string(&mut xml)
-        .unwrap();
-    let rules: Vec<&str> = xml.split("<dataValidation ").skip(1).collect();
+    let book = f.path("entry/K2-entry.xlsx");
+    let xml = entry_sheets::part(&book, "xl/worksheets/sheet2.xml");
+    let rules = entry_sheets::rules(&xml);
     let rule = |title: &str| {
-        *rules
-            .iter()
-            .find(|r| r.contains(&format!("promptTitle=\"{title}\"")))
+        entry_sheets::rule(&rules, title)
             .unwrap_or_else(|| panic!("a rule for {title}"))
+            .as_str()
     };
     // D crude tare, E crude gross, F recovered tare, G recovered gross, H solvent, I-J crude
     // range, K-L trial 1, M-N trial 2; three students in rows 7 to 9
@@ -341,18 +304,10 @@ fn the_weighing_and_trial_cells_carry_their_own_rules() {
     // wide for one landscape page of about 130, so the sheet prints across
     // ceil(157 / (130 - 42)) = 2 pages, the id, name and section repeated on each
     assert!(xml.contains("fitToWidth=\"2\""), "{xml}");
-    let mut book = String::new();
-    zip.by_name("xl/workbook.xml")
-        .unwrap()
-        .read_to_string(&mut book)
-        .unwrap();
-    assert!(book.contains("!$A:$C,"), "{book}");
+    let workbook = entry_sheets::part(&book, "xl/workbook.xml");
+    assert!(workbook.contains("!$A:$C,"), "{workbook}");
     // the units row
-    let mut shared = String::new();
-    zip.by_name("xl/sharedStrings.xml")
-        .unwrap()
-        .read_to_string(&mut shared)
-        .unwrap();
+    let shared = entry_sheets::part(&book, "xl/sharedStrings.xml");
     assert!(
         shared.contains("<t>g</t>") && shared.contains("<t>°C</t>"),
         "{shared}"
