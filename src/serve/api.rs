@@ -42,7 +42,7 @@ impl ApiError {
         }
     }
 
-    fn invalid(i: Invalid) -> ApiError {
+    pub(super) fn invalid(i: Invalid) -> ApiError {
         ApiError::new(StatusCode::UNPROCESSABLE_ENTITY, i.field, i.message)
     }
 }
@@ -316,7 +316,8 @@ struct OverrideForm {
     grader: Option<String>,
 }
 
-fn text_of(v: Option<&Value>) -> Option<String> {
+/// A form's value as text, whether it came as a JSON string or a number.
+pub(super) fn text_of(v: Option<&Value>) -> Option<String> {
     match v? {
         Value::String(s) => Some(s.clone()),
         Value::Number(n) => Some(n.to_string()),
@@ -325,7 +326,7 @@ fn text_of(v: Option<&Value>) -> Option<String> {
 }
 
 /// Trimmed, and `None` when empty.
-fn given(s: Option<&String>) -> Option<&str> {
+pub(super) fn given(s: Option<&String>) -> Option<&str> {
     s.map(|s| s.trim()).filter(|s| !s.is_empty())
 }
 

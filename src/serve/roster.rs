@@ -24,7 +24,7 @@ use crate::fields::Field;
 use crate::rubric::corrections::{Typed, CORRECTABLE};
 use crate::rubric::overrides::Invalid;
 
-use super::api::{blocking, edit, ApiError, Reply};
+use super::api::{blocking, edit, given, text_of, ApiError, Reply};
 use super::corrections_file;
 use super::workspace::{roster_file, sanitise_name, Workspace, INPUTS, RUBRIC, TEMPLATES};
 use super::App;
@@ -339,9 +339,16 @@ struct CorrectionForm {
     grader: Option<String>,
 }
 
-/// Trimmed, and `None` when empty.
-fn given(s: Option<&String>) -> Option<&str> {
-    s.map(|s| s.trim()).filter(|s| !s.is_empty())
+/// The form's parts as a line of the file gives them, `value` its value as text.
+fn typed<'a>(form: &'a CorrectionForm, value: Option<&'a String>) -> Typed<'a> {
+    Typed {
+        student_id: given(form.student_id.as_ref()),
+        section: given(form.section.as_ref()),
+        field: given(form.field.as_ref()),
+        value: given(value),
+        reason: given(form.reason.as_ref()),
+        grader: given(form.grader.as_ref()),
+    }
 }
 
 /// A correction finds its row by the id as the sheet has it: a row the last run read with that
@@ -399,20 +406,8 @@ fn known_row(
 /// The form's correction checked as a line of `--corrections` is, with a status in words the
 /// readers know.
 fn check_form(form: &CorrectionForm, records: &[Value]) -> Result<Option<String>, Invalid> {
-    let value = match &form.value {
-        Some(Value::String(s)) => Some(s.clone()),
-        Some(Value::Number(n)) => Some(n.to_string()),
-        _ => None,
-    };
-    let typed = Typed {
-        student_id: given(form.student_id.as_ref()),
-        section: given(form.section.as_ref()),
-        field: given(form.field.as_ref()),
-        value: given(value.as_ref()),
-        reason: given(form.reason.as_ref()),
-        grader: given(form.grader.as_ref()),
-    };
-    let c = typed.check(0)?;
+    let value = text_of(form.value.as_ref());
+    let c = typed(form, value.as_ref()).check(0)?;
     if c.field == Field::Status && !crate::config::status_read(&c.written) {
         return Err(Invalid {
             field: "value",
@@ -443,18 +438,8 @@ pub async fn post_correction(
     let current = app.grader.state().revision;
     let records = app.grader.graded(current).await;
     let (line, revision) = edit(&app, move || {
-        let invalid =
-            |i: Invalid| ApiError::new(StatusCode::UNPROCESSABLE_ENTITY, i.field, i.message);
-        let value = check_form(&form, &records.records).map_err(invalid)?;
-        let typed = Typed {
-            student_id: given(form.student_id.as_ref()),
-            section: given(form.section.as_ref()),
-            field: given(form.field.as_ref()),
-            value: given(value.as_ref()),
-            reason: given(form.reason.as_ref()),
-            grader: given(form.grader.as_ref()),
-        };
-        corrections_file::add(&typed).map_err(invalid)
+        let value = check_form(&form, &records.records).map_err(ApiError::invalid)?;
+        corrections_file::add(&typed(&form, value.as_ref())).map_err(ApiError::invalid)
     })
     .await?;
     Ok((
@@ -469,8 +454,7 @@ pub async fn delete_correction(
     UrlPath(line): UrlPath<usize>,
 ) -> Reply {
     let (removed, revision) = edit(&app, move || {
-        corrections_file::remove(line)
-            .map_err(|i| ApiError::new(StatusCode::UNPROCESSABLE_ENTITY, i.field, i.message))
+        corrections_file::remove(line).map_err(ApiError::invalid)
     })
     .await?;
     if !removed {
