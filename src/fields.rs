@@ -220,6 +220,35 @@ impl Field {
         )
     }
 
+    /// What the field's values measure. A field that holds no number is read as the reported
+    /// recovery is, a percentage.
+    pub fn quantity(self) -> Quantity {
+        match self {
+            Field::CrudeMass
+            | Field::RecoveredMass
+            | Field::Tare
+            | Field::CrudeTare
+            | Field::CrudeGross
+            | Field::RecoveredTare
+            | Field::RecoveredGross => Quantity::Mass,
+            Field::SolventVolume => Quantity::Volume,
+            Field::MpOnset
+            | Field::MpClear
+            | Field::MpRange
+            | Field::CrudeMpRange
+            | Field::CrudeMpOnset
+            | Field::CrudeMpClear
+            | Field::MpTrialRange
+            | Field::MpTrialOnset
+            | Field::MpTrialClear
+            | Field::MixedMpRange
+            | Field::MixedMpOnset
+            | Field::MixedMpClear => Quantity::Temperature,
+            Field::LateDays => Quantity::Days,
+            _ => Quantity::Percent,
+        }
+    }
+
     /// Fields whose cells hold a melting range ("121-122") in one column.
     pub fn is_range(self) -> bool {
         matches!(
@@ -248,5 +277,28 @@ mod tests {
             assert_eq!(Field::from_key(f.key()), Some(f));
         }
         assert_eq!(Field::from_key("crude"), None);
+    }
+}
+
+/// What a field's values measure.
+#[derive(Clone, Copy, Debug, PartialEq, Eq)]
+pub enum Quantity {
+    Mass,
+    Volume,
+    Temperature,
+    Percent,
+    Days,
+}
+
+impl Quantity {
+    /// The unit values are kept in, as a person reads it.
+    pub fn base_unit(self) -> &'static str {
+        match self {
+            Quantity::Mass => "g",
+            Quantity::Volume => "mL",
+            Quantity::Temperature => "°C",
+            Quantity::Percent => "%",
+            Quantity::Days => "days",
+        }
     }
 }

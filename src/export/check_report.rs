@@ -80,24 +80,10 @@ fn unit_note(c: &crate::ingest::table::Column) -> String {
     match (c.unit, c.unit_source) {
         (Some(u), Some(UnitSource::UnitsRow)) => format!(", in {} (units row)", u.symbol()),
         (Some(u), _) => format!(", in {} (header)", u.symbol()),
-        (None, _) => format!(", in {} unless a cell says otherwise", default_unit(f)),
-    }
-}
-
-fn default_unit(f: crate::fields::Field) -> &'static str {
-    use crate::fields::Field;
-    match f {
-        Field::CrudeMass
-        | Field::RecoveredMass
-        | Field::Tare
-        | Field::CrudeTare
-        | Field::CrudeGross
-        | Field::RecoveredTare
-        | Field::RecoveredGross => "g",
-        Field::SolventVolume => "mL",
-        Field::ReportedRecovery => "%",
-        Field::LateDays => "days",
-        _ => "°C",
+        (None, _) => format!(
+            ", in {} unless a cell says otherwise",
+            f.quantity().base_unit()
+        ),
     }
 }
 

@@ -7,7 +7,7 @@ use super::range::parse_range;
 use super::submission::{Submission, Unreadable};
 use super::table::{Column, Layout};
 use super::values::{is_blank_marker, parse_quantity, Decimal, TempUnit, Unit};
-use crate::fields::Field;
+use crate::fields::{Field, Quantity};
 
 /// Where the rows being read come from.
 pub struct Origin<'a> {
@@ -31,29 +31,13 @@ enum Kind {
     Percent,
 }
 
+/// How a field's values are read: a count of days as a percentage is (a plain number).
 fn kind(field: Field) -> Kind {
-    match field {
-        Field::CrudeMass
-        | Field::RecoveredMass
-        | Field::Tare
-        | Field::CrudeTare
-        | Field::CrudeGross
-        | Field::RecoveredTare
-        | Field::RecoveredGross => Kind::Mass,
-        Field::SolventVolume => Kind::Volume,
-        Field::MpOnset
-        | Field::MpClear
-        | Field::MpRange
-        | Field::CrudeMpRange
-        | Field::CrudeMpOnset
-        | Field::CrudeMpClear
-        | Field::MpTrialRange
-        | Field::MpTrialOnset
-        | Field::MpTrialClear
-        | Field::MixedMpRange
-        | Field::MixedMpOnset
-        | Field::MixedMpClear => Kind::Temperature,
-        _ => Kind::Percent,
+    match field.quantity() {
+        Quantity::Mass => Kind::Mass,
+        Quantity::Volume => Kind::Volume,
+        Quantity::Temperature => Kind::Temperature,
+        Quantity::Percent | Quantity::Days => Kind::Percent,
     }
 }
 
