@@ -211,28 +211,10 @@ fn is_repeated_header(row: &RawRow, header: &RawRow) -> bool {
 
 #[cfg(test)]
 mod tests {
-    use super::super::cells::rows_from_cells;
+    use super::super::cells::sheet_of as sheet;
     use super::super::headers::ColumnOverrides;
     use super::super::table::locate;
     use super::*;
-
-    fn sheet(rows: &[&[&str]]) -> RawSheet {
-        let mut cells = Vec::new();
-        for (r, row) in rows.iter().enumerate() {
-            for (c, text) in row.iter().enumerate() {
-                let cell = match text.parse::<f64>() {
-                    Ok(v) => Cell::Number(v),
-                    Err(_) => Cell::Text((*text).to_string()),
-                };
-                cells.push((r as u32, c as u32, cell));
-            }
-        }
-        RawSheet {
-            name: Some("S".into()),
-            rows: rows_from_cells(cells),
-            merges: Vec::new(),
-        }
-    }
 
     /// From a trial: a late entry typed below a "Notes:" block was dropped without a word.
     #[test]

@@ -202,6 +202,27 @@ pub fn rows_from_cells(cells: Vec<(u32, u32, Cell)>) -> Vec<RawRow> {
     b.finish()
 }
 
+/// A sheet of the given cells for the readers' unit tests, row by row: a cell that parses as
+/// a number is one, any other is text (an empty string an empty text cell).
+#[cfg(test)]
+pub fn sheet_of(rows: &[&[&str]]) -> RawSheet {
+    let mut cells = Vec::new();
+    for (r, row) in rows.iter().enumerate() {
+        for (c, text) in row.iter().enumerate() {
+            let cell = match text.parse::<f64>() {
+                Ok(v) => Cell::Number(v),
+                Err(_) => Cell::Text((*text).to_string()),
+            };
+            cells.push((r as u32, c as u32, cell));
+        }
+    }
+    RawSheet {
+        name: Some("S".into()),
+        rows: rows_from_cells(cells),
+        merges: Vec::new(),
+    }
+}
+
 /// Column letters for a 0-based column index: 0 is A, 26 is AA.
 pub fn column_letters(col: u32) -> String {
     let mut n = u64::from(col) + 1;

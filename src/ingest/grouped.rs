@@ -187,6 +187,7 @@ fn carried_by_merges(merged: &[&Merge], up: &[(u32, String)]) -> BTreeMap<u32, S
 
 #[cfg(test)]
 mod tests {
+    use super::super::cells::sheet_of as sheet;
     use super::super::headers::ColumnOverrides;
     use super::super::table::{locate, student_rows};
     use super::super::values::Unit;
@@ -254,24 +255,6 @@ mod tests {
             None,
             "a full header row spans nothing"
         );
-    }
-
-    fn sheet(rows: &[&[&str]]) -> super::super::cells::RawSheet {
-        let mut cells = Vec::new();
-        for (r, row) in rows.iter().enumerate() {
-            for (c, text) in row.iter().enumerate() {
-                let cell = match text.parse::<f64>() {
-                    Ok(v) => Cell::Number(v),
-                    Err(_) => Cell::Text((*text).to_string()),
-                };
-                cells.push((r as u32, c as u32, cell));
-            }
-        }
-        super::super::cells::RawSheet {
-            name: Some("S".into()),
-            rows: super::super::cells::rows_from_cells(cells),
-            merges: Vec::new(),
-        }
     }
 
     /// A two-row header as class sheets keep it (common practice: merged group names over

@@ -1,25 +1,7 @@
 //! Unit tests of `table.rs`: finding the header row and resolving its columns.
 
-use super::super::cells::{rows_from_cells, Cell};
+use super::super::cells::sheet_of as sheet;
 use super::*;
-
-fn sheet(rows: &[&[&str]]) -> RawSheet {
-    let mut cells = Vec::new();
-    for (r, row) in rows.iter().enumerate() {
-        for (c, text) in row.iter().enumerate() {
-            let cell = match text.parse::<f64>() {
-                Ok(v) => Cell::Number(v),
-                Err(_) => Cell::Text(text.to_string()),
-            };
-            cells.push((r as u32, c as u32, cell));
-        }
-    }
-    RawSheet {
-        name: Some("S".into()),
-        rows: rows_from_cells(cells),
-        merges: Vec::new(),
-    }
-}
 
 #[test]
 fn header_below_title_rows_and_totals_ignored() {
