@@ -17,8 +17,8 @@ fn rules(path: &std::path::Path) -> Vec<String> {
     entry_sheets::rules(&entry_sheets::part(path, "xl/worksheets/sheet2.xml"))
 }
 
-#[test]
-fn template_key_offers_the_key_s_codes_and_compounds() {
+/// The roster's entry workbooks made with the key, in `entry/`.
+fn templates_with_key() -> Fixture {
     let f = Fixture::new();
     f.write("roster.csv", ROSTER);
     f.write("key.csv", KEY);
@@ -32,6 +32,12 @@ fn template_key_offers_the_key_s_codes_and_compounds() {
         "entry",
     ]);
     assert_eq!(run.code, 0, "{}", run.stderr);
+    f
+}
+
+#[test]
+fn template_key_offers_the_key_s_codes_and_compounds() {
+    let f = templates_with_key();
     let with = rules(&f.path("entry/L1-entry.xlsx"));
     // the codes, sorted; nothing else is taken (a stop, the default error style)
     let code = rule(&with, "Unknown code").expect("a rule for the unknown code");
@@ -97,19 +103,7 @@ fn fill(template: &std::path::Path, sheet: &str, out: &std::path::Path, named: &
 
 #[test]
 fn template_key_filled_in_grades_each_identification_against_the_key() {
-    let f = Fixture::new();
-    f.write("roster.csv", ROSTER);
-    f.write("key.csv", KEY);
-    let run = f.run(&[
-        "template",
-        "--roster",
-        "roster.csv",
-        "--key",
-        "key.csv",
-        "--out",
-        "entry",
-    ]);
-    assert_eq!(run.code, 0, "{}", run.stderr);
+    let f = templates_with_key();
     std::fs::create_dir_all(f.path("filled")).unwrap();
     // K-7 is benzoic acid by the key: two right, one wrong (hand-made)
     fill(
