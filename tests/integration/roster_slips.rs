@@ -5,6 +5,22 @@
 
 use crate::harness::{by_id, Fixture};
 
+/// A class of one invented student.
+const ONE_STUDENT: &str = "Student ID,Name,Crude mass (g),Recovered mass (g),Melting range (°C)\n\
+     2026001,Amara Hollin,3.0,2.1,121.5-122.3\n";
+
+/// `grade class.csv --corrections FILE --out out` in the fixture.
+fn grade_corrected(f: &Fixture, corrections: &str) -> crate::harness::Run {
+    f.run(&[
+        "grade",
+        "class.csv",
+        "--corrections",
+        corrections,
+        "--out",
+        "out",
+    ])
+}
+
 /// A name is compared without its punctuation inside the name: "O'Neil" typed "ONeil" (or
 /// a hyphenated surname typed as two words) is the rostered student, not a `name-mismatch`.
 /// Before, only punctuation read as a space agreed ("O Neil").
@@ -99,14 +115,7 @@ fn a_clashing_corrected_id_is_named_by_its_line() {
          2026003,,crude_mass,2.9,re-weighed,P. Quist\n\
          2026001,,student_id,2026002,typo?,P. Quist\n",
     );
-    let run = f.run(&[
-        "grade",
-        "class.csv",
-        "--corrections",
-        "c.csv",
-        "--out",
-        "out",
-    ]);
+    let run = grade_corrected(&f, "c.csv");
     assert_eq!(run.code, 2, "{}", run.stderr);
     assert!(
         run.stderr.contains("c.csv:3: the id this line sets"),
@@ -124,23 +133,12 @@ fn a_clashing_corrected_id_is_named_by_its_line() {
 #[test]
 fn a_corrected_mass_whose_comma_could_mean_thousands_is_asked_for_again() {
     let f = Fixture::new();
-    f.write(
-        "class.csv",
-        "Student ID,Name,Crude mass (g),Recovered mass (g),Melting range (°C)\n\
-         2026001,Amara Hollin,3.0,2.1,121.5-122.3\n",
-    );
+    f.write("class.csv", ONE_STUDENT);
     f.write(
         "c.csv",
         "student_id,section,field,value,reason,grader\n2026001,,crude_mass,\"2,905\",re-weighed,P. Quist\n",
     );
-    let run = f.run(&[
-        "grade",
-        "class.csv",
-        "--corrections",
-        "c.csv",
-        "--out",
-        "out",
-    ]);
+    let run = grade_corrected(&f, "c.csv");
     assert_eq!(run.code, 2, "{}", run.stderr);
     assert!(
         run.stderr.contains("c.csv:2:")
@@ -153,14 +151,7 @@ fn a_corrected_mass_whose_comma_could_mean_thousands_is_asked_for_again() {
         "ok.csv",
         "student_id,section,field,value,reason,grader\n2026001,,recovered_mass,\"0,745\",typed with a comma,P. Quist\n",
     );
-    let run = f.run(&[
-        "grade",
-        "class.csv",
-        "--corrections",
-        "ok.csv",
-        "--out",
-        "out",
-    ]);
+    let run = grade_corrected(&f, "ok.csv");
     assert_eq!(run.code, 0, "{}", run.stderr);
     let rows = f.results("out");
     assert_eq!(rows[0]["recovered_mass_g"], "0.745");
@@ -208,23 +199,12 @@ fn check_shows_the_roster_s_columns_under_one_heading() {
 #[test]
 fn a_semicolon_corrections_file_reads_decimal_commas() {
     let f = Fixture::new();
-    f.write(
-        "class.csv",
-        "Student ID,Name,Crude mass (g),Recovered mass (g),Melting range (°C)\n\
-         2026001,Amara Hollin,3.0,2.1,121.5-122.3\n",
-    );
+    f.write("class.csv", ONE_STUDENT);
     f.write(
         "c.csv",
         "\u{feff}student_id;section;field;value;reason;grader\n2026001;;crude_mass;2,905;neu gewogen;K. Hahn\n",
     );
-    let run = f.run(&[
-        "grade",
-        "class.csv",
-        "--corrections",
-        "c.csv",
-        "--out",
-        "out",
-    ]);
+    let run = grade_corrected(&f, "c.csv");
     assert_eq!(run.code, 0, "{}", run.stderr);
     let rows = f.results("out");
     assert_eq!(rows[0]["crude_mass_g"], "2.905");
