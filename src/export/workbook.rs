@@ -407,25 +407,27 @@ impl GradedWorkbooks {
         provenance: &Provenance,
     ) -> Result<Vec<PathBuf>, WriteError> {
         let (max_score, formats, stage) = (self.max_score, &self.formats, &self.stage);
+        let out_dir = self.out_dir.as_path();
         let save = |book: Book| finish_book(book, stats, provenance, max_score, formats, stage);
-        let mut books = self.books;
+        let books = self.books;
         if books.len() < 2 {
             return books.into_iter().map(save).collect();
         }
-        // the odd-numbered workbooks, taken out from the end so the indices hold
-        let mut odd: Vec<Book> = Vec::with_capacity(books.len() / 2);
-        for i in (1..books.len()).step_by(2).rev() {
-            odd.push(books.remove(i));
-        }
-        odd.reverse();
+        // alternate workbooks to each thread, in the plan's order
+        let (even, odd): (Vec<_>, Vec<_>) =
+            books.into_iter().enumerate().partition(|(i, _)| i % 2 == 0);
+        let (even, odd) = (
+            even.into_iter().map(|(_, b)| b),
+            odd.into_iter().map(|(_, b)| b),
+        );
         let (even, odd) = std::thread::scope(|scope| {
             let helper = std::thread::Builder::new()
                 .name("graded workbook".into())
-                .spawn_scoped(scope, || odd.into_iter().map(save).collect::<Vec<_>>());
-            let even: Vec<_> = books.into_iter().map(save).collect();
+                .spawn_scoped(scope, || odd.map(save).collect::<Vec<_>>());
+            let even: Vec<_> = even.map(save).collect();
             let odd = match helper {
                 Ok(h) => h.join().unwrap_or_else(|p| std::panic::resume_unwind(p)),
-                Err(e) => vec![Err(xerr(Path::new(""), XlsxError::IoError(e)))],
+                Err(e) => vec![Err(xerr(out_dir, XlsxError::IoError(e)))],
             };
             (even, odd)
         });
