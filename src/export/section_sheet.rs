@@ -565,6 +565,8 @@ mod tests {
         }
     }
 
+    /// Hand-counted: leading zeros and the zeros that only place the point are not significant
+    /// (common practice).
     #[test]
     fn significant_digits_are_counted_without_leading_or_trailing_zeros() {
         assert_eq!(significant_digits("0.00729"), 3);
